@@ -1,0 +1,61 @@
+// Readable text for people at a terminal: aligned tables of numbers.
+
+import { formatBytes } from './resources.js';
+import type { PointPlan, PointRecord } from './point.js';
+
+export function fmt(x: number | null | undefined, digits = 10): string {
+  if (x === null || x === undefined) return '-';
+  if (!Number.isFinite(x)) return String(x);
+  if (x !== 0 && (Math.abs(x) < 1e-4 || Math.abs(x) >= 1e7)) return x.toExponential(3);
+  return Number(x.toPrecision(digits)).toString();
+}
+
+/** Left column left-aligned, the rest right-aligned, columns separated by two spaces. */
+export function table(header: string[], rows: string[][]): string {
+  const widths = header.map((h, c) => Math.max(h.length, ...rows.map((r) => (r[c] ?? '').length)));
+  const line = (cells: string[]) =>
+    cells.map((cell, c) => (c === 0 ? cell.padEnd(widths[c]) : cell.padStart(widths[c]))).join('  ').trimEnd();
+  return [line(header), line(widths.map((w) => '-'.repeat(w))), ...rows.map(line)].join('\n');
+}
+
+export function describePlan(plan: PointPlan, limit: number): string {
+  const lines = [
+    `particles        ${plan.model.kind}, ${plan.model.sites} sites x ${plan.model.levels} levels`,
+    `basis dimension  ${plan.dimension}`,
+    `operator         ${plan.storage === 'on-the-fly' ? 'applied on the fly (no stored matrix)' : 'stored sparse matrix'}` +
+      (plan.nonzeros !== null ? `, ${plan.nonzeros} nonzeros` : ''),
+    `arithmetic       ${plan.model.isComplex ? 'complex (Peierls phases)' : 'real'}`,
+    `memory estimate  ${formatBytes(plan.memory.totalBytes)} (limit ${formatBytes(limit)})`,
+  ];
+  for (const [part, bytes] of Object.entries(plan.memory.parts)) lines.push(`  ${part.padEnd(14)} ${formatBytes(bytes)}`);
+  return lines.join('\n');
+}
+
+export function describeRecord(r: PointRecord): string {
+  const out: string[] = [];
+  out.push(
+    `${r.basis.kind} chain: ${r.basis.sites} sites x ${r.basis.levels} levels, dimension ${r.basis.dimension}, ` +
+      `${r.solver.method} (${r.solver.iterations} products, ${fmt(r.solver.seconds, 3)} s)` +
+      (r.solver.converged ? '' : '  NOT CONVERGED'),
+  );
+  out.push('');
+  out.push(
+    table(
+      ['state', 'energy', 'E - E0', 'residual'],
+      r.energies.map((e, k) => [String(k), fmt(e, 12), fmt(e - r.energies[0], 8), r.solver.residuals[k].toExponential(1)]),
+    ),
+  );
+  out.push('');
+  out.push(`gap ${fmt(r.gap)}   ground-state degeneracy ${r.solver.degeneracy}   string width ${fmt(r.observables.string_width, 8)}`);
+  out.push('');
+  const N = r.basis.levels;
+  const header = ['site', ...Array.from({ length: N }, (_, n) => `P(n=${n})`), 'mean n', 'spread'];
+  const rows = r.observables.populations.map((p, i) => [
+    String(i),
+    ...p.map((q) => fmt(q, 6)),
+    fmt(r.observables.level_mean[i], 6),
+    fmt(r.observables.spread[i], 6),
+  ]);
+  out.push(table(header, rows));
+  return out.join('\n');
+}
