@@ -1,0 +1,16 @@
+// Runs the built command line (dist/) as a user would, capturing both streams and the exit code.
+import { spawnSync } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
+import path from 'node:path';
+
+export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..');
+export const CLI = path.join(ROOT, 'dist/bin/rungchain.js');
+
+export function runCli(args: string[], options: { cwd?: string; timeout?: number } = {}) {
+  const r = spawnSync(process.execPath, [CLI, ...args], {
+    cwd: options.cwd ?? ROOT,
+    encoding: 'utf8',
+    timeout: options.timeout ?? 120_000,
+  });
+  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
+}
