@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { buildBasis } from '../src/basis.js';
 import { buildModel } from '../src/model.js';
-import { PinnedOperator } from '../src/operator.js';
+import { PinnedOperator } from '../src/operator/pinned.js';
 import { validateSpec } from '../src/spec.js';
 import { densePinnedHamiltonian } from './support/reference.js';
 import { clean, randomPinnedSpec, rng } from './support/random.js';

@@ -1,0 +1,114 @@
+// Stored sparse matrices in compressed rows.
+
+import type { HermitianOperator } from '../operator.js';
+
+/**
+ * A stored sparse Hermitian matrix in compressed rows (full rows, both triangles), for bases whose
+ * terms are not simple digit moves (Fock bases, symmetry sectors). Built once, row by row.
+ */
+export class CsrOperator implements HermitianOperator {
+  constructor(
+    readonly dim: number,
+    readonly isComplex: boolean,
+    readonly rowStart: Float64Array,
+    readonly columns: Int32Array,
+    readonly valuesRe: Float64Array,
+    readonly valuesIm: Float64Array | null,
+  ) {}
+
+  nonzeros(): number {
+    return this.columns.length;
+  }
+
+  apply(x: Float64Array, y: Float64Array): void {
+    const dim = this.dim;
+    const rs = this.rowStart;
+    const col = this.columns;
+    const vr = this.valuesRe;
+    const vi = this.valuesIm;
+    if (vi === null) {
+      for (let r = 0; r < dim; r++) {
+        let acc = 0;
+        const end = rs[r + 1];
+        for (let k = rs[r]; k < end; k++) acc += vr[k] * x[col[k]];
+        y[r] = acc;
+      }
+      return;
+    }
+    for (let r = 0; r < dim; r++) {
+      let accR = 0;
+      let accI = 0;
+      const end = rs[r + 1];
+      for (let k = rs[r]; k < end; k++) {
+        const c = 2 * col[k];
+        const hr = vr[k];
+        const hi = vi[k];
+        const xr = x[c];
+        const xi = x[c + 1];
+        accR += hr * xr - hi * xi;
+        accI += hr * xi + hi * xr;
+      }
+      y[2 * r] = accR;
+      y[2 * r + 1] = accI;
+    }
+  }
+}
+
+/** Collects matrix elements row by row into growable typed arrays; `finish` yields a CsrOperator. */
+export class CsrBuilder {
+  private columns = new Int32Array(1024);
+  private re = new Float64Array(1024);
+  private im: Float64Array | null;
+  private size = 0;
+  private readonly rowStart: Float64Array;
+  private row = 0;
+
+  constructor(
+    readonly dim: number,
+    readonly isComplex: boolean,
+  ) {
+    this.rowStart = new Float64Array(dim + 1);
+    this.im = isComplex ? new Float64Array(1024) : null;
+  }
+
+  /** Adds <row|H|col> to the current row; repeated columns within a row are summed by the product anyway. */
+  add(col: number, re: number, im = 0): void {
+    if (this.size === this.columns.length) this.grow();
+    this.columns[this.size] = col;
+    this.re[this.size] = re;
+    if (this.im) this.im[this.size] = im;
+    this.size++;
+  }
+
+  endRow(): void {
+    this.row++;
+    this.rowStart[this.row] = this.size;
+  }
+
+  finish(): CsrOperator {
+    if (this.row !== this.dim) throw new Error(`CsrBuilder: ${this.row} rows ended, expected ${this.dim}`);
+    return new CsrOperator(
+      this.dim,
+      this.isComplex,
+      this.rowStart,
+      this.columns.slice(0, this.size),
+      this.re.slice(0, this.size),
+      this.im ? this.im.slice(0, this.size) : null,
+    );
+  }
+
+  private grow(): void {
+    const cap = Math.ceil(this.columns.length * 1.5);
+    const c = new Int32Array(cap);
+    c.set(this.columns);
+    this.columns = c;
+    const r = new Float64Array(cap);
+    r.set(this.re);
+    this.re = r;
+    if (this.im) {
+      const i = new Float64Array(cap);
+      i.set(this.im);
+      this.im = i;
+    }
+  }
+}
