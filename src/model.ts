@@ -103,8 +103,11 @@ export function buildModel(spec: Spec): Model {
     const J = spec.levels.tunnelling[l];
     const phi = spec.levels.phase[l];
     // <n+1| h |n> = -J e^{i phi}; the Hermitian partner is its conjugate.
+    // A phase meant as a multiple of pi (e.g. Math.PI) leaves rounding noise in the sine; drop it so
+    // such a model stays real, as it is.
     const re = -J * Math.cos(phi);
-    const im = -J * Math.sin(phi);
+    const rawIm = -J * Math.sin(phi);
+    const im = Math.abs(rawIm) <= 4 * Number.EPSILON * Math.abs(J) * Math.max(1, Math.abs(phi)) ? 0 : rawIm;
     localRe[to * N + from] += re;
     localIm[to * N + from] += im;
     localRe[from * N + to] += re;

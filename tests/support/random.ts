@@ -30,8 +30,7 @@ export function randomPinnedSpec(seed: number, sites: number, levels: number): R
     },
     exchange: {
       strength: u(0.3, 3),
-      range: r() < 0.5 ? 'nearest' : 'dipolar',
-      cutoff: r() < 0.5 ? 2 : undefined,
+      ...(r() < 0.5 ? { range: 'nearest' } : { range: 'dipolar', cutoff: r() < 0.5 ? 2 : undefined }),
       weights: r() < 0.5 ? 'rotor' : Array.from({ length: levels - 1 }, () => u(0.5, 1.5)),
     },
     ising: {
