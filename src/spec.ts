@@ -259,14 +259,17 @@ function formatPath(steps: readonly PathStep[]): string {
 // Registered sections
 
 type SectionValidator = (value: unknown, keyPath: string) => unknown;
+/** Runs after every section is validated, so a section can derive core values (e.g. [units] sets couplings). */
+export type SectionResolver = (spec: Spec, raw: Record<string, unknown>) => void;
 const registeredSections = new Map<string, SectionValidator>();
+const sectionResolvers = new Map<string, SectionResolver>();
 
 /**
  * Lets a feature own a top-level section. The validator receives the raw value and the key path
  * to name in its SpecErrors; what it returns is stored in spec.extra[name]. It is only called
  * when the section is present.
  */
-export function registerSection(name: string, validate: SectionValidator): void {
+export function registerSection(name: string, validate: SectionValidator, resolve?: SectionResolver): void {
   if ((CORE_SECTIONS as readonly string[]).includes(name)) {
     throw new Error(`section "${name}" is built in and cannot be registered`);
   }
@@ -274,6 +277,7 @@ export function registerSection(name: string, validate: SectionValidator): void 
   // Re-registering the same validator is harmless (a module loaded twice); two different ones is a clash.
   if (existing && existing !== validate) throw new Error(`section "${name}" is already registered`);
   registeredSections.set(name, validate);
+  if (resolve) sectionResolvers.set(name, resolve);
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -295,7 +299,11 @@ export function validateSpec(raw: Record<string, unknown>): Spec {
   for (const [name, validate] of registeredSections) {
     if (Object.hasOwn(raw, name)) extra[name] = validate(raw[name], name);
   }
-  return { chain, levels, exchange, ising, particles, solve, extra };
+  const spec: Spec = { chain, levels, exchange, ising, particles, solve, extra };
+  for (const [name, resolve] of sectionResolvers) {
+    if (Object.hasOwn(raw, name)) resolve(spec, raw);
+  }
+  return spec;
 }
 
 function validateChain(table: Table): Spec['chain'] {
