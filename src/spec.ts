@@ -33,6 +33,10 @@
 //   solve.max_matvecs                  none (null)
 //   solve.krylov                       none (null)
 //   solve.seed                         1
+//   solve.entanglement                 "auto"              ("none" | "auto" | "half" | "all" | list of cuts;
+//                                                           a cut l splits sites 0..l-1 from l..L-1; "auto"
+//                                                           is the half chain when its smaller side has at
+//                                                           most 256 states; see src/entanglement.ts)
 //
 // Further top-level sections ([scan], [evolve], [units], ...) are validated by whoever registers
 // them with registerSection; their validated values land in spec.extra.
@@ -71,7 +75,14 @@ export interface Spec {
   };
   ising: { strength: number; moments: number[]; range: InteractionRange; cutoff: number };
   particles: { kind: ParticleKind; number: number; maxPerSite: number; hopping: number; onsite: number };
-  solve: { states: number; tolerance: number; maxMatvecs: number | null; krylov: number | null; seed: number };
+  solve: {
+    states: number;
+    tolerance: number;
+    maxMatvecs: number | null;
+    krylov: number | null;
+    seed: number;
+    entanglement: 'none' | 'auto' | 'half' | 'all' | number[];
+  };
   /** Validated values of registered sections, keyed by section name. */
   extra: Record<string, unknown>;
 }
@@ -293,7 +304,7 @@ export function validateSpec(raw: Record<string, unknown>): Spec {
   const exchange = validateExchange(optionalSection(raw, 'exchange'), levels);
   const ising = validateIsing(optionalSection(raw, 'ising'), levels.count);
   const particles = validateParticles(optionalSection(raw, 'particles'), chain.sites, levels.count);
-  const solve = validateSolve(optionalSection(raw, 'solve'));
+  const solve = validateSolve(optionalSection(raw, 'solve'), chain.sites);
 
   const extra: Record<string, unknown> = {};
   for (const [name, validate] of registeredSections) {
@@ -437,8 +448,8 @@ function validateParticles(table: Table, sites: number, count: number): Spec['pa
   return { kind, number, maxPerSite, hopping, onsite };
 }
 
-function validateSolve(table: Table): Spec['solve'] {
-  rejectUnknownKeys(table, 'solve', ['states', 'tolerance', 'max_matvecs', 'krylov', 'seed']);
+function validateSolve(table: Table, sites: number): Spec['solve'] {
+  rejectUnknownKeys(table, 'solve', ['states', 'tolerance', 'max_matvecs', 'krylov', 'seed', 'entanglement']);
   const states = positiveInteger(orDefault(table.states, 4), 'solve.states');
   const tolerance = positiveNumber(orDefault(table.tolerance, 1e-9), 'solve.tolerance');
   const maxMatvecs = table.max_matvecs === undefined ? null : positiveInteger(table.max_matvecs, 'solve.max_matvecs');
@@ -448,7 +459,21 @@ function validateSolve(table: Table): Spec['solve'] {
     throw new SpecError('solve.krylov', `must exceed solve.states = ${states}, got ${krylov}`);
   }
   const seed = nonNegativeInteger(orDefault(table.seed, 1), 'solve.seed');
-  return { states, tolerance, maxMatvecs, krylov, seed };
+  const entanglement = validateEntanglement(orDefault(table.entanglement, 'auto'), sites);
+  return { states, tolerance, maxMatvecs, krylov, seed, entanglement };
+}
+
+function validateEntanglement(value: unknown, sites: number): Spec['solve']['entanglement'] {
+  const path = 'solve.entanglement';
+  if (!Array.isArray(value)) return oneOf(value, path, ['none', 'auto', 'half', 'all'] as const, 'or a list of cuts');
+  return value.map((cut, i) => {
+    const at = `${path}[${i}]`;
+    // A cut l splits sites 0..l-1 from l..L-1, so both sides are non-empty only for 1 <= l <= L-1.
+    if (typeof cut !== 'number' || !Number.isSafeInteger(cut) || cut < 1 || cut > sites - 1) {
+      throw new SpecError(at, `expected a cut from 1 to ${sites - 1} (sites left of the cut), got ${describe(cut)}`);
+    }
+    return cut;
+  });
 }
 
 /** Rigid-rotor exchange weights c_n, n = 0..count-2: the squared M=0 dipole matrix element between levels n and n+1, normalised so c_0 = 1. */

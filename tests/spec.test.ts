@@ -109,7 +109,7 @@ seed = 7
     expect(fromToml.exchange.weights).toEqual(rotorWeights(4));
     expect(fromToml.ising.cutoff).toBe(Infinity);
     expect(fromToml.particles).toEqual({ kind: 'boson', number: 3, maxPerSite: 2, hopping: 0.7, onsite: 4 });
-    expect(fromToml.solve).toEqual({ states: 3, tolerance: 1e-8, maxMatvecs: 5000, krylov: 20, seed: 7 });
+    expect(fromToml.solve).toEqual({ states: 3, tolerance: 1e-8, maxMatvecs: 5000, krylov: 20, seed: 7, entanglement: 'auto' });
   });
 
   it('loads .toml and .json files by extension', () => {
@@ -145,7 +145,7 @@ describe('defaults and expansion', () => {
     expect(spec.exchange).toEqual({ strength: 0, range: 'nearest', cutoff: Infinity, weights: [1, 1], weightsName: 'uniform' });
     expect(spec.ising).toEqual({ strength: 0, moments: [0, 0, 0], range: 'nearest', cutoff: Infinity });
     expect(spec.particles).toEqual({ kind: 'pinned', number: 4, maxPerSite: 1, hopping: 0, onsite: 0 });
-    expect(spec.solve).toEqual({ states: 4, tolerance: 1e-9, maxMatvecs: null, krylov: null, seed: 1 });
+    expect(spec.solve).toEqual({ states: 4, tolerance: 1e-9, maxMatvecs: null, krylov: null, seed: 1, entanglement: 'auto' });
     expect(spec.extra).toEqual({});
   });
 
@@ -233,6 +233,14 @@ describe('validation errors name the key path', () => {
     expectSpecError({ ...tree(minimal), solve: { tolerance: -1e-9 } }, 'solve.tolerance', 'positive number');
     expectSpecError({ ...tree(minimal), solve: { states: 4, krylov: 4 } }, 'solve.krylov', 'must exceed solve.states = 4');
     expectSpecError({ ...tree(minimal), solve: { max_matvecs: 0 } }, 'solve.max_matvecs', 'positive integer');
+  });
+
+  it('checks solve.entanglement: a name or cuts between 1 and sites - 1', () => {
+    expect(validateSpec({ ...tree(minimal), solve: { entanglement: [3, 1] } }).solve.entanglement).toEqual([3, 1]);
+    expect(validateSpec({ ...tree(minimal), solve: { entanglement: 'half' } }).solve.entanglement).toBe('half');
+    expectSpecError({ ...tree(minimal), solve: { entanglement: 'halff' } }, 'solve.entanglement', 'did you mean "half"');
+    expectSpecError({ ...tree(minimal), solve: { entanglement: [1, 4] } }, 'solve.entanglement[1]', 'from 1 to 3');
+    expectSpecError({ ...tree(minimal), solve: { entanglement: [0] } }, 'solve.entanglement[0]', 'from 1 to 3');
   });
 
   it('rejects bad cutoffs', () => {
