@@ -5,6 +5,7 @@ import { basisDimension, buildBasis } from './basis.js';
 import { buildModel, type Model } from './model.js';
 import { buildOperator, operatorStorage } from './operator.js';
 import { basisProbabilities, pinnedObservables, type Observables } from './observables.js';
+import { cutsFor, pinnedEntanglement } from './entanglement.js';
 import { assertWithinMemory, defaultMemoryLimit, estimateSolveMemory, type MemoryEstimate } from './resources.js';
 import { defaultKrylovSize, lowestEigenpairs, DEFAULT_DENSE_THRESHOLD, type EigenResult } from './solver.js';
 import type { Spec } from './spec.js';
@@ -85,6 +86,9 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   });
   const ground = eigen.vectors.slice(0, eigen.degeneracy);
   const observables = pinnedObservables(basis, basisProbabilities(ground, basis.dim, op.isComplex));
+  // Entanglement needs the state itself, so it is computed here; solve.entanglement keeps it cheap by default.
+  const cuts = cutsFor(spec.solve.entanglement, basis.sites, basis.levels);
+  if (cuts.length > 0) observables.entanglement = pinnedEntanglement(ground, basis.sites, basis.levels, op.isComplex, cuts);
   const energies = Array.from(eigen.values);
   const record: PointRecord = {
     energies,
