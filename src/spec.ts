@@ -33,6 +33,9 @@
 //   solve.max_matvecs                  none (null)
 //   solve.krylov                       none (null)
 //   solve.seed                         1
+//   solve.symmetries                   "auto"              ("auto" | "none" | list of translation, reflection, level_flip, charge)
+//   solve.sector                       every sector        (table: momentum, parity, level_flip, charge; a value or a list each)
+//   solve.threads                      "auto"              (threads for one matrix-vector product, or a count)
 //   solve.entanglement                 "auto"              ("none" | "auto" | "half" | "all" | list of cuts;
 //                                                           a cut l splits sites 0..l-1 from l..L-1; "auto"
 //                                                           is the half chain when its smaller side has at
@@ -51,6 +54,7 @@ export type ChainBoundary = 'open' | 'periodic';
 export type LevelBoundary = 'open' | 'ring';
 export type InteractionRange = 'nearest' | 'dipolar';
 export type ExchangeWeightsName = 'uniform' | 'rotor' | 'list';
+export type SymmetryChoice = 'translation' | 'reflection' | 'level_flip' | 'charge';
 
 export interface Spec {
   chain: { sites: number; boundary: ChainBoundary };
@@ -82,6 +86,12 @@ export interface Spec {
     krylov: number | null;
     seed: number;
     entanglement: 'none' | 'auto' | 'half' | 'all' | number[];
+    /** Symmetries to use: all detected ("auto"), none, or the named ones (each still checked). */
+    symmetries: 'auto' | 'none' | SymmetryChoice[];
+    /** Restrict the solve to these sectors; absent keys mean every value. */
+    sector: { momentum?: number[]; parity?: (1 | -1)[]; level_flip?: (1 | -1)[]; charge?: number[] };
+    /** Threads for one product: "auto" (by size) or a count. */
+    threads: 'auto' | number;
   };
   /** Validated values of registered sections, keyed by section name. */
   extra: Record<string, unknown>;
@@ -449,7 +459,7 @@ function validateParticles(table: Table, sites: number, count: number): Spec['pa
 }
 
 function validateSolve(table: Table, sites: number): Spec['solve'] {
-  rejectUnknownKeys(table, 'solve', ['states', 'tolerance', 'max_matvecs', 'krylov', 'seed', 'entanglement']);
+  rejectUnknownKeys(table, 'solve', ['states', 'tolerance', 'max_matvecs', 'krylov', 'seed', 'entanglement', 'symmetries', 'sector', 'threads']);
   const states = positiveInteger(orDefault(table.states, 4), 'solve.states');
   const tolerance = positiveNumber(orDefault(table.tolerance, 1e-9), 'solve.tolerance');
   const maxMatvecs = table.max_matvecs === undefined ? null : positiveInteger(table.max_matvecs, 'solve.max_matvecs');
@@ -460,7 +470,43 @@ function validateSolve(table: Table, sites: number): Spec['solve'] {
   }
   const seed = nonNegativeInteger(orDefault(table.seed, 1), 'solve.seed');
   const entanglement = validateEntanglement(orDefault(table.entanglement, 'auto'), sites);
-  return { states, tolerance, maxMatvecs, krylov, seed, entanglement };
+  const symmetries = validateSymmetries(orDefault(table.symmetries, 'auto'));
+  const sector = validateSector(orDefault(table.sector, {}));
+  const threadsRaw = orDefault(table.threads, 'auto');
+  const threads = threadsRaw === 'auto' ? 'auto' : positiveInteger(threadsRaw, 'solve.threads');
+  return { states, tolerance, maxMatvecs, krylov, seed, entanglement, symmetries, sector, threads };
+}
+
+const SYMMETRY_CHOICES = ['translation', 'reflection', 'level_flip', 'charge'] as const;
+
+function validateSymmetries(value: unknown): Spec['solve']['symmetries'] {
+  const path = 'solve.symmetries';
+  if (!Array.isArray(value)) return oneOf(value, path, ['auto', 'none'] as const, 'or a list of symmetry names');
+  return value.map((name, i) => oneOf(name, `${path}[${i}]`, SYMMETRY_CHOICES));
+}
+
+function validateSector(value: unknown): Spec['solve']['sector'] {
+  const path = 'solve.sector';
+  if (!isTable(value)) throw new SpecError(path, `expected a table, got ${describe(value)}`);
+  rejectUnknownKeys(value, path, ['momentum', 'parity', 'level_flip', 'charge']);
+  const sector: Spec['solve']['sector'] = {};
+  const list = (key: string) => {
+    const v = value[key];
+    return v === undefined ? undefined : Array.isArray(v) ? v.map((x, i) => [x, `${path}.${key}[${i}]`] as const) : [[v, `${path}.${key}`] as const];
+  };
+  const momentum = list('momentum');
+  if (momentum) sector.momentum = momentum.map(([x, at]) => nonNegativeInteger(x, at));
+  const charge = list('charge');
+  if (charge) sector.charge = charge.map(([x, at]) => nonNegativeInteger(x, at));
+  for (const key of ['parity', 'level_flip'] as const) {
+    const entries = list(key);
+    if (!entries) continue;
+    sector[key] = entries.map(([x, at]) => {
+      if (x !== 1 && x !== -1) throw new SpecError(at, `expected +1 or -1, got ${describe(x)}`);
+      return x;
+    });
+  }
+  return sector;
 }
 
 function validateEntanglement(value: unknown, sites: number): Spec['solve']['entanglement'] {
