@@ -1,0 +1,185 @@
+import { describe, expect, it } from 'vitest';
+import { EigenvalueDecomposition, Matrix, SingularValueDecomposition } from 'ml-matrix';
+import { entropiesFromWeights, pinnedEntanglement, reducedDensityMatrix, cutsFor } from '../src/entanglement.js';
+import { solvePoint } from '../src/point.js';
+import { validateSpec } from '../src/spec.js';
+import { clean, randomPinnedSpec } from './support/random.js';
+
+/**
+ * Free-fermion reference (Peschel, J. Phys. A 36, L205 (2003)): for a Slater determinant the
+ * reduced density matrix of a block is fixed by the block's correlation matrix C_ij = <c+_i c_j>.
+ * With its eigenvalues zeta, S = -sum [zeta ln zeta + (1-zeta) ln(1-zeta)],
+ * S_2 = -sum ln(zeta^2 + (1-zeta)^2), and the Schmidt weights are the products over modes of
+ * zeta or 1-zeta.
+ */
+function peschelBlock(hopping: number, sites: number, block: number) {
+  // Single-particle Hamiltonian of the open chain, h_ij = hopping for |i-j| = 1.
+  const h = Matrix.zeros(sites, sites);
+  for (let i = 0; i + 1 < sites; i++) {
+    h.set(i, i + 1, hopping);
+    h.set(i + 1, i, hopping);
+  }
+  const evd = new EigenvalueDecomposition(h, { assumeSymmetric: true });
+  const energies = evd.realEigenvalues;
+  const modes = evd.eigenvectorMatrix;
+  const C = Matrix.zeros(block, block);
+  for (let k = 0; k < sites; k++) {
+    if (energies[k] >= 0) continue; // ground state: every negative-energy orbital filled
+    for (let i = 0; i < block; i++) for (let j = 0; j < block; j++) C.set(i, j, C.get(i, j) + modes.get(i, k) * modes.get(j, k));
+  }
+  const zeta = new EigenvalueDecomposition(C, { assumeSymmetric: true }).realEigenvalues.map((z) => Math.min(Math.max(z, 0), 1));
+  let vonNeumann = 0;
+  let renyi2 = 0;
+  for (const z of zeta) {
+    for (const p of [z, 1 - z]) if (p > 0) vonNeumann -= p * Math.log(p);
+    renyi2 -= Math.log(z * z + (1 - z) * (1 - z));
+  }
+  let weights = [1];
+  for (const z of zeta) weights = weights.flatMap((w) => [w * z, w * (1 - z)]);
+  const spectrum = weights
+    .filter((w) => w > 1e-12)
+    .sort((a, b) => b - a)
+    .map((w) => -Math.log(w));
+  return { vonNeumann, renyi2, spectrum };
+}
+
+describe('XX chain half-chain entanglement against the free-fermion correlation-matrix method', () => {
+  // MODEL.md with N = 2 and exchange only is V sum (s+_i s-_{i+1} + h.c.): by Jordan-Wigner on an
+  // open chain, free fermions hopping with amplitude V (textbook). Even L: a unique ground state at
+  // half filling, so the full-space ground state is the Slater determinant.
+  it.each([
+    [8, 4],
+    [10, 5],
+    [10, 3],
+    [12, 6],
+  ])('L = %i, block of %i sites', (L, block) => {
+    const V = 1.3;
+    const spec = validateSpec({
+      chain: { sites: L },
+      levels: { count: 2, tunnelling: 0 },
+      exchange: { strength: V },
+      solve: { states: 2, entanglement: [block], tolerance: 1e-11 },
+    });
+    const { record } = solvePoint(spec);
+    expect(record.solver.degeneracy).toBe(1);
+    const [cut] = record.observables.entanglement as ReturnType<typeof pinnedEntanglement>;
+    const expected = peschelBlock(V, L, block);
+    expect(cut.cut).toBe(block);
+    expect(cut.von_neumann).toBeCloseTo(expected.vonNeumann, 8);
+    expect(cut.renyi_2).toBeCloseTo(expected.renyi2, 8);
+    // Entanglement energies: compare those with weight well above the eigensolver's tolerance.
+    const reliable = expected.spectrum.filter((e) => e < 12).slice(0, cut.spectrum.length);
+    reliable.forEach((e, k) => expect(cut.spectrum[k]).toBeCloseTo(e, 5));
+  });
+});
+
+/** Schmidt weights from ml-matrix's SVD of the state as an (N^cut) x (N^(L-cut)) matrix (general-purpose library). */
+function svdWeights(psi: Float64Array, L: number, N: number, cut: number, isComplex: boolean): number[] {
+  const dL = N ** cut;
+  const dR = N ** (L - cut);
+  const amp = (a: number, b: number, part: 0 | 1) => (isComplex ? psi[2 * (a + dL * b) + part] : part === 0 ? psi[a + dL * b] : 0);
+  // A complex matrix M = X + iY has the singular values of [[X, -Y], [Y, X]], each twice (common practice).
+  const size = isComplex ? 2 : 1;
+  const M = Matrix.zeros(size * dL, size * dR);
+  for (let a = 0; a < dL; a++)
+    for (let b = 0; b < dR; b++) {
+      M.set(a, b, amp(a, b, 0));
+      if (isComplex) {
+        M.set(a + dL, b + dR, amp(a, b, 0));
+        M.set(a, b + dR, -amp(a, b, 1));
+        M.set(a + dL, b, amp(a, b, 1));
+      }
+    }
+  const singular = new SingularValueDecomposition(M, { computeLeftSingularVectors: false, computeRightSingularVectors: false }).diagonal;
+  const weights = singular.map((s) => s * s).sort((x, y) => y - x);
+  return isComplex ? weights.filter((_, k) => k % 2 === 0) : weights;
+}
+
+describe('general states against a singular value decomposition', () => {
+  it.each([
+    [11, 5, 3],
+    [12, 4, 3],
+    [13, 6, 2],
+    [14, 3, 4],
+  ])('random complex spec (seed %i, L = %i, N = %i): every cut', (seed, L, N) => {
+    const raw = clean(randomPinnedSpec(seed, L, N));
+    raw.solve = { states: 1, entanglement: 'all' };
+    const spec = validateSpec(raw);
+    const solved = solvePoint(spec);
+    const isComplex = solved.eigen.vectors[0].length === 2 * N ** L;
+    expect(isComplex).toBe(true); // random Peierls phases
+    const cuts = solved.record.observables.entanglement as ReturnType<typeof pinnedEntanglement>;
+    expect(cuts.map((c) => c.cut)).toEqual(Array.from({ length: L - 1 }, (_, k) => k + 1));
+    for (const c of cuts) {
+      const expected = entropiesFromWeights(svdWeights(solved.groundStates[0], L, N, c.cut, isComplex));
+      expect(c.von_neumann).toBeCloseTo(expected.von_neumann, 10);
+      expect(c.renyi_2).toBeCloseTo(expected.renyi_2, 10);
+      expected.spectrum.filter((e) => e < 20).forEach((e, k) => expect(c.spectrum[k]).toBeCloseTo(e, 6));
+    }
+  });
+
+  it('a reduced density matrix is Hermitian with unit trace', () => {
+    const raw = clean(randomPinnedSpec(21, 5, 3));
+    const solved = solvePoint(validateSpec(raw));
+    const isComplex = solved.eigen.vectors[0].length === 2 * 3 ** 5;
+    for (const cut of [1, 2, 3, 4]) {
+      const rho = reducedDensityMatrix(solved.groundStates, 5, 3, isComplex, cut);
+      let trace = 0;
+      for (let r = 0; r < rho.dim; r++) {
+        trace += rho.re[r * rho.dim + r];
+        for (let c = 0; c < rho.dim; c++) {
+          expect(rho.re[r * rho.dim + c]).toBeCloseTo(rho.re[c * rho.dim + r], 14);
+          if (rho.im) expect(rho.im[r * rho.dim + c]).toBeCloseTo(-rho.im[c * rho.dim + r], 14);
+        }
+      }
+      expect(trace).toBeCloseTo(1, 12);
+    }
+  });
+});
+
+describe('textbook states', () => {
+  const state = (entries: [number, number][], dim: number) => {
+    const v = new Float64Array(dim);
+    for (const [index, amplitude] of entries) v[index] = amplitude;
+    return v;
+  };
+
+  it('a product state has no entanglement; a Bell pair has ln 2; so does the even mixture of |00> and |11>', () => {
+    // Two sites, two levels; index = n_0 + 2 n_1.
+    const product = state([[0, 0.6], [1, 0.8]], 4); // (0.6|0> + 0.8|1>) x |0>
+    const bell = state([[0, Math.SQRT1_2], [3, Math.SQRT1_2]], 4);
+    const [p] = pinnedEntanglement([product], 2, 2, false, [1]);
+    const [b] = pinnedEntanglement([bell], 2, 2, false, [1]);
+    const [m] = pinnedEntanglement([state([[0, 1]], 4), state([[3, 1]], 4)], 2, 2, false, [1]);
+    expect(p.von_neumann).toBeCloseTo(0, 14);
+    expect(p.spectrum).toEqual([expect.closeTo(0, 14)]);
+    expect(b.von_neumann).toBeCloseTo(Math.LN2, 14);
+    expect(b.renyi_2).toBeCloseTo(Math.LN2, 14);
+    expect(b.spectrum).toEqual([expect.closeTo(Math.LN2, 14), expect.closeTo(Math.LN2, 14)]);
+    expect(m.von_neumann).toBeCloseTo(Math.LN2, 14);
+  });
+
+  it('a maximally entangled pair of qutrits with complex phases has ln 3', () => {
+    // (|00> + e^{i a}|11> + e^{i b}|22>)/sqrt 3: Schmidt weights 1/3 each (textbook).
+    const psi = new Float64Array(18);
+    const put = (index: number, phase: number) => {
+      psi[2 * index] = Math.cos(phase) / Math.sqrt(3);
+      psi[2 * index + 1] = Math.sin(phase) / Math.sqrt(3);
+    };
+    put(0, 0);
+    put(4, 1.1);
+    put(8, -2.3);
+    const [e] = pinnedEntanglement([psi], 2, 3, true, [1]);
+    expect(e.von_neumann).toBeCloseTo(Math.log(3), 13);
+    expect(e.renyi_2).toBeCloseTo(Math.log(3), 13);
+  });
+
+  it('chooses cuts: auto only when the half chain is small', () => {
+    expect(cutsFor('auto', 8, 2)).toEqual([4]);
+    expect(cutsFor('auto', 10, 4)).toEqual([]); // 4^5 = 1024 states on the smaller side
+    expect(cutsFor('half', 7, 3)).toEqual([3]);
+    expect(cutsFor('all', 4, 3)).toEqual([1, 2, 3]);
+    expect(cutsFor([3, 1, 3], 6, 3)).toEqual([1, 3]);
+    expect(cutsFor('none', 6, 3)).toEqual([]);
+  });
+});
