@@ -1,0 +1,988 @@
+// Lowest eigenpairs of a Hermitian operator known only through its matrix-vector product.
+//
+// Two paths: small problems are solved densely (the matrix is built column by column from
+// matvecs on unit vectors); large ones by thick-restart Lanczos (Wu and Simon, SIAM J. Matrix
+// Anal. Appl. 22, 602 (2000)) with full reorthogonalization inside a basis of bounded size,
+// followed by a deflated verification pass that recovers every copy of a degenerate level.
+//
+// Vector layout follows src/operator.ts: length dim (real) or 2*dim (complex, interleaved re,im).
+
+import { Matrix, EigenvalueDecomposition } from 'ml-matrix';
+import { ConvergenceError, SpecError } from './errors.js';
+import type { HermitianOperator } from './operator.js';
+
+export interface EigenOptions {
+  /** How many lowest eigenpairs. */
+  states: number;
+  /** Stop when ||H v - E v|| <= tolerance for every requested pair (v normalized). */
+  tolerance: number;
+  /** Budget of matrix-vector products; default max(5000, 50*states). */
+  maxMatvecs?: number;
+  /** Restart basis size m (memory: m+1 vectors of the dimension); default max(2*states+14, 24), capped at dim. */
+  krylovSize?: number;
+  /** dim <= this -> dense path (default 400). */
+  denseThreshold?: number;
+  /** Optional start vector (warm start from a previous ground state). */
+  initial?: Float64Array;
+  /** Seed of the pseudo-random start vectors; the same seed gives the same result. */
+  seed?: number;
+  /** Vectors to keep the search orthogonal to. */
+  deflate?: Float64Array[];
+  onProgress?: (info: { matvecs: number; restarts: number; worstResidual: number }) => void;
+  /** Default false: return converged=false instead of throwing ConvergenceError. */
+  throwOnFailure?: boolean;
+}
+
+export interface EigenResult {
+  /** Ascending, length states (or the available dimension if smaller). */
+  values: Float64Array;
+  /** Normalized eigenvectors, same layout as the operator's vectors. */
+  vectors: Float64Array[];
+  /**
+   * Residual norms ||H v - E v||, computed explicitly at the end. With `deflate`, the part of
+   * H v along the deflation vectors is left out (it is zero when those are eigenvectors).
+   */
+  residuals: Float64Array;
+  /** Matrix-vector products used (dense path: dim, the products that built the matrix). */
+  matvecs: number;
+  restarts: number;
+  converged: boolean;
+  method: 'dense' | 'lanczos';
+  /** How many returned values coincide with values[0]; >= 1. */
+  degeneracy: number;
+}
+
+export const DEFAULT_DENSE_THRESHOLD = 400;
+const DEFAULT_SEED = 0x5eed1234;
+/** Entries of a vector processed per block: a block of w stays in cache while basis vectors stream past. */
+const BLOCK = 2048;
+/** A new direction shorter than this fraction of ||H v|| is rounding noise: the Krylov space is invariant. */
+const BREAKDOWN_RATIO = 1e-12;
+/** DGKS criterion: if reorthogonalization shrinks the vector below this fraction, orthogonalize once more. */
+const REORTH_ETA = Math.SQRT1_2;
+
+/** Default restart basis size for `states` pairs, capped at the dimension when given. */
+export function defaultKrylovSize(states: number, dim = Infinity): number {
+  return Math.min(Math.max(2 * states + 14, 24), dim);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Small helpers
+
+/** mulberry32: tiny, fast, deterministic; statistical quality is ample for start vectors. */
+class Prng {
+  private state: number;
+  constructor(seed: number) {
+    this.state = seed >>> 0;
+  }
+  /** Uniform in [-1, 1). */
+  next(): number {
+    let t = (this.state = (this.state + 0x6d2b79f5) >>> 0);
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 2147483648 - 1;
+  }
+  fill(v: Float64Array): void {
+    for (let i = 0; i < v.length; i++) v[i] = this.next();
+  }
+}
+
+function norm2(v: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < v.length; i++) s += v[i] * v[i];
+  return Math.sqrt(s);
+}
+
+function scale(v: Float64Array, factor: number): void {
+  for (let i = 0; i < v.length; i++) v[i] *= factor;
+}
+
+/** Coefficients of w along set[0..count): coef[i] = <set_i, w> (real) or interleaved complex. */
+function projectCoefficients(
+  w: Float64Array,
+  set: Float64Array[],
+  count: number,
+  isComplex: boolean,
+  coef: Float64Array,
+): void {
+  const len = w.length;
+  if (!isComplex) {
+    for (let i = 0; i < count; i++) coef[i] = 0;
+    for (let start = 0; start < len; start += BLOCK) {
+      const end = Math.min(start + BLOCK, len);
+      for (let i = 0; i < count; i++) {
+        const a = set[i];
+        let s = 0;
+        for (let t = start; t < end; t++) s += a[t] * w[t];
+        coef[i] += s;
+      }
+    }
+    return;
+  }
+  for (let i = 0; i < 2 * count; i++) coef[i] = 0;
+  for (let start = 0; start < len; start += BLOCK) {
+    const end = Math.min(start + BLOCK, len);
+    for (let i = 0; i < count; i++) {
+      const a = set[i];
+      let re = 0;
+      let im = 0;
+      for (let t = start; t < end; t += 2) {
+        const ar = a[t];
+        const ai = a[t + 1];
+        const wr = w[t];
+        const wi = w[t + 1];
+        re += ar * wr + ai * wi;
+        im += ar * wi - ai * wr;
+      }
+      coef[2 * i] += re;
+      coef[2 * i + 1] += im;
+    }
+  }
+}
+
+/**
+ * w -= sum_i coef_i set_i; returns ||w||^2 afterwards. When `nextCoef` is given, the coefficients
+ * of the updated w along the same set are accumulated in the same sweep (the second Gram-Schmidt
+ * pass then needs no separate read of the basis for its dot products).
+ */
+function subtractCombination(
+  w: Float64Array,
+  set: Float64Array[],
+  count: number,
+  isComplex: boolean,
+  coef: Float64Array,
+  nextCoef: Float64Array | null,
+): number {
+  const len = w.length;
+  let normSquared = 0;
+  if (!isComplex) {
+    if (nextCoef) for (let i = 0; i < count; i++) nextCoef[i] = 0;
+    for (let start = 0; start < len; start += BLOCK) {
+      const end = Math.min(start + BLOCK, len);
+      for (let i = 0; i < count; i++) {
+        const a = set[i];
+        const c = coef[i];
+        for (let t = start; t < end; t++) w[t] -= c * a[t];
+      }
+      if (nextCoef) {
+        for (let i = 0; i < count; i++) {
+          const a = set[i];
+          let s = 0;
+          for (let t = start; t < end; t++) s += a[t] * w[t];
+          nextCoef[i] += s;
+        }
+      }
+      for (let t = start; t < end; t++) normSquared += w[t] * w[t];
+    }
+    return normSquared;
+  }
+  if (nextCoef) for (let i = 0; i < 2 * count; i++) nextCoef[i] = 0;
+  for (let start = 0; start < len; start += BLOCK) {
+    const end = Math.min(start + BLOCK, len);
+    for (let i = 0; i < count; i++) {
+      const a = set[i];
+      const cr = coef[2 * i];
+      const ci = coef[2 * i + 1];
+      for (let t = start; t < end; t += 2) {
+        const ar = a[t];
+        const ai = a[t + 1];
+        w[t] -= cr * ar - ci * ai;
+        w[t + 1] -= cr * ai + ci * ar;
+      }
+    }
+    if (nextCoef) {
+      for (let i = 0; i < count; i++) {
+        const a = set[i];
+        let re = 0;
+        let im = 0;
+        for (let t = start; t < end; t += 2) {
+          const ar = a[t];
+          const ai = a[t + 1];
+          const wr = w[t];
+          const wi = w[t + 1];
+          re += ar * wr + ai * wi;
+          im += ar * wi - ai * wr;
+        }
+        nextCoef[2 * i] += re;
+        nextCoef[2 * i + 1] += im;
+      }
+    }
+    for (let t = start; t < end; t++) normSquared += w[t] * w[t];
+  }
+  return normSquared;
+}
+
+function coefficientNormSquared(coef: Float64Array, count: number, isComplex: boolean): number {
+  const n = isComplex ? 2 * count : count;
+  let s = 0;
+  for (let i = 0; i < n; i++) s += coef[i] * coef[i];
+  return s;
+}
+
+/**
+ * Orthogonalize w against the orthonormal set[0..count) with classical Gram-Schmidt done twice
+ * ("twice is enough"), and a third time if the second pass still removed most of what was left.
+ * Returns ||w|| afterwards (w is not normalized).
+ */
+function orthogonalizeAgainst(
+  w: Float64Array,
+  set: Float64Array[],
+  count: number,
+  isComplex: boolean,
+  coef: Float64Array,
+  coef2: Float64Array,
+): number {
+  if (count === 0) return norm2(w);
+  projectCoefficients(w, set, count, isComplex, coef);
+  const afterFirst = Math.sqrt(subtractCombination(w, set, count, isComplex, coef, coef2));
+  let after = Math.sqrt(subtractCombination(w, set, count, isComplex, coef2, null));
+  if (after < REORTH_ETA * afterFirst && after > 0) {
+    projectCoefficients(w, set, count, isComplex, coef2);
+    after = Math.sqrt(subtractCombination(w, set, count, isComplex, coef2, null));
+  }
+  return after;
+}
+
+/** Eigen-decomposition of the leading s x s block of a symmetric matrix stored with leading dimension ld. */
+function smallSymmetricEigen(
+  packed: Float64Array,
+  ld: number,
+  s: number,
+): { values: Float64Array; vectors: Float64Array } {
+  const rows: number[][] = [];
+  for (let i = 0; i < s; i++) {
+    const row = new Array<number>(s);
+    for (let j = 0; j < s; j++) row[j] = 0.5 * (packed[i * ld + j] + packed[j * ld + i]);
+    rows.push(row);
+  }
+  const evd = new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true });
+  const raw = evd.realEigenvalues;
+  const v = evd.eigenvectorMatrix;
+  const order = raw.map((_, i) => i).sort((a, b) => raw[a] - raw[b]);
+  const values = new Float64Array(s);
+  // vectors[i * s + c]: component i of eigenvector c
+  const vectors = new Float64Array(s * s);
+  for (let c = 0; c < s; c++) {
+    values[c] = raw[order[c]];
+    for (let i = 0; i < s; i++) vectors[i * s + c] = v.get(i, order[c]);
+  }
+  return { values, vectors };
+}
+
+/**
+ * In place: basis[c] <- sum_i basis[i] * y[i*ys + c] for c < keep, using the first `size` basis
+ * vectors. Coefficients are real (Ritz vectors of a real symmetric T), so re and im entries
+ * of complex vectors are combined alike.
+ */
+function combineInPlace(
+  basis: Float64Array[],
+  size: number,
+  y: Float64Array,
+  ys: number,
+  keep: number,
+  scratch: Float64Array,
+): void {
+  const len = basis[0].length;
+  for (let start = 0; start < len; start += BLOCK) {
+    const end = Math.min(start + BLOCK, len);
+    const width = end - start;
+    for (let c = 0; c < keep; c++) {
+      const offset = c * BLOCK - start;
+      for (let t = start; t < end; t++) scratch[offset + t] = 0;
+      for (let i = 0; i < size; i++) {
+        const coefficient = y[i * ys + c];
+        if (coefficient === 0) continue;
+        const a = basis[i];
+        for (let t = start; t < end; t++) scratch[offset + t] += coefficient * a[t];
+      }
+    }
+    for (let c = 0; c < keep; c++) {
+      const target = basis[c];
+      const offset = c * BLOCK;
+      for (let t = 0; t < width; t++) target[start + t] = scratch[offset + t];
+    }
+  }
+}
+
+function checkVectorLength(v: Float64Array, length: number, keyPath: string): void {
+  if (!(v instanceof Float64Array) || v.length !== length) {
+    throw new SpecError(keyPath, `expected a Float64Array of length ${length}`);
+  }
+}
+
+function degeneracyOf(values: Float64Array, tolerance: number): number {
+  if (values.length === 0) return 1;
+  const e0 = values[0];
+  const window = Math.max(1e-8 * Math.max(1, Math.abs(e0)), 10 * tolerance);
+  let count = 0;
+  for (let i = 0; i < values.length; i++) if (Math.abs(values[i] - e0) <= window) count++;
+  return Math.max(1, count);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Thick-restart Lanczos core
+
+interface CoreInput {
+  op: HermitianOperator;
+  nev: number;
+  tolerance: number;
+  krylovSize: number;
+  maxMatvecs: number;
+  start: Float64Array | null;
+  /** Orthonormal vectors the search stays orthogonal to. */
+  deflation: Float64Array[];
+  rng: Prng;
+  /** Spare vectors of the right length to reuse before allocating. */
+  pool: Float64Array[];
+  progress: ((matvecs: number, restarts: number, worst: number) => void) | null;
+}
+
+interface CoreResult {
+  values: Float64Array;
+  vectors: Float64Array[];
+  residuals: Float64Array;
+  matvecs: number;
+  restarts: number;
+  converged: boolean;
+}
+
+/**
+ * Thick-restart Lanczos for the nev lowest eigenpairs of P H P, where P projects out `deflation`.
+ *
+ * Basis V[0..s) is orthonormal; T (m x m) is its projected matrix: tridiagonal right after a
+ * start, "arrow" + tridiagonal after a restart (kept Ritz values on the diagonal, couplings
+ * beta_m * y_{m,i} to the residual direction in the row after them). At most m basis vectors
+ * plus one spare (the residual direction while the basis is full, scratch otherwise) live at once.
+ */
+function thickRestartLanczos(input: CoreInput): CoreResult {
+  const { op, nev, tolerance, maxMatvecs, deflation, rng, pool, progress } = input;
+  const isComplex = op.isComplex;
+  const length = isComplex ? 2 * op.dim : op.dim;
+  const deflationCount = deflation.length;
+  const available = op.dim - deflationCount;
+  const m = input.krylovSize;
+
+  const allocate = (): Float64Array => pool.pop() ?? new Float64Array(length);
+  const basis: Float64Array[] = [];
+  for (let i = 0; i < m; i++) basis.push(allocate());
+  let spare = allocate();
+  // Deflation vectors first, then the basis: one list for Gram-Schmidt.
+  const orthoSet: Float64Array[] = deflation.concat(basis);
+  const coef = new Float64Array(2 * (deflationCount + m + 1));
+  const coef2 = new Float64Array(2 * (deflationCount + m + 1));
+  const T = new Float64Array(m * m);
+  const scratch = new Float64Array(BLOCK * m);
+
+  let matvecs = 0;
+  let restarts = 0;
+  // The cheap Ritz estimate may be optimistic; each time the explicit check disagrees, demand more.
+  let cheapFactor = 1;
+
+  /** Fill v with a random vector orthonormal to deflation + basis[0..count). False if no room is left. */
+  const randomOrthogonal = (v: Float64Array, count: number): boolean => {
+    for (let attempt = 0; attempt < 5; attempt++) {
+      rng.fill(v);
+      const before = norm2(v);
+      const after = orthogonalizeAgainst(v, orthoSet, deflationCount + count, isComplex, coef, coef2);
+      if (after > 1e-8 * before) {
+        scale(v, 1 / after);
+        return true;
+      }
+    }
+    return false;
+  };
+
+  // Start vector: the warm start if usable, else random.
+  let started = false;
+  if (input.start) {
+    basis[0].set(input.start);
+    const before = norm2(basis[0]);
+    const after = orthogonalizeAgainst(basis[0], orthoSet, deflationCount, isComplex, coef, coef2);
+    if (before > 0 && after > 1e-8 * before) {
+      scale(basis[0], 1 / after);
+      started = true;
+    }
+  }
+  if (!started && !randomOrthogonal(basis[0], 0)) {
+    throw new ConvergenceError('no start vector orthogonal to the deflation vectors exists');
+  }
+  let size = 1;
+
+  const releaseExcept = (keep: number): void => {
+    for (let i = keep; i < m; i++) pool.push(basis[i]);
+    pool.push(spare);
+  };
+
+  /**
+   * Rayleigh-Ritz on basis[0..s): collapse the basis onto its `keep` lowest Ritz vectors,
+   * optionally verify the nev lowest by explicit residuals. Returns the explicit residuals when
+   * checked (and all pass, or `final`), else null.
+   */
+  const collapse = (
+    s: number,
+    residualNorm: number,
+    keep: number,
+    check: boolean,
+  ): { values: Float64Array; residuals: Float64Array | null } => {
+    const ritz = smallSymmetricEigen(T, m, s);
+    combineInPlace(basis, s, ritz.vectors, s, keep, scratch);
+    // The residual direction (spare when the basis was full) becomes basis[keep].
+    if (s === m && residualNorm > 0) {
+      const tmp = basis[keep];
+      basis[keep] = spare;
+      spare = tmp;
+    }
+    for (let i = 0; i < m; i++) orthoSet[deflationCount + i] = basis[i];
+    T.fill(0);
+    for (let i = 0; i < keep; i++) {
+      T[i * m + i] = ritz.values[i];
+      const coupling = residualNorm * ritz.vectors[(s - 1) * s + i];
+      if (keep < m) {
+        T[i * m + keep] = coupling;
+        T[keep * m + i] = coupling;
+      }
+    }
+    if (!check) return { values: ritz.values, residuals: null };
+    // Scratch vector for H y: spare is free unless the residual direction sits in basis[s].
+    const work = s < m ? basis[s] : spare;
+    const residuals = new Float64Array(Math.min(nev, keep));
+    for (let i = 0; i < residuals.length; i++) {
+      op.apply(basis[i], work);
+      matvecs++;
+      const y = basis[i];
+      const theta = ritz.values[i];
+      for (let t = 0; t < length; t++) work[t] -= theta * y[t];
+      if (deflationCount > 0) {
+        projectCoefficients(work, orthoSet, deflationCount, isComplex, coef);
+        residuals[i] = Math.sqrt(subtractCombination(work, orthoSet, deflationCount, isComplex, coef, null));
+      } else {
+        residuals[i] = norm2(work);
+      }
+    }
+    return { values: ritz.values, residuals };
+  };
+
+  const finish = (values: Float64Array, residuals: Float64Array, converged: boolean): CoreResult => {
+    const count = residuals.length;
+    const vectors = basis.slice(0, count);
+    releaseExcept(count);
+    return { values: values.slice(0, count), vectors, residuals, matvecs, restarts, converged };
+  };
+
+  // Keep the wanted pairs plus half of the rest: measured best among fixed fractions (0.2..0.9)
+  // on tight-binding rings, where the unwanted Ritz vectors carry most of the convergence.
+  const restartKeep = Math.max(nev, Math.min(m - 1, nev + Math.floor((m - nev) / 2)));
+
+  for (;;) {
+    if (matvecs >= maxMatvecs) {
+      // Out of budget: report the best current approximations.
+      const keep = Math.min(nev, size);
+      const out = collapse(size, 0, keep, true);
+      const residuals = out.residuals as Float64Array;
+      const converged = keep === nev && residuals.every((r) => r <= tolerance);
+      return finish(out.values, residuals, converged);
+    }
+    const j = size - 1;
+    const target = size < m ? basis[size] : spare;
+    op.apply(basis[j], target);
+    matvecs++;
+    const count = deflationCount + size;
+    projectCoefficients(target, orthoSet, count, isComplex, coef);
+    const firstNormSquared = subtractCombination(target, orthoSet, count, isComplex, coef, coef2);
+    const hvNorm = Math.sqrt(coefficientNormSquared(coef, count, isComplex) + firstNormSquared);
+    const alphaIndex = isComplex ? 2 * (deflationCount + j) : deflationCount + j;
+    const alpha = coef[alphaIndex] + coef2[alphaIndex];
+    let beta = Math.sqrt(subtractCombination(target, orthoSet, count, isComplex, coef2, null));
+    if (beta < REORTH_ETA * Math.sqrt(firstNormSquared) && beta > 0) {
+      projectCoefficients(target, orthoSet, count, isComplex, coef2);
+      beta = Math.sqrt(subtractCombination(target, orthoSet, count, isComplex, coef2, null));
+    }
+    T[j * m + j] = alpha;
+    // An invariant subspace: nothing new from this direction (the zero operator, warm starts
+    // at an eigenvector, few distinct eigenvalues). Continue from a fresh random direction.
+    const breakdown = beta <= BREAKDOWN_RATIO * hvNorm;
+
+    if (size === m || (breakdown && size >= nev)) {
+      const residualNorm = breakdown ? 0 : beta;
+      if (!breakdown) scale(spare, 1 / beta);
+      const lastRow = size - 1;
+      const ritz = smallSymmetricEigen(T, m, size);
+      let worstEstimate = 0;
+      for (let i = 0; i < nev; i++) {
+        worstEstimate = Math.max(worstEstimate, Math.abs(residualNorm * ritz.vectors[lastRow * size + i]));
+      }
+      const wantCheck = worstEstimate <= cheapFactor * tolerance;
+      // Keep every Ritz vector of an exactly invariant, not full basis; leave one slot free otherwise.
+      // An exactly invariant basis keeps all its Ritz vectors, except that a full one frees a slot
+      // for the next random direction (unless it already spans everything there is).
+      const keep = !breakdown ? restartKeep : size < m || size >= available ? size : m - 1;
+      const out = collapse(size, residualNorm, keep, wantCheck);
+      if (size === m) restarts++;
+      let worst = worstEstimate;
+      if (out.residuals) {
+        worst = 0;
+        for (const r of out.residuals) worst = Math.max(worst, r);
+        if (worst <= tolerance) {
+          progress?.(matvecs, restarts, worst);
+          return finish(out.values, out.residuals, true);
+        }
+        cheapFactor = Math.max(cheapFactor * 0.1, 1e-6);
+      }
+      progress?.(matvecs, restarts, worst);
+      if (residualNorm > 0) {
+        size = keep + 1;
+      } else {
+        size = keep;
+        if (size >= available || !randomOrthogonal(basis[size], size)) {
+          // The whole space is spanned and the pairs still miss the tolerance: rounding limits us.
+          const residuals = out.residuals ?? collapse(size, 0, Math.min(nev, size), true).residuals!;
+          return finish(out.values, residuals, false);
+        }
+        size++;
+      }
+      continue;
+    }
+
+    if (breakdown) {
+      if (!randomOrthogonal(target, size)) {
+        // Fewer than nev dimensions exist; cannot happen when nev <= available.
+        throw new ConvergenceError('Krylov space exhausted before the requested states were found');
+      }
+      T[size * m + j] = 0;
+      T[j * m + size] = 0;
+    } else {
+      scale(target, 1 / beta);
+      T[size * m + j] = beta;
+      T[j * m + size] = beta;
+    }
+    size++;
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Dense path
+
+/** Row-major dim x dim matrix of op, built from matvecs on unit vectors. */
+export function denseMatrixOf(op: HermitianOperator): { re: Float64Array; im: Float64Array | null } {
+  return buildDense(op, []);
+}
+
+/** Matrix of P H P with P = 1 - sum_d |d><d| (the plain matrix when `deflation` is empty). */
+function buildDense(op: HermitianOperator, deflation: Float64Array[]): { re: Float64Array; im: Float64Array | null } {
+  const n = op.dim;
+  const isComplex = op.isComplex;
+  const length = isComplex ? 2 * n : n;
+  const unit = new Float64Array(length);
+  const column = new Float64Array(length);
+  const coef = new Float64Array(2 * deflation.length + 2);
+  const coef2 = new Float64Array(2 * deflation.length + 2);
+  const re = new Float64Array(n * n);
+  const im = isComplex ? new Float64Array(n * n) : null;
+  for (let j = 0; j < n; j++) {
+    unit.fill(0);
+    unit[isComplex ? 2 * j : j] = 1;
+    if (deflation.length > 0) orthogonalizeAgainst(unit, deflation, deflation.length, isComplex, coef, coef2);
+    op.apply(unit, column);
+    if (deflation.length > 0) orthogonalizeAgainst(column, deflation, deflation.length, isComplex, coef, coef2);
+    if (im) {
+      for (let i = 0; i < n; i++) {
+        re[i * n + j] = column[2 * i];
+        im[i * n + j] = column[2 * i + 1];
+      }
+    } else {
+      for (let i = 0; i < n; i++) re[i * n + j] = column[i];
+    }
+  }
+  return { re, im };
+}
+
+interface DenseSolution {
+  values: Float64Array;
+  vectors: Float64Array[];
+  residuals: Float64Array;
+}
+
+/**
+ * Lowest `count` eigenpairs of P H P restricted to the complement of `deflation` (orthonormal).
+ * Deflated directions are lifted to a shift above the whole spectrum so they sort last.
+ */
+function denseSolve(op: HermitianOperator, count: number, deflation: Float64Array[]): DenseSolution {
+  const n = op.dim;
+  const { re, im } = buildDense(op, deflation);
+  // Hermitian part: cancels rounding asymmetry of the operator.
+  const a = new Float64Array(n * n);
+  const b = im ? new Float64Array(n * n) : null;
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) {
+      a[i * n + j] = 0.5 * (re[i * n + j] + re[j * n + i]);
+      if (b && im) b[i * n + j] = 0.5 * (im[i * n + j] - im[j * n + i]);
+    }
+  }
+  if (deflation.length > 0) {
+    let bound = 0;
+    for (let i = 0; i < n; i++) {
+      let rowSum = 0;
+      for (let j = 0; j < n; j++) rowSum += Math.abs(a[i * n + j]) + (b ? Math.abs(b[i * n + j]) : 0);
+      bound = Math.max(bound, rowSum);
+    }
+    const shift = 1 + 2 * bound;
+    for (const d of deflation) {
+      for (let i = 0; i < n; i++) {
+        for (let j = 0; j < n; j++) {
+          if (b) {
+            // shift * d_i conj(d_j)
+            const dir = d[2 * i];
+            const dii = d[2 * i + 1];
+            const djr = d[2 * j];
+            const dji = d[2 * j + 1];
+            a[i * n + j] += shift * (dir * djr + dii * dji);
+            b[i * n + j] += shift * (dii * djr - dir * dji);
+          } else {
+            a[i * n + j] += shift * d[i] * d[j];
+          }
+        }
+      }
+    }
+  }
+  const solution = b ? complexDenseEigen(a, b, n, count) : realDenseEigen(a, n, count);
+  solution.residuals = denseResiduals(a, b, n, solution.values, solution.vectors);
+  return solution;
+}
+
+function matrixRows(packed: Float64Array, n: number): number[][] {
+  const rows: number[][] = [];
+  for (let i = 0; i < n; i++) rows.push(Array.from(packed.subarray(i * n, (i + 1) * n)));
+  return rows;
+}
+
+function sortedEigen(rows: number[][]): { values: number[]; vectorMatrix: Matrix; order: number[] } {
+  const evd = new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true });
+  const values = evd.realEigenvalues;
+  const order = values.map((_, i) => i).sort((p, q) => values[p] - values[q]);
+  return { values, vectorMatrix: evd.eigenvectorMatrix, order };
+}
+
+function realDenseEigen(a: Float64Array, n: number, count: number): DenseSolution {
+  const { values, vectorMatrix, order } = sortedEigen(matrixRows(a, n));
+  const outValues = new Float64Array(count);
+  const vectors: Float64Array[] = [];
+  for (let c = 0; c < count; c++) {
+    outValues[c] = values[order[c]];
+    const v = new Float64Array(n);
+    for (let i = 0; i < n; i++) v[i] = vectorMatrix.get(i, order[c]);
+    scale(v, 1 / norm2(v));
+    vectors.push(v);
+  }
+  return { values: outValues, vectors, residuals: new Float64Array(count) };
+}
+
+/**
+ * H = A + iB through the real symmetric embedding S = [[A, -B], [B, A]]: S (x; y) = E (x; y)
+ * exactly when H (x + iy) = E (x + iy), and (x; y), (-y; x) give the same complex vector up to
+ * a factor i, so each eigenvalue of H appears twice in S. Within each (numerically) degenerate
+ * cluster of S the 2p real vectors span p complex directions; a pivoted complex Gram-Schmidt
+ * picks p orthonormal ones, taking each time the candidate with the largest remaining norm
+ * (at least 1/p in square), so the choice stays well conditioned.
+ */
+function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: number): DenseSolution {
+  const size = 2 * n;
+  const rows: number[][] = [];
+  for (let i = 0; i < size; i++) rows.push(new Array<number>(size));
+  let largest = 0;
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) {
+      const aij = a[i * n + j];
+      const bij = b[i * n + j];
+      rows[i][j] = aij;
+      rows[i][n + j] = -bij;
+      rows[n + i][j] = bij;
+      rows[n + i][n + j] = aij;
+      largest = Math.max(largest, Math.abs(aij), Math.abs(bij));
+    }
+  }
+  const { values, vectorMatrix, order } = sortedEigen(rows);
+  // Copies of one eigenvalue split only by rounding (~1e-15 of the scale).
+  const clusterGap = 1e-11 * Math.max(1, largest * n);
+  const outValues = new Float64Array(count);
+  const vectors: Float64Array[] = [];
+  let start = 0;
+  while (vectors.length < count && start < size) {
+    let end = start + 1;
+    while (end < size && (values[order[end]] - values[order[end - 1]] <= clusterGap || (end - start) % 2 === 1)) end++;
+    const candidates: Float64Array[] = [];
+    for (let c = start; c < end; c++) {
+      const z = new Float64Array(2 * n);
+      for (let i = 0; i < n; i++) {
+        z[2 * i] = vectorMatrix.get(i, order[c]);
+        z[2 * i + 1] = vectorMatrix.get(n + i, order[c]);
+      }
+      candidates.push(z);
+    }
+    const directions = (end - start) >> 1;
+    const accepted: Float64Array[] = [];
+    const remaining = candidates.map((z) => norm2(z));
+    const coef = new Float64Array(4);
+    const coef2 = new Float64Array(4);
+    for (let d = 0; d < directions; d++) {
+      let best = 0;
+      for (let c = 1; c < candidates.length; c++) if (remaining[c] > remaining[best]) best = c;
+      const chosen = candidates[best];
+      scale(chosen, 1 / remaining[best]);
+      candidates.splice(best, 1);
+      remaining.splice(best, 1);
+      accepted.push(chosen);
+      // Modified Gram-Schmidt: each candidate loses its component along the new direction only.
+      const single = [chosen];
+      for (let c = 0; c < candidates.length; c++) {
+        remaining[c] = orthogonalizeAgainst(candidates[c], single, 1, true, coef, coef2);
+      }
+    }
+    for (let d = 0; d < directions && vectors.length < count; d++) {
+      outValues[vectors.length] = 0.5 * (values[order[start + 2 * d]] + values[order[start + 2 * d + 1]]);
+      vectors.push(accepted[d]);
+    }
+    start = end;
+  }
+  return { values: outValues, vectors, residuals: new Float64Array(count) };
+}
+
+function denseResiduals(
+  a: Float64Array,
+  b: Float64Array | null,
+  n: number,
+  values: Float64Array,
+  vectors: Float64Array[],
+): Float64Array {
+  const residuals = new Float64Array(vectors.length);
+  for (let k = 0; k < vectors.length; k++) {
+    const v = vectors[k];
+    const e = values[k];
+    let sum = 0;
+    for (let i = 0; i < n; i++) {
+      if (b) {
+        let rr = 0;
+        let ri = 0;
+        for (let j = 0; j < n; j++) {
+          const aij = a[i * n + j];
+          const bij = b[i * n + j];
+          const xr = v[2 * j];
+          const xi = v[2 * j + 1];
+          rr += aij * xr - bij * xi;
+          ri += bij * xr + aij * xi;
+        }
+        rr -= e * v[2 * i];
+        ri -= e * v[2 * i + 1];
+        sum += rr * rr + ri * ri;
+      } else {
+        let r = 0;
+        for (let j = 0; j < n; j++) r += a[i * n + j] * v[j];
+        r -= e * v[i];
+        sum += r * r;
+      }
+    }
+    residuals[k] = Math.sqrt(sum);
+  }
+  return residuals;
+}
+
+/** All eigenpairs of op, ascending (dense; meant for small operators and tests). */
+export function denseEigen(op: HermitianOperator): { values: Float64Array; vectors: Float64Array[] } {
+  const { values, vectors } = denseSolve(op, op.dim, []);
+  return { values, vectors };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Public entry point
+
+/** Orthonormal copies of the deflation vectors (linearly dependent ones dropped). */
+function orthonormalCopies(vectors: Float64Array[], length: number, isComplex: boolean): Float64Array[] {
+  const out: Float64Array[] = [];
+  const coef = new Float64Array(2 * vectors.length + 2);
+  const coef2 = new Float64Array(2 * vectors.length + 2);
+  vectors.forEach((v, index) => {
+    checkVectorLength(v, length, `deflate[${index}]`);
+    const copy = Float64Array.from(v);
+    const before = norm2(copy);
+    const after = orthogonalizeAgainst(copy, out, out.length, isComplex, coef, coef2);
+    if (before > 0 && after > 1e-10 * before) {
+      scale(copy, 1 / after);
+      out.push(copy);
+    }
+  });
+  return out;
+}
+
+/** The lowest eigenpairs of a Hermitian operator; see EigenOptions for the knobs. */
+export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): EigenResult {
+  const dim = op.dim;
+  if (!Number.isInteger(dim) || dim < 1) throw new SpecError('dim', 'operator dimension must be a positive integer');
+  if (!Number.isInteger(opts.states) || opts.states < 1) throw new SpecError('states', 'must be a positive integer');
+  if (!(opts.tolerance > 0)) throw new SpecError('tolerance', 'must be a positive number');
+  const isComplex = op.isComplex;
+  const length = isComplex ? 2 * dim : dim;
+  const tolerance = opts.tolerance;
+  const deflation = orthonormalCopies(opts.deflate ?? [], length, isComplex);
+  const available = dim - deflation.length;
+  if (available < 1) throw new SpecError('deflate', 'the deflation vectors leave no space to search');
+  const states = Math.min(opts.states, available);
+  if (opts.initial) checkVectorLength(opts.initial, length, 'initial');
+
+  const fail = (result: EigenResult): EigenResult => {
+    if (!result.converged && opts.throwOnFailure) {
+      let worst = 0;
+      for (const r of result.residuals) worst = Math.max(worst, r);
+      throw new ConvergenceError(
+        `eigensolver did not converge: worst residual ${worst.toExponential(3)} > tolerance ${tolerance} after ${result.matvecs} matrix-vector products`,
+      );
+    }
+    return result;
+  };
+
+  if (dim <= (opts.denseThreshold ?? DEFAULT_DENSE_THRESHOLD)) {
+    const solution = denseSolve(op, states, deflation);
+    const converged = solution.residuals.every((r) => r <= tolerance);
+    opts.onProgress?.({ matvecs: dim, restarts: 0, worstResidual: Math.max(0, ...solution.residuals) });
+    return fail({
+      values: solution.values,
+      vectors: solution.vectors,
+      residuals: solution.residuals,
+      matvecs: dim,
+      restarts: 0,
+      converged,
+      method: 'dense',
+      degeneracy: degeneracyOf(solution.values, tolerance),
+    });
+  }
+
+  const maxMatvecs = opts.maxMatvecs ?? Math.max(5000, 50 * states);
+  const requestedKrylov = opts.krylovSize ?? defaultKrylovSize(states);
+  if (!Number.isInteger(requestedKrylov) || requestedKrylov < 1) {
+    throw new SpecError('krylovSize', 'must be a positive integer');
+  }
+  // Basis size: at least one slot beyond the wanted pairs (else no room to restart), at most the space.
+  const krylovFor = (nev: number, wanted: number, space: number): number =>
+    Math.min(space, Math.max(wanted, nev + 1));
+  const rng = new Prng(opts.seed ?? DEFAULT_SEED);
+  const pool: Float64Array[] = [];
+  let totalMatvecs = 0;
+  let totalRestarts = 0;
+  const progress = opts.onProgress
+    ? (matvecs: number, restarts: number, worst: number): void =>
+        opts.onProgress?.({ matvecs: totalMatvecs + matvecs, restarts: totalRestarts + restarts, worstResidual: worst })
+    : null;
+
+  const main = thickRestartLanczos({
+    op,
+    nev: states,
+    tolerance,
+    krylovSize: krylovFor(states, requestedKrylov, available),
+    maxMatvecs,
+    start: opts.initial ?? null,
+    deflation,
+    rng,
+    pool,
+    progress,
+  });
+  totalMatvecs += main.matvecs;
+  totalRestarts += main.restarts;
+  const values = Array.from(main.values);
+  const vectors = main.vectors.slice();
+  const residuals = Array.from(main.residuals);
+  let converged = main.converged;
+
+  // Verification pass. Lanczos from one start vector sees a single direction of each degenerate
+  // eigenspace, so missing copies (and, rarely, a level the main run skipped) are looked for by
+  // a fresh random start deflated against everything found: if the lowest eigenvalue of that
+  // deflated problem lies below the highest value found, it belongs in the answer. The lowest
+  // eigenvalue is what a random-start Lanczos finds reliably, whatever its multiplicity, so a run
+  // that inserts nothing proves the set complete. When a run inserts as many pairs as it
+  // searched for, the next run searches for twice as many (large multiplicities), else for one.
+  const inserted = new Set<Float64Array>();
+  if (converged && states < available) {
+    let searchFor = 1;
+    for (let round = 0; round < 4 * states + 4; round++) {
+      const space = available - states;
+      const nev = Math.min(searchFor, space);
+      const remainingBudget = maxMatvecs - totalMatvecs;
+      if (remainingBudget <= 0) {
+        converged = false;
+        break;
+      }
+      const run = thickRestartLanczos({
+        op,
+        nev,
+        tolerance,
+        krylovSize: krylovFor(nev, Math.min(requestedKrylov, defaultKrylovSize(nev)), space),
+        maxMatvecs: remainingBudget,
+        start: null,
+        deflation: deflation.concat(vectors),
+        rng,
+        pool,
+        progress,
+      });
+      totalMatvecs += run.matvecs;
+      totalRestarts += run.restarts;
+      if (!run.converged) {
+        pool.push(...run.vectors);
+        converged = false;
+        break;
+      }
+      let insertedNow = 0;
+      for (let c = 0; c < run.values.length; c++) {
+        const candidate = run.values[c];
+        const highest = values[values.length - 1];
+        const margin = Math.max(2 * tolerance, 1e-11 * Math.max(1, Math.abs(highest)));
+        if (candidate < highest - margin) {
+          pool.push(vectors.pop() as Float64Array);
+          values.pop();
+          residuals.pop();
+          let at = values.length;
+          while (at > 0 && values[at - 1] > candidate) at--;
+          values.splice(at, 0, candidate);
+          vectors.splice(at, 0, run.vectors[c]);
+          residuals.splice(at, 0, run.residuals[c]);
+          inserted.add(run.vectors[c]);
+          insertedNow++;
+        } else {
+          pool.push(run.vectors[c]);
+        }
+      }
+      if (insertedNow === 0) break;
+      searchFor = insertedNow === nev ? Math.min(2 * nev, states) : 1;
+    }
+  }
+
+  // Pairs from verification runs were checked against a larger deflation set; measure them
+  // again against the operator itself (one matvec each).
+  if (inserted.size > 0) {
+    const work = pool.pop() ?? new Float64Array(length);
+    const coef = new Float64Array(2 * deflation.length + 2);
+    for (let k = 0; k < vectors.length; k++) {
+      if (!inserted.has(vectors[k])) continue;
+      op.apply(vectors[k], work);
+      totalMatvecs++;
+      const v = vectors[k];
+      const e = values[k];
+      for (let t = 0; t < length; t++) work[t] -= e * v[t];
+      if (deflation.length > 0) projectCoefficients(work, deflation, deflation.length, isComplex, coef);
+      residuals[k] =
+        deflation.length > 0
+          ? Math.sqrt(subtractCombination(work, deflation, deflation.length, isComplex, coef, null))
+          : norm2(work);
+      if (residuals[k] > tolerance) converged = false;
+    }
+  }
+  pool.length = 0;
+
+  const outValues = Float64Array.from(values);
+  return fail({
+    values: outValues,
+    vectors,
+    residuals: Float64Array.from(residuals),
+    matvecs: totalMatvecs,
+    restarts: totalRestarts,
+    converged: converged && vectors.length === states,
+    method: 'lanczos',
+    degeneracy: degeneracyOf(outValues, tolerance),
+  });
+}
