@@ -106,7 +106,7 @@ describe('general states against a singular value decomposition', () => {
     raw.solve = { states: 1, entanglement: 'all' };
     const spec = validateSpec(raw);
     const solved = solvePoint(spec);
-    const isComplex = solved.eigen.vectors[0].length === 2 * N ** L;
+    const isComplex = solved.groundStates[0].length === 2 * N ** L;
     expect(isComplex).toBe(true); // random Peierls phases
     const cuts = solved.record.observables.entanglement as ReturnType<typeof pinnedEntanglement>;
     expect(cuts.map((c) => c.cut)).toEqual(Array.from({ length: L - 1 }, (_, k) => k + 1));
@@ -121,7 +121,7 @@ describe('general states against a singular value decomposition', () => {
   it('a reduced density matrix is Hermitian with unit trace', () => {
     const raw = clean(randomPinnedSpec(21, 5, 3));
     const solved = solvePoint(validateSpec(raw));
-    const isComplex = solved.eigen.vectors[0].length === 2 * 3 ** 5;
+    const isComplex = solved.groundStates[0].length === 2 * 3 ** 5;
     for (const cut of [1, 2, 3, 4]) {
       const rho = reducedDensityMatrix(solved.groundStates, 5, 3, isComplex, cut);
       let trace = 0;
