@@ -4,6 +4,7 @@
 import { Command, CommanderError } from 'commander';
 import { isRungchainError } from '../src/errors.js';
 import { registerSolveCommands } from './commands/solve.js';
+import { registerScanCommands } from './commands/scan.js';
 
 const program = new Command();
 program
@@ -13,6 +14,7 @@ program
   .exitOverride();
 
 registerSolveCommands(program);
+registerScanCommands(program);
 
 async function main(): Promise<void> {
   try {

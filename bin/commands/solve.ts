@@ -5,6 +5,8 @@ import { planPoint, solvePoint } from '../../src/point.js';
 import { describePlan, describeRecord } from '../../src/tables.js';
 import { runDemo } from '../../src/demo.js';
 import { collect, memoryLimit } from './shared.js';
+import { describeScan, expandScan } from '../../src/scan.js';
+import { defaultWorkerCount } from '../../src/scanRunner.js';
 
 export function registerSolveCommands(program: Command): void {
   program
@@ -14,8 +16,12 @@ export function registerSolveCommands(program: Command): void {
     .option('--set <key=value>', 'override a spec key (repeatable)', collect, [])
     .option('--max-memory <size>', 'memory limit to check against, e.g. 8GB')
     .action((specPath: string, opts: { set: string[]; maxMemory?: string }) => {
-      const { spec } = loadSpec(specPath, opts.set);
+      const { raw, spec } = loadSpec(specPath, opts.set);
       const limit = memoryLimit(opts);
+      if (spec.extra.scan) {
+        console.log(describeScan(expandScan(raw, spec), limit, defaultWorkerCount()));
+        return;
+      }
       const plan = planPoint(spec);
       console.log(describePlan(plan, limit));
       if (plan.memory.totalBytes > limit) console.log('solve would refuse this problem: the estimate exceeds the limit');

@@ -1,0 +1,73 @@
+// `scan`, `summary` and `status`: parameter scans written to run folders, and reading them back.
+import type { Command } from 'commander';
+import { InputError } from '../../src/errors.js';
+import { runScan } from '../../src/scanRunner.js';
+import { loadScanRun, longCsv, longJson, longText, statusJson, statusText, summaryCsv, summaryJson, summaryText } from '../../src/summary.js';
+import { collect, memoryLimit } from './shared.js';
+
+function positiveInteger(text: string, what: string): number {
+  const n = Number(text);
+  if (!Number.isInteger(n) || n < 1) throw new InputError(`${what}: expected a positive integer, got "${text}"`);
+  return n;
+}
+
+export function registerScanCommands(program: Command): void {
+  program
+    .command('scan')
+    .description('solve every point of a spec\'s [scan] section on worker threads, into a run folder that survives interruption')
+    .argument('<spec>', 'model spec with a [scan] section, .toml or .json')
+    .option('--set <key=value>', 'override a spec key (repeatable)', collect, [])
+    .option('--out <dir>', 'run folder (default: runs/<spec name>-<identity>, so the same command resumes)')
+    .option('--workers <n>', 'worker threads (default: one per core)')
+    .option('--retry-failed', 'run again the points recorded as failed')
+    .option('--no-warm-start', 'start every Lanczos run from a random vector (bitwise reproducible order-independent results)')
+    .option('--max-memory <size>', 'a point whose estimate exceeds this is recorded as failed (default: 60% of RAM)')
+    .option('--quiet', 'print nothing but errors')
+    .action(async (specPath: string, opts: { set: string[]; out?: string; workers?: string; retryFailed?: boolean; warmStart: boolean; maxMemory?: string; quiet?: boolean }) => {
+      const outcome = await runScan({
+        specPath,
+        overrides: opts.set,
+        out: opts.out,
+        workers: opts.workers === undefined ? undefined : positiveInteger(opts.workers, '--workers'),
+        retryFailed: Boolean(opts.retryFailed),
+        warmStart: opts.warmStart,
+        maxMemory: memoryLimit(opts),
+        progress: opts.quiet ? 'none' : 'auto',
+        handleSignals: true,
+      });
+      // 130 is the shell's code for a run stopped by Ctrl-C.
+      if (outcome.interrupted) process.exitCode = 130;
+    });
+
+  program
+    .command('summary')
+    .description('table of a scan run: one row per point (scanned parameters, energies, gap, observables)')
+    .argument('<run>', 'run folder')
+    .option('--csv', 'tidy CSV on stdout')
+    .option('--json', 'JSON array on stdout, one object per point')
+    .option('--long', 'per-site and per-level observables, one value per row')
+    .action((dir: string, opts: { csv?: boolean; json?: boolean; long?: boolean }) => {
+      if (opts.csv && opts.json) throw new InputError('choose one of --csv and --json');
+      const summary = loadScanRun(dir);
+      if (opts.long) {
+        if (opts.json) process.stdout.write(JSON.stringify(longJson(summary)) + '\n');
+        else if (opts.csv) process.stdout.write(longCsv(summary));
+        else console.log(longText(summary));
+        return;
+      }
+      if (opts.json) process.stdout.write(JSON.stringify(summaryJson(summary)) + '\n');
+      else if (opts.csv) process.stdout.write(summaryCsv(summary));
+      else console.log(summaryText(summary));
+    });
+
+  program
+    .command('status')
+    .description('done / failed / pending points of a run folder, and whether a scan is writing it now')
+    .argument('<run>', 'run folder')
+    .option('--json', 'one JSON object on stdout')
+    .action((dir: string, opts: { json?: boolean }) => {
+      const summary = loadScanRun(dir);
+      if (opts.json) process.stdout.write(JSON.stringify(statusJson(summary)) + '\n');
+      else console.log(statusText(summary));
+    });
+}

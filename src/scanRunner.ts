@@ -1,0 +1,378 @@
+// Running a scan: expand the spec, open (or resume) the run folder, hand runs of neighbouring
+// points to a pool of worker threads, largest first, and append each finished point's record to
+// the run file the moment it arrives.
+
+import { readFileSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { MessageChannel } from 'node:worker_threads';
+import { Piscina } from 'piscina';
+import cliProgress from 'cli-progress';
+import { InputError } from './errors.js';
+import { defaultMemoryLimit } from './resources.js';
+import { loadSpec } from './spec.js';
+import { expandScan, formatParams, pointCost, sizeScan, type ScanPlan, type ScanPoint } from './scan.js';
+import { RunWriter } from './runfiles.js';
+import type { ScanRecord, TaskMessage } from './scanTask.js';
+
+export function rungchainVersion(): string {
+  // dist/src/ and src/ both sit below the package root.
+  for (const up of ['../..', '..']) {
+    try {
+      const pkg = JSON.parse(readFileSync(fileURLToPath(new URL(`${up}/package.json`, import.meta.url)), 'utf8'));
+      if (pkg.name === 'rungchain') return String(pkg.version);
+    } catch {
+      /* try the next level */
+    }
+  }
+  return 'unknown';
+}
+
+// ---------------------------------------------------------------------------------------------
+// The worker pool: built here and only here, so the choice between point-parallel and
+// product-parallel work can be made in one place.
+
+export interface PoolChoice {
+  workers: number;
+}
+
+export function defaultWorkerCount(): number {
+  return Math.max(1, os.availableParallelism());
+}
+
+export function createPointPool(choice: PoolChoice): Piscina {
+  const filename = fileURLToPath(new URL('../workers/point.js', import.meta.url));
+  return new Piscina({
+    filename,
+    minThreads: choice.workers,
+    maxThreads: choice.workers,
+    concurrentTasksPerWorker: 1,
+    idleTimeout: 30_000,
+  });
+}
+
+// ---------------------------------------------------------------------------------------------
+// Tasks: runs of neighbouring pending points on one line
+
+export interface PlannedTask {
+  points: ScanPoint[];
+  cost: number;
+}
+
+/**
+ * Splits the pending points into tasks: each a run of consecutive pending points of one line,
+ * at most `chunk` long, so warm starts chain within it; ordered by cost, largest first, so a
+ * long night ends on small work and no big point starts last.
+ */
+export function planTasks(plan: ScanPlan, pending: Set<number>, costs: number[], workers: number): PlannedTask[] {
+  const chunk = Math.max(1, Math.ceil(pending.size / (4 * Math.max(1, workers))));
+  const tasks: PlannedTask[] = [];
+  for (const line of plan.lines) {
+    let run: ScanPoint[] = [];
+    const flush = (): void => {
+      for (let s = 0; s < run.length; s += chunk) {
+        const points = run.slice(s, s + chunk);
+        tasks.push({ points, cost: points.reduce((sum, p) => sum + costs[p.index], 0) });
+      }
+      run = [];
+    };
+    for (const index of line) {
+      if (pending.has(index)) run.push(plan.points[index]);
+      else flush();
+    }
+    flush();
+  }
+  return tasks.sort((a, b) => b.cost - a.cost || a.points[0].index - b.points[0].index);
+}
+
+/** The latest record of each point (a retried point has several; the last one counts). */
+export function latestRecords(records: Record<string, unknown>[]): Map<number, ScanRecord> {
+  const latest = new Map<number, ScanRecord>();
+  for (const r of records) {
+    if (typeof r.index === 'number') latest.set(r.index, r as unknown as ScanRecord);
+  }
+  return latest;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Progress
+
+interface Progress {
+  record(record: ScanRecord, done: number, failed: number, total: number): void;
+  stop(): void;
+}
+
+function formatDuration(seconds: number): string {
+  if (!Number.isFinite(seconds)) return '?';
+  const s = Math.round(seconds);
+  if (s < 60) return `${s}s`;
+  if (s < 3600) return `${Math.floor(s / 60)}m${String(s % 60).padStart(2, '0')}s`;
+  return `${Math.floor(s / 3600)}h${String(Math.floor((s % 3600) / 60)).padStart(2, '0')}m`;
+}
+
+function makeProgress(mode: 'bar' | 'lines' | 'none', total: number, initialDone: number, initialFailed: number, stream: NodeJS.WriteStream, costOf: (index: number) => number, remainingCost: number): Progress {
+  const started = performance.now();
+  let costDone = 0;
+  const eta = (): number => {
+    const elapsed = (performance.now() - started) / 1000;
+    // Cost-weighted: largest points run first, so a count-based estimate would be far too pessimistic.
+    return costDone > 0 ? (elapsed * (remainingCost - costDone)) / costDone : NaN;
+  };
+  if (mode === 'none') {
+    return { record: (r) => void (costDone += costOf(r.index)), stop: () => {} };
+  }
+  if (mode === 'lines') {
+    const width = String(total).length;
+    return {
+      record(r, done, failed) {
+        costDone += costOf(r.index);
+        const head = `[${String(done + failed).padStart(width)}/${total}] #${r.index} ${formatParams(r.params)}`;
+        const tail =
+          r.status === 'done'
+            ? `done E0=${r.result!.energies[0].toPrecision(10)} products=${r.iterations}${r.warm_start ? ' warm' : ''} ${r.seconds.toFixed(2)}s`
+            : `FAILED ${r.error}`;
+        stream.write(`${head} ${tail}  (eta ${formatDuration(eta())})\n`);
+      },
+      stop() {},
+    };
+  }
+  const bar = new cliProgress.SingleBar(
+    {
+      stream,
+      format: ' {bar} {value}/{total} points | {failed} failed | elapsed {elapsedText} | eta {etaText}',
+      hideCursor: true,
+      clearOnComplete: false,
+      fps: 5,
+    },
+    cliProgress.Presets.shades_classic,
+  );
+  bar.start(total, initialDone + initialFailed, { failed: initialFailed, elapsedText: '0s', etaText: '?' });
+  const timer = setInterval(() => bar.update({ elapsedText: formatDuration((performance.now() - started) / 1000) }), 1000);
+  timer.unref();
+  return {
+    record(r, done, failed) {
+      costDone += costOf(r.index);
+      bar.update(done + failed, { failed, elapsedText: formatDuration((performance.now() - started) / 1000), etaText: formatDuration(eta()) });
+    },
+    stop() {
+      clearInterval(timer);
+      bar.stop();
+    },
+  };
+}
+
+// ---------------------------------------------------------------------------------------------
+// The scan
+
+export interface ScanOptions {
+  specPath: string;
+  overrides?: string[];
+  /** Run folder; default runs/<spec name>-<identity prefix>, so the same command resumes. */
+  out?: string;
+  workers?: number;
+  retryFailed?: boolean;
+  warmStart?: boolean;
+  maxMemory?: number;
+  progress?: 'auto' | 'bar' | 'lines' | 'none';
+  /** Where progress and messages go (default stderr). */
+  stream?: NodeJS.WriteStream;
+  /** Catch SIGINT/SIGTERM: stop handing out work, keep every finished record, print how to resume. */
+  handleSignals?: boolean;
+  /** Restricts the scan to these point indices (shards); default all. */
+  only?: (plan: ScanPlan, costs: number[]) => Set<number>;
+  /** Extra manifest fields for a new run folder (shards). */
+  manifestFields?: Record<string, unknown>;
+}
+
+export interface ScanOutcome {
+  dir: string;
+  total: number;
+  done: number;
+  failed: number;
+  pending: number;
+  /** Points solved in this session. */
+  ran: number;
+  seconds: number;
+  interrupted: boolean;
+  resumeCommand: string;
+}
+
+export function defaultRunDir(specPath: string, identity: string): string {
+  const base = path.basename(specPath).replace(/\.(toml|json)$/i, '');
+  return path.join('runs', `${base}-${identity.slice(0, 8)}`);
+}
+
+function shellQuote(word: string): string {
+  return /^[A-Za-z0-9_./=:,@%+-]+$/.test(word) ? word : `'${word.replace(/'/g, `'\\''`)}'`;
+}
+
+export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
+  const started = performance.now();
+  const stream = options.stream ?? process.stderr;
+  const say = (line: string): void => {
+    if (options.progress !== 'none') stream.write(line + '\n');
+  };
+  const overrides = options.overrides ?? [];
+  const { raw, spec } = loadSpec(options.specPath, overrides);
+  if (!spec.extra.scan) throw new InputError(`${options.specPath} has no [scan] section; add [[scan.axis]] entries, or use \`rungchain solve\``);
+  const plan = expandScan(raw, spec);
+  const maxMemory = options.maxMemory ?? defaultMemoryLimit();
+  const sizes = sizeScan(plan, maxMemory);
+  const costs = sizes.plans.map(pointCost);
+  const dir = options.out ?? defaultRunDir(options.specPath, plan.identity);
+  const resumeCommand = ['rungchain', 'scan', options.specPath, ...overrides.flatMap((o) => ['--set', o]), '--out', dir].map(shellQuote).join(' ');
+
+  const writer = RunWriter.open(dir, {
+    kind: 'scan',
+    identity: plan.identity,
+    version: rungchainVersion(),
+    mismatchHint: `choose another --out, or delete ${dir} to start over`,
+    fields: {
+      spec_path: options.specPath,
+      overrides,
+      spec: raw,
+      axes: plan.section.axes,
+      zip: plan.section.zip,
+      points: plan.points.length,
+      ...options.manifestFields,
+    },
+  });
+
+  let pool: Piscina | null = null;
+  const signalHandlers: [NodeJS.Signals, () => void][] = [];
+  try {
+    if (writer.cutBytes > 0) say(`dropped a torn last record (${writer.cutBytes} bytes, a write cut short); that point runs again`);
+    const selected = options.only ? options.only(plan, costs) : new Set(plan.points.map((p) => p.index));
+    const latest = latestRecords(writer.existing);
+    let done = 0;
+    let failed = 0;
+    const pending = new Set<number>();
+    for (const index of selected) {
+      const r = latest.get(index);
+      if (r?.status === 'done') done++;
+      else if (r?.status === 'failed' && !options.retryFailed) failed++;
+      else pending.add(index);
+    }
+    const total = selected.size;
+    const outcome = (ran: number, interrupted: boolean): ScanOutcome => ({
+      dir,
+      total,
+      done,
+      failed,
+      pending: total - done - failed,
+      ran,
+      seconds: (performance.now() - started) / 1000,
+      interrupted,
+      resumeCommand,
+    });
+    if (pending.size === 0) {
+      say(`nothing to do in ${dir}: ${done} done, ${failed} failed of ${total}${failed > 0 ? ' (rerun failed points with --retry-failed)' : ''}`);
+      return outcome(0, false);
+    }
+    if (done + failed > 0) say(`resuming ${dir}: ${done} done, ${failed} failed, ${pending.size} to run`);
+
+    const workers = Math.max(1, Math.min(options.workers ?? defaultWorkerCount(), pending.size));
+    const queue = planTasks(plan, pending, costs, workers);
+    const remainingCost = [...pending].reduce((s, i) => s + costs[i], 0);
+    const mode = options.progress === undefined || options.progress === 'auto' ? (stream.isTTY ? 'bar' : 'lines') : options.progress;
+    const progress = makeProgress(mode, total, done, failed, stream, (i) => costs[i], remainingCost);
+    let ran = 0;
+
+    const write = (record: ScanRecord): void => {
+      if (!selected.has(record.index)) return;
+      writer.append(record as unknown as Record<string, unknown>);
+      ran++;
+      if (record.status === 'done') done++;
+      else failed++;
+      progress.record(record, done, failed, total);
+    };
+
+    pool = createPointPool({ workers });
+    let stopping = false;
+    const activePool = pool;
+    await new Promise<void>((resolve) => {
+      let inflight = 0;
+      const pump = (): void => {
+        while (!stopping && inflight < workers && queue.length > 0) start(queue.shift()!);
+        if (inflight === 0) resolve();
+      };
+      const start = (task: PlannedTask): void => {
+        inflight++;
+        const { port1, port2 } = new MessageChannel();
+        const reported = new Set<number>();
+        port1.on('message', (message: TaskMessage) => {
+          if (message.kind === 'record' && !reported.has(message.record.index)) {
+            reported.add(message.record.index);
+            write(message.record);
+          }
+        });
+        const settle = async (error: unknown): Promise<void> => {
+          // Records travel on their own port; let every one posted before the end arrive.
+          const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
+          if (error) await sleep(100);
+          else for (let waited = 0; reported.size < task.points.length && waited < 5000; waited++) await sleep(1);
+          port1.close();
+          inflight--;
+          if (error && !stopping) {
+            const left = task.points.filter((p) => !reported.has(p.index));
+            if (left.length > 0) {
+              // Points run in order, so the first unreported one is the point the worker died on.
+              const [dead, ...rest] = left;
+              const reason = error instanceof Error ? error.message : String(error);
+              write({
+                index: dead.index,
+                params: dead.params,
+                status: 'failed',
+                error: `the worker stopped while solving this point (${reason}); out of memory is the usual cause`,
+                iterations: 0,
+                seconds: 0,
+                warm_start: false,
+                overlap_previous: null,
+                worker: -1,
+                finished: new Date().toISOString(),
+              });
+              if (rest.length > 0) queue.unshift({ points: rest, cost: rest.reduce((s, p) => s + costs[p.index], 0) });
+            }
+          }
+          pump();
+        };
+        activePool
+          .run({ points: task.points.map((p) => ({ index: p.index, params: p.params, raw: p.raw })), maxMemory, warmStart: options.warmStart !== false, port: port2 }, { transferList: [port2] })
+          .then(
+            () => settle(null),
+            (e: unknown) => settle(e),
+          );
+      };
+      if (options.handleSignals) {
+        for (const signal of ['SIGINT', 'SIGTERM'] as NodeJS.Signals[]) {
+          const handler = (): void => {
+            if (stopping) return;
+            stopping = true;
+            // Records are written synchronously between messages, so none is ever half written;
+            // points still being solved are simply pending on resume.
+            void activePool.destroy();
+          };
+          process.on(signal, handler);
+          signalHandlers.push([signal, handler]);
+        }
+      }
+      pump();
+    });
+    progress.stop();
+    const result = outcome(ran, stopping);
+    if (stopping) {
+      say(`interrupted: ${result.done} done, ${result.failed} failed, ${result.pending} pending of ${total}; every finished point is saved in ${dir}`);
+      say(`resume with: ${resumeCommand}`);
+    } else {
+      say(`scan finished: ${result.done} done, ${result.failed} failed of ${total} (${ran} solved now, ${result.seconds.toFixed(1)} s); run folder ${dir}`);
+      if (result.failed > 0) say(`failed points keep their reason (rungchain summary ${shellQuote(dir)}); rerun them with --retry-failed`);
+      say(`results: rungchain summary ${shellQuote(dir)}  (--csv, --json, --long)`);
+    }
+    return result;
+  } finally {
+    for (const [signal, handler] of signalHandlers) process.off(signal, handler);
+    if (pool) await pool.destroy().catch(() => undefined);
+    writer.close();
+  }
+}

@@ -1,0 +1,140 @@
+// The work of one scan task, run inside a worker thread: a run of neighbouring points on one
+// line, solved in order, each starting Lanczos from the previous ground state when the basis is
+// the same. Every finished point is posted at once on the task's port, so the main thread writes
+// it to disk before the next point starts; a worker that dies loses only the point it was on.
+
+import type { MessagePort } from 'node:worker_threads';
+import { threadId } from 'node:worker_threads';
+import { isRungchainError } from './errors.js';
+import { planPoint, solvePoint, type PointRecord } from './point.js';
+import { validateSpec, type Spec } from './spec.js';
+import type { ScanParams } from './scan.js';
+
+export interface TaskPoint {
+  index: number;
+  params: ScanParams;
+  raw: Record<string, unknown>;
+}
+
+export interface ScanTask {
+  points: TaskPoint[];
+  maxMemory: number;
+  warmStart: boolean;
+  port: MessagePort;
+}
+
+/** One record per point, as written to records.msgpack. */
+export interface ScanRecord {
+  index: number;
+  params: ScanParams;
+  status: 'done' | 'failed';
+  /** Why a point failed: the error's class and message. */
+  error?: string;
+  result?: PointRecord;
+  /** Matrix-vector products used (0 when failed before solving). */
+  iterations: number;
+  /** Wall time of this point, seconds. */
+  seconds: number;
+  /** Whether Lanczos started from the previous point's ground state. */
+  warm_start: boolean;
+  /**
+   * Fidelity between this ground state and the previous point's on the same line, when both
+   * live in the same basis: |<psi_prev|psi>|; for degenerate ground spaces P (g1 vectors) and
+   * Q (g2 vectors), sqrt(sum_ab |<p_a|q_b>|^2 / max(g1, g2)), which is 1 exactly when the spaces
+   * coincide. null for the first point of a run of points or after a change of basis.
+   */
+  overlap_previous: number | null;
+  /** Worker thread id that solved it (0: the main thread). */
+  worker: number;
+  finished: string;
+}
+
+export type TaskMessage = { kind: 'start'; index: number } | { kind: 'record'; record: ScanRecord };
+
+/** Test hook: a worker exits abruptly (as on running out of memory) when it reaches this point index. */
+const EXIT_AT = process.env.RUNGCHAIN_TEST_WORKER_EXIT_AT;
+
+/** A key telling whether two points share a basis (same states in the same order and arithmetic). */
+function basisKey(spec: Spec, isComplex: boolean, dimension: number): string {
+  const p = spec.particles;
+  return [p.kind, spec.chain.sites, spec.levels.count, p.number, p.maxPerSite, isComplex ? 'c' : 'r', dimension].join(':');
+}
+
+/** Square root of the mean squared overlap between two sets of orthonormal vectors (see ScanRecord). */
+export function groundSpaceOverlap(previous: Float64Array[], current: Float64Array[], isComplex: boolean): number {
+  let sum = 0;
+  for (const p of previous) {
+    for (const q of current) {
+      let re = 0;
+      let im = 0;
+      if (isComplex) {
+        for (let t = 0; t < p.length; t += 2) {
+          re += p[t] * q[t] + p[t + 1] * q[t + 1];
+          im += p[t] * q[t + 1] - p[t + 1] * q[t];
+        }
+      } else {
+        for (let t = 0; t < p.length; t++) re += p[t] * q[t];
+      }
+      sum += re * re + im * im;
+    }
+  }
+  return Math.sqrt(sum / Math.max(previous.length, current.length));
+}
+
+function errorText(e: unknown): string {
+  if (isRungchainError(e)) return `${e.name}: ${e.message}`;
+  if (e instanceof RangeError && /allocation failed|Invalid typed array length|Array buffer/i.test(e.message)) {
+    return `out of memory: ${e.message}`;
+  }
+  return e instanceof Error ? `${e.name}: ${e.message}` : String(e);
+}
+
+export function runScanTask(task: ScanTask, post: (message: TaskMessage) => void = (m) => task.port.postMessage(m)): number {
+  let previous: { key: string; states: Float64Array[] } | null = null;
+  let solved = 0;
+  for (const point of task.points) {
+    post({ kind: 'start', index: point.index });
+    if (EXIT_AT !== undefined && Number(EXIT_AT) === point.index) process.exit(70);
+    const started = performance.now();
+    let record: ScanRecord;
+    try {
+      const spec = validateSpec(point.raw);
+      const plan = planPoint(spec);
+      const key = basisKey(spec, plan.model.isComplex, plan.dimension);
+      const warm = task.warmStart && previous !== null && previous.key === key;
+      const solvedPoint = solvePoint(spec, { maxMemory: task.maxMemory, initial: warm ? previous!.states[0] : undefined });
+      const overlap = previous !== null && previous.key === key ? groundSpaceOverlap(previous.states, solvedPoint.groundStates, plan.model.isComplex) : null;
+      previous = { key, states: solvedPoint.groundStates };
+      record = {
+        index: point.index,
+        params: point.params,
+        status: 'done',
+        result: solvedPoint.record,
+        iterations: solvedPoint.record.solver.iterations,
+        seconds: (performance.now() - started) / 1000,
+        // The dense path ignores the start vector, so only Lanczos counts as warm.
+        warm_start: warm && solvedPoint.record.solver.method === 'lanczos',
+        overlap_previous: overlap,
+        worker: threadId,
+        finished: new Date().toISOString(),
+      };
+    } catch (e) {
+      previous = null;
+      record = {
+        index: point.index,
+        params: point.params,
+        status: 'failed',
+        error: errorText(e),
+        iterations: 0,
+        seconds: (performance.now() - started) / 1000,
+        warm_start: false,
+        overlap_previous: null,
+        worker: threadId,
+        finished: new Date().toISOString(),
+      };
+    }
+    post({ kind: 'record', record });
+    solved++;
+  }
+  return solved;
+}
