@@ -2,6 +2,9 @@
 
 import { ResourceError } from './errors.js';
 import type { Model } from './model.js';
+import { FockBasis, fockDimension } from './basis/fock.js';
+
+export { FockBasis, FockCursor, fockDimension } from './basis/fock.js';
 
 /**
  * Pinned molecules, one per site: a state is the level n_i of each site, indexed in mixed radix
@@ -16,7 +19,8 @@ export interface PinnedBasis {
   readonly strides: Int32Array;
 }
 
-export type Basis = PinnedBasis;
+/** Itinerant kinds (hardcore, boson, fermion) use the fixed-number Fock basis of src/basis/fock.ts. */
+export type Basis = PinnedBasis | FockBasis;
 
 /** Largest dimension any basis may have: typed arrays are indexed by 32-bit integers here. */
 export const MAX_DIMENSION = 2 ** 31 - 1;
@@ -27,6 +31,7 @@ export function pinnedDimension(sites: number, levels: number): number {
 
 /** Dimension of the model's basis without building it (for `check` and memory estimates). */
 export function basisDimension(model: Model): number {
+  if (model.kind !== 'pinned') return fockDimension(model.kind, model.sites, model.levels, model.particleNumber, model.maxPerSite);
   return pinnedDimension(model.sites, model.levels);
 }
 
@@ -35,6 +40,7 @@ export function buildBasis(model: Model): Basis {
   if (dim > MAX_DIMENSION) {
     throw new ResourceError(`basis dimension ${dim.toExponential(3)} exceeds the largest supported dimension ${MAX_DIMENSION}`);
   }
+  if (model.kind !== 'pinned') return new FockBasis(model.kind, model.sites, model.levels, model.particleNumber, model.maxPerSite);
   const strides = new Int32Array(model.sites);
   let s = 1;
   for (let i = 0; i < model.sites; i++) {

@@ -5,6 +5,8 @@ import { basisDimension, buildBasis } from './basis.js';
 import { buildModel, type Model } from './model.js';
 import { buildOperator, operatorStorage } from './operator.js';
 import { basisProbabilities, pinnedObservables, type Observables } from './observables.js';
+import { itinerantObservables } from './observables/itinerant.js';
+import { planFockOperator } from './operator/fock.js';
 import { cutsFor, pinnedEntanglement } from './entanglement.js';
 import { assertWithinMemory, defaultMemoryLimit, estimateSolveMemory, type MemoryEstimate } from './resources.js';
 import { defaultKrylovSize, lowestEigenpairs, DEFAULT_DENSE_THRESHOLD, type EigenResult } from './solver.js';
@@ -49,15 +51,17 @@ export function planPoint(spec: Spec): PointPlan {
   const model = buildModel(spec);
   const dimension = basisDimension(model);
   const states = Math.min(spec.solve.states, dimension);
+  // Itinerant kinds store their matrix; its size is known in closed form before building.
+  const fock = model.kind === 'pinned' ? null : planFockOperator(model, dimension);
   const memory = estimateSolveMemory({
     dim: dimension,
     isComplex: model.isComplex,
-    operatorBytes: dimension * 8, // the stored diagonal
+    operatorBytes: fock ? fock.bytes : dimension * 8, // the stored Fock matrix, or the pinned diagonal
     krylovVectors: spec.solve.krylov ?? defaultKrylovSize(states, dimension),
     states,
     denseThreshold: DEFAULT_DENSE_THRESHOLD,
   });
-  return { model, dimension, storage: 'on-the-fly', nonzeros: null, memory };
+  return { model, dimension, storage: fock ? 'stored' : 'on-the-fly', nonzeros: fock ? fock.nonzeros : null, memory };
 }
 
 export interface SolvedPoint {
@@ -85,9 +89,12 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     throwOnFailure: false,
   });
   const ground = eigen.vectors.slice(0, eigen.degeneracy);
-  const observables = pinnedObservables(basis, basisProbabilities(ground, basis.dim, op.isComplex));
+  const observables =
+    basis.kind === 'pinned'
+      ? pinnedObservables(basis, basisProbabilities(ground, basis.dim, op.isComplex))
+      : itinerantObservables(basis, ground, op.isComplex, plan.model.chainPeriodic);
   // Entanglement needs the state itself, so it is computed here; solve.entanglement keeps it cheap by default.
-  const cuts = cutsFor(spec.solve.entanglement, basis.sites, basis.levels);
+  const cuts = basis.kind === 'pinned' ? cutsFor(spec.solve.entanglement, basis.sites, basis.levels) : [];
   if (cuts.length > 0) observables.entanglement = pinnedEntanglement(ground, basis.sites, basis.levels, op.isComplex, cuts);
   const energies = Array.from(eigen.values);
   const record: PointRecord = {
