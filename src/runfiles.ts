@@ -42,7 +42,8 @@ const HEADER_BYTES = 12;
 /** A length beyond this is damage, not a record (keeps a flipped length bit from asking for gigabytes). */
 const MAX_RECORD_BYTES = 256 * 1024 * 1024;
 
-const packr = new Packr({ useRecords: false, moreTypes: false });
+// variableMapSize: the smallest map header (fixmap), as most MessagePack writers do.
+const packr = new Packr({ useRecords: false, moreTypes: false, variableMapSize: true });
 const unpackr = new Unpackr({ useRecords: false, mapsAsObjects: true });
 
 export interface RunManifest {
