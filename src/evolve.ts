@@ -1,0 +1,681 @@
+// Quench dynamics: the [evolve] section, and psi(t) = exp(-i H t) psi(0) recorded at chosen times.
+//
+//   key                    default        meaning
+//   ---------------------  -------------  ---------------------------------------------------------
+//   evolve.initial         every site in level 0
+//                          [n_0, n_1, ...]                    one level per site (pinned)
+//                          { levels = [...], pulses = [...] } product of per-site superpositions:
+//                              each pulse { between = [a, b], area, phase = 0, sites = all } is a
+//                              resonant Rabi rotation of the given area (pi: full transfer)
+//                          { ground_state = { "key.path" = value, ... } }  ground state of the spec
+//                              with those keys changed (a quench); ramped keys start at their `from`
+//   evolve.times           required       [t...] ascending, or { from = 0, to, steps } (steps+1 times)
+//   evolve.time_unit       "model"        "model" (hbar/energy unit) or "ms" (needs [units])
+//   evolve.tolerance       1e-8           bound on the 2-norm error of the state at every recorded time
+//   evolve.krylov          30             Krylov subspace size m (memory: m+1 state vectors)
+//   evolve.ramp            none           { key, from, to, duration, start = 0, steps = 100 } or a list:
+//                                          the key moves linearly from `from` to `to` over
+//                                          [start, start+duration] in `steps` constant pieces (each
+//                                          piece uses the value at its midpoint); before it the key
+//                                          is `from`, after it `to`. Times in time_unit.
+//
+// The Hamiltonian is piecewise constant; within a piece the state is propagated by Krylov steps
+// (src/evolve/krylov.ts) whose lengths follow from the tolerance. At each recorded time the
+// observables of MODEL.md are taken from the state, with the norm, the return probability
+// |<psi(0)|psi(t)>|^2, the energy <psi|H(t)|psi> and, with a ramp, the weight of the state in the
+// ground space of the instantaneous H(t) (keys at their exact linear value at t, not the piece value).
+
+import { basisDimension, buildBasis, type Basis } from './basis.js';
+import { ConvergenceError, SpecError, UnsupportedError } from './errors.js';
+import { buildModel, type Model } from './model.js';
+import { buildOperator, type HermitianOperator } from './operator.js';
+import { basisProbabilities, pinnedObservables, type Observables } from './observables.js';
+import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES, type MemoryEstimate } from './resources.js';
+import { defaultKrylovSize, lowestEigenpairs } from './solver.js';
+import { applyOverride, registerSection, validateSpec, type Spec } from './spec.js';
+import { labUnits } from './units.js';
+import { complexDot, complexView, expectation, KrylovPropagator, toComplex, vectorNorm, type ComplexOperator } from './evolve/krylov.js';
+import { productState, siteAmplitudes, type Pulse } from './evolve/initial.js';
+
+// ---------------------------------------------------------------------------------------------
+// The [evolve] section
+
+export interface Ramp {
+  /** Where this ramp sits in the spec, for error messages: evolve.ramp or evolve.ramp[k]. */
+  path: string;
+  key: string;
+  from: number;
+  to: number;
+  start: number;
+  duration: number;
+  steps: number;
+}
+
+export type InitialState =
+  | { kind: 'levels'; levels: number[] | null; pulses: Pulse[] }
+  | { kind: 'ground_state'; changes: [string, unknown][] };
+
+export interface EvolveSection {
+  initial: InitialState;
+  /** Recorded times in `timeUnit`, strictly ascending, >= 0. */
+  times: number[];
+  timeUnit: 'model' | 'ms';
+  tolerance: number;
+  krylov: number;
+  ramps: Ramp[];
+}
+
+type Table = Record<string, unknown>;
+
+function isTable(value: unknown): value is Table {
+  return typeof value === 'object' && value !== null && !Array.isArray(value) && !(value instanceof Date);
+}
+
+function describe(value: unknown): string {
+  if (value === undefined) return 'nothing';
+  if (value === null) return 'null';
+  if (typeof value === 'string') return JSON.stringify(value);
+  if (Array.isArray(value)) return `a list of ${value.length}`;
+  if (isTable(value)) return 'a table';
+  return String(value);
+}
+
+function onlyKeys(table: Table, path: string, known: readonly string[]): void {
+  for (const key of Object.keys(table)) {
+    if (!known.includes(key)) throw new SpecError(`${path}.${key}`, `unknown key (known: ${known.join(', ')})`);
+  }
+}
+
+function tableAt(value: unknown, path: string): Table {
+  if (!isTable(value)) throw new SpecError(path, `expected a table, got ${describe(value)}`);
+  return value;
+}
+
+function finite(value: unknown, path: string): number {
+  if (typeof value !== 'number' || !Number.isFinite(value)) throw new SpecError(path, `expected a finite number, got ${describe(value)}`);
+  return value;
+}
+
+function positive(value: unknown, path: string): number {
+  const x = finite(value, path);
+  if (x <= 0) throw new SpecError(path, `expected a positive number, got ${x}`);
+  return x;
+}
+
+function nonNegative(value: unknown, path: string): number {
+  const x = finite(value, path);
+  if (x < 0) throw new SpecError(path, `expected a number >= 0, got ${x}`);
+  return x;
+}
+
+function integerAtLeast(value: unknown, path: string, least: number): number {
+  if (typeof value !== 'number' || !Number.isSafeInteger(value) || value < least) {
+    throw new SpecError(path, `expected an integer >= ${least}, got ${describe(value)}`);
+  }
+  return value;
+}
+
+function integerList(value: unknown, path: string): number[] {
+  if (!Array.isArray(value)) throw new SpecError(path, `expected a list of integers, got ${describe(value)}`);
+  return value.map((v, i) => integerAtLeast(v, `${path}[${i}]`, 0));
+}
+
+function validateInitial(value: unknown, path: string): InitialState {
+  if (value === undefined) return { kind: 'levels', levels: null, pulses: [] };
+  if (value === 'ground_state') return { kind: 'ground_state', changes: [] };
+  if (Array.isArray(value)) return { kind: 'levels', levels: integerList(value, path), pulses: [] };
+  if (!isTable(value)) {
+    throw new SpecError(path, `expected a list of levels (one per site), a table with levels/pulses or ground_state, or "ground_state"; got ${describe(value)}`);
+  }
+  if (value.ground_state !== undefined) {
+    onlyKeys(value, path, ['ground_state']);
+    const changes = tableAt(value.ground_state, `${path}.ground_state`);
+    return { kind: 'ground_state', changes: Object.entries(changes) };
+  }
+  onlyKeys(value, path, ['levels', 'pulses', 'ground_state']);
+  const levels = value.levels === undefined ? null : integerList(value.levels, `${path}.levels`);
+  const pulses: Pulse[] = [];
+  if (value.pulses !== undefined) {
+    const list = Array.isArray(value.pulses) ? value.pulses : [value.pulses];
+    list.forEach((p, k) => {
+      const at = Array.isArray(value.pulses) ? `${path}.pulses[${k}]` : `${path}.pulses`;
+      const t = tableAt(p, at);
+      onlyKeys(t, at, ['between', 'area', 'phase', 'sites']);
+      const between = integerList(t.between, `${at}.between`);
+      if (between.length !== 2 || between[0] === between[1]) {
+        throw new SpecError(`${at}.between`, `expected two different levels [a, b], got ${JSON.stringify(t.between)}`);
+      }
+      if (t.area === undefined) throw new SpecError(`${at}.area`, 'required key is missing (pi for a full transfer, pi/2 for an equal superposition)');
+      pulses.push({
+        between: [between[0], between[1]],
+        area: finite(t.area, `${at}.area`),
+        phase: t.phase === undefined ? 0 : finite(t.phase, `${at}.phase`),
+        sites: t.sites === undefined ? null : integerList(t.sites, `${at}.sites`),
+      });
+    });
+  }
+  return { kind: 'levels', levels, pulses };
+}
+
+function validateTimes(value: unknown, path: string): number[] {
+  if (value === undefined) throw new SpecError(path, 'required key is missing (a list of times, or { from, to, steps })');
+  if (Array.isArray(value)) {
+    if (value.length === 0) throw new SpecError(path, 'expected at least one time');
+    const times = value.map((v, i) => nonNegative(v, `${path}[${i}]`));
+    for (let i = 1; i < times.length; i++) {
+      if (!(times[i] > times[i - 1])) throw new SpecError(`${path}[${i}]`, `times must increase strictly; ${times[i]} follows ${times[i - 1]}`);
+    }
+    return times;
+  }
+  const t = tableAt(value, path);
+  onlyKeys(t, path, ['from', 'to', 'steps']);
+  const from = t.from === undefined ? 0 : nonNegative(t.from, `${path}.from`);
+  if (t.to === undefined) throw new SpecError(`${path}.to`, 'required key is missing');
+  const to = nonNegative(t.to, `${path}.to`);
+  if (!(to > from)) throw new SpecError(`${path}.to`, `must exceed from = ${from}, got ${to}`);
+  if (t.steps === undefined) throw new SpecError(`${path}.steps`, 'required key is missing (the number of intervals; steps+1 times are recorded)');
+  const steps = integerAtLeast(t.steps, `${path}.steps`, 1);
+  return Array.from({ length: steps + 1 }, (_, k) => (k === steps ? to : from + ((to - from) * k) / steps));
+}
+
+function validateRamp(value: unknown, path: string): Ramp {
+  const t = tableAt(value, path);
+  onlyKeys(t, path, ['key', 'from', 'to', 'duration', 'start', 'steps']);
+  if (typeof t.key !== 'string' || t.key.trim() === '') {
+    throw new SpecError(`${path}.key`, `expected a spec key path such as "exchange.strength", got ${describe(t.key)}`);
+  }
+  const key = t.key.trim();
+  if (key.startsWith('evolve.') || key === 'evolve' || key.startsWith('scan.')) {
+    throw new SpecError(`${path}.key`, `a ramp moves a model key, not ${key}`);
+  }
+  for (const required of ['from', 'to', 'duration']) {
+    if (t[required] === undefined) throw new SpecError(`${path}.${required}`, 'required key is missing');
+  }
+  return {
+    path,
+    key,
+    from: finite(t.from, `${path}.from`),
+    to: finite(t.to, `${path}.to`),
+    duration: positive(t.duration, `${path}.duration`),
+    start: t.start === undefined ? 0 : nonNegative(t.start, `${path}.start`),
+    steps: t.steps === undefined ? 100 : integerAtLeast(t.steps, `${path}.steps`, 1),
+  };
+}
+
+export function validateEvolveSection(value: unknown, keyPath: string): EvolveSection {
+  const t = tableAt(value, keyPath);
+  onlyKeys(t, keyPath, ['initial', 'times', 'time_unit', 'tolerance', 'krylov', 'ramp']);
+  const timeUnit = t.time_unit === undefined ? 'model' : t.time_unit;
+  if (timeUnit !== 'model' && timeUnit !== 'ms') {
+    throw new SpecError(`${keyPath}.time_unit`, `expected "model" or "ms", got ${describe(timeUnit)}`);
+  }
+  const tolerance = t.tolerance === undefined ? 1e-8 : positive(t.tolerance, `${keyPath}.tolerance`);
+  // Below ~1e-13 the bound is lost in the rounding of the state itself.
+  if (tolerance < 1e-13 || tolerance >= 1) {
+    throw new SpecError(`${keyPath}.tolerance`, `expected a value between 1e-13 and 1, got ${tolerance}`);
+  }
+  const krylov = t.krylov === undefined ? 30 : integerAtLeast(t.krylov, `${keyPath}.krylov`, 2);
+  if (krylov > 500) throw new SpecError(`${keyPath}.krylov`, `at most 500 (memory grows with it), got ${krylov}`);
+  let ramps: Ramp[] = [];
+  if (t.ramp !== undefined) {
+    ramps = Array.isArray(t.ramp)
+      ? t.ramp.map((r, k) => validateRamp(r, `${keyPath}.ramp[${k}]`))
+      : [validateRamp(t.ramp, `${keyPath}.ramp`)];
+  }
+  return {
+    initial: validateInitial(t.initial, `${keyPath}.initial`),
+    times: validateTimes(t.times, `${keyPath}.times`),
+    timeUnit,
+    tolerance,
+    krylov,
+    ramps,
+  };
+}
+
+/** Checks the parts of [evolve] that depend on the rest of the spec. */
+export function resolveEvolveSection(spec: Spec): void {
+  const section = spec.extra.evolve as EvolveSection;
+  const L = spec.chain.sites;
+  const N = spec.levels.count;
+  if (section.timeUnit === 'ms' && spec.extra.units === undefined) {
+    throw new SpecError('evolve.time_unit', '"ms" needs a [units] section to know the energy scale');
+  }
+  const initial = section.initial;
+  if (initial.kind === 'levels') {
+    if (initial.levels !== null) {
+      const path = 'evolve.initial' + (initial.pulses.length > 0 ? '.levels' : '');
+      if (initial.levels.length !== L) throw new SpecError(path, `expected one level per site (${L}), got ${initial.levels.length}`);
+      initial.levels.forEach((n, i) => {
+        if (n >= N) throw new SpecError(`${path}[${i}]`, `level ${n} does not exist: levels.count is ${N}`);
+      });
+    }
+    initial.pulses.forEach((p, k) => {
+      const at = `evolve.initial.pulses[${k}]`;
+      p.between.forEach((n, j) => {
+        if (n >= N) throw new SpecError(`${at}.between[${j}]`, `level ${n} does not exist: levels.count is ${N}`);
+      });
+      p.sites?.forEach((i, j) => {
+        if (i >= L) throw new SpecError(`${at}.sites[${j}]`, `site ${i} does not exist: chain.sites is ${L}`);
+      });
+    });
+  }
+}
+
+registerSection('evolve', validateEvolveSection, (spec) => resolveEvolveSection(spec));
+
+// ---------------------------------------------------------------------------------------------
+// Planning: everything sized and checked before anything large is allocated
+
+/** A stretch of time with one constant Hamiltonian. */
+export interface Piece {
+  start: number;
+  end: number;
+  /** Ramped key values in force on this piece (midpoint values). */
+  values: number[];
+}
+
+export interface EvolutionPlan {
+  raw: Record<string, unknown>;
+  spec: Spec;
+  section: EvolveSection;
+  model: Model;
+  dimension: number;
+  /** Recorded times in model units. */
+  times: number[];
+  /** Recorded times in ms when the spec has [units]. */
+  timesMs: number[] | null;
+  /** Ramps with start and duration in model units. */
+  ramps: Ramp[];
+  pieces: Piece[];
+  /** The spec whose ground state is the initial state (initial = ground_state), else null. */
+  initialSpec: Spec | null;
+  memory: MemoryEstimate;
+}
+
+/** Spec of the same model with the ramped keys (and any further changes) set; `path` names the source in errors. */
+function specWith(
+  raw: Record<string, unknown>,
+  base: Spec,
+  assignments: [string, unknown][],
+  blame: (key: string, index: number) => string,
+): Spec {
+  const clone = structuredClone(raw);
+  delete clone.evolve;
+  // Keep one energy unit through a ramp of a [units] key, or model times would change meaning.
+  const units = labUnits(base);
+  if (units !== null && isTable(clone.units)) clone.units.energy_unit_hz = units.energyUnitHz;
+  assignments.forEach(([key, value], index) => {
+    try {
+      applyOverride(clone, `${key}=${JSON.stringify(value)}`);
+    } catch (e) {
+      if (e instanceof SpecError || e instanceof Error) throw new SpecError(blame(key, index), `cannot set ${key}: ${e.message}`);
+      throw e;
+    }
+  });
+  try {
+    return validateSpec(clone);
+  } catch (e) {
+    if (!(e instanceof SpecError) || assignments.length === 0) throw e;
+    // Blame the assignment the error is about (levels.tunnelling for levels.tunnelling[1]), else the first.
+    const culprit = Math.max(
+      0,
+      assignments.findIndex(([key]) => e.keyPath === key || e.keyPath.startsWith(`${key}[`) || e.keyPath.startsWith(`${key}.`)),
+    );
+    const setting = assignments.map(([k, v]) => `${k} = ${JSON.stringify(v)}`).join(', ');
+    throw new SpecError(blame(assignments[culprit][0], culprit), `with ${setting}: ${e.message}`);
+  }
+}
+
+function rampValue(ramp: Ramp, t: number): number {
+  if (t <= ramp.start) return ramp.from;
+  if (t >= ramp.start + ramp.duration) return ramp.to;
+  return ramp.from + ((ramp.to - ramp.from) * (t - ramp.start)) / ramp.duration;
+}
+
+/** The evolve section of a spec, or a SpecError saying it is needed. */
+export function evolveSection(spec: Spec): EvolveSection {
+  const section = spec.extra.evolve as EvolveSection | undefined;
+  if (section === undefined) throw new SpecError('evolve', 'required section is missing: rungchain evolve needs at least evolve.times');
+  return section;
+}
+
+/** Sizes a trace and checks every key it will change, allocating nothing large. */
+export function planEvolution(raw: Record<string, unknown>, spec: Spec): EvolutionPlan {
+  const section = evolveSection(spec);
+  const model = buildModel(spec);
+  const dimension = basisDimension(model);
+  const units = labUnits(spec);
+  const toModel = section.timeUnit === 'ms' ? (t: number) => t / (units as NonNullable<typeof units>).timeUnitMs : (t: number) => t;
+  const times = section.times.map(toModel);
+  const timesMs = units === null ? null : times.map((t) => t * units.timeUnitMs);
+  const ramps = section.ramps.map((r) => ({ ...r, start: toModel(r.start), duration: toModel(r.duration) }));
+
+  // Every ramped key must take both end values, and keep the basis: check the ends now.
+  for (const ramp of ramps) {
+    for (const end of [ramp.from, ramp.to]) {
+      const s = specWith(raw, spec, [[ramp.key, end]], () => `${ramp.path}.key`);
+      const m = buildModel(s);
+      if (m.kind !== model.kind || basisDimension(m) !== dimension) {
+        throw new SpecError(`${ramp.path}.key`, `${ramp.key} changes the basis (dimension ${dimension} -> ${basisDimension(m)}); a ramp may only move couplings`);
+      }
+    }
+  }
+
+  // The spec whose ground state starts the trace: ramped keys at their start, then the listed changes.
+  let initialSpec: Spec | null = null;
+  if (section.initial.kind === 'ground_state') {
+    const assignments: [string, unknown][] = [...ramps.map((r): [string, unknown] => [r.key, r.from]), ...section.initial.changes];
+    initialSpec = specWith(raw, spec, assignments, (key, index) =>
+      index < ramps.length ? `${ramps[index].path}.from` : `evolve.initial.ground_state.${key}`,
+    );
+    const m = buildModel(initialSpec);
+    if (m.kind !== model.kind || basisDimension(m) !== dimension) {
+      throw new SpecError('evolve.initial.ground_state', `the changed keys change the basis (dimension ${dimension} -> ${basisDimension(m)}); a quench may only change couplings`);
+    }
+  }
+
+  const end = times[times.length - 1];
+  const cuts = new Set<number>([0, end]);
+  for (const ramp of ramps) {
+    for (let k = 0; k <= ramp.steps; k++) {
+      const c = ramp.start + (ramp.duration * k) / ramp.steps;
+      if (c > 0 && c < end) cuts.add(c);
+    }
+  }
+  const sorted = [...cuts].sort((a, b) => a - b);
+  const pieces: Piece[] = [];
+  for (let k = 0; k + 1 < sorted.length; k++) {
+    const [a, b] = [sorted[k], sorted[k + 1]];
+    // Cuts closer than rounding would make empty pieces.
+    if (b - a <= 1e-12 * Math.max(1, end)) continue;
+    const mid = (a + b) / 2;
+    pieces.push({ start: a, end: b, values: ramps.map((r) => rampValue(r, mid)) });
+  }
+
+  const vector = 2 * dimension * 8;
+  const parts: Record<string, number> = {
+    runtime: RUNTIME_BASELINE_BYTES,
+    // The piece's and the instantaneous operator's diagonals, and the real-to-complex adapter's scratch.
+    operator: 2 * dimension * 8 + 4 * dimension * 8,
+    krylov: (Math.min(section.krylov, dimension) + 1) * vector,
+    states: 4 * vector,
+    observables: dimension * 8,
+  };
+  if (ramps.length > 0 || section.initial.kind === 'ground_state') {
+    parts.ground = (defaultKrylovSize(2, dimension) + 3 + 2) * vector;
+  }
+  let totalBytes = 0;
+  for (const v of Object.values(parts)) totalBytes += v;
+  return { raw, spec, section, model, dimension, times, timesMs, ramps, pieces, initialSpec, memory: { totalBytes, parts } };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Running
+
+export interface TraceObservables extends Observables {
+  return_probability: number;
+  energy: number;
+  norm: number;
+  /** Weight of the state in the ground space of H(t); ramps only. */
+  ground_overlap?: number;
+}
+
+export interface EvolutionFrame {
+  index: number;
+  /** Model time. */
+  time: number;
+  observables: TraceObservables;
+  /** Accumulated a posteriori bound on the state error at this time. */
+  error_bound: number;
+  /** Matrix-vector products so far (propagation, energies and ground states). */
+  matvecs: number;
+}
+
+/** Where a resumed trace picks up: the state at `time`, and what the earlier part already used. */
+export interface EvolutionCheckpoint {
+  /** Index of the next frame to record. */
+  nextFrame: number;
+  time: number;
+  psi: Float64Array;
+  psi0: Float64Array;
+  errorBound: number;
+  matvecs: number;
+  steps: number;
+}
+
+export interface EvolveOptions {
+  maxMemory?: number;
+  /** Called for every recorded frame, in order; `state` is psi at that time (do not keep a reference). */
+  onFrame?: (frame: EvolutionFrame, state: Float64Array) => void;
+  /** Called after every Krylov step with how far the trace has come. */
+  onProgress?: (info: { time: number; end: number; matvecs: number }) => void;
+  /** Start from a saved state instead of t = 0. */
+  resume?: EvolutionCheckpoint;
+  /** Called after each recorded frame with what a resume from here needs (cheap: references, not copies). */
+  onCheckpoint?: (checkpoint: EvolutionCheckpoint) => void;
+}
+
+export interface EvolutionResult {
+  times: number[];
+  timesMs: number[] | null;
+  frames: EvolutionFrame[];
+  stats: {
+    dimension: number;
+    krylov: number;
+    tolerance: number;
+    steps: number;
+    matvecs: number;
+    error_bound: number;
+    seconds: number;
+  };
+  /** Things the user should know (a degenerate initial ground state, ...). */
+  notes: string[];
+}
+
+interface BuiltHamiltonian {
+  op: HermitianOperator;
+  complex: ComplexOperator;
+}
+
+/** Probability of `psi` (complex) in the span of orthonormal `vectors` (real or complex). */
+function weightInSpan(vectors: Float64Array[], psi: Float64Array, dim: number): number {
+  let total = 0;
+  for (const g of vectors) {
+    const c = complexDot(toComplex(g, dim), psi);
+    total += c.re * c.re + c.im * c.im;
+  }
+  return total;
+}
+
+function stateObservables(basis: Basis, psi: Float64Array): Observables {
+  if (basis.kind !== 'pinned') throw new UnsupportedError(`time-evolution observables are not available for kind "${basis.kind}" yet`);
+  return pinnedObservables(basis, basisProbabilities([psi], basis.dim, true));
+}
+
+/** The initial state of a plan, normalized, interleaved complex. */
+export function initialState(plan: EvolutionPlan, basis: Basis, notes: string[] = []): Float64Array {
+  const { spec, section } = plan;
+  const initial = section.initial;
+  if (initial.kind === 'levels') {
+    const L = spec.chain.sites;
+    const N = spec.levels.count;
+    const levels = initial.levels ?? new Array<number>(L).fill(0);
+    return productState(
+      basis,
+      levels.map((n, i) => siteAmplitudes(N, n, initial.pulses, i)),
+    );
+  }
+  const groundSpec = plan.initialSpec as Spec;
+  const op = buildOperator(buildModel(groundSpec), basis);
+  const eigen = lowestEigenpairs(op, {
+    states: Math.min(2, basis.dim),
+    tolerance: groundSpec.solve.tolerance,
+    maxMatvecs: groundSpec.solve.maxMatvecs ?? undefined,
+    seed: groundSpec.solve.seed,
+    throwOnFailure: true,
+  });
+  if (eigen.degeneracy > 1) {
+    notes.push(`the initial ground state is ${eigen.degeneracy}-fold degenerate; the trace starts from one vector of that space`);
+  }
+  const psi = toComplex(eigen.vectors[0], basis.dim);
+  const n = vectorNorm(psi);
+  for (let k = 0; k < psi.length; k++) psi[k] /= n;
+  return psi;
+}
+
+/** Runs a planned trace; frames go to `onFrame` as they are recorded and are returned at the end. */
+export function runEvolution(plan: EvolutionPlan, options: EvolveOptions = {}): EvolutionResult {
+  const started = performance.now();
+  assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this time evolution');
+  const { spec, section, times, ramps, pieces } = plan;
+  const basis = buildBasis(plan.model);
+  const dim = basis.dim;
+  const notes: string[] = [];
+  const end = times[times.length - 1];
+  // Errors of successive steps add up (unitary propagation keeps them), so each may use its share;
+  // half the tolerance leaves room for the quadrature of the bound and for rounding.
+  const rate = (0.5 * section.tolerance) / Math.max(end, Number.MIN_VALUE);
+
+  // Hamiltonians by ramp values; a few are kept (the current piece's and the instantaneous one).
+  const hamiltonians = new Map<string, BuiltHamiltonian>();
+  const hamiltonianFor = (values: number[]): BuiltHamiltonian => {
+    const key = JSON.stringify(values);
+    let h = hamiltonians.get(key);
+    if (!h) {
+      const s = ramps.length === 0 ? spec : specWith(plan.raw, spec, ramps.map((r, k) => [r.key, values[k]]), (_key, k) => `${ramps[k].path}.key`);
+      const op = buildOperator(ramps.length === 0 ? plan.model : buildModel(s), basis);
+      h = { op, complex: complexView(op) };
+      if (hamiltonians.size >= 3) hamiltonians.delete(hamiltonians.keys().next().value as string);
+      hamiltonians.set(key, h);
+    }
+    return h;
+  };
+
+  let ground: { key: string; vectors: Float64Array[] } | null = null;
+  let extraMatvecs = 0;
+  const groundSpace = (values: number[], h: BuiltHamiltonian): Float64Array[] => {
+    const key = JSON.stringify(values);
+    if (ground?.key === key) return ground.vectors;
+    const warm = ground?.vectors[0];
+    const eigen = lowestEigenpairs(h.op, {
+      states: Math.min(2, dim),
+      tolerance: spec.solve.tolerance,
+      maxMatvecs: spec.solve.maxMatvecs ?? undefined,
+      seed: spec.solve.seed,
+      initial: warm && warm.length === (h.op.isComplex ? 2 * dim : dim) ? warm : undefined,
+      throwOnFailure: true,
+    });
+    extraMatvecs += eigen.matvecs;
+    ground = { key, vectors: eigen.vectors.slice(0, eigen.degeneracy) };
+    return ground.vectors;
+  };
+
+  const resume = options.resume;
+  const psi0 = resume ? resume.psi0 : initialState(plan, basis, notes);
+  const psi = resume ? Float64Array.from(resume.psi) : Float64Array.from(psi0);
+  let t = resume ? resume.time : 0;
+  let frameIndex = resume ? resume.nextFrame : 0;
+  let errorBound = resume ? resume.errorBound : 0;
+  let steps = resume ? resume.steps : 0;
+  const matvecsBefore = resume ? resume.matvecs : 0;
+  const frames: EvolutionFrame[] = [];
+  const out = new Float64Array(2 * dim);
+  const scratch = new Float64Array(2 * dim);
+  // Products of finished pieces, and of all pieces including the current one.
+  let finishedPieceMatvecs = 0;
+  let propagationMatvecs = 0;
+
+  const record = (time: number, state: Float64Array, bound: number): void => {
+    const values = ramps.map((r) => rampValue(r, time));
+    const h = hamiltonianFor(values);
+    const energy = expectation(h.complex, state, scratch);
+    extraMatvecs++;
+    const overlap = complexDot(psi0, state);
+    const observables: TraceObservables = {
+      ...stateObservables(basis, state),
+      return_probability: overlap.re * overlap.re + overlap.im * overlap.im,
+      energy,
+      norm: vectorNorm(state),
+    };
+    if (ramps.length > 0) observables.ground_overlap = weightInSpan(groundSpace(values, h), state, dim);
+    const frame: EvolutionFrame = {
+      index: frameIndex,
+      time,
+      observables,
+      error_bound: bound,
+      matvecs: matvecsBefore + propagationMatvecs + extraMatvecs,
+    };
+    frames.push(frame);
+    options.onFrame?.(frame, state);
+    frameIndex++;
+    options.onCheckpoint?.({
+      nextFrame: frameIndex,
+      time,
+      psi: state,
+      psi0,
+      errorBound: bound,
+      matvecs: frame.matvecs,
+      steps,
+    });
+  };
+
+  // A time this close to a cut counts as on it (times and cuts are sums of decimals).
+  const eps = 1e-12 * Math.max(1, end);
+  if (frameIndex < times.length && times[frameIndex] <= t + eps) record(times[frameIndex], psi, errorBound);
+
+  for (const piece of pieces) {
+    if (piece.end <= t + eps) continue;
+    const propagator = new KrylovPropagator(hamiltonianFor(piece.values).complex, section.krylov);
+    while (t < piece.end - eps) {
+      const step = propagator.step(psi, piece.end - t, rate);
+      steps++;
+      const stepEnd = piece.end - (t + step.tau) <= eps ? piece.end : t + step.tau;
+      while (frameIndex < times.length && times[frameIndex] <= stepEnd + eps) {
+        step.evaluate(Math.min(Math.max(times[frameIndex] - t, 0), step.tau), out);
+        record(times[frameIndex], out, errorBound + step.errorBound);
+      }
+      step.evaluate(stepEnd - t, psi);
+      errorBound += step.errorBound;
+      t = stepEnd;
+      propagationMatvecs = finishedPieceMatvecs + propagator.matvecs;
+      options.onProgress?.({ time: t, end, matvecs: matvecsBefore + propagationMatvecs + extraMatvecs });
+    }
+    finishedPieceMatvecs += propagator.matvecs;
+  }
+  if (frameIndex < times.length) {
+    // Only reachable through rounding in the cut arithmetic; say so rather than return a short trace.
+    throw new ConvergenceError(`time evolution stopped at t = ${t} before the recorded time ${times[frameIndex]}`);
+  }
+
+  return {
+    times,
+    timesMs: plan.timesMs,
+    frames,
+    stats: {
+      dimension: dim,
+      krylov: Math.min(section.krylov, dim),
+      tolerance: section.tolerance,
+      steps,
+      matvecs: matvecsBefore + propagationMatvecs + extraMatvecs,
+      error_bound: errorBound,
+      seconds: (performance.now() - started) / 1000,
+    },
+    notes,
+  };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Output
+
+/** The names `evolve --json` prints, in order; ramps add ground_overlap. */
+export const TRACE_KEYS = ['populations', 'level_mean', 'spread', 'string_width', 'return_probability', 'energy', 'norm'] as const;
+
+/** `{ times, observables: { name: [time]... } }`, each observable indexed by time first. */
+export function traceJson(result: EvolutionResult): { times: number[]; observables: Record<string, unknown[]> } {
+  const observables: Record<string, unknown[]> = {};
+  for (const key of TRACE_KEYS) observables[key] = result.frames.map((f) => f.observables[key]);
+  if (result.frames.some((f) => f.observables.ground_overlap !== undefined)) {
+    observables.ground_overlap = result.frames.map((f) => f.observables.ground_overlap);
+  }
+  return { times: result.times, observables };
+}
