@@ -1,0 +1,99 @@
+// Scan benchmark (part of `npm run bench`): a line of points of a few thousand states each,
+//   1. wall time with 1 worker vs 2 workers, and their ratio (goal: >= 1.7 on 2 cores);
+//   2. Lanczos matrix-vector products along the line with warm starts vs cold starts, and ratio.
+// Each run writes a real run folder (in a temporary directory), as `rungchain scan` does.
+//
+// usage: node dist/bench/scan_bench.js [--points 40] [--sites 7] [--levels 3] [--workers 2]
+
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { readRun } from '../src/runfiles.js';
+import { runScan, type ScanOutcome } from '../src/scanRunner.js';
+import { fmt, table } from '../src/tables.js';
+
+function option(name: string, fallback: number): number {
+  const at = process.argv.indexOf(`--${name}`);
+  return at >= 0 ? Number(process.argv[at + 1]) : fallback;
+}
+
+const points = option('points', 40);
+const sites = option('sites', 7);
+const levels = option('levels', 3);
+const maxWorkers = option('workers', 2);
+
+const spec = `
+[chain]
+sites = ${sites}
+boundary = "periodic"
+[levels]
+count = ${levels}
+tunnelling = 1.0
+detuning = 0.05
+[exchange]
+strength = 1.0
+weights = "rotor"
+[solve]
+states = 2
+tolerance = 1e-9
+# The full space, so the figures are those of plain Lanczos (sector solves split each point up).
+symmetries = "none"
+[[scan.axis]]
+key = "exchange.strength"
+from = 0.5
+to = 4.0
+steps = ${points}
+`;
+
+interface Figures {
+  outcome: ScanOutcome;
+  products: number;
+  warm: number;
+  method: string;
+  dimension: number;
+}
+
+async function measure(dir: string, name: string, workers: number, warmStart: boolean): Promise<Figures> {
+  const out = path.join(dir, name);
+  const outcome = await runScan({ specPath: path.join(dir, 'line.toml'), out, workers, warmStart, progress: 'none' });
+  const records = readRun(out).records as Record<string, any>[];
+  if (outcome.failed > 0) throw new Error(`${name}: ${outcome.failed} points failed: ${records.find((r) => r.status === 'failed')?.error}`);
+  return {
+    outcome,
+    products: records.reduce((s, r) => s + r.iterations, 0),
+    warm: records.filter((r) => r.warm_start).length,
+    method: String(records[0]?.result?.solver?.method),
+    dimension: Number(records[0]?.result?.basis?.dimension),
+  };
+}
+
+async function main(): Promise<void> {
+  const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-scan-bench-'));
+  try {
+    writeFileSync(path.join(dir, 'line.toml'), spec);
+    const one = await measure(dir, 'one-worker', 1, true);
+    const two = await measure(dir, `${maxWorkers}-workers`, maxWorkers, true);
+    const cold = await measure(dir, 'one-worker-cold', 1, false);
+    console.log('');
+    console.log(
+      `scan of ${points} points along exchange.strength 0.5..4, pinned ${sites} sites x ${levels} levels, periodic ` +
+        `(dimension ${one.dimension}, ${one.method}, no symmetry sectors), 2 lowest states, tolerance 1e-9; ${os.availableParallelism()} cores`,
+    );
+    console.log(
+      table(
+        ['run', 'workers', 'warm starts', 'wall s', 'products', 'products/point'],
+        [
+          ['warm, 1 worker', '1', String(one.warm), fmt(one.outcome.seconds, 3), String(one.products), fmt(one.products / points, 4)],
+          [`warm, ${maxWorkers} workers`, String(maxWorkers), String(two.warm), fmt(two.outcome.seconds, 3), String(two.products), fmt(two.products / points, 4)],
+          ['cold, 1 worker', '1', String(cold.warm), fmt(cold.outcome.seconds, 3), String(cold.products), fmt(cold.products / points, 4)],
+        ],
+      ),
+    );
+    console.log(`speed-up ${maxWorkers} workers / 1 worker (wall time ratio): ${fmt(one.outcome.seconds / two.outcome.seconds, 3)}   (goal >= 1.7 with 2 workers on 2 cores)`);
+    console.log(`products cold / warm along the line (1 worker): ${fmt(cold.products / one.products, 3)}`);
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+void main();
