@@ -1,7 +1,8 @@
 // One point of the data path: spec -> model -> basis -> operator -> solver -> observables -> record.
 // `planPoint` sizes the problem without allocating it; `solvePoint` runs it.
 
-import { basisDimension, buildBasis } from './basis.js';
+import { basisDimension, buildBasis, MAX_DIMENSION } from './basis.js';
+import { SpecError } from './errors.js';
 import { buildModel, type Model } from './model.js';
 import { buildOperator, operatorStorage } from './operator.js';
 import { basisProbabilities, pinnedObservables, type Observables } from './observables.js';
@@ -9,11 +10,18 @@ import { itinerantObservables } from './observables/itinerant.js';
 import { planFockOperator } from './operator/fock.js';
 import { cutsFor, pinnedEntanglement } from './entanglement.js';
 import { assertWithinMemory, defaultMemoryLimit, estimateSolveMemory, type MemoryEstimate } from './resources.js';
-import { defaultKrylovSize, lowestEigenpairs, DEFAULT_DENSE_THRESHOLD, type EigenResult } from './solver.js';
+import { defaultKrylovSize, lowestEigenpairs, type EigenResult } from './solver.js';
 import type { Spec } from './spec.js';
+import { detectSymmetries, type SectorLabel, type SymmetryCheck, type SymmetryName } from './symmetry.js';
+import { denseThresholdFor, solveInSectors, type SectorRun } from './sectorSolve.js';
+import { estimateSectorMemory } from './resources.js';
+import type { PinnedBasis } from './basis.js';
 
 export interface PointPlan {
   model: Model;
+  /** Symmetries checked against the operator, and which of them the solve will use. */
+  symmetries: SymmetryCheck[];
+  used: Record<SymmetryName, boolean> | null;
   dimension: number;
   storage: 'on-the-fly' | 'stored';
   /** Nonzero matrix elements: stored ones, or what a stored matrix would hold for on-the-fly operators. */
@@ -36,7 +44,11 @@ export interface PointRecord {
     degeneracy: number;
     seconds: number;
     memory_estimate_bytes: number;
+    symmetries?: SymmetryName[];
+    sector_runs?: SectorRun[];
   };
+  /** Quantum numbers of each state of `energies`, when solved in symmetry sectors. */
+  sectors?: (SectorLabel & { k: number | null })[];
 }
 
 export interface SolveOptions {
@@ -51,6 +63,17 @@ export function planPoint(spec: Spec): PointPlan {
   const model = buildModel(spec);
   const dimension = basisDimension(model);
   const states = Math.min(spec.solve.states, dimension);
+  const { symmetries, used } = chooseSymmetries(spec, model);
+  if (used) {
+    const memory = estimateSectorMemory({
+      dim: dimension,
+      model,
+      used,
+      krylovVectors: spec.solve.krylov ?? defaultKrylovSize(states, Infinity),
+      states,
+    });
+    return { model, symmetries, used, dimension, storage: 'stored', nonzeros: null, memory };
+  }
   // Itinerant kinds store their matrix; its size is known in closed form before building.
   const fock = model.kind === 'pinned' ? null : planFockOperator(model, dimension);
   const memory = estimateSolveMemory({
@@ -59,16 +82,36 @@ export function planPoint(spec: Spec): PointPlan {
     operatorBytes: fock ? fock.bytes : dimension * 8, // the stored Fock matrix, or the pinned diagonal
     krylovVectors: spec.solve.krylov ?? defaultKrylovSize(states, dimension),
     states,
-    denseThreshold: DEFAULT_DENSE_THRESHOLD,
+    denseThreshold: denseThresholdFor(states),
   });
-  return { model, dimension, storage: fock ? 'stored' : 'on-the-fly', nonzeros: fock ? fock.nonzeros : null, memory };
+  return { model, symmetries, used: null, dimension, storage: fock ? 'stored' : 'on-the-fly', nonzeros: fock ? fock.nonzeros : null, memory };
+}
+
+/** The symmetries a pinned spec really has (checked on its operator) and those the solve will use. */
+function chooseSymmetries(spec: Spec, model: Model): { symmetries: SymmetryCheck[]; used: Record<SymmetryName, boolean> | null } {
+  const choice = spec.solve.symmetries;
+  if (model.kind !== 'pinned' || choice === 'none') return { symmetries: [], used: null };
+  const dimension = basisDimension(model);
+  if (dimension > MAX_DIMENSION) return { symmetries: [], used: null };
+  const symmetries = detectSymmetries(model, buildBasis(model) as PinnedBasis);
+  const used = { translation: false, reflection: false, level_flip: false, charge: false } as Record<SymmetryName, boolean>;
+  for (const check of symmetries) {
+    const wanted = choice === 'auto' || choice.includes(check.name);
+    if (wanted && check.present) used[check.name] = true;
+    if (choice !== 'auto' && choice.includes(check.name) && !check.present) {
+      throw new SpecError('solve.symmetries', `${check.name}: ${check.detail}`);
+    }
+  }
+  const any = Object.values(used).some(Boolean);
+  return { symmetries, used: any ? used : null };
 }
 
 export interface SolvedPoint {
   record: PointRecord;
   /** Ground-state vectors (a degenerate ground space gives several), for warm starts and analysis. */
   groundStates: Float64Array[];
-  eigen: EigenResult;
+  /** The full-space eigensolver result (absent when solved in symmetry sectors). */
+  eigen?: EigenResult;
 }
 
 export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint {
@@ -76,6 +119,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   const plan = planPoint(spec);
   assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this problem');
   const basis = buildBasis(plan.model);
+  if (plan.used && basis.kind === 'pinned') return solvePinnedInSectors(spec, plan, basis, options, started);
   const op = buildOperator(plan.model, basis);
   const states = Math.min(spec.solve.states, basis.dim);
   const eigen = lowestEigenpairs(op, {
@@ -84,6 +128,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     maxMatvecs: spec.solve.maxMatvecs ?? undefined,
     krylovSize: spec.solve.krylov ?? undefined,
     seed: spec.solve.seed,
+    denseThreshold: denseThresholdFor(states),
     initial: options.initial,
     onProgress: options.onProgress,
     throwOnFailure: false,
@@ -122,4 +167,83 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     },
   };
   return { record, groundStates: ground, eigen };
+}
+
+/** Vectors this large are not expanded to the full space for callers (warm starts, entanglement). */
+const EXPAND_LIMIT = 1 << 22;
+
+function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, options: SolveOptions, started: number): SolvedPoint {
+  const model = plan.model;
+  const states = Math.min(spec.solve.states, basis.dim);
+  const cuts = cutsFor(spec.solve.entanglement, basis.sites, basis.levels);
+  const solution = solveInSectors(model, basis, plan.used!, {
+    states,
+    tolerance: spec.solve.tolerance,
+    maxMatvecs: spec.solve.maxMatvecs ?? undefined,
+    krylovSize: spec.solve.krylov ?? undefined,
+    seed: spec.solve.seed,
+    selection: spec.solve.sector,
+    initial: options.initial,
+    initialComplex: options.initial ? options.initial.length === 2 * basis.dim : false,
+    expandGround: basis.dim <= EXPAND_LIMIT || cuts.length > 0,
+    onProgress: options.onProgress,
+  });
+  // Callers get ground states in the model's own arithmetic: a real H has a real ground space,
+  // spanned by the real and imaginary parts of its complex sector states.
+  const groundStates = model.isComplex ? solution.groundStates : realSpan(solution.groundStates, basis.dim);
+  const observables = pinnedObservables(basis, solution.groundProbabilities);
+  if (cuts.length > 0) observables.entanglement = pinnedEntanglement(groundStates, basis.sites, basis.levels, model.isComplex, cuts);
+  const energies = solution.energies;
+  const L = model.sites;
+  const record: PointRecord = {
+    energies,
+    gap: energies.length > 1 ? energies[1] - energies[0] : null,
+    observables,
+    basis: {
+      kind: model.kind,
+      dimension: basis.dim,
+      sites: model.sites,
+      levels: model.levels,
+      operator: 'stored',
+      nonzeros: 0,
+    },
+    solver: {
+      method: solution.method,
+      iterations: solution.matvecs,
+      restarts: solution.restarts,
+      residuals: solution.residuals,
+      converged: solution.converged,
+      tolerance: spec.solve.tolerance,
+      degeneracy: solution.degeneracy,
+      seconds: (performance.now() - started) / 1000,
+      memory_estimate_bytes: plan.memory.totalBytes,
+      symmetries: (Object.keys(plan.used!) as SymmetryName[]).filter((k) => plan.used![k]),
+      sector_runs: solution.runs,
+    },
+    sectors: solution.labels.map((l) => ({ ...l, k: l.momentum === null ? null : (2 * Math.PI * l.momentum) / L })),
+  };
+  return { record, groundStates };
+}
+
+/** An orthonormal real basis of the span of the real and imaginary parts of complex vectors. */
+function realSpan(complexStates: Float64Array[], dim: number): Float64Array[] {
+  const out: Float64Array[] = [];
+  for (const psi of complexStates) {
+    for (const part of [0, 1]) {
+      const v = new Float64Array(dim);
+      for (let s = 0; s < dim; s++) v[s] = psi[2 * s + part];
+      for (const u of out) {
+        let d = 0;
+        for (let s = 0; s < dim; s++) d += u[s] * v[s];
+        for (let s = 0; s < dim; s++) v[s] -= d * u[s];
+      }
+      let n = 0;
+      for (let s = 0; s < dim; s++) n += v[s] * v[s];
+      n = Math.sqrt(n);
+      if (n < 1e-6) continue;
+      for (let s = 0; s < dim; s++) v[s] /= n;
+      out.push(v);
+    }
+  }
+  return out;
 }

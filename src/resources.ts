@@ -2,6 +2,8 @@
 
 import os from 'node:os';
 import { ResourceError } from './errors.js';
+import type { Model } from './model.js';
+import type { SymmetryName } from './symmetry.js';
 
 const BYTES_PER_DOUBLE = 8;
 /** Node's own heap, code and buffers, measured on an idle process of this engine. */
@@ -71,4 +73,65 @@ export function assertWithinMemory(estimate: MemoryEstimate, limit: number, what
         ` (raise it with --max-memory, or use symmetry sectors / fewer states)`,
     );
   }
+}
+
+/** Average number of stored elements per column of the pinned Hamiltonian (diagonal included). */
+export function pinnedColumnsPerState(model: Model): number {
+  const N = model.levels;
+  let offDiagonal = 0;
+  for (let a = 0; a < N; a++)
+    for (let b = 0; b < N; b++) if (a !== b && (model.localRe[a * N + b] !== 0 || model.localIm[a * N + b] !== 0)) offDiagonal++;
+  let links = 0;
+  for (const c of model.exchangeWeights) if (c !== 0) links++;
+  // a site in level b tunnels along the nonzero entries of column b: offDiagonal/N on average;
+  // a pair exchanges when its two levels are adjacent on a weighted link: 2*links/N^2 of configurations
+  return 1 + (model.sites * offDiagonal) / N + (model.exchangePairs.count * 2 * links) / (N * N);
+}
+
+/** Fraction of pinned states in the most populated total-level sector: (1+x+...+x^(N-1))^L's largest coefficient / N^L. */
+export function largestChargeFraction(sites: number, levels: number): number {
+  let poly = [1];
+  for (let i = 0; i < sites; i++) {
+    const next = new Array(poly.length + levels - 1).fill(0);
+    for (let q = 0; q < poly.length; q++) for (let n = 0; n < levels; n++) next[q + n] += poly[q] / levels;
+    poly = next;
+  }
+  return Math.max(...poly);
+}
+
+/**
+ * Peak memory of a sector-by-sector solve: the orbit maps over the full basis (a representative
+ * index and a group element per state), the ground-state probabilities, the largest sector's stored
+ * matrix and Krylov basis, and full-space ground states when they are handed back.
+ */
+export function estimateSectorMemory(opts: {
+  dim: number;
+  model: Model;
+  used: Record<SymmetryName, boolean>;
+  krylovVectors: number;
+  states: number;
+}): MemoryEstimate {
+  const { dim, model, used } = opts;
+  const translations = used.translation ? model.sites : 1;
+  const flip = used.level_flip && !used.charge ? 2 : 1;
+  const fraction = used.charge ? largestChargeFraction(model.sites, model.levels) : 1;
+  // Momentum sectors other than 0 and pi are not split by parity, so they are the largest.
+  const parityHalves = used.reflection && !used.translation ? 2 : 1;
+  const sectorDim = Math.ceil((dim * fraction * 1.05) / (translations * flip * parityHalves)) + 64;
+  const complex = model.isComplex || used.translation;
+  const scalar = complex ? 16 : 8;
+  const maps = used.reflection && used.translation ? 2 : 1;
+  const nnz = sectorDim * pinnedColumnsPerState(model);
+  const parts: Record<string, number> = {
+    runtime: RUNTIME_BASELINE_BYTES,
+    orbit_maps: maps * dim * 6,
+    probabilities: dim * BYTES_PER_DOUBLE,
+    sector_matrix: nnz * (4 + scalar) + 8 * (sectorDim + 1),
+    krylov: (opts.krylovVectors + 3) * sectorDim * scalar,
+    kept_states: 2 * opts.states * sectorDim * scalar,
+  };
+  if (dim <= 1 << 22) parts.ground_states = 2 * dim * 16;
+  let totalBytes = 0;
+  for (const v of Object.values(parts)) totalBytes += v;
+  return { totalBytes, parts };
 }

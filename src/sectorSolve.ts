@@ -1,0 +1,217 @@
+// Solving a pinned chain sector by sector: the lowest `states` over all sectors (or the sectors the
+// user names), each labelled with its quantum numbers, and the ground-space probabilities for the
+// observables, without ever forming a full-space vector unless asked.
+
+import type { PinnedBasis } from './basis.js';
+import { OrbitMap, SectorBasis, type GroupUse } from './basis/sectors.js';
+import { SpecError } from './errors.js';
+import type { Model } from './model.js';
+import { buildSectorOperator } from './operator/sector.js';
+import { lowestEigenpairs, type EigenOptions } from './solver.js';
+import { IndexActions, planSectors, type SectorLabel, type SectorSelection, type SymmetryName } from './symmetry.js';
+
+export interface SectorRun {
+  label: SectorLabel;
+  dimension: number;
+  method: 'dense' | 'lanczos';
+  iterations: number;
+  lowest: number;
+  /** True when only the sector's lowest state was needed to show it adds nothing below the answer. */
+  screened: boolean;
+  copies: SectorLabel[];
+}
+
+export interface SectorSolution {
+  energies: number[];
+  labels: SectorLabel[];
+  residuals: number[];
+  converged: boolean;
+  matvecs: number;
+  restarts: number;
+  degeneracy: number;
+  runs: SectorRun[];
+  /** |psi(s)|^2 averaged over the degenerate ground space, on the full basis. */
+  groundProbabilities: Float64Array;
+  /** Full-space ground states (interleaved complex), only when `expandGround` was asked. */
+  groundStates: Float64Array[];
+  method: 'dense' | 'lanczos';
+}
+
+export interface SectorSolveOptions {
+  states: number;
+  tolerance: number;
+  maxMatvecs?: number;
+  krylovSize?: number;
+  seed?: number;
+  selection?: SectorSelection;
+  /** Full-space start vector, projected into each sector (warm start). */
+  initial?: Float64Array;
+  initialComplex?: boolean;
+  expandGround?: boolean;
+  onProgress?: EigenOptions['onProgress'];
+}
+
+interface Found {
+  energy: number;
+  label: SectorLabel;
+  residual: number;
+  sector: SectorBasis | null;
+  vector: Float64Array | null;
+  complex: boolean;
+}
+
+/**
+ * Largest dimension solved densely when `states` pairs are wanted: the dense path costs O(dim^3)
+ * (eight times more for a complex matrix's real embedding) while Lanczos on a small space needs only
+ * a few hundred cheap products, so dense pays only when a good share of the spectrum is wanted.
+ */
+export function denseThresholdFor(states: number): number {
+  return Math.max(64, 3 * states);
+}
+
+/** The energy window within which two levels count as one degenerate level. */
+export function degeneracyWindow(e0: number, tolerance: number): number {
+  return Math.max(1e-8 * Math.max(1, Math.abs(e0)), 10 * tolerance);
+}
+
+function groupFor(label: SectorLabel): GroupUse {
+  return { translation: label.momentum !== null, reflection: label.parity !== null, levelFlip: label.level_flip !== null };
+}
+
+/** Lower charges near the middle and momentum zero first: ground states usually live there. */
+function sectorOrder(model: Model) {
+  const middle = (model.sites * (model.levels - 1)) / 2;
+  return (a: { label: SectorLabel }, b: { label: SectorLabel }) => {
+    const qa = a.label.charge === null ? 0 : Math.abs(a.label.charge - middle);
+    const qb = b.label.charge === null ? 0 : Math.abs(b.label.charge - middle);
+    if (qa !== qb) return qa - qb;
+    return (a.label.momentum ?? 0) - (b.label.momentum ?? 0);
+  };
+}
+
+export function solveInSectors(
+  model: Model,
+  basis: PinnedBasis,
+  use: Record<SymmetryName, boolean>,
+  opts: SectorSolveOptions,
+): SectorSolution {
+  const selection = opts.selection ?? {};
+  (selection.momentum ?? []).forEach((m, i) => {
+    if (!use.translation) throw new SpecError('solve.sector.momentum', 'this model has no translation symmetry');
+    if (m >= model.sites) throw new SpecError(`solve.sector.momentum[${i}]`, `momentum index must be below ${model.sites}, got ${m}`);
+  });
+  if (selection.parity && !use.reflection) throw new SpecError('solve.sector.parity', 'this model has no reflection symmetry');
+  if (selection.charge && !use.charge) throw new SpecError('solve.sector.charge', 'this model does not conserve the total level');
+  if (selection.level_flip && !use.level_flip) throw new SpecError('solve.sector.level_flip', 'this model has no level-flip symmetry');
+
+  const plans = planSectors(use, model, selection).sort(sectorOrder(model));
+  const actions = new IndexActions(basis);
+  const maps = new Map<string, OrbitMap>();
+  const orbitsFor = (label: SectorLabel) => {
+    const g = groupFor(label);
+    const key = `${g.translation}${g.reflection}${g.levelFlip}`;
+    let m = maps.get(key);
+    if (!m) {
+      m = new OrbitMap(basis, g, actions);
+      maps.set(key, m);
+    }
+    return m;
+  };
+
+  const states = opts.states;
+  let found: Found[] = [];
+  const runs: SectorRun[] = [];
+  let matvecs = 0;
+  let restarts = 0;
+  let converged = true;
+  let anyLanczos = false;
+
+  for (const plan of plans) {
+    const sector = new SectorBasis(orbitsFor(plan.label), plan.label);
+    if (sector.dim === 0) continue;
+    const op = buildSectorOperator(model, basis, sector);
+    const isComplex = op.isComplex;
+    let initial: Float64Array | undefined;
+    if (opts.initial) {
+      const c = sector.project(opts.initial, opts.initialComplex ?? false, isComplex);
+      let n2 = 0;
+      for (let k = 0; k < c.length; k++) n2 += c[k] * c[k];
+      if (n2 > 1e-12) initial = c;
+    }
+    const base: EigenOptions = {
+      states: 1,
+      denseThreshold: denseThresholdFor(Math.min(states, sector.dim)),
+      tolerance: opts.tolerance,
+      maxMatvecs: opts.maxMatvecs,
+      krylovSize: opts.krylovSize !== undefined ? Math.min(opts.krylovSize, sector.dim) : undefined,
+      seed: opts.seed,
+      initial,
+      onProgress: opts.onProgress,
+    };
+    const need = Math.min(states, sector.dim);
+    const sorted = found.map((f) => f.energy).sort((a, b) => a - b);
+    const ceiling = sorted.length >= states ? sorted[states - 1] : Infinity;
+    let screened = false;
+    let result;
+    if (Number.isFinite(ceiling) && sector.dim > denseThresholdFor(need)) {
+      // Screen with the sector's lowest state: if even it lies above the current answer, the sector adds nothing.
+      const first = lowestEigenpairs(op, base);
+      matvecs += first.matvecs;
+      restarts += first.restarts;
+      if (first.values[0] > ceiling + degeneracyWindow(ceiling, opts.tolerance)) {
+        screened = true;
+        converged &&= first.converged;
+        runs.push({ label: plan.label, dimension: sector.dim, method: first.method, iterations: first.matvecs, lowest: first.values[0], screened, copies: plan.copies });
+        if (first.method === 'lanczos') anyLanczos = true;
+        continue;
+      }
+      result = need === 1 ? first : lowestEigenpairs(op, { ...base, states: need, initial: first.vectors[0] });
+      if (need > 1) {
+        matvecs += result.matvecs;
+        restarts += result.restarts;
+      }
+    } else {
+      result = lowestEigenpairs(op, { ...base, states: need });
+      matvecs += result.matvecs;
+      restarts += result.restarts;
+    }
+    if (result.method === 'lanczos') anyLanczos = true;
+    converged &&= result.converged;
+    runs.push({ label: plan.label, dimension: sector.dim, method: result.method, iterations: result.matvecs, lowest: result.values[0], screened, copies: plan.copies });
+    for (let k = 0; k < result.values.length; k++) {
+      const entry = { energy: result.values[k], residual: result.residuals[k], sector, vector: result.vectors[k], complex: isComplex };
+      found.push({ ...entry, label: plan.label });
+      for (const copy of plan.copies) found.push({ ...entry, label: copy });
+    }
+    found.sort((a, b) => a.energy - b.energy);
+    // Keep what can still matter: the lowest `states` and anything degenerate with the ground level.
+    const e0 = found[0].energy;
+    const window = degeneracyWindow(e0, opts.tolerance);
+    found = found.filter((f, k) => k < states || f.energy - e0 <= window);
+  }
+
+  if (found.length === 0) throw new SpecError('solve.sector', 'the selected sectors contain no states');
+  const e0 = found[0].energy;
+  const window = degeneracyWindow(e0, opts.tolerance);
+  const ground = found.filter((f) => f.energy - e0 <= window);
+  // Copies (k <-> -k) share their representative's probabilities for these diagonal observables:
+  // complex conjugation leaves |psi|^2 unchanged, and a reflected translation-invariant state has
+  // the same populations, spreads, pair separations and string width.
+  const probabilities = new Float64Array(basis.dim);
+  for (const g of ground) g.sector!.accumulateProbabilities(g.vector!, g.complex, 1 / ground.length, probabilities);
+  const groundStates = opts.expandGround ? ground.filter((g, k) => k === 0 || g.vector !== ground[k - 1].vector).map((g) => g.sector!.expand(g.vector!, g.complex)) : [];
+  const answer = found.slice(0, states);
+  return {
+    energies: answer.map((f) => f.energy),
+    labels: answer.map((f) => f.label),
+    residuals: answer.map((f) => f.residual),
+    converged,
+    matvecs,
+    restarts,
+    degeneracy: ground.length,
+    runs,
+    groundProbabilities: probabilities,
+    groundStates,
+    method: anyLanczos ? 'lanczos' : 'dense',
+  };
+}

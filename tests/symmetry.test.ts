@@ -1,0 +1,140 @@
+import { describe, expect, it } from 'vitest';
+import { buildBasis } from '../src/basis.js';
+import { buildModel } from '../src/model.js';
+import { solvePoint } from '../src/point.js';
+import { solveInSectors } from '../src/sectorSolve.js';
+import { validateSpec } from '../src/spec.js';
+import { detectSymmetries, type SymmetryName } from '../src/symmetry.js';
+import { densePinnedHamiltonian, denseSpectrum } from './support/reference.js';
+import { clean, randomPinnedSpec, rng } from './support/random.js';
+
+function usedFrom(spec: ReturnType<typeof validateSpec>) {
+  const model = buildModel(spec);
+  const basis = buildBasis(model);
+  const checks = detectSymmetries(model, basis);
+  const used = Object.fromEntries(checks.map((c) => [c.name, c.present])) as Record<SymmetryName, boolean>;
+  return { model, basis, used };
+}
+
+/** A spec whose couplings are mirror-symmetric in the level index, so n -> N-1-n is a symmetry. */
+function flipSymmetricSpec(seed: number, L: number, N: number) {
+  const r = rng(seed);
+  const half = (n: number, f: () => number) => {
+    const v = Array.from({ length: n }, () => 0);
+    for (let k = 0; k < n; k++) v[k] = k < n - 1 - k ? f() : v[n - 1 - k];
+    for (let k = 0; k < n; k++) if (k > n - 1 - k) v[k] = v[n - 1 - k];
+    return v;
+  };
+  const moments = Array.from({ length: N }, (_, n) => n - (N - 1) / 2); // mu_{N-1-n} = -mu_n
+  return {
+    chain: { sites: L, boundary: 'periodic' },
+    levels: { count: N, tunnelling: half(N - 1, () => 0.5 + r()), detuning: half(N, () => r() - 0.5) },
+    exchange: { strength: 0.5 + 2 * r(), range: 'dipolar', weights: half(N - 1, () => 0.5 + r()) },
+    ising: { strength: r() - 0.5, moments },
+    solve: { states: N ** L, tolerance: 1e-10 },
+  };
+}
+
+describe('symmetry detection', () => {
+  it('finds translation and reflection on a periodic chain, and no charge while microwaves tunnel', () => {
+    const { used } = usedFrom(validateSpec(clean(randomPinnedSpec(31, 5, 3))));
+    expect(used.reflection).toBe(true);
+    expect(used.charge).toBe(false);
+  });
+
+  it('rejects translation on an open chain and a level flip when the couplings are not mirror-symmetric', () => {
+    const { used } = usedFrom(validateSpec({ chain: { sites: 5 }, levels: { count: 3, tunnelling: [1, 0.5] } }));
+    expect(used.translation).toBe(false);
+    expect(used.level_flip).toBe(false);
+    expect(used.reflection).toBe(true);
+  });
+
+  it('finds the conserved total level without tunnelling, and the level flip of mirror-symmetric couplings', () => {
+    const a = usedFrom(validateSpec({ chain: { sites: 4, boundary: 'periodic' }, levels: { count: 3, tunnelling: 0 }, exchange: { strength: 1, weights: 'rotor' } }));
+    expect(a.used.charge).toBe(true);
+    expect(a.used.translation).toBe(true);
+    const b = usedFrom(validateSpec(clean(flipSymmetricSpec(5, 4, 4))));
+    expect(b.used.level_flip).toBe(true);
+  });
+
+  it('a symmetry named by the user that the model lacks is an error naming solve.symmetries', () => {
+    const spec = validateSpec({ chain: { sites: 4 }, levels: { count: 3 }, solve: { symmetries: ['translation'] } });
+    expect(() => solvePoint(spec)).toThrow(/solve\.symmetries/);
+  });
+});
+
+// The union of all sector spectra must be the full spectrum: ml-matrix's dense eigensolver on a plain
+// element-by-element build of the Hamiltonian (tests/support/reference.ts) is the reference.
+describe('sector spectra against the full dense spectrum', () => {
+  const cases: [string, () => Record<string, any>][] = [
+    ['random complex, periodic L=5 N=3 (translation, reflection)', () => randomPinnedSpec(41, 5, 3)],
+    ['random, periodic L=6 N=2', () => ({ ...randomPinnedSpec(42, 6, 2), chain: { sites: 6, boundary: 'periodic' } })],
+    ['random, open L=5 N=3 (reflection)', () => ({ ...randomPinnedSpec(43, 5, 3), chain: { sites: 5, boundary: 'open' } })],
+    [
+      'no tunnelling, periodic L=6 N=3 (charge, translation, reflection)',
+      () => ({ ...randomPinnedSpec(44, 6, 3), levels: { count: 3, tunnelling: 0, detuning: [0.1, -0.3, 0.4] }, chain: { sites: 6, boundary: 'periodic' } }),
+    ],
+    ['mirror-symmetric levels, periodic L=4 N=4 (level flip)', () => flipSymmetricSpec(45, 4, 4)],
+    ['mirror-symmetric levels, periodic L=5 N=3', () => flipSymmetricSpec(46, 5, 3)],
+  ];
+  it.each(cases)('%s', (_, make) => {
+    const raw = clean(make());
+    const spec = validateSpec(raw);
+    const { model, basis, used } = usedFrom(spec);
+    const solution = solveInSectors(model, basis, used, { states: basis.dim, tolerance: 1e-10 });
+    const reference = denseSpectrum(densePinnedHamiltonian(spec));
+    expect(solution.energies).toHaveLength(basis.dim);
+    solution.energies.forEach((e, k) => expect(Math.abs(e - reference[k])).toBeLessThan(1e-9));
+  });
+});
+
+describe('sector solves through solvePoint', () => {
+  it('observables and energies agree with the full-space solve', () => {
+    const raw = clean({ ...randomPinnedSpec(51, 7, 3), chain: { sites: 7, boundary: 'periodic' } });
+    raw.solve = { states: 3, tolerance: 1e-10 };
+    const inSectors = solvePoint(validateSpec(raw)).record;
+    const full = solvePoint(validateSpec({ ...raw, solve: { ...raw.solve, symmetries: 'none' } })).record;
+    expect(inSectors.sectors).toHaveLength(3);
+    inSectors.energies.forEach((e, k) => expect(e).toBeCloseTo(full.energies[k], 9));
+    if (full.solver.degeneracy === inSectors.solver.degeneracy) {
+      inSectors.observables.populations.forEach((row, i) => row.forEach((p, n) => expect(p).toBeCloseTo(full.observables.populations[i][n], 7)));
+      expect(inSectors.observables.string_width).toBeCloseTo(full.observables.string_width, 7);
+      inSectors.observables.pair_separation.forEach((row, i) =>
+        row.forEach((p, j) => expect(p).toBeCloseTo(full.observables.pair_separation[i][j], 7)),
+      );
+    }
+  });
+
+  it('a warm start from the full-space ground state is projected into the sectors', () => {
+    const raw = clean({ ...randomPinnedSpec(52, 8, 3), chain: { sites: 8, boundary: 'periodic' } });
+    raw.solve = { states: 1, tolerance: 1e-10 };
+    const cold = solvePoint(validateSpec(raw));
+    const warm = solvePoint(validateSpec(raw), { initial: cold.groundStates[0] });
+    expect(warm.record.energies[0]).toBeCloseTo(cold.record.energies[0], 10);
+    expect(warm.record.solver.iterations).toBeLessThan(cold.record.solver.iterations);
+  });
+});
+
+// Heisenberg ring through the MODEL.md mapping (N=2, exchange 1/2, diagonal term 1, moments -1/2,+1/2).
+// Marshall's sign rule (Marshall 1955; Lieb and Mattis 1962) makes the ground state a singlet with
+// crystal momentum 0 when L/2 is even and pi when L/2 is odd. Energies for L <= 12 from published
+// small-ring tables (from memory, as in tests/point.test.ts).
+describe('Heisenberg rings in sectors', () => {
+  // L = 16: E0/L = -0.4463935, also from memory.
+  const table: Record<number, number> = { 4: -2, 6: -2.8027756, 8: -3.6510934, 10: -4.5154463, 12: -5.3873909, 16: -7.1422963 };
+  it.each([4, 6, 8, 10, 12, 14, 16, 18, 20])('L = %i: ground-state momentum from Marshall sign rule', (L) => {
+    const r = solvePoint(
+      validateSpec({
+        chain: { sites: L, boundary: 'periodic' },
+        levels: { count: 2, tunnelling: 0 },
+        exchange: { strength: 0.5 },
+        ising: { strength: 1, moments: [-0.5, 0.5] },
+        solve: { states: 1, tolerance: 1e-9, entanglement: 'none' },
+      }),
+    ).record;
+    const ground = r.sectors![0];
+    expect(ground.momentum).toBe((L / 2) % 2 === 0 ? 0 : L / 2);
+    expect(ground.charge).toBe(L / 2); // S^z_total = 0: half the molecules in the upper level
+    if (table[L] !== undefined) expect(r.energies[0]).toBeCloseTo(table[L], 6);
+  }, 300_000);
+});
