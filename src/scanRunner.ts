@@ -9,11 +9,12 @@ import { fileURLToPath } from 'node:url';
 import { MessageChannel } from 'node:worker_threads';
 import { Piscina } from 'piscina';
 import cliProgress from 'cli-progress';
-import { InputError } from './errors.js';
+import { InputError, RunFileError } from './errors.js';
 import { defaultMemoryLimit } from './resources.js';
 import { loadSpec } from './spec.js';
 import { expandScan, formatParams, pointCost, sizeScan, type ScanPlan, type ScanPoint } from './scan.js';
 import { RunWriter } from './runfiles.js';
+import { assignShards, type Shard } from './shard.js';
 import type { ScanRecord, TaskMessage } from './scanTask.js';
 
 export function rungchainVersion(): string {
@@ -183,10 +184,8 @@ export interface ScanOptions {
   stream?: NodeJS.WriteStream;
   /** Catch SIGINT/SIGTERM: stop handing out work, keep every finished record, print how to resume. */
   handleSignals?: boolean;
-  /** Restricts the scan to these point indices (shards); default all. */
-  only?: (plan: ScanPlan, costs: number[]) => Set<number>;
-  /** Extra manifest fields for a new run folder (shards). */
-  manifestFields?: Record<string, unknown>;
+  /** Run only this shard's points (balanced by estimated cost; see src/shard.ts). */
+  shard?: Shard | null;
 }
 
 export interface ScanOutcome {
@@ -202,9 +201,10 @@ export interface ScanOutcome {
   resumeCommand: string;
 }
 
-export function defaultRunDir(specPath: string, identity: string): string {
+export function defaultRunDir(specPath: string, identity: string, shard?: Shard | null): string {
   const base = path.basename(specPath).replace(/\.(toml|json)$/i, '');
-  return path.join('runs', `${base}-${identity.slice(0, 8)}`);
+  const dir = path.join('runs', `${base}-${identity.slice(0, 8)}`);
+  return shard ? path.join(dir, `shard-${shard.index}of${shard.count}`) : dir;
 }
 
 function shellQuote(word: string): string {
@@ -224,8 +224,11 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
   const maxMemory = options.maxMemory ?? defaultMemoryLimit();
   const sizes = sizeScan(plan, maxMemory);
   const costs = sizes.plans.map(pointCost);
-  const dir = options.out ?? defaultRunDir(options.specPath, plan.identity);
-  const resumeCommand = ['rungchain', 'scan', options.specPath, ...overrides.flatMap((o) => ['--set', o]), '--out', dir].map(shellQuote).join(' ');
+  const shard = options.shard ?? null;
+  const dir = options.out ?? defaultRunDir(options.specPath, plan.identity, shard);
+  const shardArgs = shard && shard.source === '--shard' ? ['--shard', `${shard.index}/${shard.count}`] : [];
+  const resumeCommand = ['rungchain', 'scan', options.specPath, ...overrides.flatMap((o) => ['--set', o]), ...shardArgs, '--out', dir].map(shellQuote).join(' ');
+  const shardPoints = shard ? assignShards(plan, costs, shard.count)[shard.index - 1] : null;
 
   const writer = RunWriter.open(dir, {
     kind: 'scan',
@@ -239,15 +242,22 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
       axes: plan.section.axes,
       zip: plan.section.zip,
       points: plan.points.length,
-      ...options.manifestFields,
+      ...(shard ? { shard: { index: shard.index, count: shard.count }, shard_points: shardPoints } : {}),
     },
   });
+  const held = writer.manifest.shard as { index: number; count: number } | undefined;
+  if ((held?.index ?? null) !== (shard?.index ?? null) || (held?.count ?? null) !== (shard?.count ?? null)) {
+    writer.close();
+    const what = (s: { index: number; count: number } | null | undefined) => (s ? `shard ${s.index}/${s.count}` : 'the whole scan');
+    throw new RunFileError(`${dir} holds ${what(held)} of this scan, not ${what(shard)}; choose another --out`);
+  }
 
   let pool: Piscina | null = null;
   const signalHandlers: [NodeJS.Signals, () => void][] = [];
   try {
     if (writer.cutBytes > 0) say(`dropped a torn last record (${writer.cutBytes} bytes, a write cut short); that point runs again`);
-    const selected = options.only ? options.only(plan, costs) : new Set(plan.points.map((p) => p.index));
+    if (shard) say(`shard ${shard.index} of ${shard.count} (from ${shard.source}): ${shardPoints!.length} of ${plan.points.length} points`);
+    const selected = new Set(shardPoints ?? plan.points.map((p) => p.index));
     const latest = latestRecords(writer.existing);
     let done = 0;
     let failed = 0;

@@ -4,6 +4,8 @@ import { InputError } from '../../src/errors.js';
 import { runScan } from '../../src/scanRunner.js';
 import { loadScanRun, longCsv, longJson, longText, statusJson, statusText, summaryCsv, summaryJson, summaryText } from '../../src/summary.js';
 import { collect, memoryLimit } from './shared.js';
+import { parseShard, shardFromEnvironment } from '../../src/shard.js';
+import { registerShardCommands } from './shard.js';
 
 function positiveInteger(text: string, what: string): number {
   const n = Number(text);
@@ -23,8 +25,10 @@ export function registerScanCommands(program: Command): void {
     .option('--no-warm-start', 'start every Lanczos run from a random vector (bitwise reproducible order-independent results)')
     .option('--max-memory <size>', 'a point whose estimate exceeds this is recorded as failed (default: 60% of RAM)')
     .option('--quiet', 'print nothing but errors')
-    .action(async (specPath: string, opts: { set: string[]; out?: string; workers?: string; retryFailed?: boolean; warmStart: boolean; maxMemory?: string; quiet?: boolean }) => {
+    .option('--shard <i/n>', 'run only shard i of n (balanced by estimated cost); in a Slurm array task it comes from SLURM_ARRAY_TASK_ID')
+    .action(async (specPath: string, opts: { set: string[]; out?: string; workers?: string; retryFailed?: boolean; warmStart: boolean; maxMemory?: string; quiet?: boolean; shard?: string }) => {
       const outcome = await runScan({
+        shard: opts.shard !== undefined ? parseShard(opts.shard) : shardFromEnvironment(),
         specPath,
         overrides: opts.set,
         out: opts.out,
@@ -38,6 +42,8 @@ export function registerScanCommands(program: Command): void {
       // 130 is the shell's code for a run stopped by Ctrl-C.
       if (outcome.interrupted) process.exitCode = 130;
     });
+
+  registerShardCommands(program);
 
   program
     .command('summary')
