@@ -3,6 +3,7 @@ import type { Command } from 'commander';
 import { InputError } from '../../src/errors.js';
 import { runScan } from '../../src/scanRunner.js';
 import { loadScanRun, longCsv, longJson, longText, statusJson, statusText, summaryCsv, summaryJson, summaryText } from '../../src/summary.js';
+import { sideBySide, sideBySideCsv, sideBySideJson, sideBySideText } from '../../src/summary/sideBySide.js';
 import { collect, memoryLimit } from './shared.js';
 import { parseShard, shardFromEnvironment } from '../../src/shard.js';
 import { registerShardCommands } from './shard.js';
@@ -52,9 +53,18 @@ export function registerScanCommands(program: Command): void {
     .option('--csv', 'tidy CSV on stdout')
     .option('--json', 'JSON array on stdout, one object per point')
     .option('--long', 'per-site and per-level observables, one value per row')
-    .action((dir: string, opts: { csv?: boolean; json?: boolean; long?: boolean }) => {
+    .option('--by <axis>', 'spread one scan axis into columns, side by side (e.g. --by particles.kind, or --by kind)')
+    .action((dir: string, opts: { csv?: boolean; json?: boolean; long?: boolean; by?: string }) => {
       if (opts.csv && opts.json) throw new InputError('choose one of --csv and --json');
+      if (opts.by !== undefined && opts.long) throw new InputError('choose one of --by and --long');
       const summary = loadScanRun(dir);
+      if (opts.by !== undefined) {
+        const view = sideBySide(summary, opts.by);
+        if (opts.json) process.stdout.write(JSON.stringify(sideBySideJson(view)) + '\n');
+        else if (opts.csv) process.stdout.write(sideBySideCsv(view));
+        else console.log(sideBySideText(view));
+        return;
+      }
       if (opts.long) {
         if (opts.json) process.stdout.write(JSON.stringify(longJson(summary)) + '\n');
         else if (opts.csv) process.stdout.write(longCsv(summary));

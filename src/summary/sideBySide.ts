@@ -1,0 +1,110 @@
+// Side-by-side summaries: one scan axis (typically particles.kind) spread into columns, so points
+// that differ only in that axis share a row: `rungchain summary RUN --by particles.kind` lays
+// hard-core bosons, soft-core bosons and fermions next to each other for the same parameters.
+// Each column is `<quantity>[<value>]`: E0, gap and every scalar observable (string_width,
+// condensate_fraction, ...) for every value of the axis. A point that failed or is pending leaves
+// its cells empty.
+
+import { InputError } from '../errors.js';
+import type { ScanParams, ScanValue } from '../scan.js';
+import type { ScanRunSummary } from '../summary.js';
+import { fmt, table } from '../tables.js';
+
+export interface SideBySide {
+  /** The axis spread into columns. */
+  by: string;
+  /** Its values, in axis order. */
+  values: ScanValue[];
+  /** The other axes, one column each, in axis order. */
+  keys: string[];
+  /** Quantities shown per value: E0, gap, then scalar observables. */
+  quantities: string[];
+  rows: { params: ScanParams; cells: Record<string, number | null> }[];
+}
+
+/** Short names for axes people compare side by side. */
+const SHORTHANDS: Record<string, string> = { kind: 'particles.kind' };
+
+function label(value: ScanValue): string {
+  return typeof value === 'string' ? value : JSON.stringify(value);
+}
+
+export function columnName(quantity: string, value: ScanValue): string {
+  return `${quantity}[${label(value)}]`;
+}
+
+/** Spreads axis `by` of a scan run into columns; the other axes label the rows. */
+export function sideBySide(summary: ScanRunSummary, by: string): SideBySide {
+  const key = SHORTHANDS[by] ?? by;
+  const axes = summary.section.axes;
+  const axis = axes.find((a) => a.key === key);
+  if (!axis) {
+    const scanned = axes.map((a) => a.key).join(', ');
+    throw new InputError(`--by ${by}: the scan has no axis ${key} (its axes: ${scanned})`);
+  }
+  if (summary.section.zip) throw new InputError(`--by ${by}: a zipped scan has no rows that share the other axes; use a grid scan`);
+  const keys = axes.filter((a) => a.key !== key).map((a) => a.key);
+
+  const scalars = new Set<string>();
+  for (const row of summary.rows) {
+    const obs = row.record?.result?.observables;
+    if (obs) for (const [name, v] of Object.entries(obs)) if (typeof v === 'number') scalars.add(name);
+  }
+  const quantities = ['E0', 'gap', ...scalars];
+
+  const rows: SideBySide['rows'] = [];
+  const rowOf = new Map<string, SideBySide['rows'][number]>();
+  for (const row of summary.rows) {
+    const params: ScanParams = {};
+    for (const k of keys) params[k] = row.params[k];
+    const id = JSON.stringify(keys.map((k) => params[k]));
+    let target = rowOf.get(id);
+    if (!target) {
+      target = { params, cells: {} };
+      for (const q of quantities) for (const value of axis.values) target.cells[columnName(q, value)] = null;
+      rowOf.set(id, target);
+      rows.push(target);
+    }
+    const result = row.record?.status === 'done' ? row.record.result : undefined;
+    if (!result) continue;
+    const value = row.params[key];
+    target.cells[columnName('E0', value)] = result.energies[0] ?? null;
+    target.cells[columnName('gap', value)] = result.gap;
+    for (const name of scalars) {
+      const v = result.observables[name];
+      target.cells[columnName(name, value)] = typeof v === 'number' ? v : null;
+    }
+  }
+  return { by: key, values: axis.values, keys, quantities, rows };
+}
+
+function columns(view: SideBySide): string[] {
+  return view.quantities.flatMap((q) => view.values.map((v) => columnName(q, v)));
+}
+
+/** One object per row: the other axes under their key paths, then a field per column. */
+export function sideBySideJson(view: SideBySide): Record<string, unknown>[] {
+  return view.rows.map((r) => ({ ...r.params, ...r.cells }));
+}
+
+function csvCell(value: unknown): string {
+  if (value === null || value === undefined) return '';
+  const text = typeof value === 'string' ? value : typeof value === 'number' || typeof value === 'boolean' ? String(value) : JSON.stringify(value);
+  return /[",\n\r]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
+}
+
+export function sideBySideCsv(view: SideBySide): string {
+  const cols = columns(view);
+  const lines = [[...view.keys, ...cols].map(csvCell).join(',')];
+  for (const r of view.rows) lines.push([...view.keys.map((k) => r.params[k]), ...cols.map((c) => r.cells[c])].map(csvCell).join(','));
+  return lines.join('\n') + '\n';
+}
+
+export function sideBySideText(view: SideBySide): string {
+  const cols = columns(view);
+  const show = (v: ScanValue | undefined): string => (v === undefined ? '' : typeof v === 'number' ? fmt(v, 8) : label(v));
+  return table(
+    [...view.keys, ...cols],
+    view.rows.map((r) => [...view.keys.map((k) => show(r.params[k])), ...cols.map((c) => (r.cells[c] === null ? '' : fmt(r.cells[c], 10)))]),
+  );
+}
