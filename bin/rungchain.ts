@@ -5,6 +5,7 @@ import { Command, CommanderError } from 'commander';
 import { isRungchainError } from '../src/errors.js';
 import { registerSolveCommands } from './commands/solve.js';
 import { registerScanCommands } from './commands/scan.js';
+import { registerEvolveCommands } from './commands/evolve.js';
 
 const program = new Command();
 program
@@ -15,6 +16,7 @@ program
 
 registerSolveCommands(program);
 registerScanCommands(program);
+registerEvolveCommands(program);
 
 async function main(): Promise<void> {
   try {

@@ -3,7 +3,8 @@
 //   key                    default        meaning
 //   ---------------------  -------------  ---------------------------------------------------------
 //   evolve.initial         every site in level 0
-//                          [n_0, n_1, ...]                    one level per site (pinned)
+//                          [n_0, n_1, ...]                    one level per site (-1: an empty site,
+//                                                             itinerant kinds)
 //                          { levels = [...], pulses = [...] } product of per-site superpositions:
 //                              each pulse { between = [a, b], area, phase = 0, sites = all } is a
 //                              resonant Rabi rotation of the given area (pi: full transfer)
@@ -26,10 +27,12 @@
 // ground space of the instantaneous H(t) (keys at their exact linear value at t, not the piece value).
 
 import { basisDimension, buildBasis, type Basis } from './basis.js';
-import { ConvergenceError, SpecError, UnsupportedError } from './errors.js';
+import { ConvergenceError, SpecError } from './errors.js';
 import { buildModel, type Model } from './model.js';
 import { buildOperator, type HermitianOperator } from './operator.js';
+import { planFockOperator } from './operator/fock.js';
 import { basisProbabilities, pinnedObservables, type Observables } from './observables.js';
+import { itinerantObservables } from './observables/itinerant.js';
 import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES, type MemoryEstimate } from './resources.js';
 import { defaultKrylovSize, lowestEigenpairs } from './solver.js';
 import { applyOverride, registerSection, validateSpec, type Spec } from './spec.js';
@@ -115,15 +118,16 @@ function integerAtLeast(value: unknown, path: string, least: number): number {
   return value;
 }
 
-function integerList(value: unknown, path: string): number[] {
+function integerList(value: unknown, path: string, least = 0): number[] {
   if (!Array.isArray(value)) throw new SpecError(path, `expected a list of integers, got ${describe(value)}`);
-  return value.map((v, i) => integerAtLeast(v, `${path}[${i}]`, 0));
+  return value.map((v, i) => integerAtLeast(v, `${path}[${i}]`, least));
 }
 
 function validateInitial(value: unknown, path: string): InitialState {
   if (value === undefined) return { kind: 'levels', levels: null, pulses: [] };
   if (value === 'ground_state') return { kind: 'ground_state', changes: [] };
-  if (Array.isArray(value)) return { kind: 'levels', levels: integerList(value, path), pulses: [] };
+  // -1 marks an empty site (itinerant kinds).
+  if (Array.isArray(value)) return { kind: 'levels', levels: integerList(value, path, -1), pulses: [] };
   if (!isTable(value)) {
     throw new SpecError(path, `expected a list of levels (one per site), a table with levels/pulses or ground_state, or "ground_state"; got ${describe(value)}`);
   }
@@ -133,7 +137,7 @@ function validateInitial(value: unknown, path: string): InitialState {
     return { kind: 'ground_state', changes: Object.entries(changes) };
   }
   onlyKeys(value, path, ['levels', 'pulses', 'ground_state']);
-  const levels = value.levels === undefined ? null : integerList(value.levels, `${path}.levels`);
+  const levels = value.levels === undefined ? null : integerList(value.levels, `${path}.levels`, -1);
   const pulses: Pulse[] = [];
   if (value.pulses !== undefined) {
     const list = Array.isArray(value.pulses) ? value.pulses : [value.pulses];
@@ -247,7 +251,14 @@ export function resolveEvolveSection(spec: Spec): void {
       if (initial.levels.length !== L) throw new SpecError(path, `expected one level per site (${L}), got ${initial.levels.length}`);
       initial.levels.forEach((n, i) => {
         if (n >= N) throw new SpecError(`${path}[${i}]`, `level ${n} does not exist: levels.count is ${N}`);
+        if (n < 0 && spec.particles.kind === 'pinned') throw new SpecError(`${path}[${i}]`, 'pinned particles fill every site: -1 (empty) is for itinerant kinds');
       });
+      const placed = initial.levels.filter((n) => n >= 0).length;
+      if (placed !== spec.particles.number) {
+        throw new SpecError(path, `places ${placed} particles (one per site not marked -1), but particles.number is ${spec.particles.number}`);
+      }
+    } else if (spec.particles.number !== L) {
+      throw new SpecError('evolve.initial', `the default start (every site in level 0) needs one particle per site; with particles.number = ${spec.particles.number} give evolve.initial with -1 on empty sites`);
     }
     initial.pulses.forEach((p, k) => {
       const at = `evolve.initial.pulses[${k}]`;
@@ -393,10 +404,12 @@ export function planEvolution(raw: Record<string, unknown>, spec: Spec): Evoluti
   }
 
   const vector = 2 * dimension * 8;
+  // Pinned operators hold their diagonal; itinerant ones a stored matrix of known size.
+  const operatorBytes = model.kind === 'pinned' ? dimension * 8 : planFockOperator(model, dimension).bytes;
   const parts: Record<string, number> = {
     runtime: RUNTIME_BASELINE_BYTES,
-    // The piece's and the instantaneous operator's diagonals, and the real-to-complex adapter's scratch.
-    operator: 2 * dimension * 8 + 4 * dimension * 8,
+    // The piece's and the instantaneous operator (both alive during a ramp), and the real-to-complex adapter's scratch.
+    operator: (ramps.length > 0 ? 2 : 1) * operatorBytes + 4 * dimension * 8,
     krylov: (Math.min(section.krylov, dimension) + 1) * vector,
     states: 4 * vector,
     observables: dimension * 8,
@@ -451,8 +464,6 @@ export interface EvolveOptions {
   onProgress?: (info: { time: number; end: number; matvecs: number }) => void;
   /** Start from a saved state instead of t = 0. */
   resume?: EvolutionCheckpoint;
-  /** Called after each recorded frame with what a resume from here needs (cheap: references, not copies). */
-  onCheckpoint?: (checkpoint: EvolutionCheckpoint) => void;
 }
 
 export interface EvolutionResult {
@@ -487,9 +498,9 @@ function weightInSpan(vectors: Float64Array[], psi: Float64Array, dim: number): 
   return total;
 }
 
-function stateObservables(basis: Basis, psi: Float64Array): Observables {
-  if (basis.kind !== 'pinned') throw new UnsupportedError(`time-evolution observables are not available for kind "${basis.kind}" yet`);
-  return pinnedObservables(basis, basisProbabilities([psi], basis.dim, true));
+function stateObservables(basis: Basis, psi: Float64Array, periodic: boolean): Observables {
+  if (basis.kind === 'pinned') return pinnedObservables(basis, basisProbabilities([psi], basis.dim, true));
+  return itinerantObservables(basis, [psi], true, periodic);
 }
 
 /** The initial state of a plan, normalized, interleaved complex. */
@@ -502,7 +513,7 @@ export function initialState(plan: EvolutionPlan, basis: Basis, notes: string[] 
     const levels = initial.levels ?? new Array<number>(L).fill(0);
     return productState(
       basis,
-      levels.map((n, i) => siteAmplitudes(N, n, initial.pulses, i)),
+      levels.map((n, i) => (n < 0 ? null : siteAmplitudes(N, n, initial.pulses, i))),
     );
   }
   const groundSpec = plan.initialSpec as Spec;
@@ -523,145 +534,205 @@ export function initialState(plan: EvolutionPlan, basis: Basis, notes: string[] 
   return psi;
 }
 
-/** Runs a planned trace; frames go to `onFrame` as they are recorded and are returned at the end. */
-export function runEvolution(plan: EvolutionPlan, options: EvolveOptions = {}): EvolutionResult {
-  const started = performance.now();
-  assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this time evolution');
-  const { spec, section, times, ramps, pieces } = plan;
-  const basis = buildBasis(plan.model);
-  const dim = basis.dim;
-  const notes: string[] = [];
-  const end = times[times.length - 1];
-  // Errors of successive steps add up (unitary propagation keeps them), so each may use its share;
-  // half the tolerance leaves room for the quadrature of the bound and for rounding.
-  const rate = (0.5 * section.tolerance) / Math.max(end, Number.MIN_VALUE);
+/**
+ * A trace in progress, advanced one Krylov step at a time so a caller can interleave other work
+ * (signals, checkpoints, progress) between steps.
+ */
+export class Evolution {
+  readonly plan: EvolutionPlan;
+  readonly basis: Basis;
+  readonly notes: string[] = [];
+  readonly frames: EvolutionFrame[] = [];
+  /** Model time the state `psi` belongs to. */
+  time: number;
+  /** Index of the next frame to record. */
+  nextFrame: number;
+  errorBound: number;
+  steps: number;
+  private readonly options: EvolveOptions;
+  private readonly started = performance.now();
+  private readonly dim: number;
+  private readonly psi0: Float64Array;
+  private readonly psi: Float64Array;
+  private readonly out: Float64Array;
+  private readonly scratch: Float64Array;
+  private readonly rate: number;
+  private readonly eps: number;
+  private readonly end: number;
+  private readonly matvecsBefore: number;
+  private readonly hamiltonians = new Map<string, BuiltHamiltonian>();
+  private ground: { key: string; vectors: Float64Array[] } | null = null;
+  private extraMatvecs = 0;
+  private finishedPieceMatvecs = 0;
+  private pieceIndex = 0;
+  private propagator: KrylovPropagator | null = null;
 
-  // Hamiltonians by ramp values; a few are kept (the current piece's and the instantaneous one).
-  const hamiltonians = new Map<string, BuiltHamiltonian>();
-  const hamiltonianFor = (values: number[]): BuiltHamiltonian => {
+  constructor(plan: EvolutionPlan, options: EvolveOptions = {}) {
+    assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this time evolution');
+    this.plan = plan;
+    this.options = options;
+    this.basis = buildBasis(plan.model);
+    this.dim = this.basis.dim;
+    const { times, section } = plan;
+    this.end = times[times.length - 1];
+    // Errors of successive steps add up (unitary propagation keeps them), so each may use its share;
+    // half the tolerance leaves room for the quadrature of the bound and for rounding.
+    this.rate = (0.5 * section.tolerance) / Math.max(this.end, Number.MIN_VALUE);
+    // A time this close to a cut counts as on it (times and cuts are sums of decimals).
+    this.eps = 1e-12 * Math.max(1, this.end);
+    const resume = options.resume;
+    if (resume && resume.psi.length !== 2 * this.dim) {
+      throw new ConvergenceError(`cannot resume: the saved state has ${resume.psi.length / 2} amplitudes, the basis ${this.dim}`);
+    }
+    this.psi0 = resume ? Float64Array.from(resume.psi0) : initialState(plan, this.basis, this.notes);
+    this.psi = resume ? Float64Array.from(resume.psi) : Float64Array.from(this.psi0);
+    this.time = resume ? resume.time : 0;
+    this.nextFrame = resume ? resume.nextFrame : 0;
+    this.errorBound = resume ? resume.errorBound : 0;
+    this.steps = resume ? resume.steps : 0;
+    this.matvecsBefore = resume ? resume.matvecs : 0;
+    this.out = new Float64Array(2 * this.dim);
+    this.scratch = new Float64Array(2 * this.dim);
+    if (this.nextFrame < times.length && times[this.nextFrame] <= this.time + this.eps) {
+      this.record(times[this.nextFrame], this.psi, this.errorBound);
+    }
+    while (this.pieceIndex < plan.pieces.length && plan.pieces[this.pieceIndex].end <= this.time + this.eps) this.pieceIndex++;
+  }
+
+  get done(): boolean {
+    return this.nextFrame >= this.plan.times.length;
+  }
+
+  get matvecs(): number {
+    return this.matvecsBefore + this.finishedPieceMatvecs + (this.propagator?.matvecs ?? 0) + this.extraMatvecs;
+  }
+
+  /** What a resume from the current time needs (references to live vectors: copy or write them out before advancing). */
+  checkpoint(): EvolutionCheckpoint {
+    return {
+      nextFrame: this.nextFrame,
+      time: this.time,
+      psi: this.psi,
+      psi0: this.psi0,
+      errorBound: this.errorBound,
+      matvecs: this.matvecs,
+      steps: this.steps,
+    };
+  }
+
+  /** One Krylov step (recording every frame it passes). */
+  advance(): void {
+    if (this.done) return;
+    const pieces = this.plan.pieces;
+    if (this.pieceIndex >= pieces.length) {
+      // Only reachable through rounding in the cut arithmetic; say so rather than return a short trace.
+      throw new ConvergenceError(`time evolution stopped at t = ${this.time} before the recorded time ${this.plan.times[this.nextFrame]}`);
+    }
+    const piece = pieces[this.pieceIndex];
+    if (this.propagator === null) {
+      this.propagator = new KrylovPropagator(this.hamiltonianFor(piece.values).complex, this.plan.section.krylov);
+    }
+    const t = this.time;
+    const step = this.propagator.step(this.psi, piece.end - t, this.rate);
+    this.steps++;
+    const stepEnd = piece.end - (t + step.tau) <= this.eps ? piece.end : t + step.tau;
+    const times = this.plan.times;
+    while (this.nextFrame < times.length && times[this.nextFrame] <= stepEnd + this.eps) {
+      step.evaluate(Math.min(Math.max(times[this.nextFrame] - t, 0), step.tau), this.out);
+      this.record(times[this.nextFrame], this.out, this.errorBound + step.errorBound);
+    }
+    step.evaluate(stepEnd - t, this.psi);
+    this.errorBound += step.errorBound;
+    this.time = stepEnd;
+    if (stepEnd >= piece.end) {
+      this.finishedPieceMatvecs += this.propagator.matvecs;
+      this.propagator = null;
+      this.pieceIndex++;
+    }
+    this.options.onProgress?.({ time: this.time, end: this.end, matvecs: this.matvecs });
+  }
+
+  result(): EvolutionResult {
+    return {
+      times: this.plan.times,
+      timesMs: this.plan.timesMs,
+      frames: this.frames,
+      stats: {
+        dimension: this.dim,
+        krylov: Math.min(this.plan.section.krylov, this.dim),
+        tolerance: this.plan.section.tolerance,
+        steps: this.steps,
+        matvecs: this.matvecs,
+        error_bound: this.errorBound,
+        seconds: (performance.now() - this.started) / 1000,
+      },
+      notes: this.notes,
+    };
+  }
+
+  /** Hamiltonians by ramp values; a few are kept (the current piece's and the instantaneous one). */
+  private hamiltonianFor(values: number[]): BuiltHamiltonian {
     const key = JSON.stringify(values);
-    let h = hamiltonians.get(key);
+    let h = this.hamiltonians.get(key);
     if (!h) {
-      const s = ramps.length === 0 ? spec : specWith(plan.raw, spec, ramps.map((r, k) => [r.key, values[k]]), (_key, k) => `${ramps[k].path}.key`);
-      const op = buildOperator(ramps.length === 0 ? plan.model : buildModel(s), basis);
+      const { plan } = this;
+      const ramps = plan.ramps;
+      const model =
+        ramps.length === 0
+          ? plan.model
+          : buildModel(specWith(plan.raw, plan.spec, ramps.map((r, k) => [r.key, values[k]]), (_key, k) => `${ramps[k].path}.key`));
+      const op = buildOperator(model, this.basis);
       h = { op, complex: complexView(op) };
-      if (hamiltonians.size >= 3) hamiltonians.delete(hamiltonians.keys().next().value as string);
-      hamiltonians.set(key, h);
+      if (this.hamiltonians.size >= 2) this.hamiltonians.delete(this.hamiltonians.keys().next().value as string);
+      this.hamiltonians.set(key, h);
     }
     return h;
-  };
+  }
 
-  let ground: { key: string; vectors: Float64Array[] } | null = null;
-  let extraMatvecs = 0;
-  const groundSpace = (values: number[], h: BuiltHamiltonian): Float64Array[] => {
+  private groundSpace(values: number[], h: BuiltHamiltonian): Float64Array[] {
     const key = JSON.stringify(values);
-    if (ground?.key === key) return ground.vectors;
-    const warm = ground?.vectors[0];
+    if (this.ground?.key === key) return this.ground.vectors;
+    const spec = this.plan.spec;
+    const warm = this.ground?.vectors[0];
     const eigen = lowestEigenpairs(h.op, {
-      states: Math.min(2, dim),
+      states: Math.min(2, this.dim),
       tolerance: spec.solve.tolerance,
       maxMatvecs: spec.solve.maxMatvecs ?? undefined,
       seed: spec.solve.seed,
-      initial: warm && warm.length === (h.op.isComplex ? 2 * dim : dim) ? warm : undefined,
+      initial: warm && warm.length === (h.op.isComplex ? 2 * this.dim : this.dim) ? warm : undefined,
       throwOnFailure: true,
     });
-    extraMatvecs += eigen.matvecs;
-    ground = { key, vectors: eigen.vectors.slice(0, eigen.degeneracy) };
-    return ground.vectors;
-  };
+    this.extraMatvecs += eigen.matvecs;
+    this.ground = { key, vectors: eigen.vectors.slice(0, eigen.degeneracy) };
+    return this.ground.vectors;
+  }
 
-  const resume = options.resume;
-  const psi0 = resume ? resume.psi0 : initialState(plan, basis, notes);
-  const psi = resume ? Float64Array.from(resume.psi) : Float64Array.from(psi0);
-  let t = resume ? resume.time : 0;
-  let frameIndex = resume ? resume.nextFrame : 0;
-  let errorBound = resume ? resume.errorBound : 0;
-  let steps = resume ? resume.steps : 0;
-  const matvecsBefore = resume ? resume.matvecs : 0;
-  const frames: EvolutionFrame[] = [];
-  const out = new Float64Array(2 * dim);
-  const scratch = new Float64Array(2 * dim);
-  // Products of finished pieces, and of all pieces including the current one.
-  let finishedPieceMatvecs = 0;
-  let propagationMatvecs = 0;
-
-  const record = (time: number, state: Float64Array, bound: number): void => {
+  private record(time: number, state: Float64Array, bound: number): void {
+    const ramps = this.plan.ramps;
     const values = ramps.map((r) => rampValue(r, time));
-    const h = hamiltonianFor(values);
-    const energy = expectation(h.complex, state, scratch);
-    extraMatvecs++;
-    const overlap = complexDot(psi0, state);
+    const h = this.hamiltonianFor(values);
+    const energy = expectation(h.complex, state, this.scratch);
+    this.extraMatvecs++;
+    const overlap = complexDot(this.psi0, state);
     const observables: TraceObservables = {
-      ...stateObservables(basis, state),
+      ...stateObservables(this.basis, state, this.plan.model.chainPeriodic),
       return_probability: overlap.re * overlap.re + overlap.im * overlap.im,
       energy,
       norm: vectorNorm(state),
     };
-    if (ramps.length > 0) observables.ground_overlap = weightInSpan(groundSpace(values, h), state, dim);
-    const frame: EvolutionFrame = {
-      index: frameIndex,
-      time,
-      observables,
-      error_bound: bound,
-      matvecs: matvecsBefore + propagationMatvecs + extraMatvecs,
-    };
-    frames.push(frame);
-    options.onFrame?.(frame, state);
-    frameIndex++;
-    options.onCheckpoint?.({
-      nextFrame: frameIndex,
-      time,
-      psi: state,
-      psi0,
-      errorBound: bound,
-      matvecs: frame.matvecs,
-      steps,
-    });
-  };
-
-  // A time this close to a cut counts as on it (times and cuts are sums of decimals).
-  const eps = 1e-12 * Math.max(1, end);
-  if (frameIndex < times.length && times[frameIndex] <= t + eps) record(times[frameIndex], psi, errorBound);
-
-  for (const piece of pieces) {
-    if (piece.end <= t + eps) continue;
-    const propagator = new KrylovPropagator(hamiltonianFor(piece.values).complex, section.krylov);
-    while (t < piece.end - eps) {
-      const step = propagator.step(psi, piece.end - t, rate);
-      steps++;
-      const stepEnd = piece.end - (t + step.tau) <= eps ? piece.end : t + step.tau;
-      while (frameIndex < times.length && times[frameIndex] <= stepEnd + eps) {
-        step.evaluate(Math.min(Math.max(times[frameIndex] - t, 0), step.tau), out);
-        record(times[frameIndex], out, errorBound + step.errorBound);
-      }
-      step.evaluate(stepEnd - t, psi);
-      errorBound += step.errorBound;
-      t = stepEnd;
-      propagationMatvecs = finishedPieceMatvecs + propagator.matvecs;
-      options.onProgress?.({ time: t, end, matvecs: matvecsBefore + propagationMatvecs + extraMatvecs });
-    }
-    finishedPieceMatvecs += propagator.matvecs;
+    if (ramps.length > 0) observables.ground_overlap = weightInSpan(this.groundSpace(values, h), state, this.dim);
+    const frame: EvolutionFrame = { index: this.nextFrame, time, observables, error_bound: bound, matvecs: this.matvecs };
+    this.frames.push(frame);
+    this.nextFrame++;
+    this.options.onFrame?.(frame, state);
   }
-  if (frameIndex < times.length) {
-    // Only reachable through rounding in the cut arithmetic; say so rather than return a short trace.
-    throw new ConvergenceError(`time evolution stopped at t = ${t} before the recorded time ${times[frameIndex]}`);
-  }
+}
 
-  return {
-    times,
-    timesMs: plan.timesMs,
-    frames,
-    stats: {
-      dimension: dim,
-      krylov: Math.min(section.krylov, dim),
-      tolerance: section.tolerance,
-      steps,
-      matvecs: matvecsBefore + propagationMatvecs + extraMatvecs,
-      error_bound: errorBound,
-      seconds: (performance.now() - started) / 1000,
-    },
-    notes,
-  };
+/** Runs a planned trace to the end; frames go to `onFrame` as they are recorded and are returned at the end. */
+export function runEvolution(plan: EvolutionPlan, options: EvolveOptions = {}): EvolutionResult {
+  const evolution = new Evolution(plan, options);
+  while (!evolution.done) evolution.advance();
+  return evolution.result();
 }
 
 // ---------------------------------------------------------------------------------------------

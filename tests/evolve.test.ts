@@ -263,6 +263,38 @@ describe('ramps', () => {
   });
 });
 
+describe('itinerant particles', () => {
+  // One particle hopping between two sites is a two-level system (textbook): P(site 1) = sin^2(t_hop t).
+  it('one hard-core boson on two sites oscillates between them', () => {
+    const t = 0.6;
+    const r = trace({
+      chain: { sites: 2 },
+      levels: { count: 1 },
+      particles: { kind: 'hardcore', number: 1, hopping: t },
+      evolve: { initial: [0, -1], times: { from: 0, to: 8, steps: 16 }, tolerance: 1e-10 },
+    });
+    r.frames.forEach((f) => {
+      expect(f.observables.populations[1][0]).toBeCloseTo(Math.sin(t * f.time) ** 2, 9);
+      expect((f.observables.density as number[])[0]).toBeCloseTo(Math.cos(t * f.time) ** 2, 9);
+    });
+  });
+
+  // Hard-core bosons at one per site with no hopping are the pinned model (MODEL.md): the same trace.
+  it('hard-core bosons, one per site, t = 0: the pinned dynamics', () => {
+    const base = clean(randomPinnedSpec(21, 3, 3));
+    const evolve = { initial: { levels: [0, 1, 2], pulses: [{ between: [0, 1], area: 1.1, phase: 0.4 }] }, times: [0, 0.7, 2], tolerance: 1e-10 };
+    const pinned = trace({ ...base, evolve });
+    const hardcore = trace({ ...base, particles: { kind: 'hardcore', number: 3 }, evolve });
+    pinned.frames.forEach((f, k) => {
+      const g = hardcore.frames[k].observables;
+      expect(g.energy).toBeCloseTo(f.observables.energy, 9);
+      expect(g.return_probability).toBeCloseTo(f.observables.return_probability, 9);
+      expect(g.string_width).toBeCloseTo(f.observables.string_width, 9);
+      f.observables.populations.forEach((row, i) => row.forEach((p, n) => expect(g.populations[i][n]).toBeCloseTo(p, 9)));
+    });
+  });
+});
+
 describe('the [evolve] section: bad input names the key path', () => {
   const base = { chain: { sites: 2 }, levels: { count: 3 } };
   const fails = (evolve: unknown, path: RegExp) => {
@@ -292,5 +324,6 @@ describe('the [evolve] section: bad input names the key path', () => {
     [{ times: [1], ramp: [{ key: 'exchange.strength', from: 0, to: 1 }] }, /^evolve\.ramp\[0\]\.duration$/],
     [{ times: [1], initial: { ground_state: { 'exchange.range': 'sideways' } } }, /^evolve\.initial\.ground_state\.exchange\.range$/],
     [{ times: [1], colour: 'red' }, /^evolve\.colour$/],
+    [{ times: [1], initial: [0, -1] }, /^evolve\.initial\[1\]$/],
   ])('%j -> %s', (evolve, path) => fails(evolve, path));
 });

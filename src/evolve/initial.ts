@@ -1,7 +1,7 @@
 // Initial states for time evolution: product states of one level per site, products of per-site
 // superpositions made by resonant pulses, and ground states of the spec with some keys changed.
 
-import type { Basis } from '../basis.js';
+import type { Basis, FockBasis } from '../basis.js';
 import { UnsupportedError } from '../errors.js';
 
 /** A resonant pulse of area `area` (= Omega * duration) and phase `phase` between two levels. */
@@ -47,19 +47,21 @@ export function siteAmplitudes(levels: number, level: number, pulses: Pulse[], s
 }
 
 /**
- * The product state prod_i (sum_n c_i[n] |n>_i) on the basis, interleaved complex. Built site by
- * site as a Kronecker product (site 0 fastest, matching the pinned mixed-radix index).
+ * The product state prod_i (sum_n c_i[n] |n>_i), interleaved complex; perSite[i] = null leaves
+ * site i empty (itinerant kinds only). Pinned: built site by site as a Kronecker product (site 0
+ * fastest, matching the mixed-radix index). Fock bases: every configuration with one particle on
+ * each occupied site gets prod_i c_i[n_i]; the particles are created in mode order (site-major), so
+ * no fermion sign arises.
  */
-export function productState(basis: Basis, perSite: Float64Array[]): Float64Array {
-  if (basis.kind !== 'pinned') {
-    throw new UnsupportedError(`time evolution from a product of levels needs pinned particles (got kind "${basis.kind}"); start from a ground state instead`);
-  }
+export function productState(basis: Basis, perSite: (Float64Array | null)[]): Float64Array {
+  if (basis.kind !== 'pinned') return fockProductState(basis, perSite);
   const N = basis.levels;
-  let current = new Float64Array(2 * basis.dim);
-  current.set(perSite[0].subarray(0, 2 * N));
+  const current = new Float64Array(2 * basis.dim);
+  if (perSite.some((c) => c === null)) throw new UnsupportedError('pinned particles fill every site: no site can start empty');
+  current.set((perSite[0] as Float64Array).subarray(0, 2 * N));
   let length = N;
   for (let i = 1; i < basis.sites; i++) {
-    const c = perSite[i];
+    const c = perSite[i] as Float64Array;
     // Write from the highest level down so the block of level 0 can be scaled in place last.
     for (let n = N - 1; n >= 0; n--) {
       const cr = c[2 * n];
@@ -75,4 +77,45 @@ export function productState(basis: Basis, perSite: Float64Array[]): Float64Arra
     length *= N;
   }
   return current;
+}
+
+function fockProductState(basis: FockBasis, perSite: (Float64Array | null)[]): Float64Array {
+  const N = basis.levels;
+  const { local } = basis;
+  const occupied = perSite.filter((c) => c !== null).length;
+  if (occupied !== basis.particles) {
+    throw new UnsupportedError(`the initial state puts ${occupied} particles on the chain, but particles.number is ${basis.particles}`);
+  }
+  // Local state "one particle in level n", and the empty site.
+  const single = new Int32Array(N).fill(-1);
+  let empty = -1;
+  for (let s = 0; s < local.dim; s++) {
+    if (local.count[s] === 0) empty = s;
+    if (local.count[s] === 1) for (let n = 0; n < N; n++) if (local.occupation[s * N + n] === 1) single[n] = s;
+  }
+  const psi = new Float64Array(2 * basis.dim);
+  const state = new Int32Array(basis.sites);
+  const visit = (site: number, re: number, im: number): void => {
+    if (site === basis.sites) {
+      const index = basis.rank(state);
+      psi[2 * index] += re;
+      psi[2 * index + 1] += im;
+      return;
+    }
+    const c = perSite[site];
+    if (c === null) {
+      state[site] = empty;
+      visit(site + 1, re, im);
+      return;
+    }
+    for (let n = 0; n < N; n++) {
+      const cr = c[2 * n];
+      const ci = c[2 * n + 1];
+      if (cr === 0 && ci === 0) continue;
+      state[site] = single[n];
+      visit(site + 1, re * cr - im * ci, re * ci + im * cr);
+    }
+  };
+  visit(0, 1, 0);
+  return psi;
 }

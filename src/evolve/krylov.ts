@@ -83,6 +83,41 @@ export function expectation(op: ComplexOperator, v: Float64Array, scratch: Float
   return complexDot(v, scratch).re;
 }
 
+/** Entries processed per block: a block of w stays in cache while the basis vectors stream past. */
+const BLOCK = 2048;
+
+/** w -= sum_k <v_k, w> v_k over basis[0..count), classical Gram–Schmidt in cache-sized blocks. */
+function orthogonalize(w: Float64Array, basis: Float64Array[], count: number, coef: Float64Array): void {
+  const len = w.length;
+  coef.fill(0, 0, 2 * count);
+  for (let start = 0; start < len; start += BLOCK) {
+    const end = Math.min(start + BLOCK, len);
+    for (let k = 0; k < count; k++) {
+      const v = basis[k];
+      let re = 0;
+      let im = 0;
+      for (let t = start; t < end; t += 2) {
+        re += v[t] * w[t] + v[t + 1] * w[t + 1];
+        im += v[t] * w[t + 1] - v[t + 1] * w[t];
+      }
+      coef[2 * k] += re;
+      coef[2 * k + 1] += im;
+    }
+  }
+  for (let start = 0; start < len; start += BLOCK) {
+    const end = Math.min(start + BLOCK, len);
+    for (let k = 0; k < count; k++) {
+      const v = basis[k];
+      const cr = coef[2 * k];
+      const ci = coef[2 * k + 1];
+      for (let t = start; t < end; t += 2) {
+        w[t] -= cr * v[t] - ci * v[t + 1];
+        w[t + 1] -= cr * v[t + 1] + ci * v[t];
+      }
+    }
+  }
+}
+
 // 4-point Gauss–Legendre nodes and weights on [-1, 1] (Abramowitz and Stegun, table 25.4).
 const GL_NODES = [-0.8611363115940526, -0.3399810435848563, 0.3399810435848563, 0.8611363115940526];
 const GL_WEIGHTS = [0.3478548451374538, 0.6521451548625461, 0.6521451548625461, 0.3478548451374538];
@@ -111,6 +146,7 @@ export class KrylovPropagator {
   private readonly op: ComplexOperator;
   private readonly basis: Float64Array[] = [];
   private readonly w: Float64Array;
+  private readonly coef: Float64Array;
   /** Matrix-vector products used so far. */
   matvecs = 0;
 
@@ -120,6 +156,7 @@ export class KrylovPropagator {
     // The Krylov space of a vector never exceeds the dimension.
     this.maxSize = Math.max(1, Math.min(krylovSize, op.dim));
     this.w = new Float64Array(2 * op.dim);
+    this.coef = new Float64Array(2 * this.maxSize);
   }
 
   private vector(j: number): Float64Array {
@@ -152,19 +189,18 @@ export class KrylovPropagator {
       const hvNorm = vectorNorm(w);
       const a = complexDot(vj, w).re;
       alpha[j] = a;
-      // Full reorthogonalization against every earlier vector (classical Gram–Schmidt, twice when the
-      // vector shrinks a lot): keeps T_m faithful for the small m used here.
+      // Three-term recurrence, then full reorthogonalization against every earlier vector (one
+      // classical Gram–Schmidt pass, a second when the first removes much: Daniel, Gragg, Kaufman
+      // and Stewart 1976), which keeps T_m faithful for the small m used here.
+      const previous = j > 0 ? this.basis[j - 1] : null;
+      const bPrev = j > 0 ? beta[j - 1] : 0;
+      for (let t = 0; t < w.length; t++) {
+        w[t] -= a * vj[t] + (previous ? bPrev * previous[t] : 0);
+      }
       for (let pass = 0; pass < 2; pass++) {
         const before = vectorNorm(w);
-        for (let k = 0; k <= j; k++) {
-          const vk = this.basis[k];
-          const c = complexDot(vk, w);
-          for (let t = 0; t < w.length; t += 2) {
-            w[t] -= c.re * vk[t] - c.im * vk[t + 1];
-            w[t + 1] -= c.re * vk[t + 1] + c.im * vk[t];
-          }
-        }
-        if (vectorNorm(w) > 0.7 * before) break;
+        orthogonalize(w, this.basis, j + 1, this.coef);
+        if (vectorNorm(w) > Math.SQRT1_2 * before) break;
       }
       const b = vectorNorm(w);
       beta[j] = b;
