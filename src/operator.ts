@@ -4,11 +4,11 @@ import type { Basis } from './basis.js';
 import type { Model } from './model.js';
 import { CsrOperator } from './operator/csr.js';
 import { PinnedOperator } from './operator/pinned.js';
-import { FockOperator } from './operator/fock.js';
+import { buildFockOperator } from './operator/fock.js';
 
 export { CsrBuilder, CsrOperator } from './operator/csr.js';
 export { PinnedOperator } from './operator/pinned.js';
-export { FockOperator, planFockOperator } from './operator/fock.js';
+export { buildFockOperator, planFockOperator } from './operator/fock.js';
 
 /**
  * A Hermitian linear operator known by its dimension and matrix-vector product.
@@ -27,7 +27,7 @@ export interface BuiltOperator extends HermitianOperator {
 }
 
 export function operatorStorage(op: HermitianOperator): 'on-the-fly' | 'stored' {
-  return op instanceof CsrOperator || op instanceof FockOperator ? 'stored' : 'on-the-fly';
+  return op instanceof CsrOperator ? 'stored' : 'on-the-fly';
 }
 
 export function buildOperator(model: Model, basis: Basis): BuiltOperator {
@@ -35,6 +35,6 @@ export function buildOperator(model: Model, basis: Basis): BuiltOperator {
     case 'pinned':
       return new PinnedOperator(model, basis);
     default:
-      return new FockOperator(model, basis);
+      return buildFockOperator(model, basis);
   }
 }

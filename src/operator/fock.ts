@@ -1,5 +1,5 @@
 // The Hamiltonian of MODEL.md on fixed-number Fock bases (hard-core bosons, soft-core bosons,
-// fermions), stored once as a diagonal plus off-diagonal compressed rows.
+// fermions), stored once as compressed rows.
 //
 // Every term is written with the creation and annihilation tables of the local space:
 //   synthetic tunnelling   sum_{a != b} h_ab a+_{i,a} a_{i,b}     one site: a local matrix
@@ -17,13 +17,14 @@
 // Rows are generated state by state in rank order; the column of a target state is the row's rank
 // plus the change of the few rank-table terms the move touches (see src/basis/fock.ts). The number
 // of stored entries is known in closed form before building (fockOffDiagonalCount), so every array
-// is allocated once at its final size.
+// is allocated once at its final size. The result is an ordinary CsrOperator in shared memory, so
+// threaded products (src/parallel.ts) apply to it unchanged.
 
 import type { FockBasis, LocalSpace } from '../basis/fock.js';
 import { buildLocalSpace } from '../basis/fock.js';
 import { ResourceError } from '../errors.js';
 import type { Model } from '../model.js';
-import type { HermitianOperator } from '../operator.js';
+import { CsrOperator } from './csr.js';
 
 /** Largest number of stored off-diagonal entries: typed arrays are indexed by 32-bit integers here. */
 const MAX_STORED = 2 ** 31 - 1;
@@ -232,86 +233,53 @@ export interface FockPlan {
 /** Nonzeros and bytes of the stored operator, for `check` and the memory refusal; allocates nothing large. */
 export function planFockOperator(model: Model, dim: number): FockPlan {
   const terms = localTerms(model, localSpaceOf(model));
-  const offDiagonal = offDiagonalCount(model, terms);
+  const stored = offDiagonalCount(model, terms) + (terms.hasDiagonal ? dim : 0);
   const valueBytes = model.isComplex ? 16 : 8;
-  const diagonalBytes = terms.hasDiagonal ? 8 * dim : 0;
-  return {
-    nonzeros: offDiagonal + (terms.hasDiagonal ? dim : 0),
-    bytes: 8 * (dim + 1) + offDiagonal * (4 + valueBytes) + diagonalBytes,
+  return { nonzeros: stored, bytes: 8 * (dim + 1) + stored * (4 + valueBytes) };
+}
+
+/** Arrays the product threads can share (src/parallel.ts) without copying the matrix. */
+function shared<T extends Float64Array | Int32Array>(length: number, kind: { new (buffer: SharedArrayBuffer): T; BYTES_PER_ELEMENT: number }): T {
+  const out = new kind(new SharedArrayBuffer(Math.max(1, length) * kind.BYTES_PER_ELEMENT));
+  return out.length === length ? out : (out.subarray(0, length) as T);
+}
+
+/**
+ * The stored Fock-space Hamiltonian as compressed rows (both triangles); when any diagonal term is
+ * present every row starts with its diagonal entry. Arrays are allocated once at their final size,
+ * in shared memory.
+ */
+export function buildFockOperator(model: Model, basis: FockBasis): CsrOperator {
+  if (model.kind !== basis.kind) throw new Error(`model kind ${model.kind} does not match basis kind ${basis.kind}`);
+  const terms = localTerms(model, basis.local);
+  const offDiagonal = offDiagonalCount(model, terms);
+  const stored = offDiagonal + (terms.hasDiagonal ? basis.dim : 0);
+  if (stored > MAX_STORED) {
+    throw new ResourceError(`the Hamiltonian would store ${stored} matrix elements, more than the ${MAX_STORED} supported`);
+  }
+  const out: FockArrays = {
+    rowStart: shared(basis.dim + 1, Float64Array),
+    columns: shared(stored, Int32Array),
+    valuesRe: shared(stored, Float64Array),
+    valuesIm: model.isComplex ? shared(stored, Float64Array) : null,
+    diagonal: terms.hasDiagonal,
   };
+  const written = fillRows(model, basis, terms, out);
+  if (written !== stored) throw new Error(`Fock operator: wrote ${written} entries, counted ${stored}`);
+  return new CsrOperator(basis.dim, model.isComplex, out.rowStart, out.columns, out.valuesRe, out.valuesIm);
 }
 
-/** The stored Fock-space Hamiltonian: an optional diagonal plus off-diagonal compressed rows. */
-export class FockOperator implements HermitianOperator {
-  readonly dim: number;
-  readonly isComplex: boolean;
-  readonly diagonal: Float64Array | null;
-  readonly rowStart: Float64Array;
-  readonly columns: Int32Array;
-  readonly valuesRe: Float64Array;
-  readonly valuesIm: Float64Array | null;
-
-  constructor(model: Model, basis: FockBasis) {
-    if (model.kind !== basis.kind) throw new Error(`model kind ${model.kind} does not match basis kind ${basis.kind}`);
-    const terms = localTerms(model, basis.local);
-    const stored = offDiagonalCount(model, terms);
-    if (stored > MAX_STORED) {
-      throw new ResourceError(`the Hamiltonian would store ${stored} off-diagonal entries, more than the ${MAX_STORED} supported`);
-    }
-    this.dim = basis.dim;
-    this.isComplex = model.isComplex;
-    this.diagonal = terms.hasDiagonal ? new Float64Array(basis.dim) : null;
-    this.rowStart = new Float64Array(basis.dim + 1);
-    this.columns = new Int32Array(stored);
-    this.valuesRe = new Float64Array(stored);
-    this.valuesIm = model.isComplex ? new Float64Array(stored) : null;
-    const written = fillRows(model, basis, terms, this);
-    if (written !== stored) throw new Error(`Fock operator: wrote ${written} entries, counted ${stored}`);
-  }
-
-  /** Stored entries (off-diagonal plus the stored diagonal). */
-  nonzeros(): number {
-    return this.columns.length + (this.diagonal ? this.dim : 0);
-  }
-
-  apply(x: Float64Array, y: Float64Array): void {
-    const dim = this.dim;
-    const rs = this.rowStart;
-    const col = this.columns;
-    const vr = this.valuesRe;
-    const vi = this.valuesIm;
-    const diag = this.diagonal;
-    if (vi === null) {
-      for (let r = 0; r < dim; r++) {
-        let acc = diag === null ? 0 : diag[r] * x[r];
-        const end = rs[r + 1];
-        for (let k = rs[r]; k < end; k++) acc += vr[k] * x[col[k]];
-        y[r] = acc;
-      }
-      return;
-    }
-    for (let r = 0; r < dim; r++) {
-      const dr = diag === null ? 0 : diag[r];
-      let accR = dr * x[2 * r];
-      let accI = dr * x[2 * r + 1];
-      const end = rs[r + 1];
-      for (let k = rs[r]; k < end; k++) {
-        const c = 2 * col[k];
-        const hr = vr[k];
-        const hi = vi[k];
-        const xr = x[c];
-        const xi = x[c + 1];
-        accR += hr * xr - hi * xi;
-        accI += hr * xi + hi * xr;
-      }
-      y[2 * r] = accR;
-      y[2 * r + 1] = accI;
-    }
-  }
+interface FockArrays {
+  rowStart: Float64Array;
+  columns: Int32Array;
+  valuesRe: Float64Array;
+  valuesIm: Float64Array | null;
+  /** Whether each row starts with its diagonal entry. */
+  diagonal: boolean;
 }
 
-/** Writes every row; returns the number of off-diagonal entries written. */
-function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockOperator): number {
+/** Writes every row; returns the number of entries written. */
+function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockArrays): number {
   const L = basis.sites;
   const N = basis.levels;
   const Np = basis.particles;
@@ -322,7 +290,7 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockOp
   const fermion = basis.kind === 'fermion';
   const { localStart, localCol, localRe, localIm, localDiagonal, moment, raiseTo, raiseAmp, lowerTo, lowerAmp } = terms;
   const { createTo, createAmp, annihilateTo, annihilateAmp } = basis.local;
-  const diag = out.diagonal;
+  const withDiagonal = out.diagonal;
   const rowStart = out.rowStart;
   const columns = out.columns;
   const valuesRe = out.valuesRe;
@@ -388,11 +356,11 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockOp
     upChange[L] = upAcc;
     downChange[L] = downAcc;
 
-    if (diag !== null) {
+    if (withDiagonal) {
       let e = 0;
       for (let i = 0; i < L; i++) e += localDiagonal[state[i]];
       for (let p = 0; p < nIsing; p++) e += isingW[p] * moment[state[isingI[p]]] * moment[state[isingJ[p]]];
-      diag[row] = e;
+      push(row, e, 0);
     }
 
     // Synthetic tunnelling: one site changes, its prefix does not.
