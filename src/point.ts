@@ -14,6 +14,7 @@ import { defaultKrylovSize, lowestEigenpairs, type EigenResult } from './solver.
 import type { Spec } from './spec.js';
 import { detectSymmetries, type SectorLabel, type SymmetryCheck, type SymmetryName } from './symmetry.js';
 import { denseThresholdFor, solveInSectors, type SectorRun } from './sectorSolve.js';
+import { defaultProductThreads, withThreads } from './parallel.js';
 import { estimateSectorMemory } from './resources.js';
 import type { PinnedBasis } from './basis.js';
 
@@ -55,6 +56,8 @@ export interface SolveOptions {
   maxMemory?: number;
   /** Start vector for the eigensolver (warm start from a neighbouring point). */
   initial?: Float64Array;
+  /** Threads for one matrix-vector product; overrides solve.threads (a scan running points in parallel passes 1). */
+  threads?: number;
   onProgress?: (info: { matvecs: number; restarts: number; worstResidual: number }) => void;
 }
 
@@ -122,7 +125,11 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   if (plan.used && basis.kind === 'pinned') return solvePinnedInSectors(spec, plan, basis, options, started);
   const op = buildOperator(plan.model, basis);
   const states = Math.min(spec.solve.states, basis.dim);
-  const eigen = lowestEigenpairs(op, {
+  const threads = productThreads(spec, options, op.nonzeros());
+  const threaded = withThreads(op, threads, plan.model, basis.kind === 'pinned' ? basis : undefined);
+  let eigen: EigenResult;
+  try {
+    eigen = lowestEigenpairs(threaded, {
     states,
     tolerance: spec.solve.tolerance,
     maxMatvecs: spec.solve.maxMatvecs ?? undefined,
@@ -132,7 +139,10 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     initial: options.initial,
     onProgress: options.onProgress,
     throwOnFailure: false,
-  });
+    });
+  } finally {
+    threaded.close();
+  }
   const ground = eigen.vectors.slice(0, eigen.degeneracy);
   const observables =
     basis.kind === 'pinned'
@@ -169,6 +179,12 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   return { record, groundStates: ground, eigen };
 }
 
+/** Threads for one product: the caller's choice, then the spec's, then by the amount of work. */
+function productThreads(spec: Spec, options: SolveOptions, work: number): number {
+  if (options.threads !== undefined) return options.threads;
+  return spec.solve.threads === 'auto' ? defaultProductThreads(work) : spec.solve.threads;
+}
+
 /** Vectors this large are not expanded to the full space for callers (warm starts, entanglement). */
 const EXPAND_LIMIT = 1 << 22;
 
@@ -186,6 +202,7 @@ function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, o
     initial: options.initial,
     initialComplex: options.initial ? options.initial.length === 2 * basis.dim : false,
     expandGround: basis.dim <= EXPAND_LIMIT || cuts.length > 0,
+    threadsFor: (work: number) => productThreads(spec, options, work),
     onProgress: options.onProgress,
   });
   // Callers get ground states in the model's own arithmetic: a real H has a real ground space,

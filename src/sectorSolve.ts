@@ -7,6 +7,7 @@ import { OrbitMap, SectorBasis, type GroupUse } from './basis/sectors.js';
 import { SpecError } from './errors.js';
 import type { Model } from './model.js';
 import { buildSectorOperator } from './operator/sector.js';
+import { withThreads } from './parallel.js';
 import { lowestEigenpairs, type EigenOptions } from './solver.js';
 import { IndexActions, planSectors, type SectorLabel, type SectorSelection, type SymmetryName } from './symmetry.js';
 
@@ -48,6 +49,8 @@ export interface SectorSolveOptions {
   initial?: Float64Array;
   initialComplex?: boolean;
   expandGround?: boolean;
+  /** Threads for one product of a sector whose stored matrix has `work` nonzeros (default 1). */
+  threadsFor?: (work: number) => number;
   onProgress?: EigenOptions['onProgress'];
 }
 
@@ -129,61 +132,66 @@ export function solveInSectors(
   for (const plan of plans) {
     const sector = new SectorBasis(orbitsFor(plan.label), plan.label);
     if (sector.dim === 0) continue;
-    const op = buildSectorOperator(model, basis, sector);
-    const isComplex = op.isComplex;
-    let initial: Float64Array | undefined;
-    if (opts.initial) {
-      const c = sector.project(opts.initial, opts.initialComplex ?? false, isComplex);
-      let n2 = 0;
-      for (let k = 0; k < c.length; k++) n2 += c[k] * c[k];
-      if (n2 > 1e-12) initial = c;
-    }
-    const base: EigenOptions = {
-      states: 1,
-      denseThreshold: denseThresholdFor(Math.min(states, sector.dim)),
-      tolerance: opts.tolerance,
-      maxMatvecs: opts.maxMatvecs,
-      krylovSize: opts.krylovSize !== undefined ? Math.min(opts.krylovSize, sector.dim) : undefined,
-      seed: opts.seed,
-      initial,
-      onProgress: opts.onProgress,
-    };
-    const need = Math.min(states, sector.dim);
-    const sorted = found.map((f) => f.energy).sort((a, b) => a - b);
-    const ceiling = sorted.length >= states ? sorted[states - 1] : Infinity;
-    let screened = false;
-    let result;
-    if (Number.isFinite(ceiling) && sector.dim > denseThresholdFor(need)) {
-      // Screen with the sector's lowest state: if even it lies above the current answer, the sector adds nothing.
-      const first = lowestEigenpairs(op, base);
-      matvecs += first.matvecs;
-      restarts += first.restarts;
-      if (first.values[0] > ceiling + degeneracyWindow(ceiling, opts.tolerance)) {
-        screened = true;
-        converged &&= first.converged;
-        runs.push({ label: plan.label, dimension: sector.dim, method: first.method, iterations: first.matvecs, lowest: first.values[0], screened, copies: plan.copies });
-        if (first.method === 'lanczos') anyLanczos = true;
-        continue;
+    const stored = buildSectorOperator(model, basis, sector);
+    const op = withThreads(stored, opts.threadsFor ? opts.threadsFor(stored.nonzeros()) : 1);
+    try {
+      const isComplex = op.isComplex;
+      let initial: Float64Array | undefined;
+      if (opts.initial) {
+        const c = sector.project(opts.initial, opts.initialComplex ?? false, isComplex);
+        let n2 = 0;
+        for (let k = 0; k < c.length; k++) n2 += c[k] * c[k];
+        if (n2 > 1e-12) initial = c;
       }
-      result = need === 1 ? first : lowestEigenpairs(op, { ...base, states: need, initial: first.vectors[0] });
-      if (need > 1) {
+      const base: EigenOptions = {
+        states: 1,
+        denseThreshold: denseThresholdFor(Math.min(states, sector.dim)),
+        tolerance: opts.tolerance,
+        maxMatvecs: opts.maxMatvecs,
+        krylovSize: opts.krylovSize !== undefined ? Math.min(opts.krylovSize, sector.dim) : undefined,
+        seed: opts.seed,
+        initial,
+        onProgress: opts.onProgress,
+      };
+      const need = Math.min(states, sector.dim);
+      const sorted = found.map((f) => f.energy).sort((a, b) => a - b);
+      const ceiling = sorted.length >= states ? sorted[states - 1] : Infinity;
+      let screened = false;
+      let result;
+      if (Number.isFinite(ceiling) && sector.dim > denseThresholdFor(need)) {
+        // Screen with the sector's lowest state: if even it lies above the current answer, the sector adds nothing.
+        const first = lowestEigenpairs(op, base);
+        matvecs += first.matvecs;
+        restarts += first.restarts;
+        if (first.values[0] > ceiling + degeneracyWindow(ceiling, opts.tolerance)) {
+          screened = true;
+          converged &&= first.converged;
+          runs.push({ label: plan.label, dimension: sector.dim, method: first.method, iterations: first.matvecs, lowest: first.values[0], screened, copies: plan.copies });
+          if (first.method === 'lanczos') anyLanczos = true;
+          continue;
+        }
+        result = need === 1 ? first : lowestEigenpairs(op, { ...base, states: need, initial: first.vectors[0] });
+        if (need > 1) {
+          matvecs += result.matvecs;
+          restarts += result.restarts;
+        }
+      } else {
+        result = lowestEigenpairs(op, { ...base, states: need });
         matvecs += result.matvecs;
         restarts += result.restarts;
       }
-    } else {
-      result = lowestEigenpairs(op, { ...base, states: need });
-      matvecs += result.matvecs;
-      restarts += result.restarts;
+      if (result.method === 'lanczos') anyLanczos = true;
+      converged &&= result.converged;
+      runs.push({ label: plan.label, dimension: sector.dim, method: result.method, iterations: result.matvecs, lowest: result.values[0], screened, copies: plan.copies });
+      for (let k = 0; k < result.values.length; k++) {
+        const entry = { energy: result.values[k], residual: result.residuals[k], sector, vector: result.vectors[k], complex: isComplex };
+        found.push({ ...entry, label: plan.label });
+        for (const copy of plan.copies) found.push({ ...entry, label: copy });
+      }
+      found.sort((a, b) => a.energy - b.energy);
+    } finally {
+      op.close();
     }
-    if (result.method === 'lanczos') anyLanczos = true;
-    converged &&= result.converged;
-    runs.push({ label: plan.label, dimension: sector.dim, method: result.method, iterations: result.matvecs, lowest: result.values[0], screened, copies: plan.copies });
-    for (let k = 0; k < result.values.length; k++) {
-      const entry = { energy: result.values[k], residual: result.residuals[k], sector, vector: result.vectors[k], complex: isComplex };
-      found.push({ ...entry, label: plan.label });
-      for (const copy of plan.copies) found.push({ ...entry, label: copy });
-    }
-    found.sort((a, b) => a.energy - b.energy);
     // Keep what can still matter: the lowest `states` and anything degenerate with the ground level.
     const e0 = found[0].energy;
     const window = degeneracyWindow(e0, opts.tolerance);

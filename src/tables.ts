@@ -27,6 +27,10 @@ export function describePlan(plan: PointPlan, limit: number): string {
     `arithmetic       ${plan.model.isComplex ? 'complex (Peierls phases)' : 'real'}`,
     `memory estimate  ${formatBytes(plan.memory.totalBytes)} (limit ${formatBytes(limit)})`,
   ];
+  if (plan.symmetries.length > 0) {
+    const used = plan.symmetries.filter((c) => plan.used?.[c.name]).map((c) => c.name);
+    lines.splice(3, 0, `symmetries       ${used.length > 0 ? used.join(', ') + ' (checked on the operator; solved sector by sector)' : 'none found'}`);
+  }
   for (const [part, bytes] of Object.entries(plan.memory.parts)) lines.push(`  ${part.padEnd(14)} ${formatBytes(bytes)}`);
   return lines.join('\n');
 }
@@ -39,10 +43,16 @@ export function describeRecord(r: PointRecord): string {
       (r.solver.converged ? '' : '  NOT CONVERGED'),
   );
   out.push('');
+  const labels = r.sectors;
+  const quantum = (k: number) => {
+    const l = labels?.[k];
+    if (!l) return [];
+    return [l.momentum === null ? '-' : `${l.momentum}`, l.parity === null ? '-' : l.parity > 0 ? '+' : '-1', l.level_flip === null ? '-' : l.level_flip > 0 ? '+' : '-1', l.charge === null ? '-' : String(l.charge)];
+  };
   out.push(
     table(
-      ['state', 'energy', 'E - E0', 'residual'],
-      r.energies.map((e, k) => [String(k), fmt(e, 12), fmt(e - r.energies[0], 8), r.solver.residuals[k].toExponential(1)]),
+      ['state', 'energy', 'E - E0', 'residual', ...(labels ? ['k (2pi/L)', 'parity', 'flip', 'charge'] : [])],
+      r.energies.map((e, k) => [String(k), fmt(e, 12), fmt(e - r.energies[0], 8), r.solver.residuals[k].toExponential(1), ...quantum(k)]),
     ),
   );
   out.push('');

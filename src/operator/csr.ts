@@ -21,13 +21,17 @@ export class CsrOperator implements HermitianOperator {
   }
 
   apply(x: Float64Array, y: Float64Array): void {
-    const dim = this.dim;
+    this.applyRange(x, y, 0, this.dim);
+  }
+
+  /** Rows [lo, hi) of y = H x only, so threads can share one product. */
+  applyRange(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
     const rs = this.rowStart;
     const col = this.columns;
     const vr = this.valuesRe;
     const vi = this.valuesIm;
     if (vi === null) {
-      for (let r = 0; r < dim; r++) {
+      for (let r = lo; r < hi; r++) {
         let acc = 0;
         const end = rs[r + 1];
         for (let k = rs[r]; k < end; k++) acc += vr[k] * x[col[k]];
@@ -35,7 +39,7 @@ export class CsrOperator implements HermitianOperator {
       }
       return;
     }
-    for (let r = 0; r < dim; r++) {
+    for (let r = lo; r < hi; r++) {
       let accR = 0;
       let accI = 0;
       const end = rs[r + 1];
@@ -87,13 +91,14 @@ export class CsrBuilder {
 
   finish(): CsrOperator {
     if (this.row !== this.dim) throw new Error(`CsrBuilder: ${this.row} rows ended, expected ${this.dim}`);
+    // Shared memory, so a product can be split across worker threads without copying the matrix.
     return new CsrOperator(
       this.dim,
       this.isComplex,
-      this.rowStart,
-      this.columns.slice(0, this.size),
-      this.re.slice(0, this.size),
-      this.im ? this.im.slice(0, this.size) : null,
+      sharedCopy(this.rowStart, this.dim + 1, Float64Array),
+      sharedCopy(this.columns, this.size, Int32Array),
+      sharedCopy(this.re, this.size, Float64Array),
+      this.im ? sharedCopy(this.im, this.size, Float64Array) : null,
     );
   }
 
@@ -111,4 +116,15 @@ export class CsrBuilder {
       this.im = i;
     }
   }
+}
+
+/** The first `length` entries of `source` in a new array backed by a SharedArrayBuffer. */
+export function sharedCopy<T extends Float64Array | Int32Array>(
+  source: T,
+  length: number,
+  kind: { new (buffer: SharedArrayBuffer): T; BYTES_PER_ELEMENT: number },
+): T {
+  const out = new kind(new SharedArrayBuffer(Math.max(1, length) * kind.BYTES_PER_ELEMENT));
+  out.set(source.subarray(0, length) as never);
+  return out.length === length ? out : (out.subarray(0, length) as T);
 }

@@ -29,7 +29,8 @@ export class PinnedOperator implements HermitianOperator {
   private readonly moveDelta: Int32Array;
   private readonly moveAmp: Float64Array;
 
-  constructor(model: Model, basis: PinnedBasis) {
+  /** `diagonal`, when given, is used as is (threads share one diagonal in shared memory). */
+  constructor(model: Model, basis: PinnedBasis, diagonal?: Float64Array) {
     this.dim = basis.dim;
     this.isComplex = model.isComplex;
     this.N = model.levels;
@@ -87,7 +88,7 @@ export class PinnedOperator implements HermitianOperator {
     this.moveDelta = Int32Array.from(delta);
     this.moveAmp = Float64Array.from(amp);
 
-    this.diagonal = pinnedDiagonal(model, basis);
+    this.diagonal = diagonal ?? pinnedDiagonal(model, basis, new Float64Array(new SharedArrayBuffer(8 * basis.dim)));
   }
 
   /** Number of nonzero matrix elements the operator represents (what a stored matrix would hold). */
@@ -101,25 +102,35 @@ export class PinnedOperator implements HermitianOperator {
   }
 
   apply(x: Float64Array, y: Float64Array): void {
-    if (this.isComplex) this.applyComplex(x, y);
-    else this.applyReal(x, y);
+    this.applyRange(x, y, 0, this.dim);
   }
 
-  private applyReal(x: Float64Array, y: Float64Array): void {
-    const dim = this.dim;
+  /**
+   * Writes rows [lo, hi) of y = H x and nothing else, so threads sharing x can each own a slice
+   * of y. Every term is a set of contiguous runs y[d..d+S) += h x[d+shift..]; runs are clipped
+   * to the slice, and blocks that cannot reach it are skipped.
+   */
+  applyRange(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
+    if (this.isComplex) this.applyComplexRange(x, y, lo, hi);
+    else this.applyRealRange(x, y, lo, hi);
+  }
+
+  private applyRealRange(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
     const N = this.N;
     const diag = this.diagonal;
-    for (let s = 0; s < dim; s++) y[s] = diag[s] * x[s];
+    for (let s = lo; s < hi; s++) y[s] = diag[s] * x[s];
     const nLocal = this.localTo.length;
     for (let site = 0; site < this.strides.length; site++) {
       const S = this.strides[site];
       const block = N * S;
-      for (let base = 0; base < dim; base += block) {
+      for (let base = lo - (lo % block); base < hi; base += block) {
         for (let e = 0; e < nLocal; e++) {
           const h = this.localRe[e];
-          const yo = base + this.localTo[e] * S;
-          const xo = base + this.localFrom[e] * S;
-          for (let lo = 0; lo < S; lo++) y[yo + lo] += h * x[xo + lo];
+          const run = base + this.localTo[e] * S;
+          const from = run < lo ? lo : run;
+          const to = run + S > hi ? hi : run + S;
+          const shift = (this.localFrom[e] - this.localTo[e]) * S;
+          for (let t = from; t < to; t++) y[t] += h * x[t + shift];
         }
       }
     }
@@ -129,24 +140,24 @@ export class PinnedOperator implements HermitianOperator {
       const Sj = this.moveStrideJ[m];
       const amp = this.moveAmp[m];
       const delta = this.moveDelta[m];
-      const offset = this.moveFromJ[m] * Sj + this.moveFromI[m] * Si;
+      const offset = this.moveFromJ[m] * Sj + this.moveFromI[m] * Si + delta;
       const blockJ = N * Sj;
       const blockI = N * Si;
-      for (let hb = 0; hb < dim; hb += blockJ) {
+      for (let hb = lo - (lo % blockJ); hb < hi; hb += blockJ) {
         for (let mb = 0; mb < Sj; mb += blockI) {
-          const src = hb + mb + offset;
-          const dst = src + delta;
-          for (let lo = 0; lo < Si; lo++) y[dst + lo] += amp * x[src + lo];
+          const run = hb + mb + offset;
+          const from = run < lo ? lo : run;
+          const to = run + Si > hi ? hi : run + Si;
+          for (let t = from; t < to; t++) y[t] += amp * x[t - delta];
         }
       }
     }
   }
 
-  private applyComplex(x: Float64Array, y: Float64Array): void {
-    const dim = this.dim;
+  private applyComplexRange(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
     const N = this.N;
     const diag = this.diagonal;
-    for (let s = 0; s < dim; s++) {
+    for (let s = lo; s < hi; s++) {
       const d = diag[s];
       y[2 * s] = d * x[2 * s];
       y[2 * s + 1] = d * x[2 * s + 1];
@@ -155,17 +166,19 @@ export class PinnedOperator implements HermitianOperator {
     for (let site = 0; site < this.strides.length; site++) {
       const S = this.strides[site];
       const block = N * S;
-      for (let base = 0; base < dim; base += block) {
+      for (let base = lo - (lo % block); base < hi; base += block) {
         for (let e = 0; e < nLocal; e++) {
           const hr = this.localRe[e];
-          const hi = this.localIm[e];
-          const yo = 2 * (base + this.localTo[e] * S);
-          const xo = 2 * (base + this.localFrom[e] * S);
-          for (let lo = 0; lo < 2 * S; lo += 2) {
-            const xr = x[xo + lo];
-            const xi = x[xo + lo + 1];
-            y[yo + lo] += hr * xr - hi * xi;
-            y[yo + lo + 1] += hr * xi + hi * xr;
+          const hi_ = this.localIm[e];
+          const run = base + this.localTo[e] * S;
+          const from = 2 * (run < lo ? lo : run);
+          const to = 2 * (run + S > hi ? hi : run + S);
+          const shift = 2 * (this.localFrom[e] - this.localTo[e]) * S;
+          for (let t = from; t < to; t += 2) {
+            const xr = x[t + shift];
+            const xi = x[t + shift + 1];
+            y[t] += hr * xr - hi_ * xi;
+            y[t + 1] += hr * xi + hi_ * xr;
           }
         }
       }
@@ -175,15 +188,16 @@ export class PinnedOperator implements HermitianOperator {
       const Si = this.moveStrideI[m];
       const Sj = this.moveStrideJ[m];
       const amp = this.moveAmp[m];
-      const delta = 2 * this.moveDelta[m];
-      const offset = this.moveFromJ[m] * Sj + this.moveFromI[m] * Si;
+      const delta = this.moveDelta[m];
+      const offset = this.moveFromJ[m] * Sj + this.moveFromI[m] * Si + delta;
       const blockJ = N * Sj;
       const blockI = N * Si;
-      for (let hb = 0; hb < dim; hb += blockJ) {
+      for (let hb = lo - (lo % blockJ); hb < hi; hb += blockJ) {
         for (let mb = 0; mb < Sj; mb += blockI) {
-          const src = 2 * (hb + mb + offset);
-          const dst = src + delta;
-          for (let lo = 0; lo < 2 * Si; lo++) y[dst + lo] += amp * x[src + lo];
+          const run = hb + mb + offset;
+          const from = 2 * (run < lo ? lo : run);
+          const to = 2 * (run + Si > hi ? hi : run + Si);
+          for (let t = from; t < to; t++) y[t] += amp * x[t - 2 * delta];
         }
       }
     }
@@ -191,10 +205,9 @@ export class PinnedOperator implements HermitianOperator {
 }
 
 /** Diagonal of the pinned Hamiltonian, built digit by digit with the same block loops. */
-function pinnedDiagonal(model: Model, basis: PinnedBasis): Float64Array {
+function pinnedDiagonal(model: Model, basis: PinnedBasis, diag: Float64Array): Float64Array {
   const dim = basis.dim;
   const N = model.levels;
-  const diag = new Float64Array(dim);
   for (let site = 0; site < basis.sites; site++) {
     const S = basis.strides[site];
     for (let a = 0; a < N; a++) {

@@ -1,0 +1,93 @@
+import { describe, expect, it } from 'vitest';
+import { buildBasis } from '../src/basis.js';
+import { buildModel } from '../src/model.js';
+import { CsrBuilder } from '../src/operator/csr.js';
+import { PinnedOperator } from '../src/operator/pinned.js';
+import { withThreads } from '../src/parallel.js';
+import { validateSpec } from '../src/spec.js';
+import { clean, randomPinnedSpec, rng } from './support/random.js';
+
+// Splitting a product by rows must not change it: every slice is computed from the same formula,
+// so the pieces put together equal the one-thread product to the last bit (common practice).
+function randomVector(length: number, seed: number): Float64Array {
+  const r = rng(seed);
+  return Float64Array.from({ length }, () => r() - 0.5);
+}
+
+describe('products split by rows', () => {
+  it.each([
+    [61, 6, 3],
+    [62, 5, 4],
+    [63, 9, 2],
+  ])('pinned operator slices equal the whole product (seed %i, L=%i, N=%i)', (seed, L, N) => {
+    const spec = validateSpec(clean(randomPinnedSpec(seed, L, N)));
+    const model = buildModel(spec);
+    const basis = buildBasis(model);
+    const op = new PinnedOperator(model, basis as never);
+    const c = op.isComplex ? 2 : 1;
+    const x = randomVector(c * op.dim, seed);
+    const whole = new Float64Array(c * op.dim);
+    op.apply(x, whole);
+    const pieces = new Float64Array(c * op.dim);
+    const r = rng(seed + 1);
+    const cuts = [0, ...Array.from({ length: 4 }, () => Math.floor(r() * op.dim)).sort((a, b) => a - b), op.dim];
+    for (let k = 0; k + 1 < cuts.length; k++) op.applyRange(x, pieces, cuts[k], cuts[k + 1]);
+    expect(Array.from(pieces)).toEqual(Array.from(whole));
+  });
+
+  it('two threads give the one-thread product, pinned (real and complex) and stored', () => {
+    for (const [seed, L, N] of [
+      [71, 8, 3],
+      [72, 7, 3],
+    ]) {
+      const spec = validateSpec(clean(randomPinnedSpec(seed, L, N)));
+      const model = buildModel(spec);
+      const basis = buildBasis(model);
+      const op = new PinnedOperator(model, basis as never);
+      const c = op.isComplex ? 2 : 1;
+      const x = randomVector(c * op.dim, seed);
+      const one = new Float64Array(c * op.dim);
+      op.apply(x, one);
+      const threaded = withThreads(op, 2, model, basis as never);
+      const two = new Float64Array(c * op.dim);
+      threaded.apply(x, two);
+      threaded.apply(x, two); // a second product reuses the same workers
+      threaded.close();
+      expect(Array.from(two)).toEqual(Array.from(one));
+    }
+    // A random sparse Hermitian matrix in compressed rows.
+    const n = 3000;
+    const r = rng(5);
+    const rows: Map<number, [number, number]>[] = Array.from({ length: n }, () => new Map());
+    for (let k = 0; k < 20 * n; k++) {
+      const i = Math.floor(r() * n);
+      const j = Math.floor(r() * n);
+      const re = r() - 0.5;
+      const im = i === j ? 0 : r() - 0.5;
+      rows[i].set(j, [re, im]);
+      rows[j].set(i, [re, -im]);
+    }
+    const builder = new CsrBuilder(n, true);
+    for (const row of rows) {
+      for (const [j, [re, im]] of row) builder.add(j, re, im);
+      builder.endRow();
+    }
+    const csr = builder.finish();
+    const x = randomVector(2 * n, 9);
+    const one = new Float64Array(2 * n);
+    csr.apply(x, one);
+    const threaded = withThreads(csr, 2);
+    const two = new Float64Array(2 * n);
+    threaded.apply(x, two);
+    threaded.close();
+    expect(Array.from(two)).toEqual(Array.from(one));
+  });
+
+  it('a threaded solve gives the one-thread energies', async () => {
+    const { solvePoint } = await import('../src/point.js');
+    const raw = clean({ ...randomPinnedSpec(81, 8, 3), solve: { states: 3, tolerance: 1e-10, symmetries: 'none' } });
+    const one = solvePoint(validateSpec(raw), { threads: 1 }).record;
+    const two = solvePoint(validateSpec(raw), { threads: 2 }).record;
+    two.energies.forEach((e, k) => expect(e).toBeCloseTo(one.energies[k], 10));
+  });
+});
