@@ -14,6 +14,11 @@ import {
 import { planEvolution, runEvolution } from '../src/evolve.js';
 import { SpecError } from '../src/errors.js';
 import { rotorWeights, validateSpec } from '../src/spec.js';
+import { solvePoint } from '../src/point.js';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { runCli } from './support/cli.js';
 
 describe('rotor matrix elements (standard angular-momentum algebra)', () => {
   // Known 3j values (e.g. Edmonds, Angular Momentum in Quantum Mechanics, table 2; from memory):
@@ -141,5 +146,28 @@ describe('the [units] section', () => {
       expect(result.timesMs![k]).toBeCloseTo(tMs, 12);
       expect(f.observables.populations[0][1]).toBeCloseTo(Math.sin(Math.PI * 5 * tMs) ** 2, 9);
     });
+  });
+});
+
+describe('[units] on every path', () => {
+  // Scan workers validate each point themselves: [units] must be known there too.
+  it('a scan over the lattice spacing on worker threads gives the in-process energies', () => {
+    const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-units-'));
+    const spec = path.join(dir, 'lab.toml');
+    writeFileSync(
+      spec,
+      '[chain]\nsites = 4\n[levels]\ncount = 3\n[units]\ndipole_debye = 1\nlattice_spacing_nm = 500\nrabi_khz = 1\n' +
+        '[scan]\n[[scan.axis]]\nkey = "units.lattice_spacing_nm"\nvalues = [400, 500]\n',
+    );
+    const out = path.join(dir, 'run');
+    const scan = runCli(['scan', spec, '--out', out, '--workers', '1', '--quiet']);
+    expect(scan.code).toBe(0);
+    const rows = JSON.parse(runCli(['summary', out, '--json']).stdout);
+    for (const row of rows) {
+      const a = row['units.lattice_spacing_nm'];
+      const direct = solvePoint(validateSpec({ chain: { sites: 4 }, levels: { count: 3 }, units: { dipole_debye: 1, lattice_spacing_nm: a, rabi_khz: 1 } }));
+      expect(row.status).toBe('done');
+      expect(row.energies[0]).toBeCloseTo(direct.record.energies[0], 9);
+    }
   });
 });
