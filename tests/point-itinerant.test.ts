@@ -192,3 +192,25 @@ describe('sizing itinerant problems before building them', () => {
     expect(out.observables.density.reduce((a: number, b: number) => a + b, 0)).toBeCloseTo(3, 9);
   });
 });
+
+describe('threaded products on the stored Fock matrix', () => {
+  // Splitting the rows of one product over threads changes nothing but the schedule (common practice).
+  it('two threads give the energies of one, for each kind', () => {
+    for (const particles of [
+      { kind: 'hardcore', number: 4, hopping: 1 },
+      { kind: 'boson', number: 4, hopping: 1, onsite: 1.5, max_per_site: 2 },
+      { kind: 'fermion', number: 5, hopping: 1 },
+    ]) {
+      const raw = {
+        chain: { sites: 7, boundary: 'periodic' },
+        levels: { count: 2, detuning: [0, 0.3] },
+        exchange: { strength: 1.2 },
+        particles,
+        solve: { states: 3, tolerance: 1e-10 },
+      };
+      const one = solve({ ...raw, solve: { ...raw.solve, threads: 1 } });
+      const two = solve({ ...raw, solve: { ...raw.solve, threads: 2 } });
+      one.energies.forEach((e, k) => expect(two.energies[k]).toBeCloseTo(e, 10));
+    }
+  });
+});
