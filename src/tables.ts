@@ -59,13 +59,35 @@ export function describeRecord(r: PointRecord): string {
   out.push(`gap ${fmt(r.gap)}   ground-state degeneracy ${r.solver.degeneracy}   string width ${fmt(r.observables.string_width, 8)}`);
   out.push('');
   const N = r.basis.levels;
-  const header = ['site', ...Array.from({ length: N }, (_, n) => `P(n=${n})`), 'mean n', 'spread'];
+  // Itinerant kinds (src/observables/itinerant.ts): mean occupations per mode, densities, pairs on a site.
+  const o = r.observables as PointRecord['observables'] & {
+    density?: number[];
+    double_occupancy?: number[];
+    condensate_fraction?: number;
+    momentum_distribution?: number[] | null;
+  };
+  const itinerant = Array.isArray(o.density) && Array.isArray(o.double_occupancy);
+  const header = [
+    'site',
+    ...Array.from({ length: N }, (_, n) => (itinerant ? `<n_${n}>` : `P(n=${n})`)),
+    'mean n',
+    'spread',
+    ...(itinerant ? ['density', 'pairs'] : []),
+  ];
   const rows = r.observables.populations.map((p, i) => [
     String(i),
     ...p.map((q) => fmt(q, 6)),
     fmt(r.observables.level_mean[i], 6),
     fmt(r.observables.spread[i], 6),
+    ...(itinerant ? [fmt(o.density![i], 6), fmt(o.double_occupancy![i], 6)] : []),
   ]);
   out.push(table(header, rows));
+  if (itinerant) {
+    out.push('');
+    out.push(`condensate fraction ${fmt(o.condensate_fraction, 8)}   (largest eigenvalue of the one-body density matrix / particle number)`);
+    if (o.momentum_distribution) {
+      out.push(`momentum distribution n(k), k = 2 pi m / L, m = 0..${o.momentum_distribution.length - 1}: ${o.momentum_distribution.map((x) => fmt(x, 6)).join('  ')}`);
+    }
+  }
   return out.join('\n');
 }
