@@ -5,6 +5,7 @@
 import { validateSpec } from './spec.js';
 import { solvePoint } from './point.js';
 import { fmt, table } from './tables.js';
+import { runDynamicsDemo } from './demoDynamics.js';
 
 export const DEMO_SPEC = {
   chain: { sites: 6, boundary: 'periodic' },
@@ -35,5 +36,8 @@ export async function runDemo(print: (line: string) => void): Promise<void> {
   }
   print(table(['V/J', 'width N=3', 'E0/L (N=4)', 'gap (N=4)', 'width N=4', 'width N=5'], rows));
   print('');
-  print('Solve your own: write a spec (see README) and run `rungchain solve SPEC`.');
+  print('');
+  runDynamicsDemo(print);
+  print('');
+  print('Solve your own: write a spec (see README) and run `rungchain solve SPEC`; evolve one with `rungchain evolve SPEC`.');
 }
