@@ -340,3 +340,22 @@ export function describeUnits(units: LabUnits): string[] {
   }
   return lines;
 }
+
+/** Energies of a solve in lab units, for the `units` block of `solve --json`. */
+export function labEnergies(units: LabUnits, energies: number[], gap: number | null): Record<string, unknown> {
+  return {
+    energy_unit_hz: units.energyUnitHz,
+    time_unit_ms: units.timeUnitMs,
+    exchange_hz: units.exchangeHz,
+    tunnelling_hz: units.tunnellingHz,
+    energies_hz: energies.map((e) => e * units.energyUnitHz),
+    gap_hz: gap === null ? null : gap * units.energyUnitHz,
+  };
+}
+
+/** Lines for the readable `solve` output: the unit lines, then the energies in Hz. */
+export function describeLabEnergies(units: LabUnits, energies: number[], gap: number | null): string[] {
+  const lines = describeUnits(units);
+  lines.push(`in the lab       E0 = ${formatHz(energies[0] * units.energyUnitHz)}` + (gap === null ? '' : `, gap = ${formatHz(gap * units.energyUnitHz)}`) + ' (times h)');
+  return lines;
+}

@@ -170,4 +170,19 @@ describe('[units] on every path', () => {
       expect(row.energies[0]).toBeCloseTo(direct.record.energies[0], 9);
     }
   });
+
+  it('solve --json adds energies in Hz; the table prints them under the model units', () => {
+    const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-units-'));
+    const spec = path.join(dir, 'lab.toml');
+    writeFileSync(spec, '[chain]\nsites = 3\n[levels]\ncount = 2\n[units]\nrabi_khz = 4\ndipole_debye = 1\nlattice_spacing_nm = 500\n');
+    const r = runCli(['solve', spec, '--json']);
+    expect(r.code).toBe(0);
+    const out = JSON.parse(r.stdout);
+    // Energy unit: J = Omega/2 = 2 kHz.
+    expect(out.units.energy_unit_hz).toBe(2000);
+    out.energies.forEach((e: number, k: number) => expect(out.units.energies_hz[k]).toBeCloseTo(2000 * e, 9));
+    expect(out.units.exchange_hz).toBeCloseTo(exchangeHz(1, 500, 90), 9);
+    const text = runCli(['solve', spec]);
+    expect(text.stdout).toMatch(/in the lab\s+E0 = -?[0-9.]+ kHz, gap = /);
+  });
 });

@@ -5,6 +5,7 @@ import { planPoint, solvePoint } from '../../src/point.js';
 import { describePlan, describeRecord } from '../../src/tables.js';
 import { runDemo } from '../../src/demo.js';
 import { collect, memoryLimit } from './shared.js';
+import { describeLabEnergies, labEnergies, labUnits } from '../../src/units.js';
 import { describeScan, expandScan } from '../../src/scan.js';
 import { defaultWorkerCount } from '../../src/scanRunner.js';
 
@@ -37,8 +38,13 @@ export function registerSolveCommands(program: Command): void {
     .action((specPath: string, opts: { set: string[]; json?: boolean; maxMemory?: string }) => {
       const { spec } = loadSpec(specPath, opts.set);
       const { record } = solvePoint(spec, { maxMemory: memoryLimit(opts) });
-      if (opts.json) process.stdout.write(JSON.stringify(record) + '\n');
-      else console.log(describeRecord(record));
+      // With [units], energies also in Hz (a `units` block in JSON, lines under the table).
+      const units = labUnits(spec);
+      if (opts.json) process.stdout.write(JSON.stringify(units ? { ...record, units: labEnergies(units, record.energies, record.gap) } : record) + '\n');
+      else {
+        console.log(describeRecord(record));
+        if (units) console.log('\n' + describeLabEnergies(units, record.energies, record.gap).join('\n'));
+      }
       if (!record.solver.converged) {
         process.stderr.write(`rungchain: warning: not converged to tolerance ${spec.solve.tolerance}; residuals are in the output\n`);
       }
