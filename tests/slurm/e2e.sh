@@ -5,13 +5,13 @@
 # single-node controller and node daemon on this machine with a private configuration, writes the
 # job-array script with `rungchain slurm`, submits it with `sbatch --wait`, merges the shard
 # folders and compares every record with a local run of the same spec. Everything it starts it
-# stops again. Prints "slurm e2e: 1 passed, 0 failed" or fails loudly; it never skips silently.
+# stops again. Prints "slurm-e2e: 1 passed, 0 failed" or fails loudly; it never skips silently.
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 ROOT=$(pwd)
 CLI="$ROOT/dist/bin/rungchain.js"
 
-fail() { echo "slurm e2e: FAILED: $*" >&2; echo "slurm e2e: 0 passed, 1 failed"; exit 1; }
+fail() { echo "slurm e2e: FAILED: $*" >&2; echo "slurm-e2e: 0 passed, 1 failed"; exit 1; }
 
 if ! command -v slurmctld >/dev/null || ! command -v munged >/dev/null; then
   [ "$(id -u)" = 0 ] || fail "slurm-wlm and munge are not installed and this is not root (apt-get install slurm-wlm munge)"
@@ -146,4 +146,4 @@ for (let k = 0; k < 12; k++) {
 }
 console.log('slurm e2e: 12 merged records equal the local run');
 EOF
-echo "slurm e2e: 1 passed, 0 failed"
+echo "slurm-e2e: 1 passed, 0 failed"
