@@ -6,6 +6,7 @@ import { isRungchainError } from '../src/errors.js';
 import { registerSolveCommands } from './commands/solve.js';
 import { registerScanCommands } from './commands/scan.js';
 import { registerEvolveCommands } from './commands/evolve.js';
+import { registerReportCommands } from './commands/report.js';
 
 const program = new Command();
 program
@@ -17,6 +18,7 @@ program
 registerSolveCommands(program);
 registerScanCommands(program);
 registerEvolveCommands(program);
+registerReportCommands(program);
 
 async function main(): Promise<void> {
   try {

@@ -153,7 +153,10 @@ export interface ScanLine {
   /** |<psi(x_{k-1})|psi(x_k)>| for each point k > 0 (entry 0 unused), or null where unknown. */
   overlapPrevious?: (number | null | undefined)[];
   stringWidth?: (number | null)[];
-  /** Ground-state degeneracy per point: fidelity is skipped next to degenerate points, where "the" ground state is not defined. */
+  /**
+   * Ground-state degeneracy per point: a pair whose degeneracies differ is skipped, as the overlap
+   * of ground spaces of different dimension jumps for reasons other than a change of state.
+   */
   degeneracy?: (number | null)[];
 }
 
@@ -183,8 +186,8 @@ export function transitionIndicators(line: ScanLine): Indicator[] {
       const k = order[s];
       const previous = order[s - 1];
       const neighbourInScan = k - 1 === previous || k + 1 === previous;
-      const degenerate = degeneracy && ((degeneracy[s] ?? 1) > 1 || (degeneracy[s - 1] ?? 1) > 1);
-      if (!neighbourInScan || degenerate) continue;
+      const degeneracyChanges = degeneracy && (degeneracy[s] ?? 1) !== (degeneracy[s - 1] ?? 1);
+      if (!neighbourInScan || degeneracyChanges) continue;
       // overlapPrevious[k] pairs k with k-1; if the line ran backwards, k-1 is the next point up.
       const overlap = k - 1 === previous ? overlaps[k] : overlaps[previous];
       pairs.push({ from: x[s - 1], to: x[s], overlap });

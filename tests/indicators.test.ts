@@ -118,7 +118,7 @@ describe('peaks and finite differences (textbook formulas)', () => {
     expect(s.x).toEqual([0.15, 0.35, 0.75, 1.3].map((v) => expect.closeTo(v, 14)));
   });
 
-  it('skips fidelity next to degenerate points and reads lines scanned backwards', () => {
+  it('skips fidelity where the ground-state degeneracy changes and reads lines scanned backwards', () => {
     const x = [3, 2, 1, 0];
     // The line ran from 3 down to 0; overlapPrevious[k] pairs point k with point k-1.
     const line = { x, sites: 1, groundEnergy: [0, 0, 0, 0], overlapPrevious: [null, 0.9, 0.8, 0.7], degeneracy: [1, 1, 1, 1] };
@@ -127,5 +127,7 @@ describe('peaks and finite differences (textbook formulas)', () => {
     expect(fidelity.y).toEqual([0.7, 0.8, 0.9].map((F) => expect.closeTo(-2 * Math.log(F), 14)));
     const degenerate = transitionIndicators({ ...line, degeneracy: [1, 2, 1, 1] }).find((i) => i.name === 'fidelity')!;
     expect(degenerate.x).toEqual([0.5]);
+    const twofold = transitionIndicators({ ...line, degeneracy: [2, 2, 1, 1] }).find((i) => i.name === 'fidelity')!;
+    expect(twofold.x).toEqual([0.5, 2.5]);
   });
 });

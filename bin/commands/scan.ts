@@ -4,6 +4,8 @@ import { InputError } from '../../src/errors.js';
 import { runScan } from '../../src/scanRunner.js';
 import { loadScanRun, longCsv, longJson, longText, statusJson, statusText, summaryCsv, summaryJson, summaryText } from '../../src/summary.js';
 import { sideBySide, sideBySideCsv, sideBySideJson, sideBySideText } from '../../src/summary/sideBySide.js';
+import { analyseScan, analysisInputOf, analysisText } from '../../src/transitions.js';
+import { addAnalysisOptions, analysisOptions, type AnalysisFlags } from './report.js';
 import { collect, memoryLimit } from './shared.js';
 import { parseShard, shardFromEnvironment } from '../../src/shard.js';
 import { registerShardCommands } from './shard.js';
@@ -46,15 +48,15 @@ export function registerScanCommands(program: Command): void {
 
   registerShardCommands(program);
 
-  program
-    .command('summary')
-    .description('table of a scan run: one row per point (scanned parameters, energies, gap, observables)')
+  addAnalysisOptions(program.command('summary'))
+    .description('table of a scan run: one row per point (scanned parameters, energies, gap, observables), then transition indicators and finite-size fits')
     .argument('<run>', 'run folder')
     .option('--csv', 'tidy CSV on stdout')
     .option('--json', 'JSON array on stdout, one object per point')
     .option('--long', 'per-site and per-level observables, one value per row')
     .option('--by <axis>', 'spread one scan axis into columns, side by side (e.g. --by particles.kind, or --by kind)')
-    .action((dir: string, opts: { csv?: boolean; json?: boolean; long?: boolean; by?: string }) => {
+    .option('--analysis', 'only the transition indicators and finite-size fits (with --json: one JSON object)')
+    .action((dir: string, opts: AnalysisFlags & { csv?: boolean; json?: boolean; long?: boolean; by?: string; analysis?: boolean }) => {
       if (opts.csv && opts.json) throw new InputError('choose one of --csv and --json');
       if (opts.by !== undefined && opts.long) throw new InputError('choose one of --by and --long');
       const summary = loadScanRun(dir);
@@ -71,9 +73,19 @@ export function registerScanCommands(program: Command): void {
         else console.log(longText(summary));
         return;
       }
+      if (opts.analysis) {
+        const analysis = analyseScan(analysisInputOf(summary), analysisOptions(opts));
+        if (opts.json) process.stdout.write(JSON.stringify(analysis) + '\n');
+        else console.log(analysisText(analysis));
+        return;
+      }
       if (opts.json) process.stdout.write(JSON.stringify(summaryJson(summary)) + '\n');
       else if (opts.csv) process.stdout.write(summaryCsv(summary));
-      else console.log(summaryText(summary));
+      else {
+        console.log(summaryText(summary));
+        const analysis = analysisText(analyseScan(analysisInputOf(summary), analysisOptions(opts)));
+        if (analysis) console.log(`\n${analysis}`);
+      }
     });
 
   program
