@@ -1,0 +1,174 @@
+// Part of `npm run bench`: symmetry sectors and both cores against the full space, the largest
+// chains, the honesty of the memory estimate, and product throughput against memory bandwidth.
+// Each case runs in a fresh process so its peak memory is its own.
+//
+// usage: node dist/bench/sectors_bench.js [--quick]
+
+import { spawnSync } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
+import { buildBasis } from '../src/basis.js';
+import { buildModel } from '../src/model.js';
+import { PinnedOperator } from '../src/operator/pinned.js';
+import { withThreads } from '../src/parallel.js';
+import { planPoint, solvePoint } from '../src/point.js';
+import { formatBytes } from '../src/resources.js';
+import { validateSpec } from '../src/spec.js';
+import { fmt, table } from '../src/tables.js';
+
+interface CaseFigures {
+  seconds: number;
+  products: number;
+  energies: number[];
+  peakBytes: number;
+  estimateBytes: number;
+  labels: string[];
+  sectors: number;
+}
+
+function chainSpec(sites: number, levels: number, symmetries: string, threads: number) {
+  return validateSpec({
+    chain: { sites, boundary: 'periodic' },
+    levels: { count: levels, tunnelling: 1 },
+    exchange: { strength: 1.5 },
+    solve: { states: 4, tolerance: 1e-9, symmetries, threads, entanglement: 'none' },
+  });
+}
+
+function runCase(sites: number, levels: number, symmetries: string, threads: number): CaseFigures {
+  const spec = chainSpec(sites, levels, symmetries, threads);
+  const estimate = planPoint(spec).memory.totalBytes;
+  const t0 = performance.now();
+  const { record } = solvePoint(spec, { maxMemory: Number.MAX_SAFE_INTEGER });
+  const seconds = (performance.now() - t0) / 1000;
+  return {
+    seconds,
+    products: record.solver.iterations,
+    energies: record.energies,
+    peakBytes: process.resourceUsage().maxRSS * 1024,
+    estimateBytes: estimate,
+    labels: (record.sectors ?? []).map((l) => `k=${l.momentum}${l.parity === null ? '' : l.parity > 0 ? ',P+' : ',P-'}${l.level_flip === null ? '' : l.level_flip > 0 ? ',F+' : ',F-'}`),
+    sectors: record.solver.sector_runs?.length ?? 1,
+  };
+}
+
+/** Stream triad a = b + s c over arrays far larger than cache: bytes moved per second. */
+function triadBandwidth(threads: number): number {
+  const n = 1 << 24;
+  const a = new Float64Array(n);
+  const b = new Float64Array(n).fill(1);
+  const c = new Float64Array(n).fill(2);
+  let best = Infinity;
+  for (let rep = 0; rep < 5; rep++) {
+    const t0 = performance.now();
+    for (let i = 0; i < n; i++) a[i] = b[i] + 0.5 * c[i];
+    best = Math.min(best, performance.now() - t0);
+  }
+  void threads;
+  return (3 * 8 * n) / (best / 1000);
+}
+
+/** Seconds per product of the on-the-fly kernel, and the bytes it streams per product. */
+function productFigures(sites: number, levels: number, threads: number): { seconds: number; bytes: number; nonzeros: number } {
+  const spec = chainSpec(sites, levels, 'none', threads);
+  const model = buildModel(spec);
+  const basis = buildBasis(model);
+  if (basis.kind !== 'pinned') throw new Error('pinned only');
+  const op = new PinnedOperator(model, basis);
+  const threaded = withThreads(op, threads, model, basis);
+  const x = new Float64Array(op.dim).map((_, k) => Math.sin(k));
+  const y = new Float64Array(op.dim);
+  threaded.apply(x, y);
+  let best = Infinity;
+  for (let rep = 0; rep < 5; rep++) {
+    const t0 = performance.now();
+    threaded.apply(x, y);
+    best = Math.min(best, performance.now() - t0);
+  }
+  threaded.close();
+  const nonzeros = op.nonzeros();
+  // Each stored-equivalent element is one streamed read of x and a read-modify-write of y (24 bytes);
+  // the diagonal pass reads the diagonal and x and writes y.
+  const bytes = 24 * (nonzeros - op.dim) + 24 * op.dim;
+  return { seconds: best / 1000, bytes, nonzeros };
+}
+
+function child(args: string[]): CaseFigures | null {
+  const r = spawnSync(process.execPath, [fileURLToPath(import.meta.url), ...args], { encoding: 'utf8', maxBuffer: 1 << 24 });
+  if (r.status !== 0) {
+    process.stderr.write(`sectors bench: case ${args.join(' ')} failed: ${r.stderr.trim().split('\n').slice(-3).join(' | ')}\n`);
+    return null;
+  }
+  return JSON.parse(r.stdout.trim().split('\n').pop()!);
+}
+
+function main(): void {
+  const args = process.argv.slice(2);
+  if (args[0] === '--case') {
+    const [, L, N, sym, threads] = args;
+    process.stdout.write(JSON.stringify(runCase(Number(L), Number(N), sym, Number(threads))) + '\n');
+    return;
+  }
+  if (args[0] === '--products') {
+    const [, L, N, threads] = args;
+    process.stdout.write(JSON.stringify(productFigures(Number(L), Number(N), Number(threads))) + '\n');
+    return;
+  }
+  const quick = args.includes('--quick');
+  const cases: [string, number, number, string, number][] = quick
+    ? [
+        ['full space, 1 thread', 8, 4, 'none', 1],
+        ['full space, 2 threads', 8, 4, 'none', 2],
+        ['sectors, 2 threads', 8, 4, 'auto', 2],
+      ]
+    : [
+        ['full space, 1 thread', 10, 4, 'none', 1],
+        ['full space, 2 threads', 10, 4, 'none', 2],
+        ['sectors, 2 threads', 10, 4, 'auto', 2],
+        ['sectors, 2 threads', 12, 4, 'auto', 2],
+        ['sectors, 2 threads', 16, 3, 'auto', 2],
+      ];
+  const rows: string[][] = [];
+  let fullSeconds = NaN;
+  for (const [name, L, N, sym, threads] of cases) {
+    const f = child(['--case', String(L), String(N), sym, String(threads)]);
+    if (!f) continue;
+    if (name === 'full space, 1 thread' && L === cases[0][1]) fullSeconds = f.seconds;
+    rows.push([
+      `${L}x${N} ${name}`,
+      String(N ** L),
+      String(f.sectors),
+      fmt(f.seconds, 3),
+      String(f.products),
+      L === cases[0][1] ? fmt(fullSeconds / f.seconds, 3) : '-',
+      formatBytes(f.peakBytes),
+      formatBytes(f.estimateBytes),
+      fmt(f.estimateBytes / f.peakBytes, 3),
+      f.energies.map((e) => e.toFixed(8)).join(' '),
+      f.labels.join(' '),
+    ]);
+  }
+  console.log('pinned periodic chains, J=1, V=1.5, 4 lowest states, tolerance 1e-9');
+  console.log(
+    table(['case', 'states', 'sectors', 'seconds', 'products', 'speed-up vs full 1 thread', 'peak mem', 'estimate', 'estimate/peak', 'energies', 'sectors of the 4 states'], rows),
+  );
+
+  const bw = triadBandwidth(1);
+  const productRows: string[][] = [];
+  const [L, N] = quick ? [8, 4] : [10, 4];
+  for (const threads of [1, 2]) {
+    const p = child(['--products', String(L), String(N), String(threads)]) as unknown as { seconds: number; bytes: number; nonzeros: number } | null;
+    if (!p) continue;
+    productRows.push([
+      `${L}x${N}, ${threads} thread${threads > 1 ? 's' : ''}`,
+      fmt(p.seconds * 1000, 3),
+      fmt(p.nonzeros / p.seconds / 1e6, 4),
+      fmt(p.bytes / p.seconds / 1e9, 3),
+      fmt(p.bytes / p.seconds / bw, 3),
+    ]);
+  }
+  console.log('');
+  console.log(`memory bandwidth (stream triad, one thread): ${fmt(bw / 1e9, 3)} GB/s`);
+  console.log(table(['on-the-fly product', 'ms', 'M elements/s', 'GB/s streamed', 'fraction of triad bandwidth'], productRows));
+}
+
+main();
