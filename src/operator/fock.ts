@@ -331,13 +331,9 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
   const cursor = basis.cursor();
   const state = cursor.state;
   const prefix = cursor.prefix;
+  // Entries are written inline (no helper closure: this loop runs once per stored element). The
+  // arrays start zeroed, so only the complex one-site entries write an imaginary part.
   let k = 0;
-  const push = (col: number, re: number, im: number): void => {
-    columns[k] = col;
-    valuesRe[k] = re;
-    if (valuesIm !== null) valuesIm[k] = im;
-    k++;
-  };
 
   for (let row = 0; row < basis.dim; row++) {
     if (row > 0) cursor.next();
@@ -360,7 +356,8 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
       let e = 0;
       for (let i = 0; i < L; i++) e += localDiagonal[state[i]];
       for (let p = 0; p < nIsing; p++) e += isingW[p] * moment[state[isingI[p]]] * moment[state[isingJ[p]]];
-      push(row, e, 0);
+      columns[k] = row;
+      valuesRe[k++] = e;
     }
 
     // Synthetic tunnelling: one site changes, its prefix does not.
@@ -369,7 +366,9 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
       const base = (i * P1 + prefix[i]) * d;
       const shift = row - rankHere[i];
       for (let e = localStart[s]; e < localStart[s + 1]; e++) {
-        push(shift + R[base + localCol[e]], localRe[e], localIm[e]);
+        columns[k] = shift + R[base + localCol[e]];
+        if (valuesIm !== null) valuesIm[k] = localIm[e];
+        valuesRe[k++] = localRe[e];
       }
     }
 
@@ -385,10 +384,16 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
       const rest = row - rankHere[i] - rankHere[j];
       let ti = raiseTo[n * d + si];
       let tj = lowerTo[n * d + sj];
-      if (ti >= 0 && tj >= 0) push(rest + R[baseI + ti] + R[baseJ + tj], exAmp[x] * raiseAmp[n * d + si] * lowerAmp[n * d + sj], 0);
+      if (ti >= 0 && tj >= 0) {
+        columns[k] = rest + R[baseI + ti] + R[baseJ + tj];
+        valuesRe[k++] = exAmp[x] * raiseAmp[n * d + si] * lowerAmp[n * d + sj];
+      }
       ti = lowerTo[n * d + si];
       tj = raiseTo[n * d + sj];
-      if (ti >= 0 && tj >= 0) push(rest + R[baseI + ti] + R[baseJ + tj], exAmp[x] * lowerAmp[n * d + si] * raiseAmp[n * d + sj], 0);
+      if (ti >= 0 && tj >= 0) {
+        columns[k] = rest + R[baseI + ti] + R[baseJ + tj];
+        valuesRe[k++] = exAmp[x] * lowerAmp[n * d + si] * raiseAmp[n * d + sj];
+      }
     }
 
     // Hopping on bond (i, j), i < j, each level, both directions.
@@ -409,7 +414,8 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
           // Fermions: (-1)^(P_j) from a_{j,n}, then (-1)^(P_i) from a+_{i,n} (site i precedes j).
           const sign = fermion && (Pi + Pj) % 2 === 1 ? -1 : 1;
           const col = rest + R[(i * P1 + Pi) * d + ti] + R[(j * P1 + Pj + 1) * d + tj] + (upChange[j] - upChange[i + 1]);
-          push(col, -t * sign * createAmp[n * d + si] * annihilateAmp[n * d + sj], 0);
+          columns[k] = col;
+          valuesRe[k++] = -t * sign * createAmp[n * d + si] * annihilateAmp[n * d + sj];
         }
         // i -> j: a+_{j,n} a_{i,n}. Sites i+1..j see one particle fewer before them.
         ti = annihilateTo[n * d + si];
@@ -417,7 +423,8 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
         if (ti >= 0 && tj >= 0) {
           const sign = fermion && (Pi + Pj - 1) % 2 !== 0 ? -1 : 1;
           const col = rest + R[(i * P1 + Pi) * d + ti] + R[(j * P1 + Pj - 1) * d + tj] + (downChange[j] - downChange[i + 1]);
-          push(col, -t * sign * annihilateAmp[n * d + si] * createAmp[n * d + sj], 0);
+          columns[k] = col;
+          valuesRe[k++] = -t * sign * annihilateAmp[n * d + si] * createAmp[n * d + sj];
         }
       }
     }
