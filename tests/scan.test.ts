@@ -221,8 +221,9 @@ values = [0.6, 1.0]
 key = "exchange.strength"
 from = 0.5
 to = 3
-steps = 8
+steps = 6
 `;
+const SCAN_POINTS = 12;
 
 /** Starts a scan, SIGKILLs it once `atLeast` records are on disk, and returns when it is dead. */
 function scanAndKill(args: string[], recordsFile: string, atLeast: number): Promise<void> {
@@ -260,55 +261,62 @@ function expectSameResult(a: Rec, b: Rec, exact: boolean): void {
   a.result.observables.populations.flat().forEach((p: number, k: number) => expect(p).toBeCloseTo(b.result.observables.populations.flat()[k], 6));
 }
 
+/** One uninterrupted cold-start run of SCAN_SPEC, shared by the tests that compare against it. */
+let wholeRun: { spec: string; dir: string } | null = null;
+function uninterruptedRun(): { spec: string; dir: string } {
+  if (!wholeRun) {
+    const dir = tmp();
+    const spec = writeSpec(dir, SCAN_SPEC);
+    const out = path.join(dir, 'whole');
+    expect(runCli(['scan', spec, '--out', out, '--workers', '2', '--quiet', '--no-warm-start']).code).toBe(0);
+    wholeRun = { spec, dir: out };
+  }
+  return wholeRun;
+}
+
 describe('rungchain scan', () => {
   it('check prints the number of points and the largest dimension and memory estimate', () => {
     const dir = tmp();
     const spec = writeSpec(dir, SCAN_SPEC.replace('values = [0.6, 1.0]', 'values = [0.6, 1.0]\n[[scan.axis]]\nkey = "levels.count"\nvalues = [2, 4]'));
     const r = runCli(['check', spec]);
     expect(r.code).toBe(0);
-    expect(r.stdout).toMatch(/scan\s+32 points, grid/);
+    expect(r.stdout).toMatch(/scan\s+24 points, grid/);
     // 4 levels on 7 sites: 4^7 states.
     expect(r.stdout).toMatch(new RegExp(`largest point\\s+#\\d+ \\(.*levels\\.count=4.*\\): basis dimension ${4 ** 7}`));
     expect(r.stdout).toMatch(/memory estimate\s+[\d.]+ MiB for the largest point/);
   });
 
   it('SIGKILL part way, then resume: every record equals an uninterrupted run, none missing or doubled (cold starts: bit for bit)', async () => {
-    const dir = tmp();
-    const spec = writeSpec(dir, SCAN_SPEC);
-    const whole = path.join(dir, 'whole');
-    const killed = path.join(dir, 'killed');
+    const { spec, dir: whole } = uninterruptedRun();
+    const killed = path.join(tmp(), 'killed');
     const common = ['--workers', '2', '--quiet', '--no-warm-start'];
-    expect(runCli(['scan', spec, '--out', whole, ...common]).code).toBe(0);
     await scanAndKill(['scan', spec, '--out', killed, ...common], path.join(killed, RECORDS_FILE), 4);
     const partial = readRun(killed).records.length;
     expect(partial).toBeGreaterThanOrEqual(4);
-    expect(partial).toBeLessThan(16);
+    expect(partial).toBeLessThan(SCAN_POINTS);
     const resumed = runCli(['scan', spec, '--out', killed, '--workers', '2', '--no-warm-start']);
     expect(resumed.code).toBe(0);
     expect(resumed.stderr).toMatch(/resuming .*: \d+ done, 0 failed, \d+ to run/);
     const a = recordsByIndex(whole);
     const b = recordsByIndex(killed);
-    expect([...b.keys()].sort((x, y) => x - y)).toEqual(Array.from({ length: 16 }, (_, k) => k));
+    expect([...b.keys()].sort((x, y) => x - y)).toEqual(Array.from({ length: SCAN_POINTS }, (_, k) => k));
     // Records are appended once each: the file holds exactly one per point.
-    expect(readRun(killed).records).toHaveLength(16);
-    for (let k = 0; k < 16; k++) expectSameResult(b.get(k)!, a.get(k)!, true);
+    expect(readRun(killed).records).toHaveLength(SCAN_POINTS);
+    for (let k = 0; k < SCAN_POINTS; k++) expectSameResult(b.get(k)!, a.get(k)!, true);
   });
 
   it('SIGKILL and resume with warm starts agrees to the solver tolerance', async () => {
-    const dir = tmp();
-    const spec = writeSpec(dir, SCAN_SPEC);
-    const whole = path.join(dir, 'whole');
-    const killed = path.join(dir, 'killed');
-    expect(runCli(['scan', spec, '--out', whole, '--workers', '2', '--quiet']).code).toBe(0);
+    const { spec, dir: whole } = uninterruptedRun();
+    const killed = path.join(tmp(), 'killed');
     await scanAndKill(['scan', spec, '--out', killed, '--workers', '1', '--quiet'], path.join(killed, RECORDS_FILE), 5);
     expect(runCli(['scan', spec, '--out', killed, '--workers', '2', '--quiet']).code).toBe(0);
     const a = recordsByIndex(whole);
     const b = recordsByIndex(killed);
-    expect(b.size).toBe(16);
-    expect(readRun(killed).records).toHaveLength(16);
-    for (let k = 0; k < 16; k++) expectSameResult(b.get(k)!, a.get(k)!, false);
+    expect(b.size).toBe(SCAN_POINTS);
+    expect(readRun(killed).records).toHaveLength(SCAN_POINTS);
+    for (let k = 0; k < SCAN_POINTS; k++) expectSameResult(b.get(k)!, a.get(k)!, false);
     // Warm starts happened and are recorded, with the iterations of every point.
-    const all = [...a.values()];
+    const all = [...b.values()];
     expect(all.some((r) => r.warm_start)).toBe(true);
     for (const r of all) expect(r.iterations).toBe(r.result.solver.iterations);
   });
@@ -405,7 +413,7 @@ describe('rungchain scan', () => {
     expect(second.stderr).toMatch(new RegExp(`in use by another writer \\(pid ${first.pid} `));
     expect(second.stderr.trim().split('\n')).toHaveLength(1);
     expect(await firstExit).toBe(0);
-    expect(recordsByIndex(out).size).toBe(16);
+    expect(recordsByIndex(out).size).toBe(SCAN_POINTS);
   });
 
   it('Ctrl-C keeps every finished record, prints how to resume, and the resume completes', async () => {
@@ -422,14 +430,14 @@ describe('rungchain scan', () => {
     }
     child.kill('SIGINT');
     expect(await exit).toBe(130);
-    expect(stderr).toMatch(/interrupted: \d+ done, 0 failed, \d+ pending of 16/);
+    expect(stderr).toMatch(/interrupted: \d+ done, 0 failed, \d+ pending of 12/);
     expect(stderr).toMatch(/resume with: rungchain scan .*spec\.toml --out /);
     const saved = readRun(out);
     expect(saved.tornBytes).toBe(0);
     expect(saved.records.length).toBeGreaterThanOrEqual(2);
     expect(existsSync(path.join(out, 'lock'))).toBe(false);
     expect(runCli(['scan', spec, '--out', out, '--quiet']).code).toBe(0);
-    expect(recordsByIndex(out).size).toBe(16);
+    expect(recordsByIndex(out).size).toBe(SCAN_POINTS);
   });
 });
 
