@@ -58,6 +58,8 @@ export function createPointPool(choice: PoolChoice): Piscina {
 
 export interface PlannedTask {
   points: ScanPoint[];
+  /** The line's point before points[0], solved first for its overlap (see ScanTask.leadIn). */
+  leadIn?: ScanPoint;
   cost: number;
 }
 
@@ -87,6 +89,22 @@ export function planTasks(plan: ScanPlan, pending: Set<number>, costs: number[],
       else flush();
     }
     flush();
+  }
+  // A task that starts inside a line gets the point before it as a lead-in, so the overlaps of
+  // neighbours along the line have no holes where lines were cut or a run resumed; only where
+  // neighbours can share a basis (every axis that moves along a line numeric, none a size).
+  const moving = plan.section.zip ? plan.section.axes : plan.section.axes.slice(-1);
+  const continuous = moving.every((a) => a.values.every((v) => typeof v === 'number') && !['chain.sites', 'levels.count', 'particles.number'].includes(a.key));
+  if (continuous) {
+    const before = new Map<number, number>();
+    for (const line of plan.lines) line.forEach((index, k) => k > 0 && before.set(index, line[k - 1]));
+    for (const task of tasks) {
+      const lead = before.get(task.points[0].index);
+      if (lead !== undefined) {
+        task.leadIn = plan.points[lead];
+        task.cost += costs[lead];
+      }
+    }
   }
   return tasks.sort((a, b) => b.cost - a.cost || a.points[0].index - b.points[0].index);
 }
@@ -292,10 +310,20 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
     const mode = options.progress === undefined || options.progress === 'auto' ? (stream.isTTY ? 'bar' : 'lines') : options.progress;
     const progress = makeProgress(mode, total, done, failed, stream, (i) => costs[i], remainingCost);
     let ran = 0;
+    let stopping = false;
 
+    // A failed append (disk full, folder removed) stops the scan; it is reported once all is shut.
+    let writeError: unknown = null;
     const write = (record: ScanRecord): void => {
-      if (!selected.has(record.index)) return;
-      writer.append(record as unknown as Record<string, unknown>);
+      if (!selected.has(record.index) || writeError) return;
+      try {
+        writer.append(record as unknown as Record<string, unknown>);
+      } catch (e) {
+        writeError = e;
+        stopping = true;
+        void pool?.destroy();
+        return;
+      }
       ran++;
       if (record.status === 'done') done++;
       else failed++;
@@ -303,7 +331,6 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
     };
 
     pool = createPointPool({ workers });
-    let stopping = false;
     const activePool = pool;
     await new Promise<void>((resolve) => {
       let inflight = 0;
@@ -352,7 +379,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
           pump();
         };
         activePool
-          .run({ points: task.points.map((p) => ({ index: p.index, params: p.params, raw: p.raw })), maxMemory, warmStart: options.warmStart !== false, port: port2 }, { transferList: [port2] })
+          .run({ points: task.points.map((p) => ({ index: p.index, params: p.params, raw: p.raw })), leadIn: task.leadIn ? { index: task.leadIn.index, params: task.leadIn.params, raw: task.leadIn.raw } : undefined, maxMemory, warmStart: options.warmStart !== false, port: port2 }, { transferList: [port2] })
           .then(
             () => settle(null),
             (e: unknown) => settle(e),
@@ -374,6 +401,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
       pump();
     });
     progress.stop();
+    if (writeError) throw writeError;
     const result = outcome(ran, stopping);
     if (stopping) {
       say(`interrupted: ${result.done} done, ${result.failed} failed, ${result.pending} pending of ${total}; every finished point is saved in ${dir}`);
