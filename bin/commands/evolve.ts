@@ -70,7 +70,7 @@ export function registerEvolveCommands(program: Command): void {
           }
         }
         for (const note of outcome.notes) process.stderr.write(`rungchain: note: ${note}\n`);
-        if (outcome.dir) process.stderr.write(`run folder ${outcome.dir} (rungchain trace ${outcome.dir} --csv | --json | --long)\n`);
+        if (outcome.dir && !opts.quiet) process.stderr.write(`run folder ${outcome.dir} (rungchain trace ${outcome.dir} --csv | --json | --long)\n`);
         if (outcome.traces.some((t) => t.status === 'failed')) process.exitCode = 2;
       },
     );
