@@ -78,6 +78,10 @@ export function planPoint(spec: Spec): PointPlan {
     return { model, symmetries, used, dimension, storage: 'stored', nonzeros: null, memory };
   }
   // Itinerant kinds store their matrix; its size is known in closed form before building.
+  const cuts = spec.solve.entanglement;
+  if (model.kind !== 'pinned' && cuts !== 'auto' && cuts !== 'none') {
+    throw new SpecError('solve.entanglement', `entanglement cuts are computed for pinned chains only, not for kind = "${model.kind}"; remove the key`);
+  }
   const fock = model.kind === 'pinned' ? null : planFockOperator(model, dimension);
   const memory = estimateSolveMemory({
     dim: dimension,

@@ -156,6 +156,13 @@ describe('sizing itinerant problems before building them', () => {
     }
   });
 
+  it('an explicit entanglement request for an itinerant kind is an error naming the key', () => {
+    const raw = { chain: { sites: 4 }, levels: { count: 2 }, particles: { kind: 'fermion', number: 2, hopping: 1 }, solve: { entanglement: 'half' } };
+    expect(() => planPoint(validateSpec(raw))).toThrow(/^solve\.entanglement: .*pinned chains only/);
+    // the default ("auto") quietly computes none
+    expect(solve({ ...raw, solve: {} }).observables.entanglement).toBeUndefined();
+  });
+
   it('check reports the dimension of a 12-site, 6-particle, 3-level hard-core chain without building it', () => {
     const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-itinerant-'));
     const file = path.join(dir, 'hardcore.toml');
