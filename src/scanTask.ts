@@ -18,6 +18,12 @@ export interface TaskPoint {
 
 export interface ScanTask {
   points: TaskPoint[];
+  /**
+   * The point just before points[0] on its line, when it runs elsewhere (another task, or an earlier
+   * run): solved first and not recorded, so the first point too gets its overlap (the fidelity
+   * between neighbours is what transition indicators need) and a warm start.
+   */
+  leadIn?: TaskPoint;
   maxMemory: number;
   warmStart: boolean;
   port: MessagePort;
@@ -108,6 +114,17 @@ function errorText(e: unknown): string {
 
 export function runScanTask(task: ScanTask, post: (message: TaskMessage) => void = (m) => task.port.postMessage(m)): number {
   let previous: { key: string; states: Float64Array[]; start: Float64Array | undefined } | null = null;
+  if (task.leadIn) {
+    try {
+      const spec = validateSpec(task.leadIn.raw);
+      const plan = planPoint(spec);
+      const lead = solvePoint(spec, { maxMemory: task.maxMemory });
+      previous = { key: basisKey(spec, plan.model.isComplex, plan.dimension), states: lead.groundStates, start: startVector(lead.eigen?.vectors ?? lead.groundStates) };
+    } catch {
+      // The first point then starts cold and has no overlap, as without a lead-in.
+      previous = null;
+    }
+  }
   let solved = 0;
   for (const point of task.points) {
     post({ kind: 'start', index: point.index });
