@@ -225,7 +225,7 @@ interface Units {
 }
 
 function unitsOf(energyUnitHz: number | null): Units {
-  if (energyUnitHz === null) return { energy: 'model energy unit', energyScale: 1, lab: false };
+  if (energyUnitHz === null) return { energy: 'ε', energyScale: 1, lab: false };
   return { energy: 'h·kHz', energyScale: energyUnitHz / 1e3, lab: true };
 }
 
@@ -259,6 +259,8 @@ function showParams(params: ScanParams, units: Units): string {
 
 interface ObservableInfo {
   title: string;
+  /** For axis labels. */
+  short: string;
   unit: (u: Units) => string;
   energy: boolean;
 }
@@ -267,24 +269,25 @@ function observableInfo(name: string): ObservableInfo {
   const energyUnit = (u: Units) => u.energy;
   const fixed = (unit: string) => () => unit;
   const energy = /^E(\d+)$/.exec(name);
-  if (energy) return { title: `E${subscript(energy[1])}, energy of state ${energy[1]}`, unit: energyUnit, energy: true };
+  if (energy) return { title: `E${subscript(energy[1])}, energy of state ${energy[1]}`, short: `E${subscript(energy[1])}`, unit: energyUnit, energy: true };
   switch (name) {
     case 'E0/L':
-      return { title: 'E₀/L, ground energy per site', unit: energyUnit, energy: true };
+      return { title: 'E₀/L, ground energy per site', short: 'E₀/L', unit: energyUnit, energy: true };
     case 'gap':
-      return { title: 'gap E₁ − E₀', unit: energyUnit, energy: true };
+      return { title: 'gap E₁ − E₀', short: 'E₁ − E₀', unit: energyUnit, energy: true };
     case 'string_width':
-      return { title: 'string width', unit: fixed('levels²'), energy: false };
+      return { title: 'string width', short: 'string width', unit: fixed('levels²'), energy: false };
     case 'entropy':
-      return { title: 'half-chain entanglement entropy (von Neumann)', unit: fixed('nats'), energy: false };
+      return { title: 'half-chain entanglement entropy (von Neumann)', short: 'S, half chain', unit: fixed('nats'), energy: false };
     case 'renyi_2':
-      return { title: 'half-chain Rényi-2 entropy', unit: fixed('nats'), energy: false };
+      return { title: 'half-chain Rényi-2 entropy', short: 'S₂, half chain', unit: fixed('nats'), energy: false };
     case 'level_mean':
-      return { title: 'mean level ⟨n⟩, averaged over sites', unit: fixed('levels'), energy: false };
+      return { title: 'mean level ⟨n⟩, averaged over sites', short: '⟨n⟩', unit: fixed('levels'), energy: false };
     case 'spread':
-      return { title: 'level spread ⟨n²⟩ − ⟨n⟩², averaged over sites', unit: fixed('levels²'), energy: false };
+      return { title: 'level spread ⟨n²⟩ − ⟨n⟩², averaged over sites', short: '⟨n²⟩ − ⟨n⟩²', unit: fixed('levels²'), energy: false };
   }
-  return { title: name.replace(/_/g, ' '), unit: fixed(''), energy: false };
+  const words = name.replace(/_/g, ' ');
+  return { title: words, short: words, unit: fixed(''), energy: false };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -390,8 +393,10 @@ export function renderLinePlot(plot: LinePlot): string {
   const finiteXs = xs.filter(Number.isFinite);
   if (finiteXs.length === 0 || ys.length === 0) return '';
   const xt = niceTicks(Math.min(...finiteXs), Math.max(...finiteXs));
+  // A curve flat to rounding (a symmetric model's mean level, say) is drawn flat, not as magnified noise.
+  const yMagnitude = Math.max(...ys.map(Math.abs));
   const ySpan = Math.max(...ys) - Math.min(...ys);
-  const yPad = ySpan > 0 ? ySpan * 0.04 : 0;
+  const yPad = ySpan > 1e-6 * yMagnitude ? ySpan * 0.04 : Math.max(1e-3 * yMagnitude, 1e-12);
   const yt = niceTicks(Math.min(...ys) - yPad, Math.max(...ys) + yPad);
   const x0 = Math.min(xt.lo, xt.ticks[0] ?? xt.lo);
   const x1 = Math.max(xt.hi, xt.ticks[xt.ticks.length - 1] ?? xt.hi);
@@ -559,7 +564,7 @@ export function renderHeatMap(map: HeatMap): string {
 <svg class="heatmap" data-plot="${esc(map.id)}" data-rows="${yValues.length}" data-cols="${xValues.length}" viewBox="0 0 ${W} ${H}" role="img" aria-label="${esc(map.title)}">
 <defs><linearGradient id="${gradientId}" x1="0" y1="1" x2="0" y2="0">${stops}</linearGradient></defs>
 ${cells.join('')}${ticks.join('')}
-<rect x="${barX}" y="${top}" width="${barW}" height="${plotH}" fill="url(#${gradientId})" class="frame"/>${barTicks}
+<rect x="${barX}" y="${top}" width="${barW}" height="${plotH}" fill="url(#${gradientId})" class="colour-bar"/>${barTicks}
 <text x="${num((left + left + plotW) / 2)}" y="${H - 8}" class="axis-label" text-anchor="middle">${esc(map.xLabel)}</text>
 <text transform="translate(14 ${num(top + plotH / 2)}) rotate(-90)" class="axis-label" text-anchor="middle">${esc(map.yLabel)}</text>
 <text transform="translate(${W - 6} ${num(top + plotH / 2)}) rotate(-90)" class="axis-label" text-anchor="middle">${esc(map.zLabel)}</text>
@@ -614,6 +619,8 @@ function fitTable(rows: { label: string; fit: FitResult }[], variable: string, v
     .join('');
   return `<table class="fits">${head}${body}</table>`;
 }
+
+const INDICATOR_SHORT: Record<string, string> = { gap: 'E₁ − E₀', fidelity: 'χ_F per site', curvature: '−∂²E₀/∂x² per site', width_slope: '∂(string width)/∂x' };
 
 const INDICATOR_UNITS: Record<string, (x: AxisUnit, u: Units) => string> = {
   gap: (_x, u) => u.energy,
@@ -672,7 +679,7 @@ export function renderReport(input: ReportInput): string {
         id: `obs-${name.replace(/[^A-Za-z0-9]+/g, '-')}`,
         title: `${info.title} against ${xAxis.label}`,
         xLabel: axisTitle(xAxis),
-        yLabel: unit ? `${info.title.split(',')[0]} [${unit}]` : info.title.split(',')[0],
+        yLabel: unit ? `${info.short} [${unit}]` : info.short,
         series: lines.map((line) => ({
           name: lineName(line.fixed),
           x: line.points.map((p) => scaleX(p.x)),
@@ -714,7 +721,7 @@ export function renderReport(input: ReportInput): string {
           const r = cell.get(`${xv}|${yv}`);
           return r ? (observableValue(r, name) ?? NaN) * scale : NaN;
         })),
-        zLabel: unit ? `${info.title.split(',')[0]} [${unit}]` : info.title.split(',')[0],
+        zLabel: unit ? `${info.short} [${unit}]` : info.short,
         notes: rest.length > 0 ? [`other axes held at ${showParams(fixed, units)}`] : [],
       });
     });
@@ -772,7 +779,7 @@ export function renderReport(input: ReportInput): string {
         id: `indicator-${name}`,
         title: `${first.label} against ${xAxis.label}`,
         xLabel: axisTitle(xAxis),
-        yLabel: unit ? `${first.label} [${unit}]` : first.label,
+        yLabel: unit ? `${INDICATOR_SHORT[name]} [${unit}]` : INDICATOR_SHORT[name],
         series,
         marks,
         notes: marks.some((m) => m.hollow) ? ['hollow diamonds: the extremum is at the end of the scan, the peak may lie beyond it'] : [],
@@ -840,7 +847,7 @@ export function renderReport(input: ReportInput): string {
       const info = observableInfo(observable);
       const scale = info.energy ? units.energyScale : 1;
       const unit = info.unit(units);
-      const yLabel = unit ? `${info.title.split(',')[0]} [${unit}]` : info.title.split(',')[0];
+      const yLabel = unit ? `${info.short} [${unit}]` : info.short;
       // With the parameter among the fixed axes: the extrapolated value against it, as a line per other axis.
       if (parameter && xAxis && fits.every((f) => typeof f.fixed[parameter] === 'number')) {
         const others = new Map<string, typeof fits>();
@@ -926,7 +933,7 @@ export function renderReport(input: ReportInput): string {
   const axesText = input.axes.map((a) => `${keyInfo(a.key).kind === 'other' ? a.key : `${keyInfo(a.key).symbol} (${a.key})`}: ${a.values.length} value${a.values.length === 1 ? '' : 's'}`).join(input.zip ? ' with ' : ' × ');
   const unitText = units.lab
     ? `Energies in h·kHz (the model's energy unit is h × ${fmt(input.energyUnitHz!, 6)} Hz, from the run's [units]).`
-    : 'Energies in the model\'s energy unit: the unit of the spec\'s couplings (usually the tunnelling J).';
+    : 'Energies in ε, the model\'s energy unit: the unit of the spec\'s couplings (usually the tunnelling J).';
   const notes = [...analysis.notes];
   if (failed > 0) notes.push(`${failed} of ${input.points.length} points have no result (failed or not yet run); they are left out.`);
   const toc = sections
@@ -973,6 +980,7 @@ figure.plot-figure { margin: 0; flex: 1 1 520px; max-width: 600px; }
 figcaption { font-weight: 600; font-size: 0.92rem; margin-bottom: 4px; }
 svg.plot, svg.heatmap { width: 100%; height: auto; display: block; }
 svg .frame { fill: none; stroke: #444444; stroke-width: 1; }
+svg .colour-bar { stroke: #444444; stroke-width: 1; }
 svg .grid { stroke: #e3e3e3; stroke-width: 1; }
 svg .axis { stroke: #444444; stroke-width: 1; }
 svg .tick { font-size: 11px; fill: #333333; }
