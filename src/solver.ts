@@ -494,17 +494,17 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
   };
 
   /**
-   * Rayleigh-Ritz on basis[0..s): collapse the basis onto its `keep` lowest Ritz vectors,
-   * optionally verify the nev lowest by explicit residuals. Returns the explicit residuals when
-   * checked (and all pass, or `final`), else null.
+   * Rayleigh-Ritz on basis[0..s) (its projected matrix is the leading s x s block of T, with
+   * eigen-decomposition `ritz`): collapse the basis onto its `keep` lowest Ritz vectors and, when
+   * `check` is set, measure the explicit residuals of the nev lowest (else residuals is null).
    */
   const collapse = (
     s: number,
+    ritz: { values: Float64Array; vectors: Float64Array },
     residualNorm: number,
     keep: number,
     check: boolean,
   ): { values: Float64Array; residuals: Float64Array | null } => {
-    const ritz = smallSymmetricEigen(T, m, s);
     combineInPlace(basis, s, ritz.vectors, s, keep, scratch);
     // The residual direction (spare when the basis was full) becomes basis[keep].
     if (s === m && residualNorm > 0) {
@@ -555,9 +555,11 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
 
   for (;;) {
     if (matvecs >= maxMatvecs) {
-      // Out of budget: report the best current approximations.
-      const keep = Math.min(nev, size);
-      const out = collapse(size, 0, keep, true);
+      // Out of budget: report the best current approximations. The newest basis vector has no
+      // column in T yet, so the Rayleigh-Ritz uses the ones before it.
+      const s = size - 1;
+      const keep = Math.min(nev, s);
+      const out = collapse(s, smallSymmetricEigen(T, m, s), 0, keep, true);
       const residuals = out.residuals as Float64Array;
       const converged = keep === nev && residuals.every((r) => r <= tolerance);
       return finish(out.values, residuals, converged);
@@ -592,11 +594,10 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
         worstEstimate = Math.max(worstEstimate, Math.abs(residualNorm * ritz.vectors[lastRow * size + i]));
       }
       const wantCheck = worstEstimate <= cheapFactor * tolerance;
-      // Keep every Ritz vector of an exactly invariant, not full basis; leave one slot free otherwise.
       // An exactly invariant basis keeps all its Ritz vectors, except that a full one frees a slot
       // for the next random direction (unless it already spans everything there is).
       const keep = !breakdown ? restartKeep : size < m || size >= available ? size : m - 1;
-      const out = collapse(size, residualNorm, keep, wantCheck);
+      const out = collapse(size, ritz, residualNorm, keep, wantCheck);
       if (size === m) restarts++;
       let worst = worstEstimate;
       if (out.residuals) {
@@ -615,8 +616,7 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
         size = keep;
         if (size >= available || !randomOrthogonal(basis[size], size)) {
           // The whole space is spanned and the pairs still miss the tolerance: rounding limits us.
-          const residuals = out.residuals ?? collapse(size, 0, Math.min(nev, size), true).residuals!;
-          return finish(out.values, residuals, false);
+          return finish(out.values, out.residuals ?? new Float64Array(0), false);
         }
         size++;
       }
@@ -935,6 +935,7 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   }
 
   const maxMatvecs = opts.maxMatvecs ?? Math.max(5000, 50 * states);
+  if (!(maxMatvecs >= 1)) throw new SpecError('maxMatvecs', 'must be at least 1');
   const requestedKrylov = opts.krylovSize ?? defaultKrylovSize(states);
   if (!Number.isInteger(requestedKrylov) || requestedKrylov < 1) {
     throw new SpecError('krylovSize', 'must be a positive integer');

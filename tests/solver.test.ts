@@ -491,6 +491,32 @@ describe('edge cases', () => {
     }
   });
 
+  // Cauchy interlacing (Rayleigh-Ritz values bound the eigenvalues from above): whatever the
+  // budget cuts off, the k-th returned value is >= the k-th exact level 5 - 2cos(2 pi k/n) of the
+  // ring shifted by 5 (the shift keeps the spectrum away from 0, so a missing entry would show).
+  it('values returned on an exhausted budget are Rayleigh-Ritz upper bounds', () => {
+    const n = 600;
+    const plain = ring(n);
+    const op: HermitianOperator = {
+      dim: n,
+      isComplex: false,
+      apply(x, y) {
+        plain.apply(x, y);
+        for (let i = 0; i < n; i++) y[i] += 5 * x[i];
+      },
+    };
+    const exact = Array.from({ length: n }, (_, k) => 5 - 2 * Math.cos((2 * Math.PI * k) / n)).sort((a, b) => a - b);
+    for (let budget = 20; budget <= 80; budget += 3) {
+      const r = lowestEigenpairs(op, { states: 2, tolerance: 1e-12, denseThreshold: 10, maxMatvecs: budget });
+      expect(r.converged).toBe(false);
+      expect(r.values.length).toBe(2);
+      for (let k = 0; k < 2; k++) {
+        expect(r.values[k]).toBeGreaterThanOrEqual(exact[k] - 1e-12);
+        expect(Math.abs(residualOf(op, r.vectors[k], r.values[k]) - r.residuals[k])).toBeLessThan(1e-12);
+      }
+    }
+  });
+
   it('running out of matvecs: converged=false, or ConvergenceError when asked', () => {
     const op = ring(1500);
     const r = lowestEigenpairs(op, { states: 2, tolerance: 1e-12, denseThreshold: 10, maxMatvecs: 60 });
