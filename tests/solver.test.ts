@@ -411,6 +411,28 @@ describe('warm start, memory and determinism', () => {
     expect(warm.matvecs).toBeLessThan(cold.matvecs);
   });
 
+  // Reference: ml-matrix spectrum. A start vector that is exactly an excited eigenvector spans an
+  // invariant subspace at once; the deflated random-start verification must still find the ground state.
+  it('a warm start at an excited eigenvector still ends at the ground state', () => {
+    const h = randomSparse(400, false, 4, 63);
+    const spectrum = referenceSpectrum(h);
+    const excited = lowestEigenpairs(h, { states: 3, tolerance: 1e-12, denseThreshold: 10 });
+    const r = lowestEigenpairs(h, { states: 1, tolerance: 1e-9, denseThreshold: 10, initial: excited.vectors[2] });
+    expectEigenpairs(h, r, spectrum.slice(0, 1), 1e-9);
+  });
+
+  // Textbook ring levels again; skipping the verification pass saves its matvecs but leaves
+  // the lowest value right.
+  it('verifyDegeneracy: false skips the verification runs', () => {
+    const n = 151;
+    const op = ring(n);
+    const full = lowestEigenpairs(op, { states: 2, tolerance: 1e-9, denseThreshold: 10 });
+    const quick = lowestEigenpairs(op, { states: 2, tolerance: 1e-9, denseThreshold: 10, verifyDegeneracy: false });
+    expect(quick.converged).toBe(true);
+    expect(Math.abs(quick.values[0] + 2)).toBeLessThan(1e-9);
+    expect(quick.matvecs).toBeLessThan(full.matvecs);
+  });
+
   it('a small restart basis still converges, and working memory stays within it', () => {
     const h = randomSparse(400, false, 4, 71);
     const krylovSize = 8;
