@@ -380,9 +380,13 @@ export function renderLinePlot(plot: LinePlot): string {
     const y = finite.map((i) => s.y[i]);
     const yErr = s.yErr ? finite.map((i) => s.yErr![i] ?? null) : undefined;
     const thin = s.pointsOnly || yErr ? { x, y } : decimate(x, y);
-    if (thin.x.length < x.length) notes.push(`${s.name}: ${x.length} points thinned to ${thin.x.length} (the extremes of each stretch kept)`);
     return { ...s, x: thin.x, y: thin.y, yErr, slot: s.style ?? k, total: x.length };
   });
+  const thinned = drawn.filter((s) => s.x.length < s.total);
+  if (thinned.length > 0) {
+    const most = Math.max(...thinned.map((s) => s.total));
+    notes.push(`${thinned.length === drawn.length ? 'every line' : `${thinned.length} lines`} thinned to at most ${MAX_POINTS} of up to ${most} points, keeping the extremes of each stretch`);
+  }
   const marks = plot.marks ?? [];
   const xs = [...drawn.flatMap((s) => s.x), ...marks.flatMap((m) => [m.x - (m.xErr ?? 0), m.x + (m.xErr ?? 0)])];
   const ys = [
