@@ -67,11 +67,11 @@ export interface PlannedTask {
  * Splits the pending points into tasks: each a run of consecutive pending points of one line, so
  * warm starts chain within it; ordered by cost, largest first, so a long night ends on small work
  * and no big point starts last. Lines are cut into pieces only when there are too few of them to
- * keep every worker busy (about three tasks per worker), as each cut costs one cold start.
+ * keep every worker busy (two tasks per worker), as each cut costs a lead-in solve.
  */
 export function planTasks(plan: ScanPlan, pending: Set<number>, costs: number[], workers: number): PlannedTask[] {
   const busyLines = plan.lines.filter((line) => line.some((i) => pending.has(i))).length;
-  const piecesPerLine = workers <= 1 ? 1 : Math.max(1, Math.ceil((3 * workers) / Math.max(1, busyLines)));
+  const piecesPerLine = workers <= 1 ? 1 : Math.max(1, Math.ceil((2 * workers) / Math.max(1, busyLines)));
   const tasks: PlannedTask[] = [];
   for (const line of plan.lines) {
     const pendingOnLine = line.filter((i) => pending.has(i)).length;
