@@ -47,7 +47,7 @@ export interface ScanRecord {
    * Fidelity between this ground state and the previous point's on the same line, when both
    * live in the same basis: |<psi_prev|psi>|; for degenerate ground spaces P (g1 vectors) and
    * Q (g2 vectors), sqrt(sum_ab |<p_a|q_b>|^2 / max(g1, g2)), which is 1 exactly when the spaces
-   * coincide. null for the first point of a run of points or after a change of basis.
+   * coincide. null for the first point of a line, after a change of basis, or when the previous point failed.
    */
   overlap_previous: number | null;
   /** Worker thread id that solved it (0: the main thread). */
