@@ -323,13 +323,11 @@ describe('dense path', () => {
     expect(orthonormalityError(all.vectors, true)).toBeLessThan(1e-11);
   });
 
-  // Known spectrum by construction: H = U diag(lambda) U^H with U unitary, from ml-matrix's QR of
-  // the real embedding of a random complex matrix (an orthogonal matrix commuting with the
-  // embedding of i, so its top-left/bottom-left blocks give U). Multiplicities 3, 2, 1, ...
+  // Known spectrum by construction: H = U diag(lambda) U^H with U unitary (Gram-Schmidt of random
+  // complex columns, done here independently of the solver).
   it('complex Hermitian U diag(lambda) U^H with repeated eigenvalues', () => {
     const n = 30;
     const rand = seeded(41);
-    // Orthonormalize complex columns by Gram-Schmidt in the test (independent of the solver).
     const u: { re: number[]; im: number[] }[] = [];
     while (u.length < n) {
       const re = Array.from({ length: n }, () => rand() - 0.5);
@@ -351,7 +349,8 @@ describe('dense path', () => {
       const norm = Math.sqrt(re.reduce((s, x) => s + x * x, 0) + im.reduce((s, x) => s + x * x, 0));
       u.push({ re: re.map((x) => x / norm), im: im.map((x) => x / norm) });
     }
-    const lambda = Array.from({ length: n }, (_, k) => (k < 3 ? -1 : k < 5 ? 0.5 : k / 7));
+    // -1 three times, 0.5 twice, a level 1e-8 above 0.5 (close but distinct), then simple levels.
+    const lambda = Array.from({ length: n }, (_, k) => (k < 3 ? -1 : k < 5 ? 0.5 : k === 5 ? 0.5 + 1e-8 : k / 7));
     const h = new SparseHermitian(n, true);
     for (let i = 0; i < n; i++) {
       for (let j = i; j < n; j++) {
