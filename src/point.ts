@@ -56,7 +56,7 @@ export interface SolveOptions {
   maxMemory?: number;
   /** Start vector for the eigensolver (warm start from a neighbouring point). */
   initial?: Float64Array;
-  /** Threads for one matrix-vector product; overrides solve.threads (a scan running points in parallel passes 1). */
+  /** Most threads one matrix-vector product may use (a scan running points in parallel passes its share). */
   threads?: number;
   onProgress?: (info: { matvecs: number; restarts: number; worstResidual: number }) => void;
 }
@@ -183,10 +183,10 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   return { record, groundStates: ground, eigen };
 }
 
-/** Threads for one product: the caller's choice, then the spec's, then by the amount of work. */
+/** Threads for one product: the spec's count or, by default, as many as the work pays for; never more than the caller allows. */
 function productThreads(spec: Spec, options: SolveOptions, work: number): number {
-  if (options.threads !== undefined) return options.threads;
-  return spec.solve.threads === 'auto' ? defaultProductThreads(work) : spec.solve.threads;
+  const wanted = spec.solve.threads === 'auto' ? defaultProductThreads(work) : spec.solve.threads;
+  return Math.max(1, Math.min(wanted, options.threads ?? wanted));
 }
 
 /** Vectors this large are not expanded to the full space for callers (warm starts, entanglement). */
