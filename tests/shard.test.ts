@@ -125,6 +125,28 @@ describe('shards', () => {
     }
   });
 
+  it('a shard cut short (a preempted task, mid-write) resumes like a local scan, and the merge is complete', () => {
+    const dir = tmp();
+    const spec = path.join(dir, 'spec.toml');
+    writeFileSync(spec, SPEC);
+    const shards = [1, 2].map((i) => path.join(dir, `shard-${i}`));
+    shards.forEach((out, k) => expect(runCli(['scan', spec, '--out', out, '--shard', `${k + 1}/2`, '--quiet', '--no-warm-start']).code).toBe(0));
+    const file = path.join(shards[0], 'records.msgpack');
+    const full = readRun(shards[0]).records as Rec[];
+    // Keep the first two records and half of the third, as a task killed while writing leaves it.
+    const bytes = readFileSync(file);
+    let end = 0;
+    for (let k = 0; k < 2; k++) end += 12 + bytes.readUInt32LE(end + 4);
+    writeFileSync(file, bytes.subarray(0, end + 20));
+    const resumed = runCli(['scan', spec, '--out', shards[0], '--shard', '1/2', '--no-warm-start']);
+    expect(resumed.code).toBe(0);
+    expect(resumed.stderr).toMatch(/dropped a torn last record/);
+    expect(resumed.stderr).toMatch(new RegExp(`resuming .*: 2 done, 0 failed, ${full.length - 2} to run`));
+    const again = byIndex(shards[0]);
+    for (const r of full) expect(again.get(r.index)!.result.energies).toEqual(r.result.energies);
+    expect(runCli(['merge', ...shards, '--out', path.join(dir, 'merged')]).stdout).toMatch(/12 done, 0 failed, 0 missing of 12/);
+  });
+
   it('merge reports missing and duplicated points and refuses shards of another scan', () => {
     const dir = tmp();
     const spec = path.join(dir, 'spec.toml');
