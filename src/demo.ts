@@ -6,6 +6,7 @@ import { validateSpec } from './spec.js';
 import { solvePoint } from './point.js';
 import { fmt, table } from './tables.js';
 import { runDynamicsDemo } from './demoDynamics.js';
+import { writeDemoReport } from './demoReport.js';
 
 export const DEMO_SPEC = {
   chain: { sites: 6, boundary: 'periodic' },
@@ -38,6 +39,8 @@ export async function runDemo(print: (line: string) => void): Promise<void> {
   print('');
   print('');
   runDynamicsDemo(print);
+  print('');
+  writeDemoReport(print);
   print('');
   print('Solve your own: write a spec (see README) and run `rungchain solve SPEC`; evolve one with `rungchain evolve SPEC`.');
 }
