@@ -987,11 +987,14 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   // a fresh random start deflated against everything found: if the lowest eigenvalue of that
   // deflated problem lies below the highest value found, it belongs in the answer. The lowest
   // eigenvalue is what a random-start Lanczos finds reliably, whatever its multiplicity, so a run
-  // that inserts nothing proves the set complete. When a run inserts as many pairs as it
-  // searched for, the next run searches for twice as many (large multiplicities), else for one.
+  // that inserts nothing proves the set complete. Runs look for one pair (double degeneracy is
+  // the common case, and the closing run that inserts nothing is cheapest with one); after two
+  // runs in a row that insert all they looked for, the next looks for twice as many (large
+  // multiplicities).
   const inserted = new Set<Float64Array>();
   if (converged && states < available && opts.verifyDegeneracy !== false) {
     let searchFor = 1;
+    let fullRounds = 0;
     for (let round = 0; round < 4 * states + 4; round++) {
       const space = available - states;
       const nev = Math.min(searchFor, space);
@@ -1040,7 +1043,8 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
         }
       }
       if (insertedNow === 0) break;
-      searchFor = insertedNow === nev ? Math.min(2 * nev, states) : 1;
+      fullRounds = insertedNow === nev ? fullRounds + 1 : 0;
+      searchFor = fullRounds >= 2 ? Math.min(2 * nev, states) : 1;
     }
   }
 
