@@ -18,7 +18,10 @@ export interface EigenOptions {
   tolerance: number;
   /** Budget of matrix-vector products; default max(5000, 50*states). */
   maxMatvecs?: number;
-  /** Restart basis size m (memory: m+1 vectors of the dimension); default max(2*states+14, 24), capped at dim. */
+  /**
+   * Restart basis size m; default max(2*states+14, 24), capped at dim. Working memory is m+1
+   * vectors of the dimension (the verification pass reuses them, keeping the results aside).
+   */
   krylovSize?: number;
   /** dim <= this -> dense path (default 400). */
   denseThreshold?: number;
@@ -39,7 +42,10 @@ export interface EigenOptions {
 }
 
 export interface EigenResult {
-  /** Ascending, length states (or the available dimension if smaller). */
+  /**
+   * Ascending, length states (or the available dimension if smaller; shorter still only when
+   * maxMatvecs ran out before the basis held that many vectors).
+   */
   values: Float64Array;
   /** Normalized eigenvectors, same layout as the operator's vectors. */
   vectors: Float64Array[];
