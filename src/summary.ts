@@ -157,6 +157,11 @@ export function longRows(summary: ScanRunSummary): LongRow[] {
     obs.populations.forEach((p, i) => p.forEach((value, n) => out.push({ ...base, observable: 'populations', site: i, level: n, other_site: null, value })));
     obs.level_mean.forEach((value, i) => out.push({ ...base, observable: 'level_mean', site: i, level: null, other_site: null, value }));
     obs.spread.forEach((value, i) => out.push({ ...base, observable: 'spread', site: i, level: null, other_site: null, value }));
+    // Per-site observables of itinerant kinds (src/observables/itinerant.ts), when present.
+    for (const name of ['density', 'double_occupancy']) {
+      const values = obs[name];
+      if (Array.isArray(values)) values.forEach((value: number, i: number) => out.push({ ...base, observable: name, site: i, level: null, other_site: null, value }));
+    }
     obs.pair_separation.forEach((p, i) =>
       p.forEach((value, j) => {
         if (j > i) out.push({ ...base, observable: 'pair_separation', site: i, level: null, other_site: j, value });

@@ -78,6 +78,24 @@ describe('summary --by particles.kind', () => {
     expect(Number(periodic[2])).toBeCloseTo(expected.periodic.fermion, 10);
   });
 
+  it('--long carries the per-site density and pairs on a site of each kind', () => {
+    const r = runCli(['summary', run, '--long', '--json']);
+    expect(r.code).toBe(0);
+    const rows = (JSON.parse(r.stdout) as Record<string, any>[]).filter((x) => x['chain.boundary'] === 'periodic');
+    for (const kind of ['hardcore', 'fermion', 'boson']) {
+      const density = rows.filter((x) => x['particles.kind'] === kind && x.observable === 'density');
+      const pairs = rows.filter((x) => x['particles.kind'] === kind && x.observable === 'double_occupancy');
+      expect(density.map((x) => x.site)).toEqual(Array.from({ length: L }, (_, i) => i));
+      // A ring's ground space is translation invariant: the density is uniform, Np/L (common practice).
+      for (const x of density) expect(x.value).toBeCloseTo(NP / L, 10);
+      // Hard-core bosons never share a site, nor do fermions with one level (Pauli); free bosons, each
+      // on a site with probability 1/L, share site i in C(Np,2)/L^2 pairs on average (multinomial counting).
+      const expectedPairs = kind === 'boson' ? (NP * (NP - 1)) / 2 / (L * L) : 0;
+      expect(pairs).toHaveLength(L);
+      for (const x of pairs) expect(x.value).toBeCloseTo(expectedPairs, 10);
+    }
+  });
+
   it('readable table, and an axis the scan does not have is one error line', () => {
     const ok = runCli(['summary', run, '--by', 'kind']);
     expect(ok.code).toBe(0);
