@@ -18,7 +18,7 @@
 // A frame already in the records is never written twice: a resume from an older checkpoint
 // recomputes those frames and skips them.
 
-import { existsSync, readFileSync, unlinkSync } from 'node:fs';
+import { existsSync, readdirSync, readFileSync, unlinkSync } from 'node:fs';
 import path from 'node:path';
 import { crc32 } from 'node:zlib';
 import cliProgress from 'cli-progress';
@@ -73,6 +73,14 @@ const CHECKPOINT_MAGIC = Buffer.from('RCK1', 'latin1');
 
 export function checkpointPath(dir: string, point: number): string {
   return path.join(dir, `checkpoint-${point}.bin`);
+}
+
+/** Deletes a point's checkpoint and any temporary copy a killed writer left half written. */
+export function removeCheckpoint(dir: string, point: number): void {
+  const name = path.basename(checkpointPath(dir, point));
+  for (const file of readdirSync(dir)) {
+    if (file === name || file.startsWith(`${name}.tmp.`)) unlinkSync(path.join(dir, file));
+  }
 }
 
 export function writeCheckpoint(dir: string, identity: string, point: number, c: EvolutionCheckpoint): void {
@@ -414,6 +422,10 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
         )
       : null;
   bar?.start(Math.max(1, totalFrames), Math.min(framesDone, totalFrames), { t: '0', end: '?' });
+  if (writer && dir !== null) {
+    // We hold the lock: temporary checkpoint files are left from a writer that was killed mid-write.
+    for (const file of readdirSync(dir)) if (/^checkpoint-\d+\.bin\.tmp\./.test(file)) unlinkSync(path.join(dir, file));
+  }
   if (writer && writer.cutBytes > 0) say(`dropped a torn last record (${writer.cutBytes} bytes, a write cut short); it is computed again`);
 
   try {
@@ -429,7 +441,7 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
         trace.error = record.error;
         trace.stats = record.stats;
         trace.notes = record.notes ?? [];
-        if (dir !== null && existsSync(checkpointPath(dir, job.point))) unlinkSync(checkpointPath(dir, job.point));
+        if (dir !== null) removeCheckpoint(dir, job.point);
       };
       if (plan instanceof Error) {
         finish({ kind: 'trace', point: job.point, params: job.params, status: 'failed', error: errorText(plan), finished: new Date().toISOString() });
