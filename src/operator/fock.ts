@@ -26,7 +26,7 @@ import { ResourceError } from '../errors.js';
 import type { Model } from '../model.js';
 import { CsrOperator } from './csr.js';
 
-/** Largest number of stored off-diagonal entries: typed arrays are indexed by 32-bit integers here. */
+/** Largest number of stored entries: typed arrays are indexed by 32-bit integers here. */
 const MAX_STORED = 2 ** 31 - 1;
 
 /** The pieces of the Hamiltonian on one site's local space, shared by the count and the build. */
@@ -286,7 +286,6 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
   const P1 = Np + 1;
   const d = basis.local.dim;
   const R = basis.rankTable;
-  const count = basis.local.count;
   const fermion = basis.kind === 'fermion';
   const { localStart, localCol, localRe, localIm, localDiagonal, moment, raiseTo, raiseAmp, lowerTo, lowerAmp } = terms;
   const { createTo, createAmp, annihilateTo, annihilateAmp } = basis.local;
