@@ -15,7 +15,7 @@ export const DEMO_REPORT_FILE = path.join('runs', 'demo-report.html');
 
 export function writeDemoReport(print: (line: string) => void, file = DEMO_REPORT_FILE): string {
   const counts = [3, 4, 5];
-  const strengths = Array.from({ length: 14 }, (_, k) => Number((0.5 + 0.5 * k).toFixed(2)));
+  const strengths = Array.from({ length: 12 }, (_, k) => Number((0.5 + 0.5 * k).toFixed(2)));
   const input: AnalysisInput = {
     axes: [
       { key: 'levels.count', values: counts },
@@ -50,7 +50,7 @@ export function writeDemoReport(print: (line: string) => void, file = DEMO_REPOR
     title: 'rungchain demo: molecule X-47 in a ring of six tweezers',
     about: [
       'An invented scenario: six polar molecules in a ring of optical tweezers, their lowest N rotational levels dressed by microwaves (tunnelling J = 1) and coupled by nearest-neighbour dipolar exchange V with rigid-rotor weights.',
-      'Scanned: V from 0.5 to 7 for N = 3, 4 and 5 levels. Finite-size trends are taken against 1/N: a bound string keeps a finite width as N grows.',
+      'Scanned: V from 0.5 to 6 for N = 3, 4 and 5 levels. Finite-size trends are taken against 1/N: a bound string keeps a finite width as N grows.',
     ],
     analysis,
     energyUnitHz: null,

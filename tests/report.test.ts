@@ -18,6 +18,7 @@ import {
 import { analyseScan, type AnalysisPoint } from '../src/transitions.js';
 import type { PointRecord } from '../src/point.js';
 import { ROOT, runCli } from './support/cli.js';
+import { writeDemoReport } from '../src/demoReport.js';
 
 const CHROMIUM = '/usr/bin/chromium';
 // Flags that work in this container (no sandbox, no GPU, nothing reaching out).
@@ -214,13 +215,29 @@ function syntheticRecord(x: number, a: number, sites: number): PointRecord {
 }
 
 function largeInput(): ReportInput {
-  const as = Array.from({ length: 60 }, (_, k) => 0.5 + k * 0.05);
-  const xs = Array.from({ length: 1500 }, (_, k) => k * 0.004);
+  const as = Array.from({ length: 24 }, (_, k) => 0.5 + k * 0.1);
+  const xs = Array.from({ length: 1000 }, (_, k) => k * 0.006);
   const points: AnalysisPoint[] = [];
   for (const a of as) for (const x of xs) points.push({ index: points.length, params: { 'ising.strength': a, 'exchange.strength': x }, record: syntheticRecord(x, a, 4), overlapPrevious: 0.99999 });
   const input = { axes: [{ key: 'ising.strength', values: as }, { key: 'exchange.strength', values: xs }], zip: false, points };
   return { ...input, title: 'large synthetic scan', about: [], analysis: analyseScan(input), energyUnitHz: null };
 }
+
+describe('the demo report', () => {
+  it('is written for the invented scenario and opens cleanly, with indicators and fits against 1/N', async () => {
+    const file = path.join(dir, 'demo', 'demo-report.html');
+    const lines: string[] = [];
+    writeDemoReport((line) => lines.push(line), file);
+    expect(lines.join('\n')).toContain(path.resolve(file));
+    const { complaints, requests, plots } = await openReport(file);
+    expect(complaints).toEqual([]);
+    expect(requests).toEqual([]);
+    const ids = plots.map((p) => p.id);
+    for (const id of ['obs-string-width', 'heat-string-width', 'spectrum-0', 'indicator-fidelity', 'fit-string-width-N', 'populations']) expect(ids).toContain(id);
+    // Three ladder lengths: a line each in every plot against V.
+    expect(plots.find((p) => p.id === 'obs-string-width')!.series).toHaveLength(3);
+  }, 120_000);
+});
 
 describe('large scans stay light', () => {
   it('caps lines, thins points keeping the extremes, and bins heat maps', async () => {
@@ -236,7 +253,7 @@ describe('large scans stay light', () => {
       expect(p.cols).toBeLessThanOrEqual(MAX_CELLS);
     }
     expect(plots.find((p) => p.id === 'obs-string-width')!.series).toHaveLength(MAX_SERIES);
-    expect(html).toContain(`showing ${MAX_SERIES} of 60 lines`);
+    expect(html).toContain(`showing ${MAX_SERIES} of 24 lines`);
   }, 120_000);
 
   it('thinning keeps the first, last, smallest and largest values', () => {
