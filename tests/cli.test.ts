@@ -54,10 +54,13 @@ describe('rungchain command line', () => {
   });
 
   it('check sizes the problem, and solve refuses what exceeds the memory limit', () => {
-    const c = runCli(['check', fixture, '--set', 'chain.sites=20']);
+    const c = runCli(['check', fixture, '--set', 'chain.sites=20', '--set', 'solve.symmetries="none"']);
     expect(c.code).toBe(0);
     expect(c.stdout).toMatch(/basis dimension\s+1048576/);
     expect(c.stdout).toMatch(/on the fly/);
+    // with symmetries (the default) check names them: an open XX chain has its mirror and a conserved total level
+    const sectors = runCli(['check', fixture, '--set', 'chain.sites=20']);
+    expect(sectors.stdout).toMatch(/symmetries\s+reflection, charge/);
     const refused = runCli(['solve', fixture, '--set', 'chain.sites=20', '--max-memory', '20MB']);
     expect(refused.code).toBe(2);
     expect(refused.stderr).toMatch(/estimated .*MiB/);

@@ -109,7 +109,7 @@ seed = 7
     expect(fromToml.exchange.weights).toEqual(rotorWeights(4));
     expect(fromToml.ising.cutoff).toBe(Infinity);
     expect(fromToml.particles).toEqual({ kind: 'boson', number: 3, maxPerSite: 2, hopping: 0.7, onsite: 4 });
-    expect(fromToml.solve).toEqual({ states: 3, tolerance: 1e-8, maxMatvecs: 5000, krylov: 20, seed: 7, entanglement: 'auto' });
+    expect(fromToml.solve).toEqual({ states: 3, tolerance: 1e-8, maxMatvecs: 5000, krylov: 20, seed: 7, entanglement: 'auto', symmetries: 'auto', sector: {}, threads: 'auto' });
   });
 
   it('loads .toml and .json files by extension', () => {
@@ -145,7 +145,7 @@ describe('defaults and expansion', () => {
     expect(spec.exchange).toEqual({ strength: 0, range: 'nearest', cutoff: Infinity, weights: [1, 1], weightsName: 'uniform' });
     expect(spec.ising).toEqual({ strength: 0, moments: [0, 0, 0], range: 'nearest', cutoff: Infinity });
     expect(spec.particles).toEqual({ kind: 'pinned', number: 4, maxPerSite: 1, hopping: 0, onsite: 0 });
-    expect(spec.solve).toEqual({ states: 4, tolerance: 1e-9, maxMatvecs: null, krylov: null, seed: 1, entanglement: 'auto' });
+    expect(spec.solve).toEqual({ states: 4, tolerance: 1e-9, maxMatvecs: null, krylov: null, seed: 1, entanglement: 'auto', symmetries: 'auto', sector: {}, threads: 'auto' });
     expect(spec.extra).toEqual({});
   });
 
