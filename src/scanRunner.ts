@@ -42,6 +42,23 @@ export function defaultWorkerCount(): number {
   return Math.max(1, os.availableParallelism());
 }
 
+/**
+ * Point-parallel or product-parallel: with at least as many points as cores, every core runs its
+ * own points, one thread each (no hand-offs at all). With fewer points, or one point that
+ * outweighs all the others together, fewer workers run and each product is split across the
+ * spare cores over shared memory. An explicit worker count is kept as asked.
+ */
+export function chooseParallelism(pendingCosts: number[], requestedWorkers?: number): { workers: number; threadsPerPoint: number } {
+  const cores = defaultWorkerCount();
+  let workers = Math.max(1, Math.min(requestedWorkers ?? cores, pendingCosts.length));
+  if (requestedWorkers === undefined && pendingCosts.length > 1) {
+    const total = pendingCosts.reduce((a, b) => a + b, 0);
+    const largest = Math.max(...pendingCosts);
+    if (largest > total / 2) workers = 1;
+  }
+  return { workers, threadsPerPoint: Math.max(1, Math.floor(cores / workers)) };
+}
+
 export function createPointPool(choice: PoolChoice): Piscina {
   const filename = fileURLToPath(new URL('../workers/point.js', import.meta.url));
   return new Piscina({
@@ -304,7 +321,8 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
     }
     if (done + failed > 0) say(`resuming ${dir}: ${done} done, ${failed} failed, ${pending.size} to run`);
 
-    const workers = Math.max(1, Math.min(options.workers ?? defaultWorkerCount(), pending.size));
+    const { workers, threadsPerPoint } = chooseParallelism([...pending].map((i) => costs[i]), options.workers);
+    say(`${pending.size} points on ${workers} worker${workers > 1 ? 's' : ''}` + (threadsPerPoint > 1 ? `, each product on up to ${threadsPerPoint} threads` : ''));
     const queue = planTasks(plan, pending, costs, workers);
     const remainingCost = [...pending].reduce((s, i) => s + costs[i], 0);
     const mode = options.progress === undefined || options.progress === 'auto' ? (stream.isTTY ? 'bar' : 'lines') : options.progress;
@@ -379,7 +397,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
           pump();
         };
         activePool
-          .run({ points: task.points.map((p) => ({ index: p.index, params: p.params, raw: p.raw })), leadIn: task.leadIn ? { index: task.leadIn.index, params: task.leadIn.params, raw: task.leadIn.raw } : undefined, maxMemory, warmStart: options.warmStart !== false, port: port2 }, { transferList: [port2] })
+          .run({ points: task.points.map((p) => ({ index: p.index, params: p.params, raw: p.raw })), leadIn: task.leadIn ? { index: task.leadIn.index, params: task.leadIn.params, raw: task.leadIn.raw } : undefined, maxMemory, warmStart: options.warmStart !== false, threads: threadsPerPoint, port: port2 }, { transferList: [port2] })
           .then(
             () => settle(null),
             (e: unknown) => settle(e),

@@ -26,6 +26,8 @@ export interface ScanTask {
   leadIn?: TaskPoint;
   maxMemory: number;
   warmStart: boolean;
+  /** Most threads one product may use: the cores this worker's share allows (see chooseParallelism). */
+  threads?: number;
   port: MessagePort;
 }
 
@@ -118,7 +120,7 @@ export function runScanTask(task: ScanTask, post: (message: TaskMessage) => void
     try {
       const spec = validateSpec(task.leadIn.raw);
       const plan = planPoint(spec);
-      const lead = solvePoint(spec, { maxMemory: task.maxMemory });
+      const lead = solvePoint(spec, { maxMemory: task.maxMemory, threads: task.threads ?? 1 });
       previous = { key: basisKey(spec, plan.model.isComplex, plan.dimension), states: lead.groundStates, start: startVector(lead.eigen?.vectors ?? lead.groundStates) };
     } catch {
       // The first point then starts cold and has no overlap, as without a lead-in.
@@ -137,7 +139,7 @@ export function runScanTask(task: ScanTask, post: (message: TaskMessage) => void
       const key = basisKey(spec, plan.model.isComplex, plan.dimension);
       const same = previous !== null && previous.key === key && previous.states.length > 0;
       const warm = task.warmStart && same;
-      const solvedPoint = solvePoint(spec, { maxMemory: task.maxMemory, initial: warm ? previous!.start : undefined });
+      const solvedPoint = solvePoint(spec, { maxMemory: task.maxMemory, threads: task.threads ?? 1, initial: warm ? previous!.start : undefined });
       const ground = solvedPoint.groundStates;
       const overlap = same && ground.length > 0 ? groundSpaceOverlap(previous!.states, ground, plan.model.isComplex) : null;
       previous = { key, states: ground, start: startVector(solvedPoint.eigen?.vectors ?? ground) };
