@@ -173,7 +173,7 @@ function expectEigenpairs(op: HermitianOperator, result: EigenResult, expected: 
     // Recomputed here with the test's own product, not trusted from the solver.
     expect(residualOf(op, result.vectors[k], result.values[k])).toBeLessThanOrEqual(2 * tolerance);
   }
-  expect(orthonormalityError(result.vectors, op.isComplex)).toBeLessThan(1e-8);
+  expect(orthonormalityError(result.vectors, op.isComplex)).toBeLessThan(1e-11);
 }
 
 // ---------------------------------------------------------------------------------------------
