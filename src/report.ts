@@ -38,6 +38,10 @@ export const MAX_POINTS = 400;
 export const MAX_CELLS = 80;
 /** Populations drawn for a chosen point: larger chains are cut to this many sites. */
 export const MAX_POPULATION_SITES = 64;
+/** Rows of the table drawn when no numeric parameter is scanned. */
+export const MAX_TABLE_ROWS = 200;
+/** Columns the table leaves out to stay narrow (they follow the ones it keeps). */
+const DERIVED_NAMES = new Set(['renyi_2', 'spread']);
 
 /** Line colours (see the header): navy, amber, wine, green, violet, lavender, brown, mauve. */
 export const PALETTE = ['#1d367e', '#e99a00', '#94134c', '#00be72', '#7703cc', '#8a88f1', '#694300', '#bb8eb7'] as const;
@@ -188,7 +192,9 @@ function evenlyChosen<T>(items: T[], max: number): T[] {
 interface KeyInfo {
   symbol: string;
   name: string;
-  kind: 'energy' | 'angle' | 'count' | 'other';
+  kind: 'energy' | 'angle' | 'count' | 'lab' | 'other';
+  /** Fixed unit of a laboratory quantity ([units] keys). */
+  unit?: string;
 }
 
 const KEYS: Record<string, KeyInfo> = {
@@ -202,6 +208,13 @@ const KEYS: Record<string, KeyInfo> = {
   'chain.sites': { symbol: 'L', name: 'sites', kind: 'count' },
   'levels.count': { symbol: 'N', name: 'levels', kind: 'count' },
   'particles.number': { symbol: 'n', name: 'particles', kind: 'count' },
+  'units.dipole_debye': { symbol: 'd', name: 'dipole moment', kind: 'lab', unit: 'D' },
+  'units.lattice_spacing_nm': { symbol: 'a', name: 'lattice spacing', kind: 'lab', unit: 'nm' },
+  'units.dipole_angle_deg': { symbol: 'θ', name: 'dipole angle to the chain', kind: 'lab', unit: 'deg' },
+  'units.rabi_khz': { symbol: 'Ω/2π', name: 'Rabi frequency', kind: 'lab', unit: 'kHz' },
+  'units.detuning_khz': { symbol: 'Δ/h', name: 'detuning', kind: 'lab', unit: 'kHz' },
+  'units.rotational_constant_ghz': { symbol: 'B/h', name: 'rotational constant', kind: 'lab', unit: 'GHz' },
+  'units.energy_unit_hz': { symbol: 'ε/h', name: 'model energy unit', kind: 'lab', unit: 'Hz' },
 };
 
 function keyInfo(key: string): KeyInfo {
@@ -240,6 +253,7 @@ function parameterAxis(key: string, units: Units): AxisUnit {
   const text = info.kind === 'other' ? key : `${info.symbol}, ${info.name}`;
   if (info.kind === 'energy') return { label: text, unit: units.energy, scale: units.energyScale };
   if (info.kind === 'angle') return { label: text, unit: 'rad', scale: 1 };
+  if (info.kind === 'lab') return { label: text, unit: info.unit ?? '', scale: 1 };
   return { label: text, unit: '', scale: 1 };
 }
 
@@ -252,7 +266,7 @@ function showParams(params: ScanParams, units: Units): string {
     const info = keyInfo(k);
     const scaled = typeof v === 'number' && info.kind === 'energy' ? v * units.energyScale : v;
     const value = typeof scaled === 'number' ? fmt(scaled, 5) : Array.isArray(scaled) ? `[${scaled.join(', ')}]` : String(scaled);
-    return `${info.kind === 'other' ? k : info.symbol} = ${value}${info.kind === 'energy' && units.lab ? ' h·kHz' : ''}`;
+    return `${info.kind === 'other' ? k : info.symbol} = ${value}${info.kind === 'energy' && units.lab ? ' h·kHz' : info.unit ? ` ${info.unit}` : ''}`;
   });
   return parts.length > 0 ? parts.join(', ') : 'all points';
 }
@@ -634,10 +648,10 @@ const INDICATOR_UNITS: Record<string, (x: AxisUnit, u: Units) => string> = {
 };
 
 /** Which point's populations to draw: the requested one, else the done point nearest the main peak of the largest system. */
-function choosePoint(input: ReportInput): number | null {
+function choosePoint(input: ReportInput): { index: number; why: string } | null {
   const done = input.points.filter((p) => p.record !== null);
   if (done.length === 0) return null;
-  if (input.chosenPoint !== undefined) return done.some((p) => p.index === input.chosenPoint) ? input.chosenPoint : null;
+  if (input.chosenPoint !== undefined) return done.some((p) => p.index === input.chosenPoint) ? { index: input.chosenPoint, why: 'as requested' } : null;
   const { analysis } = input;
   const param = analysis.parameter;
   if (param !== null) {
@@ -652,11 +666,11 @@ function choosePoint(input: ReportInput): number | null {
       const onLine = done.filter((p) => Object.entries(best!.line.fixed).every(([k, v]) => JSON.stringify(p.params[k]) === JSON.stringify(v)));
       if (onLine.length > 0) {
         onLine.sort((a, b) => Math.abs((a.params[param] as number) - peak.position) - Math.abs((b.params[param] as number) - peak.position));
-        return onLine[0].index;
+        return { index: onLine[0].index, why: 'near the main transition indicator of the largest system' };
       }
     }
   }
-  return done[Math.floor(done.length / 2)].index;
+  return { index: done[Math.floor(done.length / 2)].index, why: 'in the middle of the scan' };
 }
 
 export function renderReport(input: ReportInput): string {
@@ -911,9 +925,34 @@ export function renderReport(input: ReportInput): string {
     );
   }
 
+  // Without a numeric parameter (e.g. only particle kinds scanned) there is nothing to draw against: a table.
+  if (!parameter && done.length > 0) {
+    const shown = done.slice(0, MAX_TABLE_ROWS);
+    const columns = names.filter((n) => !DERIVED_NAMES.has(n));
+    const head = `<tr><th>point</th>${input.axes.map((a) => `<th>${esc(a.key)}</th>`).join('')}${columns
+      .map((n) => {
+        const info = observableInfo(n);
+        const unit = info.unit(units);
+        return `<th>${esc(info.short)}${unit ? ` [${esc(unit)}]` : ''}</th>`;
+      })
+      .join('')}</tr>`;
+    const rows = shown
+      .map((p) => {
+        const cells = columns.map((n) => {
+          const v = observableValue(p.record!, n);
+          return `<td>${v === undefined ? '-' : esc(fmt(v * (observableInfo(n).energy ? units.energyScale : 1), 7))}</td>`;
+        });
+        return `<tr><td>${p.index}</td>${input.axes.map((a) => `<td>${esc(String(p.params[a.key]))}</td>`).join('')}${cells.join('')}</tr>`;
+      })
+      .join('');
+    const more = done.length > shown.length ? `<p class="note">first ${shown.length} of ${done.length} points; \`rungchain summary RUN --csv\` has them all</p>` : '';
+    sections.push(section('values', 'Values per point', [`<div class="table-wrap"><table class="values">${head}${rows}</table>${more}</div>`]));
+  }
+
   // Populations of one point.
-  const chosen = choosePoint(input);
-  if (chosen !== null) {
+  const choice = choosePoint(input);
+  if (choice !== null) {
+    const chosen = choice.index;
     const point = input.points.find((p) => p.index === chosen)!;
     const pops = point.record!.observables.populations;
     const sites = Math.min(pops.length, MAX_POPULATION_SITES);
@@ -927,11 +966,12 @@ export function renderReport(input: ReportInput): string {
       yValues: Array.from({ length: sites }, (_, i) => i),
       z: pops.slice(0, sites),
       zLabel: point.record!.basis.kind === 'pinned' ? 'probability' : 'mean occupation',
-      range: point.record!.basis.kind === 'pinned' ? [0, 1] : undefined,
+      // Probabilities on a fixed scale; occupations from zero.
+      range: point.record!.basis.kind === 'pinned' ? [0, 1] : [0, Math.max(1e-12, ...pops.flat())],
       annotate: sites * levels <= 96,
       notes: pops.length > sites ? [`first ${sites} of ${pops.length} sites`] : [],
     });
-    sections.push(section('populations', 'Level populations of one point', [map], `Chosen ${input.chosenPoint !== undefined ? 'on request' : 'near the main transition indicator of the largest system'}; \`rungchain report RUN --point INDEX\` picks another.`));
+    sections.push(section('populations', 'Level populations of one point', [map], `Chosen ${choice.why}; \`rungchain report RUN --point INDEX\` picks another.`));
   }
 
   const axesText = input.axes.map((a) => `${keyInfo(a.key).kind === 'other' ? a.key : `${keyInfo(a.key).symbol} (${a.key})`}: ${a.values.length} value${a.values.length === 1 ? '' : 's'}`).join(input.zip ? ' with ' : ' × ');

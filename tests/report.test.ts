@@ -239,6 +239,19 @@ describe('the demo report', () => {
   }, 120_000);
 });
 
+describe('scans without a numeric parameter', () => {
+  it('get a table of values per point instead of plots against it', () => {
+    const kinds = ['hardcore', 'boson', 'fermion'];
+    const points: AnalysisPoint[] = kinds.map((kind, k) => ({ index: k, params: { 'particles.kind': kind }, record: syntheticRecord(k, 0, 4), overlapPrevious: null }));
+    const input = { axes: [{ key: 'particles.kind', values: kinds }], zip: false, points };
+    const html = renderReport({ ...input, title: 'kinds', about: [], analysis: analyseScan(input), energyUnitHz: null });
+    const table = /<table class="values">([\s\S]*?)<\/table>/.exec(html)![1];
+    expect(table.match(/<tr>/g)).toHaveLength(1 + kinds.length);
+    kinds.forEach((kind) => expect(table).toContain(`<td>${kind}</td>`));
+    expect(html).not.toContain('id="observables"');
+  });
+});
+
 describe('large scans stay light', () => {
   it('caps lines, thins points keeping the extremes, and bins heat maps', async () => {
     const html = renderReport(largeInput());
