@@ -7,7 +7,7 @@
 // by the residual variance RSS/(n - terms) (Press et al., Numerical Recipes, 3rd ed., sec. 15.4).
 
 import { Matrix, inverse } from 'ml-matrix';
-import { RungchainError } from './errors.js';
+import { InputError } from './errors.js';
 
 export interface FitOptions {
   /** Power p in x = 1/size^p (default 1). */
@@ -44,18 +44,18 @@ export function finiteSizeFit(sizes: number[], values: number[], options: FitOpt
   const power = options.power ?? 1;
   const terms = options.terms ?? 2;
   if (sizes.length !== values.length) throw new RangeError(`finiteSizeFit: ${sizes.length} sizes but ${values.length} values`);
-  if (!(power > 0) || !Number.isFinite(power)) throw new RungchainError(`fit power must be a positive number, got ${power}`);
-  if (!Number.isInteger(terms) || terms < 1) throw new RungchainError(`fit terms must be a positive integer, got ${terms}`);
+  if (!(power > 0) || !Number.isFinite(power)) throw new InputError(`fit power must be a positive number, got ${power}`);
+  if (!Number.isInteger(terms) || terms < 1) throw new InputError(`fit terms must be a positive integer, got ${terms}`);
   const n = sizes.length;
   if (new Set(sizes).size < terms) {
-    throw new RungchainError(`a fit with ${terms} coefficients needs at least ${terms} different sizes, got ${new Set(sizes).size}`);
+    throw new InputError(`a fit with ${terms} coefficients needs at least ${terms} different sizes, got ${new Set(sizes).size}`);
   }
-  for (const s of sizes) if (!(s > 0)) throw new RungchainError(`sizes must be positive, got ${s}`);
+  for (const s of sizes) if (!(s > 0)) throw new InputError(`sizes must be positive, got ${s}`);
   let sigmas: number[] | null = null;
   if (options.sigmas && options.sigmas.some((s) => s !== null && s !== undefined)) {
     sigmas = options.sigmas.map((s, i) => {
       if (typeof s !== 'number' || !(s > 0) || !Number.isFinite(s)) {
-        throw new RungchainError(`uncertainty of the point at size ${sizes[i]} must be a positive number, got ${s}`);
+        throw new InputError(`uncertainty of the point at size ${sizes[i]} must be a positive number, got ${s}`);
       }
       return s;
     });
