@@ -38,7 +38,7 @@ export const MAX_POINTS = 400;
 export const MAX_CELLS = 80;
 /** Populations drawn for a chosen point: larger chains are cut to this many sites. */
 export const MAX_POPULATION_SITES = 64;
-/** Rows of the table drawn when no numeric parameter is scanned. */
+/** Rows of any table (values, peaks, fits); the rest are in `summary --csv` or `--analysis --json`. */
 export const MAX_TABLE_ROWS = 200;
 /** Columns the table leaves out to stay narrow (they follow the ones it keeps). */
 const DERIVED_NAMES = new Set(['renyi_2', 'spread']);
@@ -624,7 +624,13 @@ function section(id: string, title: string, body: string[], intro?: string): str
   return `<section id="${id}"><h2>${esc(title)}</h2>${intro ? `<p class="intro">${esc(intro)}</p>` : ''}<div class="figures">${content.join('\n')}</div></section>`;
 }
 
-function fitTable(rows: { label: string; fit: FitResult }[], variable: string, valueUnit: string): string {
+/** A note under a table cut to MAX_TABLE_ROWS rows. */
+function cutNote(shown: number, total: number): string {
+  return total > shown ? `<p class="note">first ${shown} of ${total} rows; \`rungchain summary RUN --analysis --json\` has them all</p>` : '';
+}
+
+function fitTable(allRows: { label: string; fit: FitResult }[], variable: string, valueUnit: string): string {
+  const rows = allRows.slice(0, MAX_TABLE_ROWS);
   const head = `<tr><th>what</th><th>sizes ${esc(variable)}</th><th>extrapolated ${esc(variable)} → ∞${valueUnit ? ` [${esc(valueUnit)}]` : ''}</th><th>coefficients a₁…</th><th>residuals</th><th>χ²/dof</th></tr>`;
   const body = rows
     .map(
@@ -635,7 +641,7 @@ function fitTable(rows: { label: string; fit: FitResult }[], variable: string, v
           .join('; ')}</td><td>${fit.residuals.map((r) => esc(fmt(r, 2))).join(', ')}</td><td>${fit.dof > 0 ? esc(fmt(fit.chi2 / fit.dof, 3)) : '-'}</td></tr>`,
     )
     .join('');
-  return `<table class="fits">${head}${body}</table>`;
+  return `<table class="fits">${head}${body}</table>${cutNote(rows.length, allRows.length)}`;
 }
 
 const INDICATOR_SHORT: Record<string, string> = { gap: 'E₁ − E₀', fidelity: 'χ_F per site', curvature: '−∂²E₀/∂x² per site', width_slope: '∂(string width)/∂x' };
@@ -804,11 +810,12 @@ export function renderReport(input: ReportInput): string {
       });
     });
     const table = `<table class="peaks"><tr><th>line</th>${kinds.map((k) => `<th>${esc(k === 'gap' ? 'gap minimum' : k === 'fidelity' ? 'fidelity peak' : k === 'curvature' ? '−d²E₀/dx² peak' : 'steepest string width')}</th>`).join('')}</tr>${analysis.lines
+      .slice(0, MAX_TABLE_ROWS)
       .map((l) => `<tr><td>${esc(lineName(l.fixed))}</td>${kinds.map((k) => {
         const p = l.indicators.find((i) => i.name === k)?.peak;
         return `<td>${p ? `${esc(fmt(scaleX(p.position), 5))} ± ${esc(fmt(p.uncertainty * xAxis.scale, 2))}${p.at_edge ? ' (edge)' : ''}` : '-'}</td>`;
       }).join('')}</tr>`)
-      .join('')}</table>`;
+      .join('')}</table>${cutNote(Math.min(MAX_TABLE_ROWS, analysis.lines.length), analysis.lines.length)}`;
     sections.push(
       section('indicators', 'Transition indicators', [...plots, `<div class="table-wrap">${table}</div>`],
         `Diamonds mark each line's extremum (parabola through the extremal grid point and its neighbours), with a bar of ± half the grid spacing. Fidelity susceptibility per site χ_F = −2 ln F/(δ² L) from overlaps F of neighbouring ground states.`),
