@@ -328,7 +328,9 @@ export function analysisText(analysis: ScanAnalysis): string {
       ),
     );
   }
-  for (const note of analysis.notes) out.push(`note: ${note}`);
+  // With nothing to show, saying there is no parameter axis would only be noise under a summary.
+  const notes = out.length > 0 ? analysis.notes : analysis.notes.filter((n) => !n.startsWith('no numeric parameter'));
+  for (const note of notes) out.push(`note: ${note}`);
   return out.join('\n');
 }
 
