@@ -595,6 +595,9 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
       projectCoefficients(target, orthoSet, count, isComplex, coef2);
       beta = Math.sqrt(subtractCombination(target, orthoSet, count, isComplex, coef2, null));
     }
+    if (!Number.isFinite(alpha) || !Number.isFinite(beta)) {
+      throw new ConvergenceError(`the operator produced a non-finite value after ${matvecs} matrix-vector products`);
+    }
     T[j * m + j] = alpha;
     // An invariant subspace: nothing new from this direction (the zero operator, warm starts
     // at an eigenvector, few distinct eigenvalues). Continue from a fresh random direction.

@@ -538,6 +538,11 @@ describe('edge cases', () => {
     }
   });
 
+  it('an operator that produces NaN is reported, not looped on', () => {
+    const op: HermitianOperator = { dim: 500, isComplex: false, apply: (_x, y) => y.fill(Number.NaN) };
+    expect(() => lowestEigenpairs(op, { states: 1, tolerance: 1e-9, denseThreshold: 10 })).toThrow(ConvergenceError);
+  });
+
   it('running out of matvecs: converged=false, or ConvergenceError when asked', () => {
     const op = ring(1500);
     const r = lowestEigenpairs(op, { states: 2, tolerance: 1e-12, denseThreshold: 10, maxMatvecs: 60 });
