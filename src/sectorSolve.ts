@@ -158,16 +158,13 @@ export function solveInSectors(
       const ceiling = sorted.length >= states ? sorted[states - 1] : Infinity;
       let result;
       if (Number.isFinite(ceiling) && sector.dim > denseThresholdFor(need)) {
-        // Screen with the sector's lowest state, converged only as far as the decision needs:
-        // Weinstein's bound puts an eigenvalue within the residual r of the Ritz value, and Lanczos
-        // from a random start finds the lowest one first, so theta - r above the current answer
-        // means the sector adds nothing. Anything else is solved to the full tolerance.
-        const screenTolerance = Math.max(opts.tolerance, 1e-5 * Math.max(1, Math.abs(ceiling)));
-        const first = lowestEigenpairs(op, { ...base, tolerance: screenTolerance, verifyDegeneracy: false });
+        // Screen with the sector's lowest state, converged only as far as the decision needs
+        // (see EigenOptions.screenAbove); anything not screened out is solved to the tolerance.
+        const first = lowestEigenpairs(op, { ...base, verifyDegeneracy: false, screenAbove: ceiling + degeneracyWindow(ceiling, opts.tolerance) });
         matvecs += first.matvecs;
         restarts += first.restarts;
         if (first.method === 'lanczos') anyLanczos = true;
-        if (first.converged && first.values[0] - first.residuals[0] > ceiling + degeneracyWindow(ceiling, opts.tolerance)) {
+        if (first.screened) {
           runs.push({ label: plan.label, dimension: sector.dim, method: first.method, iterations: first.matvecs, lowest: first.values[0], screened: true, copies: plan.copies });
           continue;
         }

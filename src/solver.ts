@@ -39,6 +39,12 @@ export interface EigenOptions {
    * need only the lowest value (not its multiplicity), like a sector screen, may skip it.
    */
   verifyDegeneracy?: boolean;
+  /**
+   * Stop early once the lowest eigenvalue is shown to lie above this value (lowest Ritz value minus
+   * its explicit residual above it): the result then has `screened: true` and its values are only
+   * upper bounds. For callers that need to know whether a space holds anything below a level.
+   */
+  screenAbove?: number;
 }
 
 export interface EigenResult {
@@ -61,6 +67,8 @@ export interface EigenResult {
   method: 'dense' | 'lanczos';
   /** How many returned values coincide with values[0]; >= 1. */
   degeneracy: number;
+  /** True when stopped by `screenAbove` (nothing below it); values are then upper bounds. */
+  screened?: boolean;
 }
 
 export const DEFAULT_DENSE_THRESHOLD = 400;
@@ -423,9 +431,17 @@ interface CoreInput {
   /** Spare vectors of the right length to reuse before allocating. */
   pool: Float64Array[];
   progress: ((matvecs: number, restarts: number, worst: number) => void) | null;
+  /**
+   * Stop early, as screened, once the lowest Ritz value minus its residual lies above this: an
+   * eigenvalue lies within the residual of a Ritz value (Weinstein's bound), and Lanczos from a
+   * random start meets the lowest one first, so nothing lies below.
+   */
+  screenAbove?: number;
 }
 
 interface CoreResult {
+  /** True when stopped by `screenAbove`: values are upper bounds, not converged to tolerance. */
+  screened?: boolean;
   values: Float64Array;
   vectors: Float64Array[];
   residuals: Float64Array;
@@ -612,13 +628,21 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
       for (let i = 0; i < nev; i++) {
         worstEstimate = Math.max(worstEstimate, Math.abs(residualNorm * ritz.vectors[lastRow * size + i]));
       }
-      const wantCheck = worstEstimate <= cheapFactor * tolerance;
+      const lowestEstimate = Math.abs(residualNorm * ritz.vectors[lastRow * size]);
+      const screenNow = input.screenAbove !== undefined && ritz.values[0] - 2 * lowestEstimate > input.screenAbove;
+      const toleranceCheck = worstEstimate <= cheapFactor * tolerance;
+      const wantCheck = screenNow || toleranceCheck;
       // An exactly invariant basis keeps all its Ritz vectors, except that a full one frees a slot
       // for the next random direction (unless it already spans everything there is).
       const keep = !breakdown ? restartKeep : size < m || size >= available ? size : m - 1;
       const out = collapse(size, ritz, residualNorm, keep, wantCheck);
       if (size === m) restarts++;
       let worst = worstEstimate;
+      // The cheap estimate only proposed the screen; the explicit residual of the lowest pair decides it.
+      if (screenNow && out.residuals && out.values[0] - out.residuals[0] > input.screenAbove!) {
+        progress?.(matvecs, restarts, worst);
+        return { ...finish(out.values, out.residuals, true), screened: true };
+      }
       if (out.residuals) {
         worst = 0;
         for (const r of out.residuals) worst = Math.max(worst, r);
@@ -626,7 +650,7 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
           progress?.(matvecs, restarts, worst);
           return finish(out.values, out.residuals, true);
         }
-        cheapFactor = Math.max(cheapFactor * 0.1, 1e-6);
+        if (toleranceCheck) cheapFactor = Math.max(cheapFactor * 0.1, 1e-6);
       }
       progress?.(matvecs, restarts, worst);
       if (residualNorm > 0) {
@@ -993,9 +1017,24 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
     rng,
     pool,
     progress,
+    screenAbove: opts.screenAbove,
   });
   totalMatvecs += main.matvecs;
   totalRestarts += main.restarts;
+  if (main.screened) {
+    pool.length = 0;
+    return {
+      values: main.values,
+      vectors: main.vectors,
+      residuals: main.residuals,
+      matvecs: totalMatvecs,
+      restarts: totalRestarts,
+      converged: false,
+      method: 'lanczos',
+      degeneracy: degeneracyOf(main.values, tolerance),
+      screened: true,
+    };
+  }
   const values = Array.from(main.values);
   const vectors = main.vectors.slice();
   const residuals = Array.from(main.residuals);
@@ -1033,6 +1072,8 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
         rng,
         pool,
         progress,
+        // Only "is anything below the highest value found?" needs answering, not the value itself.
+        screenAbove: values[values.length - 1] - Math.max(2 * tolerance, 1e-11 * Math.max(1, Math.abs(values[values.length - 1]))),
       });
       totalMatvecs += run.matvecs;
       totalRestarts += run.restarts;

@@ -28,6 +28,17 @@ export class PinnedOperator implements HermitianOperator {
   private readonly moveFromJ: Int32Array;
   private readonly moveDelta: Int32Array;
   private readonly moveAmp: Float64Array;
+  // Terms acting only on the lowest `blockSites` sites form one small sparse matrix on a block of
+  // B = N^blockSites consecutive states, applied block by block from cache; short strides would
+  // otherwise mean loops of a few elements. Higher sites use the long strided runs.
+  /** Exchange moves of every pair, those folded into the block matrix included. */
+  private readonly exchangeMoves: number;
+  private readonly blockSites: number;
+  private readonly blockSize: number;
+  private readonly blockRowStart: Int32Array;
+  private readonly blockColumn: Int32Array;
+  private readonly blockRe: Float64Array;
+  private readonly blockIm: Float64Array;
 
   /** `diagonal`, when given, is used as is (threads share one diagonal in shared memory). */
   constructor(model: Model, basis: PinnedBasis, diagonal?: Float64Array) {
@@ -81,6 +92,31 @@ export class PinnedOperator implements HermitianOperator {
         amp.push(a, a);
       }
     }
+    // Moves between two low sites go into the block matrix; the rest stay moves.
+    const maxBlock = 4096;
+    let blockSites = 0;
+    let blockSize = 1;
+    while (blockSites < basis.sites && blockSize * N <= maxBlock) {
+      blockSites++;
+      blockSize *= N;
+    }
+    this.blockSites = blockSites;
+    this.blockSize = blockSize;
+    this.exchangeMoves = amp.length;
+    const keepMove = sJ.map((Sj) => Sj >= blockSize);
+    const pick = <T extends number>(list: T[]) => list.filter((_, k) => keepMove[k]);
+    sI.splice(0, sI.length, ...pick(sI));
+    fI.splice(0, fI.length, ...pick(fI));
+    fJ.splice(0, fJ.length, ...pick(fJ));
+    delta.splice(0, delta.length, ...pick(delta));
+    amp.splice(0, amp.length, ...pick(amp));
+    sJ.splice(0, sJ.length, ...pick(sJ));
+    const block = blockMatrix(model, basis, blockSites, blockSize);
+    this.blockRowStart = block.rowStart;
+    this.blockColumn = block.column;
+    this.blockRe = block.re;
+    this.blockIm = block.im;
+
     this.moveStrideI = Int32Array.from(sI);
     this.moveStrideJ = Int32Array.from(sJ);
     this.moveFromI = Int32Array.from(fI);
@@ -97,7 +133,7 @@ export class PinnedOperator implements HermitianOperator {
     for (let s = 0; s < this.dim; s++) if (this.diagonal[s] !== 0) nz++;
     const perDigit = this.dim / this.N;
     nz += this.localTo.length * perDigit * this.strides.length;
-    nz += this.moveAmp.length * (perDigit / this.N);
+    nz += this.exchangeMoves * (perDigit / this.N);
     return nz;
   }
 
@@ -118,9 +154,24 @@ export class PinnedOperator implements HermitianOperator {
   private applyRealRange(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
     const N = this.N;
     const diag = this.diagonal;
-    for (let s = lo; s < hi; s++) y[s] = diag[s] * x[s];
+    // Block pass: y = diag x + (terms within the low sites) x, block by block.
+    const B = this.blockSize;
+    const rs = this.blockRowStart;
+    const col = this.blockColumn;
+    const val = this.blockRe;
+    for (let base = lo - (lo % B); base < hi; base += B) {
+      const r0 = base < lo ? lo - base : 0;
+      const r1 = base + B > hi ? hi - base : B;
+      for (let r = r0; r < r1; r++) {
+        const s = base + r;
+        let acc = diag[s] * x[s];
+        const end = rs[r + 1];
+        for (let k = rs[r]; k < end; k++) acc += val[k] * x[base + col[k]];
+        y[s] = acc;
+      }
+    }
     const nLocal = this.localTo.length;
-    for (let site = 0; site < this.strides.length; site++) {
+    for (let site = this.blockSites; site < this.strides.length; site++) {
       const S = this.strides[site];
       const block = N * S;
       for (let base = lo - (lo % block); base < hi; base += block) {
@@ -143,12 +194,26 @@ export class PinnedOperator implements HermitianOperator {
       const offset = this.moveFromJ[m] * Sj + this.moveFromI[m] * Si + delta;
       const blockJ = N * Sj;
       const blockI = N * Si;
+      if (Si >= SHORT_RUN) {
+        for (let hb = lo - (lo % blockJ); hb < hi; hb += blockJ) {
+          for (let mb = 0; mb < Sj; mb += blockI) {
+            const run = hb + mb + offset;
+            const from = run < lo ? lo : run;
+            const to = run + Si > hi ? hi : run + Si;
+            for (let t = from; t < to; t++) y[t] += amp * x[t - delta];
+          }
+        }
+        continue;
+      }
+      // Short runs (a low site paired with a high one): walk each residue with stride N*Si
+      // through the family of targets [hb + toJ*Sj, hb + toJ*Sj + Sj).
+      const familyStart = offset - (offset % Sj);
       for (let hb = lo - (lo % blockJ); hb < hi; hb += blockJ) {
-        for (let mb = 0; mb < Sj; mb += blockI) {
-          const run = hb + mb + offset;
-          const from = run < lo ? lo : run;
-          const to = run + Si > hi ? hi : run + Si;
-          for (let t = from; t < to; t++) y[t] += amp * x[t - delta];
+        const stop = Math.min(hb + familyStart + Sj, hi);
+        for (let r = 0; r < Si; r++) {
+          let t = hb + offset + r;
+          if (t < lo) t += Math.ceil((lo - t) / blockI) * blockI;
+          for (; t < stop; t += blockI) y[t] += amp * x[t - delta];
         }
       }
     }
@@ -157,13 +222,35 @@ export class PinnedOperator implements HermitianOperator {
   private applyComplexRange(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
     const N = this.N;
     const diag = this.diagonal;
-    for (let s = lo; s < hi; s++) {
-      const d = diag[s];
-      y[2 * s] = d * x[2 * s];
-      y[2 * s + 1] = d * x[2 * s + 1];
+    const B = this.blockSize;
+    const rs = this.blockRowStart;
+    const col = this.blockColumn;
+    const vr = this.blockRe;
+    const vi = this.blockIm;
+    for (let base = lo - (lo % B); base < hi; base += B) {
+      const r0 = base < lo ? lo - base : 0;
+      const r1 = base + B > hi ? hi - base : B;
+      for (let r = r0; r < r1; r++) {
+        const s = base + r;
+        const d = diag[s];
+        let accR = d * x[2 * s];
+        let accI = d * x[2 * s + 1];
+        const end = rs[r + 1];
+        for (let k = rs[r]; k < end; k++) {
+          const c = 2 * (base + col[k]);
+          const hr = vr[k];
+          const hi_ = vi[k];
+          const xr = x[c];
+          const xi = x[c + 1];
+          accR += hr * xr - hi_ * xi;
+          accI += hr * xi + hi_ * xr;
+        }
+        y[2 * s] = accR;
+        y[2 * s + 1] = accI;
+      }
     }
     const nLocal = this.localTo.length;
-    for (let site = 0; site < this.strides.length; site++) {
+    for (let site = this.blockSites; site < this.strides.length; site++) {
       const S = this.strides[site];
       const block = N * S;
       for (let base = lo - (lo % block); base < hi; base += block) {
@@ -192,16 +279,88 @@ export class PinnedOperator implements HermitianOperator {
       const offset = this.moveFromJ[m] * Sj + this.moveFromI[m] * Si + delta;
       const blockJ = N * Sj;
       const blockI = N * Si;
+      if (Si >= SHORT_RUN) {
+        for (let hb = lo - (lo % blockJ); hb < hi; hb += blockJ) {
+          for (let mb = 0; mb < Sj; mb += blockI) {
+            const run = hb + mb + offset;
+            const from = 2 * (run < lo ? lo : run);
+            const to = 2 * (run + Si > hi ? hi : run + Si);
+            for (let t = from; t < to; t++) y[t] += amp * x[t - 2 * delta];
+          }
+        }
+        continue;
+      }
+      const familyStart = offset - (offset % Sj);
       for (let hb = lo - (lo % blockJ); hb < hi; hb += blockJ) {
-        for (let mb = 0; mb < Sj; mb += blockI) {
-          const run = hb + mb + offset;
-          const from = 2 * (run < lo ? lo : run);
-          const to = 2 * (run + Si > hi ? hi : run + Si);
-          for (let t = from; t < to; t++) y[t] += amp * x[t - 2 * delta];
+        const stop = Math.min(hb + familyStart + Sj, hi);
+        for (let r = 0; r < Si; r++) {
+          let t = hb + offset + r;
+          if (t < lo) t += Math.ceil((lo - t) / blockI) * blockI;
+          for (; t < stop; t += blockI) {
+            y[2 * t] += amp * x[2 * (t - delta)];
+            y[2 * t + 1] += amp * x[2 * (t - delta) + 1];
+          }
         }
       }
     }
   }
+}
+
+/** Runs shorter than this are walked by stride instead of as contiguous runs. */
+const SHORT_RUN = 16;
+
+/**
+ * The terms that act only within the lowest `sites` sites, as a sparse matrix on one block of
+ * N^sites consecutive states (the same for every block): tunnelling on those sites and exchange
+ * between two of them. Row r holds <r|H|c> for columns c of the block.
+ */
+function blockMatrix(model: Model, basis: PinnedBasis, sites: number, size: number) {
+  const N = model.levels;
+  const rowStart = new Int32Array(size + 1);
+  const column: number[] = [];
+  const re: number[] = [];
+  const im: number[] = [];
+  const digits = new Int32Array(sites);
+  const w = model.exchangeWeights;
+  const ep = model.exchangePairs;
+  for (let r = 0; r < size; r++) {
+    let rest = r;
+    for (let i = 0; i < sites; i++) {
+      digits[i] = rest % N;
+      rest = Math.floor(rest / N);
+    }
+    for (let i = 0; i < sites; i++) {
+      const a = digits[i];
+      for (let b = 0; b < N; b++) {
+        if (b === a) continue;
+        const hr = model.localRe[a * N + b];
+        const hi = model.localIm[a * N + b];
+        if (hr === 0 && hi === 0) continue;
+        column.push(r + (b - a) * basis.strides[i]);
+        re.push(hr);
+        im.push(hi);
+      }
+    }
+    for (let p = 0; p < ep.count; p++) {
+      const i = ep.i[p];
+      const j = ep.j[p];
+      if (j >= sites) continue;
+      const di = digits[i];
+      const dj = digits[j];
+      // this row (d_i, d_j) = (n+1, n) is reached from (n, n+1), and the other way round
+      if (di === dj + 1 && w[dj] !== 0) {
+        column.push(r - basis.strides[i] + basis.strides[j]);
+        re.push(ep.value[p] * w[dj]);
+        im.push(0);
+      } else if (dj === di + 1 && w[di] !== 0) {
+        column.push(r + basis.strides[i] - basis.strides[j]);
+        re.push(ep.value[p] * w[di]);
+        im.push(0);
+      }
+    }
+    rowStart[r + 1] = column.length;
+  }
+  return { rowStart, column: Int32Array.from(column), re: Float64Array.from(re), im: Float64Array.from(im) };
 }
 
 /** Diagonal of the pinned Hamiltonian, built digit by digit with the same block loops. */
