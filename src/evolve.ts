@@ -35,7 +35,7 @@ import { basisProbabilities, pinnedObservables, type Observables } from './obser
 import { itinerantObservables } from './observables/itinerant.js';
 import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES, type MemoryEstimate } from './resources.js';
 import { defaultKrylovSize, lowestEigenpairs } from './solver.js';
-import { applyOverride, registerSection, validateSpec, type Spec } from './spec.js';
+import { applyOverride, describeValue, isTable, registerSection, validateSpec, type Spec } from './spec.js';
 import { labUnits } from './units.js';
 import { complexDot, complexView, expectation, KrylovPropagator, toComplex, vectorNorm, type ComplexOperator } from './evolve/krylov.js';
 import { productState, siteAmplitudes, type Pulse } from './evolve/initial.js';
@@ -70,19 +70,6 @@ export interface EvolveSection {
 
 type Table = Record<string, unknown>;
 
-function isTable(value: unknown): value is Table {
-  return typeof value === 'object' && value !== null && !Array.isArray(value) && !(value instanceof Date);
-}
-
-function describe(value: unknown): string {
-  if (value === undefined) return 'nothing';
-  if (value === null) return 'null';
-  if (typeof value === 'string') return JSON.stringify(value);
-  if (Array.isArray(value)) return `a list of ${value.length}`;
-  if (isTable(value)) return 'a table';
-  return String(value);
-}
-
 function onlyKeys(table: Table, path: string, known: readonly string[]): void {
   for (const key of Object.keys(table)) {
     if (!known.includes(key)) throw new SpecError(`${path}.${key}`, `unknown key (known: ${known.join(', ')})`);
@@ -90,12 +77,12 @@ function onlyKeys(table: Table, path: string, known: readonly string[]): void {
 }
 
 function tableAt(value: unknown, path: string): Table {
-  if (!isTable(value)) throw new SpecError(path, `expected a table, got ${describe(value)}`);
+  if (!isTable(value)) throw new SpecError(path, `expected a table, got ${describeValue(value)}`);
   return value;
 }
 
 function finite(value: unknown, path: string): number {
-  if (typeof value !== 'number' || !Number.isFinite(value)) throw new SpecError(path, `expected a finite number, got ${describe(value)}`);
+  if (typeof value !== 'number' || !Number.isFinite(value)) throw new SpecError(path, `expected a finite number, got ${describeValue(value)}`);
   return value;
 }
 
@@ -113,13 +100,13 @@ function nonNegative(value: unknown, path: string): number {
 
 function integerAtLeast(value: unknown, path: string, least: number): number {
   if (typeof value !== 'number' || !Number.isSafeInteger(value) || value < least) {
-    throw new SpecError(path, `expected an integer >= ${least}, got ${describe(value)}`);
+    throw new SpecError(path, `expected an integer >= ${least}, got ${describeValue(value)}`);
   }
   return value;
 }
 
 function integerList(value: unknown, path: string, least = 0): number[] {
-  if (!Array.isArray(value)) throw new SpecError(path, `expected a list of integers, got ${describe(value)}`);
+  if (!Array.isArray(value)) throw new SpecError(path, `expected a list of integers, got ${describeValue(value)}`);
   return value.map((v, i) => integerAtLeast(v, `${path}[${i}]`, least));
 }
 
@@ -129,7 +116,7 @@ function validateInitial(value: unknown, path: string): InitialState {
   // -1 marks an empty site (itinerant kinds).
   if (Array.isArray(value)) return { kind: 'levels', levels: integerList(value, path, -1), pulses: [] };
   if (!isTable(value)) {
-    throw new SpecError(path, `expected a list of levels (one per site), a table with levels/pulses or ground_state, or "ground_state"; got ${describe(value)}`);
+    throw new SpecError(path, `expected a list of levels (one per site), a table with levels/pulses or ground_state, or "ground_state"; got ${describeValue(value)}`);
   }
   if (value.ground_state !== undefined) {
     onlyKeys(value, path, ['ground_state']);
@@ -186,7 +173,7 @@ function validateRamp(value: unknown, path: string): Ramp {
   const t = tableAt(value, path);
   onlyKeys(t, path, ['key', 'from', 'to', 'duration', 'start', 'steps']);
   if (typeof t.key !== 'string' || t.key.trim() === '') {
-    throw new SpecError(`${path}.key`, `expected a spec key path such as "exchange.strength", got ${describe(t.key)}`);
+    throw new SpecError(`${path}.key`, `expected a spec key path such as "exchange.strength", got ${describeValue(t.key)}`);
   }
   const key = t.key.trim();
   if (key.startsWith('evolve.') || key === 'evolve' || key.startsWith('scan.')) {
@@ -211,7 +198,7 @@ export function validateEvolveSection(value: unknown, keyPath: string): EvolveSe
   onlyKeys(t, keyPath, ['initial', 'times', 'time_unit', 'tolerance', 'krylov', 'ramp']);
   const timeUnit = t.time_unit === undefined ? 'model' : t.time_unit;
   if (timeUnit !== 'model' && timeUnit !== 'ms') {
-    throw new SpecError(`${keyPath}.time_unit`, `expected "model" or "ms", got ${describe(timeUnit)}`);
+    throw new SpecError(`${keyPath}.time_unit`, `expected "model" or "ms", got ${describeValue(timeUnit)}`);
   }
   const tolerance = t.tolerance === undefined ? 1e-8 : positive(t.tolerance, `${keyPath}.tolerance`);
   // Below ~1e-13 the bound is lost in the rounding of the state itself.

@@ -24,7 +24,7 @@ import { InputError, SpecError } from './errors.js';
 import { planPoint, type PointPlan } from './point.js';
 import { formatBytes } from './resources.js';
 import { DEFAULT_DENSE_THRESHOLD } from './solver.js';
-import { applyOverride, registerSection, validateSpec, type Spec } from './spec.js';
+import { applyOverride, isTable, registerSection, validateSpec, type Spec } from './spec.js';
 import { runIdentity } from './runfiles.js';
 
 export type ScanValue = number | string | boolean | number[] | string[];
@@ -65,10 +65,6 @@ export interface ScanPlan {
 // The [scan] section
 
 const AXIS_KEYS = ['key', 'values', 'from', 'to', 'steps', 'spacing'];
-
-function isTable(value: unknown): value is Record<string, unknown> {
-  return typeof value === 'object' && value !== null && !Array.isArray(value) && !(value instanceof Date);
-}
 
 /** Removes rounding dust from computed axis values (0.30000000000000004 -> 0.3). */
 function tidy(x: number): number {

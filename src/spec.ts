@@ -126,7 +126,7 @@ export function parseSpecText(text: string, format: 'toml' | 'json', sourceName 
       throw new InputError(`${sourceName}${jsonErrorLocation(text, e)}: invalid JSON: ${errorText(e)}`);
     }
     if (!isTable(tree)) {
-      throw new InputError(`${sourceName}: a spec must be a JSON object of sections, got ${describe(tree)}`);
+      throw new InputError(`${sourceName}: a spec must be a JSON object of sections, got ${describeValue(tree)}`);
     }
   }
   return tree as Record<string, unknown>;
@@ -241,10 +241,10 @@ export function applyOverride(raw: Record<string, unknown>, assignment: string):
 function descend(child: unknown, next: PathStep, here: string, assignment: string): Table | unknown[] {
   if (typeof next === 'number') {
     if (Array.isArray(child)) return child;
-    throw new SpecError(here, `cannot apply override "${assignment}": ${here} is ${describe(child)}, not a list; set the whole list instead`);
+    throw new SpecError(here, `cannot apply override "${assignment}": ${here} is ${describeValue(child)}, not a list; set the whole list instead`);
   }
   if (isTable(child)) return child;
-  throw new SpecError(here, `cannot apply override "${assignment}": ${here} is ${describe(child)}, not a table`);
+  throw new SpecError(here, `cannot apply override "${assignment}": ${here} is ${describeValue(child)}, not a table`);
 }
 
 function parseOverridePath(pathText: string, assignment: string): PathStep[] {
@@ -393,7 +393,7 @@ function validateIsing(table: Table, count: number): Spec['ising'] {
     moments = new Array<number>(count).fill(0);
   } else {
     if (!Array.isArray(table.moments)) {
-      throw new SpecError('ising.moments', `expected a list of ${count} numbers (one per level), got ${describe(table.moments)}`);
+      throw new SpecError('ising.moments', `expected a list of ${count} numbers (one per level), got ${describeValue(table.moments)}`);
     }
     moments = numberList(table.moments, 'ising.moments', count, `one per level of ${count}`);
   }
@@ -487,7 +487,7 @@ function validateSymmetries(value: unknown): Spec['solve']['symmetries'] {
 
 function validateSector(value: unknown): Spec['solve']['sector'] {
   const path = 'solve.sector';
-  if (!isTable(value)) throw new SpecError(path, `expected a table, got ${describe(value)}`);
+  if (!isTable(value)) throw new SpecError(path, `expected a table, got ${describeValue(value)}`);
   rejectUnknownKeys(value, path, ['momentum', 'parity', 'level_flip', 'charge']);
   const sector: Spec['solve']['sector'] = {};
   const list = (key: string) => {
@@ -502,7 +502,7 @@ function validateSector(value: unknown): Spec['solve']['sector'] {
     const entries = list(key);
     if (!entries) continue;
     sector[key] = entries.map(([x, at]) => {
-      if (x !== 1 && x !== -1) throw new SpecError(at, `expected +1 or -1, got ${describe(x)}`);
+      if (x !== 1 && x !== -1) throw new SpecError(at, `expected +1 or -1, got ${describeValue(x)}`);
       return x;
     });
   }
@@ -516,7 +516,7 @@ function validateEntanglement(value: unknown, sites: number): Spec['solve']['ent
     const at = `${path}[${i}]`;
     // A cut l splits sites 0..l-1 from l..L-1, so both sides are non-empty only for 1 <= l <= L-1.
     if (typeof cut !== 'number' || !Number.isSafeInteger(cut) || cut < 1 || cut > sites - 1) {
-      throw new SpecError(at, `expected a cut from 1 to ${sites - 1} (sites left of the cut), got ${describe(cut)}`);
+      throw new SpecError(at, `expected a cut from 1 to ${sites - 1} (sites left of the cut), got ${describeValue(cut)}`);
     }
     return cut;
   });
@@ -533,7 +533,7 @@ export function rotorWeights(count: number): number[] {
 // ---------------------------------------------------------------------------------------------
 // Small typed readers; each names the key path it reads
 
-function isTable(value: unknown): value is Table {
+export function isTable(value: unknown): value is Table {
   return typeof value === 'object' && value !== null && !Array.isArray(value) && !(value instanceof Date);
 }
 
@@ -550,7 +550,7 @@ function requiredSection(raw: Table, name: string): Table {
 function optionalSection(raw: Table, name: string): Table {
   const value = raw[name];
   if (value === undefined) return {};
-  if (!isTable(value)) throw new SpecError(name, `expected a table, got ${describe(value)}`);
+  if (!isTable(value)) throw new SpecError(name, `expected a table, got ${describeValue(value)}`);
   return value;
 }
 
@@ -570,28 +570,28 @@ function rejectUnknownKeys(table: Table, section: string, known: readonly string
 
 function finiteNumber(value: unknown, path: string): number {
   if (typeof value !== 'number' || !Number.isFinite(value)) {
-    throw new SpecError(path, `expected a finite number, got ${describe(value)}`);
+    throw new SpecError(path, `expected a finite number, got ${describeValue(value)}`);
   }
   return value;
 }
 
 function positiveNumber(value: unknown, path: string): number {
   if (typeof value !== 'number' || !Number.isFinite(value) || value <= 0) {
-    throw new SpecError(path, `expected a positive number, got ${describe(value)}`);
+    throw new SpecError(path, `expected a positive number, got ${describeValue(value)}`);
   }
   return value;
 }
 
 function positiveInteger(value: unknown, path: string): number {
   if (typeof value !== 'number' || !Number.isSafeInteger(value) || value < 1) {
-    throw new SpecError(path, `expected a positive integer, got ${describe(value)}`);
+    throw new SpecError(path, `expected a positive integer, got ${describeValue(value)}`);
   }
   return value;
 }
 
 function nonNegativeInteger(value: unknown, path: string): number {
   if (typeof value !== 'number' || !Number.isSafeInteger(value) || value < 0) {
-    throw new SpecError(path, `expected a non-negative integer, got ${describe(value)}`);
+    throw new SpecError(path, `expected a non-negative integer, got ${describeValue(value)}`);
   }
   return value;
 }
@@ -602,7 +602,7 @@ function oneOf<const T extends string>(value: unknown, path: string, options: re
   const guess = typeof value === 'string' ? closestName(value, options) : undefined;
   throw new SpecError(
     path,
-    `expected one of ${listed}${alternative ? ` ${alternative}` : ''}, got ${describe(value)}${guess ? ` (did you mean "${guess}"?)` : ''}`,
+    `expected one of ${listed}${alternative ? ` ${alternative}` : ''}, got ${describeValue(value)}${guess ? ` (did you mean "${guess}"?)` : ''}`,
   );
 }
 
@@ -610,7 +610,7 @@ function oneOf<const T extends string>(value: unknown, path: string, options: re
 function numberOrList(value: unknown, path: string, length: number, why: string): number[] {
   if (Array.isArray(value)) return numberList(value, path, length, why);
   if (typeof value !== 'number') {
-    throw new SpecError(path, `expected a number or a list of ${length} numbers (${why}), got ${describe(value)}`);
+    throw new SpecError(path, `expected a number or a list of ${length} numbers (${why}), got ${describeValue(value)}`);
   }
   return new Array<number>(length).fill(finiteNumber(value, path));
 }
@@ -623,7 +623,7 @@ function numberList(values: unknown[], path: string, length: number, why: string
 }
 
 /** How a value looks in an error message. */
-function describe(value: unknown): string {
+export function describeValue(value: unknown): string {
   if (value === undefined) return 'nothing';
   if (value === null) return 'null';
   if (typeof value === 'string') return JSON.stringify(value);

@@ -25,8 +25,7 @@
 // Constants: CODATA 2018 (c and h exact in the SI since 2019; eps0 measured).
 
 import { SpecError } from './errors.js';
-import type { Spec } from './spec.js';
-import { registerSection } from './spec.js';
+import { describeValue, isTable, registerSection, type Spec } from './spec.js';
 
 export const CODATA_2018 = {
   /** Speed of light in vacuum, m/s (exact). */
@@ -179,39 +178,26 @@ const UNIT_KEYS = [
 
 type Table = Record<string, unknown>;
 
-function isTable(value: unknown): value is Table {
-  return typeof value === 'object' && value !== null && !Array.isArray(value) && !(value instanceof Date);
-}
-
-function describe(value: unknown): string {
-  if (value === undefined) return 'nothing';
-  if (value === null) return 'null';
-  if (typeof value === 'string') return JSON.stringify(value);
-  if (Array.isArray(value)) return `a list of ${value.length}`;
-  if (isTable(value)) return 'a table';
-  return String(value);
-}
-
 function positive(value: unknown, path: string): number {
   if (typeof value !== 'number' || !Number.isFinite(value) || value <= 0) {
-    throw new SpecError(path, `expected a positive number, got ${describe(value)}`);
+    throw new SpecError(path, `expected a positive number, got ${describeValue(value)}`);
   }
   return value;
 }
 
 function finite(value: unknown, path: string): number {
-  if (typeof value !== 'number' || !Number.isFinite(value)) throw new SpecError(path, `expected a finite number, got ${describe(value)}`);
+  if (typeof value !== 'number' || !Number.isFinite(value)) throw new SpecError(path, `expected a finite number, got ${describeValue(value)}`);
   return value;
 }
 
 function numberOrList(value: unknown, path: string): number | number[] {
   if (Array.isArray(value)) return value.map((v, i) => finite(v, `${path}[${i}]`));
-  if (typeof value !== 'number') throw new SpecError(path, `expected a number or a list of numbers, got ${describe(value)}`);
+  if (typeof value !== 'number') throw new SpecError(path, `expected a number or a list of numbers, got ${describeValue(value)}`);
   return finite(value, path);
 }
 
 export function validateUnitsSection(value: unknown, keyPath: string): UnitsInput {
-  if (!isTable(value)) throw new SpecError(keyPath, `expected a table, got ${describe(value)}`);
+  if (!isTable(value)) throw new SpecError(keyPath, `expected a table, got ${describeValue(value)}`);
   for (const key of Object.keys(value)) {
     if (!(UNIT_KEYS as readonly string[]).includes(key)) {
       throw new SpecError(`${keyPath}.${key}`, `unknown key (known: ${UNIT_KEYS.join(', ')})`);
