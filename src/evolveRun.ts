@@ -30,7 +30,7 @@ import { expandScan, formatParams, type ScanParams } from './scan.js';
 import { defaultRunDir, rungchainVersion } from './scanRunner.js';
 import { loadSpec, type Spec } from './spec.js';
 import { labUnits, describeUnits } from './units.js';
-import { fmt, table } from './tables.js';
+import { csv, fmt, shellQuote, table } from './tables.js';
 
 export interface FrameRecord {
   kind: 'frame';
@@ -210,16 +210,6 @@ export function tracesJson(contents: EvolveRunContents): Record<string, unknown>
   });
 }
 
-function csvCell(value: unknown): string {
-  if (value === null || value === undefined) return '';
-  const text = typeof value === 'string' ? value : typeof value === 'number' || typeof value === 'boolean' ? String(value) : JSON.stringify(value);
-  return /[",\n\r]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
-}
-
-function csv(header: string[], rows: unknown[][]): string {
-  return [header.map(csvCell).join(','), ...rows.map((r) => r.map(csvCell).join(','))].join('\n') + '\n';
-}
-
 const SCALARS = ['energy', 'norm', 'return_probability', 'string_width', 'ground_overlap'] as const;
 
 /** Tidy CSV: one row per (point, recorded time) with the scalar observables and the mean level over sites. */
@@ -320,10 +310,6 @@ interface PointJob {
   params: ScanParams;
   raw: Record<string, unknown>;
   spec: Spec;
-}
-
-function shellQuote(word: string): string {
-  return /^[A-Za-z0-9_./=:,@%+-]+$/.test(word) ? word : `'${word.replace(/'/g, `'\\''`)}'`;
 }
 
 function errorText(e: unknown): string {

@@ -16,6 +16,7 @@ import { expandScan, formatParams, pointCost, sizeScan, type ScanPlan, type Scan
 import { RunWriter } from './runfiles.js';
 import { assignShards, type Shard } from './shard.js';
 import type { ScanRecord, TaskMessage } from './scanTask.js';
+import { shellQuote } from './tables.js';
 
 export function rungchainVersion(): string {
   // dist/src/ and src/ both sit below the package root.
@@ -240,10 +241,6 @@ export function defaultRunDir(specPath: string, identity: string, shard?: Shard 
   const base = path.basename(specPath).replace(/\.(toml|json)$/i, '');
   const dir = path.join('runs', `${base}-${identity.slice(0, 8)}`);
   return shard ? path.join(dir, `shard-${shard.index}of${shard.count}`) : dir;
-}
-
-function shellQuote(word: string): string {
-  return /^[A-Za-z0-9_./=:,@%+-]+$/.test(word) ? word : `'${word.replace(/'/g, `'\\''`)}'`;
 }
 
 export async function runScan(options: ScanOptions): Promise<ScanOutcome> {

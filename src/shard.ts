@@ -11,6 +11,7 @@ import { readRun, RunWriter, type RunManifest } from './runfiles.js';
 import type { ScanPlan } from './scan.js';
 import { latestRecords } from './scanRunner.js';
 import type { ScanRecord } from './scanTask.js';
+import { shellQuote } from './tables.js';
 
 export interface Shard {
   /** 1-based: shard `index` of `count`. */
@@ -186,10 +187,6 @@ export interface BatchOptions {
   extra: string[];
 }
 
-function shellWord(word: string): string {
-  return /^[A-Za-z0-9_./=:,@%+-]+$/.test(word) ? word : `'${word.replace(/'/g, `'\\''`)}'`;
-}
-
 export function formatMinutes(minutes: number): string {
   const m = Math.max(1, Math.ceil(minutes));
   const days = Math.floor(m / 1440);
@@ -228,9 +225,9 @@ export function batchScript(o: BatchOptions): string {
     '--workers',
     '${SLURM_CPUS_PER_TASK:-1}',
   ];
-  lines.push('', 'set -euo pipefail', `mkdir -p ${shellWord(abs(o.runDir))}`);
+  lines.push('', 'set -euo pipefail', `mkdir -p ${shellQuote(abs(o.runDir))}`);
   // The shard comes from SLURM_ARRAY_TASK_ID/COUNT/MIN; exec so the scan receives the scheduler's
   // TERM before the time limit and saves its work.
-  lines.push(`exec ${command.map((w) => (w.includes('${') ? `"${w}"` : shellWord(w))).join(' ')}`);
+  lines.push(`exec ${command.map((w) => (w.includes('${') ? `"${w}"` : shellQuote(w))).join(' ')}`);
   return lines.join('\n') + '\n';
 }

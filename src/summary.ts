@@ -7,7 +7,7 @@ import { lockIsStale, readLock, readRun, type LockInfo, type RunManifest } from 
 import { paramsOf, type ScanParams, type ScanSection, type ScanValue } from './scan.js';
 import type { ScanRecord } from './scanTask.js';
 import { latestRecords } from './scanRunner.js';
-import { fmt, table } from './tables.js';
+import { csv, fmt, table } from './tables.js';
 import { formatBytes } from './resources.js';
 
 export interface SummaryRow {
@@ -89,16 +89,6 @@ export function summaryJson(summary: ScanRunSummary): Record<string, unknown>[] 
     out.seconds = r.seconds;
     return out;
   });
-}
-
-function csvCell(value: unknown): string {
-  if (value === null || value === undefined) return '';
-  const text = typeof value === 'string' ? value : typeof value === 'number' || typeof value === 'boolean' ? String(value) : JSON.stringify(value);
-  return /[",\n\r]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
-}
-
-function csv(header: string[], rows: unknown[][]): string {
-  return [header.map(csvCell).join(','), ...rows.map((r) => r.map(csvCell).join(','))].join('\n') + '\n';
 }
 
 function paramKeys(summary: ScanRunSummary): string[] {

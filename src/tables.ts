@@ -1,4 +1,4 @@
-// Readable text for people at a terminal: aligned tables of numbers.
+// Text for people and shells: aligned tables of numbers, CSV fields, quoted shell words.
 
 import { formatBytes } from './resources.js';
 import type { PointPlan, PointRecord } from './point.js';
@@ -8,6 +8,23 @@ export function fmt(x: number | null | undefined, digits = 10): string {
   if (!Number.isFinite(x)) return String(x);
   if (x !== 0 && (Math.abs(x) < 1e-4 || Math.abs(x) >= 1e7)) return x.toExponential(3);
   return Number(x.toPrecision(digits)).toString();
+}
+
+/** One CSV field: empty for null, quoted when it holds a comma, a quote or a line break (RFC 4180). */
+export function csvCell(value: unknown): string {
+  if (value === null || value === undefined) return '';
+  const text = typeof value === 'string' ? value : typeof value === 'number' || typeof value === 'boolean' ? String(value) : JSON.stringify(value);
+  return /[",\n\r]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
+}
+
+/** A header line and one line per row, each ending in a newline. */
+export function csv(header: string[], rows: unknown[][]): string {
+  return [header.map(csvCell).join(','), ...rows.map((r) => r.map(csvCell).join(','))].join('\n') + '\n';
+}
+
+/** A word as a POSIX shell reads it back unchanged: bare when safe, else single-quoted. */
+export function shellQuote(word: string): string {
+  return /^[A-Za-z0-9_./=:,@%+-]+$/.test(word) ? word : `'${word.replace(/'/g, `'\\''`)}'`;
 }
 
 /** Left column left-aligned, the rest right-aligned, columns separated by two spaces. */

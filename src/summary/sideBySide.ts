@@ -8,7 +8,7 @@
 import { InputError } from '../errors.js';
 import type { ScanParams, ScanValue } from '../scan.js';
 import type { ScanRunSummary } from '../summary.js';
-import { fmt, table } from '../tables.js';
+import { csvCell, fmt, table } from '../tables.js';
 
 export interface SideBySide {
   /** The axis spread into columns. */
@@ -85,12 +85,6 @@ function columns(view: SideBySide): string[] {
 /** One object per row: the other axes under their key paths, then a field per column. */
 export function sideBySideJson(view: SideBySide): Record<string, unknown>[] {
   return view.rows.map((r) => ({ ...r.params, ...r.cells }));
-}
-
-function csvCell(value: unknown): string {
-  if (value === null || value === undefined) return '';
-  const text = typeof value === 'string' ? value : typeof value === 'number' || typeof value === 'boolean' ? String(value) : JSON.stringify(value);
-  return /[",\n\r]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
 }
 
 export function sideBySideCsv(view: SideBySide): string {
