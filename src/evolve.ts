@@ -728,12 +728,16 @@ export function runEvolution(plan: EvolutionPlan, options: EvolveOptions = {}): 
 /** The names `evolve --json` prints, in order; ramps add ground_overlap. */
 export const TRACE_KEYS = ['populations', 'level_mean', 'spread', 'string_width', 'return_probability', 'energy', 'norm'] as const;
 
+/** `{ name: [time]... }` over the frames: the TRACE_KEYS, and ground_overlap when any frame has it. */
+export function timeFirstObservables(frames: readonly { observables: object }[]): Record<string, unknown[]> {
+  const rows = frames.map((f) => f.observables as Record<string, unknown>);
+  const observables: Record<string, unknown[]> = {};
+  for (const key of TRACE_KEYS) observables[key] = rows.map((o) => o[key]);
+  if (rows.some((o) => o.ground_overlap !== undefined)) observables.ground_overlap = rows.map((o) => o.ground_overlap);
+  return observables;
+}
+
 /** `{ times, observables: { name: [time]... } }`, each observable indexed by time first. */
 export function traceJson(result: EvolutionResult): { times: number[]; observables: Record<string, unknown[]> } {
-  const observables: Record<string, unknown[]> = {};
-  for (const key of TRACE_KEYS) observables[key] = result.frames.map((f) => f.observables[key]);
-  if (result.frames.some((f) => f.observables.ground_overlap !== undefined)) {
-    observables.ground_overlap = result.frames.map((f) => f.observables.ground_overlap);
-  }
-  return { times: result.times, observables };
+  return { times: result.times, observables: timeFirstObservables(result.frames) };
 }

@@ -23,7 +23,7 @@ import path from 'node:path';
 import { crc32 } from 'node:zlib';
 import cliProgress from 'cli-progress';
 import { InputError, RunFileError, SpecError, isRungchainError } from './errors.js';
-import { Evolution, planEvolution, TRACE_KEYS, type EvolutionCheckpoint, type EvolutionFrame, type EvolutionPlan } from './evolve.js';
+import { Evolution, planEvolution, timeFirstObservables, type EvolutionCheckpoint, type EvolutionFrame, type EvolutionPlan } from './evolve.js';
 import { readRun, runIdentity, RunWriter, writeFileAtomic } from './runfiles.js';
 import { defaultMemoryLimit } from './resources.js';
 import { expandScan, formatParams, type ScanParams } from './scan.js';
@@ -188,12 +188,7 @@ export function loadEvolveRun(dir: string): EvolveRunContents {
 
 /** `{ times, observables }` of one trace, each observable indexed by time first (the `evolve --json` contract). */
 export function traceContract(trace: Trace): { times: number[]; observables: Record<string, unknown[]> } {
-  const observables: Record<string, unknown[]> = {};
-  for (const key of TRACE_KEYS) observables[key] = trace.frames.map((f) => f.observables[key]);
-  if (trace.frames.some((f) => f.observables.ground_overlap !== undefined)) {
-    observables.ground_overlap = trace.frames.map((f) => f.observables.ground_overlap);
-  }
-  return { times: trace.frames.map((f) => f.time), observables };
+  return { times: trace.frames.map((f) => f.time), observables: timeFirstObservables(trace.frames) };
 }
 
 /** One object per trace: scanned parameters under their key paths, status, times (and ms) and observables. */
