@@ -229,6 +229,7 @@ export function readManifest(dir: string): RunManifest {
     if (code === 'ENOENT') {
       throw new RunFileError(existsSync(dir) ? `${dir} is not a run folder (no ${MANIFEST_FILE})` : `no run folder ${dir}`);
     }
+    if (code === 'ENOTDIR') throw new RunFileError(`${dir} is a file, not a run folder`);
     throw new RunFileError(`cannot read ${file}: ${(e as Error).message}`);
   }
   let manifest: unknown;

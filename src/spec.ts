@@ -112,10 +112,12 @@ export function parseSpecText(text: string, format: 'toml' | 'json', sourceName 
       tree = parseToml(text);
     } catch (e) {
       if (e instanceof TomlError) {
-        // smol-toml's message is "Invalid TOML document: <what>\n\n<code excerpt>"; keep both parts.
-        const [headline, ...excerpt] = e.message.replace(/^Invalid TOML document:\s*/, '').split('\n');
-        const detail = excerpt.join('\n').trimEnd();
-        throw new InputError(`${sourceName}:${e.line}:${e.column}: invalid TOML: ${headline}${detail ? `\n${detail}` : ''}`);
+        // smol-toml's message is "Invalid TOML document: <what>\n\n<code excerpt>"; errors are one
+        // line, so the excerpt becomes the offending line quoted after the headline.
+        const headline = e.message.replace(/^Invalid TOML document:\s*/, '').split('\n')[0];
+        const source = text.split(/\r?\n/)[e.line - 1]?.trim();
+        const quoted = source ? ` (line ${e.line}: ${JSON.stringify(source.length > 80 ? `${source.slice(0, 77)}...` : source)})` : '';
+        throw new InputError(`${sourceName}:${e.line}:${e.column}: invalid TOML: ${headline}${quoted}`);
       }
       throw new InputError(`${sourceName}: invalid TOML: ${errorText(e)}`);
     }
