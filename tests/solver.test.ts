@@ -3,6 +3,7 @@ import { Matrix, EigenvalueDecomposition, QrDecomposition } from 'ml-matrix';
 import { lowestEigenpairs, denseEigen, denseMatrixOf, type EigenResult } from '../src/solver.js';
 import { ConvergenceError } from '../src/errors.js';
 import type { HermitianOperator } from '../src/operator.js';
+import { denseSpectrum } from './support/reference.js';
 
 // ---------------------------------------------------------------------------------------------
 // Test operators, built independently of the solver: a sparse Hermitian matrix kept as a list
@@ -98,14 +99,7 @@ function referenceSpectrum(h: SparseHermitian): number[] {
     return new EigenvalueDecomposition(re, { assumeSymmetric: true }).realEigenvalues.sort((a, b) => a - b);
   }
   // H = A + iB has the spectrum of [[A, -B], [B, A]], each value twice.
-  const n = h.dim;
-  const s = Matrix.zeros(2 * n, 2 * n);
-  s.setSubMatrix(re, 0, 0);
-  s.setSubMatrix(re, n, n);
-  s.setSubMatrix(im.clone().mul(-1), 0, n);
-  s.setSubMatrix(im, n, 0);
-  const doubled = new EigenvalueDecomposition(s, { assumeSymmetric: true }).realEigenvalues.sort((a, b) => a - b);
-  return doubled.filter((_, i) => i % 2 === 0);
+  return denseSpectrum({ dim: h.dim, re, im });
 }
 
 /** 1D tight-binding ring, hopping -1, with a Peierls phase `flux` per link (complex when flux != 0). */
@@ -475,6 +469,7 @@ describe('warm start, memory and determinism', () => {
 
 describe('edge cases', () => {
   it('dim 1, on both paths', () => {
+    // A 1x1 matrix [3.5] has the eigenvalue 3.5 and a unit eigenvector (by definition).
     const op: HermitianOperator = { dim: 1, isComplex: false, apply: (x, y) => void (y[0] = 3.5 * x[0]) };
     for (const denseThreshold of [0, 400]) {
       const r = lowestEigenpairs(op, { states: 3, tolerance: 1e-12, denseThreshold });

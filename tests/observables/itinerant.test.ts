@@ -11,6 +11,7 @@ import {
   randomItinerantSpec,
   type FockReference,
 } from '../support/fock-reference.js';
+import { realEmbedding } from '../support/reference.js';
 
 type Kind = 'hardcore' | 'boson' | 'fermion';
 
@@ -102,15 +103,7 @@ function referenceObservables(spec: Spec, ref: FockReference, re: number[], im: 
 }
 
 function largestEigenvalue(re: number[][], im: number[][]): number {
-  const L = re.length;
-  const m = Matrix.zeros(2 * L, 2 * L);
-  for (let i = 0; i < L; i++)
-    for (let j = 0; j < L; j++) {
-      m.set(i, j, re[i][j]);
-      m.set(i + L, j + L, re[i][j]);
-      m.set(i, j + L, -im[i][j]);
-      m.set(i + L, j, im[i][j]);
-    }
+  const m = realEmbedding({ dim: re.length, re: new Matrix(re), im: new Matrix(im) });
   return Math.max(...new EigenvalueDecomposition(m, { assumeSymmetric: true }).realEigenvalues);
 }
 
@@ -146,15 +139,7 @@ describe('itinerant observables against a dense reference ground state', () => {
       } else {
         // Real embedding [[A, -B], [B, A]]: an eigenvector (u; v) gives psi = u + i v.
         const n = ref.dim;
-        const big = Matrix.zeros(2 * n, 2 * n);
-        for (let r = 0; r < n; r++)
-          for (let c = 0; c < n; c++) {
-            big.set(r, c, ref.re.get(r, c));
-            big.set(r + n, c + n, ref.re.get(r, c));
-            big.set(r, c + n, -ref.im.get(r, c));
-            big.set(r + n, c, ref.im.get(r, c));
-          }
-        const evd = new EigenvalueDecomposition(big, { assumeSymmetric: true });
+        const evd = new EigenvalueDecomposition(realEmbedding(ref), { assumeSymmetric: true });
         const order = evd.realEigenvalues.map((e, k) => [e, k]).sort((a, b) => a[0] - b[0]);
         expect(order[2][0] - order[0][0]).toBeGreaterThan(1e-6); // each level appears twice in the embedding
         const v = evd.eigenvectorMatrix.getColumn(order[0][1]);

@@ -3,8 +3,8 @@
 // x + iy is [x; y] in the embedding, M commutes with the complex structure, so
 // exp(-i H t) z <-> cos(M t) u + R sin(M t) u with R [x; y] = [y; -x] (multiplication by -i).
 
-import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
-import type { DenseHermitian } from './reference.js';
+import { EigenvalueDecomposition } from 'ml-matrix';
+import { realEmbedding, type DenseHermitian } from './reference.js';
 
 export interface DenseEvolver {
   dim: number;
@@ -20,14 +20,7 @@ export interface DenseEvolver {
 
 export function denseEvolver(h: DenseHermitian): DenseEvolver {
   const n = h.dim;
-  const M = Matrix.zeros(2 * n, 2 * n);
-  for (let r = 0; r < n; r++)
-    for (let c = 0; c < n; c++) {
-      M.set(r, c, h.re.get(r, c));
-      M.set(r + n, c + n, h.re.get(r, c));
-      M.set(r, c + n, -h.im.get(r, c));
-      M.set(r + n, c, h.im.get(r, c));
-    }
+  const M = realEmbedding(h);
   const eig = new EigenvalueDecomposition(M, { assumeSymmetric: true });
   const lambda = eig.realEigenvalues;
   const Q = eig.eigenvectorMatrix;

@@ -100,8 +100,12 @@ export function densePinnedHamiltonian(spec: Spec): DenseHermitian {
   return { dim, re, im };
 }
 
-/** All eigenvalues of a dense Hermitian matrix, ascending, via the real embedding [[A,-B],[B,A]]. */
-export function denseSpectrum(h: DenseHermitian): number[] {
+/**
+ * The real symmetric matrix [[A, -B], [B, A]] of H = A + iB: it has H's spectrum with every value
+ * twice, and an eigenvector (u; v) gives the eigenvector u + i v of H (standard real embedding of a
+ * Hermitian matrix, Horn and Johnson, Matrix Analysis).
+ */
+export function realEmbedding(h: DenseHermitian): Matrix {
   const n = h.dim;
   const big = Matrix.zeros(2 * n, 2 * n);
   for (let r = 0; r < n; r++)
@@ -111,6 +115,12 @@ export function denseSpectrum(h: DenseHermitian): number[] {
       big.set(r, c + n, -h.im.get(r, c));
       big.set(r + n, c, h.im.get(r, c));
     }
+  return big;
+}
+
+/** All eigenvalues of a dense Hermitian matrix, ascending, via the real embedding [[A,-B],[B,A]]. */
+export function denseSpectrum(h: DenseHermitian): number[] {
+  const big = realEmbedding(h);
   const values = new EigenvalueDecomposition(big, { assumeSymmetric: true }).realEigenvalues.sort((a, b) => a - b);
   // Each eigenvalue of the Hermitian matrix appears twice in the embedding.
   return values.filter((_, k) => k % 2 === 0);
