@@ -32,6 +32,8 @@ describe('transverse-field Ising ring through MODEL.md against the free-fermion 
     const states = grid.map((g) => solvePoint(validateSpec(isingSpec(L, g))).groundStates[0]);
     const pairs = grid.slice(1).map((g, k) => ({ from: grid[k], to: g, overlap: overlap(states[k], states[k + 1]) }));
     const chi = fidelitySusceptibility(pairs, L);
+    // Expected: chi = -2 ln F / (dg^2 L) (the usual finite-difference definition of the fidelity
+    // susceptibility per site, from memory) with F from the Pfeuty free-fermion solution.
     chi.x.forEach((x, k) => {
       const delta = pairs[k].to - pairs[k].from;
       const exact = (-2 * Math.log(isingFidelity(L, pairs[k].from, pairs[k].to))) / (delta * delta * L);
@@ -110,6 +112,7 @@ describe('peaks and finite differences (textbook formulas)', () => {
   });
 
   it('second differences are exact for a quadratic and slopes for a line, also on uneven grids', () => {
+    // Expected values by elementary calculus: -(5t^2 - t)''/2 = -5 and (4 - 2.5t)' = -2.5 (textbook).
     const x = [0, 0.3, 0.4, 1.1, 1.5];
     const curvature = negativeCurvature(x, x.map((t) => 5 * t * t - t), 2);
     curvature.y.forEach((v) => expect(v).toBeCloseTo(-10 / 2, 12));

@@ -87,6 +87,8 @@ describe('the [units] section', () => {
   const base = { chain: { sites: 4 }, levels: { count: 3 } };
 
   it('J is half the Rabi frequency; the default energy unit is J of link 0', () => {
+    // Textbook two-level rotating-wave algebra: a drive of Rabi frequency Omega couples the levels
+    // with hbar Omega / 2, so J = Omega / 2; an energy unit E = h x 1 kHz gives hbar / E = 1 / (2 pi) ms.
     const spec = validateSpec({ ...base, units: { rabi_khz: [2, 1] } });
     const u = labUnits(spec)!;
     expect(tunnellingHzFromRabi(2)).toBe(1000);
