@@ -106,7 +106,7 @@ export function mergeRuns(dirs: string[], out: string): MergeReport {
   if (dirs.length === 0) throw new InputError('merge: name at least one shard folder');
   const runs = dirs.map((d) => readRun(d));
   const first = runs[0].manifest;
-  if (first.kind !== 'scan') throw new RunFileError(`${dirs[0]} holds a ${first.kind} run; merge combines scan runs`);
+  if (first.kind !== 'scan') throw new RunFileError(`${dirs[0]} holds ${first.kind === 'evolve' ? 'a time trace' : `a ${first.kind} run`}; merge combines scan runs`);
   runs.forEach((r, k) => {
     if (!sameScan(first, r.manifest)) {
       throw new RunFileError(

@@ -33,7 +33,7 @@ export interface ScanRunSummary {
 export function loadScanRun(dir: string): ScanRunSummary {
   const run = readRun(dir);
   const { manifest } = run;
-  if (manifest.kind !== 'scan') throw new RunFileError(`${dir} holds a ${manifest.kind} run, not a scan`);
+  if (manifest.kind !== 'scan') throw new RunFileError(`${dir} holds ${manifest.kind === 'evolve' ? 'a time trace' : `a ${manifest.kind} run`}, not a scan`);
   const section: ScanSection = { axes: manifest.axes as ScanSection['axes'], zip: Boolean(manifest.zip) };
   const total = Number(manifest.points);
   const latest = latestRecords(run.records);
