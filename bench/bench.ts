@@ -38,7 +38,8 @@ function specFor(sites: number) {
     chain: { sites, boundary: 'periodic' },
     levels: { count: LEVELS, tunnelling: J },
     exchange: { strength: V },
-    solve: { states: STATES, tolerance: 1e-9 },
+    // The full space on purpose: the comparison is matrix against matrix (sectors: sectors_bench.ts).
+    solve: { states: STATES, tolerance: 1e-9, symmetries: 'none', entanglement: 'none' },
   });
 }
 
