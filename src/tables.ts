@@ -38,7 +38,7 @@ export function table(header: string[], rows: string[][]): string {
 export function describePlan(plan: PointPlan, limit: number): string {
   const lines = [
     `particles        ${plan.model.kind}, ${plan.model.sites} sites x ${plan.model.levels} levels`,
-    `basis dimension  ${plan.dimension}`,
+    `basis dimension  ${describeDimension(plan.dimension)}`,
     `operator         ${plan.storage === 'on-the-fly' ? 'applied on the fly (no stored matrix)' : 'stored sparse matrix'}` +
       (plan.nonzeros !== null ? `, ${plan.nonzeros} nonzeros` : ''),
     `arithmetic       ${plan.model.isComplex ? 'complex (Peierls phases)' : 'real'}`,
@@ -111,4 +111,11 @@ export function describeRecord(r: PointRecord): string {
     }
   }
   return out.join('\n');
+}
+
+/** A dimension as a person reads it: exact while it is an exact integer, then in powers of ten. */
+export function describeDimension(dimension: number): string {
+  if (Number.isSafeInteger(dimension)) return String(dimension);
+  if (Number.isFinite(dimension)) return `about ${dimension.toExponential(3)} (too large to build)`;
+  return 'beyond 1e308 (too large to build)';
 }
