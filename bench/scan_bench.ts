@@ -3,7 +3,7 @@
 //   2. Lanczos matrix-vector products along the line with warm starts vs cold starts, and ratio.
 // Each run writes a real run folder (in a temporary directory), as `rungchain scan` does.
 //
-// usage: node dist/bench/scan_bench.js [--points 40] [--sites 7] [--levels 3] [--workers 2]
+// usage: node dist/bench/scan_bench.js [--points 40] [--sites 8] [--levels 3] [--workers 2]
 
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
@@ -18,7 +18,7 @@ function option(name: string, fallback: number): number {
 }
 
 const points = option('points', 40);
-const sites = option('sites', 7);
+const sites = option('sites', 8);
 const levels = option('levels', 3);
 const maxWorkers = option('workers', 2);
 
