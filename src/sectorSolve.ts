@@ -151,7 +151,8 @@ export function solveInSectors(
         krylovSize: opts.krylovSize !== undefined ? Math.min(opts.krylovSize, sector.dim) : undefined,
         seed: opts.seed,
         initial,
-        onProgress: opts.onProgress,
+        // products of the sectors already solved come first, so progress counts the whole solve
+        onProgress: opts.onProgress ? (info) => opts.onProgress!({ ...info, matvecs: matvecs + info.matvecs, restarts: restarts + info.restarts }) : undefined,
       };
       const need = Math.min(states, sector.dim);
       const sorted = found.map((f) => f.energy).sort((a, b) => a - b);

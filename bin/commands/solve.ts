@@ -35,9 +35,12 @@ export function registerSolveCommands(program: Command): void {
     .option('--set <key=value>', 'override a spec key (repeatable)', collect, [])
     .option('--json', 'print the result as one JSON object on stdout')
     .option('--max-memory <size>', 'refuse problems whose estimate exceeds this (default: 60% of RAM)')
-    .action((specPath: string, opts: { set: string[]; json?: boolean; maxMemory?: string }) => {
+    .option('--quiet', 'no progress line on the terminal')
+    .action((specPath: string, opts: { set: string[]; json?: boolean; maxMemory?: string; quiet?: boolean }) => {
       const { spec } = loadSpec(specPath, opts.set);
-      const { record } = solvePoint(spec, { maxMemory: memoryLimit(opts) });
+      const progress = opts.quiet || !process.stderr.isTTY ? undefined : solveProgress();
+      const { record } = solvePoint(spec, { maxMemory: memoryLimit(opts), onProgress: progress?.update });
+      progress?.done();
       // With [units], energies also in Hz (a `units` block in JSON, lines under the table).
       const units = labUnits(spec);
       if (opts.json) process.stdout.write(JSON.stringify(units ? { ...record, units: labEnergies(units, record.energies, record.gap) } : record) + '\n');
@@ -56,4 +59,27 @@ export function registerSolveCommands(program: Command): void {
     .action(async () => {
       await runDemo((line) => console.log(line));
     });
+}
+
+/**
+ * A one-line progress report on a terminal's stderr (stdout stays the result alone): products so
+ * far, the worst residual against the tolerance, elapsed time. Redrawn at most twice a second.
+ */
+function solveProgress() {
+  const started = Date.now();
+  let last = 0;
+  let shown = false;
+  return {
+    update(info: { matvecs: number; restarts: number; worstResidual: number }): void {
+      const now = Date.now();
+      if (now - last < 500) return;
+      last = now;
+      shown = true;
+      const line = `solving: ${info.matvecs} products, ${info.restarts} restarts, worst residual ${info.worstResidual.toExponential(1)}, ${((now - started) / 1000).toFixed(0)} s`;
+      process.stderr.write(`\r${line.padEnd(78)}`);
+    },
+    done(): void {
+      if (shown) process.stderr.write(`\r${' '.repeat(78)}\r`);
+    },
+  };
 }
