@@ -89,6 +89,9 @@ describe('sector spectra against the full dense spectrum', () => {
 });
 
 describe('sector solves through solvePoint', () => {
+  // Reference: the full-space solve, itself checked against ml-matrix's dense eigensolver on a
+  // plain dense build (tests/point.test.ts); a symmetry-adapted basis must not change physics
+  // (common practice).
   it('observables and energies agree with the full-space solve', () => {
     const raw = clean({ ...randomPinnedSpec(51, 7, 3), chain: { sites: 7, boundary: 'periodic' } });
     raw.solve = { states: 3, tolerance: 1e-10 };
