@@ -89,7 +89,11 @@ export interface PlannedTask {
  */
 export function planTasks(plan: ScanPlan, pending: Set<number>, costs: number[], workers: number): PlannedTask[] {
   const busyLines = plan.lines.filter((line) => line.some((i) => pending.has(i))).length;
-  const piecesPerLine = workers <= 1 ? 1 : Math.max(1, Math.ceil((2 * workers) / Math.max(1, busyLines)));
+  // Points of about equal cost split evenly, one piece per worker (each cut costs a lead-in solve);
+  // uneven ones in two pieces per worker, so a worker that drew the cheap end can take more.
+  const pendingCosts = [...pending].map((i) => costs[i]);
+  const even = pendingCosts.length > 0 && Math.max(...pendingCosts) <= 1.5 * Math.min(...pendingCosts);
+  const piecesPerLine = workers <= 1 ? 1 : Math.max(1, Math.ceil(((even ? 1 : 2) * workers) / Math.max(1, busyLines)));
   const tasks: PlannedTask[] = [];
   for (const line of plan.lines) {
     const pendingOnLine = line.filter((i) => pending.has(i)).length;
