@@ -439,16 +439,8 @@ interface CoreInput {
   screenAbove?: number;
 }
 
-interface CoreResult {
-  /** True when stopped by `screenAbove`: values are upper bounds, not converged to tolerance. */
-  screened?: boolean;
-  values: Float64Array;
-  vectors: Float64Array[];
-  residuals: Float64Array;
-  matvecs: number;
-  restarts: number;
-  converged: boolean;
-}
+/** One Lanczos run: the public result without what only the whole solve knows. */
+type CoreResult = Pick<EigenResult, 'values' | 'vectors' | 'residuals' | 'matvecs' | 'restarts' | 'converged' | 'screened'>;
 
 /**
  * Thick-restart Lanczos for the nev lowest eigenpairs of P H P, where P projects out `deflation`.
