@@ -1,7 +1,7 @@
 // One point of the data path: spec -> model -> basis -> operator -> solver -> observables -> record.
 // `planPoint` sizes the problem without allocating it; `solvePoint` runs it.
 
-import { basisDimension, buildBasis, MAX_DIMENSION } from './basis.js';
+import { basisDimension, buildBasis, MAX_DIMENSION, type PinnedBasis } from './basis.js';
 import { SpecError } from './errors.js';
 import { buildModel, type Model } from './model.js';
 import { buildOperator, operatorStorage } from './operator.js';
@@ -9,14 +9,12 @@ import { basisProbabilities, pinnedObservables, type Observables } from './obser
 import { itinerantObservables } from './observables/itinerant.js';
 import { planFockOperator } from './operator/fock.js';
 import { cutsFor, pinnedEntanglement } from './entanglement.js';
-import { assertWithinMemory, defaultMemoryLimit, estimateSolveMemory, type MemoryEstimate } from './resources.js';
-import { defaultKrylovSize, lowestEigenpairs, type EigenResult } from './solver.js';
+import { assertWithinMemory, defaultMemoryLimit, estimateSectorMemory, estimateSolveMemory, type MemoryEstimate } from './resources.js';
+import { defaultKrylovSize, denseThresholdFor, lowestEigenpairs, type EigenResult } from './solver.js';
 import type { Spec } from './spec.js';
 import { detectSymmetries, type SectorLabel, type SymmetryCheck, type SymmetryName } from './symmetry.js';
-import { denseThresholdFor, solveInSectors, type SectorRun } from './sectorSolve.js';
+import { solveInSectors, type SectorRun } from './sectorSolve.js';
 import { defaultProductThreads, withThreads } from './parallel.js';
-import { estimateSectorMemory } from './resources.js';
-import type { PinnedBasis } from './basis.js';
 
 export interface PointPlan {
   model: Model;

@@ -8,7 +8,7 @@ import { SpecError } from './errors.js';
 import type { Model } from './model.js';
 import { buildSectorOperator } from './operator/sector.js';
 import { withThreads } from './parallel.js';
-import { lowestEigenpairs, type EigenOptions } from './solver.js';
+import { degeneracyWindow, denseThresholdFor, lowestEigenpairs, type EigenOptions } from './solver.js';
 import { IndexActions, planSectors, type SectorLabel, type SectorSelection, type SymmetryName } from './symmetry.js';
 
 export interface SectorRun {
@@ -61,20 +61,6 @@ interface Found {
   sector: SectorBasis | null;
   vector: Float64Array | null;
   complex: boolean;
-}
-
-/**
- * Largest dimension solved densely when `states` pairs are wanted: the dense path costs O(dim^3)
- * (eight times more for a complex matrix's real embedding) while Lanczos on a small space needs only
- * a few hundred cheap products, so dense pays only when a good share of the spectrum is wanted.
- */
-export function denseThresholdFor(states: number): number {
-  return Math.max(64, 3 * states);
-}
-
-/** The energy window within which two levels count as one degenerate level. */
-export function degeneracyWindow(e0: number, tolerance: number): number {
-  return Math.max(1e-8 * Math.max(1, Math.abs(e0)), 10 * tolerance);
 }
 
 function groupFor(label: SectorLabel): GroupUse {

@@ -82,6 +82,20 @@ const SECOND_PASS_NEGLIGIBLE = 1e-13;
 /** DGKS criterion: if reorthogonalization shrinks the vector below this fraction, orthogonalize once more. */
 const REORTH_ETA = Math.SQRT1_2;
 
+/**
+ * Largest dimension solved densely when `states` pairs are wanted: the dense path costs O(dim^3)
+ * (eight times more for a complex matrix's real embedding) while Lanczos on a small space needs only
+ * a few hundred cheap products, so dense pays only when a good share of the spectrum is wanted.
+ */
+export function denseThresholdFor(states: number): number {
+  return Math.max(64, 3 * states);
+}
+
+/** Two levels closer than this count as one degenerate level (relative 1e-8, or ten tolerances). */
+export function degeneracyWindow(e0: number, tolerance: number): number {
+  return Math.max(1e-8 * Math.max(1, Math.abs(e0)), 10 * tolerance);
+}
+
 /** Default restart basis size for `states` pairs, capped at the dimension when given. */
 export function defaultKrylovSize(states: number, dim = Infinity): number {
   return Math.min(Math.max(2 * states + 14, 24), dim);
@@ -409,7 +423,7 @@ function checkVectorLength(v: Float64Array, length: number, keyPath: string): vo
 function degeneracyOf(values: Float64Array, tolerance: number): number {
   if (values.length === 0) return 1;
   const e0 = values[0];
-  const window = Math.max(1e-8 * Math.max(1, Math.abs(e0)), 10 * tolerance);
+  const window = degeneracyWindow(e0, tolerance);
   let count = 0;
   for (let i = 0; i < values.length; i++) if (Math.abs(values[i] - e0) <= window) count++;
   return Math.max(1, count);
