@@ -92,15 +92,23 @@ export interface SymmetryCheck {
   detail: string;
 }
 
-/** Basis states on which matrix elements are compared: all of them for small bases. */
-const CHECK_SAMPLES = 4096;
+/**
+ * Basis states on which matrix elements are compared: all of them for small bases, else 32 N^2
+ * (at least 256). A term between two sites shows only in states with one particular pair of
+ * levels there, met by a random state with probability 1/N^2; 32 N^2 samples miss a given pair of
+ * levels with probability e^-32.
+ */
+function sampleCount(levels: number): number {
+  return Math.max(256, 32 * levels * levels);
+}
 
-function sampleStates(dim: number): number[] {
-  if (dim <= CHECK_SAMPLES) return Array.from({ length: dim }, (_, k) => k);
+function sampleStates(dim: number, levels: number): number[] {
+  const count = sampleCount(levels);
+  if (dim <= count) return Array.from({ length: dim }, (_, k) => k);
   // Deterministic scatter over the whole index range (golden-ratio stride).
   const out: number[] = [];
   const step = 0.6180339887498949;
-  for (let k = 0; k < CHECK_SAMPLES; k++) out.push(Math.floor(((k * step) % 1) * dim));
+  for (let k = 0; k < count; k++) out.push(Math.floor(((k * step) % 1) * dim));
   return out;
 }
 
@@ -115,7 +123,7 @@ export function detectSymmetries(model: Model, basis: PinnedBasis): SymmetryChec
   const columns = new PinnedColumns(model, basis);
   const a = columnBuffer(model);
   const b = columnBuffer(model);
-  const samples = sampleStates(basis.dim);
+  const samples = sampleStates(basis.dim, model.levels);
   const checks: SymmetryCheck[] = [];
 
   const commutes = (g: (s: number) => number): boolean => {

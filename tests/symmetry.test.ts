@@ -57,6 +57,17 @@ describe('symmetry detection', () => {
     expect(b.used.level_flip).toBe(true);
   });
 
+  it('rejects a level flip broken only by one exchange weight, seen in a few configurations only', () => {
+    // Sampled states must meet the one pair of levels where the flip fails (common practice: a
+    // symmetry commutes with H only if it does on every matrix element).
+    const raw = clean(flipSymmetricSpec(7, 9, 5));
+    raw.exchange.weights[3] *= 1.001;
+    const { used } = usedFrom(validateSpec(raw));
+    expect(used.level_flip).toBe(false);
+    const intact = usedFrom(validateSpec(clean(flipSymmetricSpec(7, 9, 5))));
+    expect(intact.used.level_flip).toBe(true);
+  });
+
   it('a symmetry named by the user that the model lacks is an error naming solve.symmetries', () => {
     const spec = validateSpec({ chain: { sites: 4 }, levels: { count: 3 }, solve: { symmetries: ['translation'] } });
     expect(() => solvePoint(spec)).toThrow(/solve\.symmetries/);
