@@ -14,20 +14,26 @@ function randomVector(length: number, seed: number): Float64Array {
   return Float64Array.from({ length }, () => r() - 0.5);
 }
 
+/** A random pinned operator, a random vector and their one-thread product. */
+function pinnedProduct(seed: number, L: number, N: number) {
+  const spec = validateSpec(clean(randomPinnedSpec(seed, L, N)));
+  const model = buildModel(spec);
+  const basis = buildBasis(model);
+  const op = new PinnedOperator(model, basis as never);
+  const c = op.isComplex ? 2 : 1;
+  const x = randomVector(c * op.dim, seed);
+  const product = new Float64Array(c * op.dim);
+  op.apply(x, product);
+  return { op, c, x, product, model, basis };
+}
+
 describe('products split by rows', () => {
   it.each([
     [61, 6, 3],
     [62, 5, 4],
     [63, 9, 2],
   ])('pinned operator slices equal the whole product (seed %i, L=%i, N=%i)', (seed, L, N) => {
-    const spec = validateSpec(clean(randomPinnedSpec(seed, L, N)));
-    const model = buildModel(spec);
-    const basis = buildBasis(model);
-    const op = new PinnedOperator(model, basis as never);
-    const c = op.isComplex ? 2 : 1;
-    const x = randomVector(c * op.dim, seed);
-    const whole = new Float64Array(c * op.dim);
-    op.apply(x, whole);
+    const { op, c, x, product: whole } = pinnedProduct(seed, L, N);
     const pieces = new Float64Array(c * op.dim);
     const r = rng(seed + 1);
     const cuts = [0, ...Array.from({ length: 4 }, () => Math.floor(r() * op.dim)).sort((a, b) => a - b), op.dim];
@@ -40,14 +46,7 @@ describe('products split by rows', () => {
       [71, 8, 3],
       [72, 7, 3],
     ]) {
-      const spec = validateSpec(clean(randomPinnedSpec(seed, L, N)));
-      const model = buildModel(spec);
-      const basis = buildBasis(model);
-      const op = new PinnedOperator(model, basis as never);
-      const c = op.isComplex ? 2 : 1;
-      const x = randomVector(c * op.dim, seed);
-      const one = new Float64Array(c * op.dim);
-      op.apply(x, one);
+      const { op, c, x, product: one, model, basis } = pinnedProduct(seed, L, N);
       const threaded = withThreads(op, 2, model, basis as never);
       const two = new Float64Array(c * op.dim);
       threaded.apply(x, two);
