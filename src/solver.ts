@@ -10,6 +10,7 @@
 import { Matrix, EigenvalueDecomposition } from 'ml-matrix';
 import { ConvergenceError, SpecError } from './errors.js';
 import type { HermitianOperator } from './operator.js';
+import { BLOCK, coefficientNormSquared, norm2, plainKernels, scale, VectorArena, VectorKernels } from './solver/kernels.js';
 
 export interface EigenOptions {
   /** How many lowest eigenpairs. */
@@ -73,14 +74,14 @@ export interface EigenResult {
 
 export const DEFAULT_DENSE_THRESHOLD = 400;
 const DEFAULT_SEED = 0x5eed1234;
-/** Entries of a vector processed per block: a block of w stays in cache while basis vectors stream past. */
-const BLOCK = 2048;
 /** A new direction shorter than this fraction of ||H v|| is rounding noise: the Krylov space is invariant. */
 const BREAKDOWN_RATIO = 1e-12;
 /** Second-pass coefficients below this fraction of ||w|| are rounding: w is orthogonal already. */
 const SECOND_PASS_NEGLIGIBLE = 1e-13;
 /** DGKS criterion: if reorthogonalization shrinks the vector below this fraction, orthogonalize once more. */
 const REORTH_ETA = Math.SQRT1_2;
+/** Lanczos vectors longer than this live in a WebAssembly arena and use its SIMD kernels. */
+const ARENA_MIN_LENGTH = 256;
 
 /**
  * Largest dimension solved densely when `states` pairs are wanted: the dense path costs O(dim^3)
@@ -122,226 +123,6 @@ class Prng {
   }
 }
 
-function norm2(v: Float64Array): number {
-  let s = 0;
-  for (let i = 0; i < v.length; i++) s += v[i] * v[i];
-  return Math.sqrt(s);
-}
-
-function scale(v: Float64Array, factor: number): void {
-  for (let i = 0; i < v.length; i++) v[i] *= factor;
-}
-
-// Block kernels. Four basis vectors are handled per pass over a block of w: one load and store
-// of w serves four of them, which about doubles the speed of these memory-bound loops in V8.
-
-/** coef[i] += <set_i, w> over entries [start, end) of real vectors. */
-function addDotsReal(w: Float64Array, set: Float64Array[], count: number, coef: Float64Array, start: number, end: number): void {
-  let i = 0;
-  for (; i + 4 <= count; i += 4) {
-    const a0 = set[i];
-    const a1 = set[i + 1];
-    const a2 = set[i + 2];
-    const a3 = set[i + 3];
-    let s0 = 0;
-    let s1 = 0;
-    let s2 = 0;
-    let s3 = 0;
-    for (let t = start; t < end; t++) {
-      const x = w[t];
-      s0 += a0[t] * x;
-      s1 += a1[t] * x;
-      s2 += a2[t] * x;
-      s3 += a3[t] * x;
-    }
-    coef[i] += s0;
-    coef[i + 1] += s1;
-    coef[i + 2] += s2;
-    coef[i + 3] += s3;
-  }
-  for (; i < count; i++) {
-    const a = set[i];
-    let s = 0;
-    for (let t = start; t < end; t++) s += a[t] * w[t];
-    coef[i] += s;
-  }
-}
-
-/** w -= sum_i coef[i] set_i over entries [start, end) of real vectors. */
-function subtractReal(w: Float64Array, set: Float64Array[], count: number, coef: Float64Array, start: number, end: number): void {
-  let i = 0;
-  for (; i + 4 <= count; i += 4) {
-    const a0 = set[i];
-    const a1 = set[i + 1];
-    const a2 = set[i + 2];
-    const a3 = set[i + 3];
-    const c0 = coef[i];
-    const c1 = coef[i + 1];
-    const c2 = coef[i + 2];
-    const c3 = coef[i + 3];
-    for (let t = start; t < end; t++) w[t] -= c0 * a0[t] + c1 * a1[t] + c2 * a2[t] + c3 * a3[t];
-  }
-  for (; i < count; i++) {
-    const a = set[i];
-    const c = coef[i];
-    for (let t = start; t < end; t++) w[t] -= c * a[t];
-  }
-}
-
-/** coef[2i], coef[2i+1] += <set_i, w> = sum conj(a) w over interleaved complex entries [start, end). */
-function addDotsComplex(w: Float64Array, set: Float64Array[], count: number, coef: Float64Array, start: number, end: number): void {
-  let i = 0;
-  for (; i + 2 <= count; i += 2) {
-    const a0 = set[i];
-    const a1 = set[i + 1];
-    let r0 = 0;
-    let i0 = 0;
-    let r1 = 0;
-    let i1 = 0;
-    for (let t = start; t < end; t += 2) {
-      const wr = w[t];
-      const wi = w[t + 1];
-      const ar0 = a0[t];
-      const ai0 = a0[t + 1];
-      const ar1 = a1[t];
-      const ai1 = a1[t + 1];
-      r0 += ar0 * wr + ai0 * wi;
-      i0 += ar0 * wi - ai0 * wr;
-      r1 += ar1 * wr + ai1 * wi;
-      i1 += ar1 * wi - ai1 * wr;
-    }
-    coef[2 * i] += r0;
-    coef[2 * i + 1] += i0;
-    coef[2 * i + 2] += r1;
-    coef[2 * i + 3] += i1;
-  }
-  for (; i < count; i++) {
-    const a = set[i];
-    let re = 0;
-    let im = 0;
-    for (let t = start; t < end; t += 2) {
-      const ar = a[t];
-      const ai = a[t + 1];
-      const wr = w[t];
-      const wi = w[t + 1];
-      re += ar * wr + ai * wi;
-      im += ar * wi - ai * wr;
-    }
-    coef[2 * i] += re;
-    coef[2 * i + 1] += im;
-  }
-}
-
-/** w -= sum_i c_i set_i (complex c_i interleaved in coef) over entries [start, end). */
-function subtractComplex(w: Float64Array, set: Float64Array[], count: number, coef: Float64Array, start: number, end: number): void {
-  let i = 0;
-  for (; i + 2 <= count; i += 2) {
-    const a0 = set[i];
-    const a1 = set[i + 1];
-    const cr0 = coef[2 * i];
-    const ci0 = coef[2 * i + 1];
-    const cr1 = coef[2 * i + 2];
-    const ci1 = coef[2 * i + 3];
-    for (let t = start; t < end; t += 2) {
-      const ar0 = a0[t];
-      const ai0 = a0[t + 1];
-      const ar1 = a1[t];
-      const ai1 = a1[t + 1];
-      w[t] -= cr0 * ar0 - ci0 * ai0 + cr1 * ar1 - ci1 * ai1;
-      w[t + 1] -= cr0 * ai0 + ci0 * ar0 + cr1 * ai1 + ci1 * ar1;
-    }
-  }
-  for (; i < count; i++) {
-    const a = set[i];
-    const cr = coef[2 * i];
-    const ci = coef[2 * i + 1];
-    for (let t = start; t < end; t += 2) {
-      const ar = a[t];
-      const ai = a[t + 1];
-      w[t] -= cr * ar - ci * ai;
-      w[t + 1] -= cr * ai + ci * ar;
-    }
-  }
-}
-
-/** Coefficients of w along set[0..count): coef[i] = <set_i, w> (real) or interleaved complex. */
-function projectCoefficients(
-  w: Float64Array,
-  set: Float64Array[],
-  count: number,
-  isComplex: boolean,
-  coef: Float64Array,
-): void {
-  const len = w.length;
-  coef.fill(0, 0, isComplex ? 2 * count : count);
-  for (let start = 0; start < len; start += BLOCK) {
-    const end = Math.min(start + BLOCK, len);
-    if (isComplex) addDotsComplex(w, set, count, coef, start, end);
-    else addDotsReal(w, set, count, coef, start, end);
-  }
-}
-
-/**
- * w -= sum_i coef_i set_i; returns ||w||^2 afterwards. When `nextCoef` is given, the coefficients
- * of the updated w along the same set are accumulated in the same sweep (the second Gram-Schmidt
- * pass then needs no separate read of the basis for its dot products: the block is still cached).
- */
-function subtractCombination(
-  w: Float64Array,
-  set: Float64Array[],
-  count: number,
-  isComplex: boolean,
-  coef: Float64Array,
-  nextCoef: Float64Array | null,
-): number {
-  const len = w.length;
-  let normSquared = 0;
-  if (nextCoef) nextCoef.fill(0, 0, isComplex ? 2 * count : count);
-  for (let start = 0; start < len; start += BLOCK) {
-    const end = Math.min(start + BLOCK, len);
-    if (isComplex) {
-      subtractComplex(w, set, count, coef, start, end);
-      if (nextCoef) addDotsComplex(w, set, count, nextCoef, start, end);
-    } else {
-      subtractReal(w, set, count, coef, start, end);
-      if (nextCoef) addDotsReal(w, set, count, nextCoef, start, end);
-    }
-    for (let t = start; t < end; t++) normSquared += w[t] * w[t];
-  }
-  return normSquared;
-}
-
-function coefficientNormSquared(coef: Float64Array, count: number, isComplex: boolean): number {
-  const n = isComplex ? 2 * count : count;
-  let s = 0;
-  for (let i = 0; i < n; i++) s += coef[i] * coef[i];
-  return s;
-}
-
-/**
- * Orthogonalize w against the orthonormal set[0..count) with classical Gram-Schmidt done twice
- * ("twice is enough"), and a third time if the second pass still removed most of what was left.
- * Returns ||w|| afterwards (w is not normalized).
- */
-function orthogonalizeAgainst(
-  w: Float64Array,
-  set: Float64Array[],
-  count: number,
-  isComplex: boolean,
-  coef: Float64Array,
-  coef2: Float64Array,
-): number {
-  if (count === 0) return norm2(w);
-  projectCoefficients(w, set, count, isComplex, coef);
-  const afterFirst = Math.sqrt(subtractCombination(w, set, count, isComplex, coef, coef2));
-  let after = Math.sqrt(subtractCombination(w, set, count, isComplex, coef2, null));
-  if (after < REORTH_ETA * afterFirst && after > 0) {
-    projectCoefficients(w, set, count, isComplex, coef2);
-    after = Math.sqrt(subtractCombination(w, set, count, isComplex, coef2, null));
-  }
-  return after;
-}
-
 /** Eigen-decomposition of the leading s x s block of a symmetric matrix stored with leading dimension ld. */
 function smallSymmetricEigen(
   packed: Float64Array,
@@ -366,52 +147,6 @@ function smallSymmetricEigen(
     for (let i = 0; i < s; i++) vectors[i * s + c] = v.get(i, order[c]);
   }
   return { values, vectors };
-}
-
-/**
- * In place: basis[c] <- sum_i basis[i] * y[i*ys + c] for c < keep, using the first `size` basis
- * vectors. Coefficients are real (Ritz vectors of a real symmetric T), so re and im entries
- * of complex vectors are combined alike.
- */
-function combineInPlace(
-  basis: Float64Array[],
-  size: number,
-  y: Float64Array,
-  ys: number,
-  keep: number,
-  scratch: Float64Array,
-): void {
-  const len = basis[0].length;
-  for (let start = 0; start < len; start += BLOCK) {
-    const end = Math.min(start + BLOCK, len);
-    const width = end - start;
-    for (let c = 0; c < keep; c++) {
-      const offset = c * BLOCK - start;
-      for (let t = start; t < end; t++) scratch[offset + t] = 0;
-      let i = 0;
-      for (; i + 4 <= size; i += 4) {
-        const a0 = basis[i];
-        const a1 = basis[i + 1];
-        const a2 = basis[i + 2];
-        const a3 = basis[i + 3];
-        const y0 = y[i * ys + c];
-        const y1 = y[(i + 1) * ys + c];
-        const y2 = y[(i + 2) * ys + c];
-        const y3 = y[(i + 3) * ys + c];
-        for (let t = start; t < end; t++) scratch[offset + t] += y0 * a0[t] + y1 * a1[t] + y2 * a2[t] + y3 * a3[t];
-      }
-      for (; i < size; i++) {
-        const a = basis[i];
-        const coefficient = y[i * ys + c];
-        for (let t = start; t < end; t++) scratch[offset + t] += coefficient * a[t];
-      }
-    }
-    for (let c = 0; c < keep; c++) {
-      const target = basis[c];
-      const offset = c * BLOCK;
-      for (let t = 0; t < width; t++) target[start + t] = scratch[offset + t];
-    }
-  }
 }
 
 function checkVectorLength(v: Float64Array, length: number, keyPath: string): void {
@@ -445,6 +180,8 @@ interface CoreInput {
   /** Spare vectors of the right length to reuse before allocating. */
   pool: Float64Array[];
   progress: ((matvecs: number, restarts: number, worst: number) => void) | null;
+  /** Vector operations; their arena, when there is one, holds the basis. */
+  kernels: VectorKernels;
   /**
    * Stop early, as screened, once the lowest Ritz value minus its residual lies above this: an
    * eigenvalue lies within the residual of a Ritz value (Weinstein's bound), and Lanczos from a
@@ -465,23 +202,24 @@ type CoreResult = Pick<EigenResult, 'values' | 'vectors' | 'residuals' | 'matvec
  * plus one spare (the residual direction while the basis is full, scratch otherwise) live at once.
  */
 function thickRestartLanczos(input: CoreInput): CoreResult {
-  const { op, nev, tolerance, maxMatvecs, deflation, rng, pool, progress } = input;
+  const { op, nev, tolerance, maxMatvecs, deflation, rng, pool, progress, kernels } = input;
   const isComplex = op.isComplex;
   const length = isComplex ? 2 * op.dim : op.dim;
   const deflationCount = deflation.length;
   const available = op.dim - deflationCount;
   const m = input.krylovSize;
 
-  const allocate = (): Float64Array => pool.pop() ?? new Float64Array(length);
+  const allocate = (): Float64Array => pool.pop() ?? kernels.vector(length);
   const basis: Float64Array[] = [];
   for (let i = 0; i < m; i++) basis.push(allocate());
   let spare = allocate();
   // Deflation vectors first, then the basis: one list for Gram-Schmidt.
   const orthoSet: Float64Array[] = deflation.concat(basis);
-  const coef = new Float64Array(2 * (deflationCount + m + 1));
-  const coef2 = new Float64Array(2 * (deflationCount + m + 1));
+  const coef = kernels.vector(2 * (deflationCount + m + 1));
+  const coef2 = kernels.vector(2 * (deflationCount + m + 1));
   const T = new Float64Array(m * m);
-  const scratch = new Float64Array(BLOCK * m);
+  const scratch = kernels.vector(BLOCK * m);
+  const ritzVectors = kernels.vector(m * m);
 
   let matvecs = 0;
   let restarts = 0;
@@ -492,8 +230,8 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
   const randomOrthogonal = (v: Float64Array, count: number): boolean => {
     for (let attempt = 0; attempt < 5; attempt++) {
       rng.fill(v);
-      const before = norm2(v);
-      const after = orthogonalizeAgainst(v, orthoSet, deflationCount + count, isComplex, coef, coef2);
+      const before = kernels.norm2(v);
+      const after = kernels.orthogonalize(v, orthoSet, deflationCount + count, isComplex, coef, coef2);
       if (after > 1e-8 * before) {
         scale(v, 1 / after);
         return true;
@@ -506,8 +244,8 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
   let started = false;
   if (input.start) {
     basis[0].set(input.start);
-    const before = norm2(basis[0]);
-    const after = orthogonalizeAgainst(basis[0], orthoSet, deflationCount, isComplex, coef, coef2);
+    const before = kernels.norm2(basis[0]);
+    const after = kernels.orthogonalize(basis[0], orthoSet, deflationCount, isComplex, coef, coef2);
     if (before > 0 && after > 1e-8 * before) {
       scale(basis[0], 1 / after);
       started = true;
@@ -535,7 +273,8 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
     keep: number,
     check: boolean,
   ): { values: Float64Array; residuals: Float64Array | null } => {
-    combineInPlace(basis, s, ritz.vectors, s, keep, scratch);
+    ritzVectors.set(ritz.vectors);
+    kernels.combine(basis, s, ritzVectors, s, keep, scratch);
     // The residual direction (spare when the basis was full) becomes basis[keep].
     if (s === m && residualNorm > 0) {
       const tmp = basis[keep];
@@ -563,10 +302,10 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
       const theta = ritz.values[i];
       for (let t = 0; t < length; t++) work[t] -= theta * y[t];
       if (deflationCount > 0) {
-        projectCoefficients(work, orthoSet, deflationCount, isComplex, coef);
-        residuals[i] = Math.sqrt(subtractCombination(work, orthoSet, deflationCount, isComplex, coef, null));
+        kernels.project(work, orthoSet, deflationCount, isComplex, coef);
+        residuals[i] = Math.sqrt(kernels.subtract(work, orthoSet, deflationCount, isComplex, coef, null));
       } else {
-        residuals[i] = norm2(work);
+        residuals[i] = kernels.norm2(work);
       }
     }
     return { values: ritz.values, residuals };
@@ -599,8 +338,8 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
     op.apply(basis[j], target);
     matvecs++;
     const count = deflationCount + size;
-    projectCoefficients(target, orthoSet, count, isComplex, coef);
-    const firstNormSquared = subtractCombination(target, orthoSet, count, isComplex, coef, coef2);
+    kernels.project(target, orthoSet, count, isComplex, coef);
+    const firstNormSquared = kernels.subtract(target, orthoSet, count, isComplex, coef, coef2);
     const hvNorm = Math.sqrt(coefficientNormSquared(coef, count, isComplex) + firstNormSquared);
     const alphaIndex = isComplex ? 2 * (deflationCount + j) : deflationCount + j;
     const alpha = coef[alphaIndex] + coef2[alphaIndex];
@@ -611,11 +350,11 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
     const firstNorm = Math.sqrt(firstNormSquared);
     let beta = firstNorm;
     if (Math.sqrt(coefficientNormSquared(coef2, count, isComplex)) > SECOND_PASS_NEGLIGIBLE * firstNorm) {
-      beta = Math.sqrt(subtractCombination(target, orthoSet, count, isComplex, coef2, null));
+      beta = Math.sqrt(kernels.subtract(target, orthoSet, count, isComplex, coef2, null));
     }
     if (beta < REORTH_ETA * firstNorm && beta > 0) {
-      projectCoefficients(target, orthoSet, count, isComplex, coef2);
-      beta = Math.sqrt(subtractCombination(target, orthoSet, count, isComplex, coef2, null));
+      kernels.project(target, orthoSet, count, isComplex, coef2);
+      beta = Math.sqrt(kernels.subtract(target, orthoSet, count, isComplex, coef2, null));
     }
     if (!Number.isFinite(alpha) || !Number.isFinite(beta)) {
       throw new ConvergenceError(`the operator produced a non-finite value after ${matvecs} matrix-vector products`);
@@ -710,9 +449,9 @@ function buildDense(op: HermitianOperator, deflation: Float64Array[]): { re: Flo
   for (let j = 0; j < n; j++) {
     unit.fill(0);
     unit[isComplex ? 2 * j : j] = 1;
-    if (deflation.length > 0) orthogonalizeAgainst(unit, deflation, deflation.length, isComplex, coef, coef2);
+    if (deflation.length > 0) plainKernels.orthogonalize(unit, deflation, deflation.length, isComplex, coef, coef2);
     op.apply(unit, column);
-    if (deflation.length > 0) orthogonalizeAgainst(column, deflation, deflation.length, isComplex, coef, coef2);
+    if (deflation.length > 0) plainKernels.orthogonalize(column, deflation, deflation.length, isComplex, coef, coef2);
     if (im) {
       for (let i = 0; i < n; i++) {
         re[i * n + j] = column[2 * i];
@@ -857,7 +596,7 @@ function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: n
     const nearbyCoef = new Float64Array(2 * nearby.length + 2);
     const nearbyCoef2 = new Float64Array(2 * nearby.length + 2);
     const remaining = candidates.map((z) =>
-      orthogonalizeAgainst(z, nearby, nearby.length, true, nearbyCoef, nearbyCoef2),
+      plainKernels.orthogonalize(z, nearby, nearby.length, true, nearbyCoef, nearbyCoef2),
     );
     const directions = (end - start) >> 1;
     const accepted: Float64Array[] = [];
@@ -874,7 +613,7 @@ function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: n
       // Modified Gram-Schmidt: each candidate loses its component along the new direction only.
       const single = [chosen];
       for (let c = 0; c < candidates.length; c++) {
-        remaining[c] = orthogonalizeAgainst(candidates[c], single, 1, true, coef, coef2);
+        remaining[c] = plainKernels.orthogonalize(candidates[c], single, 1, true, coef, coef2);
       }
     }
     for (let d = 0; d < directions && vectors.length < count; d++) {
@@ -935,15 +674,16 @@ export function denseEigen(op: HermitianOperator): { values: Float64Array; vecto
 // Public entry point
 
 /** Orthonormal copies of the deflation vectors (linearly dependent ones dropped). */
-function orthonormalCopies(vectors: Float64Array[], length: number, isComplex: boolean): Float64Array[] {
+function orthonormalCopies(vectors: Float64Array[], length: number, isComplex: boolean, kernels: VectorKernels): Float64Array[] {
   const out: Float64Array[] = [];
-  const coef = new Float64Array(2 * vectors.length + 2);
-  const coef2 = new Float64Array(2 * vectors.length + 2);
+  const coef = kernels.vector(2 * vectors.length + 2);
+  const coef2 = kernels.vector(2 * vectors.length + 2);
   vectors.forEach((v, index) => {
     checkVectorLength(v, length, `deflate[${index}]`);
-    const copy = Float64Array.from(v);
-    const before = norm2(copy);
-    const after = orthogonalizeAgainst(copy, out, out.length, isComplex, coef, coef2);
+    const copy = kernels.vector(length);
+    copy.set(v);
+    const before = kernels.norm2(copy);
+    const after = kernels.orthogonalize(copy, out, out.length, isComplex, coef, coef2);
     if (before > 0 && after > 1e-10 * before) {
       scale(copy, 1 / after);
       out.push(copy);
@@ -961,7 +701,12 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   const isComplex = op.isComplex;
   const length = isComplex ? 2 * dim : dim;
   const tolerance = opts.tolerance;
-  const deflation = orthonormalCopies(opts.deflate ?? [], length, isComplex);
+  const lanczos = dim > (opts.denseThreshold ?? DEFAULT_DENSE_THRESHOLD);
+  // One arena per solve: the Lanczos basis lives in it; results are copied out at the end.
+  const kernels = lanczos && length >= ARENA_MIN_LENGTH ? new VectorKernels(VectorArena.create()) : plainKernels;
+  const copyOut = (vectors: Float64Array[]): Float64Array[] =>
+    kernels.arena ? vectors.map((v) => Float64Array.from(v)) : vectors;
+  const deflation = orthonormalCopies(opts.deflate ?? [], length, isComplex, kernels);
   const available = dim - deflation.length;
   if (available < 1) throw new SpecError('deflate', 'the deflation vectors leave no space to search');
   const states = Math.min(opts.states, available);
@@ -978,7 +723,7 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
     return result;
   };
 
-  if (dim <= (opts.denseThreshold ?? DEFAULT_DENSE_THRESHOLD)) {
+  if (!lanczos) {
     const solution = denseSolve(op, states, deflation);
     const converged = solution.residuals.every((r) => r <= tolerance);
     opts.onProgress?.({ matvecs: dim, restarts: 0, worstResidual: Math.max(0, ...solution.residuals) });
@@ -1023,6 +768,7 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
     rng,
     pool,
     progress,
+    kernels,
     screenAbove: opts.screenAbove,
   });
   totalMatvecs += main.matvecs;
@@ -1031,7 +777,7 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
     pool.length = 0;
     return {
       values: main.values,
-      vectors: main.vectors,
+      vectors: copyOut(main.vectors),
       residuals: main.residuals,
       matvecs: totalMatvecs,
       restarts: totalRestarts,
@@ -1078,6 +824,7 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
         rng,
         pool,
         progress,
+        kernels,
         // Only "is anything below the highest value found?" needs answering, not the value itself.
         screenAbove: values[values.length - 1] - Math.max(2 * tolerance, 1e-11 * Math.max(1, Math.abs(values[values.length - 1]))),
       });
@@ -1117,8 +864,8 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   // Pairs from verification runs were checked against a larger deflation set; measure them
   // again against the operator itself (one matvec each).
   if (inserted.size > 0) {
-    const work = pool.pop() ?? new Float64Array(length);
-    const coef = new Float64Array(2 * deflation.length + 2);
+    const work = pool.pop() ?? kernels.vector(length);
+    const coef = kernels.vector(2 * deflation.length + 2);
     for (let k = 0; k < vectors.length; k++) {
       if (!inserted.has(vectors[k])) continue;
       op.apply(vectors[k], work);
@@ -1126,11 +873,11 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
       const v = vectors[k];
       const e = values[k];
       for (let t = 0; t < length; t++) work[t] -= e * v[t];
-      if (deflation.length > 0) projectCoefficients(work, deflation, deflation.length, isComplex, coef);
+      if (deflation.length > 0) kernels.project(work, deflation, deflation.length, isComplex, coef);
       residuals[k] =
         deflation.length > 0
-          ? Math.sqrt(subtractCombination(work, deflation, deflation.length, isComplex, coef, null))
-          : norm2(work);
+          ? Math.sqrt(kernels.subtract(work, deflation, deflation.length, isComplex, coef, null))
+          : kernels.norm2(work);
       if (residuals[k] > tolerance) converged = false;
     }
   }
@@ -1139,7 +886,7 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   const outValues = Float64Array.from(values);
   return fail({
     values: outValues,
-    vectors,
+    vectors: copyOut(vectors),
     residuals: Float64Array.from(residuals),
     matvecs: totalMatvecs,
     restarts: totalRestarts,
