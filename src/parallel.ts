@@ -10,6 +10,7 @@ import type { Model } from './model.js';
 import type { HermitianOperator } from './operator.js';
 import { CsrOperator } from './operator/csr.js';
 import { PinnedOperator } from './operator/pinned.js';
+import { VectorArena } from './simd.js';
 
 /** An operator that can write any slice [lo, hi) of its product on its own. */
 export interface RangeOperator extends HermitianOperator {
@@ -95,14 +96,18 @@ export class ThreadedOperator implements HermitianOperator {
     this.isComplex = local.isComplex;
     const length = (this.isComplex ? 2 : 1) * this.dim;
     this.control = new Int32Array(new SharedArrayBuffer(16));
-    this.x = new Float64Array(new SharedArrayBuffer(8 * length));
-    this.y = new Float64Array(new SharedArrayBuffer(8 * length));
+    // x and y in an arena, so every thread's slice runs the SIMD kernels; plain shared memory if
+    // this runtime has none.
+    const arena = VectorArena.create();
+    this.x = arena ? arena.vector(length) : new Float64Array(new SharedArrayBuffer(8 * length));
+    this.y = arena ? arena.vector(length) : new Float64Array(new SharedArrayBuffer(8 * length));
+    const shared = arena ? { memory: arena.memory, used: arena.used, xAt: this.x.byteOffset, yAt: this.y.byteOffset, length } : null;
     this.bounds = splitRows(local, threads);
     // From dist/src the worker is dist/workers; tests that load src/*.ts directly use the built one.
     const script = new URL(import.meta.url.endsWith('.ts') ? '../dist/workers/product.js' : '../workers/product.js', import.meta.url);
     for (let t = 1; t < threads; t++) {
       const worker = new Worker(script, {
-        workerData: { payload, control: this.control, x: this.x, y: this.y, lo: this.bounds[t], hi: this.bounds[t + 1] },
+        workerData: { payload, control: this.control, x: this.x, y: this.y, shared, lo: this.bounds[t], hi: this.bounds[t + 1] },
       });
       worker.unref();
       this.workers.push(worker);
@@ -146,11 +151,19 @@ export function runProductWorker(data: {
   control: Int32Array;
   x: Float64Array;
   y: Float64Array;
+  /** The caller's arena, when x and y live in one: the views are rebuilt over it here. */
+  shared: { memory: WebAssembly.Memory; used: number; xAt: number; yAt: number; length: number } | null;
   lo: number;
   hi: number;
 }): void {
   const op = operatorFromPayload(data.payload);
   const c = data.control;
+  let { x, y } = data;
+  const arena = data.shared ? VectorArena.attach(data.shared.memory, data.shared.used) : null;
+  if (arena && data.shared) {
+    x = arena.view(data.shared.xAt, data.shared.length);
+    y = arena.view(data.shared.yAt, data.shared.length);
+  }
   let generation = Atomics.load(c, GENERATION);
   Atomics.add(c, READY, 1);
   Atomics.notify(c, READY);
@@ -158,7 +171,7 @@ export function runProductWorker(data: {
     Atomics.wait(c, GENERATION, generation);
     generation = Atomics.load(c, GENERATION);
     if (Atomics.load(c, COMMAND) === STOP) return;
-    op.applyRange(data.x, data.y, data.lo, data.hi);
+    op.applyRange(x, y, data.lo, data.hi);
     Atomics.add(c, DONE, 1);
     Atomics.notify(c, DONE);
   }

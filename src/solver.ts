@@ -10,7 +10,8 @@
 import { Matrix, EigenvalueDecomposition } from 'ml-matrix';
 import { ConvergenceError, SpecError } from './errors.js';
 import type { HermitianOperator } from './operator.js';
-import { BLOCK, coefficientNormSquared, norm2, plainKernels, scale, VectorArena, VectorKernels } from './solver/kernels.js';
+import { VectorArena } from './simd.js';
+import { BLOCK, coefficientNormSquared, norm2, plainKernels, scale, VectorKernels } from './solver/kernels.js';
 
 export interface EigenOptions {
   /** How many lowest eigenpairs. */

@@ -3,6 +3,10 @@
 import type { PinnedBasis } from '../basis.js';
 import type { Model } from '../model.js';
 import type { HermitianOperator } from '../operator.js';
+import { arenaHolding } from '../simd.js';
+
+/** Runs at least this long go to the SIMD kernel when x and y live in an arena. */
+const SIMD_RUN = 16;
 
 /**
  * The pinned Hamiltonian applied on the fly. Every term acts on one or two digits of the
@@ -153,6 +157,9 @@ export class PinnedOperator implements HermitianOperator {
 
   private applyRealRange(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
     const N = this.N;
+    const wasm = arenaHolding(x, y)?.wasm;
+    const xAt = x.byteOffset;
+    const yAt = y.byteOffset;
     const diag = this.diagonal;
     // Block pass: y = diag x + (terms within the low sites) x, block by block.
     const B = this.blockSize;
@@ -181,7 +188,8 @@ export class PinnedOperator implements HermitianOperator {
           const from = run < lo ? lo : run;
           const to = run + S > hi ? hi : run + S;
           const shift = (this.localFrom[e] - this.localTo[e]) * S;
-          for (let t = from; t < to; t++) y[t] += h * x[t + shift];
+          if (wasm && to - from >= SIMD_RUN) wasm.axpy(yAt + 8 * from, xAt + 8 * (from + shift), h, to - from);
+          else for (let t = from; t < to; t++) y[t] += h * x[t + shift];
         }
       }
     }
@@ -200,7 +208,8 @@ export class PinnedOperator implements HermitianOperator {
             const run = hb + mb + offset;
             const from = run < lo ? lo : run;
             const to = run + Si > hi ? hi : run + Si;
-            for (let t = from; t < to; t++) y[t] += amp * x[t - delta];
+            if (wasm && to - from >= SIMD_RUN) wasm.axpy(yAt + 8 * from, xAt + 8 * (from - delta), amp, to - from);
+            else for (let t = from; t < to; t++) y[t] += amp * x[t - delta];
           }
         }
         continue;
@@ -221,6 +230,9 @@ export class PinnedOperator implements HermitianOperator {
 
   private applyComplexRange(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
     const N = this.N;
+    const wasm = arenaHolding(x, y)?.wasm;
+    const xAt = x.byteOffset;
+    const yAt = y.byteOffset;
     const diag = this.diagonal;
     const B = this.blockSize;
     const rs = this.blockRowStart;
@@ -261,6 +273,10 @@ export class PinnedOperator implements HermitianOperator {
           const from = 2 * (run < lo ? lo : run);
           const to = 2 * (run + S > hi ? hi : run + S);
           const shift = 2 * (this.localFrom[e] - this.localTo[e]) * S;
+          if (wasm && to - from >= 2 * SIMD_RUN) {
+            wasm.caxpy(yAt + 8 * from, xAt + 8 * (from + shift), hr, hi_, (to - from) >> 1);
+            continue;
+          }
           for (let t = from; t < to; t += 2) {
             const xr = x[t + shift];
             const xi = x[t + shift + 1];
@@ -285,7 +301,8 @@ export class PinnedOperator implements HermitianOperator {
             const run = hb + mb + offset;
             const from = 2 * (run < lo ? lo : run);
             const to = 2 * (run + Si > hi ? hi : run + Si);
-            for (let t = from; t < to; t++) y[t] += amp * x[t - 2 * delta];
+            if (wasm && to - from >= SIMD_RUN) wasm.axpy(yAt + 8 * from, xAt + 8 * (from - 2 * delta), amp, to - from);
+            else for (let t = from; t < to; t++) y[t] += amp * x[t - 2 * delta];
           }
         }
         continue;

@@ -1,123 +1,13 @@
 // Vector kernels of the Lanczos solver: dot products against a set of basis vectors, the
 // subtraction of a combination of them, and the restart combination. Two implementations of each:
-// WebAssembly with 128-bit SIMD (vector.wat, about three times faster) for vectors that live in a
-// VectorArena, and plain loops over Float64Arrays for any other vector. Both group the basis
+// WebAssembly with 128-bit SIMD (src/simd/vector.wat, about three times faster) for vectors that
+// live in a VectorArena (src/simd.ts), and plain loops over Float64Arrays for any other vector. Both group the basis
 // vectors alike; results agree to rounding.
 
-import { VECTOR_WASM_BASE64 } from './vectorWasm.js';
+import { VectorArena } from '../simd.js';
 
 /** Entries of a vector processed per block: a block of w stays in cache while basis vectors stream past. */
 export const BLOCK = 2048;
-const PAGE = 65536;
-const MAX_PAGES = 65536;
-/** Vectors start on cache-line boundaries. */
-const ALIGN = 64;
-
-interface WasmKernels {
-  dotsReal(w: number, set: number, count: number, out: number, start: number, end: number): void;
-  dotsComplex(w: number, set: number, count: number, out: number, start: number, end: number): void;
-  subtractReal(w: number, set: number, count: number, coef: number, start: number, end: number): void;
-  subtractComplex(w: number, set: number, count: number, coef: number, start: number, end: number): void;
-  normSquared(w: number, start: number, end: number): number;
-  combine(set: number, size: number, y: number, ys: number, keep: number, scratch: number, start: number, end: number): void;
-}
-
-let compiled: WebAssembly.Module | null | undefined;
-
-function kernelModule(): WebAssembly.Module | null {
-  if (compiled === undefined) {
-    try {
-      compiled = new WebAssembly.Module(Buffer.from(VECTOR_WASM_BASE64, 'base64'));
-    } catch {
-      // No SIMD or no shared memory in this runtime: the plain loops serve.
-      compiled = null;
-    }
-  }
-  return compiled;
-}
-
-/**
- * Vectors in one shared WebAssembly memory, handed out as Float64Array views. Lengths are padded
- * to an even number of doubles (the padding stays zero) so the SIMD loops need no scalar tail.
- * Nothing is freed one by one: an arena lives as long as one solve, and its views are copied out
- * before it is dropped. When the memory cannot grow (wasm32 stops at 4 GiB), `vector` returns an
- * ordinary Float64Array and the kernels fall back to plain loops for sets that hold one.
- */
-export class VectorArena {
-  private readonly memory: WebAssembly.Memory;
-  readonly wasm: WasmKernels;
-  private readonly buffers = new Set<ArrayBufferLike>();
-  private top = 0;
-  private table: Int32Array;
-
-  private constructor(module: WebAssembly.Module) {
-    this.memory = new WebAssembly.Memory({ initial: 1, maximum: MAX_PAGES, shared: true });
-    this.wasm = new WebAssembly.Instance(module, { env: { memory: this.memory } }).exports as unknown as WasmKernels;
-    this.buffers.add(this.memory.buffer);
-    this.table = this.int32s(64);
-  }
-
-  /** An arena, or null when this runtime cannot run the kernels. */
-  static create(): VectorArena | null {
-    const module = kernelModule();
-    if (!module) return null;
-    try {
-      return new VectorArena(module);
-    } catch {
-      return null;
-    }
-  }
-
-  private reserve(bytes: number): number | null {
-    const at = Math.ceil(this.top / ALIGN) * ALIGN;
-    const needed = at + bytes;
-    const have = this.memory.buffer.byteLength;
-    if (needed > have) {
-      const pages = Math.ceil((needed - have) / PAGE);
-      if (have / PAGE + pages > MAX_PAGES) return null;
-      try {
-        this.memory.grow(pages);
-      } catch {
-        return null;
-      }
-      this.buffers.add(this.memory.buffer);
-    }
-    this.top = needed;
-    return at;
-  }
-
-  /** A zeroed vector of `length` doubles (padded to even in the arena), or a plain array when full. */
-  vector(length: number): Float64Array {
-    const padded = length + (length & 1);
-    const at = this.reserve(8 * padded);
-    if (at === null) return new Float64Array(length);
-    return new Float64Array(this.memory.buffer, at, length);
-  }
-
-  private int32s(count: number): Int32Array {
-    const at = this.reserve(4 * count);
-    if (at === null) throw new RangeError('vector arena: no room for a pointer table');
-    return new Int32Array(this.memory.buffer, at, count);
-  }
-
-  owns(v: Float64Array): boolean {
-    return this.buffers.has(v.buffer);
-  }
-
-  ownsAll(set: Float64Array[], count: number): boolean {
-    for (let i = 0; i < count; i++) if (!this.buffers.has(set[i].buffer)) return false;
-    return true;
-  }
-
-  /** Writes the byte offsets of set[0..count) to the pointer table; returns the table's offset. */
-  pointers(set: Float64Array[], count: number): number {
-    if (this.table.length < count) this.table = this.int32s(2 * count);
-    for (let i = 0; i < count; i++) this.table[i] = set[i].byteOffset;
-    return this.table.byteOffset;
-  }
-}
-
-
 /** DGKS criterion: if reorthogonalization shrinks the vector below this fraction, orthogonalize once more. */
 const REORTH_ETA = Math.SQRT1_2;
 

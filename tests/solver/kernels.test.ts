@@ -1,6 +1,7 @@
 import fs from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { BLOCK, plainKernels, VectorArena, VectorKernels } from '../../src/solver/kernels.js';
+import { BLOCK, plainKernels, VectorKernels } from '../../src/solver/kernels.js';
+import { VectorArena } from '../../src/simd.js';
 import { rng } from '../support/random.js';
 // @ts-expect-error plain ESM helper without type declarations
 import { compiledVectorKernels, generatedSource, GENERATED_PATH } from '../support/wat.mjs';

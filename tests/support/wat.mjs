@@ -1,11 +1,11 @@
-// Compiles src/solver/vector.wat with wabt (a development dependency) to the base64 text that
-// src/solver/vectorWasm.ts carries, so the shipped kernels can be checked against their source.
+// Compiles src/simd/vector.wat with wabt (a development dependency) to the base64 text that
+// src/simd/vectorWasm.ts carries, so the shipped kernels can be checked against their source.
 // `node tests/support/wat.mjs --write` (npm run wasm) regenerates that file.
 import fs from 'node:fs';
 import wabtInit from 'wabt';
 
-export const WAT_PATH = new URL('../../src/solver/vector.wat', import.meta.url);
-export const GENERATED_PATH = new URL('../../src/solver/vectorWasm.ts', import.meta.url);
+export const WAT_PATH = new URL('../../src/simd/vector.wat', import.meta.url);
+export const GENERATED_PATH = new URL('../../src/simd/vectorWasm.ts', import.meta.url);
 
 /** @returns {Promise<string>} the module's bytes in base64 */
 export async function compiledVectorKernels() {

@@ -1,0 +1,163 @@
+// WebAssembly SIMD kernels and the shared memory they work on. Vectors that numerical loops
+// sweep many times (the Lanczos basis, the operator's input and output) are allocated in a
+// VectorArena: one shared WebAssembly memory, seen from JavaScript as ordinary Float64Array views,
+// so the same vector can be handed to plain loops or to the SIMD kernels (src/simd/vector.wat).
+// Any module may ask which arena, if any, holds a given vector (`arenaHolding`).
+
+import { VECTOR_WASM_BASE64 } from './simd/vectorWasm.js';
+
+const PAGE = 65536;
+const MAX_PAGES = 65536;
+/** Vectors start on cache-line boundaries. */
+const ALIGN = 64;
+
+export interface WasmKernels {
+  dotsReal(w: number, set: number, count: number, out: number, start: number, end: number): void;
+  dotsComplex(w: number, set: number, count: number, out: number, start: number, end: number): void;
+  subtractReal(w: number, set: number, count: number, coef: number, start: number, end: number): void;
+  subtractComplex(w: number, set: number, count: number, coef: number, start: number, end: number): void;
+  normSquared(w: number, start: number, end: number): number;
+  combine(set: number, size: number, y: number, ys: number, keep: number, scratch: number, start: number, end: number): void;
+  /** y[0..count) += h x[0..count), pointers at the first entries. */
+  axpy(y: number, x: number, h: number, count: number): void;
+  /** Complex y += (hr + i hi) x over `count` interleaved complex entries. */
+  caxpy(y: number, x: number, hr: number, hi: number, count: number): void;
+}
+
+/** Which arena owns a buffer (every buffer an arena's memory has shown, after each growth). */
+const owners = new WeakMap<ArrayBufferLike, VectorArena>();
+
+/** The arena holding both vectors, or null (then plain loops must serve). */
+export function arenaHolding(x: Float64Array, y: Float64Array): VectorArena | null {
+  const arena = owners.get(x.buffer);
+  return arena && owners.get(y.buffer) === arena ? arena : null;
+}
+
+let compiled: WebAssembly.Module | null | undefined;
+
+function kernelModule(): WebAssembly.Module | null {
+  if (compiled === undefined) {
+    try {
+      compiled = new WebAssembly.Module(Buffer.from(VECTOR_WASM_BASE64, 'base64'));
+    } catch {
+      // No SIMD or no shared memory in this runtime: the plain loops serve.
+      compiled = null;
+    }
+  }
+  return compiled;
+}
+
+/**
+ * Vectors in one shared WebAssembly memory, handed out as Float64Array views. Lengths are padded
+ * to an even number of doubles (the padding stays zero) so the SIMD loops need no scalar tail.
+ * Nothing is freed one by one: an arena lives as long as one solve, and its views are copied out
+ * before it is dropped. When the memory cannot grow (wasm32 stops at 4 GiB), `vector` returns an
+ * ordinary Float64Array and the kernels fall back to plain loops for sets that hold one.
+ */
+export class VectorArena {
+  readonly memory: WebAssembly.Memory;
+  readonly wasm: WasmKernels;
+  private readonly buffers = new Set<ArrayBufferLike>();
+  private top: number;
+  private table: Int32Array | null = null;
+
+  private constructor(module: WebAssembly.Module, memory: WebAssembly.Memory, top: number) {
+    this.memory = memory;
+    this.wasm = new WebAssembly.Instance(module, { env: { memory } }).exports as unknown as WasmKernels;
+    this.top = top;
+    this.track();
+  }
+
+  private track(): void {
+    this.buffers.add(this.memory.buffer);
+    owners.set(this.memory.buffer, this);
+  }
+
+  /** An arena, or null when this runtime cannot run the kernels. */
+  static create(): VectorArena | null {
+    const module = kernelModule();
+    if (!module) return null;
+    try {
+      return new VectorArena(module, new WebAssembly.Memory({ initial: 1, maximum: MAX_PAGES, shared: true }), 0);
+    } catch {
+      return null;
+    }
+  }
+
+  /**
+   * The kernels over a memory another thread created (it arrives through workerData), for views
+   * that thread already placed in it. Only one thread may allocate in a memory: an attached arena
+   * is for running kernels on existing views (new vectors would go above `used` bytes). Null if
+   * this runtime cannot run the kernels.
+   */
+  static attach(memory: WebAssembly.Memory, used: number): VectorArena | null {
+    const module = kernelModule();
+    if (!module) return null;
+    try {
+      return new VectorArena(module, memory, used);
+    } catch {
+      return null;
+    }
+  }
+
+  /** Bytes handed out so far (what `attach` on another thread must not reuse). */
+  get used(): number {
+    return this.top;
+  }
+
+  /** A view of `length` doubles at byte offset `at`, for vectors placed by another thread. */
+  view(at: number, length: number): Float64Array {
+    return new Float64Array(this.memory.buffer, at, length);
+  }
+
+  private reserve(bytes: number): number | null {
+    const at = Math.ceil(this.top / ALIGN) * ALIGN;
+    const needed = at + bytes;
+    const have = this.memory.buffer.byteLength;
+    if (needed > have) {
+      const pages = Math.ceil((needed - have) / PAGE);
+      if (have / PAGE + pages > MAX_PAGES) return null;
+      try {
+        this.memory.grow(pages);
+      } catch {
+        return null;
+      }
+      this.track();
+    }
+    this.top = needed;
+    return at;
+  }
+
+  /** A zeroed vector of `length` doubles (padded to even in the arena), or a plain array when full. */
+  vector(length: number): Float64Array {
+    const padded = length + (length & 1);
+    const at = this.reserve(8 * padded);
+    if (at === null) return new Float64Array(length);
+    return new Float64Array(this.memory.buffer, at, length);
+  }
+
+  private int32s(count: number): Int32Array {
+    const at = this.reserve(4 * count);
+    if (at === null) throw new RangeError('vector arena: no room for a pointer table');
+    return new Int32Array(this.memory.buffer, at, count);
+  }
+
+  owns(v: Float64Array): boolean {
+    return this.buffers.has(v.buffer);
+  }
+
+  ownsAll(set: Float64Array[], count: number): boolean {
+    for (let i = 0; i < count; i++) if (!this.buffers.has(set[i].buffer)) return false;
+    return true;
+  }
+
+  /** Writes the byte offsets of set[0..count) to the pointer table; returns the table's offset. */
+  pointers(set: Float64Array[], count: number): number {
+    let table = this.table;
+    if (!table || table.length < count) table = this.table = this.int32s(Math.max(64, 2 * count));
+    for (let i = 0; i < count; i++) table[i] = set[i].byteOffset;
+    return table.byteOffset;
+  }
+}
+
+
