@@ -141,6 +141,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     initial: options.initial,
     onProgress: options.onProgress,
     throwOnFailure: false,
+    threads,
     });
   } finally {
     threaded.close();

@@ -119,7 +119,8 @@ export function solveInSectors(
     const sector = new SectorBasis(orbitsFor(plan.label), plan.label);
     if (sector.dim === 0) continue;
     const stored = buildSectorOperator(model, basis, sector);
-    const op = withThreads(stored, opts.threadsFor ? opts.threadsFor(stored.nonzeros()) : 1);
+    const threads = opts.threadsFor ? opts.threadsFor(stored.nonzeros()) : 1;
+    const op = withThreads(stored, threads);
     try {
       const isComplex = op.isComplex;
       let initial: Float64Array | undefined;
@@ -131,6 +132,7 @@ export function solveInSectors(
       }
       const base: EigenOptions = {
         states: 1,
+        threads,
         denseThreshold: denseThresholdFor(Math.min(states, sector.dim)),
         tolerance: opts.tolerance,
         maxMatvecs: opts.maxMatvecs,

@@ -12,6 +12,7 @@ import { ConvergenceError, SpecError } from './errors.js';
 import type { HermitianOperator } from './operator.js';
 import { VectorArena } from './simd.js';
 import { BLOCK, coefficientNormSquared, norm2, plainKernels, scale, VectorKernels } from './solver/kernels.js';
+import { KernelTeam } from './solver/team.js';
 
 export interface EigenOptions {
   /** How many lowest eigenpairs. */
@@ -42,6 +43,11 @@ export interface EigenOptions {
    */
   verifyDegeneracy?: boolean;
   /**
+   * Threads for the vector kernels (default 1). More pay off only for long vectors (see
+   * TEAM_MIN_LENGTH); the caller passes what the operator's product may use.
+   */
+  threads?: number;
+  /**
    * Stop early once the lowest eigenvalue is shown to lie above this value (lowest Ritz value minus
    * its explicit residual above it): the result then has `screened: true` and its values are only
    * upper bounds. For callers that need to know whether a space holds anything below a level.
@@ -71,6 +77,8 @@ export interface EigenResult {
   degeneracy: number;
   /** True when stopped by `screenAbove` (nothing below it); values are then upper bounds. */
   screened?: boolean;
+  /** Threads the vector kernels ran on (1 unless `threads` allowed more and the vectors were long). */
+  threads?: number;
 }
 
 export const DEFAULT_DENSE_THRESHOLD = 400;
@@ -83,6 +91,11 @@ const SECOND_PASS_NEGLIGIBLE = 1e-13;
 const REORTH_ETA = Math.SQRT1_2;
 /** Lanczos vectors longer than this live in a WebAssembly arena and use its SIMD kernels. */
 const ARENA_MIN_LENGTH = 256;
+/**
+ * Vectors at least this long (doubles) share their kernels across threads: a hand-off costs some
+ * microseconds, a kernel on 2^17 doubles some hundred.
+ */
+const TEAM_MIN_LENGTH = 1 << 17;
 
 /**
  * Largest dimension solved densely when `states` pairs are wanted: the dense path costs O(dim^3)
@@ -705,6 +718,21 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   const lanczos = dim > (opts.denseThreshold ?? DEFAULT_DENSE_THRESHOLD);
   // One arena per solve: the Lanczos basis lives in it; results are copied out at the end.
   const kernels = lanczos && length >= ARENA_MIN_LENGTH ? new VectorKernels(VectorArena.create()) : plainKernels;
+  if (kernels.arena && (opts.threads ?? 1) > 1 && length >= TEAM_MIN_LENGTH) {
+    kernels.team = KernelTeam.start(kernels.arena, opts.threads as number);
+  }
+  try {
+    return { ...solveWith(op, opts, kernels, lanczos), threads: kernels.team?.threads ?? 1 };
+  } finally {
+    kernels.team?.close();
+  }
+}
+
+function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKernels, lanczos: boolean): EigenResult {
+  const dim = op.dim;
+  const isComplex = op.isComplex;
+  const length = isComplex ? 2 * dim : dim;
+  const tolerance = opts.tolerance;
   const copyOut = (vectors: Float64Array[]): Float64Array[] =>
     kernels.arena ? vectors.map((v) => Float64Array.from(v)) : vectors;
   const deflation = orthonormalCopies(opts.deflate ?? [], length, isComplex, kernels);

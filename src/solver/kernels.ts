@@ -4,7 +4,8 @@
 // live in a VectorArena (src/simd.ts), and plain loops over Float64Arrays for any other vector. Both group the basis
 // vectors alike; results agree to rounding.
 
-import { VectorArena } from '../simd.js';
+import type { VectorArena } from '../simd.js';
+import type { KernelTeam } from './team.js';
 
 /** Entries of a vector processed per block: a block of w stays in cache while basis vectors stream past. */
 export const BLOCK = 2048;
@@ -212,6 +213,9 @@ export function coefficientNormSquared(coef: Float64Array, count: number, isComp
  * arrays) all live in it run in WebAssembly; anything else runs in plain loops.
  */
 export class VectorKernels {
+  /** Helper threads sharing the arena's kernels, when the caller allows more than one thread. */
+  team: KernelTeam | null = null;
+
   constructor(readonly arena: VectorArena | null) {}
 
   /** A working vector: in the arena when there is one. */
@@ -242,6 +246,7 @@ export class VectorKernels {
     if (arena) {
       const table = arena.pointers(set, count);
       const end = VectorKernels.padded(w);
+      if (this.team) return this.team.project(w, end, table, count, isComplex, coef);
       if (isComplex) arena.wasm.dotsComplex(w.byteOffset, table, count, coef.byteOffset, 0, end);
       else arena.wasm.dotsReal(w.byteOffset, table, count, coef.byteOffset, 0, end);
       return;
@@ -272,6 +277,7 @@ export class VectorKernels {
     if (arena && (!nextCoef || arena.owns(nextCoef))) {
       const table = arena.pointers(set, count);
       const len = VectorKernels.padded(w);
+      if (this.team) return this.team.subtract(w, len, table, count, isComplex, coef, nextCoef);
       const wasm = arena.wasm;
       let normSquared = 0;
       for (let start = 0; start < len; start += BLOCK) {
@@ -330,6 +336,7 @@ export class VectorKernels {
     if (arena && arena.owns(y) && arena.owns(scratch) && arena.ownsAll(basis, size)) {
       const table = arena.pointers(basis, size);
       const len = VectorKernels.padded(basis[0]);
+      if (this.team) return this.team.combine(len, table, size, y, ys, keep);
       for (let start = 0; start < len; start += BLOCK) {
         arena.wasm.combine(table, size, y.byteOffset, ys, keep, scratch.byteOffset, start, Math.min(start + BLOCK, len));
       }

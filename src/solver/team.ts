@@ -1,0 +1,269 @@
+// The solver's vector kernels shared by several threads. Every vector of a solve lives in one
+// arena (a shared WebAssembly memory); each thread runs the same SIMD kernel on its own slice of
+// entries and leaves its partial dot products in its own slot, which the calling thread adds up.
+// The calling thread takes slice 0 and waits on an atomic counter, so the kernels stay
+// synchronous and the solver's loop does not change.
+
+import { Worker } from 'node:worker_threads';
+import { VectorArena } from '../simd.js';
+import { BLOCK } from './kernels.js';
+
+// Control words (Int32Array over a SharedArrayBuffer).
+const GENERATION = 0; // bumped for every command
+const DONE = 1; // helper threads that finished the current command
+const READY = 2; // helper threads that have started
+const COMMAND = 3;
+// Parameters of the current command (Uint32: byte offsets may pass 2 GiB).
+const P_LENGTH = 4; // padded vector length in doubles
+const P_W = 5;
+const P_TABLE = 6;
+const P_COUNT = 7;
+const P_COEF = 8;
+const P_OUT = 9; // partial results: slot t at P_OUT + t * P_STRIDE bytes
+const P_STRIDE = 10;
+const P_COMPLEX = 11;
+const P_Y = 12; // combine: coefficients, leading dimension, kept columns, scratch per thread
+const P_YS = 13;
+const P_KEEP = 14;
+const P_SCRATCH = 15;
+const P_DOTS = 16; // subtract: also the dots of the result
+const FAILED = 17; // a helper could not set up the kernels
+const WORDS = 18;
+
+const STOP = 0;
+const PROJECT = 1;
+const SUBTRACT = 2; // with the dots of the result when P_OUT is set, and always its squared norm
+const COMBINE = 3;
+
+/** Entries [lo, hi) of a padded length for thread t of `threads`: cut on 8-double boundaries (64 bytes). */
+function slice(length: number, t: number, threads: number): [number, number] {
+  const cut = (k: number) => (k === threads ? length : Math.floor((length * k) / threads / 8) * 8);
+  return [cut(t), cut(t + 1)];
+}
+
+interface Kernels {
+  dotsReal(w: number, set: number, count: number, out: number, start: number, end: number): void;
+  dotsComplex(w: number, set: number, count: number, out: number, start: number, end: number): void;
+  subtractReal(w: number, set: number, count: number, coef: number, start: number, end: number): void;
+  subtractComplex(w: number, set: number, count: number, coef: number, start: number, end: number): void;
+  normSquared(w: number, start: number, end: number): number;
+  combine(set: number, size: number, y: number, ys: number, keep: number, scratch: number, start: number, end: number): void;
+}
+
+/** What one thread does for the current command, on its slice. */
+function runSlice(wasm: Kernels, memory: WebAssembly.Memory, p: Uint32Array, t: number, threads: number): void {
+  const [lo, hi] = slice(p[P_LENGTH], t, threads);
+  const command = p[COMMAND];
+  const count = p[P_COUNT];
+  const complex = p[P_COMPLEX] === 1;
+  if (command === COMBINE) {
+    const scratch = p[P_SCRATCH] + t * p[P_STRIDE];
+    for (let start = lo; start < hi; start += BLOCK) {
+      wasm.combine(p[P_TABLE], count, p[P_Y], p[P_YS], p[P_KEEP], scratch, start, Math.min(start + BLOCK, hi));
+    }
+    return;
+  }
+  const slot = p[P_OUT] + t * p[P_STRIDE];
+  const out = new Float64Array(memory.buffer, slot, 2 * count + 1);
+  out.fill(0);
+  if (command === PROJECT) {
+    if (complex) wasm.dotsComplex(p[P_W], p[P_TABLE], count, slot, lo, hi);
+    else wasm.dotsReal(p[P_W], p[P_TABLE], count, slot, lo, hi);
+    return;
+  }
+  // SUBTRACT: block by block, so the dots of the result read the basis block while it is cached.
+  const withDots = p[P_DOTS] === 1;
+  let normSquared = 0;
+  for (let start = lo; start < hi; start += BLOCK) {
+    const end = Math.min(start + BLOCK, hi);
+    if (complex) {
+      wasm.subtractComplex(p[P_W], p[P_TABLE], count, p[P_COEF], start, end);
+      if (withDots) wasm.dotsComplex(p[P_W], p[P_TABLE], count, slot, start, end);
+    } else {
+      wasm.subtractReal(p[P_W], p[P_TABLE], count, p[P_COEF], start, end);
+      if (withDots) wasm.dotsReal(p[P_W], p[P_TABLE], count, slot, start, end);
+    }
+    normSquared += wasm.normSquared(p[P_W], start, end);
+  }
+  out[2 * count] = normSquared;
+}
+
+/** Helper threads for one arena's kernels. */
+export class KernelTeam {
+  private readonly control: Int32Array;
+  private readonly params: Uint32Array;
+  private readonly workers: Worker[] = [];
+  private partials: Float64Array | null = null;
+  private scratch: Float64Array | null = null;
+  private closed = false;
+
+  private constructor(
+    private readonly arena: VectorArena,
+    readonly threads: number,
+  ) {
+    const shared = new SharedArrayBuffer(4 * WORDS);
+    this.control = new Int32Array(shared);
+    this.params = new Uint32Array(shared);
+    // From dist/src/solver the worker is dist/workers; tests that load src/*.ts use the built one.
+    const script = new URL(import.meta.url.endsWith('.ts') ? '../../dist/workers/kernels.js' : '../../workers/kernels.js', import.meta.url);
+    for (let t = 1; t < threads; t++) {
+      const worker = new Worker(script, { workerData: { memory: arena.memory, control: this.control, thread: t, threads } });
+      worker.unref();
+      this.workers.push(worker);
+    }
+    const deadline = Date.now() + 30_000;
+    let ready;
+    while ((ready = Atomics.load(this.control, READY)) < this.workers.length) {
+      if (Date.now() > deadline) {
+        this.close();
+        throw new Error('kernel worker threads did not start within 30 s');
+      }
+      Atomics.wait(this.control, READY, ready, 100);
+    }
+    if (Atomics.load(this.control, FAILED) !== 0) {
+      this.close();
+      throw new Error('kernel worker threads could not instantiate the SIMD kernels');
+    }
+  }
+
+  /** A team of `threads` (the caller included), or null if helpers cannot start here. */
+  static start(arena: VectorArena, threads: number): KernelTeam | null {
+    if (threads < 2) return null;
+    try {
+      return new KernelTeam(arena, threads);
+    } catch {
+      return null;
+    }
+  }
+
+  /** Partial-result slots, one per thread, each of at least `doubles` (rounded to cache lines). */
+  private slots(doubles: number): { at: number; stride: number } {
+    const stride = Math.ceil(doubles / 8) * 8;
+    if (!this.partials || this.partials.length < stride * this.threads) {
+      this.partials = this.arena.vector(2 * stride * this.threads);
+      if (!this.arena.owns(this.partials)) throw new RangeError('vector arena is full');
+    }
+    return { at: this.partials.byteOffset, stride: 8 * stride };
+  }
+
+  private run(command: number): void {
+    const c = this.control;
+    this.params[COMMAND] = command;
+    Atomics.store(c, DONE, 0);
+    Atomics.add(c, GENERATION, 1);
+    Atomics.notify(c, GENERATION);
+    runSlice(this.arena.wasm, this.arena.memory, this.params, 0, this.threads);
+    const helpers = this.workers.length;
+    let done;
+    while ((done = Atomics.load(c, DONE)) < helpers) Atomics.wait(c, DONE, done);
+  }
+
+  /** Adds thread t's partials (first `n` doubles of each slot) into `into`. */
+  private gather(n: number, into: Float64Array, offset: number): void {
+    const p = this.params;
+    const stride = p[P_STRIDE] / 8;
+    const base = (p[P_OUT] - (this.partials as Float64Array).byteOffset) / 8;
+    const partials = this.partials as Float64Array;
+    for (let t = 0; t < this.threads; t++) {
+      const at = base + t * stride + offset;
+      for (let i = 0; i < n; i++) into[i] += partials[at + i];
+    }
+  }
+
+  /** coef[0..) = <set_i, w> over all threads' slices; `table` holds the set's pointers. */
+  project(w: Float64Array, length: number, table: number, count: number, isComplex: boolean, coef: Float64Array): void {
+    const p = this.params;
+    const { at, stride } = this.slots(2 * count + 1);
+    p[P_LENGTH] = length;
+    p[P_W] = w.byteOffset;
+    p[P_TABLE] = table;
+    p[P_COUNT] = count;
+    p[P_OUT] = at;
+    p[P_STRIDE] = stride;
+    p[P_COMPLEX] = isComplex ? 1 : 0;
+    this.run(PROJECT);
+    const n = isComplex ? 2 * count : count;
+    coef.fill(0, 0, n);
+    this.gather(n, coef, 0);
+  }
+
+  /** w -= sum_i coef_i set_i; returns ||w||^2; fills `nextCoef` with the new w's dots when given. */
+  subtract(
+    w: Float64Array,
+    length: number,
+    table: number,
+    count: number,
+    isComplex: boolean,
+    coef: Float64Array,
+    nextCoef: Float64Array | null,
+  ): number {
+    const p = this.params;
+    const { at, stride } = this.slots(2 * count + 1);
+    p[P_LENGTH] = length;
+    p[P_W] = w.byteOffset;
+    p[P_TABLE] = table;
+    p[P_COUNT] = count;
+    p[P_COEF] = coef.byteOffset;
+    p[P_OUT] = at;
+    p[P_STRIDE] = stride;
+    p[P_COMPLEX] = isComplex ? 1 : 0;
+    p[P_DOTS] = nextCoef ? 1 : 0;
+    this.run(SUBTRACT);
+    const n = isComplex ? 2 * count : count;
+    if (nextCoef) {
+      nextCoef.fill(0, 0, n);
+      this.gather(n, nextCoef, 0);
+    }
+    const norm = new Float64Array(1);
+    this.gather(1, norm, 2 * count);
+    return norm[0];
+  }
+
+  /** The restart combination, each thread on its slice with its own scratch block. */
+  combine(length: number, table: number, size: number, y: Float64Array, ys: number, keep: number): void {
+    const p = this.params;
+    const perThread = keep * BLOCK;
+    if (!this.scratch || this.scratch.length < perThread * this.threads) {
+      this.scratch = this.arena.vector(perThread * this.threads);
+      if (!this.arena.owns(this.scratch)) throw new RangeError('vector arena is full');
+    }
+    p[P_LENGTH] = length;
+    p[P_TABLE] = table;
+    p[P_COUNT] = size;
+    p[P_Y] = y.byteOffset;
+    p[P_YS] = ys;
+    p[P_KEEP] = keep;
+    p[P_SCRATCH] = this.scratch.byteOffset;
+    p[P_STRIDE] = 8 * perThread;
+    this.run(COMBINE);
+  }
+
+  close(): void {
+    if (this.closed) return;
+    this.closed = true;
+    this.params[COMMAND] = STOP;
+    Atomics.add(this.control, GENERATION, 1);
+    Atomics.notify(this.control, GENERATION);
+    for (const w of this.workers) void w.terminate();
+  }
+}
+
+/** The loop a helper thread runs: wait for a command, do its slice, count itself done. */
+export function runKernelWorker(data: { memory: WebAssembly.Memory; control: Int32Array; thread: number; threads: number }): void {
+  const arena = VectorArena.attach(data.memory, 0);
+  const c = data.control;
+  const p = new Uint32Array(c.buffer);
+  let generation = Atomics.load(c, GENERATION);
+  if (!arena) Atomics.store(c, FAILED, 1);
+  Atomics.add(c, READY, 1);
+  Atomics.notify(c, READY);
+  if (!arena) return;
+  for (;;) {
+    Atomics.wait(c, GENERATION, generation);
+    generation = Atomics.load(c, GENERATION);
+    if (p[COMMAND] === STOP) return;
+    runSlice(arena.wasm, data.memory, p, data.thread, data.threads);
+    Atomics.add(c, DONE, 1);
+    Atomics.notify(c, DONE);
+  }
+}

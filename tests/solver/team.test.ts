@@ -1,0 +1,79 @@
+import { describe, expect, it } from 'vitest';
+import { buildBasis } from '../../src/basis.js';
+import { buildModel } from '../../src/model.js';
+import { PinnedOperator } from '../../src/operator/pinned.js';
+import { VectorArena } from '../../src/simd.js';
+import { lowestEigenpairs } from '../../src/solver.js';
+import { BLOCK, VectorKernels } from '../../src/solver/kernels.js';
+import { KernelTeam } from '../../src/solver/team.js';
+import { validateSpec } from '../../src/spec.js';
+import { clean, randomPinnedSpec, rng } from '../support/random.js';
+
+// Splitting a sum over entries between threads and adding the partial sums changes only the order
+// of additions (common practice): the team must agree with one thread to rounding, and the
+// solver must find the same eigenvalues.
+
+function fill(v: Float64Array, seed: number): Float64Array {
+  const r = rng(seed);
+  for (let i = 0; i < v.length; i++) v[i] = r() - 0.5;
+  return v;
+}
+
+describe('vector kernels on two threads', () => {
+  it.each([false, true])('project, subtract with dots, combine: complex %s', (isComplex) => {
+    const arena = VectorArena.create();
+    if (!arena) throw new Error('this runtime cannot instantiate the SIMD kernels (Node 20 can)');
+    const length = isComplex ? 2 * (3 * BLOCK + 501) : 5 * BLOCK + 77;
+    const count = 7;
+    const one = new VectorKernels(arena);
+    const two = new VectorKernels(arena);
+    two.team = KernelTeam.start(arena, 2);
+    expect(two.team).not.toBeNull();
+    try {
+      const set = Array.from({ length: count }, (_, i) => fill(arena.vector(length), 20 + i));
+      const w1 = fill(arena.vector(length), 3);
+      const w2a = arena.vector(length);
+      w2a.set(w1);
+      const c1 = arena.vector(2 * count);
+      const c2 = arena.vector(2 * count);
+      one.project(w1, set, count, isComplex, c1);
+      two.project(w2a, set, count, isComplex, c2);
+      for (let i = 0; i < 2 * count; i++) expect(Math.abs(c2[i] - c1[i])).toBeLessThan(1e-11);
+      const n1 = arena.vector(2 * count);
+      const n2 = arena.vector(2 * count);
+      const norm1 = one.subtract(w1, set, count, isComplex, c1, n1);
+      const norm2 = two.subtract(w2a, set, count, isComplex, c1, n2);
+      expect(Array.from(w2a)).toEqual(Array.from(w1)); // entry-wise updates: identical
+      expect(Math.abs(norm2 - norm1)).toBeLessThan(1e-12 * norm1);
+      for (let i = 0; i < 2 * count; i++) expect(Math.abs(n2[i] - n1[i])).toBeLessThan(1e-9);
+      const y = fill(arena.vector(count * count), 9);
+      const copy = set.map((v) => {
+        const c = arena.vector(length);
+        c.set(v);
+        return c;
+      });
+      one.combine(set, count, y, count, 4, arena.vector(4 * BLOCK));
+      two.combine(copy, count, y, count, 4, arena.vector(4 * BLOCK));
+      for (let c = 0; c < count; c++) expect(Array.from(copy[c])).toEqual(Array.from(set[c]));
+    } finally {
+      two.team?.close();
+    }
+  });
+
+  it('the solver finds the same eigenvalues with its kernels on two threads', () => {
+    const raw = randomPinnedSpec(91, 11, 3);
+    raw.levels.phase = raw.levels.phase.map(() => 0);
+    const spec = validateSpec(clean(raw));
+    const model = buildModel(spec);
+    const op = new PinnedOperator(model, buildBasis(model) as never);
+    expect(op.dim).toBeGreaterThanOrEqual(1 << 17);
+    const options = { states: 3, tolerance: 1e-9, seed: 4 };
+    const single = lowestEigenpairs(op, { ...options, threads: 1 });
+    const double = lowestEigenpairs(op, { ...options, threads: 2 });
+    expect(single.threads).toBe(1);
+    expect(double.threads).toBe(2);
+    expect(single.converged && double.converged).toBe(true);
+    for (let k = 0; k < 3; k++) expect(Math.abs(double.values[k] - single.values[k])).toBeLessThan(1e-9);
+    for (const r of double.residuals) expect(r).toBeLessThanOrEqual(1e-9);
+  }, 120_000);
+});
