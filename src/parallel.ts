@@ -9,7 +9,7 @@ import type { PinnedBasis } from './basis.js';
 import type { Model } from './model.js';
 import type { HermitianOperator } from './operator.js';
 import { CsrOperator } from './operator/csr.js';
-import { PinnedOperator } from './operator/pinned.js';
+import { PinnedOperator, type BlockPlacement } from './operator/pinned.js';
 import { VectorArena } from './simd.js';
 
 /** An operator that can write any slice [lo, hi) of its product on its own. */
@@ -101,7 +101,9 @@ export class ThreadedOperator implements HermitianOperator {
     const arena = VectorArena.create();
     this.x = arena ? arena.vector(length) : new Float64Array(new SharedArrayBuffer(8 * length));
     this.y = arena ? arena.vector(length) : new Float64Array(new SharedArrayBuffer(8 * length));
-    const shared = arena ? { memory: arena.memory, used: arena.used, xAt: this.x.byteOffset, yAt: this.y.byteOffset, length } : null;
+    // The pinned block pass reads its data from the same memory; place it before the workers start.
+    const placement = arena && local instanceof PinnedOperator ? local.placementIn(arena) : null;
+    const shared = arena ? { memory: arena.memory, used: arena.used, xAt: this.x.byteOffset, yAt: this.y.byteOffset, length, placement } : null;
     this.bounds = splitRows(local, threads);
     // From dist/src the worker is dist/workers; tests that load src/*.ts directly use the built one.
     const script = new URL(import.meta.url.endsWith('.ts') ? '../dist/workers/product.js' : '../workers/product.js', import.meta.url);
@@ -152,7 +154,7 @@ export function runProductWorker(data: {
   x: Float64Array;
   y: Float64Array;
   /** The caller's arena, when x and y live in one: the views are rebuilt over it here. */
-  shared: { memory: WebAssembly.Memory; used: number; xAt: number; yAt: number; length: number } | null;
+  shared: { memory: WebAssembly.Memory; used: number; xAt: number; yAt: number; length: number; placement: BlockPlacement | null } | null;
   lo: number;
   hi: number;
 }): void {
@@ -163,6 +165,7 @@ export function runProductWorker(data: {
   if (arena && data.shared) {
     x = arena.view(data.shared.xAt, data.shared.length);
     y = arena.view(data.shared.yAt, data.shared.length);
+    if (data.shared.placement && op instanceof PinnedOperator) op.adopt(arena, data.shared.placement);
   }
   let generation = Atomics.load(c, GENERATION);
   Atomics.add(c, READY, 1);

@@ -22,6 +22,9 @@ export interface WasmKernels {
   axpy(y: number, x: number, h: number, count: number): void;
   /** Complex y += (hr + i hi) x over `count` interleaved complex entries. */
   caxpy(y: number, x: number, hr: number, hi: number, count: number): void;
+  /** The pinned operator's block pass over rows [lo, hi) (see vector.wat). */
+  blockPassReal(y: number, x: number, diag: number, rs: number, col: number, val: number, B: number, lo: number, hi: number): void;
+  blockPassComplex(y: number, x: number, diag: number, rs: number, col: number, re: number, im: number, B: number, lo: number, hi: number): void;
 }
 
 /** Which arena owns a buffer (every buffer an arena's memory has shown, after each growth). */
@@ -61,7 +64,13 @@ export class VectorArena {
   private top: number;
   private table: Int32Array | null = null;
 
-  private constructor(module: WebAssembly.Module, memory: WebAssembly.Memory, top: number) {
+  private constructor(
+    module: WebAssembly.Module,
+    memory: WebAssembly.Memory,
+    top: number,
+    /** False for an arena attached to another thread's memory: it only runs kernels. */
+    readonly allocates: boolean,
+  ) {
     this.memory = memory;
     this.wasm = new WebAssembly.Instance(module, { env: { memory } }).exports as unknown as WasmKernels;
     this.top = top;
@@ -78,7 +87,7 @@ export class VectorArena {
     const module = kernelModule();
     if (!module) return null;
     try {
-      return new VectorArena(module, new WebAssembly.Memory({ initial: 1, maximum: MAX_PAGES, shared: true }), 0);
+      return new VectorArena(module, new WebAssembly.Memory({ initial: 1, maximum: MAX_PAGES, shared: true }), 0, true);
     } catch {
       return null;
     }
@@ -94,7 +103,7 @@ export class VectorArena {
     const module = kernelModule();
     if (!module) return null;
     try {
-      return new VectorArena(module, memory, used);
+      return new VectorArena(module, memory, used, false);
     } catch {
       return null;
     }
@@ -111,6 +120,7 @@ export class VectorArena {
   }
 
   private reserve(bytes: number): number | null {
+    if (!this.allocates) return null;
     const at = Math.ceil(this.top / ALIGN) * ALIGN;
     const needed = at + bytes;
     const have = this.memory.buffer.byteLength;
@@ -134,6 +144,17 @@ export class VectorArena {
     const at = this.reserve(8 * padded);
     if (at === null) return new Float64Array(length);
     return new Float64Array(this.memory.buffer, at, length);
+  }
+
+  /** A copy of a constant array in the arena (for kernels that read it), or null when there is no room. */
+  copyOf<T extends Float64Array | Int32Array>(source: T): T | null {
+    const at = this.reserve(source.byteLength);
+    if (at === null) return null;
+    const copy = (source instanceof Float64Array
+      ? new Float64Array(this.memory.buffer, at, source.length)
+      : new Int32Array(this.memory.buffer, at, source.length)) as T;
+    copy.set(source as never);
+    return copy;
   }
 
   private int32s(count: number): Int32Array {

@@ -3,7 +3,16 @@
 import type { PinnedBasis } from '../basis.js';
 import type { Model } from '../model.js';
 import type { HermitianOperator } from '../operator.js';
-import { arenaHolding } from '../simd.js';
+import { arenaHolding, type VectorArena } from '../simd.js';
+
+/** Byte offsets of the block pass's data copied into an arena (see PinnedOperator.placementIn). */
+export interface BlockPlacement {
+  diag: number;
+  rowStart: number;
+  column: number;
+  re: number;
+  im: number;
+}
 
 /** Runs at least this long go to the SIMD kernel when x and y live in an arena. */
 const SIMD_RUN = 16;
@@ -43,6 +52,9 @@ export class PinnedOperator implements HermitianOperator {
   private readonly blockColumn: Int32Array;
   private readonly blockRe: Float64Array;
   private readonly blockIm: Float64Array;
+
+  /** Where each arena holds this operator's block-pass data (null: no room, plain loops serve). */
+  private readonly placements = new WeakMap<VectorArena, BlockPlacement | null>();
 
   /** `diagonal`, when given, is used as is (threads share one diagonal in shared memory). */
   constructor(model: Model, basis: PinnedBasis, diagonal?: Float64Array) {
@@ -146,6 +158,34 @@ export class PinnedOperator implements HermitianOperator {
   }
 
   /**
+   * The block pass's data (diagonal and the block's sparse rows) in `arena`, copied there on
+   * first use so the SIMD module can read it beside x and y. An arena attached from another
+   * thread cannot allocate: it gets the placement its owner made through `adopt`.
+   */
+  placementIn(arena: VectorArena): BlockPlacement | null {
+    const known = this.placements.get(arena);
+    if (known !== undefined) return known;
+    let placement: BlockPlacement | null = null;
+    if (arena.allocates) {
+      const diag = arena.copyOf(this.diagonal);
+      const rowStart = arena.copyOf(this.blockRowStart);
+      const column = arena.copyOf(this.blockColumn);
+      const re = arena.copyOf(this.blockRe);
+      const im = arena.copyOf(this.blockIm);
+      if (diag && rowStart && column && re && im) {
+        placement = { diag: diag.byteOffset, rowStart: rowStart.byteOffset, column: column.byteOffset, re: re.byteOffset, im: im.byteOffset };
+      }
+    }
+    this.placements.set(arena, placement);
+    return placement;
+  }
+
+  /** Use a placement another thread made in the memory `arena` is attached to. */
+  adopt(arena: VectorArena, placement: BlockPlacement): void {
+    this.placements.set(arena, placement);
+  }
+
+  /**
    * Writes rows [lo, hi) of y = H x and nothing else, so threads sharing x can each own a slice
    * of y. Every term is a set of contiguous runs y[d..d+S) += h x[d+shift..]; runs are clipped
    * to the slice, and blocks that cannot reach it are skipped.
@@ -157,7 +197,9 @@ export class PinnedOperator implements HermitianOperator {
 
   private applyRealRange(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
     const N = this.N;
-    const wasm = arenaHolding(x, y)?.wasm;
+    const arena = arenaHolding(x, y);
+    const wasm = arena?.wasm;
+    const placed = arena ? this.placementIn(arena) : null;
     const xAt = x.byteOffset;
     const yAt = y.byteOffset;
     const diag = this.diagonal;
@@ -166,7 +208,8 @@ export class PinnedOperator implements HermitianOperator {
     const rs = this.blockRowStart;
     const col = this.blockColumn;
     const val = this.blockRe;
-    for (let base = lo - (lo % B); base < hi; base += B) {
+    if (wasm && placed) wasm.blockPassReal(yAt, xAt, placed.diag, placed.rowStart, placed.column, placed.re, B, lo, hi);
+    else for (let base = lo - (lo % B); base < hi; base += B) {
       const r0 = base < lo ? lo - base : 0;
       const r1 = base + B > hi ? hi - base : B;
       for (let r = r0; r < r1; r++) {
@@ -230,7 +273,9 @@ export class PinnedOperator implements HermitianOperator {
 
   private applyComplexRange(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
     const N = this.N;
-    const wasm = arenaHolding(x, y)?.wasm;
+    const arena = arenaHolding(x, y);
+    const wasm = arena?.wasm;
+    const placed = arena ? this.placementIn(arena) : null;
     const xAt = x.byteOffset;
     const yAt = y.byteOffset;
     const diag = this.diagonal;
@@ -239,7 +284,9 @@ export class PinnedOperator implements HermitianOperator {
     const col = this.blockColumn;
     const vr = this.blockRe;
     const vi = this.blockIm;
-    for (let base = lo - (lo % B); base < hi; base += B) {
+    if (wasm && placed) {
+      wasm.blockPassComplex(yAt, xAt, placed.diag, placed.rowStart, placed.column, placed.re, placed.im, B, lo, hi);
+    } else for (let base = lo - (lo % B); base < hi; base += B) {
       const r0 = base < lo ? lo - base : 0;
       const r1 = base + B > hi ? hi - base : B;
       for (let r = r0; r < r1; r++) {

@@ -270,6 +270,81 @@
       (br $rows)))
   )
 
+  ;; The pinned operator's block pass over rows [lo, hi): y[s] = diag[s] x[s] + sum_k val[k] x[base + col[k]]
+  ;; for the rows r = s - base of one cached block of B states (the same sparse rows in every
+  ;; block). Scalar, in the same order as the JavaScript loop, so both give the same bits.
+  (func (export "blockPassReal") (param $y i32) (param $x i32) (param $diag i32) (param $rs i32) (param $col i32) (param $val i32)
+      (param $B i32) (param $lo i32) (param $hi i32)
+    (local $base i32) (local $r i32) (local $r1 i32) (local $s i32) (local $k i32) (local $end i32) (local $acc f64) (local $xb i32)
+    (local.set $base (i32.sub (local.get $lo) (i32.rem_u (local.get $lo) (local.get $B))))
+    (block $blocksDone (loop $blocks
+      (br_if $blocksDone (i32.ge_u (local.get $base) (local.get $hi)))
+      (local.set $r (select (i32.sub (local.get $lo) (local.get $base)) (i32.const 0) (i32.lt_u (local.get $base) (local.get $lo))))
+      (local.set $r1 (select (i32.sub (local.get $hi) (local.get $base)) (local.get $B)
+        (i32.gt_u (i32.add (local.get $base) (local.get $B)) (local.get $hi))))
+      (local.set $xb (i32.add (local.get $x) (i32.shl (local.get $base) (i32.const 3))))
+      (block $rowsDone (loop $rows
+        (br_if $rowsDone (i32.ge_u (local.get $r) (local.get $r1)))
+        (local.set $s (i32.shl (i32.add (local.get $base) (local.get $r)) (i32.const 3)))
+        (local.set $acc (f64.mul (f64.load (i32.add (local.get $diag) (local.get $s))) (f64.load (i32.add (local.get $x) (local.get $s)))))
+        (local.set $k (i32.load (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 2)))))
+        (local.set $end (i32.load offset=4 (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 2)))))
+        (block $termsDone (loop $terms
+          (br_if $termsDone (i32.ge_u (local.get $k) (local.get $end)))
+          (local.set $acc (f64.add (local.get $acc) (f64.mul
+            (f64.load (i32.add (local.get $val) (i32.shl (local.get $k) (i32.const 3))))
+            (f64.load (i32.add (local.get $xb) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 3)))))))
+          (local.set $k (i32.add (local.get $k) (i32.const 1)))
+          (br $terms)))
+        (f64.store (i32.add (local.get $y) (local.get $s)) (local.get $acc))
+        (local.set $r (i32.add (local.get $r) (i32.const 1)))
+        (br $rows)))
+      (local.set $base (i32.add (local.get $base) (local.get $B)))
+      (br $blocks)))
+  )
+
+  ;; The same for complex vectors (interleaved re, im) with complex entries (re[k], im[k]):
+  ;; accR += hr xr - hi xi, accI += hr xi + hi xr, as the JavaScript loop adds them.
+  (func (export "blockPassComplex") (param $y i32) (param $x i32) (param $diag i32) (param $rs i32) (param $col i32) (param $re i32)
+      (param $im i32) (param $B i32) (param $lo i32) (param $hi i32)
+    (local $base i32) (local $r i32) (local $r1 i32) (local $s i32) (local $k i32) (local $end i32) (local $xb i32)
+    (local $accR f64) (local $accI f64) (local $d f64) (local $hr f64) (local $hi_ f64) (local $xr f64) (local $xi f64) (local $c i32)
+    (local.set $base (i32.sub (local.get $lo) (i32.rem_u (local.get $lo) (local.get $B))))
+    (block $blocksDone (loop $blocks
+      (br_if $blocksDone (i32.ge_u (local.get $base) (local.get $hi)))
+      (local.set $r (select (i32.sub (local.get $lo) (local.get $base)) (i32.const 0) (i32.lt_u (local.get $base) (local.get $lo))))
+      (local.set $r1 (select (i32.sub (local.get $hi) (local.get $base)) (local.get $B)
+        (i32.gt_u (i32.add (local.get $base) (local.get $B)) (local.get $hi))))
+      (local.set $xb (i32.add (local.get $x) (i32.shl (local.get $base) (i32.const 4))))
+      (block $rowsDone (loop $rows
+        (br_if $rowsDone (i32.ge_u (local.get $r) (local.get $r1)))
+        (local.set $s (i32.add (local.get $base) (local.get $r)))
+        (local.set $d (f64.load (i32.add (local.get $diag) (i32.shl (local.get $s) (i32.const 3)))))
+        (local.set $c (i32.add (local.get $x) (i32.shl (local.get $s) (i32.const 4))))
+        (local.set $accR (f64.mul (local.get $d) (f64.load (local.get $c))))
+        (local.set $accI (f64.mul (local.get $d) (f64.load offset=8 (local.get $c))))
+        (local.set $k (i32.load (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 2)))))
+        (local.set $end (i32.load offset=4 (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 2)))))
+        (block $termsDone (loop $terms
+          (br_if $termsDone (i32.ge_u (local.get $k) (local.get $end)))
+          (local.set $c (i32.add (local.get $xb) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 4))))
+          (local.set $hr (f64.load (i32.add (local.get $re) (i32.shl (local.get $k) (i32.const 3)))))
+          (local.set $hi_ (f64.load (i32.add (local.get $im) (i32.shl (local.get $k) (i32.const 3)))))
+          (local.set $xr (f64.load (local.get $c)))
+          (local.set $xi (f64.load offset=8 (local.get $c)))
+          (local.set $accR (f64.add (local.get $accR) (f64.sub (f64.mul (local.get $hr) (local.get $xr)) (f64.mul (local.get $hi_) (local.get $xi)))))
+          (local.set $accI (f64.add (local.get $accI) (f64.add (f64.mul (local.get $hr) (local.get $xi)) (f64.mul (local.get $hi_) (local.get $xr)))))
+          (local.set $k (i32.add (local.get $k) (i32.const 1)))
+          (br $terms)))
+        (local.set $c (i32.add (local.get $y) (i32.shl (local.get $s) (i32.const 4))))
+        (f64.store (local.get $c) (local.get $accR))
+        (f64.store offset=8 (local.get $c) (local.get $accI))
+        (local.set $r (i32.add (local.get $r) (i32.const 1)))
+        (br $rows)))
+      (local.set $base (i32.add (local.get $base) (local.get $B)))
+      (br $blocks)))
+  )
+
   ;; sum_t w[t]^2
   (func (export "normSquared") (param $w i32) (param $start i32) (param $end i32) (result f64)
     (local $t i32) (local $stop i32) (local $s v128) (local $x v128)
