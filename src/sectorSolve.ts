@@ -8,6 +8,7 @@ import { SpecError } from './errors.js';
 import type { Model } from './model.js';
 import { buildSectorOperator } from './operator/sector.js';
 import { withThreads } from './parallel.js';
+import { VectorArena } from './simd.js';
 import { degeneracyWindow, denseThresholdFor, lowestEigenpairs, type EigenOptions } from './solver.js';
 import { IndexActions, planSectors, type SectorLabel, type SectorSelection, type SymmetryName } from './symmetry.js';
 
@@ -118,7 +119,9 @@ export function solveInSectors(
   for (const plan of plans) {
     const sector = new SectorBasis(orbitsFor(plan.label), plan.label);
     if (sector.dim === 0) continue;
-    const stored = buildSectorOperator(model, basis, sector);
+    // The matrix and the solver's vectors share one arena, so products run in WebAssembly.
+    const arena = VectorArena.create();
+    const stored = buildSectorOperator(model, basis, sector, arena);
     const threads = opts.threadsFor ? opts.threadsFor(stored.nonzeros()) : 1;
     const op = withThreads(stored, threads);
     try {
@@ -133,6 +136,7 @@ export function solveInSectors(
       const base: EigenOptions = {
         states: 1,
         threads,
+        arena,
         denseThreshold: denseThresholdFor(Math.min(states, sector.dim)),
         tolerance: opts.tolerance,
         maxMatvecs: opts.maxMatvecs,

@@ -22,6 +22,8 @@ export interface WasmKernels {
   axpy(y: number, x: number, h: number, count: number): void;
   /** Complex y += (hr + i hi) x over `count` interleaved complex entries. */
   caxpy(y: number, x: number, hr: number, hi: number, count: number): void;
+  csrReal(y: number, x: number, rs: number, col: number, val: number, lo: number, hi: number): void;
+  csrComplex(y: number, x: number, rs: number, col: number, re: number, im: number, lo: number, hi: number): void;
   /** The pinned operator's block pass over rows [lo, hi) (see vector.wat). */
   blockPassReal(y: number, x: number, diag: number, rs: number, col: number, val: number, B: number, lo: number, hi: number): void;
   blockPassComplex(y: number, x: number, diag: number, rs: number, col: number, re: number, im: number, B: number, lo: number, hi: number): void;
@@ -31,7 +33,7 @@ export interface WasmKernels {
 const owners = new WeakMap<ArrayBufferLike, VectorArena>();
 
 /** The arena holding both vectors, or null (then plain loops must serve). */
-export function arenaHolding(x: Float64Array, y: Float64Array): VectorArena | null {
+export function arenaHolding(x: Float64Array | Int32Array, y: Float64Array | Int32Array): VectorArena | null {
   const arena = owners.get(x.buffer);
   return arena && owners.get(y.buffer) === arena ? arena : null;
 }
@@ -163,7 +165,22 @@ export class VectorArena {
     return new Int32Array(this.memory.buffer, at, count);
   }
 
-  owns(v: Float64Array): boolean {
+  /** The allocation point, to hand back with `release` once everything allocated after it is dropped. */
+  mark(): number {
+    return this.top;
+  }
+
+  /** Frees everything allocated since `mark` (views of it must no longer be used). */
+  release(mark: number): void {
+    if (mark <= this.top) this.top = mark;
+    this.table = null;
+    this.epoch++;
+  }
+
+  /** Bumped by every `release`: offsets recorded earlier may now point at reused memory. */
+  epoch = 0;
+
+  owns(v: Float64Array | Int32Array): boolean {
     return this.buffers.has(v.buffer);
   }
 

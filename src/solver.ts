@@ -43,6 +43,12 @@ export interface EigenOptions {
    */
   verifyDegeneracy?: boolean;
   /**
+   * An arena to keep the Lanczos vectors in (the one the operator's matrix lives in, so its
+   * product runs in WebAssembly); what the solve allocates there is released at the end.
+   * Default: a fresh arena per solve.
+   */
+  arena?: VectorArena | null;
+  /**
    * Threads for the vector kernels (default 1). More pay off only for long vectors (see
    * TEAM_MIN_LENGTH); the caller passes what the operator's product may use.
    */
@@ -717,7 +723,10 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   const tolerance = opts.tolerance;
   const lanczos = dim > (opts.denseThreshold ?? DEFAULT_DENSE_THRESHOLD);
   // One arena per solve: the Lanczos basis lives in it; results are copied out at the end.
-  const kernels = lanczos && length >= ARENA_MIN_LENGTH ? new VectorKernels(VectorArena.create()) : plainKernels;
+  const given = opts.arena && opts.arena.allocates ? opts.arena : null;
+  const arena = lanczos && length >= ARENA_MIN_LENGTH ? (given ?? VectorArena.create()) : null;
+  const kernels = arena ? new VectorKernels(arena) : plainKernels;
+  const mark = given?.mark();
   if (kernels.arena && (opts.threads ?? 1) > 1 && length >= TEAM_MIN_LENGTH) {
     kernels.team = KernelTeam.start(kernels.arena, opts.threads as number);
   }
@@ -725,6 +734,7 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
     return { ...solveWith(op, opts, kernels, lanczos), threads: kernels.team?.threads ?? 1 };
   } finally {
     kernels.team?.close();
+    if (given && mark !== undefined) given.release(mark);
   }
 }
 

@@ -1,6 +1,7 @@
 // Stored sparse matrices in compressed rows.
 
 import type { HermitianOperator } from '../operator.js';
+import { arenaHolding, type VectorArena } from '../simd.js';
 
 /**
  * A stored sparse Hermitian matrix in compressed rows (full rows, both triangles), for bases whose
@@ -24,8 +25,29 @@ export class CsrOperator implements HermitianOperator {
     this.applyRange(x, y, 0, this.dim);
   }
 
+  /** The arena holding the matrix (built there by `CsrBuilder.finish(arena)`), if any. */
+  get arena(): VectorArena | null {
+    return arenaHolding(this.valuesRe, this.valuesRe);
+  }
+
   /** Rows [lo, hi) of y = H x only, so threads can share one product. */
   applyRange(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
+    const rs = this.rowStart;
+    const col = this.columns;
+    const vr = this.valuesRe;
+    const vi = this.valuesIm;
+    // Matrix, x and y in one arena: the WebAssembly loop (same order of operations, same bits).
+    const arena = arenaHolding(x, y);
+    if (arena && arena.owns(vr) && arena.owns(rs) && (col.length === 0 || arena.owns(col as never))) {
+      if (vi === null) arena.wasm.csrReal(y.byteOffset, x.byteOffset, rs.byteOffset, col.byteOffset, vr.byteOffset, lo, hi);
+      else if (arena.owns(vi)) arena.wasm.csrComplex(y.byteOffset, x.byteOffset, rs.byteOffset, col.byteOffset, vr.byteOffset, vi.byteOffset, lo, hi);
+      else this.applyPlain(x, y, lo, hi);
+      return;
+    }
+    this.applyPlain(x, y, lo, hi);
+  }
+
+  private applyPlain(x: Float64Array, y: Float64Array, lo: number, hi: number): void {
     const rs = this.rowStart;
     const col = this.columns;
     const vr = this.valuesRe;
@@ -89,9 +111,19 @@ export class CsrBuilder {
     this.rowStart[this.row] = this.size;
   }
 
-  finish(): CsrOperator {
+  /**
+   * The matrix in shared memory, so a product can be split across worker threads without copying
+   * it; with `arena`, in that arena's memory (for the SIMD module), unless it has no room left.
+   */
+  finish(arena?: VectorArena | null): CsrOperator {
     if (this.row !== this.dim) throw new Error(`CsrBuilder: ${this.row} rows ended, expected ${this.dim}`);
-    // Shared memory, so a product can be split across worker threads without copying the matrix.
+    if (arena) {
+      const rowStart = arena.copyOf(this.rowStart);
+      const columns = arena.copyOf(this.columns.subarray(0, this.size));
+      const re = arena.copyOf(this.re.subarray(0, this.size));
+      const im = this.im ? arena.copyOf(this.im.subarray(0, this.size)) : null;
+      if (rowStart && columns && re && (im || !this.im)) return new CsrOperator(this.dim, this.isComplex, rowStart, columns, re, im);
+    }
     return new CsrOperator(
       this.dim,
       this.isComplex,

@@ -54,7 +54,7 @@ export class PinnedOperator implements HermitianOperator {
   private readonly blockIm: Float64Array;
 
   /** Where each arena holds this operator's block-pass data (null: no room, plain loops serve). */
-  private readonly placements = new WeakMap<VectorArena, BlockPlacement | null>();
+  private readonly placements = new WeakMap<VectorArena, { placement: BlockPlacement | null; epoch: number }>();
 
   /** `diagonal`, when given, is used as is (threads share one diagonal in shared memory). */
   constructor(model: Model, basis: PinnedBasis, diagonal?: Float64Array) {
@@ -164,7 +164,7 @@ export class PinnedOperator implements HermitianOperator {
    */
   placementIn(arena: VectorArena): BlockPlacement | null {
     const known = this.placements.get(arena);
-    if (known !== undefined) return known;
+    if (known !== undefined && known.epoch === arena.epoch) return known.placement;
     let placement: BlockPlacement | null = null;
     if (arena.allocates) {
       const diag = arena.copyOf(this.diagonal);
@@ -176,13 +176,13 @@ export class PinnedOperator implements HermitianOperator {
         placement = { diag: diag.byteOffset, rowStart: rowStart.byteOffset, column: column.byteOffset, re: re.byteOffset, im: im.byteOffset };
       }
     }
-    this.placements.set(arena, placement);
+    this.placements.set(arena, { placement, epoch: arena.epoch });
     return placement;
   }
 
   /** Use a placement another thread made in the memory `arena` is attached to. */
   adopt(arena: VectorArena, placement: BlockPlacement): void {
-    this.placements.set(arena, placement);
+    this.placements.set(arena, { placement, epoch: arena.epoch });
   }
 
   /**

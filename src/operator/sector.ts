@@ -3,6 +3,7 @@
 import type { PinnedBasis } from '../basis.js';
 import type { SectorBasis } from '../basis/sectors.js';
 import type { Model } from '../model.js';
+import type { VectorArena } from '../simd.js';
 import { CsrBuilder, type CsrOperator } from './csr.js';
 import { columnBuffer, PinnedColumns } from './pinnedRows.js';
 
@@ -11,7 +12,7 @@ import { columnBuffer, PinnedColumns } from './pinnedRows.js';
  * sum_s <s|H|r_a> chi(g_s) sqrt(n_b/n_a) |r~_b> with s = g_s r_b, so each row comes from the
  * column of its own representative, conjugated.
  */
-export function buildSectorOperator(model: Model, basis: PinnedBasis, sector: SectorBasis): CsrOperator {
+export function buildSectorOperator(model: Model, basis: PinnedBasis, sector: SectorBasis, arena?: VectorArena | null): CsrOperator {
   const isComplex = model.isComplex || sector.complexCharacters;
   const columns = new PinnedColumns(model, basis);
   const buf = columnBuffer(model);
@@ -41,5 +42,5 @@ export function buildSectorOperator(model: Model, basis: PinnedBasis, sector: Se
     }
     builder.endRow();
   }
-  return builder.finish();
+  return builder.finish(arena);
 }

@@ -345,6 +345,60 @@
       (br $blocks)))
   )
 
+  ;; A stored sparse matrix in compressed rows, rows [lo, hi): y[r] = sum_k val[k] x[col[k]] (row
+  ;; starts are doubles, as in CsrOperator). Scalar, in the JavaScript loop's order: same bits.
+  (func (export "csrReal") (param $y i32) (param $x i32) (param $rs i32) (param $col i32) (param $val i32) (param $lo i32) (param $hi i32)
+    (local $r i32) (local $k i32) (local $end i32) (local $acc f64)
+    (local.set $r (local.get $lo))
+    (local.set $end (i32.trunc_f64_u (f64.load (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 3))))))
+    (block $rowsDone (loop $rows
+      (br_if $rowsDone (i32.ge_u (local.get $r) (local.get $hi)))
+      (local.set $k (local.get $end))
+      (local.set $end (i32.trunc_f64_u (f64.load offset=8 (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 3))))))
+      (local.set $acc (f64.const 0))
+      (block $termsDone (loop $terms
+        (br_if $termsDone (i32.ge_u (local.get $k) (local.get $end)))
+        (local.set $acc (f64.add (local.get $acc) (f64.mul
+          (f64.load (i32.add (local.get $val) (i32.shl (local.get $k) (i32.const 3))))
+          (f64.load (i32.add (local.get $x) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 3)))))))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $terms)))
+      (f64.store (i32.add (local.get $y) (i32.shl (local.get $r) (i32.const 3))) (local.get $acc))
+      (local.set $r (i32.add (local.get $r) (i32.const 1)))
+      (br $rows)))
+  )
+
+  ;; The same with complex entries (re[k], im[k]) and interleaved complex vectors.
+  (func (export "csrComplex") (param $y i32) (param $x i32) (param $rs i32) (param $col i32) (param $re i32) (param $im i32)
+      (param $lo i32) (param $hi i32)
+    (local $r i32) (local $k i32) (local $end i32) (local $accR f64) (local $accI f64) (local $c i32)
+    (local $hr f64) (local $hi_ f64) (local $xr f64) (local $xi f64)
+    (local.set $r (local.get $lo))
+    (local.set $end (i32.trunc_f64_u (f64.load (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 3))))))
+    (block $rowsDone (loop $rows
+      (br_if $rowsDone (i32.ge_u (local.get $r) (local.get $hi)))
+      (local.set $k (local.get $end))
+      (local.set $end (i32.trunc_f64_u (f64.load offset=8 (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 3))))))
+      (local.set $accR (f64.const 0))
+      (local.set $accI (f64.const 0))
+      (block $termsDone (loop $terms
+        (br_if $termsDone (i32.ge_u (local.get $k) (local.get $end)))
+        (local.set $c (i32.add (local.get $x) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 4))))
+        (local.set $hr (f64.load (i32.add (local.get $re) (i32.shl (local.get $k) (i32.const 3)))))
+        (local.set $hi_ (f64.load (i32.add (local.get $im) (i32.shl (local.get $k) (i32.const 3)))))
+        (local.set $xr (f64.load (local.get $c)))
+        (local.set $xi (f64.load offset=8 (local.get $c)))
+        (local.set $accR (f64.add (local.get $accR) (f64.sub (f64.mul (local.get $hr) (local.get $xr)) (f64.mul (local.get $hi_) (local.get $xi)))))
+        (local.set $accI (f64.add (local.get $accI) (f64.add (f64.mul (local.get $hr) (local.get $xi)) (f64.mul (local.get $hi_) (local.get $xr)))))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $terms)))
+      (local.set $c (i32.add (local.get $y) (i32.shl (local.get $r) (i32.const 4))))
+      (f64.store (local.get $c) (local.get $accR))
+      (f64.store offset=8 (local.get $c) (local.get $accI))
+      (local.set $r (i32.add (local.get $r) (i32.const 1)))
+      (br $rows)))
+  )
+
   ;; sum_t w[t]^2
   (func (export "normSquared") (param $w i32) (param $start i32) (param $end i32) (result f64)
     (local $t i32) (local $stop i32) (local $s v128) (local $x v128)

@@ -1,0 +1,80 @@
+import { Matrix } from 'ml-matrix';
+import { describe, expect, it } from 'vitest';
+import { CsrBuilder } from '../../src/operator/csr.js';
+import { VectorArena } from '../../src/simd.js';
+import { rng } from '../support/random.js';
+
+// A stored matrix built in an arena runs its product in WebAssembly; it must give the plain loop's
+// bits (same multiply-adds in the same order) and the dense product (ml-matrix) to rounding.
+describe('stored matrices in an arena', () => {
+  it.each([false, true])('random sparse Hermitian matrix, complex %s', (isComplex) => {
+    const n = 700;
+    const r = rng(isComplex ? 12 : 11);
+    const re = new Matrix(n, n);
+    const im = new Matrix(n, n);
+    for (let i = 0; i < n; i++) {
+      re.set(i, i, r() - 0.5);
+      for (let e = 0; e < 6; e++) {
+        const j = Math.floor(r() * n);
+        if (j === i) continue;
+        const a = r() - 0.5;
+        const b = isComplex ? r() - 0.5 : 0;
+        re.set(i, j, re.get(i, j) + a);
+        re.set(j, i, re.get(j, i) + a);
+        im.set(i, j, im.get(i, j) + b);
+        im.set(j, i, im.get(j, i) - b);
+      }
+    }
+    const build = () => {
+      const builder = new CsrBuilder(n, isComplex);
+      for (let i = 0; i < n; i++) {
+        for (let j = 0; j < n; j++) if (re.get(i, j) !== 0 || im.get(i, j) !== 0) builder.add(j, re.get(i, j), im.get(i, j));
+        builder.endRow();
+      }
+      return builder;
+    };
+    const arena = VectorArena.create();
+    if (!arena) throw new Error('this runtime cannot instantiate the SIMD kernels (Node 20 can)');
+    const plain = build().finish();
+    const inArena = build().finish(arena);
+    expect(arena.owns(inArena.valuesRe)).toBe(true);
+    expect(inArena.arena).toBe(arena);
+    const c = isComplex ? 2 : 1;
+    const x = arena.vector(c * n);
+    for (let k = 0; k < x.length; k++) x[k] = r() - 0.5;
+    const yPlain = new Float64Array(c * n);
+    const yArena = arena.vector(c * n);
+    plain.apply(Float64Array.from(x), yPlain);
+    inArena.apply(x, yArena);
+    expect(Array.from(yArena)).toEqual(Array.from(yPlain));
+    let worst = 0;
+    for (let i = 0; i < n; i++) {
+      let sr = 0;
+      let si = 0;
+      for (let j = 0; j < n; j++) {
+        const xr = x[c * j];
+        const xi = isComplex ? x[c * j + 1] : 0;
+        sr += re.get(i, j) * xr - im.get(i, j) * xi;
+        si += re.get(i, j) * xi + im.get(i, j) * xr;
+      }
+      worst = Math.max(worst, Math.abs(sr - yArena[c * i]), isComplex ? Math.abs(si - yArena[c * i + 1]) : 0);
+    }
+    expect(worst).toBeLessThan(1e-13);
+  });
+});
+
+describe('arena marks', () => {
+  it('release hands back what was allocated after the mark and bumps the epoch', () => {
+    const arena = VectorArena.create();
+    if (!arena) throw new Error('this runtime cannot instantiate the SIMD kernels (Node 20 can)');
+    const kept = arena.vector(1000);
+    const mark = arena.mark();
+    const epoch = arena.epoch;
+    const first = arena.vector(5000);
+    arena.release(mark);
+    expect(arena.epoch).toBe(epoch + 1);
+    const again = arena.vector(5000);
+    expect(again.byteOffset).toBe(first.byteOffset);
+    expect(again.byteOffset).toBeGreaterThanOrEqual(kept.byteOffset + 8 * 1000);
+  });
+});
