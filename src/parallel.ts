@@ -10,7 +10,7 @@ import type { Model } from './model.js';
 import type { HermitianOperator } from './operator.js';
 import { CsrOperator } from './operator/csr.js';
 import { PinnedOperator, type BlockPlacement } from './operator/pinned.js';
-import { VectorArena } from './simd.js';
+import { arenaHolding, VectorArena } from './simd.js';
 
 /** An operator that can write any slice [lo, hi) of its product on its own. */
 export interface RangeOperator extends HermitianOperator {
@@ -50,6 +50,9 @@ const GENERATION = 0; // bumped by the caller for every product
 const DONE = 1; // workers that finished the current product
 const COMMAND = 2; // RUN or STOP
 const READY = 3; // workers that have started
+const X_AT = 4; // byte offsets of this product's x and y in the arena
+const Y_AT = 5;
+const WORDS = 6;
 const RUN = 1;
 const STOP = 2;
 
@@ -77,10 +80,26 @@ function splitRows(op: RangeOperator, threads: number): number[] {
   return bounds;
 }
 
+/** Where a worker finds the shared operator's pieces in the arena's memory (byte offsets). */
+interface SharedArena {
+  memory: WebAssembly.Memory;
+  used: number;
+  length: number;
+  placement: BlockPlacement | null;
+  /** A stored matrix that lives in the arena: its arrays, rebuilt as views there. */
+  csr: { rowStart: number; columns: number; re: number; im: number | null; nonzeros: number } | null;
+}
+
 export class ThreadedOperator implements HermitianOperator {
   readonly dim: number;
   readonly isComplex: boolean;
+  /**
+   * The arena the threads read x and write y in. Vectors the caller keeps there (pass it to the
+   * solver as `arena`) are multiplied in place; others are copied in and out.
+   */
+  readonly arena: VectorArena | null;
   private readonly control: Int32Array;
+  private readonly offsets: Uint32Array;
   private readonly x: Float64Array;
   private readonly y: Float64Array;
   private readonly bounds: number[];
@@ -95,15 +114,29 @@ export class ThreadedOperator implements HermitianOperator {
     this.dim = local.dim;
     this.isComplex = local.isComplex;
     const length = (this.isComplex ? 2 : 1) * this.dim;
-    this.control = new Int32Array(new SharedArrayBuffer(16));
-    // x and y in an arena, so every thread's slice runs the SIMD kernels; plain shared memory if
-    // this runtime has none.
-    const arena = VectorArena.create();
+    const words = new SharedArrayBuffer(4 * WORDS);
+    this.control = new Int32Array(words);
+    this.offsets = new Uint32Array(words);
+    // A stored matrix built in an arena brings its own; otherwise a new one, so every thread's
+    // slice runs the SIMD kernels (plain shared memory if this runtime has none).
+    const home = local instanceof CsrOperator && local.arena?.allocates ? local.arena : null;
+    const arena = home ?? VectorArena.create();
+    this.arena = arena;
     this.x = arena ? arena.vector(length) : new Float64Array(new SharedArrayBuffer(8 * length));
     this.y = arena ? arena.vector(length) : new Float64Array(new SharedArrayBuffer(8 * length));
     // The pinned block pass reads its data from the same memory; place it before the workers start.
     const placement = arena && local instanceof PinnedOperator ? local.placementIn(arena) : null;
-    const shared = arena ? { memory: arena.memory, used: arena.used, xAt: this.x.byteOffset, yAt: this.y.byteOffset, length, placement } : null;
+    const csr =
+      home && local instanceof CsrOperator
+        ? {
+            rowStart: local.rowStart.byteOffset,
+            columns: local.columns.byteOffset,
+            re: local.valuesRe.byteOffset,
+            im: local.valuesIm ? local.valuesIm.byteOffset : null,
+            nonzeros: local.columns.length,
+          }
+        : null;
+    const shared: SharedArena | null = arena ? { memory: arena.memory, used: arena.used, length, placement, csr } : null;
     this.bounds = splitRows(local, threads);
     // From dist/src the worker is dist/workers; tests that load src/*.ts directly use the built one.
     const script = new URL(import.meta.url.endsWith('.ts') ? '../dist/workers/product.js' : '../workers/product.js', import.meta.url);
@@ -125,16 +158,21 @@ export class ThreadedOperator implements HermitianOperator {
 
   apply(x: Float64Array, y: Float64Array): void {
     const c = this.control;
-    this.x.set(x);
+    const inPlace = this.arena !== null && arenaHolding(x, y) === this.arena;
+    const xs = inPlace ? x : this.x;
+    const ys = inPlace ? y : this.y;
+    if (!inPlace) xs.set(x);
+    this.offsets[X_AT] = xs.byteOffset;
+    this.offsets[Y_AT] = ys.byteOffset;
     Atomics.store(c, DONE, 0);
     Atomics.store(c, COMMAND, RUN);
     Atomics.add(c, GENERATION, 1);
     Atomics.notify(c, GENERATION);
-    this.local.applyRange(this.x, this.y, this.bounds[0], this.bounds[1]);
+    this.local.applyRange(xs, ys, this.bounds[0], this.bounds[1]);
     const workers = this.workers.length;
     let done;
     while ((done = Atomics.load(c, DONE)) < workers) Atomics.wait(c, DONE, done);
-    y.set(this.y);
+    if (!inPlace) y.set(ys);
   }
 
   close(): void {
@@ -153,20 +191,31 @@ export function runProductWorker(data: {
   control: Int32Array;
   x: Float64Array;
   y: Float64Array;
-  /** The caller's arena, when x and y live in one: the views are rebuilt over it here. */
-  shared: { memory: WebAssembly.Memory; used: number; xAt: number; yAt: number; length: number; placement: BlockPlacement | null } | null;
+  /** The caller's arena, when there is one: vectors and operator data are views over its memory here. */
+  shared: SharedArena | null;
   lo: number;
   hi: number;
 }): void {
-  const op = operatorFromPayload(data.payload);
   const c = data.control;
-  let { x, y } = data;
-  const arena = data.shared ? VectorArena.attach(data.shared.memory, data.shared.used) : null;
-  if (arena && data.shared) {
-    x = arena.view(data.shared.xAt, data.shared.length);
-    y = arena.view(data.shared.yAt, data.shared.length);
-    if (data.shared.placement && op instanceof PinnedOperator) op.adopt(arena, data.shared.placement);
+  const offsets = new Uint32Array(c.buffer);
+  const shared = data.shared;
+  const arena = shared ? VectorArena.attach(shared.memory, shared.used) : null;
+  let payload = data.payload;
+  if (arena && shared?.csr && payload.kind === 'csr') {
+    const m = shared.csr;
+    payload = {
+      ...payload,
+      rowStart: arena.view(m.rowStart, payload.dim + 1),
+      columns: arena.int32View(m.columns, m.nonzeros),
+      valuesRe: arena.view(m.re, m.nonzeros),
+      valuesIm: m.im === null ? null : arena.view(m.im, m.nonzeros),
+    };
   }
+  const op = operatorFromPayload(payload);
+  if (arena && shared?.placement && op instanceof PinnedOperator) op.adopt(arena, shared.placement);
+  let { x, y } = data;
+  let xAt = -1;
+  let yAt = -1;
   let generation = Atomics.load(c, GENERATION);
   Atomics.add(c, READY, 1);
   Atomics.notify(c, READY);
@@ -174,6 +223,12 @@ export function runProductWorker(data: {
     Atomics.wait(c, GENERATION, generation);
     generation = Atomics.load(c, GENERATION);
     if (Atomics.load(c, COMMAND) === STOP) return;
+    if (arena && shared && (offsets[X_AT] !== xAt || offsets[Y_AT] !== yAt)) {
+      xAt = offsets[X_AT];
+      yAt = offsets[Y_AT];
+      x = arena.view(xAt, shared.length);
+      y = arena.view(yAt, shared.length);
+    }
     op.applyRange(x, y, data.lo, data.hi);
     Atomics.add(c, DONE, 1);
     Atomics.notify(c, DONE);

@@ -14,7 +14,7 @@ import { defaultKrylovSize, denseThresholdFor, lowestEigenpairs, type EigenResul
 import type { Spec } from './spec.js';
 import { detectSymmetries, type SectorLabel, type SymmetryCheck, type SymmetryName } from './symmetry.js';
 import { solveInSectors, type SectorRun } from './sectorSolve.js';
-import { defaultProductThreads, withThreads } from './parallel.js';
+import { defaultProductThreads, ThreadedOperator, withThreads } from './parallel.js';
 
 export interface PointPlan {
   model: Model;
@@ -142,6 +142,8 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     onProgress: options.onProgress,
     throwOnFailure: false,
     threads,
+    // The threads' own arena: vectors kept there are multiplied in place, without copies.
+    arena: threaded instanceof ThreadedOperator ? threaded.arena : undefined,
     });
   } finally {
     threaded.close();

@@ -118,7 +118,13 @@ export class VectorArena {
 
   /** A view of `length` doubles at byte offset `at`, for vectors placed by another thread. */
   view(at: number, length: number): Float64Array {
+    if (!this.buffers.has(this.memory.buffer)) this.track(); // grown by the thread that allocates
     return new Float64Array(this.memory.buffer, at, length);
+  }
+
+  int32View(at: number, length: number): Int32Array {
+    if (!this.buffers.has(this.memory.buffer)) this.track();
+    return new Int32Array(this.memory.buffer, at, length);
   }
 
   private reserve(bytes: number): number | null {
