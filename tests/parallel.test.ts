@@ -4,6 +4,7 @@ import { buildModel } from '../src/model.js';
 import { CsrBuilder } from '../src/operator/csr.js';
 import { PinnedOperator } from '../src/operator/pinned.js';
 import { withThreads } from '../src/parallel.js';
+import { VectorArena } from '../src/simd.js';
 import { validateSpec } from '../src/spec.js';
 import { clean, randomPinnedSpec, rng } from './support/random.js';
 
@@ -80,6 +81,43 @@ describe('products split by rows', () => {
     threaded.apply(x, two);
     threaded.close();
     expect(Array.from(two)).toEqual(Array.from(one));
+  });
+
+  it('vectors kept in the threads\' arena are multiplied in place, with the same bits', () => {
+    // pinned: the threads' own arena
+    const { op, c, x, product: one, model, basis } = pinnedProduct(73, 8, 3);
+    const threaded = withThreads(op, 2, model, basis as never) as ReturnType<typeof withThreads> & { arena: VectorArena | null };
+    expect(threaded.arena).not.toBeNull();
+    const xa = threaded.arena!.vector(c * op.dim);
+    const ya = threaded.arena!.vector(c * op.dim);
+    xa.set(x);
+    threaded.apply(xa, ya);
+    threaded.close();
+    expect(Array.from(ya)).toEqual(Array.from(one));
+    // stored: the arena the matrix was built in
+    const n = 2500;
+    const r = rng(17);
+    const arena = VectorArena.create()!;
+    const builder = new CsrBuilder(n, false);
+    for (let i = 0; i < n; i++) {
+      builder.add(i, r() - 0.5);
+      builder.add((i + 1) % n, 0.3);
+      builder.add((i + n - 1) % n, 0.3);
+      builder.endRow();
+    }
+    const csr = builder.finish(arena);
+    const v = randomVector(n, 4);
+    const plainProduct = new Float64Array(n);
+    csr.apply(v, plainProduct);
+    const threadedCsr = withThreads(csr, 2) as ReturnType<typeof withThreads> & { arena: VectorArena | null };
+    expect(threadedCsr.arena).toBe(arena);
+    const va = arena.vector(n);
+    const wa = arena.vector(n);
+    va.set(v);
+    threadedCsr.apply(va, wa);
+    threadedCsr.apply(va, wa);
+    threadedCsr.close();
+    expect(Array.from(wa)).toEqual(Array.from(plainProduct));
   });
 
   it('a threaded solve gives the one-thread energies', async () => {
