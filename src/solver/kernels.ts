@@ -9,6 +9,11 @@ import type { KernelTeam } from './team.js';
 
 /** Entries of a vector processed per block: a block of w stays in cache while basis vectors stream past. */
 export const BLOCK = 2048;
+/**
+ * Entries per block of the SIMD subtraction with its fused dot products: longer runs keep the
+ * hardware prefetcher streaming (measured 10-15% faster than BLOCK on 19 vectors of 2^20).
+ */
+export const SIMD_BLOCK = 16384;
 /** DGKS criterion: if reorthogonalization shrinks the vector below this fraction, orthogonalize once more. */
 const REORTH_ETA = Math.SQRT1_2;
 
@@ -280,8 +285,8 @@ export class VectorKernels {
       if (this.team) return this.team.subtract(w, len, table, count, isComplex, coef, nextCoef);
       const wasm = arena.wasm;
       let normSquared = 0;
-      for (let start = 0; start < len; start += BLOCK) {
-        const end = Math.min(start + BLOCK, len);
+      for (let start = 0; start < len; start += SIMD_BLOCK) {
+        const end = Math.min(start + SIMD_BLOCK, len);
         if (isComplex) {
           wasm.subtractComplex(w.byteOffset, table, count, coef.byteOffset, start, end);
           if (nextCoef) wasm.dotsComplex(w.byteOffset, table, count, nextCoef.byteOffset, start, end);

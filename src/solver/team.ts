@@ -6,7 +6,7 @@
 
 import { Worker } from 'node:worker_threads';
 import { VectorArena } from '../simd.js';
-import { BLOCK } from './kernels.js';
+import { BLOCK, SIMD_BLOCK } from './kernels.js';
 
 // Control words (Int32Array over a SharedArrayBuffer).
 const GENERATION = 0; // bumped for every command
@@ -74,8 +74,8 @@ function runSlice(wasm: Kernels, memory: WebAssembly.Memory, p: Uint32Array, t: 
   // SUBTRACT: block by block, so the dots of the result read the basis block while it is cached.
   const withDots = p[P_DOTS] === 1;
   let normSquared = 0;
-  for (let start = lo; start < hi; start += BLOCK) {
-    const end = Math.min(start + BLOCK, hi);
+  for (let start = lo; start < hi; start += SIMD_BLOCK) {
+    const end = Math.min(start + SIMD_BLOCK, hi);
     if (complex) {
       wasm.subtractComplex(p[P_W], p[P_TABLE], count, p[P_COEF], start, end);
       if (withDots) wasm.dotsComplex(p[P_W], p[P_TABLE], count, slot, start, end);
