@@ -116,11 +116,14 @@ export function solveInSectors(
   let converged = true;
   let anyLanczos = false;
 
+  // The matrix and the solver's vectors share one arena, so products run in WebAssembly. One
+  // arena serves every sector: each sector's matrix and vectors are released before the next,
+  // so memory holds one sector at a time (a fresh memory per sector would wait for the GC).
+  const arena = VectorArena.create();
   for (const plan of plans) {
     const sector = new SectorBasis(orbitsFor(plan.label), plan.label);
     if (sector.dim === 0) continue;
-    // The matrix and the solver's vectors share one arena, so products run in WebAssembly.
-    const arena = VectorArena.create();
+    const mark = arena?.mark();
     const stored = buildSectorOperator(model, basis, sector, arena);
     const threads = opts.threadsFor ? opts.threadsFor(stored.nonzeros()) : 1;
     const op = withThreads(stored, threads);
@@ -180,6 +183,7 @@ export function solveInSectors(
       found.sort((a, b) => a.energy - b.energy);
     } finally {
       op.close();
+      if (arena && mark !== undefined) arena.release(mark);
     }
     // Keep what can still matter: the lowest `states` and anything degenerate with the ground level.
     const e0 = found[0].energy;
