@@ -143,14 +143,18 @@ export class VectorArena {
       this.track();
     }
     this.top = needed;
+    if (needed > this.highWater) this.highWater = needed;
     return at;
   }
 
   /** A zeroed vector of `length` doubles (padded to even in the arena), or a plain array when full. */
   vector(length: number): Float64Array {
     const padded = length + (length & 1);
+    const before = this.highWater;
     const at = this.reserve(8 * padded);
     if (at === null) return new Float64Array(length);
+    // Fresh pages are zero; reused ones are cleared, padding included (the kernels sum it).
+    if (at < before) new Float64Array(this.memory.buffer, at, padded).fill(0);
     return new Float64Array(this.memory.buffer, at, length);
   }
 
@@ -185,6 +189,8 @@ export class VectorArena {
 
   /** Bumped by every `release`: offsets recorded earlier may now point at reused memory. */
   epoch = 0;
+  /** End of the memory ever handed out: below it, released memory holds old data. */
+  private highWater = 0;
 
   owns(v: Float64Array | Int32Array): boolean {
     return this.buffers.has(v.buffer);
