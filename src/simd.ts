@@ -158,6 +158,17 @@ export class VectorArena {
     return new Float64Array(this.memory.buffer, at, length);
   }
 
+  /** Uninitialized arrays in the arena (the caller fills them), or null when there is no room. */
+  float64Array(length: number): Float64Array | null {
+    const at = this.reserve(8 * length);
+    return at === null ? null : new Float64Array(this.memory.buffer, at, length);
+  }
+
+  int32Array(length: number): Int32Array | null {
+    const at = this.reserve(4 * length);
+    return at === null ? null : new Int32Array(this.memory.buffer, at, length);
+  }
+
   /** A copy of a constant array in the arena (for kernels that read it), or null when there is no room. */
   copyOf<T extends Float64Array | Int32Array>(source: T): T | null {
     const at = this.reserve(source.byteLength);

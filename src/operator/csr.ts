@@ -80,12 +80,22 @@ export class CsrOperator implements HermitianOperator {
   }
 }
 
-/** Collects matrix elements row by row into growable typed arrays; `finish` yields a CsrOperator. */
+/** Entries per chunk of a CsrBuilder: filled chunks are kept, never copied to grow. */
+const CHUNK = 1 << 20;
+
+/**
+ * Collects matrix elements row by row into fixed-size chunks (a growing array would copy itself
+ * again and again: measured as long as building the rows); `finish` copies them once into the
+ * final arrays and yields a CsrOperator.
+ */
 export class CsrBuilder {
+  private readonly done: { columns: Int32Array; re: Float64Array; im: Float64Array | null }[] = [];
   private columns = new Int32Array(1024);
   private re = new Float64Array(1024);
   private im: Float64Array | null;
-  private size = 0;
+  /** Entries in the current chunk, and in the chunks before it. */
+  private fill = 0;
+  private before = 0;
   private readonly rowStart: Float64Array;
   private row = 0;
 
@@ -99,16 +109,16 @@ export class CsrBuilder {
 
   /** Adds <row|H|col> to the current row; repeated columns within a row are summed by the product anyway. */
   add(col: number, re: number, im = 0): void {
-    if (this.size === this.columns.length) this.grow();
-    this.columns[this.size] = col;
-    this.re[this.size] = re;
-    if (this.im) this.im[this.size] = im;
-    this.size++;
+    if (this.fill === this.columns.length) this.nextChunk();
+    this.columns[this.fill] = col;
+    this.re[this.fill] = re;
+    if (this.im) this.im[this.fill] = im;
+    this.fill++;
   }
 
   endRow(): void {
     this.row++;
-    this.rowStart[this.row] = this.size;
+    this.rowStart[this.row] = this.before + this.fill;
   }
 
   /**
@@ -117,36 +127,63 @@ export class CsrBuilder {
    */
   finish(arena?: VectorArena | null): CsrOperator {
     if (this.row !== this.dim) throw new Error(`CsrBuilder: ${this.row} rows ended, expected ${this.dim}`);
-    if (arena) {
-      const rowStart = arena.copyOf(this.rowStart);
-      const columns = arena.copyOf(this.columns.subarray(0, this.size));
-      const re = arena.copyOf(this.re.subarray(0, this.size));
-      const im = this.im ? arena.copyOf(this.im.subarray(0, this.size)) : null;
-      if (rowStart && columns && re && (im || !this.im)) return new CsrOperator(this.dim, this.isComplex, rowStart, columns, re, im);
-    }
-    return new CsrOperator(
-      this.dim,
-      this.isComplex,
-      sharedCopy(this.rowStart, this.dim + 1, Float64Array),
-      sharedCopy(this.columns, this.size, Int32Array),
-      sharedCopy(this.re, this.size, Float64Array),
-      this.im ? sharedCopy(this.im, this.size, Float64Array) : null,
-    );
+    const size = this.before + this.fill;
+    const chunks = [...this.done, { columns: this.columns.subarray(0, this.fill), re: this.re.subarray(0, this.fill), im: this.im ? this.im.subarray(0, this.fill) : null }];
+    const gather = <T extends Float64Array | Int32Array>(out: T, part: (c: (typeof chunks)[number]) => T): T => {
+      let at = 0;
+      for (const c of chunks) {
+        const piece = part(c);
+        out.set(piece as never, at);
+        at += piece.length;
+      }
+      return out;
+    };
+    const inArena = arena
+      ? {
+          rowStart: arena.copyOf(this.rowStart),
+          columns: arena.int32Array(size),
+          re: arena.float64Array(size),
+          im: this.im ? arena.float64Array(size) : null,
+        }
+      : null;
+    const target =
+      inArena && inArena.rowStart && inArena.columns && inArena.re && (inArena.im || !this.im)
+        ? (inArena as { rowStart: Float64Array; columns: Int32Array; re: Float64Array; im: Float64Array | null })
+        : {
+            rowStart: sharedCopy(this.rowStart, this.dim + 1, Float64Array),
+            columns: new Int32Array(new SharedArrayBuffer(Math.max(1, size) * 4)).subarray(0, size),
+            re: new Float64Array(new SharedArrayBuffer(Math.max(1, size) * 8)).subarray(0, size),
+            im: this.im ? new Float64Array(new SharedArrayBuffer(Math.max(1, size) * 8)).subarray(0, size) : null,
+          };
+    gather(target.columns, (c) => c.columns);
+    gather(target.re, (c) => c.re);
+    if (target.im) gather(target.im, (c) => c.im as Float64Array);
+    return new CsrOperator(this.dim, this.isComplex, target.rowStart, target.columns, target.re, target.im);
   }
 
-  private grow(): void {
-    const cap = Math.ceil(this.columns.length * 1.5);
-    const c = new Int32Array(cap);
-    c.set(this.columns);
-    this.columns = c;
-    const r = new Float64Array(cap);
-    r.set(this.re);
-    this.re = r;
-    if (this.im) {
-      const i = new Float64Array(cap);
-      i.set(this.im);
-      this.im = i;
+  private nextChunk(): void {
+    if (this.columns.length < CHUNK) {
+      // Small matrices grow the first chunk by doubling; only full-size chunks are kept as they are.
+      const cap = Math.min(CHUNK, 2 * this.columns.length);
+      const c = new Int32Array(cap);
+      c.set(this.columns);
+      this.columns = c;
+      const r = new Float64Array(cap);
+      r.set(this.re);
+      this.re = r;
+      if (this.im) {
+        const i = new Float64Array(cap);
+        i.set(this.im);
+        this.im = i;
+      }
+      return;
     }
+    this.done.push({ columns: this.columns, re: this.re, im: this.im });
+    this.before += this.fill;
+    this.fill = 0;
+    this.columns = new Int32Array(CHUNK);
+    this.re = new Float64Array(CHUNK);
+    this.im = this.isComplex ? new Float64Array(CHUNK) : null;
   }
 }
 

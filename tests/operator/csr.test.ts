@@ -81,3 +81,35 @@ describe('arena marks', () => {
     expect(again.byteOffset).toBeGreaterThanOrEqual(kept.byteOffset + 8 * 1000);
   });
 });
+
+describe('building past one chunk', () => {
+  it('a matrix of more than 2^20 entries is assembled in order, in an arena and in plain shared memory', () => {
+    // A banded ring: row i holds i-2..i+2 with entries that name their position, so any chunk
+    // out of place shows up in the product (written out directly below).
+    const n = 300_000;
+    const value = (i: number, d: number) => 1 + ((i * 7 + d * 3) % 11) / 10;
+    const build = () => {
+      const b = new CsrBuilder(n, false);
+      for (let i = 0; i < n; i++) {
+        for (let d = -2; d <= 2; d++) b.add((i + d + n) % n, value(i, d));
+        b.endRow();
+      }
+      return b;
+    };
+    const arena = VectorArena.create()!;
+    for (const op of [build().finish(), build().finish(arena)]) {
+      expect(op.nonzeros()).toBe(5 * n);
+      const x = arena.vector(n);
+      for (let i = 0; i < n; i++) x[i] = Math.sin(i);
+      const y = arena.vector(n);
+      op.apply(x, y);
+      let worst = 0;
+      for (let i = 0; i < n; i++) {
+        let s = 0;
+        for (let d = -2; d <= 2; d++) s += value(i, d) * x[(i + d + n) % n];
+        worst = Math.max(worst, Math.abs(s - y[i]));
+      }
+      expect(worst).toBe(0);
+    }
+  });
+});
