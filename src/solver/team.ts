@@ -5,7 +5,7 @@
 // synchronous and the solver's loop does not change.
 
 import { Worker } from 'node:worker_threads';
-import { VectorArena } from '../simd.js';
+import { VectorArena, type WasmKernels } from '../simd.js';
 import { BLOCK, SIMD_BLOCK } from './kernels.js';
 
 // Control words (Int32Array over a SharedArrayBuffer).
@@ -41,17 +41,8 @@ function slice(length: number, t: number, threads: number): [number, number] {
   return [cut(t), cut(t + 1)];
 }
 
-interface Kernels {
-  dotsReal(w: number, set: number, count: number, out: number, start: number, end: number): void;
-  dotsComplex(w: number, set: number, count: number, out: number, start: number, end: number): void;
-  subtractReal(w: number, set: number, count: number, coef: number, start: number, end: number): void;
-  subtractComplex(w: number, set: number, count: number, coef: number, start: number, end: number): void;
-  normSquared(w: number, start: number, end: number): number;
-  combine(set: number, size: number, y: number, ys: number, keep: number, scratch: number, start: number, end: number): void;
-}
-
 /** What one thread does for the current command, on its slice. */
-function runSlice(wasm: Kernels, memory: WebAssembly.Memory, p: Uint32Array, t: number, threads: number): void {
+function runSlice(wasm: WasmKernels, memory: WebAssembly.Memory, p: Uint32Array, t: number, threads: number): void {
   const [lo, hi] = slice(p[P_LENGTH], t, threads);
   const command = p[COMMAND];
   const count = p[P_COUNT];
@@ -170,8 +161,8 @@ export class KernelTeam {
     }
   }
 
-  /** coef[0..) = <set_i, w> over all threads' slices; `table` holds the set's pointers. */
-  project(w: Float64Array, length: number, table: number, count: number, isComplex: boolean, coef: Float64Array): void {
+  /** The parameters a dot-product sweep of w against the set needs, with partial-result slots. */
+  private sweep(w: Float64Array, length: number, table: number, count: number, isComplex: boolean): void {
     const p = this.params;
     const { at, stride } = this.slots(2 * count + 1);
     p[P_LENGTH] = length;
@@ -181,6 +172,11 @@ export class KernelTeam {
     p[P_OUT] = at;
     p[P_STRIDE] = stride;
     p[P_COMPLEX] = isComplex ? 1 : 0;
+  }
+
+  /** coef[0..) = <set_i, w> over all threads' slices; `table` holds the set's pointers. */
+  project(w: Float64Array, length: number, table: number, count: number, isComplex: boolean, coef: Float64Array): void {
+    this.sweep(w, length, table, count, isComplex);
     this.run(PROJECT);
     const n = isComplex ? 2 * count : count;
     coef.fill(0, 0, n);
@@ -197,17 +193,9 @@ export class KernelTeam {
     coef: Float64Array,
     nextCoef: Float64Array | null,
   ): number {
-    const p = this.params;
-    const { at, stride } = this.slots(2 * count + 1);
-    p[P_LENGTH] = length;
-    p[P_W] = w.byteOffset;
-    p[P_TABLE] = table;
-    p[P_COUNT] = count;
-    p[P_COEF] = coef.byteOffset;
-    p[P_OUT] = at;
-    p[P_STRIDE] = stride;
-    p[P_COMPLEX] = isComplex ? 1 : 0;
-    p[P_DOTS] = nextCoef ? 1 : 0;
+    this.sweep(w, length, table, count, isComplex);
+    this.params[P_COEF] = coef.byteOffset;
+    this.params[P_DOTS] = nextCoef ? 1 : 0;
     this.run(SUBTRACT);
     const n = isComplex ? 2 * count : count;
     if (nextCoef) {
