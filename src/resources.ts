@@ -129,10 +129,10 @@ export function estimateSectorMemory(opts: {
     runtime: RUNTIME_BASELINE_BYTES,
     orbit_maps: maps * dim * 6,
     probabilities: dim * BYTES_PER_DOUBLE,
-    // The stored matrix, its build buffers (grown by half, then copied to shared memory), and the
-    // previous sector's matrix, which the garbage collector may not have released yet: measured
-    // peaks of 12x4 and 16x3 chains sat at 3 to 3.5 matrices.
-    sector_matrix: 3.5 * (nnz * (4 + scalar) + 8 * (sectorDim + 1)),
+    // The stored matrix and its build chunks, alive together while the chunks are copied into the
+    // arena (sectors reuse one arena, so no earlier sector's matrix waits for the GC): measured
+    // peaks of 12x4 and 16x3 chains held 1.7 to 1.9 matrices.
+    sector_matrix: 2 * (nnz * (4 + scalar) + 8 * (sectorDim + 1)),
     krylov: (opts.krylovVectors + 3) * sectorDim * scalar,
     kept_states: 2 * opts.states * sectorDim * scalar,
   };
