@@ -6,6 +6,7 @@ import { CsrOperator } from './operator/csr.js';
 import { PinnedOperator } from './operator/pinned.js';
 import { buildFockOperator } from './operator/fock.js';
 
+import type { VectorArena } from './simd.js';
 export { CsrBuilder, CsrOperator } from './operator/csr.js';
 export { PinnedOperator } from './operator/pinned.js';
 export { buildFockOperator, planFockOperator } from './operator/fock.js';
@@ -30,11 +31,12 @@ export function operatorStorage(op: HermitianOperator): 'on-the-fly' | 'stored' 
   return op instanceof CsrOperator ? 'stored' : 'on-the-fly';
 }
 
-export function buildOperator(model: Model, basis: Basis): BuiltOperator {
+/** `arena`: where a stored matrix is built (see buildFockOperator); the pinned kernel stores none. */
+export function buildOperator(model: Model, basis: Basis, arena?: VectorArena | null): BuiltOperator {
   switch (basis.kind) {
     case 'pinned':
       return new PinnedOperator(model, basis);
     default:
-      return buildFockOperator(model, basis);
+      return buildFockOperator(model, basis, arena);
   }
 }

@@ -15,6 +15,7 @@ import type { Spec } from './spec.js';
 import { detectSymmetries, type SectorLabel, type SymmetryCheck, type SymmetryName } from './symmetry.js';
 import { solveInSectors, type SectorRun } from './sectorSolve.js';
 import { defaultProductThreads, ThreadedOperator, withThreads } from './parallel.js';
+import { VectorArena } from './simd.js';
 
 export interface PointPlan {
   model: Model;
@@ -125,7 +126,9 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this problem');
   const basis = buildBasis(plan.model);
   if (plan.used && basis.kind === 'pinned') return solvePinnedInSectors(spec, plan, basis, options, started);
-  const op = buildOperator(plan.model, basis);
+  // A stored matrix is built in an arena, beside the solver's vectors, so its products run in WebAssembly.
+  const arena = basis.kind === 'pinned' ? null : VectorArena.create();
+  const op = buildOperator(plan.model, basis, arena);
   const states = Math.min(spec.solve.states, basis.dim);
   const threads = productThreads(spec, options, op.nonzeros());
   const threaded = withThreads(op, threads, plan.model, basis.kind === 'pinned' ? basis : undefined);
@@ -143,7 +146,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     throwOnFailure: false,
     threads,
     // The threads' own arena: vectors kept there are multiplied in place, without copies.
-    arena: threaded instanceof ThreadedOperator ? threaded.arena : undefined,
+    arena: threaded instanceof ThreadedOperator ? threaded.arena : arena,
     });
   } finally {
     threaded.close();

@@ -24,6 +24,7 @@ import type { FockBasis, LocalSpace } from '../basis/fock.js';
 import { buildLocalSpace } from '../basis/fock.js';
 import { ResourceError } from '../errors.js';
 import type { Model } from '../model.js';
+import type { VectorArena } from '../simd.js';
 import { CsrOperator } from './csr.js';
 
 /** Largest number of stored entries: typed arrays are indexed by 32-bit integers here. */
@@ -249,7 +250,8 @@ function shared<T extends Float64Array | Int32Array>(length: number, kind: { new
  * present every row starts with its diagonal entry. Arrays are allocated once at their final size,
  * in shared memory.
  */
-export function buildFockOperator(model: Model, basis: FockBasis): CsrOperator {
+/** With `arena`, the matrix is built in that arena's memory, so products run in WebAssembly. */
+export function buildFockOperator(model: Model, basis: FockBasis, arena?: VectorArena | null): CsrOperator {
   if (model.kind !== basis.kind) throw new Error(`model kind ${model.kind} does not match basis kind ${basis.kind}`);
   const terms = localTerms(model, basis.local);
   const offDiagonal = offDiagonalCount(model, terms);
@@ -257,13 +259,32 @@ export function buildFockOperator(model: Model, basis: FockBasis): CsrOperator {
   if (stored > MAX_STORED) {
     throw new ResourceError(`the Hamiltonian would store ${stored} matrix elements, more than the ${MAX_STORED} supported`);
   }
-  const out: FockArrays = {
-    rowStart: shared(basis.dim + 1, Float64Array),
-    columns: shared(stored, Int32Array),
-    valuesRe: shared(stored, Float64Array),
-    valuesIm: model.isComplex ? shared(stored, Float64Array) : null,
-    diagonal: terms.hasDiagonal,
-  };
+  const inArena = arena
+    ? {
+        rowStart: arena.float64Array(basis.dim + 1),
+        columns: arena.int32Array(stored),
+        valuesRe: arena.float64Array(stored),
+        valuesIm: model.isComplex ? arena.float64Array(stored) : null,
+      }
+    : null;
+  const placed = inArena && inArena.rowStart && inArena.columns && inArena.valuesRe && (inArena.valuesIm || !model.isComplex);
+  const out: FockArrays = placed
+    ? {
+        rowStart: inArena.rowStart as Float64Array,
+        columns: inArena.columns as Int32Array,
+        valuesRe: inArena.valuesRe as Float64Array,
+        valuesIm: inArena.valuesIm,
+        diagonal: terms.hasDiagonal,
+      }
+    : {
+        rowStart: shared(basis.dim + 1, Float64Array),
+        columns: shared(stored, Int32Array),
+        valuesRe: shared(stored, Float64Array),
+        valuesIm: model.isComplex ? shared(stored, Float64Array) : null,
+        diagonal: terms.hasDiagonal,
+      };
+  // Memory an arena hands out again may hold old data; the rows below write every entry but the first.
+  out.rowStart[0] = 0;
   const written = fillRows(model, basis, terms, out);
   if (written !== stored) throw new Error(`Fock operator: wrote ${written} entries, counted ${stored}`);
   return new CsrOperator(basis.dim, model.isComplex, out.rowStart, out.columns, out.valuesRe, out.valuesIm);
