@@ -68,13 +68,20 @@ function groupFor(label: SectorLabel): GroupUse {
   return { translation: label.momentum !== null, reflection: label.parity !== null, levelFlip: label.level_flip !== null };
 }
 
-/** Lower charges near the middle and momentum zero first: ground states usually live there. */
+/** Charges near the middle first, then momenta 0 and pi, then the rest: ground states usually live there. */
 function sectorOrder(model: Model) {
   const middle = (model.sites * (model.levels - 1)) / 2;
   return (a: { label: SectorLabel }, b: { label: SectorLabel }) => {
     const qa = a.label.charge === null ? 0 : Math.abs(a.label.charge - middle);
     const qb = b.label.charge === null ? 0 : Math.abs(b.label.charge - middle);
     if (qa !== qb) return qa - qb;
+    // Momenta 0 and pi first: the low states of these chains sit there most often (Marshall-type
+    // sign structures), and the sooner the lowest `states` are known, the sooner the other
+    // sectors are screened out after a short partial solve. The order never changes the result.
+    const edge = (m: number | null) => (m === null || m === 0 || 2 * m === model.sites ? 0 : 1);
+    const ea = edge(a.label.momentum);
+    const eb = edge(b.label.momentum);
+    if (ea !== eb) return ea - eb;
     return (a.label.momentum ?? 0) - (b.label.momentum ?? 0);
   };
 }
