@@ -251,7 +251,7 @@ export class VectorKernels {
     if (arena) {
       const table = arena.pointers(set, count);
       const end = VectorKernels.padded(w);
-      if (this.team) return this.team.project(w, end, table, count, isComplex, coef);
+      if (this.team?.project(w, end, table, count, isComplex, coef)) return;
       if (isComplex) arena.wasm.dotsComplex(w.byteOffset, table, count, coef.byteOffset, 0, end);
       else arena.wasm.dotsReal(w.byteOffset, table, count, coef.byteOffset, 0, end);
       return;
@@ -282,7 +282,8 @@ export class VectorKernels {
     if (arena && (!nextCoef || arena.owns(nextCoef))) {
       const table = arena.pointers(set, count);
       const len = VectorKernels.padded(w);
-      if (this.team) return this.team.subtract(w, len, table, count, isComplex, coef, nextCoef);
+      const shared = this.team ? this.team.subtract(w, len, table, count, isComplex, coef, nextCoef) : null;
+      if (shared !== null) return shared;
       const wasm = arena.wasm;
       let normSquared = 0;
       for (let start = 0; start < len; start += SIMD_BLOCK) {
@@ -341,7 +342,7 @@ export class VectorKernels {
     if (arena && arena.owns(y) && arena.owns(scratch) && arena.ownsAll(basis, size)) {
       const table = arena.pointers(basis, size);
       const len = VectorKernels.padded(basis[0]);
-      if (this.team) return this.team.combine(len, table, size, y, ys, keep);
+      if (this.team?.combine(len, table, size, y, ys, keep)) return;
       for (let start = 0; start < len; start += BLOCK) {
         arena.wasm.combine(table, size, y.byteOffset, ys, keep, scratch.byteOffset, start, Math.min(start + BLOCK, len));
       }

@@ -128,11 +128,13 @@ export class KernelTeam {
   }
 
   /** Partial-result slots, one per thread, each of at least `doubles` (rounded to cache lines). */
-  private slots(doubles: number): { at: number; stride: number } {
+  /** Null when the arena has no room left: the caller then works on one thread. */
+  private slots(doubles: number): { at: number; stride: number } | null {
     const stride = Math.ceil(doubles / 8) * 8;
     if (!this.partials || this.partials.length < stride * this.threads) {
-      this.partials = this.arena.vector(2 * stride * this.threads);
-      if (!this.arena.owns(this.partials)) throw new RangeError('vector arena is full');
+      const partials = this.arena.vector(2 * stride * this.threads);
+      if (!this.arena.owns(partials)) return null;
+      this.partials = partials;
     }
     return { at: this.partials.byteOffset, stride: 8 * stride };
   }
@@ -162,9 +164,11 @@ export class KernelTeam {
   }
 
   /** The parameters a dot-product sweep of w against the set needs, with partial-result slots. */
-  private sweep(w: Float64Array, length: number, table: number, count: number, isComplex: boolean): void {
+  private sweep(w: Float64Array, length: number, table: number, count: number, isComplex: boolean): boolean {
     const p = this.params;
-    const { at, stride } = this.slots(2 * count + 1);
+    const slots = this.slots(2 * count + 1);
+    if (!slots) return false;
+    const { at, stride } = slots;
     p[P_LENGTH] = length;
     p[P_W] = w.byteOffset;
     p[P_TABLE] = table;
@@ -172,18 +176,20 @@ export class KernelTeam {
     p[P_OUT] = at;
     p[P_STRIDE] = stride;
     p[P_COMPLEX] = isComplex ? 1 : 0;
+    return true;
   }
 
-  /** coef[0..) = <set_i, w> over all threads' slices; `table` holds the set's pointers. */
-  project(w: Float64Array, length: number, table: number, count: number, isComplex: boolean, coef: Float64Array): void {
-    this.sweep(w, length, table, count, isComplex);
+  /** coef[0..) = <set_i, w> over all threads' slices; `table` holds the set's pointers. False: not done (no room). */
+  project(w: Float64Array, length: number, table: number, count: number, isComplex: boolean, coef: Float64Array): boolean {
+    if (!this.sweep(w, length, table, count, isComplex)) return false;
     this.run(PROJECT);
     const n = isComplex ? 2 * count : count;
     coef.fill(0, 0, n);
     this.gather(n, coef, 0);
+    return true;
   }
 
-  /** w -= sum_i coef_i set_i; returns ||w||^2; fills `nextCoef` with the new w's dots when given. */
+  /** w -= sum_i coef_i set_i; returns ||w||^2 (null: not done, no room); fills `nextCoef` with the new w's dots when given. */
   subtract(
     w: Float64Array,
     length: number,
@@ -192,8 +198,8 @@ export class KernelTeam {
     isComplex: boolean,
     coef: Float64Array,
     nextCoef: Float64Array | null,
-  ): number {
-    this.sweep(w, length, table, count, isComplex);
+  ): number | null {
+    if (!this.sweep(w, length, table, count, isComplex)) return null;
     this.params[P_COEF] = coef.byteOffset;
     this.params[P_DOTS] = nextCoef ? 1 : 0;
     this.run(SUBTRACT);
@@ -207,13 +213,14 @@ export class KernelTeam {
     return norm[0];
   }
 
-  /** The restart combination, each thread on its slice with its own scratch block. */
-  combine(length: number, table: number, size: number, y: Float64Array, ys: number, keep: number): void {
+  /** The restart combination, each thread on its slice with its own scratch block. False: not done (no room). */
+  combine(length: number, table: number, size: number, y: Float64Array, ys: number, keep: number): boolean {
     const p = this.params;
     const perThread = keep * BLOCK;
     if (!this.scratch || this.scratch.length < perThread * this.threads) {
-      this.scratch = this.arena.vector(perThread * this.threads);
-      if (!this.arena.owns(this.scratch)) throw new RangeError('vector arena is full');
+      const scratch = this.arena.vector(perThread * this.threads);
+      if (!this.arena.owns(scratch)) return false;
+      this.scratch = scratch;
     }
     p[P_LENGTH] = length;
     p[P_TABLE] = table;
@@ -224,6 +231,7 @@ export class KernelTeam {
     p[P_SCRATCH] = this.scratch.byteOffset;
     p[P_STRIDE] = 8 * perThread;
     this.run(COMBINE);
+    return true;
   }
 
   close(): void {

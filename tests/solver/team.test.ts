@@ -4,7 +4,7 @@ import { buildModel } from '../../src/model.js';
 import { PinnedOperator } from '../../src/operator/pinned.js';
 import { VectorArena } from '../../src/simd.js';
 import { lowestEigenpairs } from '../../src/solver.js';
-import { BLOCK, VectorKernels } from '../../src/solver/kernels.js';
+import { BLOCK, plainKernels, VectorKernels } from '../../src/solver/kernels.js';
 import { KernelTeam } from '../../src/solver/team.js';
 import { validateSpec } from '../../src/spec.js';
 import { clean, randomPinnedSpec, rng } from '../support/random.js';
@@ -57,6 +57,32 @@ describe('vector kernels on two threads', () => {
       for (let c = 0; c < count; c++) expect(Array.from(copy[c])).toEqual(Array.from(set[c]));
     } finally {
       two.team?.close();
+    }
+  });
+
+  it('with the arena full (wasm32 stops at 4 GiB), the kernels fall back to one thread', () => {
+    const arena = VectorArena.create()!;
+    const kernels = new VectorKernels(arena);
+    const n = 1 << 17;
+    const set = Array.from({ length: 5 }, (_, i) => fill(arena.vector(n), 30 + i));
+    const w = fill(arena.vector(n), 40);
+    const coef = arena.vector(10);
+    kernels.team = KernelTeam.start(arena, 2);
+    try {
+      // Fill the rest (address space only: fresh pages are never touched).
+      while (arena.owns(arena.vector(1 << 26)));
+      while (arena.owns(arena.vector(1 << 12)));
+      const expected = new Float64Array(5);
+      plainKernels.project(Float64Array.from(w), set, 5, false, expected);
+      kernels.project(w, set, 5, false, coef);
+      for (let i = 0; i < 5; i++) expect(Math.abs(coef[i] - expected[i])).toBeLessThan(1e-9);
+      const copy = Float64Array.from(w);
+      const normSquared = kernels.subtract(w, set, 5, false, coef, null);
+      plainKernels.subtract(copy, set, 5, false, Float64Array.from(coef), null);
+      for (let t = 0; t < n; t += 997) expect(Math.abs(w[t] - copy[t])).toBeLessThan(1e-12);
+      expect(normSquared).toBeGreaterThan(0);
+    } finally {
+      kernels.team?.close();
     }
   });
 
