@@ -61,6 +61,11 @@ export type TaskMessage = { kind: 'start'; index: number } | { kind: 'record'; r
 
 /** Test hook: a worker exits abruptly (as on running out of memory) when it reaches this point index. */
 const EXIT_AT = process.env.RUNGCHAIN_TEST_WORKER_EXIT_AT;
+/**
+ * Test hook: each point first waits this many milliseconds, so tests that interrupt a scan part
+ * way (kill, Ctrl-C, a second writer) do not race a scan that finishes too fast.
+ */
+const POINT_DELAY_MS = Number(process.env.RUNGCHAIN_TEST_POINT_DELAY_MS ?? 0);
 
 /** A key telling whether two points share a basis (same states in the same order and arithmetic). */
 function basisKey(spec: Spec, isComplex: boolean, dimension: number): string {
@@ -131,6 +136,7 @@ export function runScanTask(task: ScanTask, post: (message: TaskMessage) => void
   for (const point of task.points) {
     post({ kind: 'start', index: point.index });
     if (EXIT_AT !== undefined && Number(EXIT_AT) === point.index) process.exit(70);
+    if (POINT_DELAY_MS > 0) Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, POINT_DELAY_MS);
     const started = performance.now();
     let record: ScanRecord;
     try {

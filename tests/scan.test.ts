@@ -224,11 +224,13 @@ to = 3
 steps = 6
 `;
 const SCAN_POINTS = 12;
+/** Scans that a test interrupts part way take at least 12 x 150 ms, however fast the solver gets. */
+const SLOW_POINTS = { ...process.env, RUNGCHAIN_TEST_POINT_DELAY_MS: '150' };
 
 /** Starts a scan, SIGKILLs it once `atLeast` records are on disk, and returns when it is dead. */
 function scanAndKill(args: string[], recordsFile: string, atLeast: number): Promise<void> {
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [CLI, ...args], { stdio: 'ignore' });
+    const child = spawn(process.execPath, [CLI, ...args], { stdio: 'ignore', env: SLOW_POINTS });
     let killed = false;
     const poll = setInterval(() => {
       if (!existsSync(recordsFile) || killed) return;
@@ -403,7 +405,7 @@ describe('rungchain scan', () => {
     const dir = tmp();
     const spec = writeSpec(dir, SCAN_SPEC);
     const out = path.join(dir, 'run');
-    const first = spawn(process.execPath, [CLI, 'scan', spec, '--out', out, '--workers', '1', '--quiet'], { stdio: 'ignore' });
+    const first = spawn(process.execPath, [CLI, 'scan', spec, '--out', out, '--workers', '1', '--quiet'], { stdio: 'ignore', env: SLOW_POINTS });
     const firstExit = new Promise<number | null>((resolve) => first.on('exit', (code) => resolve(code)));
     // Wait until the first scan holds the lock.
     for (let i = 0; i < 500 && !existsSync(path.join(out, 'lock')); i++) await new Promise((r) => setTimeout(r, 10));
@@ -420,7 +422,7 @@ describe('rungchain scan', () => {
     const dir = tmp();
     const spec = writeSpec(dir, SCAN_SPEC);
     const out = path.join(dir, 'run');
-    const child = spawn(process.execPath, [CLI, 'scan', spec, '--out', out, '--workers', '1'], { stdio: ['ignore', 'ignore', 'pipe'] });
+    const child = spawn(process.execPath, [CLI, 'scan', spec, '--out', out, '--workers', '1'], { stdio: ['ignore', 'ignore', 'pipe'], env: SLOW_POINTS });
     let stderr = '';
     child.stderr.on('data', (d) => (stderr += d));
     const exit = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));
