@@ -55,8 +55,9 @@ function kernelModule(): WebAssembly.Module | null {
 /**
  * Vectors in one shared WebAssembly memory, handed out as Float64Array views. Lengths are padded
  * to an even number of doubles (the padding stays zero) so the SIMD loops need no scalar tail.
- * Nothing is freed one by one: an arena lives as long as one solve, and its views are copied out
- * before it is dropped. When the memory cannot grow (wasm32 stops at 4 GiB), `vector` returns an
+ * Allocation is a bump pointer: nothing is freed one by one, but `release(mark)` hands back all
+ * that came after a `mark` (a solve releases its vectors once copied out; a sector solve releases
+ * each sector's matrix). When the memory cannot grow (wasm32 stops at 4 GiB), `vector` returns an
  * ordinary Float64Array and the kernels fall back to plain loops for sets that hold one.
  */
 export class VectorArena {
