@@ -4,13 +4,13 @@
 // synchronous and the solvers see an ordinary HermitianOperator.
 
 import os from 'node:os';
-import { Worker } from 'node:worker_threads';
 import type { PinnedBasis } from './basis.js';
 import type { Model } from './model.js';
 import type { HermitianOperator } from './operator.js';
 import { CsrOperator } from './operator/csr.js';
 import { PinnedOperator, type BlockPlacement } from './operator/pinned.js';
 import { arenaHolding, VectorArena } from './simd.js';
+import { serveTeam, SyncTeam, TEAM_WORDS } from './threadTeam.js';
 
 /** An operator that can write any slice [lo, hi) of its product on its own. */
 export interface RangeOperator extends HermitianOperator {
@@ -45,16 +45,11 @@ export function operatorFromPayload(p: ProductPayload): RangeOperator {
   return new CsrOperator(p.dim, p.isComplex, p.rowStart, p.columns, p.valuesRe, p.valuesIm);
 }
 
-// Control words in a shared Int32Array.
-const GENERATION = 0; // bumped by the caller for every product
-const DONE = 1; // workers that finished the current product
-const COMMAND = 2; // RUN or STOP
-const READY = 3; // workers that have started
-const X_AT = 4; // byte offsets of this product's x and y in the arena
-const Y_AT = 5;
-const WORDS = 6;
+// After the hand-off's control words: byte offsets of this product's x and y in the arena.
+const X_AT = TEAM_WORDS;
+const Y_AT = TEAM_WORDS + 1;
+const PARAMS = 2;
 const RUN = 1;
-const STOP = 2;
 
 /** Threads to use for one product: all cores when the work is large enough to pay for the hand-offs. */
 export function defaultProductThreads(work: number): number {
@@ -98,13 +93,11 @@ export class ThreadedOperator implements HermitianOperator {
    * solver as `arena`) are multiplied in place; others are copied in and out.
    */
   readonly arena: VectorArena | null;
-  private readonly control: Int32Array;
+  private readonly team: SyncTeam;
   private readonly offsets: Uint32Array;
   private readonly x: Float64Array;
   private readonly y: Float64Array;
   private readonly bounds: number[];
-  private readonly workers: Worker[] = [];
-  private closed = false;
 
   constructor(
     private readonly local: RangeOperator,
@@ -114,9 +107,6 @@ export class ThreadedOperator implements HermitianOperator {
     this.dim = local.dim;
     this.isComplex = local.isComplex;
     const length = (this.isComplex ? 2 : 1) * this.dim;
-    const words = new SharedArrayBuffer(4 * WORDS);
-    this.control = new Int32Array(words);
-    this.offsets = new Uint32Array(words);
     // A stored matrix built in an arena brings its own; otherwise a new one, so every thread's
     // slice runs the SIMD kernels (plain shared memory if this runtime has none).
     const home = local instanceof CsrOperator && local.arena?.allocates ? local.arena : null;
@@ -140,48 +130,31 @@ export class ThreadedOperator implements HermitianOperator {
     this.bounds = splitRows(local, threads);
     // From dist/src the worker is dist/workers; tests that load src/*.ts directly use the built one.
     const script = new URL(import.meta.url.endsWith('.ts') ? '../dist/workers/product.js' : '../workers/product.js', import.meta.url);
-    for (let t = 1; t < threads; t++) {
-      const worker = new Worker(script, {
-        workerData: { payload, control: this.control, x: this.x, y: this.y, shared, lo: this.bounds[t], hi: this.bounds[t + 1] },
-      });
-      worker.unref();
-      this.workers.push(worker);
-    }
-    // Workers start on their own threads; wait for them without needing the event loop.
-    const deadline = Date.now() + 30_000;
-    let ready;
-    while ((ready = Atomics.load(this.control, READY)) < this.workers.length) {
-      if (Date.now() > deadline) throw new Error('product worker threads did not start within 30 s');
-      Atomics.wait(this.control, READY, ready, 100);
-    }
+    this.team = new SyncTeam(script, threads, PARAMS, (t, control) => ({
+      payload,
+      control,
+      x: this.x,
+      y: this.y,
+      shared,
+      lo: this.bounds[t],
+      hi: this.bounds[t + 1],
+    }));
+    this.offsets = new Uint32Array(this.team.control.buffer);
   }
 
   apply(x: Float64Array, y: Float64Array): void {
-    const c = this.control;
     const inPlace = this.arena !== null && arenaHolding(x, y) === this.arena;
     const xs = inPlace ? x : this.x;
     const ys = inPlace ? y : this.y;
     if (!inPlace) xs.set(x);
     this.offsets[X_AT] = xs.byteOffset;
     this.offsets[Y_AT] = ys.byteOffset;
-    Atomics.store(c, DONE, 0);
-    Atomics.store(c, COMMAND, RUN);
-    Atomics.add(c, GENERATION, 1);
-    Atomics.notify(c, GENERATION);
-    this.local.applyRange(xs, ys, this.bounds[0], this.bounds[1]);
-    const workers = this.workers.length;
-    let done;
-    while ((done = Atomics.load(c, DONE)) < workers) Atomics.wait(c, DONE, done);
+    this.team.run(RUN, () => this.local.applyRange(xs, ys, this.bounds[0], this.bounds[1]));
     if (!inPlace) y.set(ys);
   }
 
   close(): void {
-    if (this.closed) return;
-    this.closed = true;
-    Atomics.store(this.control, COMMAND, STOP);
-    Atomics.add(this.control, GENERATION, 1);
-    Atomics.notify(this.control, GENERATION);
-    for (const w of this.workers) void w.terminate();
+    this.team.close();
   }
 }
 
@@ -216,13 +189,7 @@ export function runProductWorker(data: {
   let { x, y } = data;
   let xAt = -1;
   let yAt = -1;
-  let generation = Atomics.load(c, GENERATION);
-  Atomics.add(c, READY, 1);
-  Atomics.notify(c, READY);
-  for (;;) {
-    Atomics.wait(c, GENERATION, generation);
-    generation = Atomics.load(c, GENERATION);
-    if (Atomics.load(c, COMMAND) === STOP) return;
+  serveTeam(c, true, () => {
     if (arena && shared && (offsets[X_AT] !== xAt || offsets[Y_AT] !== yAt)) {
       xAt = offsets[X_AT];
       yAt = offsets[Y_AT];
@@ -230,9 +197,7 @@ export function runProductWorker(data: {
       y = arena.view(yAt, shared.length);
     }
     op.applyRange(x, y, data.lo, data.hi);
-    Atomics.add(c, DONE, 1);
-    Atomics.notify(c, DONE);
-  }
+  });
 }
 
 /** The operator itself, or a threaded wrapper when more than one thread is asked and possible. */

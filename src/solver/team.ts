@@ -4,33 +4,27 @@
 // The calling thread takes slice 0 and waits on an atomic counter, so the kernels stay
 // synchronous and the solver's loop does not change.
 
-import { Worker } from 'node:worker_threads';
 import { VectorArena, type WasmKernels } from '../simd.js';
+import { serveTeam, SyncTeam, TEAM_WORDS } from '../threadTeam.js';
 import { BLOCK, SIMD_BLOCK } from './kernels.js';
 
-// Control words (Int32Array over a SharedArrayBuffer).
-const GENERATION = 0; // bumped for every command
-const DONE = 1; // helper threads that finished the current command
-const READY = 2; // helper threads that have started
-const COMMAND = 3;
-// Parameters of the current command (Uint32: byte offsets may pass 2 GiB).
-const P_LENGTH = 4; // padded vector length in doubles
-const P_W = 5;
-const P_TABLE = 6;
-const P_COUNT = 7;
-const P_COEF = 8;
-const P_OUT = 9; // partial results: slot t at P_OUT + t * P_STRIDE bytes
-const P_STRIDE = 10;
-const P_COMPLEX = 11;
-const P_Y = 12; // combine: coefficients, leading dimension, kept columns, scratch per thread
-const P_YS = 13;
-const P_KEEP = 14;
-const P_SCRATCH = 15;
-const P_DOTS = 16; // subtract: also the dots of the result
-const FAILED = 17; // a helper could not set up the kernels
-const WORDS = 18;
+// Parameters of the current command, after the hand-off's control words (read as Uint32: byte
+// offsets may pass 2 GiB).
+const P_LENGTH = TEAM_WORDS; // padded vector length in doubles
+const P_W = TEAM_WORDS + 1;
+const P_TABLE = TEAM_WORDS + 2;
+const P_COUNT = TEAM_WORDS + 3;
+const P_COEF = TEAM_WORDS + 4;
+const P_OUT = TEAM_WORDS + 5; // partial results: slot t at P_OUT + t * P_STRIDE bytes
+const P_STRIDE = TEAM_WORDS + 6;
+const P_COMPLEX = TEAM_WORDS + 7;
+const P_Y = TEAM_WORDS + 8; // combine: coefficients, leading dimension, kept columns, scratch per thread
+const P_YS = TEAM_WORDS + 9;
+const P_KEEP = TEAM_WORDS + 10;
+const P_SCRATCH = TEAM_WORDS + 11;
+const P_DOTS = TEAM_WORDS + 12; // subtract: also the dots of the result
+const PARAMS = 13;
 
-const STOP = 0;
 const PROJECT = 1;
 const SUBTRACT = 2; // with the dots of the result when P_OUT is set, and always its squared norm
 const COMBINE = 3;
@@ -42,9 +36,8 @@ function slice(length: number, t: number, threads: number): [number, number] {
 }
 
 /** What one thread does for the current command, on its slice. */
-function runSlice(wasm: WasmKernels, memory: WebAssembly.Memory, p: Uint32Array, t: number, threads: number): void {
+function runSlice(command: number, wasm: WasmKernels, memory: WebAssembly.Memory, p: Uint32Array, t: number, threads: number): void {
   const [lo, hi] = slice(p[P_LENGTH], t, threads);
-  const command = p[COMMAND];
   const count = p[P_COUNT];
   const complex = p[P_COMPLEX] === 1;
   if (command === COMBINE) {
@@ -81,40 +74,19 @@ function runSlice(wasm: WasmKernels, memory: WebAssembly.Memory, p: Uint32Array,
 
 /** Helper threads for one arena's kernels. */
 export class KernelTeam {
-  private readonly control: Int32Array;
+  private readonly team: SyncTeam;
   private readonly params: Uint32Array;
-  private readonly workers: Worker[] = [];
   private partials: Float64Array | null = null;
   private scratch: Float64Array | null = null;
-  private closed = false;
 
   private constructor(
     private readonly arena: VectorArena,
     readonly threads: number,
   ) {
-    const shared = new SharedArrayBuffer(4 * WORDS);
-    this.control = new Int32Array(shared);
-    this.params = new Uint32Array(shared);
     // From dist/src/solver the worker is dist/workers; tests that load src/*.ts use the built one.
     const script = new URL(import.meta.url.endsWith('.ts') ? '../../dist/workers/kernels.js' : '../../workers/kernels.js', import.meta.url);
-    for (let t = 1; t < threads; t++) {
-      const worker = new Worker(script, { workerData: { memory: arena.memory, control: this.control, thread: t, threads } });
-      worker.unref();
-      this.workers.push(worker);
-    }
-    const deadline = Date.now() + 30_000;
-    let ready;
-    while ((ready = Atomics.load(this.control, READY)) < this.workers.length) {
-      if (Date.now() > deadline) {
-        this.close();
-        throw new Error('kernel worker threads did not start within 30 s');
-      }
-      Atomics.wait(this.control, READY, ready, 100);
-    }
-    if (Atomics.load(this.control, FAILED) !== 0) {
-      this.close();
-      throw new Error('kernel worker threads could not instantiate the SIMD kernels');
-    }
+    this.team = new SyncTeam(script, threads, PARAMS, (thread, control) => ({ memory: arena.memory, control, thread, threads }));
+    this.params = new Uint32Array(this.team.control.buffer);
   }
 
   /** A team of `threads` (the caller included), or null if helpers cannot start here. */
@@ -140,15 +112,7 @@ export class KernelTeam {
   }
 
   private run(command: number): void {
-    const c = this.control;
-    this.params[COMMAND] = command;
-    Atomics.store(c, DONE, 0);
-    Atomics.add(c, GENERATION, 1);
-    Atomics.notify(c, GENERATION);
-    runSlice(this.arena.wasm, this.arena.memory, this.params, 0, this.threads);
-    const helpers = this.workers.length;
-    let done;
-    while ((done = Atomics.load(c, DONE)) < helpers) Atomics.wait(c, DONE, done);
+    this.team.run(command, () => runSlice(command, this.arena.wasm, this.arena.memory, this.params, 0, this.threads));
   }
 
   /** Adds thread t's partials (first `n` doubles of each slot) into `into`. */
@@ -235,31 +199,13 @@ export class KernelTeam {
   }
 
   close(): void {
-    if (this.closed) return;
-    this.closed = true;
-    this.params[COMMAND] = STOP;
-    Atomics.add(this.control, GENERATION, 1);
-    Atomics.notify(this.control, GENERATION);
-    for (const w of this.workers) void w.terminate();
+    this.team.close();
   }
 }
 
-/** The loop a helper thread runs: wait for a command, do its slice, count itself done. */
+/** A helper thread: attach to the arena, then run its slice of every command until told to stop. */
 export function runKernelWorker(data: { memory: WebAssembly.Memory; control: Int32Array; thread: number; threads: number }): void {
   const arena = VectorArena.attach(data.memory, 0);
-  const c = data.control;
-  const p = new Uint32Array(c.buffer);
-  let generation = Atomics.load(c, GENERATION);
-  if (!arena) Atomics.store(c, FAILED, 1);
-  Atomics.add(c, READY, 1);
-  Atomics.notify(c, READY);
-  if (!arena) return;
-  for (;;) {
-    Atomics.wait(c, GENERATION, generation);
-    generation = Atomics.load(c, GENERATION);
-    if (p[COMMAND] === STOP) return;
-    runSlice(arena.wasm, data.memory, p, data.thread, data.threads);
-    Atomics.add(c, DONE, 1);
-    Atomics.notify(c, DONE);
-  }
+  const p = new Uint32Array(data.control.buffer);
+  serveTeam(data.control, arena !== null, (command) => runSlice(command, arena!.wasm, data.memory, p, data.thread, data.threads));
 }

@@ -1,0 +1,91 @@
+// The hand-off both shared-memory teams use (the split matrix-vector product in parallel.ts and
+// the solver's vector kernels in solver/team.ts): the calling thread writes a command into shared
+// control words, bumps a generation counter, does its own share, and waits until every helper
+// thread has counted itself done. Everything stays synchronous, so callers look single-threaded.
+
+import { Worker } from 'node:worker_threads';
+
+const GENERATION = 0; // bumped by the caller for every command
+const DONE = 1; // helpers that finished the current command
+const READY = 2; // helpers that have started
+const COMMAND = 3;
+const FAILED = 4; // a helper could not set itself up
+/** Control words the hand-off uses; a team's own parameters start at this index. */
+export const TEAM_WORDS = 5;
+const STOP = -1;
+
+export class SyncTeam {
+  /** The control words, TEAM_WORDS of them first, then the team's own parameters. */
+  readonly control: Int32Array;
+  private readonly workers: Worker[] = [];
+  private closed = false;
+
+  /**
+   * Starts `threads - 1` helpers running `script` (which calls `serveTeam`) and waits for them
+   * without the event loop. Throws if they do not start within 30 s or one reports a failure.
+   */
+  constructor(script: URL, threads: number, words: number, workerData: (thread: number, control: Int32Array) => unknown) {
+    this.control = new Int32Array(new SharedArrayBuffer(4 * (TEAM_WORDS + words)));
+    for (let t = 1; t < threads; t++) {
+      const worker = new Worker(script, { workerData: workerData(t, this.control) });
+      worker.unref();
+      this.workers.push(worker);
+    }
+    const deadline = Date.now() + 30_000;
+    let ready;
+    while ((ready = Atomics.load(this.control, READY)) < this.workers.length) {
+      if (Date.now() > deadline) {
+        this.close();
+        throw new Error('worker threads did not start within 30 s');
+      }
+      Atomics.wait(this.control, READY, ready, 100);
+    }
+    if (Atomics.load(this.control, FAILED) !== 0) {
+      this.close();
+      throw new Error('a worker thread could not set itself up');
+    }
+  }
+
+  /** Every helper runs `command` on its share while this thread runs `own`; returns when all are done. */
+  run(command: number, own: () => void): void {
+    const c = this.control;
+    Atomics.store(c, COMMAND, command);
+    Atomics.store(c, DONE, 0);
+    Atomics.add(c, GENERATION, 1);
+    Atomics.notify(c, GENERATION);
+    own();
+    const helpers = this.workers.length;
+    let done;
+    while ((done = Atomics.load(c, DONE)) < helpers) Atomics.wait(c, DONE, done);
+  }
+
+  close(): void {
+    if (this.closed) return;
+    this.closed = true;
+    Atomics.store(this.control, COMMAND, STOP);
+    Atomics.add(this.control, GENERATION, 1);
+    Atomics.notify(this.control, GENERATION);
+    for (const w of this.workers) void w.terminate();
+  }
+}
+
+/**
+ * The loop a helper runs: report ready (or failed, when `ready` is false, and leave), then wait
+ * for each command, do its share with `work`, count itself done, until told to stop.
+ */
+export function serveTeam(control: Int32Array, ready: boolean, work: (command: number) => void): void {
+  let generation = Atomics.load(control, GENERATION);
+  if (!ready) Atomics.store(control, FAILED, 1);
+  Atomics.add(control, READY, 1);
+  Atomics.notify(control, READY);
+  if (!ready) return;
+  for (;;) {
+    Atomics.wait(control, GENERATION, generation);
+    generation = Atomics.load(control, GENERATION);
+    const command = Atomics.load(control, COMMAND);
+    if (command === STOP) return;
+    work(command);
+    Atomics.add(control, DONE, 1);
+    Atomics.notify(control, DONE);
+  }
+}
