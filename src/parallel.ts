@@ -98,6 +98,7 @@ export class ThreadedOperator implements HermitianOperator {
   private readonly x: Float64Array;
   private readonly y: Float64Array;
   private readonly bounds: number[];
+  private readonly ownsArena: boolean;
 
   constructor(
     private readonly local: RangeOperator,
@@ -110,8 +111,9 @@ export class ThreadedOperator implements HermitianOperator {
     // A stored matrix built in an arena brings its own; otherwise a new one, so every thread's
     // slice runs the SIMD kernels (plain shared memory if this runtime has none).
     const home = local instanceof CsrOperator && local.arena?.allocates ? local.arena : null;
-    const arena = home ?? VectorArena.create();
+    const arena = home ?? VectorArena.acquire();
     this.arena = arena;
+    this.ownsArena = home === null;
     this.x = arena ? arena.vector(length) : new Float64Array(new SharedArrayBuffer(8 * length));
     this.y = arena ? arena.vector(length) : new Float64Array(new SharedArrayBuffer(8 * length));
     // The pinned block pass reads its data from the same memory; place it before the workers start.
@@ -155,6 +157,7 @@ export class ThreadedOperator implements HermitianOperator {
 
   close(): void {
     this.team.close();
+    if (this.ownsArena) this.arena?.recycle();
   }
 }
 

@@ -127,7 +127,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   const basis = buildBasis(plan.model);
   if (plan.used && basis.kind === 'pinned') return solvePinnedInSectors(spec, plan, basis, options, started);
   // A stored matrix is built in an arena, beside the solver's vectors, so its products run in WebAssembly.
-  const arena = basis.kind === 'pinned' ? null : VectorArena.create();
+  const arena = basis.kind === 'pinned' ? null : VectorArena.acquire();
   const op = buildOperator(plan.model, basis, arena);
   const states = Math.min(spec.solve.states, basis.dim);
   const threads = productThreads(spec, options, op.nonzeros());
@@ -151,6 +151,8 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   } finally {
     threaded.close();
   }
+  // The solver's results are copies, and the operator is done with: the next point may reuse the memory.
+  arena?.recycle();
   const ground = eigen.vectors.slice(0, eigen.degeneracy);
   const observables =
     basis.kind === 'pinned'

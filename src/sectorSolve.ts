@@ -126,7 +126,7 @@ export function solveInSectors(
   // The matrix and the solver's vectors share one arena, so products run in WebAssembly. One
   // arena serves every sector: each sector's matrix and vectors are released before the next,
   // so memory holds one sector at a time (a fresh memory per sector would wait for the GC).
-  const arena = VectorArena.create();
+  const arena = VectorArena.acquire();
   for (const plan of plans) {
     const sector = new SectorBasis(orbitsFor(plan.label), plan.label);
     if (sector.dim === 0) continue;
@@ -198,6 +198,8 @@ export function solveInSectors(
     found = found.filter((f, k) => k < states || f.energy - e0 <= window);
   }
 
+  // Every kept vector is a copy outside it, so the next solve on this thread may reuse it.
+  arena?.recycle();
   if (found.length === 0) throw new SpecError('solve.sector', 'the selected sectors contain no states');
   const e0 = found[0].energy;
   const window = degeneracyWindow(e0, opts.tolerance);

@@ -39,6 +39,8 @@ export function arenaHolding(x: Float64Array | Int32Array, y: Float64Array | Int
 }
 
 let compiled: WebAssembly.Module | null | undefined;
+/** See VectorArena.acquire: module state is per thread, so each thread keeps its own. */
+let idleArena: VectorArena | null = null;
 
 function kernelModule(): WebAssembly.Module | null {
   if (compiled === undefined) {
@@ -94,6 +96,27 @@ export class VectorArena {
     } catch {
       return null;
     }
+  }
+
+  /**
+   * An arena for one piece of work: this thread's idle one when it has one, else a new one. A
+   * reused arena's pages are already mapped, so a scan's points do not each pay page faults for
+   * fresh memory (measured: a third of a small point's time). Hand it back with `recycle`.
+   */
+  static acquire(): VectorArena | null {
+    const spare = idleArena;
+    idleArena = null;
+    return spare ?? VectorArena.create();
+  }
+
+  /**
+   * Hands this arena back for the thread's next `acquire`; every view of it must be dropped. One
+   * idle arena is kept per thread (the larger), so a thread holds at most what its largest work needed.
+   */
+  recycle(): void {
+    if (!this.allocates) return;
+    this.release(0);
+    if (!idleArena || idleArena.memory.buffer.byteLength < this.memory.buffer.byteLength) idleArena = this;
   }
 
   /**

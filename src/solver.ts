@@ -724,7 +724,7 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   const lanczos = dim > (opts.denseThreshold ?? DEFAULT_DENSE_THRESHOLD);
   // One arena per solve: the Lanczos basis lives in it; results are copied out at the end.
   const given = opts.arena && opts.arena.allocates ? opts.arena : null;
-  const arena = lanczos && length >= ARENA_MIN_LENGTH ? (given ?? VectorArena.create()) : null;
+  const arena = lanczos && length >= ARENA_MIN_LENGTH ? (given ?? VectorArena.acquire()) : null;
   const kernels = arena ? new VectorKernels(arena) : plainKernels;
   const mark = given?.mark();
   if (kernels.arena && (opts.threads ?? 1) > 1 && length >= TEAM_MIN_LENGTH) {
@@ -735,6 +735,7 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   } finally {
     kernels.team?.close();
     if (given && mark !== undefined) given.release(mark);
+    else if (!given) arena?.recycle();
   }
 }
 
