@@ -379,14 +379,31 @@ const SHORT_RUN = 16;
  * between two of them. Row r holds <r|H|c> for columns c of the block.
  */
 function blockMatrix(model: Model, basis: PinnedBasis, sites: number, size: number) {
-  const N = model.levels;
+  // Two passes over the same rows, counting then filling, so the entries go straight into typed
+  // arrays (growing plain arrays cost a scan's small points a good part of their time).
   const rowStart = new Int32Array(size + 1);
-  const column: number[] = [];
-  const re: number[] = [];
-  const im: number[] = [];
+  blockEntries(model, basis, sites, size, rowStart, null);
+  const count = rowStart[size];
+  const entries = { column: new Int32Array(count), re: new Float64Array(count), im: new Float64Array(count) };
+  blockEntries(model, basis, sites, size, rowStart, entries);
+  return { rowStart, ...entries };
+}
+
+/** Walks the block's rows: without `out`, records row starts; with it, writes the entries there. */
+function blockEntries(model: Model, basis: PinnedBasis, sites: number, size: number, rowStart: Int32Array, out: { column: Int32Array; re: Float64Array; im: Float64Array } | null): void {
+  const N = model.levels;
   const digits = new Int32Array(sites);
   const w = model.exchangeWeights;
   const ep = model.exchangePairs;
+  let k = 0;
+  const emit = (column: number, re: number, im: number): void => {
+    if (out) {
+      out.column[k] = column;
+      out.re[k] = re;
+      out.im[k] = im;
+    }
+    k++;
+  };
   for (let r = 0; r < size; r++) {
     let rest = r;
     for (let i = 0; i < sites; i++) {
@@ -400,9 +417,7 @@ function blockMatrix(model: Model, basis: PinnedBasis, sites: number, size: numb
         const hr = model.localRe[a * N + b];
         const hi = model.localIm[a * N + b];
         if (hr === 0 && hi === 0) continue;
-        column.push(r + (b - a) * basis.strides[i]);
-        re.push(hr);
-        im.push(hi);
+        emit(r + (b - a) * basis.strides[i], hr, hi);
       }
     }
     for (let p = 0; p < ep.count; p++) {
@@ -412,19 +427,11 @@ function blockMatrix(model: Model, basis: PinnedBasis, sites: number, size: numb
       const di = digits[i];
       const dj = digits[j];
       // this row (d_i, d_j) = (n+1, n) is reached from (n, n+1), and the other way round
-      if (di === dj + 1 && w[dj] !== 0) {
-        column.push(r - basis.strides[i] + basis.strides[j]);
-        re.push(ep.value[p] * w[dj]);
-        im.push(0);
-      } else if (dj === di + 1 && w[di] !== 0) {
-        column.push(r + basis.strides[i] - basis.strides[j]);
-        re.push(ep.value[p] * w[di]);
-        im.push(0);
-      }
+      if (di === dj + 1 && w[dj] !== 0) emit(r - basis.strides[i] + basis.strides[j], ep.value[p] * w[dj], 0);
+      else if (dj === di + 1 && w[di] !== 0) emit(r + basis.strides[i] - basis.strides[j], ep.value[p] * w[di], 0);
     }
-    rowStart[r + 1] = column.length;
+    if (!out) rowStart[r + 1] = k;
   }
-  return { rowStart, column: Int32Array.from(column), re: Float64Array.from(re), im: Float64Array.from(im) };
 }
 
 /** Diagonal of the pinned Hamiltonian, built digit by digit with the same block loops. */
