@@ -15,6 +15,7 @@ import { loadSpec } from './spec.js';
 import { expandScan, formatParams, pointCost, sizeScan, type ScanPlan, type ScanPoint } from './scan.js';
 import { RunWriter } from './runfiles.js';
 import { assignShards, type Shard } from './shard.js';
+import { newClaims, takeTail, unclaimed } from './scanClaims.js';
 import type { ScanRecord, TaskMessage } from './scanTask.js';
 import { shellQuote } from './tables.js';
 
@@ -81,6 +82,12 @@ export interface PlannedTask {
   cost: number;
 }
 
+/** Whether neighbours along a line can share a basis: every axis that moves along a line numeric, none a size. */
+export function linesAreContinuous(plan: ScanPlan): boolean {
+  const moving = plan.section.zip ? plan.section.axes : plan.section.axes.slice(-1);
+  return moving.every((a) => a.values.every((v) => typeof v === 'number') && !['chain.sites', 'levels.count', 'particles.number'].includes(a.key));
+}
+
 /**
  * Splits the pending points into tasks: each a run of consecutive pending points of one line, so
  * warm starts chain within it; ordered by cost, largest first, so a long night ends on small work
@@ -113,11 +120,8 @@ export function planTasks(plan: ScanPlan, pending: Set<number>, costs: number[],
     flush();
   }
   // A task that starts inside a line gets the point before it as a lead-in, so the overlaps of
-  // neighbours along the line have no holes where lines were cut or a run resumed; only where
-  // neighbours can share a basis (every axis that moves along a line numeric, none a size).
-  const moving = plan.section.zip ? plan.section.axes : plan.section.axes.slice(-1);
-  const continuous = moving.every((a) => a.values.every((v) => typeof v === 'number') && !['chain.sites', 'levels.count', 'particles.number'].includes(a.key));
-  if (continuous) {
+  // neighbours along the line have no holes where lines were cut or a run resumed.
+  if (linesAreContinuous(plan)) {
     const before = new Map<number, number>();
     for (const line of plan.lines) line.forEach((index, k) => k > 0 && before.set(index, line[k - 1]));
     for (const task of tasks) {
@@ -351,14 +355,38 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
 
     pool = createPointPool({ workers });
     const activePool = pool;
+    const continuous = linesAreContinuous(plan);
     await new Promise<void>((resolve) => {
       let inflight = 0;
+      const running = new Map<PlannedTask, Int32Array>();
+      // A worker with nothing queued takes the unstarted second half of the busiest task. Along a
+      // line the taken piece costs one lead-in solve, so it must hold at least two points.
+      const takeWork = (): PlannedTask | null => {
+        let busiest: PlannedTask | null = null;
+        let most = 0;
+        for (const [task, claims] of running) {
+          const left = unclaimed(claims);
+          if (left > most) [busiest, most] = [task, left];
+        }
+        const cut = busiest && takeTail(running.get(busiest)!, continuous ? 2 : 1);
+        if (!busiest || !cut) return null;
+        const points = busiest.points.slice(cut[0], cut[1]);
+        const leadIn = continuous ? busiest.points[cut[0] - 1] : undefined;
+        busiest.points = busiest.points.slice(0, cut[0]);
+        return { points, leadIn, cost: [...points, ...(leadIn ? [leadIn] : [])].reduce((sum, p) => sum + costs[p.index], 0) };
+      };
       const pump = (): void => {
-        while (!stopping && inflight < workers && queue.length > 0) start(queue.shift()!);
+        while (!stopping && inflight < workers) {
+          const task = queue.shift() ?? takeWork();
+          if (!task) break;
+          start(task);
+        }
         if (inflight === 0) resolve();
       };
       const start = (task: PlannedTask): void => {
         inflight++;
+        const claims = newClaims(task.points.length);
+        running.set(task, claims);
         const { port1, port2 } = new MessageChannel();
         const reported = new Set<number>();
         port1.on('message', (message: TaskMessage) => {
@@ -373,6 +401,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
           if (error) await sleep(100);
           else for (let waited = 0; reported.size < task.points.length && waited < 5000; waited++) await sleep(1);
           port1.close();
+          running.delete(task);
           inflight--;
           if (error && !stopping) {
             const left = task.points.filter((p) => !reported.has(p.index));
@@ -398,7 +427,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
           pump();
         };
         activePool
-          .run({ points: task.points.map((p) => ({ index: p.index, params: p.params, raw: p.raw })), leadIn: task.leadIn ? { index: task.leadIn.index, params: task.leadIn.params, raw: task.leadIn.raw } : undefined, maxMemory, warmStart: options.warmStart !== false, threads: threadsPerPoint, port: port2 }, { transferList: [port2] })
+          .run({ points: task.points.map((p) => ({ index: p.index, params: p.params, raw: p.raw })), leadIn: task.leadIn ? { index: task.leadIn.index, params: task.leadIn.params, raw: task.leadIn.raw } : undefined, maxMemory, warmStart: options.warmStart !== false, threads: threadsPerPoint, claims, port: port2 }, { transferList: [port2] })
           .then(
             () => settle(null),
             (e: unknown) => settle(e),

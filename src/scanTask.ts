@@ -6,6 +6,7 @@
 import type { MessagePort } from 'node:worker_threads';
 import { threadId } from 'node:worker_threads';
 import { isRungchainError } from './errors.js';
+import { claimNext } from './scanClaims.js';
 import { planPoint, solvePoint, type PointRecord } from './point.js';
 import { validateSpec, type Spec } from './spec.js';
 import type { ScanParams } from './scan.js';
@@ -28,6 +29,8 @@ export interface ScanTask {
   warmStart: boolean;
   /** Most threads one product may use: the cores this worker's share allows (see chooseParallelism). */
   threads?: number;
+  /** Shared claims (see newClaims): the worker takes points through them, so the main thread can hand the unstarted tail to an idle worker. */
+  claims?: Int32Array;
   port: MessagePort;
 }
 
@@ -62,10 +65,16 @@ export type TaskMessage = { kind: 'start'; index: number } | { kind: 'record'; r
 /** Test hook: a worker exits abruptly (as on running out of memory) when it reaches this point index. */
 const EXIT_AT = process.env.RUNGCHAIN_TEST_WORKER_EXIT_AT;
 /**
- * Test hook: each point first waits this many milliseconds, so tests that interrupt a scan part
- * way (kill, Ctrl-C, a second writer) do not race a scan that finishes too fast.
+ * Test hook: each point first waits this many milliseconds ("150"), or only the points with an
+ * index in a range ("150@0-4"), so tests that interrupt a scan part way (kill, Ctrl-C, a second
+ * writer) do not race a scan that finishes too fast, and tests of uneven work can make some slow.
  */
-const POINT_DELAY_MS = Number(process.env.RUNGCHAIN_TEST_POINT_DELAY_MS ?? 0);
+const POINT_DELAY = /^(\d+)(?:@(\d+)-(\d+))?$/.exec(process.env.RUNGCHAIN_TEST_POINT_DELAY_MS ?? '');
+function testDelayFor(index: number): number {
+  if (!POINT_DELAY) return 0;
+  const [, ms, from, to] = POINT_DELAY;
+  return from === undefined || (index >= Number(from) && index <= Number(to)) ? Number(ms) : 0;
+}
 
 /** A key telling whether two points share a basis (same states in the same order and arithmetic). */
 function basisKey(spec: Spec, isComplex: boolean, dimension: number): string {
@@ -133,10 +142,13 @@ export function runScanTask(task: ScanTask, post: (message: TaskMessage) => void
     }
   }
   let solved = 0;
-  for (const point of task.points) {
+  for (let k = 0; k < task.points.length; k++) {
+    if (task.claims && claimNext(task.claims) !== k) break;
+    const point = task.points[k];
     post({ kind: 'start', index: point.index });
     if (EXIT_AT !== undefined && Number(EXIT_AT) === point.index) process.exit(70);
-    if (POINT_DELAY_MS > 0) Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, POINT_DELAY_MS);
+    const delay = testDelayFor(point.index);
+    if (delay > 0) Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, delay);
     const started = performance.now();
     let record: ScanRecord;
     try {

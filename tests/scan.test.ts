@@ -443,6 +443,36 @@ describe('rungchain scan', () => {
   });
 });
 
+describe('uneven work along a line', () => {
+  it('a worker that runs out of work takes the unstarted half of the busier one: every point once, same results as one worker', () => {
+    const dir = tmp();
+    const spec = writeSpec(dir, `${BASE}
+[[scan.axis]]
+key = "exchange.strength"
+from = 0.5
+to = 3
+steps = 10
+`);
+    const one = path.join(dir, 'one');
+    const two = path.join(dir, 'two');
+    expect(runCli(['scan', spec, '--out', one, '--workers', '1', '--quiet']).code).toBe(0);
+    // Points 0-4 (the first worker's half) take at least 400 ms each; the other half is fast.
+    const r = spawnCli(['scan', spec, '--out', two, '--workers', '2', '--quiet'], { RUNGCHAIN_TEST_POINT_DELAY_MS: '400@0-4' });
+    expect(r.code).toBe(0);
+    const alone = recordsByIndex(one);
+    const shared = recordsByIndex(two); // fails on a point recorded twice
+    expect(readRun(two).records).toHaveLength(10);
+    expect([...shared.keys()].sort((a, b) => a - b)).toEqual([...Array(10).keys()]);
+    // The slow half was shared: its points were solved by both workers.
+    expect(new Set([0, 1, 2, 3, 4].map((i) => shared.get(i)!.worker)).size).toBe(2);
+    for (const [index, rec] of shared) {
+      expectSameResult(rec, alone.get(index)!, false);
+      // A taken piece starts with a lead-in solve, so its first point has its overlap too.
+      if (index > 0) expect(rec.overlap_previous).toBeCloseTo(alone.get(index)!.overlap_previous, 6);
+    }
+  });
+});
+
 /** runCli with extra environment variables. */
 function spawnCli(args: string[], env: Record<string, string>) {
   const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8', env: { ...process.env, ...env }, timeout: 120_000 });
