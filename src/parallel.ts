@@ -51,10 +51,14 @@ const Y_AT = TEAM_WORDS + 1;
 const PARAMS = 2;
 const RUN = 1;
 
+/** Cores this process may use. */
+export function coreCount(): number {
+  return Math.max(1, typeof os.availableParallelism === 'function' ? os.availableParallelism() : os.cpus().length);
+}
+
 /** Threads to use for one product: all cores when the work is large enough to pay for the hand-offs. */
 export function defaultProductThreads(work: number): number {
-  const cores = typeof os.availableParallelism === 'function' ? os.availableParallelism() : os.cpus().length;
-  return work >= 4e6 ? Math.max(1, Math.min(cores, 8)) : 1;
+  return work >= 4e6 ? Math.min(coreCount(), 8) : 1;
 }
 
 /** Row boundaries that give each thread about the same work (stored nonzeros, or rows). */

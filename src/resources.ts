@@ -102,6 +102,17 @@ export function largestChargeFraction(sites: number, levels: number): number {
   return Math.max(...poly);
 }
 
+/** Size of the largest sector (with a margin) and of its stored matrix, before building anything. */
+export function largestSector(dim: number, model: Model, used: Record<SymmetryName, boolean>): { sectorDim: number; nnz: number } {
+  const translations = used.translation ? model.sites : 1;
+  const flip = used.level_flip && !used.charge ? 2 : 1;
+  const fraction = used.charge ? largestChargeFraction(model.sites, model.levels) : 1;
+  // Momentum sectors other than 0 and pi are not split by parity, so they are the largest.
+  const parityHalves = used.reflection && !used.translation ? 2 : 1;
+  const sectorDim = Math.ceil((dim * fraction * 1.05) / (translations * flip * parityHalves)) + 64;
+  return { sectorDim, nnz: sectorDim * pinnedColumnsPerState(model) };
+}
+
 /**
  * Peak memory of a sector-by-sector solve: the orbit maps over the full basis (a representative
  * index and a group element per state), the ground-state probabilities, the largest sector's stored
@@ -113,18 +124,15 @@ export function estimateSectorMemory(opts: {
   used: Record<SymmetryName, boolean>;
   krylovVectors: number;
   states: number;
+  /** Sectors solved at once, each with its own matrix and Krylov basis (default 1). */
+  concurrent?: number;
 }): MemoryEstimate {
   const { dim, model, used } = opts;
-  const translations = used.translation ? model.sites : 1;
-  const flip = used.level_flip && !used.charge ? 2 : 1;
-  const fraction = used.charge ? largestChargeFraction(model.sites, model.levels) : 1;
-  // Momentum sectors other than 0 and pi are not split by parity, so they are the largest.
-  const parityHalves = used.reflection && !used.translation ? 2 : 1;
-  const sectorDim = Math.ceil((dim * fraction * 1.05) / (translations * flip * parityHalves)) + 64;
+  const concurrent = opts.concurrent ?? 1;
+  const { sectorDim, nnz } = largestSector(dim, model, used);
   const complex = model.isComplex || used.translation;
   const scalar = complex ? 16 : 8;
   const maps = used.reflection && used.translation ? 2 : 1;
-  const nnz = sectorDim * pinnedColumnsPerState(model);
   const parts: Record<string, number> = {
     runtime: RUNTIME_BASELINE_BYTES,
     orbit_maps: maps * dim * 6,
@@ -132,9 +140,9 @@ export function estimateSectorMemory(opts: {
     // The stored matrix and its build chunks, alive together while the chunks are copied into the
     // arena (sectors reuse one arena, so no earlier sector's matrix waits for the GC): measured
     // peaks of 12x4 and 16x3 chains held 1.7 to 1.9 matrices.
-    sector_matrix: 2 * (nnz * (4 + scalar) + 8 * (sectorDim + 1)),
-    krylov: (opts.krylovVectors + 3) * sectorDim * scalar,
-    kept_states: 2 * opts.states * sectorDim * scalar,
+    sector_matrix: concurrent * 2 * (nnz * (4 + scalar) + 8 * (sectorDim + 1)),
+    krylov: concurrent * (opts.krylovVectors + 3) * sectorDim * scalar,
+    kept_states: concurrent * 2 * opts.states * sectorDim * scalar,
   };
   if (dim <= 1 << 22) parts.ground_states = 2 * dim * 16;
   let totalBytes = 0;

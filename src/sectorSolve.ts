@@ -1,16 +1,23 @@
 // Solving a pinned chain sector by sector: the lowest `states` over all sectors (or the sectors the
 // user names), each labelled with its quantum numbers, and the ground-space probabilities for the
 // observables, without ever forming a full-space vector unless asked.
+//
+// Sectors are independent problems, so with several threads each solves whole sectors (building
+// its matrix too), taking them one by one from a shared counter: no hand-off per product, and the
+// sector builds run in parallel. The threads share the lowest energies found so far, so each can
+// screen a sector out against everything already known.
 
+import { MessageChannel, receiveMessageOnPort, Worker, type MessagePort } from 'node:worker_threads';
 import type { PinnedBasis } from './basis.js';
-import { OrbitMap, SectorBasis, type GroupUse } from './basis/sectors.js';
+import { OrbitMap, SectorBasis, type GroupUse, type OrbitMapParts } from './basis/sectors.js';
 import { SpecError } from './errors.js';
 import type { Model } from './model.js';
+import { ChunkSpares } from './operator/csr.js';
 import { buildSectorOperator } from './operator/sector.js';
 import { withThreads } from './parallel.js';
 import { VectorArena } from './simd.js';
 import { degeneracyWindow, denseThresholdFor, lowestEigenpairs, type EigenOptions } from './solver.js';
-import { IndexActions, planSectors, type SectorLabel, type SectorSelection, type SymmetryName } from './symmetry.js';
+import { IndexActions, planSectors, type SectorLabel, type SectorPlan, type SectorSelection, type SymmetryName } from './symmetry.js';
 
 export interface SectorRun {
   label: SectorLabel;
@@ -50,8 +57,10 @@ export interface SectorSolveOptions {
   initial?: Float64Array;
   initialComplex?: boolean;
   expandGround?: boolean;
-  /** Threads for one product of a sector whose stored matrix has `work` nonzeros (default 1). */
+  /** Threads for one product of a sector whose stored matrix has `work` nonzeros (default 1), when sectors are solved one at a time. */
   threadsFor?: (work: number) => number;
+  /** Sectors solved at once, each on its own thread (default 1); products then use one thread each. */
+  sectorThreads?: number;
   onProgress?: EigenOptions['onProgress'];
 }
 
@@ -62,6 +71,24 @@ interface Found {
   sector: SectorBasis | null;
   vector: Float64Array | null;
   complex: boolean;
+}
+
+/** One sector's states, in the sector's own coordinates (vectors dropped once they cannot matter). */
+interface SectorStates {
+  plan: number;
+  energies: number[];
+  residuals: number[];
+  vectors: (Float64Array | null)[];
+  complex: boolean;
+}
+
+/** What solving one sector gives, on whichever thread solved it. */
+interface SectorOutcome {
+  run: SectorRun;
+  states: SectorStates;
+  matvecs: number;
+  restarts: number;
+  converged: boolean;
 }
 
 function groupFor(label: SectorLabel): GroupUse {
@@ -86,6 +113,255 @@ function sectorOrder(model: Model) {
   };
 }
 
+
+// ---------------------------------------------------------------------------------------------
+// State shared by the threads of one solve: the next sector to take, the lowest energies found
+// (with multiplicity, copies included) behind a small lock, products done, helpers finished.
+
+const LOCK = 0;
+const NEXT = 1;
+const HELPERS_DONE = 2;
+const MATVECS = 3;
+const WORDS = 4;
+
+class SharedProgress {
+  readonly words: Int32Array;
+  /** The lowest `states` energies found so far, ascending; +Infinity where none yet. */
+  readonly lowest: Float64Array;
+
+  constructor(buffers: { words: Int32Array; lowest: Float64Array }) {
+    this.words = buffers.words;
+    this.lowest = buffers.lowest;
+  }
+
+  static create(states: number): SharedProgress {
+    const lowest = new Float64Array(new SharedArrayBuffer(8 * states)).fill(Infinity);
+    return new SharedProgress({ words: new Int32Array(new SharedArrayBuffer(4 * WORDS)), lowest });
+  }
+
+  private locked<T>(body: () => T): T {
+    while (Atomics.compareExchange(this.words, LOCK, 0, 1) !== 0) {
+      /* held for a few instructions by another thread */
+    }
+    try {
+      return body();
+    } finally {
+      Atomics.store(this.words, LOCK, 0);
+    }
+  }
+
+  /** Index of the next sector to solve (past the end: none left). */
+  claim(): number {
+    return Atomics.add(this.words, NEXT, 1);
+  }
+
+  /** The ground energy and the energy every new state must stay below to enter the answer. */
+  bounds(): { ground: number; ceiling: number } {
+    return this.locked(() => ({ ground: this.lowest[0], ceiling: this.lowest[this.lowest.length - 1] }));
+  }
+
+  /** Adds a sector's energies, each `copies + 1` times (its k <-> -k copies have the same). */
+  publish(energies: number[], copies: number): void {
+    this.locked(() => {
+      const all = Array.from(this.lowest);
+      for (const e of energies) for (let c = 0; c <= copies; c++) all.push(e);
+      all.sort((a, b) => a - b);
+      this.lowest.set(all.slice(0, this.lowest.length));
+    });
+  }
+
+  addMatvecs(count: number): void {
+    Atomics.add(this.words, MATVECS, count);
+  }
+
+  matvecs(): number {
+    return Atomics.load(this.words, MATVECS);
+  }
+
+  helperDone(): void {
+    Atomics.add(this.words, HELPERS_DONE, 1);
+    Atomics.notify(this.words, HELPERS_DONE);
+  }
+
+  waitForHelpers(count: number): void {
+    let done;
+    while ((done = Atomics.load(this.words, HELPERS_DONE)) < count) Atomics.wait(this.words, HELPERS_DONE, done, 1000);
+  }
+}
+
+/** Whether a found energy can still be part of the answer: below the ceiling, or degenerate with the ground level. */
+function canMatter(energy: number, bounds: { ground: number; ceiling: number }, tolerance: number): boolean {
+  // Twice the window: the final filter uses the final ground level and ceiling, which only go down.
+  const { ground, ceiling } = bounds;
+  if (!Number.isFinite(ceiling)) return true;
+  return energy <= ceiling + 2 * degeneracyWindow(ceiling, tolerance) || energy - ground <= 2 * degeneracyWindow(ground, tolerance);
+}
+
+/** The orbit maps of the groups the sectors use, built once (shared between threads when asked). */
+class OrbitMaps {
+  private readonly maps = new Map<string, OrbitMap>();
+  private actions: IndexActions | null = null;
+
+  constructor(
+    private readonly basis: PinnedBasis,
+    private readonly shared: boolean,
+    parts: Record<string, OrbitMapParts> = {},
+  ) {
+    for (const [key, p] of Object.entries(parts)) this.maps.set(key, OrbitMap.fromParts(p));
+  }
+
+  for(label: SectorLabel): OrbitMap {
+    const g = groupFor(label);
+    const key = `${g.translation}${g.reflection}${g.levelFlip}`;
+    let m = this.maps.get(key);
+    if (!m) {
+      this.actions ??= new IndexActions(this.basis);
+      m = new OrbitMap(this.basis, g, this.actions, this.shared);
+      this.maps.set(key, m);
+    }
+    return m;
+  }
+
+  parts(): Record<string, OrbitMapParts> {
+    return Object.fromEntries([...this.maps].map(([key, m]) => [key, m.parts()]));
+  }
+}
+
+/** What a helper thread needs: everything is cloned, except the orbit maps and progress, which are shared. */
+interface HelperData {
+  model: Model;
+  basis: PinnedBasis;
+  plans: SectorPlan[];
+  opts: Omit<SectorSolveOptions, 'threadsFor' | 'onProgress' | 'sectorThreads' | 'expandGround'>;
+  maps: Record<string, OrbitMapParts>;
+  progress: { words: Int32Array; lowest: Float64Array };
+  port: MessagePort;
+}
+
+type HelperMessage = { kind: 'sector'; outcome: SectorOutcome } | { kind: 'error'; message: string };
+
+/**
+ * Solves one sector: screened out against the current ceiling when it cannot contribute, else its
+ * lowest `states` (or fewer, if it is smaller) to the tolerance.
+ */
+function solveSector(
+  model: Model,
+  basis: PinnedBasis,
+  plans: SectorPlan[],
+  index: number,
+  maps: OrbitMaps,
+  opts: SectorSolveOptions,
+  shared: SharedProgress,
+  arena: VectorArena | null,
+  spares: ChunkSpares,
+  threadsFor: (work: number) => number,
+  onProgress: EigenOptions['onProgress'] | undefined,
+): SectorOutcome | null {
+  const plan = plans[index];
+  const states = opts.states;
+  const sector = new SectorBasis(maps.for(plan.label), plan.label);
+  if (sector.dim === 0) return null;
+  const mark = arena?.mark();
+  const stored = buildSectorOperator(model, basis, sector, arena, spares);
+  const threads = threadsFor(stored.nonzeros());
+  const op = withThreads(stored, threads);
+  let matvecs = 0;
+  let restarts = 0;
+  try {
+    const isComplex = op.isComplex;
+    let initial: Float64Array | undefined;
+    if (opts.initial) {
+      const c = sector.project(opts.initial, opts.initialComplex ?? false, isComplex);
+      let n2 = 0;
+      for (let k = 0; k < c.length; k++) n2 += c[k] * c[k];
+      if (n2 > 1e-12) initial = c;
+    }
+    const base: EigenOptions = {
+      states: 1,
+      threads,
+      arena,
+      denseThreshold: denseThresholdFor(Math.min(states, sector.dim)),
+      tolerance: opts.tolerance,
+      maxMatvecs: opts.maxMatvecs,
+      krylovSize: opts.krylovSize !== undefined ? Math.min(opts.krylovSize, sector.dim) : undefined,
+      seed: opts.seed,
+      initial,
+      onProgress: onProgress ? (info) => onProgress({ ...info, matvecs: matvecs + info.matvecs, restarts: restarts + info.restarts }) : undefined,
+    };
+    const need = Math.min(states, sector.dim);
+    const { ceiling } = shared.bounds();
+    let result;
+    if (Number.isFinite(ceiling) && sector.dim > denseThresholdFor(need)) {
+      // Screen with the sector's lowest state, converged only as far as the decision needs
+      // (see EigenOptions.screenAbove); anything not screened out is solved to the tolerance.
+      const first = lowestEigenpairs(op, { ...base, verifyDegeneracy: false, screenAbove: ceiling + degeneracyWindow(ceiling, opts.tolerance) });
+      matvecs += first.matvecs;
+      restarts += first.restarts;
+      if (first.screened) {
+        const run = { label: plan.label, dimension: sector.dim, method: first.method, iterations: first.matvecs, lowest: first.values[0], screened: true, copies: plan.copies };
+        return { run, states: { plan: index, energies: [], residuals: [], vectors: [], complex: isComplex }, matvecs, restarts, converged: true };
+      }
+      result = lowestEigenpairs(op, { ...base, states: need, initial: first.vectors[0] });
+    } else {
+      result = lowestEigenpairs(op, { ...base, states: need });
+    }
+    matvecs += result.matvecs;
+    restarts += result.restarts;
+    const energies = Array.from(result.values);
+    shared.publish(energies, plan.copies.length);
+    const bounds = shared.bounds();
+    const run = { label: plan.label, dimension: sector.dim, method: result.method, iterations: result.matvecs, lowest: result.values[0], screened: false, copies: plan.copies };
+    return {
+      run,
+      states: {
+        plan: index,
+        energies,
+        residuals: Array.from(result.residuals),
+        // Only states that can still enter the answer keep their vectors (they are sector-sized).
+        vectors: result.vectors.map((v, k) => (canMatter(energies[k], bounds, opts.tolerance) ? v : null)),
+        complex: isComplex,
+      },
+      matvecs,
+      restarts,
+      converged: result.converged,
+    };
+  } finally {
+    shared.addMatvecs(matvecs);
+    op.close();
+    if (arena && mark !== undefined) arena.release(mark);
+  }
+}
+
+/** Drops the vectors of states that can no longer enter the answer. */
+function prune(outcomes: SectorOutcome[], shared: SharedProgress, tolerance: number): void {
+  const bounds = shared.bounds();
+  for (const o of outcomes) {
+    o.states.vectors = o.states.vectors.map((v, k) => (v && canMatter(o.states.energies[k], bounds, tolerance) ? v : null));
+  }
+}
+
+/** A helper thread's loop: take sectors until none are left, post each outcome, then count itself done. */
+export function runSectorHelper(data: HelperData): void {
+  const shared = new SharedProgress(data.progress);
+  try {
+    const maps = new OrbitMaps(data.basis, false, data.maps);
+    const arena = VectorArena.acquire();
+    const spares = new ChunkSpares();
+    for (let i; (i = shared.claim()) < data.plans.length; ) {
+      const outcome = solveSector(data.model, data.basis, data.plans, i, maps, data.opts, shared, arena, spares, () => 1, undefined);
+      if (!outcome) continue;
+      const vectors = outcome.states.vectors.filter((v): v is Float64Array => v !== null);
+      data.port.postMessage({ kind: 'sector', outcome } satisfies HelperMessage, [...new Set(vectors.map((v) => v.buffer as ArrayBuffer))]);
+    }
+    arena?.recycle();
+  } catch (e) {
+    data.port.postMessage({ kind: 'error', message: e instanceof Error ? `${e.name}: ${e.message}` : String(e) } satisfies HelperMessage);
+  } finally {
+    data.port.close();
+    shared.helperDone();
+  }
+}
+
 export function solveInSectors(
   model: Model,
   basis: PinnedBasis,
@@ -102,107 +378,92 @@ export function solveInSectors(
   if (selection.level_flip && !use.level_flip) throw new SpecError('solve.sector.level_flip', 'this model has no level-flip symmetry');
 
   const plans = planSectors(use, model, selection).sort(sectorOrder(model));
-  const actions = new IndexActions(basis);
-  const maps = new Map<string, OrbitMap>();
-  const orbitsFor = (label: SectorLabel) => {
-    const g = groupFor(label);
-    const key = `${g.translation}${g.reflection}${g.levelFlip}`;
-    let m = maps.get(key);
-    if (!m) {
-      m = new OrbitMap(basis, g, actions);
-      maps.set(key, m);
-    }
-    return m;
-  };
-
   const states = opts.states;
+  const helpers = Math.max(0, Math.min(opts.sectorThreads ?? 1, plans.length) - 1);
+  const maps = new OrbitMaps(basis, helpers > 0);
+  const shared = SharedProgress.create(states);
+  const outcomes: SectorOutcome[] = [];
+  const started: Worker[] = [];
+  const channels: MessagePort[] = [];
+  try {
+    if (helpers > 0) {
+      // Every map the sectors use exists before the helpers start, so they share it.
+      for (const plan of plans) maps.for(plan.label);
+      const { initial, initialComplex, states: s, tolerance, maxMatvecs, krylovSize, seed, selection: sel } = opts;
+      const script = new URL(import.meta.url.endsWith('.ts') ? '../dist/workers/sectors.js' : '../workers/sectors.js', import.meta.url);
+      for (let h = 0; h < helpers; h++) {
+        const { port1, port2 } = new MessageChannel();
+        const data: HelperData = {
+          model,
+          basis,
+          plans,
+          opts: { initial, initialComplex, states: s, tolerance, maxMatvecs, krylovSize, seed, selection: sel },
+          maps: maps.parts(),
+          progress: { words: shared.words, lowest: shared.lowest },
+          port: port2,
+        };
+        const worker = new Worker(script, { workerData: data, transferList: [port2] });
+        worker.unref();
+        started.push(worker);
+        channels.push(port1);
+      }
+    }
+    // This thread takes sectors too; with helpers, each product runs on one thread.
+    const threadsFor = helpers > 0 ? () => 1 : (opts.threadsFor ?? (() => 1));
+    const onProgress = opts.onProgress ? (info: Parameters<NonNullable<EigenOptions['onProgress']>>[0]) => opts.onProgress!({ ...info, matvecs: shared.matvecs() + info.matvecs }) : undefined;
+    const arena = VectorArena.acquire();
+    const spares = new ChunkSpares();
+    for (let i; (i = shared.claim()) < plans.length; ) {
+      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgress);
+      if (outcome) outcomes.push(outcome);
+      prune(outcomes, shared, opts.tolerance);
+    }
+    // Every kept vector is a copy outside it, so the next solve on this thread may reuse it.
+    arena?.recycle();
+    if (helpers > 0) {
+      shared.waitForHelpers(helpers);
+      for (const port of channels) {
+        for (let m; (m = receiveMessageOnPort(port)); ) {
+          const message = m.message as HelperMessage;
+          if (message.kind === 'error') throw new Error(`a sector thread failed: ${message.message}`);
+          outcomes.push(message.outcome);
+        }
+      }
+      prune(outcomes, shared, opts.tolerance);
+    }
+  } finally {
+    for (const port of channels) port.close();
+    for (const worker of started) void worker.terminate();
+  }
+
+  // Runs in the order of the plan, whichever thread solved them.
+  outcomes.sort((a, b) => a.states.plan - b.states.plan);
   let found: Found[] = [];
-  const runs: SectorRun[] = [];
   let matvecs = 0;
   let restarts = 0;
   let converged = true;
-  let anyLanczos = false;
-
-  // The matrix and the solver's vectors share one arena, so products run in WebAssembly. One
-  // arena serves every sector: each sector's matrix and vectors are released before the next,
-  // so memory holds one sector at a time (a fresh memory per sector would wait for the GC).
-  const arena = VectorArena.acquire();
-  for (const plan of plans) {
-    const sector = new SectorBasis(orbitsFor(plan.label), plan.label);
-    if (sector.dim === 0) continue;
-    const mark = arena?.mark();
-    const stored = buildSectorOperator(model, basis, sector, arena);
-    const threads = opts.threadsFor ? opts.threadsFor(stored.nonzeros()) : 1;
-    const op = withThreads(stored, threads);
-    try {
-      const isComplex = op.isComplex;
-      let initial: Float64Array | undefined;
-      if (opts.initial) {
-        const c = sector.project(opts.initial, opts.initialComplex ?? false, isComplex);
-        let n2 = 0;
-        for (let k = 0; k < c.length; k++) n2 += c[k] * c[k];
-        if (n2 > 1e-12) initial = c;
-      }
-      const base: EigenOptions = {
-        states: 1,
-        threads,
-        arena,
-        denseThreshold: denseThresholdFor(Math.min(states, sector.dim)),
-        tolerance: opts.tolerance,
-        maxMatvecs: opts.maxMatvecs,
-        krylovSize: opts.krylovSize !== undefined ? Math.min(opts.krylovSize, sector.dim) : undefined,
-        seed: opts.seed,
-        initial,
-        // products of the sectors already solved come first, so progress counts the whole solve
-        onProgress: opts.onProgress ? (info) => opts.onProgress!({ ...info, matvecs: matvecs + info.matvecs, restarts: restarts + info.restarts }) : undefined,
-      };
-      const need = Math.min(states, sector.dim);
-      const sorted = found.map((f) => f.energy).sort((a, b) => a - b);
-      const ceiling = sorted.length >= states ? sorted[states - 1] : Infinity;
-      let result;
-      if (Number.isFinite(ceiling) && sector.dim > denseThresholdFor(need)) {
-        // Screen with the sector's lowest state, converged only as far as the decision needs
-        // (see EigenOptions.screenAbove); anything not screened out is solved to the tolerance.
-        const first = lowestEigenpairs(op, { ...base, verifyDegeneracy: false, screenAbove: ceiling + degeneracyWindow(ceiling, opts.tolerance) });
-        matvecs += first.matvecs;
-        restarts += first.restarts;
-        if (first.method === 'lanczos') anyLanczos = true;
-        if (first.screened) {
-          runs.push({ label: plan.label, dimension: sector.dim, method: first.method, iterations: first.matvecs, lowest: first.values[0], screened: true, copies: plan.copies });
-          continue;
-        }
-        result = lowestEigenpairs(op, { ...base, states: need, initial: first.vectors[0] });
-        matvecs += result.matvecs;
-        restarts += result.restarts;
-      } else {
-        result = lowestEigenpairs(op, { ...base, states: need });
-        matvecs += result.matvecs;
-        restarts += result.restarts;
-      }
-      if (result.method === 'lanczos') anyLanczos = true;
-      converged &&= result.converged;
-      runs.push({ label: plan.label, dimension: sector.dim, method: result.method, iterations: result.matvecs, lowest: result.values[0], screened: false, copies: plan.copies });
-      for (let k = 0; k < result.values.length; k++) {
-        const entry = { energy: result.values[k], residual: result.residuals[k], sector, vector: result.vectors[k], complex: isComplex };
-        found.push({ ...entry, label: plan.label });
-        for (const copy of plan.copies) found.push({ ...entry, label: copy });
-      }
-      found.sort((a, b) => a.energy - b.energy);
-    } finally {
-      op.close();
-      if (arena && mark !== undefined) arena.release(mark);
+  for (const o of outcomes) {
+    matvecs += o.matvecs;
+    restarts += o.restarts;
+    converged &&= o.converged;
+    const plan = plans[o.states.plan];
+    const { energies, residuals, vectors, complex } = o.states;
+    if (energies.length === 0) continue;
+    const sector = new SectorBasis(maps.for(plan.label), plan.label);
+    for (let k = 0; k < energies.length; k++) {
+      const entry = { energy: energies[k], residual: residuals[k], sector, vector: vectors[k], complex };
+      found.push({ ...entry, label: plan.label });
+      for (const copy of plan.copies) found.push({ ...entry, label: copy });
     }
-    // Keep what can still matter: the lowest `states` and anything degenerate with the ground level.
-    const e0 = found[0].energy;
-    const window = degeneracyWindow(e0, opts.tolerance);
-    found = found.filter((f, k) => k < states || f.energy - e0 <= window);
   }
-
-  // Every kept vector is a copy outside it, so the next solve on this thread may reuse it.
-  arena?.recycle();
+  const runs = outcomes.map((o) => o.run);
+  const anyLanczos = runs.some((r) => r.method === 'lanczos');
+  found.sort((a, b) => a.energy - b.energy);
   if (found.length === 0) throw new SpecError('solve.sector', 'the selected sectors contain no states');
+  // The lowest `states` and anything degenerate with the ground level.
   const e0 = found[0].energy;
   const window = degeneracyWindow(e0, opts.tolerance);
+  found = found.filter((f, k) => k < states || f.energy - e0 <= window);
   const ground = found.filter((f) => f.energy - e0 <= window);
   // Copies (k <-> -k) share their representative's probabilities for these diagonal observables:
   // complex conjugation leaves |psi|^2 unchanged, and a reflected translation-invariant state has

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { solvePoint } from '../src/point.js';
+import { coreCount } from '../src/parallel.js';
+import { planPoint, solvePoint } from '../src/point.js';
 import { validateSpec } from '../src/spec.js';
 import { densePinnedHamiltonian, denseSpectrum } from './support/reference.js';
 import { clean, randomPinnedSpec } from './support/random.js';
@@ -147,5 +148,32 @@ describe('Lanczos path against the dense reference', () => {
     const ref = denseSpectrum(densePinnedHamiltonian(spec));
     r.energies.forEach((e, k) => expect(Math.abs(e - ref[k])).toBeLessThan(1e-9 * Math.max(1, Math.abs(ref[k]))));
     for (const res of r.solver.residuals) expect(res).toBeLessThanOrEqual(spec.solve.tolerance);
+  });
+});
+
+describe('how many sectors are solved at once', () => {
+  // Each sector solved at the same time holds its own matrix and Krylov basis, so the memory
+  // limit decides how many run together (the estimate itself is compared with measured peaks in
+  // `npm run bench`).
+  const spec = validateSpec({
+    chain: { sites: 8, boundary: 'periodic' },
+    levels: { count: 3, tunnelling: 1 },
+    exchange: { strength: 1.5 },
+    solve: { states: 2 },
+  });
+  it.skipIf(coreCount() < 2)('two at once take more memory than one, and a limit between the two keeps it to one', () => {
+    const two = planPoint(spec, { threads: 2, maxMemory: Number.MAX_SAFE_INTEGER });
+    const one = planPoint(spec, { threads: 1, maxMemory: Number.MAX_SAFE_INTEGER });
+    expect(one.sectorThreads).toBe(1);
+    expect(two.sectorThreads).toBe(2);
+    expect(two.memory.parts.sector_matrix).toBe(2 * one.memory.parts.sector_matrix);
+    const between = (one.memory.totalBytes + two.memory.totalBytes) / 2;
+    const limited = planPoint(spec, { threads: 2, maxMemory: between });
+    expect(limited.sectorThreads).toBe(1);
+    expect(limited.memory.totalBytes).toBe(one.memory.totalBytes);
+  });
+  it('the spec can ask for one thread', () => {
+    const raw = { chain: { sites: 8, boundary: 'periodic' }, levels: { count: 3, tunnelling: 1 }, solve: { threads: 1 } };
+    expect(planPoint(validateSpec(raw), { threads: 2, maxMemory: Number.MAX_SAFE_INTEGER }).sectorThreads).toBe(1);
   });
 });

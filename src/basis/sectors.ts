@@ -34,26 +34,26 @@ export class OrbitMap {
   readonly jPF: Int32Array;
   readonly charge: Int32Array;
 
-  constructor(
-    basis: PinnedBasis,
-    group: GroupUse,
-    readonly actions: IndexActions = new IndexActions(basis),
-  ) {
+  /**
+   * With `shared`, the arrays live in SharedArrayBuffers, so threads solving other sectors can use
+   * the map through `OrbitMap.fromParts` without copying it (it holds 6 bytes per basis state).
+   */
+  constructor(basis: PinnedBasis, group: GroupUse, actions: IndexActions = new IndexActions(basis), shared = false) {
     this.group = group;
     const L = basis.sites;
     const dim = basis.dim;
     const Lt = group.translation ? L : 1;
     this.translations = Lt;
     this.order = Lt * (group.reflection ? 2 : 1) * (group.levelFlip ? 2 : 1);
-    const repOf = new Int32Array(dim).fill(-1);
-    const elementOf = new Uint16Array(dim);
+    const repOf = new Int32Array(shared ? new SharedArrayBuffer(4 * dim) : new ArrayBuffer(4 * dim)).fill(-1);
+    const elementOf = new Uint16Array(shared ? new SharedArrayBuffer(2 * dim) : new ArrayBuffer(2 * dim));
     const reps: number[] = [];
     const period: number[] = [];
     const jP: number[] = [];
     const jF: number[] = [];
     const jPF: number[] = [];
     const charge: number[] = [];
-    const A = this.actions;
+    const A = actions;
     const flips = group.levelFlip ? 2 : 1;
     const parities = group.reflection ? 2 : 1;
     for (let s = 0; s < dim; s++) {
@@ -91,18 +91,37 @@ export class OrbitMap {
     }
     this.repOf = repOf;
     this.elementOf = elementOf;
-    this.reps = Float64Array.from(reps);
-    this.period = Int32Array.from(period);
-    this.jP = Int32Array.from(jP);
-    this.jF = Int32Array.from(jF);
-    this.jPF = Int32Array.from(jPF);
-    this.charge = Int32Array.from(charge);
+    const place = <T extends Float64Array | Int32Array>(make: (buffer: ArrayBufferLike) => T, values: number[], bytes: number): T => {
+      const array = make(shared ? new SharedArrayBuffer(bytes * values.length) : new ArrayBuffer(bytes * values.length));
+      array.set(values);
+      return array;
+    };
+    this.reps = place((b) => new Float64Array(b), reps, 8);
+    this.period = place((b) => new Int32Array(b), period, 4);
+    this.jP = place((b) => new Int32Array(b), jP, 4);
+    this.jF = place((b) => new Int32Array(b), jF, 4);
+    this.jPF = place((b) => new Int32Array(b), jPF, 4);
+    this.charge = place((b) => new Int32Array(b), charge, 4);
+  }
+
+  /** The arrays of a map built with `shared`, to hand to another thread. */
+  parts(): OrbitMapParts {
+    const { group, translations, order, repOf, elementOf, reps, period, jP, jF, jPF, charge } = this;
+    return { group, translations, order, repOf, elementOf, reps, period, jP, jF, jPF, charge };
+  }
+
+  /** A map over arrays another thread built (see `parts`). */
+  static fromParts(parts: OrbitMapParts): OrbitMap {
+    const map = Object.create(OrbitMap.prototype) as OrbitMap;
+    return Object.assign(map, parts);
   }
 
   get representatives(): number {
     return this.reps.length;
   }
 }
+
+export type OrbitMapParts = Pick<OrbitMap, 'group' | 'translations' | 'order' | 'repOf' | 'elementOf' | 'reps' | 'period' | 'jP' | 'jF' | 'jPF' | 'charge'>;
 
 /** One sector: the representatives compatible with its characters, and their norms n_r. */
 export class SectorBasis {

@@ -88,10 +88,20 @@ const CHUNK = 1 << 20;
  * again and again: measured as long as building the rows); `finish` copies them once into the
  * final arrays and yields a CsrOperator.
  */
+/**
+ * Full-size chunks a finished builder hands back for the next one: a sector-by-sector solve builds
+ * one matrix after another, and fresh chunks would each fault in new pages (measured: about a tenth
+ * of a 10x4 sector solve).
+ */
+export class ChunkSpares {
+  readonly int32: Int32Array[] = [];
+  readonly float64: Float64Array[] = [];
+}
+
 export class CsrBuilder {
   private readonly done: { columns: Int32Array; re: Float64Array; im: Float64Array | null }[] = [];
-  private columns = new Int32Array(1024);
-  private re = new Float64Array(1024);
+  private columns: Int32Array;
+  private re: Float64Array;
   private im: Float64Array | null;
   /** Entries in the current chunk, and in the chunks before it. */
   private fill = 0;
@@ -102,9 +112,22 @@ export class CsrBuilder {
   constructor(
     readonly dim: number,
     readonly isComplex: boolean,
+    private readonly spares: ChunkSpares | null = null,
   ) {
     this.rowStart = new Float64Array(dim + 1);
-    this.im = isComplex ? new Float64Array(1024) : null;
+    // With spare chunks at hand, start on full-size ones; else small, growing by doubling.
+    const size = spares && spares.int32.length > 0 && spares.float64.length >= (isComplex ? 2 : 1) ? CHUNK : 1024;
+    this.columns = this.int32Chunk(size);
+    this.re = this.float64Chunk(size);
+    this.im = isComplex ? this.float64Chunk(size) : null;
+  }
+
+  private int32Chunk(size: number): Int32Array {
+    return (size === CHUNK && this.spares?.int32.pop()) || new Int32Array(size);
+  }
+
+  private float64Chunk(size: number): Float64Array {
+    return (size === CHUNK && this.spares?.float64.pop()) || new Float64Array(size);
   }
 
   /** Adds <row|H|col> to the current row; repeated columns within a row are summed by the product anyway. */
@@ -158,6 +181,14 @@ export class CsrBuilder {
     gather(target.columns, (c) => c.columns);
     gather(target.re, (c) => c.re);
     if (target.im) gather(target.im, (c) => c.im as Float64Array);
+    if (this.spares) {
+      for (const c of [...this.done, { columns: this.columns, re: this.re, im: this.im }]) {
+        if (c.columns.length !== CHUNK) continue;
+        this.spares.int32.push(c.columns);
+        this.spares.float64.push(c.re);
+        if (c.im) this.spares.float64.push(c.im);
+      }
+    }
     return new CsrOperator(this.dim, this.isComplex, target.rowStart, target.columns, target.re, target.im);
   }
 
@@ -181,9 +212,9 @@ export class CsrBuilder {
     this.done.push({ columns: this.columns, re: this.re, im: this.im });
     this.before += this.fill;
     this.fill = 0;
-    this.columns = new Int32Array(CHUNK);
-    this.re = new Float64Array(CHUNK);
-    this.im = this.isComplex ? new Float64Array(CHUNK) : null;
+    this.columns = this.int32Chunk(CHUNK);
+    this.re = this.float64Chunk(CHUNK);
+    this.im = this.isComplex ? this.float64Chunk(CHUNK) : null;
   }
 }
 

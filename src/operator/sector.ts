@@ -4,7 +4,7 @@ import type { PinnedBasis } from '../basis.js';
 import type { SectorBasis } from '../basis/sectors.js';
 import type { Model } from '../model.js';
 import type { VectorArena } from '../simd.js';
-import { CsrBuilder, type CsrOperator } from './csr.js';
+import { CsrBuilder, type ChunkSpares, type CsrOperator } from './csr.js';
 import { columnBuffer, PinnedColumns } from './pinnedRows.js';
 
 /**
@@ -12,11 +12,12 @@ import { columnBuffer, PinnedColumns } from './pinnedRows.js';
  * sum_s <s|H|r_a> chi(g_s) sqrt(n_b/n_a) |r~_b> with s = g_s r_b, so each row comes from the
  * column of its own representative, conjugated.
  */
-export function buildSectorOperator(model: Model, basis: PinnedBasis, sector: SectorBasis, arena?: VectorArena | null): CsrOperator {
+/** With `spares`, the build reuses chunks an earlier build handed back (and hands back its own). */
+export function buildSectorOperator(model: Model, basis: PinnedBasis, sector: SectorBasis, arena?: VectorArena | null, spares?: ChunkSpares | null): CsrOperator {
   const isComplex = model.isComplex || sector.complexCharacters;
   const columns = new PinnedColumns(model, basis);
   const buf = columnBuffer(model);
-  const builder = new CsrBuilder(sector.dim, isComplex);
+  const builder = new CsrBuilder(sector.dim, isComplex, spares);
   const { repOf, elementOf, reps } = sector.orbits;
   const { sectorOfRep, norm, charRe, charIm, repIndex } = sector;
   const sqrtNorm = norm.map(Math.sqrt);
