@@ -12,6 +12,7 @@ import type { PinnedBasis } from './basis.js';
 import { OrbitMap, SectorBasis, type GroupUse, type OrbitMapParts } from './basis/sectors.js';
 import { SpecError } from './errors.js';
 import type { Model } from './model.js';
+import type { HermitianOperator } from './operator.js';
 import { ChunkSpares } from './operator/csr.js';
 import { buildSectorOperator } from './operator/sector.js';
 import { withThreads } from './parallel.js';
@@ -289,47 +290,98 @@ function solveSector(
       onProgress: onProgress ? (info) => onProgress({ ...info, matvecs: matvecs + info.matvecs, restarts: restarts + info.restarts }) : undefined,
     };
     const need = Math.min(states, sector.dim);
-    const { ceiling } = shared.bounds();
-    let result;
-    if (Number.isFinite(ceiling) && sector.dim > denseThresholdFor(need)) {
+    const screenLine = (): number => {
+      const { ceiling } = shared.bounds();
+      return ceiling + degeneracyWindow(ceiling, opts.tolerance);
+    };
+    let energies: number[];
+    let residuals: number[];
+    let vectors: Float64Array[];
+    let converged: boolean;
+    let method: 'dense' | 'lanczos';
+    if (Number.isFinite(screenLine()) && sector.dim > denseThresholdFor(need)) {
       // Screen with the sector's lowest state, converged only as far as the decision needs
-      // (see EigenOptions.screenAbove); anything not screened out is solved to the tolerance.
-      const first = lowestEigenpairs(op, { ...base, verifyDegeneracy: false, screenAbove: ceiling + degeneracyWindow(ceiling, opts.tolerance) });
-      matvecs += first.matvecs;
-      restarts += first.restarts;
-      if (first.screened) {
-        const run = { label: plan.label, dimension: sector.dim, method: first.method, iterations: first.matvecs, lowest: first.values[0], screened: true, copies: plan.copies };
+      // (see EigenOptions.screenAbove). A state not screened out is converged to the tolerance,
+      // and the next one is looked for the same way, deflated against those found, so a sector
+      // costs only as many states as can enter the answer.
+      energies = [];
+      residuals = [];
+      vectors = [];
+      converged = true;
+      method = 'lanczos';
+      let screenedAt = NaN;
+      while (energies.length < need) {
+        const next = lowestEigenpairs(op, {
+          ...base,
+          initial: energies.length === 0 ? base.initial : undefined,
+          deflate: vectors,
+          verifyDegeneracy: false,
+          screenAbove: screenLine(),
+        });
+        matvecs += next.matvecs;
+        restarts += next.restarts;
+        screenedAt = next.values[0];
+        if (next.screened) break;
+        if (next.method === 'dense') method = 'dense';
+        converged &&= next.converged;
+        const v = next.vectors[0];
+        energies.push(next.values[0]);
+        // Measured against H itself: the run's own residual is that of H with the found states
+        // projected out, which those states' small residuals perturb.
+        residuals.push(vectors.length === 0 ? next.residuals[0] : trueResidual(op, v, next.values[0]));
+        if (vectors.length > 0) matvecs++;
+        converged &&= residuals[residuals.length - 1] <= opts.tolerance;
+        vectors.push(v);
+        shared.publish([next.values[0]], plan.copies.length);
+      }
+      if (energies.length === 0) {
+        const run = { label: plan.label, dimension: sector.dim, method: 'lanczos' as const, iterations: matvecs, lowest: screenedAt, screened: true, copies: plan.copies };
         return { run, states: { plan: index, energies: [], residuals: [], vectors: [], complex: isComplex }, matvecs, restarts, converged: true };
       }
-      result = lowestEigenpairs(op, { ...base, states: need, initial: first.vectors[0] });
     } else {
-      result = lowestEigenpairs(op, { ...base, states: need });
+      const result = lowestEigenpairs(op, { ...base, states: need });
+      matvecs += result.matvecs;
+      restarts += result.restarts;
+      energies = Array.from(result.values);
+      residuals = Array.from(result.residuals);
+      vectors = result.vectors;
+      converged = result.converged;
+      method = result.method;
+      shared.publish(energies, plan.copies.length);
     }
-    matvecs += result.matvecs;
-    restarts += result.restarts;
-    const energies = Array.from(result.values);
-    shared.publish(energies, plan.copies.length);
     const bounds = shared.bounds();
-    const run = { label: plan.label, dimension: sector.dim, method: result.method, iterations: result.matvecs, lowest: result.values[0], screened: false, copies: plan.copies };
+    const run = { label: plan.label, dimension: sector.dim, method, iterations: matvecs, lowest: energies[0], screened: false, copies: plan.copies };
     return {
       run,
       states: {
         plan: index,
         energies,
-        residuals: Array.from(result.residuals),
+        residuals,
         // Only states that can still enter the answer keep their vectors (they are sector-sized).
-        vectors: result.vectors.map((v, k) => (canMatter(energies[k], bounds, opts.tolerance) ? v : null)),
+        vectors: vectors.map((v, k) => (canMatter(energies[k], bounds, opts.tolerance) ? v : null)),
         complex: isComplex,
       },
       matvecs,
       restarts,
-      converged: result.converged,
+      converged,
     };
   } finally {
     shared.addMatvecs(matvecs);
     op.close();
     if (arena && mark !== undefined) arena.release(mark);
   }
+}
+
+/** ||H v - e v|| for a unit vector v. */
+function trueResidual(op: HermitianOperator, v: Float64Array, e: number): number {
+  const w = new Float64Array(v.length);
+  op.apply(v, w);
+  let sum = 0;
+  for (let t = 0; t < v.length; t++) {
+    const r = w[t] - e * v[t];
+    sum += r * r;
+  }
+  return Math.sqrt(sum);
 }
 
 /** Drops the vectors of states that can no longer enter the answer. */
