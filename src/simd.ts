@@ -182,15 +182,27 @@ export class VectorArena {
     return new Float64Array(this.memory.buffer, at, length);
   }
 
-  /** Uninitialized arrays in the arena (the caller fills them), or null when there is no room. */
+  /**
+   * Zeroed arrays in the arena, or null when there is no room. Memory handed out again (after a
+   * release, or in a recycled arena) is cleared first: builders that write only their nonzero
+   * parts (the imaginary parts of real entries, say) must not read an earlier solve's data.
+   */
   float64Array(length: number): Float64Array | null {
+    const before = this.highWater;
     const at = this.reserve(8 * length);
-    return at === null ? null : new Float64Array(this.memory.buffer, at, length);
+    if (at === null) return null;
+    const array = new Float64Array(this.memory.buffer, at, length);
+    if (at < before) array.fill(0);
+    return array;
   }
 
   int32Array(length: number): Int32Array | null {
+    const before = this.highWater;
     const at = this.reserve(4 * length);
-    return at === null ? null : new Int32Array(this.memory.buffer, at, length);
+    if (at === null) return null;
+    const array = new Int32Array(this.memory.buffer, at, length);
+    if (at < before) array.fill(0);
+    return array;
   }
 
   /** A copy of a constant array in the arena (for kernels that read it), or null when there is no room. */

@@ -1,7 +1,11 @@
 import { Matrix, EigenvalueDecomposition } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
+import { buildBasis } from '../src/basis.js';
+import { buildModel } from '../src/model.js';
+import { pinnedObservables } from '../src/observables.js';
 import { solvePoint } from '../src/point.js';
 import { validateSpec } from '../src/spec.js';
+import { rng } from './support/random.js';
 
 describe('ground-state observables', () => {
   // Without couplings between sites the ground state is a product of one-molecule ground states,
@@ -68,5 +72,43 @@ describe('ground-state observables', () => {
     const around = r.observables.spread.reduce((acc, s, i) => acc + s + (r.observables.level_mean[i] - meanLevel) ** 2, 0) / 6;
     expect(r.observables.string_width).toBeLessThanOrEqual(around + 1e-12);
     expect(meanSpread).toBeGreaterThan(0);
+  });
+});
+
+describe('pinned observables against their definitions, state by state', () => {
+  // MODEL.md's definitions summed literally over every configuration, with its digits read off the
+  // index (site 0 the fastest digit), for random probabilities: the fast sweep splits the index
+  // in halves and must give the same numbers (common practice; no outside source needed).
+  it.each([
+    [1, 3],
+    [2, 4],
+    [5, 3],
+    [6, 2],
+    [7, 3],
+  ])('L = %i, N = %i', (L, N) => {
+    const basis = buildBasis(buildModel(validateSpec({ chain: { sites: L }, levels: { count: N } })));
+    if (basis.kind !== 'pinned') throw new Error('expected a pinned basis');
+    const r = rng(100 * L + N);
+    const p = Float64Array.from({ length: basis.dim }, () => r());
+    const total = p.reduce((a, b) => a + b, 0);
+    p.forEach((x, s) => (p[s] = x / total));
+    const populations = Array.from({ length: L }, () => new Array<number>(N).fill(0));
+    const pair = Array.from({ length: L }, () => new Array<number>(L).fill(0));
+    let width = 0;
+    for (let s = 0; s < basis.dim; s++) {
+      const n = Array.from({ length: L }, (_, i) => Math.floor(s / N ** i) % N);
+      const nbar = n.reduce((a, b) => a + b, 0) / L;
+      width += (p[s] * n.reduce((a, x) => a + (x - nbar) ** 2, 0)) / L;
+      n.forEach((x, i) => (populations[i][x] += p[s]));
+      for (let i = 0; i < L; i++) for (let j = 0; j < L; j++) pair[i][j] += p[s] * (n[i] - n[j]) ** 2;
+    }
+    const o = pinnedObservables(basis, p);
+    o.populations.forEach((row, i) => row.forEach((q, n) => expect(q).toBeCloseTo(populations[i][n], 13)));
+    const mean = populations.map((row) => row.reduce((a, q, n) => a + n * q, 0));
+    const variance = populations.map((row, i) => row.reduce((a, q, n) => a + n * n * q, 0) - mean[i] ** 2);
+    o.level_mean.forEach((m, i) => expect(m).toBeCloseTo(mean[i], 13));
+    o.spread.forEach((v, i) => expect(v).toBeCloseTo(variance[i], 13));
+    expect(o.string_width).toBeCloseTo(width, 13);
+    o.pair_separation.forEach((row, i) => row.forEach((d, j) => expect(d).toBeCloseTo(pair[i][j], 12)));
   });
 });

@@ -40,6 +40,11 @@ describe('arena reuse between solves (acquire / recycle)', () => {
     expect(v.every((x) => x === 0)).toBe(true);
     // The padding double the SIMD loops read is cleared too.
     expect(new Float64Array(v.buffer, v.byteOffset, 1002)[1001]).toBe(0);
+    // Arrays for builders start at zero too: a builder may write only its nonzero parts.
+    again!.release(0);
+    expect(again!.float64Array(1002)!.every((x) => x === 0)).toBe(true);
+    again!.release(0);
+    expect(again!.int32Array(2004)!.every((x) => x === 0)).toBe(true);
     // While it is held, another acquire gets a different arena.
     const other = VectorArena.acquire();
     expect(other).not.toBe(again);

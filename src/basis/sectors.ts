@@ -167,8 +167,11 @@ export class SectorBasis {
 
     const nReps = orbits.representatives;
     const sectorOfRep = new Int32Array(nReps).fill(-1);
-    const repIndex: number[] = [];
-    const norm: number[] = [];
+    // Typed arrays sized for every representative, trimmed at the end (plain arrays growing by
+    // push cost most of this constructor's time on large chains).
+    const repIndex = new Int32Array(nReps);
+    const norm = new Float64Array(nReps);
+    let count = 0;
     const cosK = (j: number) => this.charRe[j % Lt]; // chi(T^j), real wherever it is used below
     for (let r = 0; r < nReps; r++) {
       if (label.charge !== null && orbits.charge[r] !== label.charge) continue;
@@ -181,14 +184,15 @@ export class SectorBasis {
       if (orbits.group.reflection && orbits.group.levelFlip && orbits.jPF[r] >= 0) n += p * f * cosK(orbits.jPF[r]);
       n *= Lt / R;
       if (n < 0.5) continue;
-      sectorOfRep[r] = repIndex.length;
-      repIndex.push(r);
-      norm.push(n);
+      sectorOfRep[r] = count;
+      repIndex[count] = r;
+      norm[count] = n;
+      count++;
     }
     this.sectorOfRep = sectorOfRep;
-    this.repIndex = Int32Array.from(repIndex);
-    this.norm = Float64Array.from(norm);
-    this.dim = repIndex.length;
+    this.repIndex = repIndex.slice(0, count);
+    this.norm = norm.slice(0, count);
+    this.dim = count;
   }
 
   /**

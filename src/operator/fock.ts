@@ -283,7 +283,6 @@ export function buildFockOperator(model: Model, basis: FockBasis, arena?: Vector
         valuesIm: model.isComplex ? shared(stored, Float64Array) : null,
         diagonal: terms.hasDiagonal,
       };
-  // Memory an arena hands out again may hold old data; the rows below write every entry but the first.
   out.rowStart[0] = 0;
   const written = fillRows(model, basis, terms, out);
   if (written !== stored) throw new Error(`Fock operator: wrote ${written} entries, counted ${stored}`);
