@@ -13,8 +13,8 @@ import { OrbitMap, SectorBasis, type GroupUse, type OrbitMapParts } from './basi
 import { SpecError } from './errors.js';
 import type { Model } from './model.js';
 import type { HermitianOperator } from './operator.js';
-import { ChunkSpares } from './operator/csr.js';
-import { buildSectorOperator } from './operator/sector.js';
+import { ChunkSpares, CsrBuilder, type BuiltRows } from './operator/csr.js';
+import { buildSectorOperator, buildSectorRows } from './operator/sector.js';
 import { withThreads } from './parallel.js';
 import { VectorArena } from './simd.js';
 import { degeneracyWindow, denseThresholdFor, lowestEigenpairs, type EigenOptions } from './solver.js';
@@ -62,6 +62,8 @@ export interface SectorSolveOptions {
   threadsFor?: (work: number) => number;
   /** Sectors solved at once, each on its own thread (default 1); products then use one thread each. */
   sectorThreads?: number;
+  /** Sectors with at least this many rows are built by two threads when solved one at a time with threaded products (default 2^16; tests lower it). */
+  splitBuildRows?: number;
   onProgress?: EigenOptions['onProgress'];
 }
 
@@ -257,13 +259,15 @@ function solveSector(
   spares: ChunkSpares,
   threadsFor: (work: number) => number,
   onProgress: EigenOptions['onProgress'] | undefined,
+  builds: BuildHelper | null = null,
 ): SectorOutcome | null {
   const plan = plans[index];
   const states = opts.states;
   const sector = new SectorBasis(maps.for(plan.label), plan.label);
   if (sector.dim === 0) return null;
   const mark = arena?.mark();
-  const stored = buildSectorOperator(model, basis, sector, arena, spares);
+  const split = builds && sector.dim >= (opts.splitBuildRows ?? SPLIT_BUILD_ROWS) ? builds.rowsFrom(index, sector.dim) : null;
+  const stored = buildSectorOperator(model, basis, sector, arena, spares, split);
   const threads = threadsFor(stored.nonzeros());
   const op = withThreads(stored, threads);
   let matvecs = 0;
@@ -392,6 +396,98 @@ function prune(outcomes: SectorOutcome[], shared: SharedProgress, tolerance: num
   }
 }
 
+/** Sectors with at least this many rows have their matrix built by two threads (half the rows each). */
+const SPLIT_BUILD_ROWS = 1 << 16;
+
+interface BuildHelperData {
+  mode: 'build';
+  model: Model;
+  basis: PinnedBasis;
+  plans: SectorPlan[];
+  maps: Record<string, OrbitMapParts>;
+  /** Bumped by the helper after each answer it posts. */
+  answered: Int32Array;
+  port: MessagePort;
+}
+
+type BuildRequest = { plan: number; from: number; to: number };
+type BuildAnswer = { kind: 'rows'; rows: BuiltRows } | { kind: 'error'; message: string };
+
+/**
+ * A thread that builds the second half of a large sector's rows while this thread builds the
+ * first: sectors solved one at a time run their products on every core, but the build would
+ * otherwise run on one (measured: a fifth of a 16x3 solve).
+ */
+class BuildHelper {
+  private readonly worker: Worker;
+  private readonly port: MessagePort;
+  private readonly answered = new Int32Array(new SharedArrayBuffer(4));
+  private seen = 0;
+
+  constructor(model: Model, basis: PinnedBasis, plans: SectorPlan[], maps: Record<string, OrbitMapParts>) {
+    const { port1, port2 } = new MessageChannel();
+    const data: BuildHelperData = { mode: 'build', model, basis, plans, maps, answered: this.answered, port: port2 };
+    this.worker = new Worker(helperScript(), { workerData: data, transferList: [port2] });
+    this.worker.unref();
+    this.port = port1;
+  }
+
+  /** Rows from the middle on, built by the helper: asked for before this thread starts its half. */
+  rowsFrom(plan: number, dim: number): { from: number; start: () => void; take: () => BuiltRows } {
+    const from = Math.floor(dim / 2);
+    return {
+      from,
+      start: () => this.port.postMessage({ plan, from, to: dim } satisfies BuildRequest),
+      take: () => {
+        let now;
+        while ((now = Atomics.load(this.answered, 0)) === this.seen) Atomics.wait(this.answered, 0, now, 1000);
+        this.seen = now;
+        const answer = receiveMessageOnPort(this.port)?.message as BuildAnswer | undefined;
+        if (!answer) throw new Error('the sector build thread answered without rows');
+        if (answer.kind === 'error') throw new Error(`the sector build thread failed: ${answer.message}`);
+        return answer.rows;
+      },
+    };
+  }
+
+  close(): void {
+    this.port.close();
+    void this.worker.terminate();
+  }
+}
+
+function helperScript(): URL {
+  // From dist/src the worker is dist/workers; tests that load src/*.ts directly use the built one.
+  return new URL(import.meta.url.endsWith('.ts') ? '../dist/workers/sectors.js' : '../workers/sectors.js', import.meta.url);
+}
+
+/** The build helper's side: answer each request with the rows asked for. */
+function serveBuilds(data: BuildHelperData): void {
+  const maps = new OrbitMaps(data.basis, false, data.maps);
+  data.port.on('message', (request: BuildRequest) => {
+    try {
+      const plan = data.plans[request.plan];
+      const sector = new SectorBasis(maps.for(plan.label), plan.label);
+      const builder = new CsrBuilder(request.to - request.from, data.model.isComplex || sector.complexCharacters);
+      buildSectorRows(data.model, data.basis, sector, request.from, request.to, builder);
+      const rows = builder.export();
+      const buffers = new Set<ArrayBuffer>([rows.rowStart.buffer as ArrayBuffer]);
+      for (const c of rows.chunks) for (const a of [c.columns, c.re, c.im]) if (a) buffers.add(a.buffer as ArrayBuffer);
+      data.port.postMessage({ kind: 'rows', rows } satisfies BuildAnswer, [...buffers]);
+    } catch (e) {
+      data.port.postMessage({ kind: 'error', message: e instanceof Error ? `${e.name}: ${e.message}` : String(e) } satisfies BuildAnswer);
+    }
+    Atomics.add(data.answered, 0, 1);
+    Atomics.notify(data.answered, 0);
+  });
+}
+
+/** Entry of workers/sectors.ts: a sector-solving helper, or a build helper. */
+export function runSectorWorker(data: HelperData | BuildHelperData): void {
+  if ('mode' in data && data.mode === 'build') serveBuilds(data);
+  else runSectorHelper(data as HelperData);
+}
+
 /** A helper thread's loop: take sectors until none are left, post each outcome, then count itself done. */
 export function runSectorHelper(data: HelperData): void {
   const shared = new SharedProgress(data.progress);
@@ -432,7 +528,10 @@ export function solveInSectors(
   const plans = planSectors(use, model, selection).sort(sectorOrder(model));
   const states = opts.states;
   const helpers = Math.max(0, Math.min(opts.sectorThreads ?? 1, plans.length) - 1);
-  const maps = new OrbitMaps(basis, helpers > 0);
+  // One at a time with threaded products: large sectors get a second thread for their build.
+  const splitBuilds = helpers === 0 && (opts.threadsFor?.(Number.MAX_SAFE_INTEGER) ?? 1) > 1 && basis.dim >= (opts.splitBuildRows ?? SPLIT_BUILD_ROWS);
+  const maps = new OrbitMaps(basis, helpers > 0 || splitBuilds);
+  let builds: BuildHelper | null = null;
   const shared = SharedProgress.create(states);
   const outcomes: SectorOutcome[] = [];
   const started: Worker[] = [];
@@ -442,7 +541,7 @@ export function solveInSectors(
       // Every map the sectors use exists before the helpers start, so they share it.
       for (const plan of plans) maps.for(plan.label);
       const { initial, initialComplex, states: s, tolerance, maxMatvecs, krylovSize, seed, selection: sel } = opts;
-      const script = new URL(import.meta.url.endsWith('.ts') ? '../dist/workers/sectors.js' : '../workers/sectors.js', import.meta.url);
+      const script = helperScript();
       for (let h = 0; h < helpers; h++) {
         const { port1, port2 } = new MessageChannel();
         const data: HelperData = {
@@ -460,13 +559,17 @@ export function solveInSectors(
         channels.push(port1);
       }
     }
+    if (splitBuilds) {
+      for (const plan of plans) maps.for(plan.label);
+      builds = new BuildHelper(model, basis, plans, maps.parts());
+    }
     // This thread takes sectors too; with helpers, each product runs on one thread.
     const threadsFor = helpers > 0 ? () => 1 : (opts.threadsFor ?? (() => 1));
     const onProgress = opts.onProgress ? (info: Parameters<NonNullable<EigenOptions['onProgress']>>[0]) => opts.onProgress!({ ...info, matvecs: shared.matvecs() + info.matvecs }) : undefined;
     const arena = VectorArena.acquire();
     const spares = new ChunkSpares();
     for (let i; (i = shared.claim()) < plans.length; ) {
-      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgress);
+      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgress, builds);
       if (outcome) outcomes.push(outcome);
       prune(outcomes, shared, opts.tolerance);
     }
@@ -486,6 +589,7 @@ export function solveInSectors(
   } finally {
     for (const port of channels) port.close();
     for (const worker of started) void worker.terminate();
+    builds?.close();
   }
 
   // Runs in the order of the plan, whichever thread solved them.

@@ -1,6 +1,7 @@
-// Helper thread of a sector-by-sector solve: takes whole sectors from the shared counter and posts
-// each one's states back. The work lives in src/sectorSolve.ts.
+// Helper thread of a sector-by-sector solve: either takes whole sectors from the shared counter
+// and posts each one's states back, or builds the second half of large sectors' rows on request.
+// The work lives in src/sectorSolve.ts.
 import { workerData } from 'node:worker_threads';
-import { runSectorHelper } from '../src/sectorSolve.js';
+import { runSectorWorker } from '../src/sectorSolve.js';
 
-runSectorHelper(workerData);
+runSectorWorker(workerData);

@@ -98,8 +98,16 @@ export class ChunkSpares {
   readonly float64: Float64Array[] = [];
 }
 
+/** Rows a builder exported: row starts from 0, and the entries in chunks (each exactly filled). */
+export interface BuiltRows {
+  rows: number;
+  rowStart: Float64Array;
+  chunks: { columns: Int32Array; re: Float64Array; im: Float64Array | null }[];
+}
+
 export class CsrBuilder {
   private readonly done: { columns: Int32Array; re: Float64Array; im: Float64Array | null }[] = [];
+  private readonly foreign = new Set<Int32Array>();
   private columns: Int32Array;
   private re: Float64Array;
   private im: Float64Array | null;
@@ -144,6 +152,32 @@ export class CsrBuilder {
     this.rowStart[this.row] = this.before + this.fill;
   }
 
+  /** The rows built so far, to hand to another thread's builder (`absorb`); this builder is done. */
+  export(): BuiltRows {
+    const chunks = [...this.done, { columns: this.columns.subarray(0, this.fill), re: this.re.subarray(0, this.fill), im: this.im ? this.im.subarray(0, this.fill) : null }];
+    return { rows: this.row, rowStart: this.rowStart.subarray(0, this.row + 1), chunks };
+  }
+
+  /**
+   * Appends rows another builder exported (built elsewhere, in order after this one's rows). Their
+   * chunks are not handed to the spares at `finish`: the spares would grow by them every build.
+   */
+  absorb(part: BuiltRows): void {
+    this.done.push({ columns: this.columns.subarray(0, this.fill), re: this.re.subarray(0, this.fill), im: this.im ? this.im.subarray(0, this.fill) : null });
+    this.before += this.fill;
+    for (const c of part.chunks) {
+      this.done.push(c);
+      this.foreign.add(c.columns);
+    }
+    for (let r = 1; r <= part.rows; r++) this.rowStart[this.row + r] = this.before + part.rowStart[r];
+    this.row += part.rows;
+    this.before += part.rowStart[part.rows];
+    this.columns = new Int32Array(1024);
+    this.re = new Float64Array(1024);
+    this.im = this.isComplex ? new Float64Array(1024) : null;
+    this.fill = 0;
+  }
+
   /**
    * The matrix in shared memory, so a product can be split across worker threads without copying
    * it; with `arena`, in that arena's memory (for the SIMD module), unless it has no room left.
@@ -183,7 +217,7 @@ export class CsrBuilder {
     if (target.im) gather(target.im, (c) => c.im as Float64Array);
     if (this.spares) {
       for (const c of [...this.done, { columns: this.columns, re: this.re, im: this.im }]) {
-        if (c.columns.length !== CHUNK) continue;
+        if (c.columns.length !== CHUNK || c.columns.byteOffset !== 0 || this.foreign.has(c.columns)) continue;
         this.spares.int32.push(c.columns);
         this.spares.float64.push(c.re);
         if (c.im) this.spares.float64.push(c.im);

@@ -4,24 +4,43 @@ import type { PinnedBasis } from '../basis.js';
 import type { SectorBasis } from '../basis/sectors.js';
 import type { Model } from '../model.js';
 import type { VectorArena } from '../simd.js';
-import { CsrBuilder, type ChunkSpares, type CsrOperator } from './csr.js';
+import { CsrBuilder, type BuiltRows, type ChunkSpares, type CsrOperator } from './csr.js';
 import { columnBuffer, PinnedColumns } from './pinnedRows.js';
 
 /**
  * Row a holds <r~_a|H|r~_b> = conj(<r~_b|H|r~_a>), and column a is H|r~_a> =
  * sum_s <s|H|r_a> chi(g_s) sqrt(n_b/n_a) |r~_b> with s = g_s r_b, so each row comes from the
  * column of its own representative, conjugated.
+ *
+ * With `spares`, the build reuses chunks an earlier build handed back (and hands back its own).
+ * With `rest`, rows from `rest.from` on are built by another thread: `rest.start` asks for them,
+ * and `rest.take` waits for them once this thread has built the rows before.
  */
-/** With `spares`, the build reuses chunks an earlier build handed back (and hands back its own). */
-export function buildSectorOperator(model: Model, basis: PinnedBasis, sector: SectorBasis, arena?: VectorArena | null, spares?: ChunkSpares | null): CsrOperator {
+export function buildSectorOperator(
+  model: Model,
+  basis: PinnedBasis,
+  sector: SectorBasis,
+  arena?: VectorArena | null,
+  spares?: ChunkSpares | null,
+  rest?: { from: number; start: () => void; take: () => BuiltRows } | null,
+): CsrOperator {
   const isComplex = model.isComplex || sector.complexCharacters;
+  const split = rest && rest.from > 0 && rest.from < sector.dim ? rest : null;
+  split?.start();
+  const builder = new CsrBuilder(sector.dim, isComplex, spares);
+  buildSectorRows(model, basis, sector, 0, split ? split.from : sector.dim, builder);
+  if (split) builder.absorb(split.take());
+  return builder.finish(arena);
+}
+
+/** Rows [from, to) of a sector's matrix into `builder` (which then holds to - from rows). */
+export function buildSectorRows(model: Model, basis: PinnedBasis, sector: SectorBasis, from: number, to: number, builder: CsrBuilder): void {
   const columns = new PinnedColumns(model, basis);
   const buf = columnBuffer(model);
-  const builder = new CsrBuilder(sector.dim, isComplex, spares);
   const { repOf, elementOf, reps } = sector.orbits;
   const { sectorOfRep, norm, charRe, charIm, repIndex } = sector;
   const sqrtNorm = norm.map(Math.sqrt);
-  for (let a = 0; a < sector.dim; a++) {
+  for (let a = from; a < to; a++) {
     columns.of(reps[repIndex[a]], buf);
     const inv = 1 / sqrtNorm[a];
     for (let e = 0; e < buf.count; e++) {
@@ -43,5 +62,4 @@ export function buildSectorOperator(model: Model, basis: PinnedBasis, sector: Se
     }
     builder.endRow();
   }
-  return builder.finish(arena);
 }
