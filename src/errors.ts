@@ -36,3 +36,18 @@ export class UnsupportedError extends RungchainError {}
 export function isRungchainError(e: unknown): e is RungchainError {
   return e instanceof RungchainError;
 }
+
+/**
+ * An error a worker thread reported by name and message, rebuilt on this thread: as the same one
+ * of ours when it is one, as a ResourceError when the thread could not allocate, else as a plain
+ * Error saying where it came from.
+ */
+export function errorFromThread(name: string, message: string, where: string): Error {
+  const ours: Record<string, new (message: string) => RungchainError> = { InputError, ResourceError, ConvergenceError, RunFileError, UnsupportedError };
+  if (name === 'SpecError') return new SpecError('', message);
+  if (ours[name]) return new ours[name](message);
+  if (name === 'RangeError' && /allocation failed|Invalid typed array length|Array buffer|out of memory/i.test(message)) {
+    return new ResourceError(`${where} ran out of memory (${message}); lower the number of threads, or use a machine with more memory`);
+  }
+  return new Error(`${where} failed: ${name}: ${message}`);
+}

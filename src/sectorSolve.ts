@@ -10,7 +10,7 @@
 import { MessageChannel, receiveMessageOnPort, Worker, type MessagePort } from 'node:worker_threads';
 import type { PinnedBasis } from './basis.js';
 import { OrbitMap, SectorBasis, type GroupUse, type OrbitMapParts } from './basis/sectors.js';
-import { SpecError } from './errors.js';
+import { errorFromThread, SpecError } from './errors.js';
 import type { Model } from './model.js';
 import type { HermitianOperator } from './operator.js';
 import { ChunkSpares, CsrBuilder, type BuiltRows } from './operator/csr.js';
@@ -241,7 +241,7 @@ interface HelperData {
   port: MessagePort;
 }
 
-type HelperMessage = { kind: 'sector'; outcome: SectorOutcome } | { kind: 'error'; message: string };
+type HelperMessage = { kind: 'sector'; outcome: SectorOutcome } | { kind: 'error'; name: string; message: string };
 
 /**
  * Solves one sector: screened out against the current ceiling when it cannot contribute, else its
@@ -411,7 +411,7 @@ interface BuildHelperData {
 }
 
 type BuildRequest = { plan: number; from: number; to: number };
-type BuildAnswer = { kind: 'rows'; rows: BuiltRows } | { kind: 'error'; message: string };
+type BuildAnswer = { kind: 'rows'; rows: BuiltRows } | { kind: 'error'; name: string; message: string };
 
 /**
  * A thread that builds the second half of a large sector's rows while this thread builds the
@@ -444,7 +444,7 @@ class BuildHelper {
         this.seen = now;
         const answer = receiveMessageOnPort(this.port)?.message as BuildAnswer | undefined;
         if (!answer) throw new Error('the sector build thread answered without rows');
-        if (answer.kind === 'error') throw new Error(`the sector build thread failed: ${answer.message}`);
+        if (answer.kind === 'error') throw errorFromThread(answer.name, answer.message, 'the sector build thread');
         return answer.rows;
       },
     };
@@ -454,6 +454,11 @@ class BuildHelper {
     this.port.close();
     void this.worker.terminate();
   }
+}
+
+/** What a thread posts of an error, for errorFromThread on the other side. */
+function describe(e: unknown): { name: string; message: string } {
+  return e instanceof Error ? { name: e.name, message: e.message } : { name: 'Error', message: String(e) };
 }
 
 function helperScript(): URL {
@@ -475,7 +480,7 @@ function serveBuilds(data: BuildHelperData): void {
       for (const c of rows.chunks) for (const a of [c.columns, c.re, c.im]) if (a) buffers.add(a.buffer as ArrayBuffer);
       data.port.postMessage({ kind: 'rows', rows } satisfies BuildAnswer, [...buffers]);
     } catch (e) {
-      data.port.postMessage({ kind: 'error', message: e instanceof Error ? `${e.name}: ${e.message}` : String(e) } satisfies BuildAnswer);
+      data.port.postMessage({ kind: 'error', ...describe(e) } satisfies BuildAnswer);
     }
     Atomics.add(data.answered, 0, 1);
     Atomics.notify(data.answered, 0);
@@ -503,7 +508,7 @@ export function runSectorHelper(data: HelperData): void {
     }
     arena?.recycle();
   } catch (e) {
-    data.port.postMessage({ kind: 'error', message: e instanceof Error ? `${e.name}: ${e.message}` : String(e) } satisfies HelperMessage);
+    data.port.postMessage({ kind: 'error', ...describe(e) } satisfies HelperMessage);
   } finally {
     data.port.close();
     shared.helperDone();
@@ -580,7 +585,7 @@ export function solveInSectors(
       for (const port of channels) {
         for (let m; (m = receiveMessageOnPort(port)); ) {
           const message = m.message as HelperMessage;
-          if (message.kind === 'error') throw new Error(`a sector thread failed: ${message.message}`);
+          if (message.kind === 'error') throw errorFromThread(message.name, message.message, 'a sector thread');
           outcomes.push(message.outcome);
         }
       }
