@@ -188,19 +188,18 @@ export class VectorArena {
    * parts (the imaginary parts of real entries, say) must not read an earlier solve's data.
    */
   float64Array(length: number): Float64Array | null {
-    const before = this.highWater;
-    const at = this.reserve(8 * length);
-    if (at === null) return null;
-    const array = new Float64Array(this.memory.buffer, at, length);
-    if (at < before) array.fill(0);
-    return array;
+    return this.zeroed(8 * length, (at) => new Float64Array(this.memory.buffer, at, length));
   }
 
   int32Array(length: number): Int32Array | null {
+    return this.zeroed(4 * length, (at) => new Int32Array(this.memory.buffer, at, length));
+  }
+
+  private zeroed<T extends Float64Array | Int32Array>(bytes: number, view: (at: number) => T): T | null {
     const before = this.highWater;
-    const at = this.reserve(4 * length);
+    const at = this.reserve(bytes);
     if (at === null) return null;
-    const array = new Int32Array(this.memory.buffer, at, length);
+    const array = view(at);
     if (at < before) array.fill(0);
     return array;
   }
