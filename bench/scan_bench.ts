@@ -3,6 +3,9 @@
 //   2. Lanczos matrix-vector products along the line with warm starts vs cold starts, and ratio.
 // Each run writes a real run folder (in a temporary directory), as `rungchain scan` does.
 //
+// With no --sites, the line runs at 8 sites (6561 states, the goal's size) and again at 9 (19683),
+// to show how the two-worker ratio grows with the work per point.
+//
 // usage: node dist/bench/scan_bench.js [--points 40] [--sites 8] [--levels 3] [--workers 2]
 
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
@@ -18,11 +21,11 @@ function option(name: string, fallback: number): number {
 }
 
 const points = option('points', 40);
-const sites = option('sites', 8);
+const siteCounts = process.argv.includes('--sites') ? [option('sites', 8)] : [8, 9];
 const levels = option('levels', 3);
 const maxWorkers = option('workers', 2);
 
-const spec = `
+const specFor = (sites: number) => `
 [chain]
 sites = ${sites}
 boundary = "periodic"
@@ -68,9 +71,13 @@ async function measure(dir: string, name: string, workers: number, warmStart: bo
 }
 
 async function main(): Promise<void> {
+  for (const sites of siteCounts) await benchLine(sites);
+}
+
+async function benchLine(sites: number): Promise<void> {
   const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-scan-bench-'));
   try {
-    writeFileSync(path.join(dir, 'line.toml'), spec);
+    writeFileSync(path.join(dir, 'line.toml'), specFor(sites));
     const one = await measure(dir, 'one-worker', 1, true);
     const two = await measure(dir, `${maxWorkers}-workers`, maxWorkers, true);
     const cold = await measure(dir, 'one-worker-cold', 1, false);
