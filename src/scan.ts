@@ -268,7 +268,7 @@ export interface ScanSizes {
 }
 
 export function sizeScan(plan: ScanPlan, limit: number): ScanSizes {
-  const plans = plan.points.map((p) => planPoint(p.spec));
+  const plans = plan.points.map((p) => planPoint(p.spec, { maxMemory: limit }));
   let largest = 0;
   let largestMemory = 0;
   const overLimit: number[] = [];

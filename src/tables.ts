@@ -46,7 +46,8 @@ export function describePlan(plan: PointPlan, limit: number): string {
   ];
   if (plan.symmetries.length > 0) {
     const used = plan.symmetries.filter((c) => plan.used?.[c.name]).map((c) => c.name);
-    lines.splice(3, 0, `symmetries       ${used.length > 0 ? used.join(', ') + ' (checked on the operator; solved sector by sector)' : 'none found'}`);
+    const howMany = plan.sectorThreads > 1 ? `, ${plan.sectorThreads} at a time` : '';
+    lines.splice(3, 0, `symmetries       ${used.length > 0 ? used.join(', ') + ` (checked on the operator; solved sector by sector${howMany})` : 'none found'}`);
   }
   for (const [part, bytes] of Object.entries(plan.memory.parts)) lines.push(`  ${part.padEnd(14)} ${formatBytes(bytes)}`);
   return lines.join('\n');
