@@ -69,10 +69,16 @@ export interface SolveOptions {
  * 70 s against 77 s; 16x3 (2.7 M) 351 s against 312 s, with 5.0 GB against 3.0 GB at the peak.
  */
 const SIDE_BY_SIDE_ENTRIES = 1 << 21;
+/**
+ * Below this many states a point is too quick to pay for starting the extra thread (about 0.1 s):
+ * measured 9x3 points at 0.27 s one at a time against 0.38 s side by side, 8x4 and 9x4 even, 10x4
+ * 2.9 s against 3.1 s, 11x4 17 s against 33 s.
+ */
+const SIDE_BY_SIDE_MIN_STATES = 1 << 19;
 
 /**
  * Sizes a point: dimension, storage and memory estimate, allocating nothing large. Sectors are
- * solved side by side (see SIDE_BY_SIDE_ENTRIES) on as many threads as `limits.threads` (default:
+ * solved side by side (see SIDE_BY_SIDE_ENTRIES and SIDE_BY_SIDE_MIN_STATES) on as many threads as `limits.threads` (default:
  * every core) and the spec allow, fewer when the sectors solved at once would not fit in
  * `limits.maxMemory`.
  */
@@ -84,7 +90,7 @@ export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: nu
   if (used) {
     const sectors = planSectors(used, model, spec.solve.sector ?? {}).length;
     const entries = largestSector(dimension, model, used).sectorDim * (model.isComplex || used.translation ? 2 : 1);
-    const allowed = entries > SIDE_BY_SIDE_ENTRIES ? 1 : Math.min(sectors, coreCount(), limits.threads ?? Infinity, spec.solve.threads === 'auto' ? Infinity : spec.solve.threads);
+    const allowed = entries > SIDE_BY_SIDE_ENTRIES || dimension < SIDE_BY_SIDE_MIN_STATES ? 1 : Math.min(sectors, coreCount(), limits.threads ?? Infinity, spec.solve.threads === 'auto' ? Infinity : spec.solve.threads);
     const limit = limits.maxMemory ?? defaultMemoryLimit();
     const estimate = (concurrent: number) =>
       estimateSectorMemory({ dim: dimension, model, used, krylovVectors: spec.solve.krylov ?? defaultKrylovSize(states, Infinity), states, concurrent });

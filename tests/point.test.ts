@@ -154,9 +154,9 @@ describe('Lanczos path against the dense reference', () => {
 describe('how many sectors are solved at once', () => {
   // Each sector solved at the same time holds its own matrix and Krylov basis, so the memory
   // limit decides how many run together (the estimate itself is compared with measured peaks in
-  // `npm run bench`).
+  // `npm run bench`). 12 x 3 = 531,441 states: large enough to be worth a second thread.
   const spec = validateSpec({
-    chain: { sites: 8, boundary: 'periodic' },
+    chain: { sites: 12, boundary: 'periodic' },
     levels: { count: 3, tunnelling: 1 },
     exchange: { strength: 1.5 },
     solve: { states: 2 },
@@ -173,7 +173,11 @@ describe('how many sectors are solved at once', () => {
     expect(limited.memory.totalBytes).toBe(one.memory.totalBytes);
   });
   it('the spec can ask for one thread', () => {
-    const raw = { chain: { sites: 8, boundary: 'periodic' }, levels: { count: 3, tunnelling: 1 }, solve: { threads: 1 } };
+    const raw = { chain: { sites: 12, boundary: 'periodic' }, levels: { count: 3, tunnelling: 1 }, solve: { threads: 1 } };
+    expect(planPoint(validateSpec(raw), { threads: 2, maxMemory: Number.MAX_SAFE_INTEGER }).sectorThreads).toBe(1);
+  });
+  it('a small point stays on one thread: starting another would cost more than it saves', () => {
+    const raw = { chain: { sites: 9, boundary: 'periodic' }, levels: { count: 3, tunnelling: 1 } };
     expect(planPoint(validateSpec(raw), { threads: 2, maxMemory: Number.MAX_SAFE_INTEGER }).sectorThreads).toBe(1);
   });
 });
