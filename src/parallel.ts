@@ -10,7 +10,7 @@ import type { HermitianOperator } from './operator.js';
 import { CsrOperator } from './operator/csr.js';
 import { PinnedOperator, type BlockPlacement } from './operator/pinned.js';
 import { arenaHolding, VectorArena } from './simd.js';
-import { serveTeam, SyncTeam, TEAM_WORDS } from './threadTeam.js';
+import { serveTeam, SyncTeam, TEAM_WORDS, workerScript } from './threadTeam.js';
 
 /** An operator that can write any slice [lo, hi) of its product on its own. */
 export interface RangeOperator extends HermitianOperator {
@@ -134,8 +134,7 @@ export class ThreadedOperator implements HermitianOperator {
         : null;
     const shared: SharedArena | null = arena ? { memory: arena.memory, used: arena.used, length, placement, csr } : null;
     this.bounds = splitRows(local, threads);
-    // From dist/src the worker is dist/workers; tests that load src/*.ts directly use the built one.
-    const script = new URL(import.meta.url.endsWith('.ts') ? '../dist/workers/product.js' : '../workers/product.js', import.meta.url);
+    const script = workerScript('product');
     this.team = new SyncTeam(script, threads, PARAMS, (t, control) => ({
       payload,
       control,

@@ -4,6 +4,8 @@
 // lock keeps a claim and a cut from crossing: each point is solved by exactly one worker.
 // (Its own small module: the main thread needs it without loading the solver.)
 
+import { spinLocked } from './threadTeam.js';
+
 const CLAIM_LOCK = 0;
 const CLAIM_NEXT = 1;
 const CLAIM_END = 2;
@@ -15,16 +17,7 @@ export function newClaims(count: number): Int32Array {
   return claims;
 }
 
-function locked<T>(claims: Int32Array, body: () => T): T {
-  while (Atomics.compareExchange(claims, CLAIM_LOCK, 0, 1) !== 0) {
-    /* held for a few instructions by the other side */
-  }
-  try {
-    return body();
-  } finally {
-    Atomics.store(claims, CLAIM_LOCK, 0);
-  }
-}
+const locked = <T>(claims: Int32Array, body: () => T): T => spinLocked(claims, CLAIM_LOCK, body);
 
 /** The next point's position in the task, or null when the task has no more points for this worker. */
 export function claimNext(claims: Int32Array): number | null {

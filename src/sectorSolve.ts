@@ -17,6 +17,7 @@ import { ChunkSpares, CsrBuilder, type BuiltRows } from './operator/csr.js';
 import { buildSectorOperator, buildSectorRows } from './operator/sector.js';
 import { withThreads } from './parallel.js';
 import { VectorArena } from './simd.js';
+import { spinLocked, workerScript } from './threadTeam.js';
 import { degeneracyWindow, denseThresholdFor, lowestEigenpairs, type EigenOptions } from './solver.js';
 import { IndexActions, planSectors, type SectorLabel, type SectorPlan, type SectorSelection, type SymmetryName } from './symmetry.js';
 
@@ -143,14 +144,7 @@ class SharedProgress {
   }
 
   private locked<T>(body: () => T): T {
-    while (Atomics.compareExchange(this.words, LOCK, 0, 1) !== 0) {
-      /* held for a few instructions by another thread */
-    }
-    try {
-      return body();
-    } finally {
-      Atomics.store(this.words, LOCK, 0);
-    }
+    return spinLocked(this.words, LOCK, body);
   }
 
   /** Index of the next sector to solve (past the end: none left). */
@@ -427,7 +421,7 @@ class BuildHelper {
   constructor(model: Model, basis: PinnedBasis, plans: SectorPlan[], maps: Record<string, OrbitMapParts>) {
     const { port1, port2 } = new MessageChannel();
     const data: BuildHelperData = { mode: 'build', model, basis, plans, maps, answered: this.answered, port: port2 };
-    this.worker = new Worker(helperScript(), { workerData: data, transferList: [port2] });
+    this.worker = new Worker(workerScript('sectors'), { workerData: data, transferList: [port2] });
     this.worker.unref();
     this.port = port1;
   }
@@ -461,10 +455,6 @@ function describe(e: unknown): { name: string; message: string } {
   return e instanceof Error ? { name: e.name, message: e.message } : { name: 'Error', message: String(e) };
 }
 
-function helperScript(): URL {
-  // From dist/src the worker is dist/workers; tests that load src/*.ts directly use the built one.
-  return new URL(import.meta.url.endsWith('.ts') ? '../dist/workers/sectors.js' : '../workers/sectors.js', import.meta.url);
-}
 
 /** The build helper's side: answer each request with the rows asked for. */
 function serveBuilds(data: BuildHelperData): void {
@@ -546,7 +536,7 @@ export function solveInSectors(
       // Every map the sectors use exists before the helpers start, so they share it.
       for (const plan of plans) maps.for(plan.label);
       const { initial, initialComplex, states: s, tolerance, maxMatvecs, krylovSize, seed, selection: sel } = opts;
-      const script = helperScript();
+      const script = workerScript('sectors');
       for (let h = 0; h < helpers; h++) {
         const { port1, port2 } = new MessageChannel();
         const data: HelperData = {

@@ -2,8 +2,26 @@
 // the solver's vector kernels in solver/team.ts): the calling thread writes a command into shared
 // control words, bumps a generation counter, does its own share, and waits until every helper
 // thread has counted itself done. Everything stays synchronous, so callers look single-threaded.
+// Also the two small pieces every thread helper needs: where its script is, and a spin lock.
 
 import { Worker } from 'node:worker_threads';
+
+/** A worker entry point in workers/ (from dist/src; tests that load src/*.ts use the built one). */
+export function workerScript(name: string): URL {
+  return new URL(import.meta.url.endsWith('.ts') ? `../dist/workers/${name}.js` : `../workers/${name}.js`, import.meta.url);
+}
+
+/** Runs `body` holding the spin lock in words[at] (0 free, 1 held); for critical sections of a few instructions. */
+export function spinLocked<T>(words: Int32Array, at: number, body: () => T): T {
+  while (Atomics.compareExchange(words, at, 0, 1) !== 0) {
+    /* held for a few instructions by another thread */
+  }
+  try {
+    return body();
+  } finally {
+    Atomics.store(words, at, 0);
+  }
+}
 
 const GENERATION = 0; // bumped by the caller for every command
 const DONE = 1; // helpers that finished the current command

@@ -5,7 +5,7 @@
 // synchronous and the solver's loop does not change.
 
 import { VectorArena, type WasmKernels } from '../simd.js';
-import { serveTeam, SyncTeam, TEAM_WORDS } from '../threadTeam.js';
+import { serveTeam, SyncTeam, TEAM_WORDS, workerScript } from '../threadTeam.js';
 import { BLOCK, SIMD_BLOCK } from './kernels.js';
 
 // Parameters of the current command, after the hand-off's control words (read as Uint32: byte
@@ -83,8 +83,7 @@ export class KernelTeam {
     private readonly arena: VectorArena,
     readonly threads: number,
   ) {
-    // From dist/src/solver the worker is dist/workers; tests that load src/*.ts use the built one.
-    const script = new URL(import.meta.url.endsWith('.ts') ? '../../dist/workers/kernels.js' : '../../workers/kernels.js', import.meta.url);
+    const script = workerScript('kernels');
     this.team = new SyncTeam(script, threads, PARAMS, (thread, control) => ({ memory: arena.memory, control, thread, threads }));
     this.params = new Uint32Array(this.team.control.buffer);
   }
