@@ -89,7 +89,7 @@ export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: nu
   const { symmetries, used } = chooseSymmetries(spec, model);
   if (used) {
     const sectors = planSectors(used, model, spec.solve.sector ?? {}).length;
-    const entries = largestSector(dimension, model, used).sectorDim * (model.isComplex || used.translation ? 2 : 1);
+    const { entries } = largestSector(dimension, model, used);
     const allowed = entries > SIDE_BY_SIDE_ENTRIES || dimension < SIDE_BY_SIDE_MIN_STATES ? 1 : Math.min(sectors, coreCount(), limits.threads ?? Infinity, spec.solve.threads === 'auto' ? Infinity : spec.solve.threads);
     const limit = limits.maxMemory ?? defaultMemoryLimit();
     const estimate = (concurrent: number) =>

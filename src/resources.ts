@@ -102,15 +102,19 @@ export function largestChargeFraction(sites: number, levels: number): number {
   return Math.max(...poly);
 }
 
-/** Size of the largest sector (with a margin) and of its stored matrix, before building anything. */
-export function largestSector(dim: number, model: Model, used: Record<SymmetryName, boolean>): { sectorDim: number; nnz: number } {
+/**
+ * Size of the largest sector (with a margin), whether its arithmetic is complex (momentum sectors
+ * are), its vectors' length in doubles, and its stored matrix's nonzeros, before building anything.
+ */
+export function largestSector(dim: number, model: Model, used: Record<SymmetryName, boolean>): { sectorDim: number; complex: boolean; entries: number; nnz: number } {
   const translations = used.translation ? model.sites : 1;
   const flip = used.level_flip && !used.charge ? 2 : 1;
   const fraction = used.charge ? largestChargeFraction(model.sites, model.levels) : 1;
   // Momentum sectors other than 0 and pi are not split by parity, so they are the largest.
   const parityHalves = used.reflection && !used.translation ? 2 : 1;
   const sectorDim = Math.ceil((dim * fraction * 1.05) / (translations * flip * parityHalves)) + 64;
-  return { sectorDim, nnz: sectorDim * pinnedColumnsPerState(model) };
+  const complex = model.isComplex || used.translation;
+  return { sectorDim, complex, entries: sectorDim * (complex ? 2 : 1), nnz: sectorDim * pinnedColumnsPerState(model) };
 }
 
 /**
@@ -129,8 +133,7 @@ export function estimateSectorMemory(opts: {
 }): MemoryEstimate {
   const { dim, model, used } = opts;
   const concurrent = opts.concurrent ?? 1;
-  const { sectorDim, nnz } = largestSector(dim, model, used);
-  const complex = model.isComplex || used.translation;
+  const { sectorDim, nnz, complex } = largestSector(dim, model, used);
   const scalar = complex ? 16 : 8;
   const maps = used.reflection && used.translation ? 2 : 1;
   const parts: Record<string, number> = {
