@@ -9,7 +9,7 @@
 // A degenerate ground space enters as its average, rho = (1/g) sum_k |psi_k><psi_k|, as every
 // other observable (MODEL.md); its entropies then include the mixing.
 
-import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { symmetricEigen } from './solver/symmetricEigen.js';
 import { ResourceError } from './errors.js';
 
 export interface CutEntanglement {
@@ -169,28 +169,22 @@ function accumulateRight(psi: Float64Array, dL: number, dR: number, w: number, r
 /** Eigenvalues of a Hermitian d x d matrix (row-major re, im), descending. */
 export function hermitianEigenvalues(d: number, re: Float64Array, im: Float64Array | null): Float64Array {
   if (d === 1) return Float64Array.of(re[0]);
-  if (!im) {
-    const rows: number[][] = [];
-    for (let r = 0; r < d; r++) rows.push(Array.from(re.subarray(r * d, (r + 1) * d)));
-    const values = Float64Array.from(new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true }).realEigenvalues);
-    return values.sort().reverse();
-  }
+  if (!im) return symmetricEigen(re, d, false).values.reverse();
   // R + iI is Hermitian iff [[R, -I], [I, R]] is real symmetric; the latter has every eigenvalue of
   // the former twice (common practice).
-  const rows: number[][] = [];
-  for (let r = 0; r < 2 * d; r++) rows.push(new Array<number>(2 * d));
+  const size = 2 * d;
+  const embedded = new Float64Array(size * size);
   for (let r = 0; r < d; r++) {
     for (let c = 0; c < d; c++) {
       const x = re[r * d + c];
       const y = im[r * d + c];
-      rows[r][c] = x;
-      rows[r + d][c + d] = x;
-      rows[r][c + d] = -y;
-      rows[r + d][c] = y;
+      embedded[r * size + c] = x;
+      embedded[(r + d) * size + c + d] = x;
+      embedded[r * size + c + d] = -y;
+      embedded[(r + d) * size + c] = y;
     }
   }
-  const doubled = Float64Array.from(new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true }).realEigenvalues);
-  doubled.sort().reverse();
+  const doubled = symmetricEigen(embedded, size, false).values.reverse();
   const values = new Float64Array(d);
   for (let k = 0; k < d; k++) values[k] = 0.5 * (doubled[2 * k] + doubled[2 * k + 1]);
   return values;

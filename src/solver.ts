@@ -7,12 +7,12 @@
 //
 // Vector layout follows src/operator.ts: length dim (real) or 2*dim (complex, interleaved re,im).
 
-import { Matrix, EigenvalueDecomposition } from 'ml-matrix';
 import { ConvergenceError, SpecError } from './errors.js';
 import type { HermitianOperator } from './operator.js';
 import { VectorArena } from './simd.js';
 import { BLOCK, coefficientNormSquared, norm2, plainKernels, scale, VectorKernels } from './solver/kernels.js';
 import { KernelTeam } from './solver/team.js';
+import { symmetricEigen } from './solver/symmetricEigen.js';
 
 export interface EigenOptions {
   /** How many lowest eigenpairs. */
@@ -149,24 +149,16 @@ function smallSymmetricEigen(
   ld: number,
   s: number,
 ): { values: Float64Array; vectors: Float64Array } {
-  const rows: number[][] = [];
+  const block = new Float64Array(s * s);
   for (let i = 0; i < s; i++) {
-    const row = new Array<number>(s);
-    for (let j = 0; j < s; j++) row[j] = 0.5 * (packed[i * ld + j] + packed[j * ld + i]);
-    rows.push(row);
+    for (let j = 0; j < s; j++) block[i * s + j] = 0.5 * (packed[i * ld + j] + packed[j * ld + i]);
   }
-  const evd = new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true });
-  const raw = evd.realEigenvalues;
-  const v = evd.eigenvectorMatrix;
-  const order = raw.map((_, i) => i).sort((a, b) => raw[a] - raw[b]);
-  const values = new Float64Array(s);
+  const eigen = symmetricEigen(block, s);
+  const byVector = eigen.vectors!;
   // vectors[i * s + c]: component i of eigenvector c
   const vectors = new Float64Array(s * s);
-  for (let c = 0; c < s; c++) {
-    values[c] = raw[order[c]];
-    for (let i = 0; i < s; i++) vectors[i * s + c] = v.get(i, order[c]);
-  }
-  return { values, vectors };
+  for (let c = 0; c < s; c++) for (let i = 0; i < s; i++) vectors[i * s + c] = byVector[c * s + i];
+  return { values: eigen.values, vectors };
 }
 
 function checkVectorLength(v: Float64Array, length: number, keyPath: string): void {
@@ -537,27 +529,13 @@ function denseSolve(op: HermitianOperator, count: number, deflation: Float64Arra
   return solution;
 }
 
-function matrixRows(packed: Float64Array, n: number): number[][] {
-  const rows: number[][] = [];
-  for (let i = 0; i < n; i++) rows.push(Array.from(packed.subarray(i * n, (i + 1) * n)));
-  return rows;
-}
-
-function sortedEigen(rows: number[][]): { values: number[]; vectorMatrix: Matrix; order: number[] } {
-  const evd = new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true });
-  const values = evd.realEigenvalues;
-  const order = values.map((_, i) => i).sort((p, q) => values[p] - values[q]);
-  return { values, vectorMatrix: evd.eigenvectorMatrix, order };
-}
-
 function realDenseEigen(a: Float64Array, n: number, count: number): DenseSolution {
-  const { values, vectorMatrix, order } = sortedEigen(matrixRows(a, n));
+  const { values, vectors: byVector } = symmetricEigen(a, n);
   const outValues = new Float64Array(count);
   const vectors: Float64Array[] = [];
   for (let c = 0; c < count; c++) {
-    outValues[c] = values[order[c]];
-    const v = new Float64Array(n);
-    for (let i = 0; i < n; i++) v[i] = vectorMatrix.get(i, order[c]);
+    outValues[c] = values[c];
+    const v = byVector!.slice(c * n, (c + 1) * n);
     scale(v, 1 / norm2(v));
     vectors.push(v);
   }
@@ -574,35 +552,34 @@ function realDenseEigen(a: Float64Array, n: number, count: number): DenseSolutio
  */
 function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: number): DenseSolution {
   const size = 2 * n;
-  const rows: number[][] = [];
-  for (let i = 0; i < size; i++) rows.push(new Array<number>(size));
+  const embedded = new Float64Array(size * size);
   for (let i = 0; i < n; i++) {
     for (let j = 0; j < n; j++) {
       const aij = a[i * n + j];
       const bij = b[i * n + j];
-      rows[i][j] = aij;
-      rows[i][n + j] = -bij;
-      rows[n + i][j] = bij;
-      rows[n + i][n + j] = aij;
+      embedded[i * size + j] = aij;
+      embedded[i * size + n + j] = -bij;
+      embedded[(n + i) * size + j] = bij;
+      embedded[(n + i) * size + n + j] = aij;
     }
   }
-  const { values, vectorMatrix, order } = sortedEigen(rows);
+  const { values, vectors: byVector } = symmetricEigen(embedded, size);
   // Copies of one eigenvalue split only by rounding (~1e-15 of the spectral radius); levels
   // closer than clusterGap are treated as one cluster, which mixes them by at most that much.
-  const radius = Math.max(Math.abs(values[order[0]]), Math.abs(values[order[size - 1]]));
+  const radius = Math.max(Math.abs(values[0]), Math.abs(values[size - 1]));
   const clusterGap = 1e-11 * Math.max(1, radius);
   const outValues = new Float64Array(count);
   const vectors: Float64Array[] = [];
   let start = 0;
   while (vectors.length < count && start < size) {
     let end = start + 1;
-    while (end < size && (values[order[end]] - values[order[end - 1]] <= clusterGap || (end - start) % 2 === 1)) end++;
+    while (end < size && (values[end] - values[end - 1] <= clusterGap || (end - start) % 2 === 1)) end++;
     const candidates: Float64Array[] = [];
     for (let c = start; c < end; c++) {
       const z = new Float64Array(2 * n);
       for (let i = 0; i < n; i++) {
-        z[2 * i] = vectorMatrix.get(i, order[c]);
-        z[2 * i + 1] = vectorMatrix.get(n + i, order[c]);
+        z[2 * i] = byVector![c * size + i];
+        z[2 * i + 1] = byVector![c * size + n + i];
       }
       candidates.push(z);
     }
@@ -611,7 +588,7 @@ function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: n
     // the overlap with nearby earlier levels restores orthonormality and moves the residual by
     // only overlap * gap ~ eps*||H||. Far levels overlap below 1e-12 already.
     const nearby: Float64Array[] = [];
-    const here = values[order[start]];
+    const here = values[start];
     for (let k = vectors.length - 1; k >= 0 && here - outValues[k] <= 1e-3 * Math.max(1, radius); k--) nearby.push(vectors[k]);
     const nearbyCoef = new Float64Array(2 * nearby.length + 2);
     const nearbyCoef2 = new Float64Array(2 * nearby.length + 2);
@@ -637,7 +614,7 @@ function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: n
       }
     }
     for (let d = 0; d < directions && vectors.length < count; d++) {
-      outValues[vectors.length] = 0.5 * (values[order[start + 2 * d]] + values[order[start + 2 * d + 1]]);
+      outValues[vectors.length] = 0.5 * (values[start + 2 * d] + values[start + 2 * d + 1]);
       vectors.push(accepted[d]);
     }
     start = end;

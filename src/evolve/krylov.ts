@@ -13,7 +13,7 @@
 //
 // Vectors are complex, interleaved re,im, length 2*dim, even when H is real.
 
-import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { symmetricEigen } from '../solver/symmetricEigen.js';
 import { ConvergenceError } from '../errors.js';
 import type { HermitianOperator } from '../operator.js';
 
@@ -275,7 +275,7 @@ export class KrylovPropagator {
         const zr = er * gr - ei * gi;
         const zi = er * gi + ei * gr;
         for (let j = 0; j < size; j++) {
-          const q = Q.get(j, k);
+          const q = Q[k * size + j];
           coefRe[j] += q * zr;
           coefIm[j] += q * zi;
         }
@@ -298,7 +298,8 @@ export class KrylovPropagator {
 interface TridiagonalAnalysis {
   size: number;
   lambda: Float64Array;
-  Q: Matrix;
+  /** Q[k * size + j]: component j of the Ritz vector of lambda[k]. */
+  Q: Float64Array;
   /** Q[0][k]: the start vector's weight on each Ritz vector. */
   first: Float64Array;
   /** Midpoint of the Ritz values, split off as a global phase for accuracy. */
@@ -312,22 +313,22 @@ interface TridiagonalAnalysis {
 
 /** Eigen-decomposition of T_size (exp(-i s T) e_1 = Q exp(-i s Lambda) Q^T e_1) and the step error bound. */
 function analyseTridiagonal(alpha: Float64Array, beta: Float64Array, size: number, h: number, beta0: number): TridiagonalAnalysis {
-  const T = Matrix.zeros(size, size);
+  const T = new Float64Array(size * size);
   for (let j = 0; j < size; j++) {
-    T.set(j, j, alpha[j]);
+    T[j * size + j] = alpha[j];
     if (j + 1 < size) {
-      T.set(j, j + 1, beta[j]);
-      T.set(j + 1, j, beta[j]);
+      T[j * size + j + 1] = beta[j];
+      T[(j + 1) * size + j] = beta[j];
     }
   }
-  const eig = new EigenvalueDecomposition(T, { assumeSymmetric: true });
-  const lambda = Float64Array.from(eig.realEigenvalues);
-  const Q = eig.eigenvectorMatrix;
+  const eig = symmetricEigen(T, size);
+  const lambda = eig.values;
+  const Q = eig.vectors!;
   const first = new Float64Array(size);
   const lastTimesFirst = new Float64Array(size);
   for (let k = 0; k < size; k++) {
-    first[k] = Q.get(0, k);
-    lastTimesFirst[k] = Q.get(size - 1, k) * first[k];
+    first[k] = Q[k * size];
+    lastTimesFirst[k] = Q[k * size + size - 1] * first[k];
   }
   let lo = Infinity;
   let hi = -Infinity;

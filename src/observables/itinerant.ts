@@ -26,7 +26,7 @@
 // For a degenerate ground space every quantity is the average over the space (the condensate
 // fraction is that of the averaged rho).
 
-import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { symmetricEigen } from '../solver/symmetricEigen.js';
 import type { FockBasis } from '../basis/fock.js';
 import type { Observables } from '../observables.js';
 
@@ -251,18 +251,18 @@ function oneBodyDensityMatrix(basis: FockBasis, states: Float64Array[], isComple
 /** Largest eigenvalue of the Hermitian L x L matrix re + i im (via the real embedding when complex). */
 function largestEigenvalue(re: Float64Array, im: Float64Array | null, L: number): number {
   const n = im === null ? L : 2 * L;
-  const m = Matrix.zeros(n, n);
+  const m = new Float64Array(n * n);
   for (let i = 0; i < L; i++)
     for (let j = 0; j < L; j++) {
       const a = re[i * L + j];
-      m.set(i, j, a);
+      m[i * n + j] = a;
       if (im !== null) {
         const b = im[i * L + j];
-        m.set(i + L, j + L, a);
-        m.set(i, j + L, -b);
-        m.set(i + L, j, b);
+        m[(i + L) * n + j + L] = a;
+        m[i * n + j + L] = -b;
+        m[(i + L) * n + j] = b;
       }
     }
-  const values = new EigenvalueDecomposition(m, { assumeSymmetric: true }).realEigenvalues;
-  return Math.max(...values);
+  const values = symmetricEigen(m, n, false).values;
+  return values[n - 1];
 }
