@@ -15,6 +15,7 @@ import { formatBytes } from '../src/resources.js';
 import { VectorArena } from '../src/simd.js';
 import { validateSpec } from '../src/spec.js';
 import { fmt, table } from '../src/tables.js';
+import { coreSpeeds, describeCores } from './cores.js';
 
 interface CaseFigures {
   seconds: number;
@@ -176,6 +177,7 @@ function main(): void {
     ]);
   }
   console.log('');
+  console.log(describeCores(coreSpeeds()));
   console.log(`memory bandwidth (SIMD triad y += s x, one thread): ${fmt(bw / 1e9, 3)} GB/s`);
   console.log(table(['on-the-fly product', 'ms', 'M elements/s', 'GB/s streamed', 'fraction of triad bandwidth'], productRows));
 }
