@@ -38,53 +38,22 @@ export function basisProbabilities(states: Float64Array[], dim: number, isComple
 export function pinnedObservables(basis: PinnedBasis, probabilities: Float64Array): Observables {
   const L = basis.sites;
   const N = basis.levels;
-  const dim = basis.dim;
   const h = Math.floor(L / 2);
-  const lowSize = N ** h;
-  const highSize = dim / lowSize;
-  const lowDigits = digitTable(h, N);
-  const highDigits = digitTable(L - h, N);
-  const lowColumns = Array.from({ length: h }, (_, i) => Float64Array.from({ length: lowSize }, (_, lo) => lowDigits[lo * h + i]));
-  const pLow = new Float64Array(lowSize);
-  const pHigh = new Float64Array(highSize);
-  const cross = new Float64Array(highSize * h); // sum over lo of p(hi, lo) n_i(lo), for low sites i
-  for (let hi = 0; hi < highSize; hi++) {
-    const base = hi * lowSize;
-    let total = 0;
-    for (let lo = 0; lo < lowSize; lo++) {
-      const p = probabilities[base + lo];
-      total += p;
-      pLow[lo] += p;
-    }
-    pHigh[hi] = total;
-    if (total === 0) continue;
-    for (let i = 0; i < h; i++) {
-      const column = lowColumns[i];
-      let m = 0;
-      for (let lo = 0; lo < lowSize; lo++) m += probabilities[base + lo] * column[lo];
-      cross[hi * h + i] = m;
-    }
-  }
-  // Site i's digit in a half, and that half's marginal.
-  const half = (i: number) => (i < h ? { size: lowSize, digits: lowDigits, width: h, at: i, p: pLow } : { size: highSize, digits: highDigits, width: L - h, at: i - h, p: pHigh });
+  const low = halfOf(h, N);
+  const high = halfOf(L - h, N);
+  const { pLow, pHigh, cross } = halfMarginals(probabilities, low, high.size);
   const pop = new Float64Array(L * N);
   for (let i = 0; i < L; i++) {
-    const { size, digits, width, at, p } = half(i);
-    for (let x = 0; x < size; x++) pop[i * N + digits[x * width + at]] += p[x];
+    if (i < h) addPopulations(pop, i * N, low, i, pLow);
+    else addPopulations(pop, i * N, high, i - h, pHigh);
   }
   const pairMoment = new Float64Array(L * L); // <n_i n_j>, i < j
   for (let i = 0; i < L; i++) {
     for (let j = i + 1; j < L; j++) {
-      let sum = 0;
-      if ((i < h) === (j < h)) {
-        const a = half(i);
-        const b = half(j);
-        for (let x = 0; x < a.size; x++) sum += a.p[x] * a.digits[x * a.width + a.at] * b.digits[x * b.width + b.at];
-      } else {
-        // i is a low site, j a high one (i < j)
-        for (let hi = 0; hi < highSize; hi++) sum += highDigits[hi * (L - h) + (j - h)] * cross[hi * h + i];
-      }
-      pairMoment[i * L + j] = sum;
+      // Pairs within a half come from its marginal; a low site i with a high site j from `cross`.
+      if (j < h) pairMoment[i * L + j] = pairWithinHalf(low, i, j, pLow);
+      else if (i >= h) pairMoment[i * L + j] = pairWithinHalf(high, i - h, j - h, pHigh);
+      else pairMoment[i * L + j] = pairAcrossHalves(high, j - h, cross, h, i);
     }
   }
   // String width: the mean over states of the variance of the levels along the chain,
@@ -127,6 +96,68 @@ export function pinnedObservables(basis: PinnedBasis, probabilities: Float64Arra
     pairSeparation.push(row);
   }
   return { populations, level_mean: levelMean, spread, string_width: width, pair_separation: pairSeparation };
+}
+
+/** One half of the chain: its number of states, sites and digit table (table[x * width + i]). */
+interface Half {
+  size: number;
+  width: number;
+  digits: Int32Array;
+}
+
+function halfOf(width: number, N: number): Half {
+  return { size: N ** width, width, digits: digitTable(width, N) };
+}
+
+/**
+ * The marginals of the low half (sites 0..h-1, the fast digits) and of the high half, and per
+ * high part the moments sum over lo of p(hi, lo) n_i(lo) of each low site i: cross[hi * h + i].
+ */
+function halfMarginals(probabilities: Float64Array, low: Half, highSize: number): { pLow: Float64Array; pHigh: Float64Array; cross: Float64Array } {
+  const lowSize = low.size;
+  const h = low.width;
+  const lowColumns = Array.from({ length: h }, (_, i) => Float64Array.from({ length: lowSize }, (_, lo) => low.digits[lo * h + i]));
+  const pLow = new Float64Array(lowSize);
+  const pHigh = new Float64Array(highSize);
+  const cross = new Float64Array(highSize * h);
+  for (let hi = 0; hi < highSize; hi++) {
+    const base = hi * lowSize;
+    let total = 0;
+    for (let lo = 0; lo < lowSize; lo++) {
+      const p = probabilities[base + lo];
+      total += p;
+      pLow[lo] += p;
+    }
+    pHigh[hi] = total;
+    if (total === 0) continue;
+    for (let i = 0; i < h; i++) cross[hi * h + i] = weightedSum(probabilities, base, lowColumns[i], lowSize);
+  }
+  return { pLow, pHigh, cross };
+}
+
+function weightedSum(p: Float64Array, base: number, weights: Float64Array, count: number): number {
+  let m = 0;
+  for (let x = 0; x < count; x++) m += p[base + x] * weights[x];
+  return m;
+}
+
+/** pop[offset + n] += probability that site `at` of the half holds level n. */
+function addPopulations(pop: Float64Array, offset: number, half: Half, at: number, marginal: Float64Array): void {
+  for (let x = 0; x < half.size; x++) pop[offset + half.digits[x * half.width + at]] += marginal[x];
+}
+
+/** <n_a n_b> for two sites of one half, from its marginal. */
+function pairWithinHalf(half: Half, a: number, b: number, marginal: Float64Array): number {
+  let sum = 0;
+  for (let x = 0; x < half.size; x++) sum += marginal[x] * half.digits[x * half.width + a] * half.digits[x * half.width + b];
+  return sum;
+}
+
+/** <n_i n_j> for low site i and high site j (index `at` in the high half). */
+function pairAcrossHalves(high: Half, at: number, cross: Float64Array, h: number, i: number): number {
+  let sum = 0;
+  for (let hi = 0; hi < high.size; hi++) sum += high.digits[hi * high.width + at] * cross[hi * h + i];
+  return sum;
 }
 
 /** Digits of every index below N^sites, site 0 fastest: table[x * sites + i]. */

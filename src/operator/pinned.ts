@@ -379,31 +379,27 @@ const SHORT_RUN = 16;
  * between two of them. Row r holds <r|H|c> for columns c of the block.
  */
 function blockMatrix(model: Model, basis: PinnedBasis, sites: number, size: number) {
-  // Two passes over the same rows, counting then filling, so the entries go straight into typed
-  // arrays (growing plain arrays cost a scan's small points a good part of their time).
+  // One pass into typed arrays sized for the most entries a row can have (a local move per other
+  // level of each site, at most one exchange move per pair), then trimmed: growing plain arrays
+  // cost a scan's small points a good part of their time, and a counting pass doubles the walk.
+  let pairsInBlock = 0;
+  for (let p = 0; p < model.exchangePairs.count; p++) if (model.exchangePairs.j[p] < sites) pairsInBlock++;
+  const capacity = size * (sites * (model.levels - 1) + pairsInBlock);
   const rowStart = new Int32Array(size + 1);
-  blockEntries(model, basis, sites, size, rowStart, null);
-  const count = rowStart[size];
-  const entries = { column: new Int32Array(count), re: new Float64Array(count), im: new Float64Array(count) };
-  blockEntries(model, basis, sites, size, rowStart, entries);
-  return { rowStart, ...entries };
+  const column = new Int32Array(capacity);
+  const re = new Float64Array(capacity);
+  const im = new Float64Array(capacity);
+  const count = blockEntries(model, basis, sites, size, rowStart, column, re, im);
+  return { rowStart, column: column.slice(0, count), re: re.slice(0, count), im: im.slice(0, count) };
 }
 
-/** Walks the block's rows: without `out`, records row starts; with it, writes the entries there. */
-function blockEntries(model: Model, basis: PinnedBasis, sites: number, size: number, rowStart: Int32Array, out: { column: Int32Array; re: Float64Array; im: Float64Array } | null): void {
+/** Writes the block's rows (row starts and entries); returns the number of entries. */
+function blockEntries(model: Model, basis: PinnedBasis, sites: number, size: number, rowStart: Int32Array, column: Int32Array, re: Float64Array, im: Float64Array): number {
   const N = model.levels;
   const digits = new Int32Array(sites);
   const w = model.exchangeWeights;
   const ep = model.exchangePairs;
   let k = 0;
-  const emit = (column: number, re: number, im: number): void => {
-    if (out) {
-      out.column[k] = column;
-      out.re[k] = re;
-      out.im[k] = im;
-    }
-    k++;
-  };
   for (let r = 0; r < size; r++) {
     let rest = r;
     for (let i = 0; i < sites; i++) {
@@ -417,7 +413,9 @@ function blockEntries(model: Model, basis: PinnedBasis, sites: number, size: num
         const hr = model.localRe[a * N + b];
         const hi = model.localIm[a * N + b];
         if (hr === 0 && hi === 0) continue;
-        emit(r + (b - a) * basis.strides[i], hr, hi);
+        column[k] = r + (b - a) * basis.strides[i];
+        re[k] = hr;
+        im[k++] = hi;
       }
     }
     for (let p = 0; p < ep.count; p++) {
@@ -427,11 +425,23 @@ function blockEntries(model: Model, basis: PinnedBasis, sites: number, size: num
       const di = digits[i];
       const dj = digits[j];
       // this row (d_i, d_j) = (n+1, n) is reached from (n, n+1), and the other way round
-      if (di === dj + 1 && w[dj] !== 0) emit(r - basis.strides[i] + basis.strides[j], ep.value[p] * w[dj], 0);
-      else if (dj === di + 1 && w[di] !== 0) emit(r + basis.strides[i] - basis.strides[j], ep.value[p] * w[di], 0);
+      let to = -1;
+      let amplitude = 0;
+      if (di === dj + 1 && w[dj] !== 0) {
+        to = r - basis.strides[i] + basis.strides[j];
+        amplitude = ep.value[p] * w[dj];
+      } else if (dj === di + 1 && w[di] !== 0) {
+        to = r + basis.strides[i] - basis.strides[j];
+        amplitude = ep.value[p] * w[di];
+      }
+      if (to < 0) continue;
+      column[k] = to;
+      re[k] = amplitude;
+      im[k++] = 0;
     }
-    if (!out) rowStart[r + 1] = k;
+    rowStart[r + 1] = k;
   }
+  return k;
 }
 
 /** Diagonal of the pinned Hamiltonian, built digit by digit with the same block loops. */
