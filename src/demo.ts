@@ -29,7 +29,7 @@ export async function runDemo(print: (line: string) => void): Promise<void> {
       const raw = structuredClone(DEMO_SPEC) as Record<string, any>;
       raw.exchange.strength = V;
       raw.levels.count = N;
-      const { record } = solvePoint(validateSpec(raw));
+      const { record } = solvePoint(validateSpec(raw), { groundStates: false });
       if (N === 4) cells.push(fmt(record.energies[0] / 6, 7), fmt(record.gap, 5));
       cells.push(fmt(record.observables.string_width, 4));
     }

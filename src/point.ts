@@ -60,6 +60,12 @@ export interface SolveOptions {
   /** Most threads one matrix-vector product may use (a scan running points in parallel passes its share). */
   threads?: number;
   onProgress?: (info: { matvecs: number; restarts: number; worstResidual: number }) => void;
+  /**
+   * Whether the caller uses `groundStates` (default true). A sector solve otherwise builds them
+   * only for entanglement: expanding sector states to the full space costs a pass over it per
+   * state (about 6% of a 10x4 solve) and the full-space vectors' memory.
+   */
+  groundStates?: boolean;
 }
 
 /**
@@ -234,7 +240,7 @@ function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, o
     selection: spec.solve.sector,
     initial: options.initial,
     initialComplex: options.initial ? options.initial.length === 2 * basis.dim : false,
-    expandGround: basis.dim <= EXPAND_LIMIT || cuts.length > 0,
+    expandGround: (options.groundStates !== false && basis.dim <= EXPAND_LIMIT) || cuts.length > 0,
     threadsFor: (work: number) => productThreads(spec, options, work),
     sectorThreads: plan.sectorThreads,
     onProgress: options.onProgress,

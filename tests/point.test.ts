@@ -181,3 +181,23 @@ describe('how many sectors are solved at once', () => {
     expect(planPoint(validateSpec(raw), { threads: 2, maxMemory: Number.MAX_SAFE_INTEGER }).sectorThreads).toBe(1);
   });
 });
+
+describe('ground states only when the caller uses them', () => {
+  // A sector solve builds full-space ground states only if asked (or for entanglement); the record
+  // must not depend on it. Periodic 8 x 3 with every symmetry the model has (common practice: the
+  // same answer with or without an optional by-product).
+  const raw = { chain: { sites: 8, boundary: 'periodic' }, levels: { count: 3, tunnelling: 1 }, exchange: { strength: 1.5 }, solve: { states: 3, entanglement: 'none' } };
+  it('gives the same record without them, and still computes entanglement', () => {
+    const withStates = solvePoint(validateSpec(raw));
+    const without = solvePoint(validateSpec(raw), { groundStates: false });
+    expect(withStates.record.solver.symmetries?.length).toBeGreaterThan(0);
+    expect(withStates.groundStates.length).toBeGreaterThan(0);
+    expect(without.groundStates).toEqual([]);
+    expect(without.record.energies).toEqual(withStates.record.energies);
+    expect(without.record.observables).toEqual(withStates.record.observables);
+    const cut = validateSpec({ ...raw, solve: { states: 3, entanglement: 'half' } });
+    const entangled = solvePoint(cut, { groundStates: false });
+    expect(entangled.record.observables.entanglement).toEqual(solvePoint(cut).record.observables.entanglement);
+    expect(entangled.record.observables.entanglement?.length).toBe(1);
+  });
+});

@@ -39,7 +39,7 @@ export function registerSolveCommands(program: Command): void {
     .action((specPath: string, opts: { set: string[]; json?: boolean; maxMemory?: string; quiet?: boolean }) => {
       const { spec } = loadSpec(specPath, opts.set);
       const progress = opts.quiet || !process.stderr.isTTY ? undefined : solveProgress();
-      const { record } = solvePoint(spec, { maxMemory: memoryLimit(opts), onProgress: progress?.update });
+      const { record } = solvePoint(spec, { maxMemory: memoryLimit(opts), onProgress: progress?.update, groundStates: false });
       progress?.done();
       // With [units], energies also in Hz (a `units` block in JSON, lines under the table).
       const units = labUnits(spec);
