@@ -346,55 +346,62 @@
   )
 
   ;; A stored sparse matrix in compressed rows, rows [lo, hi): y[r] = sum_k val[k] x[col[k]] (row
-  ;; starts are doubles, as in CsrOperator). Scalar, in the JavaScript loop's order: same bits.
+  ;; starts are doubles, as in CsrOperator). Two running sums take the terms in turn (the first
+  ;; gets terms 0, 2, 4, ... of the row), so each waits for an addition only every other term;
+  ;; y[r] is their sum. The JavaScript loop adds in the same order: same bits.
   (func (export "csrReal") (param $y i32) (param $x i32) (param $rs i32) (param $col i32) (param $val i32) (param $lo i32) (param $hi i32)
-    (local $r i32) (local $k i32) (local $end i32) (local $acc f64)
+    (local $r i32) (local $k i32) (local $end i32) (local $acc0 f64) (local $acc1 f64) (local $next f64)
     (local.set $r (local.get $lo))
     (local.set $end (i32.trunc_f64_u (f64.load (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 3))))))
     (block $rowsDone (loop $rows
       (br_if $rowsDone (i32.ge_u (local.get $r) (local.get $hi)))
       (local.set $k (local.get $end))
       (local.set $end (i32.trunc_f64_u (f64.load offset=8 (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 3))))))
-      (local.set $acc (f64.const 0))
+      (local.set $acc0 (f64.const 0))
+      (local.set $acc1 (f64.const 0))
       (block $termsDone (loop $terms
         (br_if $termsDone (i32.ge_u (local.get $k) (local.get $end)))
-        (local.set $acc (f64.add (local.get $acc) (f64.mul
+        ;; this term goes to acc0; then the two sums swap roles
+        (local.set $next (f64.add (local.get $acc0) (f64.mul
           (f64.load (i32.add (local.get $val) (i32.shl (local.get $k) (i32.const 3))))
           (f64.load (i32.add (local.get $x) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 3)))))))
+        (local.set $acc0 (local.get $acc1))
+        (local.set $acc1 (local.get $next))
         (local.set $k (i32.add (local.get $k) (i32.const 1)))
         (br $terms)))
-      (f64.store (i32.add (local.get $y) (i32.shl (local.get $r) (i32.const 3))) (local.get $acc))
+      (f64.store (i32.add (local.get $y) (i32.shl (local.get $r) (i32.const 3))) (f64.add (local.get $acc0) (local.get $acc1)))
       (local.set $r (i32.add (local.get $r) (i32.const 1)))
       (br $rows)))
   )
 
-  ;; The same with complex entries (re[k], im[k]) and interleaved complex vectors.
+  ;; The same with complex entries (re[k], im[k]) and interleaved complex vectors, one complex
+  ;; number per register: (hr xr - hi xi, hr xi + hi xr) = hr (xr, xi) + hi (-xi, xr), the very
+  ;; products and sums of the JavaScript loop (a + (-b) is a - b exactly).
   (func (export "csrComplex") (param $y i32) (param $x i32) (param $rs i32) (param $col i32) (param $re i32) (param $im i32)
       (param $lo i32) (param $hi i32)
-    (local $r i32) (local $k i32) (local $end i32) (local $accR f64) (local $accI f64) (local $c i32)
-    (local $hr f64) (local $hi_ f64) (local $xr f64) (local $xi f64)
+    (local $r i32) (local $k i32) (local $end i32) (local $acc0 v128) (local $acc1 v128) (local $next v128) (local $xv v128)
     (local.set $r (local.get $lo))
     (local.set $end (i32.trunc_f64_u (f64.load (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 3))))))
     (block $rowsDone (loop $rows
       (br_if $rowsDone (i32.ge_u (local.get $r) (local.get $hi)))
       (local.set $k (local.get $end))
       (local.set $end (i32.trunc_f64_u (f64.load offset=8 (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 3))))))
-      (local.set $accR (f64.const 0))
-      (local.set $accI (f64.const 0))
+      (local.set $acc0 (v128.const i64x2 0 0))
+      (local.set $acc1 (v128.const i64x2 0 0))
       (block $termsDone (loop $terms
         (br_if $termsDone (i32.ge_u (local.get $k) (local.get $end)))
-        (local.set $c (i32.add (local.get $x) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 4))))
-        (local.set $hr (f64.load (i32.add (local.get $re) (i32.shl (local.get $k) (i32.const 3)))))
-        (local.set $hi_ (f64.load (i32.add (local.get $im) (i32.shl (local.get $k) (i32.const 3)))))
-        (local.set $xr (f64.load (local.get $c)))
-        (local.set $xi (f64.load offset=8 (local.get $c)))
-        (local.set $accR (f64.add (local.get $accR) (f64.sub (f64.mul (local.get $hr) (local.get $xr)) (f64.mul (local.get $hi_) (local.get $xi)))))
-        (local.set $accI (f64.add (local.get $accI) (f64.add (f64.mul (local.get $hr) (local.get $xi)) (f64.mul (local.get $hi_) (local.get $xr)))))
+        (local.set $xv (v128.load (i32.add (local.get $x) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 4)))))
+        (local.set $next (f64x2.add (local.get $acc0) (f64x2.add
+          (f64x2.mul (v128.load64_splat (i32.add (local.get $re) (i32.shl (local.get $k) (i32.const 3)))) (local.get $xv))
+          (f64x2.mul (v128.load64_splat (i32.add (local.get $im) (i32.shl (local.get $k) (i32.const 3))))
+            ;; (xi, xr) with the sign of the first lane flipped: (-xi, xr)
+            (v128.xor (i8x16.shuffle 8 9 10 11 12 13 14 15 0 1 2 3 4 5 6 7 (local.get $xv) (local.get $xv))
+              (v128.const i64x2 0x8000000000000000 0))))))
+        (local.set $acc0 (local.get $acc1))
+        (local.set $acc1 (local.get $next))
         (local.set $k (i32.add (local.get $k) (i32.const 1)))
         (br $terms)))
-      (local.set $c (i32.add (local.get $y) (i32.shl (local.get $r) (i32.const 4))))
-      (f64.store (local.get $c) (local.get $accR))
-      (f64.store offset=8 (local.get $c) (local.get $accI))
+      (v128.store (i32.add (local.get $y) (i32.shl (local.get $r) (i32.const 4))) (f64x2.add (local.get $acc0) (local.get $acc1)))
       (local.set $r (i32.add (local.get $r) (i32.const 1)))
       (br $rows)))
   )
