@@ -350,26 +350,32 @@
   ;; gets terms 0, 2, 4, ... of the row), so each waits for an addition only every other term;
   ;; y[r] is their sum. The JavaScript loop adds in the same order: same bits.
   (func (export "csrReal") (param $y i32) (param $x i32) (param $rs i32) (param $col i32) (param $val i32) (param $lo i32) (param $hi i32)
-    (local $r i32) (local $k i32) (local $end i32) (local $acc0 f64) (local $acc1 f64) (local $next f64)
+    (local $r i32) (local $k i32) (local $end i32) (local $acc v128) (local $last i32) (local $sum f64)
     (local.set $r (local.get $lo))
     (local.set $end (i32.trunc_f64_u (f64.load (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 3))))))
     (block $rowsDone (loop $rows
       (br_if $rowsDone (i32.ge_u (local.get $r) (local.get $hi)))
       (local.set $k (local.get $end))
       (local.set $end (i32.trunc_f64_u (f64.load offset=8 (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 3))))))
-      (local.set $acc0 (f64.const 0))
-      (local.set $acc1 (f64.const 0))
-      (block $termsDone (loop $terms
-        (br_if $termsDone (i32.ge_u (local.get $k) (local.get $end)))
-        ;; this term goes to acc0; then the two sums swap roles
-        (local.set $next (f64.add (local.get $acc0) (f64.mul
+      ;; lane 0 sums terms 0, 2, 4, ... of the row, lane 1 terms 1, 3, 5, ...
+      (local.set $acc (v128.const i64x2 0 0))
+      (local.set $last (i32.sub (local.get $end) (i32.const 1)))
+      (block $pairsDone (loop $pairs
+        (br_if $pairsDone (i32.ge_s (local.get $k) (local.get $last)))
+        (local.set $acc (f64x2.add (local.get $acc) (f64x2.mul
+          (v128.load (i32.add (local.get $val) (i32.shl (local.get $k) (i32.const 3))))
+          (f64x2.replace_lane 1
+            (v128.load64_splat (i32.add (local.get $x) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 3))))
+            (f64.load (i32.add (local.get $x) (i32.shl (i32.load offset=4 (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 3))))))))
+        (local.set $k (i32.add (local.get $k) (i32.const 2)))
+        (br $pairs)))
+      (local.set $sum (f64x2.extract_lane 0 (local.get $acc)))
+      ;; an odd term count leaves the last term, an even offset: lane 0's
+      (if (i32.lt_u (local.get $k) (local.get $end)) (then
+        (local.set $sum (f64.add (local.get $sum) (f64.mul
           (f64.load (i32.add (local.get $val) (i32.shl (local.get $k) (i32.const 3))))
-          (f64.load (i32.add (local.get $x) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 3)))))))
-        (local.set $acc0 (local.get $acc1))
-        (local.set $acc1 (local.get $next))
-        (local.set $k (i32.add (local.get $k) (i32.const 1)))
-        (br $terms)))
-      (f64.store (i32.add (local.get $y) (i32.shl (local.get $r) (i32.const 3))) (f64.add (local.get $acc0) (local.get $acc1)))
+          (f64.load (i32.add (local.get $x) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 3)))))))))
+      (f64.store (i32.add (local.get $y) (i32.shl (local.get $r) (i32.const 3))) (f64.add (local.get $sum) (f64x2.extract_lane 1 (local.get $acc))))
       (local.set $r (i32.add (local.get $r) (i32.const 1)))
       (br $rows)))
   )
