@@ -212,12 +212,19 @@ export class PinnedOperator implements HermitianOperator {
     else for (let base = lo - (lo % B); base < hi; base += B) {
       const r0 = base < lo ? lo - base : 0;
       const r1 = base + B > hi ? hi - base : B;
+      // Two sums take the terms in turn, the first starting from the diagonal term, as the
+      // WebAssembly pass adds them (same bits).
       for (let r = r0; r < r1; r++) {
         const s = base + r;
-        let acc = diag[s] * x[s];
+        let acc0 = diag[s] * x[s];
+        let acc1 = 0;
         const end = rs[r + 1];
-        for (let k = rs[r]; k < end; k++) acc += val[k] * x[base + col[k]];
-        y[s] = acc;
+        for (let k = rs[r]; k < end; k++) {
+          const next = acc0 + val[k] * x[base + col[k]];
+          acc0 = acc1;
+          acc1 = next;
+        }
+        y[s] = acc0 + acc1;
       }
     }
     const nLocal = this.localTo.length;
@@ -292,8 +299,10 @@ export class PinnedOperator implements HermitianOperator {
       for (let r = r0; r < r1; r++) {
         const s = base + r;
         const d = diag[s];
-        let accR = d * x[2 * s];
-        let accI = d * x[2 * s + 1];
+        let re0 = d * x[2 * s];
+        let im0 = d * x[2 * s + 1];
+        let re1 = 0;
+        let im1 = 0;
         const end = rs[r + 1];
         for (let k = rs[r]; k < end; k++) {
           const c = 2 * (base + col[k]);
@@ -301,11 +310,15 @@ export class PinnedOperator implements HermitianOperator {
           const hi_ = vi[k];
           const xr = x[c];
           const xi = x[c + 1];
-          accR += hr * xr - hi_ * xi;
-          accI += hr * xi + hi_ * xr;
+          const nextRe = re0 + (hr * xr - hi_ * xi);
+          const nextIm = im0 + (hr * xi + hi_ * xr);
+          re0 = re1;
+          im0 = im1;
+          re1 = nextRe;
+          im1 = nextIm;
         }
-        y[2 * s] = accR;
-        y[2 * s + 1] = accI;
+        y[2 * s] = re0 + re1;
+        y[2 * s + 1] = im0 + im1;
       }
     }
     const nLocal = this.localTo.length;

@@ -275,7 +275,8 @@
   ;; block). Scalar, in the same order as the JavaScript loop, so both give the same bits.
   (func (export "blockPassReal") (param $y i32) (param $x i32) (param $diag i32) (param $rs i32) (param $col i32) (param $val i32)
       (param $B i32) (param $lo i32) (param $hi i32)
-    (local $base i32) (local $r i32) (local $r1 i32) (local $s i32) (local $k i32) (local $end i32) (local $acc f64) (local $xb i32)
+    (local $base i32) (local $r i32) (local $r1 i32) (local $s i32) (local $k i32) (local $end i32) (local $sum f64) (local $xb i32)
+    (local $acc v128) (local $last i32)
     (local.set $base (i32.sub (local.get $lo) (i32.rem_u (local.get $lo) (local.get $B))))
     (block $blocksDone (loop $blocks
       (br_if $blocksDone (i32.ge_u (local.get $base) (local.get $hi)))
@@ -286,29 +287,40 @@
       (block $rowsDone (loop $rows
         (br_if $rowsDone (i32.ge_u (local.get $r) (local.get $r1)))
         (local.set $s (i32.shl (i32.add (local.get $base) (local.get $r)) (i32.const 3)))
-        (local.set $acc (f64.mul (f64.load (i32.add (local.get $diag) (local.get $s))) (f64.load (i32.add (local.get $x) (local.get $s)))))
+        ;; lane 0: the diagonal term, then terms 0, 2, 4, ... of the row; lane 1: terms 1, 3, 5, ...
+        (local.set $acc (f64x2.replace_lane 0 (v128.const i64x2 0 0)
+          (f64.mul (f64.load (i32.add (local.get $diag) (local.get $s))) (f64.load (i32.add (local.get $x) (local.get $s))))))
         (local.set $k (i32.load (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 2)))))
         (local.set $end (i32.load offset=4 (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 2)))))
-        (block $termsDone (loop $terms
-          (br_if $termsDone (i32.ge_u (local.get $k) (local.get $end)))
-          (local.set $acc (f64.add (local.get $acc) (f64.mul
+        (local.set $last (i32.sub (local.get $end) (i32.const 1)))
+        (block $pairsDone (loop $pairs
+          (br_if $pairsDone (i32.ge_s (local.get $k) (local.get $last)))
+          (local.set $acc (f64x2.add (local.get $acc) (f64x2.mul
+            (v128.load (i32.add (local.get $val) (i32.shl (local.get $k) (i32.const 3))))
+            (f64x2.replace_lane 1
+              (v128.load64_splat (i32.add (local.get $xb) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 3))))
+              (f64.load (i32.add (local.get $xb) (i32.shl (i32.load offset=4 (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 3))))))))
+          (local.set $k (i32.add (local.get $k) (i32.const 2)))
+          (br $pairs)))
+        (local.set $sum (f64x2.extract_lane 0 (local.get $acc)))
+        (if (i32.lt_u (local.get $k) (local.get $end)) (then
+          (local.set $sum (f64.add (local.get $sum) (f64.mul
             (f64.load (i32.add (local.get $val) (i32.shl (local.get $k) (i32.const 3))))
-            (f64.load (i32.add (local.get $xb) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 3)))))))
-          (local.set $k (i32.add (local.get $k) (i32.const 1)))
-          (br $terms)))
-        (f64.store (i32.add (local.get $y) (local.get $s)) (local.get $acc))
+            (f64.load (i32.add (local.get $xb) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 3)))))))))
+        (f64.store (i32.add (local.get $y) (local.get $s)) (f64.add (local.get $sum) (f64x2.extract_lane 1 (local.get $acc))))
         (local.set $r (i32.add (local.get $r) (i32.const 1)))
         (br $rows)))
       (local.set $base (i32.add (local.get $base) (local.get $B)))
       (br $blocks)))
   )
 
-  ;; The same for complex vectors (interleaved re, im) with complex entries (re[k], im[k]):
-  ;; accR += hr xr - hi xi, accI += hr xi + hi xr, as the JavaScript loop adds them.
+  ;; The same for complex vectors (interleaved re, im) with complex entries (re[k], im[k]), one
+  ;; complex number per register as in csrComplex; two sums take the terms in turn (the first
+  ;; starts from the diagonal term), as the JavaScript loop adds them.
   (func (export "blockPassComplex") (param $y i32) (param $x i32) (param $diag i32) (param $rs i32) (param $col i32) (param $re i32)
       (param $im i32) (param $B i32) (param $lo i32) (param $hi i32)
     (local $base i32) (local $r i32) (local $r1 i32) (local $s i32) (local $k i32) (local $end i32) (local $xb i32)
-    (local $accR f64) (local $accI f64) (local $d f64) (local $hr f64) (local $hi_ f64) (local $xr f64) (local $xi f64) (local $c i32)
+    (local $acc0 v128) (local $acc1 v128) (local $next v128) (local $xv v128)
     (local.set $base (i32.sub (local.get $lo) (i32.rem_u (local.get $lo) (local.get $B))))
     (block $blocksDone (loop $blocks
       (br_if $blocksDone (i32.ge_u (local.get $base) (local.get $hi)))
@@ -319,26 +331,24 @@
       (block $rowsDone (loop $rows
         (br_if $rowsDone (i32.ge_u (local.get $r) (local.get $r1)))
         (local.set $s (i32.add (local.get $base) (local.get $r)))
-        (local.set $d (f64.load (i32.add (local.get $diag) (i32.shl (local.get $s) (i32.const 3)))))
-        (local.set $c (i32.add (local.get $x) (i32.shl (local.get $s) (i32.const 4))))
-        (local.set $accR (f64.mul (local.get $d) (f64.load (local.get $c))))
-        (local.set $accI (f64.mul (local.get $d) (f64.load offset=8 (local.get $c))))
+        (local.set $acc0 (f64x2.mul (v128.load64_splat (i32.add (local.get $diag) (i32.shl (local.get $s) (i32.const 3))))
+          (v128.load (i32.add (local.get $x) (i32.shl (local.get $s) (i32.const 4))))))
+        (local.set $acc1 (v128.const i64x2 0 0))
         (local.set $k (i32.load (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 2)))))
         (local.set $end (i32.load offset=4 (i32.add (local.get $rs) (i32.shl (local.get $r) (i32.const 2)))))
         (block $termsDone (loop $terms
           (br_if $termsDone (i32.ge_u (local.get $k) (local.get $end)))
-          (local.set $c (i32.add (local.get $xb) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 4))))
-          (local.set $hr (f64.load (i32.add (local.get $re) (i32.shl (local.get $k) (i32.const 3)))))
-          (local.set $hi_ (f64.load (i32.add (local.get $im) (i32.shl (local.get $k) (i32.const 3)))))
-          (local.set $xr (f64.load (local.get $c)))
-          (local.set $xi (f64.load offset=8 (local.get $c)))
-          (local.set $accR (f64.add (local.get $accR) (f64.sub (f64.mul (local.get $hr) (local.get $xr)) (f64.mul (local.get $hi_) (local.get $xi)))))
-          (local.set $accI (f64.add (local.get $accI) (f64.add (f64.mul (local.get $hr) (local.get $xi)) (f64.mul (local.get $hi_) (local.get $xr)))))
+          (local.set $xv (v128.load (i32.add (local.get $xb) (i32.shl (i32.load (i32.add (local.get $col) (i32.shl (local.get $k) (i32.const 2)))) (i32.const 4)))))
+          (local.set $next (f64x2.add (local.get $acc0) (f64x2.add
+            (f64x2.mul (v128.load64_splat (i32.add (local.get $re) (i32.shl (local.get $k) (i32.const 3)))) (local.get $xv))
+            (f64x2.mul (v128.load64_splat (i32.add (local.get $im) (i32.shl (local.get $k) (i32.const 3))))
+              (v128.xor (i8x16.shuffle 8 9 10 11 12 13 14 15 0 1 2 3 4 5 6 7 (local.get $xv) (local.get $xv))
+                (v128.const i64x2 0x8000000000000000 0))))))
+          (local.set $acc0 (local.get $acc1))
+          (local.set $acc1 (local.get $next))
           (local.set $k (i32.add (local.get $k) (i32.const 1)))
           (br $terms)))
-        (local.set $c (i32.add (local.get $y) (i32.shl (local.get $s) (i32.const 4))))
-        (f64.store (local.get $c) (local.get $accR))
-        (f64.store offset=8 (local.get $c) (local.get $accI))
+        (v128.store (i32.add (local.get $y) (i32.shl (local.get $s) (i32.const 4))) (f64x2.add (local.get $acc0) (local.get $acc1)))
         (local.set $r (i32.add (local.get $r) (i32.const 1)))
         (br $rows)))
       (local.set $base (i32.add (local.get $base) (local.get $B)))
