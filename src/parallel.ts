@@ -1,7 +1,10 @@
 // One matrix-vector product shared by several threads. The operator's data (the pinned diagonal,
-// or a stored matrix) lives in SharedArrayBuffers; every thread owns a slice of the output rows.
-// The calling thread works on its own slice and waits on an atomic counter, so `apply` stays
-// synchronous and the solvers see an ordinary HermitianOperator.
+// or a stored matrix) lives in SharedArrayBuffers; the output rows come in chunks of about equal
+// work, which the threads take from a shared counter until none is left, so a thread on a slower
+// or busier core simply takes fewer. The calling thread takes chunks too and then waits on an
+// atomic counter, so `apply` stays synchronous and the solvers see an ordinary HermitianOperator.
+// Each row is summed by one thread, start to end: the result has the same bits however the
+// chunks fall.
 
 import os from 'node:os';
 import type { PinnedBasis } from './basis.js';
@@ -45,11 +48,25 @@ export function operatorFromPayload(p: ProductPayload): RangeOperator {
   return new CsrOperator(p.dim, p.isComplex, p.rowStart, p.columns, p.valuesRe, p.valuesIm);
 }
 
-// After the hand-off's control words: byte offsets of this product's x and y in the arena.
+// After the hand-off's control words: byte offsets of this product's x and y in the arena, and
+// the next chunk of rows to take.
 const X_AT = TEAM_WORDS;
 const Y_AT = TEAM_WORDS + 1;
-const PARAMS = 2;
+const NEXT_CHUNK = TEAM_WORDS + 2;
+const PARAMS = 3;
 const RUN = 1;
+/**
+ * Chunks of rows per thread: enough that the last one taken leaves the others little to wait for
+ * (this machine's two cores differ by up to 1.9x on vector loops, see bench/cores.ts), few enough
+ * that taking one costs nothing against its rows.
+ */
+const CHUNKS_PER_THREAD = 16;
+
+/** Takes chunks of rows from the shared counter and runs `rows` on each, until none is left. */
+function takeChunks(control: Int32Array, chunks: Int32Array, rows: (lo: number, hi: number) => void): void {
+  const count = chunks.length - 1;
+  for (let c = Atomics.add(control, NEXT_CHUNK, 1); c < count; c = Atomics.add(control, NEXT_CHUNK, 1)) rows(chunks[c], chunks[c + 1]);
+}
 
 /** Cores this process may use. */
 export function coreCount(): number {
@@ -61,7 +78,7 @@ export function defaultProductThreads(work: number): number {
   return work >= 4e6 ? Math.min(coreCount(), 8) : 1;
 }
 
-/** Row boundaries that give each thread about the same work (stored nonzeros, or rows). */
+/** Row boundaries that give each part about the same work (stored nonzeros, or rows). */
 function splitRows(op: RangeOperator, threads: number): number[] {
   const bounds = [0];
   if (op instanceof CsrOperator) {
@@ -101,7 +118,8 @@ export class ThreadedOperator implements HermitianOperator {
   private readonly offsets: Uint32Array;
   private readonly x: Float64Array;
   private readonly y: Float64Array;
-  private readonly bounds: number[];
+  /** Row boundaries of the chunks, shared with the helpers. */
+  private readonly chunks: Int32Array;
   private readonly ownsArena: boolean;
 
   constructor(
@@ -133,16 +151,17 @@ export class ThreadedOperator implements HermitianOperator {
           }
         : null;
     const shared: SharedArena | null = arena ? { memory: arena.memory, used: arena.used, length, placement, csr } : null;
-    this.bounds = splitRows(local, threads);
+    const bounds = splitRows(local, Math.min(local.dim, CHUNKS_PER_THREAD * threads));
+    this.chunks = new Int32Array(new SharedArrayBuffer(4 * bounds.length));
+    this.chunks.set(bounds);
     const script = workerScript('product');
-    this.team = new SyncTeam(script, threads, PARAMS, (t, control) => ({
+    this.team = new SyncTeam(script, threads, PARAMS, (_, control) => ({
       payload,
       control,
       x: this.x,
       y: this.y,
       shared,
-      lo: this.bounds[t],
-      hi: this.bounds[t + 1],
+      chunks: this.chunks,
     }));
     this.offsets = new Uint32Array(this.team.control.buffer);
   }
@@ -154,7 +173,8 @@ export class ThreadedOperator implements HermitianOperator {
     if (!inPlace) xs.set(x);
     this.offsets[X_AT] = xs.byteOffset;
     this.offsets[Y_AT] = ys.byteOffset;
-    this.team.run(RUN, () => this.local.applyRange(xs, ys, this.bounds[0], this.bounds[1]));
+    Atomics.store(this.team.control, NEXT_CHUNK, 0);
+    this.team.run(RUN, () => takeChunks(this.team.control, this.chunks, (lo, hi) => this.local.applyRange(xs, ys, lo, hi)));
     if (!inPlace) y.set(ys);
   }
 
@@ -164,7 +184,7 @@ export class ThreadedOperator implements HermitianOperator {
   }
 }
 
-/** The loop every product worker runs: wait for a generation, write its rows, count itself done. */
+/** The loop every product worker runs: wait for a generation, write the chunks it takes, count itself done. */
 export function runProductWorker(data: {
   payload: ProductPayload;
   control: Int32Array;
@@ -172,8 +192,7 @@ export function runProductWorker(data: {
   y: Float64Array;
   /** The caller's arena, when there is one: vectors and operator data are views over its memory here. */
   shared: SharedArena | null;
-  lo: number;
-  hi: number;
+  chunks: Int32Array;
 }): void {
   const c = data.control;
   const offsets = new Uint32Array(c.buffer);
@@ -202,7 +221,7 @@ export function runProductWorker(data: {
       x = arena.view(xAt, shared.length);
       y = arena.view(yAt, shared.length);
     }
-    op.applyRange(x, y, data.lo, data.hi);
+    takeChunks(c, data.chunks, (lo, hi) => op.applyRange(x, y, lo, hi));
   });
 }
 
