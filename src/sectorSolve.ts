@@ -405,18 +405,21 @@ interface BuildHelperData {
 }
 
 type BuildRequest = { plan: number; from: number; to: number };
-type BuildAnswer = { kind: 'rows'; rows: BuiltRows } | { kind: 'error'; name: string; message: string };
+type BuildAnswer = { kind: 'rows'; rows: BuiltRows; seconds: number } | { kind: 'error'; name: string; message: string };
 
 /**
- * A thread that builds the second half of a large sector's rows while this thread builds the
- * first: sectors solved one at a time run their products on every core, but the build would
- * otherwise run on one (measured: a fifth of a 16x3 solve).
+ * A thread that builds the later rows of a large sector while this thread builds the first ones:
+ * sectors solved one at a time run their products on every core, but the build would otherwise
+ * run on one (measured: a fifth of a 16x3 solve). Where the rows split follows the two threads'
+ * measured speeds on the sector before, since the cores need not be equal (bench/cores.ts).
  */
 class BuildHelper {
   private readonly worker: Worker;
   private readonly port: MessagePort;
   private readonly answered = new Int32Array(new SharedArrayBuffer(4));
   private seen = 0;
+  /** This thread's share of the rows; the rest go to the helper. */
+  private share = 0.5;
 
   constructor(model: Model, basis: PinnedBasis, plans: SectorPlan[], maps: Record<string, OrbitMapParts>) {
     const { port1, port2 } = new MessageChannel();
@@ -426,19 +429,25 @@ class BuildHelper {
     this.port = port1;
   }
 
-  /** Rows from the middle on, built by the helper: asked for before this thread starts its half. */
+  /** The helper's rows (from `from` on): asked for before this thread starts on the rows before. */
   rowsFrom(plan: number, dim: number): { from: number; start: () => void; take: () => BuiltRows } {
-    const from = Math.floor(dim / 2);
+    const from = Math.min(dim - 1, Math.max(1, Math.round(dim * this.share)));
+    let started = 0;
     return {
       from,
-      start: () => this.port.postMessage({ plan, from, to: dim } satisfies BuildRequest),
+      start: () => {
+        started = performance.now();
+        this.port.postMessage({ plan, from, to: dim } satisfies BuildRequest);
+      },
       take: () => {
+        const ownSeconds = (performance.now() - started) / 1000;
         let now;
         while ((now = Atomics.load(this.answered, 0)) === this.seen) Atomics.wait(this.answered, 0, now, 1000);
         this.seen = now;
         const answer = receiveMessageOnPort(this.port)?.message as BuildAnswer | undefined;
         if (!answer) throw new Error('the sector build thread answered without rows');
         if (answer.kind === 'error') throw errorFromThread(answer.name, answer.message, 'the sector build thread');
+        this.share = splitShare(from / ownSeconds, (dim - from) / answer.seconds, this.share);
         return answer.rows;
       },
     };
@@ -448,6 +457,16 @@ class BuildHelper {
     this.port.close();
     void this.worker.terminate();
   }
+}
+
+/**
+ * This thread's share of the next build from the rows per second each thread managed on the last
+ * one, so both finish together; kept within [0.2, 0.8] (a stall on either side must not hand it
+ * all the rows), and unchanged when a time is unmeasurable.
+ */
+export function splitShare(ownRate: number, helperRate: number, previous: number): number {
+  if (!(ownRate > 0 && helperRate > 0 && Number.isFinite(ownRate) && Number.isFinite(helperRate))) return previous;
+  return Math.min(0.8, Math.max(0.2, ownRate / (ownRate + helperRate)));
 }
 
 /** What a thread posts of an error, for errorFromThread on the other side. */
@@ -461,6 +480,7 @@ function serveBuilds(data: BuildHelperData): void {
   const maps = new OrbitMaps(data.basis, false, data.maps);
   data.port.on('message', (request: BuildRequest) => {
     try {
+      const started = performance.now();
       const plan = data.plans[request.plan];
       const sector = new SectorBasis(maps.for(plan.label), plan.label);
       const builder = new CsrBuilder(request.to - request.from, data.model.isComplex || sector.complexCharacters);
@@ -468,7 +488,7 @@ function serveBuilds(data: BuildHelperData): void {
       const rows = builder.export();
       const buffers = new Set<ArrayBuffer>([rows.rowStart.buffer as ArrayBuffer]);
       for (const c of rows.chunks) for (const a of [c.columns, c.re, c.im]) if (a) buffers.add(a.buffer as ArrayBuffer);
-      data.port.postMessage({ kind: 'rows', rows } satisfies BuildAnswer, [...buffers]);
+      data.port.postMessage({ kind: 'rows', rows, seconds: (performance.now() - started) / 1000 } satisfies BuildAnswer, [...buffers]);
     } catch (e) {
       data.port.postMessage({ kind: 'error', ...describe(e) } satisfies BuildAnswer);
     }
