@@ -143,7 +143,10 @@ function chooseSymmetries(spec: Spec, model: Model): { symmetries: SymmetryCheck
 
 export interface SolvedPoint {
   record: PointRecord;
-  /** Ground-state vectors (a degenerate ground space gives several), for warm starts and analysis. */
+  /**
+   * Ground-state vectors (a degenerate ground space gives several), for warm starts and analysis.
+   * Empty after a sector solve asked with `groundStates: false`, or one too large to expand.
+   */
   groundStates: Float64Array[];
   /** The full-space eigensolver result (absent when solved in symmetry sectors). */
   eigen?: EigenResult;

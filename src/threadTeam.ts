@@ -71,10 +71,15 @@ export class SyncTeam {
     Atomics.store(c, DONE, 0);
     Atomics.add(c, GENERATION, 1);
     Atomics.notify(c, GENERATION);
-    own();
-    const helpers = this.workers.length;
-    let done;
-    while ((done = Atomics.load(c, DONE)) < helpers) Atomics.wait(c, DONE, done);
+    try {
+      own();
+    } finally {
+      // Even when this thread's share throws: the helpers must be done before the next command
+      // resets what they read.
+      const helpers = this.workers.length;
+      let done;
+      while ((done = Atomics.load(c, DONE)) < helpers) Atomics.wait(c, DONE, done);
+    }
   }
 
   close(): void {

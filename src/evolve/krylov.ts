@@ -300,7 +300,7 @@ interface TridiagonalAnalysis {
   lambda: Float64Array;
   /** Q[k * size + j]: component j of the Ritz vector of lambda[k]. */
   Q: Float64Array;
-  /** Q[0][k]: the start vector's weight on each Ritz vector. */
+  /** first[k] = Q[k * size]: the start vector's weight on each Ritz vector. */
   first: Float64Array;
   /** Midpoint of the Ritz values, split off as a global phase for accuracy. */
   centre: number;

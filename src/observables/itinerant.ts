@@ -264,5 +264,5 @@ function largestEigenvalue(re: Float64Array, im: Float64Array | null, L: number)
       }
     }
   const values = symmetricEigen(m, n, false).values;
-  return values[n - 1];
+  return n > 0 ? values[n - 1] : -Infinity;
 }

@@ -21,7 +21,8 @@ const MAX_SWEEPS = 60;
 
 /**
  * Eigenvalues (ascending) and, unless `wantVectors` is false, orthonormal eigenvectors of the
- * symmetric n x n matrix `a` (row-major, read whole, not modified).
+ * symmetric n x n matrix `a` (row-major, not modified; only its lower triangle and diagonal are
+ * read, so callers symmetrize a matrix that is symmetric only up to rounding).
  */
 export function symmetricEigen(a: Float64Array, n: number, wantVectors = true): SymmetricEigen {
   if (a.length < n * n) throw new RangeError(`symmetricEigen: ${a.length} entries for a ${n} x ${n} matrix`);

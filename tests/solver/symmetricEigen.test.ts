@@ -104,7 +104,27 @@ describe('symmetricEigen', () => {
     const full = symmetricEigen(a, n);
     const only = symmetricEigen(a, n, false);
     expect(only.vectors).toBeNull();
-    for (let k = 0; k < n; k++) expect(Math.abs(only.values[k] - full.values[k])).toBeLessThan(1e-13 * n);
+    // The values go through the very same operations with or without vectors: identical.
+    expect(only.values).toEqual(full.values);
+  });
+
+  it('handles the empty matrix, and a badly scaled one', () => {
+    expect(symmetricEigen(new Float64Array(0), 0)).toEqual({ values: new Float64Array(0), vectors: new Float64Array(0) });
+    // Eigenvalues 1e-150 and 1 in a rotated 2 x 2 block, beside a lone 1e150: squares of such
+    // entries under- or overflow unless the reduction scales its rows. The blocks do not mix, so
+    // each value must come back to rounding of its own block's norm: 1e150 relatively, the other
+    // two to about eps (the backward-error bound eps ||A|| per block; common practice).
+    const c = Math.cos(0.3);
+    const sn = Math.sin(0.3);
+    const q = [c, -sn, 0, sn, c, 0, 0, 0, 1]; // a rotation of the first two coordinates
+    const d = [1e-150, 1, 1e150];
+    const a = new Float64Array(9);
+    for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) for (let k = 0; k < 3; k++) a[i * 3 + j] += q[i * 3 + k] * d[k] * q[j * 3 + k];
+    const { values } = symmetricEigen(a, 3);
+    expect(Math.abs(values[2] - 1e150) / 1e150).toBeLessThan(1e-15);
+    expect(Math.abs(values[1] - 1)).toBeLessThan(1e-15);
+    expect(Math.abs(values[0] - 1e-150)).toBeLessThan(1e-15);
+    expect(values.every(Number.isFinite)).toBe(true);
   });
 
   it('leaves its input alone and rejects a short array', () => {
