@@ -20,6 +20,7 @@ export interface WasmKernels {
   combine(set: number, size: number, y: number, ys: number, keep: number, scratch: number, start: number, end: number): void;
   /** y[0..count) += h x[0..count), pointers at the first entries. */
   axpy(y: number, x: number, h: number, count: number): void;
+  scale(y: number, s: number, count: number): void;
   /** Complex y += (hr + i hi) x over `count` interleaved complex entries. */
   caxpy(y: number, x: number, hr: number, hi: number, count: number): void;
   csrReal(y: number, x: number, rs: number, col: number, val: number, lo: number, hi: number): void;

@@ -245,7 +245,7 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
       const before = kernels.norm2(v);
       const after = kernels.orthogonalize(v, orthoSet, deflationCount + count, isComplex, coef, coef2);
       if (after > 1e-8 * before) {
-        scale(v, 1 / after);
+        kernels.scale(v, 1 / after);
         return true;
       }
     }
@@ -259,7 +259,7 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
     const before = kernels.norm2(basis[0]);
     const after = kernels.orthogonalize(basis[0], orthoSet, deflationCount, isComplex, coef, coef2);
     if (before > 0 && after > 1e-8 * before) {
-      scale(basis[0], 1 / after);
+      kernels.scale(basis[0], 1 / after);
       started = true;
     }
   }
@@ -378,7 +378,7 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
 
     if (size === m || (breakdown && size >= nev)) {
       const residualNorm = breakdown ? 0 : beta;
-      if (!breakdown) scale(spare, 1 / beta);
+      if (!breakdown) kernels.scale(spare, 1 / beta);
       const lastRow = size - 1;
       const ritz = smallSymmetricEigen(T, m, size);
       let worstEstimate = 0;
@@ -431,7 +431,7 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
       T[size * m + j] = 0;
       T[j * m + size] = 0;
     } else {
-      scale(target, 1 / beta);
+      kernels.scale(target, 1 / beta);
       T[size * m + j] = beta;
       T[j * m + size] = beta;
     }
@@ -682,7 +682,7 @@ function orthonormalCopies(vectors: Float64Array[], length: number, isComplex: b
     const before = kernels.norm2(copy);
     const after = kernels.orthogonalize(copy, out, out.length, isComplex, coef, coef2);
     if (before > 0 && after > 1e-10 * before) {
-      scale(copy, 1 / after);
+      kernels.scale(copy, 1 / after);
       out.push(copy);
     }
   });

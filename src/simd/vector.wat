@@ -272,7 +272,8 @@
 
   ;; The pinned operator's block pass over rows [lo, hi): y[s] = diag[s] x[s] + sum_k val[k] x[base + col[k]]
   ;; for the rows r = s - base of one cached block of B states (the same sparse rows in every
-  ;; block). Scalar, in the same order as the JavaScript loop, so both give the same bits.
+  ;; block). Lane 0 of one register sums the diagonal term and terms 0, 2, 4, ... of the row, lane 1
+  ;; terms 1, 3, 5, ...; y[s] is their sum, in the JavaScript loop's order: same bits.
   (func (export "blockPassReal") (param $y i32) (param $x i32) (param $diag i32) (param $rs i32) (param $col i32) (param $val i32)
       (param $B i32) (param $lo i32) (param $hi i32)
     (local $base i32) (local $r i32) (local $r1 i32) (local $s i32) (local $k i32) (local $end i32) (local $sum f64) (local $xb i32)
@@ -515,5 +516,22 @@
         (local.get $width))
       (local.set $c (i32.add (local.get $c) (i32.const 1)))
       (br $copy)))
+  )
+
+  ;; y[t] *= s over `count` doubles (the same multiply per entry as the JavaScript loop).
+  (func (export "scale") (param $y i32) (param $s f64) (param $count i32)
+    (local $t i32) (local $stop i32) (local $sv v128) (local $p i32)
+    (local.set $sv (f64x2.splat (local.get $s)))
+    (local.set $stop (i32.shl (i32.and (local.get $count) (i32.const -2)) (i32.const 3)))
+    (block $done (loop $entries
+      (br_if $done (i32.ge_u (local.get $t) (local.get $stop)))
+      (local.set $p (i32.add (local.get $y) (local.get $t)))
+      (v128.store (local.get $p) (f64x2.mul (v128.load (local.get $p)) (local.get $sv)))
+      (local.set $t (i32.add (local.get $t) (i32.const 16)))
+      (br $entries)))
+    (if (i32.and (local.get $count) (i32.const 1))
+      (then
+        (local.set $p (i32.add (local.get $y) (local.get $stop)))
+        (f64.store (local.get $p) (f64.mul (f64.load (local.get $p)) (local.get $s)))))
   )
 )

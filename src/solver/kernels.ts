@@ -238,6 +238,13 @@ export class VectorKernels {
     return w.length + (w.length & 1);
   }
 
+  /** v *= factor (in SIMD when v lives in the arena; the same bits either way). */
+  scale(v: Float64Array, factor: number): void {
+    const arena = this.arena;
+    if (arena && arena.owns(v)) arena.wasm.scale(v.byteOffset, factor, v.length);
+    else scale(v, factor);
+  }
+
   norm2(v: Float64Array): number {
     const arena = this.arena;
     if (arena && arena.owns(v)) return Math.sqrt(arena.wasm.normSquared(v.byteOffset, 0, VectorKernels.padded(v)));

@@ -154,6 +154,22 @@ describe('SIMD kernels against written-out sums', () => {
     expect(padding[0]).toBe(0);
   });
 
+  it('scaling in the arena gives the plain loop\'s bits, odd lengths and the padding included', () => {
+    const arena = arenaOrSkip();
+    const kernels = new VectorKernels(arena);
+    for (const length of [1, 2, 257, 4096]) {
+      const v = fill(arena.vector(length), 7 + length);
+      const expected = Float64Array.from(v);
+      for (let i = 0; i < length; i++) expected[i] *= 1 / 3.7;
+      kernels.scale(v, 1 / 3.7);
+      expect(Array.from(v)).toEqual(Array.from(expected));
+      expect(new Float64Array(v.buffer, v.byteOffset + 8 * length, 1)[0]).toBe(0);
+      const outside = fill(new Float64Array(length), 7 + length);
+      kernels.scale(outside, 1 / 3.7);
+      expect(Array.from(outside)).toEqual(Array.from(expected));
+    }
+  });
+
   it('vectors outside the arena take the plain loops, with the same result', () => {
     const arena = arenaOrSkip();
     const kernels = new VectorKernels(arena);
