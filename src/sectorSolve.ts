@@ -19,6 +19,7 @@ import { withThreads } from './parallel.js';
 import { VectorArena } from './simd.js';
 import { spinLocked, workerScript } from './threadTeam.js';
 import { degeneracyWindow, denseThresholdFor, lowestEigenpairs, type EigenOptions } from './solver.js';
+import { KernelTeam } from './solver/team.js';
 import { IndexActions, planSectors, type SectorLabel, type SectorPlan, type SectorSelection, type SymmetryName } from './symmetry.js';
 
 export interface SectorRun {
@@ -254,6 +255,7 @@ function solveSector(
   threadsFor: (work: number) => number,
   onProgress: EigenOptions['onProgress'] | undefined,
   builds: BuildHelper | null = null,
+  teamFor: ((threads: number) => KernelTeam | null) | null = null,
 ): SectorOutcome | null {
   const plan = plans[index];
   const states = opts.states;
@@ -278,6 +280,7 @@ function solveSector(
     const base: EigenOptions = {
       states: 1,
       threads,
+      team: teamFor?.(threads) ?? null,
       arena,
       denseThreshold: denseThresholdFor(Math.min(states, sector.dim)),
       tolerance: opts.tolerance,
@@ -549,6 +552,7 @@ export function solveInSectors(
   const splitBuilds = helpers === 0 && (opts.threadsFor?.(Number.MAX_SAFE_INTEGER) ?? 1) > 1 && basis.dim >= (opts.splitBuildRows ?? SPLIT_BUILD_ROWS);
   const maps = new OrbitMaps(basis, helpers > 0 || splitBuilds);
   let builds: BuildHelper | null = null;
+  let kernelTeam: KernelTeam | null = null;
   const shared = SharedProgress.create(states);
   const outcomes: SectorOutcome[] = [];
   const started: Worker[] = [];
@@ -585,8 +589,17 @@ export function solveInSectors(
     const onProgress = opts.onProgress ? (info: Parameters<NonNullable<EigenOptions['onProgress']>>[0]) => opts.onProgress!({ ...info, matvecs: shared.matvecs() + info.matvecs }) : undefined;
     const arena = VectorArena.acquire();
     const spares = new ChunkSpares();
+    // One team of kernel helpers for every sector solved here on more than one thread.
+    const teamFor = (threads: number): KernelTeam | null => {
+      if (!arena || threads < 2) return null;
+      if (kernelTeam?.threads !== threads) {
+        kernelTeam?.close();
+        kernelTeam = KernelTeam.start(arena, threads);
+      }
+      return kernelTeam;
+    };
     for (let i; (i = shared.claim()) < plans.length; ) {
-      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgress, builds);
+      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgress, builds, teamFor);
       if (outcome) outcomes.push(outcome);
       prune(outcomes, shared, opts.tolerance);
     }
@@ -607,6 +620,7 @@ export function solveInSectors(
     for (const port of channels) port.close();
     for (const worker of started) void worker.terminate();
     builds?.close();
+    (kernelTeam as KernelTeam | null)?.close();
   }
 
   // Runs in the order of the plan, whichever thread solved them.

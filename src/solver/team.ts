@@ -80,7 +80,7 @@ export class KernelTeam {
   private scratch: Float64Array | null = null;
 
   private constructor(
-    private readonly arena: VectorArena,
+    readonly arena: VectorArena,
     readonly threads: number,
   ) {
     const script = workerScript('kernels');
@@ -96,6 +96,16 @@ export class KernelTeam {
     } catch {
       return null;
     }
+  }
+
+  /**
+   * This team for another solve on its arena: its partial-result and scratch blocks lay in the
+   * last solve's part of the arena, which is handed out again, so new ones are taken when needed.
+   */
+  reuse(): this {
+    this.partials = null;
+    this.scratch = null;
+    return this;
   }
 
   /** Partial-result slots, one per thread, each of at least `doubles` (rounded to cache lines). */

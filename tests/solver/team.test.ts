@@ -102,4 +102,30 @@ describe('vector kernels on two threads', () => {
     for (let k = 0; k < 3; k++) expect(Math.abs(double.values[k] - single.values[k])).toBeLessThan(1e-9);
     for (const r of double.residuals) expect(r).toBeLessThanOrEqual(1e-9);
   }, 120_000);
+
+  it('a team the caller keeps serves solve after solve on its arena, with the same eigenvalues', () => {
+    const raw = randomPinnedSpec(92, 11, 3);
+    raw.levels.phase = raw.levels.phase.map(() => 0);
+    const spec = validateSpec(clean(raw));
+    const model = buildModel(spec);
+    const op = new PinnedOperator(model, buildBasis(model) as never);
+    const arena = VectorArena.create()!;
+    const team = KernelTeam.start(arena, 2)!;
+    expect(team).not.toBeNull();
+    try {
+      const options = { states: 2, tolerance: 1e-9, seed: 5 };
+      const single = lowestEigenpairs(op, { ...options, states: 3, threads: 1 });
+      // Two solves in a row on the arena, as a sector-by-sector solve does; the second also
+      // deflates against the first's states, so it allocates differently in the arena.
+      const first = lowestEigenpairs(op, { ...options, threads: 2, arena, team });
+      const second = lowestEigenpairs(op, { ...options, states: 1, threads: 2, arena, team, deflate: first.vectors });
+      expect(first.threads).toBe(2);
+      expect(second.threads).toBe(2);
+      for (let k = 0; k < 2; k++) expect(Math.abs(first.values[k] - single.values[k])).toBeLessThan(1e-9);
+      // The next level up: what is left after the two lowest are projected out.
+      expect(Math.abs(second.values[0] - single.values[2])).toBeLessThan(1e-8);
+    } finally {
+      team.close();
+    }
+  }, 120_000);
 });
