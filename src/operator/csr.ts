@@ -68,29 +68,46 @@ export class CsrOperator implements HermitianOperator {
       }
       return;
     }
-    for (let r = lo; r < hi; r++) {
-      let re0 = 0;
-      let im0 = 0;
-      let re1 = 0;
-      let im1 = 0;
-      const end = rs[r + 1];
-      for (let k = rs[r]; k < end; k++) {
-        const c = 2 * col[k];
-        const hr = vr[k];
-        const hi = vi[k];
-        const xr = x[c];
-        const xi = x[c + 1];
-        const nextRe = re0 + (hr * xr - hi * xi);
-        const nextIm = im0 + (hr * xi + hi * xr);
-        re0 = re1;
-        im0 = im1;
-        re1 = nextRe;
-        im1 = nextIm;
-      }
-      y[2 * r] = re0 + re1;
-      y[2 * r + 1] = im0 + im1;
-    }
+    for (let r = lo; r < hi; r++) complexRowInto(y, r, x, 0, col, vr, vi, rs[r], rs[r + 1], 0, 0);
   }
+}
+
+/**
+ * y[at] (complex, interleaved) = (re0, im0) + sum over k in [start, end) of (vr[k] + i vi[k])
+ * x[offset + col[k]], the terms taken by two alternating sums (the first starts from (re0, im0)),
+ * as the WebAssembly loops add them: the plain loop of complex stored rows and of the pinned
+ * block pass.
+ */
+export function complexRowInto(
+  y: Float64Array,
+  at: number,
+  x: Float64Array,
+  offset: number,
+  col: Int32Array,
+  vr: Float64Array,
+  vi: Float64Array,
+  start: number,
+  end: number,
+  re0: number,
+  im0: number,
+): void {
+  let re1 = 0;
+  let im1 = 0;
+  for (let k = start; k < end; k++) {
+    const c = 2 * (offset + col[k]);
+    const hr = vr[k];
+    const hi = vi[k];
+    const xr = x[c];
+    const xi = x[c + 1];
+    const nextRe = re0 + (hr * xr - hi * xi);
+    const nextIm = im0 + (hr * xi + hi * xr);
+    re0 = re1;
+    im0 = im1;
+    re1 = nextRe;
+    im1 = nextIm;
+  }
+  y[2 * at] = re0 + re1;
+  y[2 * at + 1] = im0 + im1;
 }
 
 /** Entries per chunk of a CsrBuilder: filled chunks are kept, never copied to grow. */

@@ -3,6 +3,7 @@
 import type { PinnedBasis } from '../basis.js';
 import type { Model } from '../model.js';
 import type { HermitianOperator } from '../operator.js';
+import { complexRowInto } from './csr.js';
 import { arenaHolding, type VectorArena } from '../simd.js';
 
 /** Byte offsets of the block pass's data copied into an arena (see PinnedOperator.placementIn). */
@@ -299,26 +300,7 @@ export class PinnedOperator implements HermitianOperator {
       for (let r = r0; r < r1; r++) {
         const s = base + r;
         const d = diag[s];
-        let re0 = d * x[2 * s];
-        let im0 = d * x[2 * s + 1];
-        let re1 = 0;
-        let im1 = 0;
-        const end = rs[r + 1];
-        for (let k = rs[r]; k < end; k++) {
-          const c = 2 * (base + col[k]);
-          const hr = vr[k];
-          const hi_ = vi[k];
-          const xr = x[c];
-          const xi = x[c + 1];
-          const nextRe = re0 + (hr * xr - hi_ * xi);
-          const nextIm = im0 + (hr * xi + hi_ * xr);
-          re0 = re1;
-          im0 = im1;
-          re1 = nextRe;
-          im1 = nextIm;
-        }
-        y[2 * s] = re0 + re1;
-        y[2 * s + 1] = im0 + im1;
+        complexRowInto(y, s, x, base, col, vr, vi, rs[r], rs[r + 1], d * x[2 * s], d * x[2 * s + 1]);
       }
     }
     const nLocal = this.localTo.length;
