@@ -589,12 +589,15 @@ export function solveInSectors(
     const onProgress = opts.onProgress ? (info: Parameters<NonNullable<EigenOptions['onProgress']>>[0]) => opts.onProgress!({ ...info, matvecs: shared.matvecs() + info.matvecs }) : undefined;
     const arena = VectorArena.acquire();
     const spares = new ChunkSpares();
-    // One team of kernel helpers for every sector solved here on more than one thread.
+    // One team of kernel helpers for every sector solved here on more than one thread (if the
+    // helpers cannot start, each solve works on one thread, without trying again).
+    let teamFailed = false;
     const teamFor = (threads: number): KernelTeam | null => {
-      if (!arena || threads < 2) return null;
+      if (!arena || threads < 2 || teamFailed) return null;
       if (kernelTeam?.threads !== threads) {
         kernelTeam?.close();
         kernelTeam = KernelTeam.start(arena, threads);
+        teamFailed = kernelTeam === null;
       }
       return kernelTeam;
     };
