@@ -318,7 +318,7 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
       matvecs++;
       const y = basis[i];
       const theta = ritz.values[i];
-      for (let t = 0; t < length; t++) work[t] -= theta * y[t];
+      kernels.axpy(work, y, -theta);
       if (deflationCount > 0) {
         kernels.project(work, orthoSet, deflationCount, isComplex, coef);
         residuals[i] = Math.sqrt(kernels.subtract(work, orthoSet, deflationCount, isComplex, coef, null));

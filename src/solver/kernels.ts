@@ -245,6 +245,13 @@ export class VectorKernels {
     else scale(v, factor);
   }
 
+  /** y += h x (in SIMD when both live in the arena; the same bits either way). */
+  axpy(y: Float64Array, x: Float64Array, h: number): void {
+    const arena = this.arena;
+    if (arena && arena.owns(y) && arena.owns(x)) arena.wasm.axpy(y.byteOffset, x.byteOffset, h, y.length);
+    else for (let t = 0; t < y.length; t++) y[t] += h * x[t];
+  }
+
   norm2(v: Float64Array): number {
     const arena = this.arena;
     if (arena && arena.owns(v)) return Math.sqrt(arena.wasm.normSquared(v.byteOffset, 0, VectorKernels.padded(v)));

@@ -170,6 +170,22 @@ describe('SIMD kernels against written-out sums', () => {
     }
   });
 
+  it('y += h x in the arena gives the plain loop\'s bits', () => {
+    const arena = arenaOrSkip();
+    const kernels = new VectorKernels(arena);
+    for (const length of [1, 2, 257, 4096]) {
+      const x = fill(arena.vector(length), 11 + length);
+      const y = fill(arena.vector(length), 12 + length);
+      const expected = Float64Array.from(y);
+      for (let i = 0; i < length; i++) expected[i] -= 0.37 * x[i];
+      kernels.axpy(y, x, -0.37);
+      expect(Array.from(y)).toEqual(Array.from(expected));
+      const outside = fill(new Float64Array(length), 12 + length);
+      kernels.axpy(outside, Float64Array.from(x), -0.37);
+      expect(Array.from(outside)).toEqual(Array.from(expected));
+    }
+  });
+
   it('vectors outside the arena take the plain loops, with the same result', () => {
     const arena = arenaOrSkip();
     const kernels = new VectorKernels(arena);
