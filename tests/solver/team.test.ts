@@ -19,6 +19,14 @@ function fill(v: Float64Array, seed: number): Float64Array {
   return v;
 }
 
+/** A real pinned operator on 11 sites x 3 levels (177,147 states: long enough for the team). */
+function realPinnedOperator(seed: number): PinnedOperator {
+  const raw = randomPinnedSpec(seed, 11, 3);
+  raw.levels.phase = raw.levels.phase.map(() => 0);
+  const model = buildModel(validateSpec(clean(raw)));
+  return new PinnedOperator(model, buildBasis(model) as never);
+}
+
 describe('vector kernels on two threads', () => {
   it.each([false, true])('project, subtract with dots, combine: complex %s', (isComplex) => {
     const arena = VectorArena.create();
@@ -87,11 +95,7 @@ describe('vector kernels on two threads', () => {
   });
 
   it('the solver finds the same eigenvalues with its kernels on two threads', () => {
-    const raw = randomPinnedSpec(91, 11, 3);
-    raw.levels.phase = raw.levels.phase.map(() => 0);
-    const spec = validateSpec(clean(raw));
-    const model = buildModel(spec);
-    const op = new PinnedOperator(model, buildBasis(model) as never);
+    const op = realPinnedOperator(91);
     expect(op.dim).toBeGreaterThanOrEqual(1 << 17);
     const options = { states: 3, tolerance: 1e-9, seed: 4 };
     const single = lowestEigenpairs(op, { ...options, threads: 1 });
@@ -104,11 +108,7 @@ describe('vector kernels on two threads', () => {
   }, 120_000);
 
   it('a team the caller keeps serves solve after solve on its arena, with the same eigenvalues', () => {
-    const raw = randomPinnedSpec(92, 11, 3);
-    raw.levels.phase = raw.levels.phase.map(() => 0);
-    const spec = validateSpec(clean(raw));
-    const model = buildModel(spec);
-    const op = new PinnedOperator(model, buildBasis(model) as never);
+    const op = realPinnedOperator(92);
     const arena = VectorArena.create()!;
     const team = KernelTeam.start(arena, 2)!;
     expect(team).not.toBeNull();
