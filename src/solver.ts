@@ -2,8 +2,9 @@
 //
 // Two paths: small problems are solved densely (the matrix is built column by column from
 // matvecs on unit vectors); large ones by thick-restart Lanczos (Wu and Simon, SIAM J. Matrix
-// Anal. Appl. 22, 602 (2000)) with full reorthogonalization inside a basis of bounded size,
-// followed by a deflated verification pass that recovers every copy of a degenerate level.
+// Anal. Appl. 22, 602 (2000)) inside a basis of bounded size, with full reorthogonalization for
+// short vectors and partial reorthogonalization (Simon 1984) for long ones, followed by a
+// deflated verification pass that recovers every copy of a degenerate level.
 //
 // Vector layout follows src/operator.ts: length dim (real) or 2*dim (complex, interleaved re,im).
 
@@ -32,6 +33,14 @@ export interface EigenOptions {
   initial?: Float64Array;
   /** Seed of the pseudo-random start vectors; the same seed gives the same result. */
   seed?: number;
+  /**
+   * How each new Lanczos vector is kept orthogonal to the basis. 'full': against every basis
+   * vector at every step. 'partial': against its two predecessors, and against the whole basis
+   * only when an estimate of the lost orthogonality says so (see PARTIAL_MIN_LENGTH). Default
+   * 'auto': partial for vectors of at least PARTIAL_MIN_LENGTH doubles, where the sweeps over the
+   * basis cost more than the product.
+   */
+  reorthogonalization?: 'full' | 'partial' | 'auto';
   /** Vectors to keep the search orthogonal to. */
   deflate?: Float64Array[];
   onProgress?: (info: { matvecs: number; restarts: number; worstResidual: number }) => void;
@@ -83,6 +92,11 @@ export interface EigenResult {
   /** Matrix-vector products used (dense path: dim, the products that built the matrix). */
   matvecs: number;
   restarts: number;
+  /**
+   * Lanczos steps that orthogonalized against the whole basis: every step with full
+   * reorthogonalization, far fewer with partial (0 on the dense path).
+   */
+  fullSteps: number;
   converged: boolean;
   method: 'dense' | 'lanczos';
   /** How many returned values coincide with values[0]; >= 1. */
@@ -108,6 +122,27 @@ const ARENA_MIN_LENGTH = 256;
  * microseconds, a kernel on 2^17 doubles some hundred.
  */
 const TEAM_MIN_LENGTH = 1 << 17;
+/**
+ * Partial reorthogonalization (Simon, Math. Comp. 42, 115 (1984)) from vectors this long
+ * (doubles) on: a full Gram-Schmidt step reads the whole basis twice, about 40 vectors, while a
+ * product reads some 20 doubles per state; the estimate and the two-vector step cost next to
+ * nothing. Shorter vectors keep full reorthogonalization (cheap there, and exactly orthogonal).
+ */
+export const PARTIAL_MIN_LENGTH = 1 << 15;
+/**
+ * Loss of orthogonality tolerated between Lanczos vectors: at most sqrt(eps) (Simon's
+ * "semi-orthogonality", enough for the eigenvalues), and at most tolerance / (2 ||H||), since a
+ * Ritz vector tilted by d toward an eigenvector of another level keeps a residual of up to
+ * 2 ||H|| d (measured: with sqrt(eps) alone, a spectrum with far-off converged levels stalled at
+ * residuals ten times the tolerance).
+ */
+const SEMI_ORTHOGONAL = Math.sqrt(Number.EPSILON);
+/**
+ * Overlap left by a full Gram-Schmidt step, and rounding added per step (times ||H||) in the
+ * estimate of lost orthogonality. Measured on that spectrum: 1 eps underestimates the loss (the
+ * run stalls), 4 eps does not; 8 leaves a margin.
+ */
+const ROUNDING_LEVEL = 8 * Number.EPSILON;
 
 /**
  * Largest dimension solved densely when `states` pairs are wanted: the dense path costs O(dim^3)
@@ -206,10 +241,19 @@ interface CoreInput {
    * random start meets the lowest one first, so nothing lies below.
    */
   screenAbove?: number;
+  /** Partial reorthogonalization (see EigenOptions.reorthogonalization). */
+  partial: boolean;
+}
+
+interface GramSchmidtStep {
+  alpha: number;
+  /** ||H v_j||, for telling an invariant subspace from a short new direction. */
+  hvNorm: number;
+  beta: number;
 }
 
 /** One Lanczos run: the public result without what only the whole solve knows. */
-type CoreResult = Pick<EigenResult, 'values' | 'vectors' | 'residuals' | 'matvecs' | 'restarts' | 'converged' | 'screened'>;
+type CoreResult = Pick<EigenResult, 'values' | 'vectors' | 'residuals' | 'matvecs' | 'restarts' | 'fullSteps' | 'converged' | 'screened'>;
 
 /**
  * Thick-restart Lanczos for the nev lowest eigenpairs of P H P, where P projects out `deflation`.
@@ -241,6 +285,80 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
 
   let matvecs = 0;
   let restarts = 0;
+  let fullSteps = 0;
+
+  /** One Gram-Schmidt step of H v_j against set[0..count), v_j last: alpha = <v_j, H v_j>, beta = what is left. */
+  const gramSchmidt = (target: Float64Array, set: Float64Array[], count: number): GramSchmidtStep => {
+    kernels.project(target, set, count, isComplex, coef);
+    const firstNormSquared = kernels.subtract(target, set, count, isComplex, coef, coef2);
+    const hvNorm = Math.sqrt(coefficientNormSquared(coef, count, isComplex) + firstNormSquared);
+    const alphaIndex = isComplex ? 2 * (count - 1) : count - 1;
+    const alpha = coef[alphaIndex] + coef2[alphaIndex];
+    // Second pass. Its coefficients came with the first subtraction; applying them costs a third
+    // sweep over the set, skipped when they are pure rounding (below SECOND_PASS_NEGLIGIBLE of
+    // ||w||: measured ~1e-14 in most steps), since the vector is then orthogonal to working
+    // precision already. Anything larger is subtracted as usual.
+    const firstNorm = Math.sqrt(firstNormSquared);
+    let beta = firstNorm;
+    if (Math.sqrt(coefficientNormSquared(coef2, count, isComplex)) > SECOND_PASS_NEGLIGIBLE * firstNorm) {
+      beta = Math.sqrt(kernels.subtract(target, set, count, isComplex, coef2, null));
+    }
+    if (beta < REORTH_ETA * firstNorm && beta > 0) {
+      kernels.project(target, set, count, isComplex, coef2);
+      beta = Math.sqrt(kernels.subtract(target, set, count, isComplex, coef2, null));
+    }
+    return { alpha, hvNorm, beta };
+  };
+
+  // Partial reorthogonalization's bookkeeping: omega[i*(m+1)+k] estimates |<v_i, v_k>| of basis
+  // vectors (symmetric, 1 on the diagonal); `cycleStart` is the first vector of the current cycle.
+  const partial = input.partial;
+  const omegaWidth = m + 1;
+  const omega = partial ? new Float64Array(omegaWidth * omegaWidth) : new Float64Array(0);
+  const localSet: Float64Array[] = deflation.concat([basis[0], basis[0]]);
+  let cycleStart = 0;
+  let fullNext = false;
+  let normEstimate = 0;
+
+  /** Vector i has just been orthogonalized against vectors 0..upTo. */
+  const markOrthogonal = (i: number, upTo: number): void => {
+    for (let k = 0; k <= upTo; k++) {
+      omega[i * omegaWidth + k] = ROUNDING_LEVEL;
+      omega[k * omegaWidth + i] = ROUNDING_LEVEL;
+    }
+    omega[i * omegaWidth + i] = 1;
+  };
+
+  /**
+   * Simon's recurrence for the new vector v_{j+1} = (H v_j - alpha v_j - beta_{j-1} v_{j-1}) / beta
+   * against v_k, k < j - 1: <v_k, H v_j> = sum_l T[k][l] <v_l, v_j>, since H v_k = sum_l T[l][k] v_l
+   * holds for every basis vector but the newest (Ritz vectors through their arrow couplings too).
+   * Each step adds a rounding term of ROUNDING_LEVEL * ||H||, with the sign that makes it grow.
+   * Returns the largest estimate.
+   */
+  const estimateOrthogonality = (j: number, alpha: number, beta: number): number => {
+    const rowJ = j * omegaWidth;
+    const rowPrevious = (j - 1) * omegaWidth;
+    const rowNew = (j + 1) * omegaWidth;
+    const betaPrevious = T[(j - 1) * m + j];
+    const noise = ROUNDING_LEVEL * normEstimate;
+    let worst = 0;
+    for (let k = 0; k <= j - 2; k++) {
+      let hk = 0;
+      for (let l = 0; l < j; l++) hk += T[k * m + l] * omega[rowJ + l];
+      let w = hk - alpha * omega[rowJ + k] - betaPrevious * omega[rowPrevious + k];
+      w = (w + (w >= 0 ? noise : -noise)) / beta;
+      omega[rowNew + k] = w;
+      omega[k * omegaWidth + j + 1] = w;
+      worst = Math.max(worst, Math.abs(w));
+    }
+    for (let k = Math.max(0, j - 1); k <= j; k++) {
+      omega[rowNew + k] = ROUNDING_LEVEL;
+      omega[k * omegaWidth + j + 1] = ROUNDING_LEVEL;
+    }
+    omega[rowNew + j + 1] = 1;
+    return worst;
+  };
   // The cheap Ritz estimate may be optimistic; each time the explicit check disagrees, demand more.
   let cheapFactor = 1;
 
@@ -300,6 +418,9 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
       spare = tmp;
     }
     for (let i = 0; i < m; i++) orthoSet[deflationCount + i] = basis[i];
+    // The kept Ritz vectors and the residual direction (made by a full step) start a new cycle
+    // orthogonal as far as the estimates go.
+    if (partial) for (let i = 0; i <= keep && i < m; i++) markOrthogonal(i, i);
     T.fill(0);
     for (let i = 0; i < keep; i++) {
       T[i * m + i] = ritz.values[i];
@@ -333,7 +454,7 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
     const count = residuals.length;
     const vectors = basis.slice(0, count);
     releaseExcept(count);
-    return { values: values.slice(0, count), vectors, residuals, matvecs, restarts, converged };
+    return { values: values.slice(0, count), vectors, residuals, matvecs, restarts, fullSteps, converged };
   };
 
   // Keep the wanted pairs plus half of the rest: measured best among fixed fractions (0.2..0.9)
@@ -355,24 +476,36 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
     const target = size < m ? basis[size] : spare;
     op.apply(basis[j], target);
     matvecs++;
-    const count = deflationCount + size;
-    kernels.project(target, orthoSet, count, isComplex, coef);
-    const firstNormSquared = kernels.subtract(target, orthoSet, count, isComplex, coef, coef2);
-    const hvNorm = Math.sqrt(coefficientNormSquared(coef, count, isComplex) + firstNormSquared);
-    const alphaIndex = isComplex ? 2 * (deflationCount + j) : deflationCount + j;
-    const alpha = coef[alphaIndex] + coef2[alphaIndex];
-    // Second Gram-Schmidt pass. Its coefficients came with the first subtraction; applying them
-    // costs a third sweep over the basis, skipped when they are pure rounding (below
-    // SECOND_PASS_NEGLIGIBLE of ||w||: measured ~1e-14 in most steps), since the vector is then
-    // orthogonal to working precision already. Anything larger is subtracted as usual.
-    const firstNorm = Math.sqrt(firstNormSquared);
-    let beta = firstNorm;
-    if (Math.sqrt(coefficientNormSquared(coef2, count, isComplex)) > SECOND_PASS_NEGLIGIBLE * firstNorm) {
-      beta = Math.sqrt(kernels.subtract(target, orthoSet, count, isComplex, coef2, null));
+    // With partial reorthogonalization, a step orthogonalizes against its two predecessors only
+    // (and any deflation vectors), except the first step of a cycle (it couples to every kept
+    // Ritz vector), the step that makes the residual direction a restart keeps, and the step
+    // after one the estimate forced.
+    const local = partial && j > cycleStart && size < m && !fullNext;
+    let step: GramSchmidtStep;
+    if (local) {
+      localSet[deflationCount] = basis[j - 1];
+      localSet[deflationCount + 1] = basis[j];
+      step = gramSchmidt(target, localSet, deflationCount + 2);
+    } else {
+      step = gramSchmidt(target, orthoSet, deflationCount + size);
+      fullSteps++;
     }
-    if (beta < REORTH_ETA * firstNorm && beta > 0) {
-      kernels.project(target, orthoSet, count, isComplex, coef2);
-      beta = Math.sqrt(kernels.subtract(target, orthoSet, count, isComplex, coef2, null));
+    const alpha = step.alpha;
+    const hvNorm = step.hvNorm;
+    let beta = step.beta;
+    if (partial && Number.isFinite(alpha) && Number.isFinite(beta)) {
+      normEstimate = Math.max(normEstimate, Math.abs(alpha) + beta + (j > 0 ? Math.abs(T[(j - 1) * m + j]) : 0));
+      if (local && beta > 0 && estimateOrthogonality(j, alpha, beta) > Math.min(SEMI_ORTHOGONAL, tolerance / (2 * normEstimate))) {
+        // The new vector drifted toward older ones: orthogonalize it against the whole basis, and
+        // the next one too (it inherits the drift through the three-term recurrence).
+        beta = gramSchmidt(target, orthoSet, deflationCount + size).beta;
+        fullSteps++;
+        markOrthogonal(size, j);
+        fullNext = true;
+      } else if (!local) {
+        markOrthogonal(size, j);
+        fullNext = false;
+      }
     }
     if (!Number.isFinite(alpha) || !Number.isFinite(beta)) {
       throw new ConvergenceError(`the operator produced a non-finite value after ${matvecs} matrix-vector products`);
@@ -426,6 +559,7 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
         }
         size++;
       }
+      cycleStart = size - 1;
       continue;
     }
 
@@ -436,6 +570,10 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
       }
       T[size * m + j] = 0;
       T[j * m + size] = 0;
+      if (partial) {
+        markOrthogonal(size, j);
+        fullNext = true;
+      }
     } else {
       kernels.scale(target, 1 / beta);
       T[size * m + j] = beta;
@@ -673,6 +811,24 @@ export function denseEigen(op: HermitianOperator): { values: Float64Array; vecto
   return { values, vectors };
 }
 
+/** Returned pairs of a sound Lanczos run are orthonormal to about 1e-13 (measured); far above is a failure. */
+const ORTHONORMALITY_LIMIT = 1e-10;
+
+/** Largest |<v_a, v_b> - delta_ab| over the vectors (complex inner products when isComplex). */
+function orthonormalityDefect(vectors: Float64Array[], isComplex: boolean, kernels: VectorKernels): number {
+  const coef = kernels.vector(2 * vectors.length + 2);
+  let worst = 0;
+  for (let a = 0; a < vectors.length; a++) {
+    kernels.project(vectors[a], vectors, a + 1, isComplex, coef);
+    for (let b = 0; b <= a; b++) {
+      const re = isComplex ? coef[2 * b] : coef[b];
+      const im = isComplex ? coef[2 * b + 1] : 0;
+      worst = Math.max(worst, Math.hypot(re - (a === b ? 1 : 0), im));
+    }
+  }
+  return worst;
+}
+
 // ---------------------------------------------------------------------------------------------
 // Public entry point
 
@@ -757,6 +913,7 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
       residuals: solution.residuals,
       matvecs: dim,
       restarts: 0,
+      fullSteps: 0,
       converged,
       method: 'dense',
       degeneracy: degeneracyOf(solution.values, tolerance),
@@ -773,9 +930,15 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
   const krylovFor = (nev: number, wanted: number, space: number): number =>
     Math.min(space, Math.max(wanted, nev + 1));
   const rng = new Prng(opts.seed ?? DEFAULT_SEED);
+  const reorthogonalization = opts.reorthogonalization ?? 'auto';
+  if (!['full', 'partial', 'auto'].includes(reorthogonalization)) {
+    throw new SpecError('reorthogonalization', `must be "full", "partial" or "auto", got ${JSON.stringify(reorthogonalization)}`);
+  }
+  const partial = reorthogonalization === 'partial' || (reorthogonalization === 'auto' && length >= PARTIAL_MIN_LENGTH);
   const pool: Float64Array[] = [];
   let totalMatvecs = 0;
   let totalRestarts = 0;
+  let totalFullSteps = 0;
   const progress = opts.onProgress
     ? (matvecs: number, restarts: number, worst: number): void =>
         opts.onProgress?.({ matvecs: totalMatvecs + matvecs, restarts: totalRestarts + restarts, worstResidual: worst })
@@ -794,9 +957,11 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
     progress,
     kernels,
     screenAbove: opts.screenAbove,
+    partial,
   });
   totalMatvecs += main.matvecs;
   totalRestarts += main.restarts;
+  totalFullSteps += main.fullSteps;
   if (main.screened) {
     pool.length = 0;
     return {
@@ -805,6 +970,7 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
       residuals: main.residuals,
       matvecs: totalMatvecs,
       restarts: totalRestarts,
+      fullSteps: totalFullSteps,
       converged: false,
       method: 'lanczos',
       degeneracy: degeneracyOf(main.values, tolerance),
@@ -851,9 +1017,11 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
         kernels,
         // Only "is anything below the highest value found?" needs answering, not the value itself.
         screenAbove: values[values.length - 1] - Math.max(2 * tolerance, 1e-11 * Math.max(1, Math.abs(values[values.length - 1]))),
+        partial,
       });
       totalMatvecs += run.matvecs;
       totalRestarts += run.restarts;
+      totalFullSteps += run.fullSteps;
       if (!run.converged) {
         pool.push(...run.vectors);
         converged = false;
@@ -905,6 +1073,18 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
       if (residuals[k] > tolerance) converged = false;
     }
   }
+  // Partial reorthogonalization keeps the basis orthogonal by estimate; the pairs it returns are
+  // measured. Should the estimate ever have missed a loss (a returned pair leaning on another),
+  // the solve is redone with full reorthogonalization on the budget left.
+  if (partial && orthonormalityDefect(vectors, isComplex, kernels) > ORTHONORMALITY_LIMIT) {
+    pool.length = 0;
+    const left = maxMatvecs - totalMatvecs;
+    if (left > 0) {
+      const redone = solveWith(op, { ...opts, reorthogonalization: 'full', maxMatvecs: left }, kernels, lanczos);
+      return { ...redone, matvecs: redone.matvecs + totalMatvecs, restarts: redone.restarts + totalRestarts, fullSteps: redone.fullSteps + totalFullSteps };
+    }
+    converged = false;
+  }
   pool.length = 0;
 
   const outValues = Float64Array.from(values);
@@ -914,6 +1094,7 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
     residuals: Float64Array.from(residuals),
     matvecs: totalMatvecs,
     restarts: totalRestarts,
+    fullSteps: totalFullSteps,
     converged: converged && vectors.length === states,
     method: 'lanczos',
     degeneracy: degeneracyOf(outValues, tolerance),

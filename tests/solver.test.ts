@@ -1,7 +1,7 @@
 import { describe, it, expect } from 'vitest';
 import { Matrix, EigenvalueDecomposition, QrDecomposition } from 'ml-matrix';
-import { lowestEigenpairs, denseEigen, denseMatrixOf, type EigenResult } from '../src/solver.js';
-import { ConvergenceError } from '../src/errors.js';
+import { lowestEigenpairs, denseEigen, denseMatrixOf, PARTIAL_MIN_LENGTH, type EigenResult } from '../src/solver.js';
+import { ConvergenceError, SpecError } from '../src/errors.js';
 import type { HermitianOperator } from '../src/operator.js';
 import { denseSpectrum } from './support/reference.js';
 
@@ -386,6 +386,86 @@ describe('dense path', () => {
     }
     expect(worst).toBeLessThan(1e-15);
     expect(denseMatrixOf(ring(5)).im).toBeNull();
+  });
+});
+
+describe('partial reorthogonalization (Simon, Math. Comp. 42, 115 (1984))', () => {
+  /**
+   * diag(-12, -11, -10, 3/n, 4/n, ..., (n-1)/n): three far-off levels converge within a few steps
+   * and new Lanczos vectors then lose orthogonality toward them fastest (Paige's theorem), while
+   * the fourth level sits in a dense cluster and needs many restarts. The eigenpairs of a diagonal
+   * matrix are its entries and the unit vectors (handbook fact).
+   */
+  function farLevelsAndCluster(n: number): { op: HermitianOperator; exact: number[] } {
+    const entry = (i: number) => (i < 3 ? -12 + i : i / n);
+    const op: HermitianOperator = {
+      dim: n,
+      isComplex: false,
+      apply(x: Float64Array, y: Float64Array): void {
+        for (let i = 0; i < n; i++) y[i] = entry(i) * x[i];
+      },
+    };
+    return { op, exact: Array.from({ length: n }, (_, i) => entry(i)).sort((a, b) => a - b) };
+  }
+
+  it('converges like full reorthogonalization where orthogonality is lost fastest, skipping most full steps', () => {
+    const { op, exact } = farLevelsAndCluster(5000);
+    const options = { states: 4, tolerance: 1e-10, denseThreshold: 10, krylovSize: 60 };
+    const full = lowestEigenpairs(op, { ...options, reorthogonalization: 'full' });
+    const partial = lowestEigenpairs(op, { ...options, reorthogonalization: 'partial' });
+    expectEigenpairs(op, full, exact.slice(0, 4), 1e-10);
+    expectEigenpairs(op, partial, exact.slice(0, 4), 1e-10);
+    // A missed loss of orthogonality shows as residuals that stall above the tolerance: the run
+    // then needs far more products (measured: several times more with a rounding term of 1 eps).
+    expect(partial.matvecs).toBeLessThanOrEqual(Math.ceil(1.1 * full.matvecs));
+    expect(partial.fullSteps).toBeLessThan(0.8 * full.fullSteps);
+  });
+
+  // Handbook fact (as above): the tight-binding ring's levels -2 cos(2 pi k / n), pairs for k != 0.
+  it('degenerate ring levels keep their multiplicity', () => {
+    const n = 151;
+    const op = ring(n);
+    const exact = Array.from({ length: n }, (_, k) => -2 * Math.cos((2 * Math.PI * k) / n)).sort((a, b) => a - b);
+    const result = lowestEigenpairs(op, { states: 5, tolerance: 1e-9, denseThreshold: 10, reorthogonalization: 'partial' });
+    expectEigenpairs(op, result, exact.slice(0, 5), 1e-9);
+    expect(result.fullSteps).toBeLessThan(result.matvecs / 2);
+    expect(Math.abs(result.values[1] - result.values[2])).toBeLessThan(1e-9);
+  });
+
+  // Textbook Peierls ring as in the degenerate-spectra block: complex vectors, a degenerate ground state.
+  it('complex ring at half a flux quantum', () => {
+    const n = 120;
+    const flux = Math.PI / n;
+    const op = ring(n, flux);
+    const exact = Array.from({ length: n }, (_, m) => -2 * Math.cos((2 * Math.PI * m + n * flux) / n)).sort((a, b) => a - b);
+    const result = lowestEigenpairs(op, { states: 3, tolerance: 1e-9, denseThreshold: 10, reorthogonalization: 'partial' });
+    expectEigenpairs(op, result, exact.slice(0, 3), 1e-9);
+    expect(result.degeneracy).toBe(2);
+  });
+
+  // Reference: ml-matrix EigenvalueDecomposition, as in the first block.
+  it('random real and complex sparse matrices', () => {
+    const real = randomSparse(400, false, 4, 11);
+    expectEigenpairs(real, lowestEigenpairs(real, { states: 4, tolerance: 1e-8, denseThreshold: 10, reorthogonalization: 'partial' }), referenceSpectrum(real).slice(0, 4), 1e-8);
+    const complex = randomSparse(200, true, 5, 12);
+    expectEigenpairs(complex, lowestEigenpairs(complex, { states: 3, tolerance: 1e-8, denseThreshold: 10, reorthogonalization: 'partial' }), referenceSpectrum(complex).slice(0, 3), 1e-8);
+  });
+
+  it('is the default for long vectors only', () => {
+    const long = farLevelsAndCluster(PARTIAL_MIN_LENGTH);
+    const options = { states: 3, tolerance: 1e-9, denseThreshold: 10 };
+    const auto = lowestEigenpairs(long.op, options);
+    expectEigenpairs(long.op, auto, long.exact.slice(0, 3), 1e-9);
+    const full = lowestEigenpairs(long.op, { ...options, reorthogonalization: 'full' });
+    expect(auto.fullSteps).toBeLessThan(full.fullSteps);
+    const short = farLevelsAndCluster(PARTIAL_MIN_LENGTH - 1);
+    const shortAuto = lowestEigenpairs(short.op, options);
+    expect(shortAuto.fullSteps).toBe(lowestEigenpairs(short.op, { ...options, reorthogonalization: 'full' }).fullSteps);
+  });
+
+  it('an unknown mode is refused, naming the option', () => {
+    expect(() => lowestEigenpairs(ring(500), { states: 1, tolerance: 1e-9, denseThreshold: 10, reorthogonalization: 'some' as never })).toThrow(SpecError);
+    expect(() => lowestEigenpairs(ring(500), { states: 1, tolerance: 1e-9, denseThreshold: 10, reorthogonalization: 'some' as never })).toThrow(/reorthogonalization/);
   });
 });
 
