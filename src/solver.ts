@@ -418,9 +418,24 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
       spare = tmp;
     }
     for (let i = 0; i < m; i++) orthoSet[deflationCount + i] = basis[i];
-    // The kept Ritz vectors and the residual direction (made by a full step) start a new cycle
-    // orthogonal as far as the estimates go.
-    if (partial) for (let i = 0; i <= keep && i < m; i++) markOrthogonal(i, i);
+    if (partial) {
+      // Ritz vectors are combinations y_i = sum_k S[k][i] v_k of the old basis, so the residual
+      // direction v_s (now basis[keep]) overlaps them by at most sum_k |S[k][i]| |<v_s, v_k>|.
+      const carried = new Float64Array(keep);
+      if (s === m && residualNorm > 0) {
+        for (let i = 0; i < keep; i++) {
+          let bound = 0;
+          for (let k = 0; k < s; k++) bound += Math.abs(ritz.vectors[k * s + i]) * Math.abs(omega[s * omegaWidth + k]);
+          carried[i] = bound;
+        }
+      }
+      for (let i = 0; i <= keep && i < m; i++) markOrthogonal(i, i);
+      for (let i = 0; i < keep && keep < m; i++) {
+        const overlap = Math.max(carried[i], ROUNDING_LEVEL);
+        omega[keep * omegaWidth + i] = overlap;
+        omega[i * omegaWidth + keep] = overlap;
+      }
+    }
     T.fill(0);
     for (let i = 0; i < keep; i++) {
       T[i * m + i] = ritz.values[i];
@@ -478,9 +493,8 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
     matvecs++;
     // With partial reorthogonalization, a step orthogonalizes against its two predecessors only
     // (and any deflation vectors), except the first step of a cycle (it couples to every kept
-    // Ritz vector), the step that makes the residual direction a restart keeps, and the step
-    // after one the estimate forced.
-    const local = partial && j > cycleStart && size < m && !fullNext;
+    // Ritz vector) and the step after one the estimate forced.
+    const local = partial && j > cycleStart && !fullNext;
     let step: GramSchmidtStep;
     if (local) {
       localSet[deflationCount] = basis[j - 1];
