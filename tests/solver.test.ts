@@ -1,6 +1,6 @@
 import { describe, it, expect } from 'vitest';
 import { Matrix, EigenvalueDecomposition, QrDecomposition } from 'ml-matrix';
-import { lowestEigenpairs, denseEigen, denseMatrixOf, PARTIAL_MIN_LENGTH, type EigenResult } from '../src/solver.js';
+import { lowestEigenpairs, denseEigen, denseMatrixOf, PARTIAL_MIN_LENGTH, STEP_CHECK_MIN_LENGTH, type EigenResult } from '../src/solver.js';
 import { ConvergenceError, SpecError } from '../src/errors.js';
 import type { HermitianOperator } from '../src/operator.js';
 import { denseSpectrum } from './support/reference.js';
@@ -466,6 +466,47 @@ describe('partial reorthogonalization (Simon, Math. Comp. 42, 115 (1984))', () =
   it('an unknown mode is refused, naming the option', () => {
     expect(() => lowestEigenpairs(ring(500), { states: 1, tolerance: 1e-9, denseThreshold: 10, reorthogonalization: 'some' as never })).toThrow(SpecError);
     expect(() => lowestEigenpairs(ring(500), { states: 1, tolerance: 1e-9, denseThreshold: 10, reorthogonalization: 'some' as never })).toThrow(/reorthogonalization/);
+  });
+});
+
+describe('a single wanted pair of a long vector is checked after every step', () => {
+  /** diag(lowest, 0, 1/n, 2/n, ...): eigenpairs are the entries and unit vectors (handbook fact). */
+  function isolatedBelow(n: number, lowest: number): HermitianOperator {
+    return {
+      dim: n,
+      isComplex: false,
+      apply(x: Float64Array, y: Float64Array): void {
+        y[0] = lowest * x[0];
+        for (let i = 1; i < n; i++) y[i] = ((i - 1) / n) * x[i];
+      },
+    };
+  }
+
+  it('converges to the same pair, with no more products than checks at restarts only', () => {
+    const n = STEP_CHECK_MIN_LENGTH;
+    const options = { states: 1, tolerance: 1e-10, denseThreshold: 10, reorthogonalization: 'full' as const, verifyDegeneracy: false };
+    const withChecks = lowestEigenpairs(isolatedBelow(n, -0.05), options);
+    expectEigenpairs(isolatedBelow(n, -0.05), withChecks, [-0.05], 1e-10);
+    // One double shorter: checks at restarts only, on the same spectrum up to one level at the top.
+    const atRestarts = lowestEigenpairs(isolatedBelow(n - 1, -0.05), options);
+    expect(atRestarts.converged).toBe(true);
+    expect(withChecks.matvecs).toBeLessThanOrEqual(atRestarts.matvecs);
+  });
+
+  it('a screen never rules out a space whose lowest level lies below the line', () => {
+    // The lowest level is isolated at -1, the line at -0.5; a random start's Rayleigh quotient is
+    // near 0.5 with a residual near 0.3, so a screen on a small Krylov space would wrongly pass.
+    const n = STEP_CHECK_MIN_LENGTH;
+    const result = lowestEigenpairs(isolatedBelow(n, -1), { states: 1, tolerance: 1e-9, denseThreshold: 10, verifyDegeneracy: false, screenAbove: -0.5 });
+    expect(result.screened ?? false).toBe(false);
+    expect(Math.abs(result.values[0] + 1)).toBeLessThan(1e-9);
+  });
+
+  it('a space far above the line is screened out before a second cycle ends', () => {
+    const n = STEP_CHECK_MIN_LENGTH;
+    const result = lowestEigenpairs(isolatedBelow(n, 0.3), { states: 1, tolerance: 1e-12, denseThreshold: 10, verifyDegeneracy: false, screenAbove: -0.5 });
+    expect(result.screened).toBe(true);
+    expect(result.values[0] - result.residuals[0]).toBeGreaterThan(-0.5);
   });
 });
 
