@@ -520,9 +520,11 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
     return null;
   };
 
-  // Keep the wanted pairs plus half of the rest: measured best among fixed fractions (0.2..0.9)
-  // on tight-binding rings, where the unwanted Ritz vectors carry most of the convergence.
-  const restartKeep = Math.max(nev, Math.min(m - 1, nev + Math.floor((m - nev) / 2)));
+  // Keep the wanted pairs plus a third of the rest. Half was best counted in products (fractions
+  // 0.2..0.9 on tight-binding rings), but the restart's combination of the basis costs kept x m
+  // per element: with a third, the 10x4 full space (4 states) took 396 products against 382 and
+  // ran 10% faster on one core (three alternating pinned runs); sectors and scans were unchanged.
+  const restartKeep = Math.max(nev, Math.min(m - 1, nev + Math.floor((m - nev) / 3)));
 
   for (;;) {
     if (matvecs >= maxMatvecs) {
