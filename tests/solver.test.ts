@@ -451,6 +451,19 @@ describe('partial reorthogonalization (Simon, Math. Comp. 42, 115 (1984))', () =
     expectEigenpairs(complex, lowestEigenpairs(complex, { states: 3, tolerance: 1e-8, denseThreshold: 10, reorthogonalization: 'partial' }), referenceSpectrum(complex).slice(0, 3), 1e-8);
   });
 
+  // Deflated runs (the sector solve finds states one at a time this way) keep every step
+  // orthogonal to the deflation vectors: the next levels of the diagonal come out (handbook fact).
+  it('with deflation vectors, the next levels', () => {
+    const n = 5000;
+    const { op, exact } = farLevelsAndCluster(n);
+    const lowest = new Float64Array(n);
+    lowest[0] = 1;
+    const result = lowestEigenpairs(op, { states: 3, tolerance: 1e-10, denseThreshold: 10, krylovSize: 40, deflate: [lowest], reorthogonalization: 'partial' });
+    expectEigenpairs(op, result, exact.slice(1, 4), 1e-10);
+    expect(Math.abs(result.vectors.reduce((worst, v) => Math.max(worst, Math.abs(v[0])), 0))).toBeLessThan(1e-12);
+    expect(result.fullSteps).toBeLessThan(result.matvecs);
+  });
+
   it('is the default for long vectors only', () => {
     const long = farLevelsAndCluster(PARTIAL_MIN_LENGTH);
     const options = { states: 3, tolerance: 1e-9, denseThreshold: 10 };
