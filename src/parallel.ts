@@ -7,6 +7,7 @@
 // chunks fall.
 
 import os from 'node:os';
+import { MessageChannel, receiveMessageOnPort, type MessagePort } from 'node:worker_threads';
 import type { PinnedBasis } from './basis.js';
 import type { Model } from './model.js';
 import type { HermitianOperator } from './operator.js';
@@ -55,6 +56,8 @@ const Y_AT = TEAM_WORDS + 1;
 const NEXT_CHUNK = TEAM_WORDS + 2;
 const PARAMS = 3;
 const RUN = 1;
+/** A kept team's helpers take the next operator's binding from their message port. */
+const BIND = 2;
 /**
  * Chunks of rows per thread: enough that the last one taken leaves the others little to wait for
  * (this machine's two cores differ by up to 1.9x on vector loops, see bench/cores.ts), few enough
@@ -106,6 +109,61 @@ interface SharedArena {
   csr: { rowStart: number; columns: number; re: number; im: number | null; nonzeros: number } | null;
 }
 
+/** What a product helper needs for one operator: its data, the vectors and the chunks of rows. */
+interface ProductBinding {
+  payload: ProductPayload;
+  x: Float64Array;
+  y: Float64Array;
+  /** The caller's arena, when there is one: vectors and operator data are views over its memory. */
+  shared: SharedArena | null;
+  chunks: Int32Array;
+}
+
+/**
+ * Product helper threads kept for operator after operator (a sector-by-sector solve builds one
+ * matrix per sector): starting helpers costs about 0.1 s, and a fresh thread's first products run
+ * in WebAssembly's baseline code until it is recompiled. Each ThreadedOperator built on the team
+ * hands its helpers the new binding; closing it leaves the team running for the next.
+ */
+export class ProductTeam {
+  readonly team: SyncTeam;
+  private readonly ports: MessagePort[] = [];
+  /** The ThreadedOperator bound now (one at a time). */
+  bound: object | null = null;
+
+  private constructor(readonly threads: number) {
+    const channels = Array.from({ length: threads }, () => new MessageChannel());
+    this.team = new SyncTeam(
+      workerScript('product'),
+      threads,
+      PARAMS,
+      (thread, control) => ({ control, port: channels[thread].port2 }),
+      (thread) => [channels[thread].port2],
+    );
+    for (let t = 1; t < threads; t++) this.ports.push(channels[t].port1);
+  }
+
+  /** Null when the helpers cannot start (the caller then builds its own team, or works alone). */
+  static start(threads: number): ProductTeam | null {
+    try {
+      return new ProductTeam(threads);
+    } catch {
+      return null;
+    }
+  }
+
+  bind(binding: ProductBinding, owner: object): void {
+    for (const port of this.ports) port.postMessage(binding);
+    this.team.run(BIND, () => {});
+    this.bound = owner;
+  }
+
+  close(): void {
+    this.team.close();
+    for (const port of this.ports) port.close();
+  }
+}
+
 export class ThreadedOperator implements HermitianOperator {
   readonly dim: number;
   readonly isComplex: boolean;
@@ -121,11 +179,14 @@ export class ThreadedOperator implements HermitianOperator {
   /** Row boundaries of the chunks, shared with the helpers. */
   private readonly chunks: Int32Array;
   private readonly ownsArena: boolean;
+  private readonly kept: ProductTeam | null;
 
+  /** With `kept` (of as many threads), its helpers serve this operator until it closes; else it starts its own. */
   constructor(
     private readonly local: RangeOperator,
     payload: ProductPayload,
     readonly threads: number,
+    kept: ProductTeam | null = null,
   ) {
     this.dim = local.dim;
     this.isComplex = local.isComplex;
@@ -154,15 +215,14 @@ export class ThreadedOperator implements HermitianOperator {
     const bounds = splitRows(local, Math.min(local.dim, CHUNKS_PER_THREAD * threads));
     this.chunks = new Int32Array(new SharedArrayBuffer(4 * bounds.length));
     this.chunks.set(bounds);
-    const script = workerScript('product');
-    this.team = new SyncTeam(script, threads, PARAMS, (_, control) => ({
-      payload,
-      control,
-      x: this.x,
-      y: this.y,
-      shared,
-      chunks: this.chunks,
-    }));
+    const binding: ProductBinding = { payload, x: this.x, y: this.y, shared, chunks: this.chunks };
+    this.kept = kept && kept.threads === threads && kept.bound === null ? kept : null;
+    if (this.kept) {
+      this.team = this.kept.team;
+      this.kept.bind(binding, this);
+    } else {
+      this.team = new SyncTeam(workerScript('product'), threads, PARAMS, (_, control) => ({ control, binding }));
+    }
     this.offsets = new Uint32Array(this.team.control.buffer);
   }
 
@@ -179,55 +239,75 @@ export class ThreadedOperator implements HermitianOperator {
   }
 
   close(): void {
-    this.team.close();
+    if (this.kept) {
+      if (this.kept.bound === this) this.kept.bound = null;
+    } else {
+      this.team.close();
+    }
     if (this.ownsArena) this.arena?.recycle();
   }
 }
 
-/** The loop every product worker runs: wait for a generation, write the chunks it takes, count itself done. */
-export function runProductWorker(data: {
-  payload: ProductPayload;
-  control: Int32Array;
-  x: Float64Array;
-  y: Float64Array;
-  /** The caller's arena, when there is one: vectors and operator data are views over its memory here. */
-  shared: SharedArena | null;
-  chunks: Int32Array;
-}): void {
+/**
+ * The loop every product worker runs: wait for a generation, write the chunks it takes, count
+ * itself done. Its operator comes with the worker's data, or (a kept team's helper) with each
+ * BIND command from its port.
+ */
+export function runProductWorker(data: { control: Int32Array; binding?: ProductBinding; port?: MessagePort }): void {
   const c = data.control;
   const offsets = new Uint32Array(c.buffer);
-  const shared = data.shared;
-  const arena = shared ? VectorArena.attach(shared.memory, shared.used) : null;
-  let payload = data.payload;
-  if (arena && shared?.csr && payload.kind === 'csr') {
-    const m = shared.csr;
-    payload = {
-      ...payload,
-      rowStart: arena.view(m.rowStart, payload.dim + 1),
-      columns: arena.int32View(m.columns, m.nonzeros),
-      valuesRe: arena.view(m.re, m.nonzeros),
-      valuesIm: m.im === null ? null : arena.view(m.im, m.nonzeros),
-    };
-  }
-  const op = operatorFromPayload(payload);
-  if (arena && shared?.placement && op instanceof PinnedOperator) op.adopt(arena, shared.placement);
-  let { x, y } = data;
+  let bound: { op: RangeOperator; arena: VectorArena | null; binding: ProductBinding } | null = null;
+  let x: Float64Array = new Float64Array(0);
+  let y = x;
   let xAt = -1;
   let yAt = -1;
-  serveTeam(c, true, () => {
+  const bind = (binding: ProductBinding): void => {
+    const shared = binding.shared;
+    const arena = shared ? VectorArena.attach(shared.memory, shared.used) : null;
+    let payload = binding.payload;
+    if (arena && shared?.csr && payload.kind === 'csr') {
+      const m = shared.csr;
+      payload = {
+        ...payload,
+        rowStart: arena.view(m.rowStart, payload.dim + 1),
+        columns: arena.int32View(m.columns, m.nonzeros),
+        valuesRe: arena.view(m.re, m.nonzeros),
+        valuesIm: m.im === null ? null : arena.view(m.im, m.nonzeros),
+      };
+    }
+    const op = operatorFromPayload(payload);
+    if (arena && shared?.placement && op instanceof PinnedOperator) op.adopt(arena, shared.placement);
+    bound = { op, arena, binding };
+    x = binding.x;
+    y = binding.y;
+    xAt = -1;
+    yAt = -1;
+  };
+  if (data.binding) bind(data.binding);
+  serveTeam(c, true, (command) => {
+    if (command === BIND) {
+      // Without a binding this helper takes no rows, and the caller's thread takes them all.
+      const message = data.port ? receiveMessageOnPort(data.port) : undefined;
+      if (message) bind(message.message as ProductBinding);
+      else bound = null;
+      return;
+    }
+    if (!bound) return;
+    const { op, arena, binding } = bound;
+    const shared = binding.shared;
     if (arena && shared && (offsets[X_AT] !== xAt || offsets[Y_AT] !== yAt)) {
       xAt = offsets[X_AT];
       yAt = offsets[Y_AT];
       x = arena.view(xAt, shared.length);
       y = arena.view(yAt, shared.length);
     }
-    takeChunks(c, data.chunks, (lo, hi) => op.applyRange(x, y, lo, hi));
+    takeChunks(c, binding.chunks, (lo, hi) => op.applyRange(x, y, lo, hi));
   });
 }
 
 /** The operator itself, or a threaded wrapper when more than one thread is asked and possible. */
-export function withThreads(op: HermitianOperator, threads: number, model?: Model, basis?: PinnedBasis): HermitianOperator & { close(): void } {
+export function withThreads(op: HermitianOperator, threads: number, model?: Model, basis?: PinnedBasis, kept: ProductTeam | null = null): HermitianOperator & { close(): void } {
   const payload = threads > 1 ? payloadOf(op, model, basis) : null;
   if (!payload || !('applyRange' in op)) return Object.assign(op, { close() {} });
-  return new ThreadedOperator(op as RangeOperator, payload, threads);
+  return new ThreadedOperator(op as RangeOperator, payload, threads, kept);
 }

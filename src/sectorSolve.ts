@@ -15,7 +15,7 @@ import type { Model } from './model.js';
 import type { HermitianOperator } from './operator.js';
 import { ChunkSpares, CsrBuilder, type BuiltRows } from './operator/csr.js';
 import { buildSectorOperator, buildSectorRows } from './operator/sector.js';
-import { withThreads } from './parallel.js';
+import { ProductTeam, withThreads } from './parallel.js';
 import { VectorArena } from './simd.js';
 import { spinLocked, workerScript } from './threadTeam.js';
 import { degeneracyWindow, denseThresholdFor, lowestEigenpairs, type EigenOptions } from './solver.js';
@@ -256,6 +256,7 @@ function solveSector(
   onProgress: EigenOptions['onProgress'] | undefined,
   builds: BuildHelper | null = null,
   teamFor: ((threads: number) => KernelTeam | null) | null = null,
+  productTeamFor: ((threads: number) => ProductTeam | null) | null = null,
 ): SectorOutcome | null {
   const plan = plans[index];
   const states = opts.states;
@@ -265,7 +266,7 @@ function solveSector(
   const split = builds && sector.dim >= (opts.splitBuildRows ?? SPLIT_BUILD_ROWS) ? builds.rowsFrom(index, sector.dim) : null;
   const stored = buildSectorOperator(model, basis, sector, arena, spares, split);
   const threads = threadsFor(stored.nonzeros());
-  const op = withThreads(stored, threads);
+  const op = withThreads(stored, threads, undefined, undefined, productTeamFor?.(threads) ?? null);
   let matvecs = 0;
   let restarts = 0;
   try {
@@ -553,6 +554,7 @@ export function solveInSectors(
   const maps = new OrbitMaps(basis, helpers > 0 || splitBuilds);
   let builds: BuildHelper | null = null;
   let kernelTeam: KernelTeam | null = null;
+  let productTeam: ProductTeam | null = null;
   const shared = SharedProgress.create(states);
   const outcomes: SectorOutcome[] = [];
   const started: Worker[] = [];
@@ -601,8 +603,19 @@ export function solveInSectors(
       }
       return kernelTeam;
     };
+    // Likewise one team of product helpers for every sector's matrix.
+    let productTeamFailed = false;
+    const productTeamFor = (threads: number): ProductTeam | null => {
+      if (threads < 2 || productTeamFailed) return null;
+      if (productTeam?.threads !== threads) {
+        productTeam?.close();
+        productTeam = ProductTeam.start(threads);
+        productTeamFailed = productTeam === null;
+      }
+      return productTeam;
+    };
     for (let i; (i = shared.claim()) < plans.length; ) {
-      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgress, builds, teamFor);
+      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgress, builds, teamFor, productTeamFor);
       if (outcome) outcomes.push(outcome);
       prune(outcomes, shared, opts.tolerance);
     }
@@ -624,6 +637,7 @@ export function solveInSectors(
     for (const worker of started) void worker.terminate();
     builds?.close();
     (kernelTeam as KernelTeam | null)?.close();
+    (productTeam as ProductTeam | null)?.close();
   }
 
   // Runs in the order of the plan, whichever thread solved them.

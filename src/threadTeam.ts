@@ -4,7 +4,7 @@
 // thread has counted itself done. Everything stays synchronous, so callers look single-threaded.
 // Also the two small pieces every thread helper needs: where its script is, and a spin lock.
 
-import { Worker } from 'node:worker_threads';
+import { Worker, type TransferListItem } from 'node:worker_threads';
 
 /** A worker entry point in workers/ (from dist/src; tests that load src/*.ts use the built one). */
 export function workerScript(name: string): URL {
@@ -42,10 +42,16 @@ export class SyncTeam {
    * Starts `threads - 1` helpers running `script` (which calls `serveTeam`) and waits for them
    * without the event loop. Throws if they do not start within 30 s or one reports a failure.
    */
-  constructor(script: URL, threads: number, words: number, workerData: (thread: number, control: Int32Array) => unknown) {
+  constructor(
+    script: URL,
+    threads: number,
+    words: number,
+    workerData: (thread: number, control: Int32Array) => unknown,
+    transferList: (thread: number) => TransferListItem[] = () => [],
+  ) {
     this.control = new Int32Array(new SharedArrayBuffer(4 * (TEAM_WORDS + words)));
     for (let t = 1; t < threads; t++) {
-      const worker = new Worker(script, { workerData: workerData(t, this.control) });
+      const worker = new Worker(script, { workerData: workerData(t, this.control), transferList: transferList(t) });
       worker.unref();
       this.workers.push(worker);
     }

@@ -3,7 +3,7 @@ import { buildBasis } from '../src/basis.js';
 import { buildModel } from '../src/model.js';
 import { CsrBuilder } from '../src/operator/csr.js';
 import { PinnedOperator } from '../src/operator/pinned.js';
-import { withThreads } from '../src/parallel.js';
+import { ProductTeam, withThreads } from '../src/parallel.js';
 import { VectorArena } from '../src/simd.js';
 import { validateSpec } from '../src/spec.js';
 import { clean, randomPinnedSpec, rng } from './support/random.js';
@@ -118,6 +118,51 @@ describe('products split by rows', () => {
     threadedCsr.apply(va, wa);
     threadedCsr.close();
     expect(Array.from(wa)).toEqual(Array.from(plainProduct));
+  });
+
+  it('a kept team of product helpers serves operator after operator, with the one-thread bits', () => {
+    const team = ProductTeam.start(2);
+    expect(team).not.toBeNull();
+    try {
+      // A stored matrix in an arena (as sectors are built), a complex one in plain shared memory,
+      // a pinned operator, then the first again: each rebinding must replace the last entirely.
+      const arena = VectorArena.create()!;
+      const stored = (n: number, isComplex: boolean, seed: number, into: VectorArena | null) => {
+        const r = rng(seed);
+        const builder = new CsrBuilder(n, isComplex);
+        for (let i = 0; i < n; i++) {
+          builder.add(i, r() - 0.5);
+          builder.add((i + 7) % n, 0.3, isComplex ? r() - 0.5 : 0);
+          builder.add((i + n - 7) % n, 0.3, isComplex ? r() - 0.5 : 0);
+          builder.endRow();
+        }
+        return builder.finish(into ?? undefined);
+      };
+      const first = stored(2600, false, 31, arena);
+      const pinned = pinnedProduct(74, 7, 3);
+      const operators: { op: Parameters<typeof withThreads>[0]; model?: typeof pinned.model; basis?: typeof pinned.basis }[] = [
+        { op: first },
+        { op: stored(1900, true, 32, null) },
+        { op: pinned.op, model: pinned.model, basis: pinned.basis },
+        { op: first },
+      ];
+      for (const [k, { op, model, basis }] of operators.entries()) {
+        const length = (op.isComplex ? 2 : 1) * op.dim;
+        const x = randomVector(length, 40 + k);
+        const one = new Float64Array(length);
+        op.apply(x, one);
+        const threaded = withThreads(op, 2, model, basis as never, team);
+        const two = new Float64Array(length);
+        threaded.apply(x, two);
+        threaded.apply(x, two);
+        expect(team!.bound).toBe(threaded);
+        threaded.close();
+        expect(team!.bound).toBeNull();
+        expect(Array.from(two)).toEqual(Array.from(one));
+      }
+    } finally {
+      team?.close();
+    }
   });
 
   it('a threaded solve gives the one-thread energies', async () => {
