@@ -132,15 +132,16 @@ export class ProductTeam {
   bound: object | null = null;
 
   private constructor(readonly threads: number) {
-    const channels = Array.from({ length: threads }, () => new MessageChannel());
+    // Helper t (1 <= t < threads) listens on channels[t - 1].
+    const channels = Array.from({ length: threads - 1 }, () => new MessageChannel());
     this.team = new SyncTeam(
       workerScript('product'),
       threads,
       PARAMS,
-      (thread, control) => ({ control, port: channels[thread].port2 }),
-      (thread) => [channels[thread].port2],
+      (thread, control) => ({ control, port: channels[thread - 1].port2 }),
+      (thread) => [channels[thread - 1].port2],
     );
-    for (let t = 1; t < threads; t++) this.ports.push(channels[t].port1);
+    for (const channel of channels) this.ports.push(channel.port1);
   }
 
   /** Null when the helpers cannot start (the caller then builds its own team, or works alone). */
