@@ -134,13 +134,18 @@ export class ProductTeam {
   private constructor(readonly threads: number) {
     // Helper t (1 <= t < threads) listens on channels[t - 1].
     const channels = Array.from({ length: threads - 1 }, () => new MessageChannel());
-    this.team = new SyncTeam(
-      workerScript('product'),
-      threads,
-      PARAMS,
-      (thread, control) => ({ control, port: channels[thread - 1].port2 }),
-      (thread) => [channels[thread - 1].port2],
-    );
+    try {
+      this.team = new SyncTeam(
+        workerScript('product'),
+        threads,
+        PARAMS,
+        (thread, control) => ({ control, port: channels[thread - 1].port2 }),
+        (thread) => [channels[thread - 1].port2],
+      );
+    } catch (e) {
+      for (const channel of channels) channel.port1.close();
+      throw e;
+    }
     for (const channel of channels) this.ports.push(channel.port1);
   }
 
@@ -228,6 +233,8 @@ export class ThreadedOperator implements HermitianOperator {
   }
 
   apply(x: Float64Array, y: Float64Array): void {
+    // A kept team's helpers serve whichever operator was bound last, over its memory.
+    if (this.kept && this.kept.bound !== this) throw new Error('a threaded product was applied after it was closed');
     const inPlace = this.arena !== null && arenaHolding(x, y) === this.arena;
     const xs = inPlace ? x : this.x;
     const ys = inPlace ? y : this.y;
@@ -287,10 +294,15 @@ export function runProductWorker(data: { control: Int32Array; binding?: ProductB
   if (data.binding) bind(data.binding);
   serveTeam(c, true, (command) => {
     if (command === BIND) {
-      // Without a binding this helper takes no rows, and the caller's thread takes them all.
-      const message = data.port ? receiveMessageOnPort(data.port) : undefined;
-      if (message) bind(message.message as ProductBinding);
-      else bound = null;
+      // Without a binding (none came, or it could not be set up) this helper takes no rows, and
+      // the caller's thread takes them all; it must still count itself done, or the caller waits.
+      bound = null;
+      try {
+        const message = data.port ? receiveMessageOnPort(data.port) : undefined;
+        if (message) bind(message.message as ProductBinding);
+      } catch {
+        bound = null;
+      }
       return;
     }
     if (!bound) return;

@@ -159,6 +159,8 @@ describe('products split by rows', () => {
         threaded.close();
         expect(team!.bound).toBeNull();
         expect(Array.from(two)).toEqual(Array.from(one));
+        // Its helpers will serve the next operator: a closed one must not use them.
+        expect(() => threaded.apply(x, two)).toThrow(/after it was closed/);
       }
     } finally {
       team?.close();
