@@ -120,10 +120,11 @@ interface ProductBinding {
 }
 
 /**
- * Product helper threads kept for operator after operator (a sector-by-sector solve builds one
- * matrix per sector): starting helpers costs about 0.1 s, and a fresh thread's first products run
- * in WebAssembly's baseline code until it is recompiled. Each ThreadedOperator built on the team
- * hands its helpers the new binding; closing it leaves the team running for the next.
+ * The helper threads of a split product, serving one operator at a time: each ThreadedOperator
+ * hands them its binding through their ports. A ThreadedOperator starts its own team, or borrows
+ * one the caller keeps for operator after operator (a sector-by-sector solve builds one matrix
+ * per sector): starting helpers costs about 0.1 s, and a fresh thread's first products run in
+ * WebAssembly's baseline code until it is recompiled. Closing a borrower leaves the team running.
  */
 export class ProductTeam {
   readonly team: SyncTeam;
@@ -149,7 +150,12 @@ export class ProductTeam {
     for (const channel of channels) this.ports.push(channel.port1);
   }
 
-  /** Null when the helpers cannot start (the caller then builds its own team, or works alone). */
+  /** Throws when the helpers cannot start (see SyncTeam). */
+  static create(threads: number): ProductTeam {
+    return new ProductTeam(threads);
+  }
+
+  /** Null when the helpers cannot start (the caller then works without a kept team). */
   static start(threads: number): ProductTeam | null {
     try {
       return new ProductTeam(threads);
@@ -185,9 +191,11 @@ export class ThreadedOperator implements HermitianOperator {
   /** Row boundaries of the chunks, shared with the helpers. */
   private readonly chunks: Int32Array;
   private readonly ownsArena: boolean;
-  private readonly kept: ProductTeam | null;
+  /** The helpers serving this operator: a kept team lent by the caller, or its own. */
+  private readonly helpers: ProductTeam;
+  private readonly ownsHelpers: boolean;
 
-  /** With `kept` (of as many threads), its helpers serve this operator until it closes; else it starts its own. */
+  /** With `kept` (of as many threads, free), its helpers serve this operator until it closes; else it starts its own. */
   constructor(
     private readonly local: RangeOperator,
     payload: ProductPayload,
@@ -221,20 +229,17 @@ export class ThreadedOperator implements HermitianOperator {
     const bounds = splitRows(local, Math.min(local.dim, CHUNKS_PER_THREAD * threads));
     this.chunks = new Int32Array(new SharedArrayBuffer(4 * bounds.length));
     this.chunks.set(bounds);
-    const binding: ProductBinding = { payload, x: this.x, y: this.y, shared, chunks: this.chunks };
-    this.kept = kept && kept.threads === threads && kept.bound === null ? kept : null;
-    if (this.kept) {
-      this.team = this.kept.team;
-      this.kept.bind(binding, this);
-    } else {
-      this.team = new SyncTeam(workerScript('product'), threads, PARAMS, (_, control) => ({ control, binding }));
-    }
+    const lent = kept && kept.threads === threads && kept.bound === null ? kept : null;
+    this.helpers = lent ?? ProductTeam.create(threads);
+    this.ownsHelpers = lent === null;
+    this.team = this.helpers.team;
+    this.helpers.bind({ payload, x: this.x, y: this.y, shared, chunks: this.chunks }, this);
     this.offsets = new Uint32Array(this.team.control.buffer);
   }
 
   apply(x: Float64Array, y: Float64Array): void {
     // A kept team's helpers serve whichever operator was bound last, over its memory.
-    if (this.kept && this.kept.bound !== this) throw new Error('a threaded product was applied after it was closed');
+    if (this.helpers.bound !== this) throw new Error('a threaded product was applied after it was closed');
     const inPlace = this.arena !== null && arenaHolding(x, y) === this.arena;
     const xs = inPlace ? x : this.x;
     const ys = inPlace ? y : this.y;
@@ -247,21 +252,17 @@ export class ThreadedOperator implements HermitianOperator {
   }
 
   close(): void {
-    if (this.kept) {
-      if (this.kept.bound === this) this.kept.bound = null;
-    } else {
-      this.team.close();
-    }
+    if (this.helpers.bound === this) this.helpers.bound = null;
+    if (this.ownsHelpers) this.helpers.close();
     if (this.ownsArena) this.arena?.recycle();
   }
 }
 
 /**
  * The loop every product worker runs: wait for a generation, write the chunks it takes, count
- * itself done. Its operator comes with the worker's data, or (a kept team's helper) with each
- * BIND command from its port.
+ * itself done. Its operator comes with each BIND command, from its port.
  */
-export function runProductWorker(data: { control: Int32Array; binding?: ProductBinding; port?: MessagePort }): void {
+export function runProductWorker(data: { control: Int32Array; port: MessagePort }): void {
   const c = data.control;
   const offsets = new Uint32Array(c.buffer);
   let bound: { op: RangeOperator; arena: VectorArena | null; binding: ProductBinding } | null = null;
@@ -291,14 +292,13 @@ export function runProductWorker(data: { control: Int32Array; binding?: ProductB
     xAt = -1;
     yAt = -1;
   };
-  if (data.binding) bind(data.binding);
   serveTeam(c, true, (command) => {
     if (command === BIND) {
       // Without a binding (none came, or it could not be set up) this helper takes no rows, and
       // the caller's thread takes them all; it must still count itself done, or the caller waits.
       bound = null;
       try {
-        const message = data.port ? receiveMessageOnPort(data.port) : undefined;
+        const message = receiveMessageOnPort(data.port);
         if (message) bind(message.message as ProductBinding);
       } catch {
         bound = null;
