@@ -17,7 +17,7 @@ import { ChunkSpares, CsrBuilder, type BuiltRows } from './operator/csr.js';
 import { buildSectorOperator, buildSectorRows } from './operator/sector.js';
 import { ProductTeam, withThreads } from './parallel.js';
 import { VectorArena } from './simd.js';
-import { spinLocked, workerScript } from './threadTeam.js';
+import { KeptTeam, spinLocked, workerScript } from './threadTeam.js';
 import { degeneracyWindow, denseThresholdFor, lowestEigenpairs, type EigenOptions } from './solver.js';
 import { KernelTeam } from './solver/team.js';
 import { IndexActions, planSectors, type SectorLabel, type SectorPlan, type SectorSelection, type SymmetryName } from './symmetry.js';
@@ -553,8 +553,10 @@ export function solveInSectors(
   const splitBuilds = helpers === 0 && (opts.threadsFor?.(Number.MAX_SAFE_INTEGER) ?? 1) > 1 && basis.dim >= (opts.splitBuildRows ?? SPLIT_BUILD_ROWS);
   const maps = new OrbitMaps(basis, helpers > 0 || splitBuilds);
   let builds: BuildHelper | null = null;
-  let kernelTeam: KernelTeam | null = null;
-  let productTeam: ProductTeam | null = null;
+  // One team of kernel helpers and one of product helpers for every sector solved here on more
+  // than one thread, lent to each solve.
+  let kernelTeams: KeptTeam<KernelTeam> | null = null;
+  const productTeams = new KeptTeam((threads) => ProductTeam.start(threads));
   const shared = SharedProgress.create(states);
   const outcomes: SectorOutcome[] = [];
   const started: Worker[] = [];
@@ -591,31 +593,10 @@ export function solveInSectors(
     const onProgress = opts.onProgress ? (info: Parameters<NonNullable<EigenOptions['onProgress']>>[0]) => opts.onProgress!({ ...info, matvecs: shared.matvecs() + info.matvecs }) : undefined;
     const arena = VectorArena.acquire();
     const spares = new ChunkSpares();
-    // One team of kernel helpers for every sector solved here on more than one thread (if the
-    // helpers cannot start, each solve works on one thread, without trying again).
-    let teamFailed = false;
-    const teamFor = (threads: number): KernelTeam | null => {
-      if (!arena || threads < 2 || teamFailed) return null;
-      if (kernelTeam?.threads !== threads) {
-        kernelTeam?.close();
-        kernelTeam = KernelTeam.start(arena, threads);
-        teamFailed = kernelTeam === null;
-      }
-      return kernelTeam;
-    };
-    // Likewise one team of product helpers for every sector's matrix.
-    let productTeamFailed = false;
-    const productTeamFor = (threads: number): ProductTeam | null => {
-      if (threads < 2 || productTeamFailed) return null;
-      if (productTeam?.threads !== threads) {
-        productTeam?.close();
-        productTeam = ProductTeam.start(threads);
-        productTeamFailed = productTeam === null;
-      }
-      return productTeam;
-    };
+    const kernels = new KeptTeam((threads) => (arena ? KernelTeam.start(arena, threads) : null));
+    kernelTeams = kernels;
     for (let i; (i = shared.claim()) < plans.length; ) {
-      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgress, builds, teamFor, productTeamFor);
+      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgress, builds, (t) => kernels.for(t), (t) => productTeams.for(t));
       if (outcome) outcomes.push(outcome);
       prune(outcomes, shared, opts.tolerance);
     }
@@ -636,8 +617,8 @@ export function solveInSectors(
     for (const port of channels) port.close();
     for (const worker of started) void worker.terminate();
     builds?.close();
-    (kernelTeam as KernelTeam | null)?.close();
-    (productTeam as ProductTeam | null)?.close();
+    (kernelTeams as KeptTeam<KernelTeam> | null)?.close();
+    productTeams.close();
   }
 
   // Runs in the order of the plan, whichever thread solved them.

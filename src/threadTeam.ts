@@ -118,3 +118,30 @@ export function serveTeam(control: Int32Array, ready: boolean, work: (command: n
     Atomics.notify(control, DONE);
   }
 }
+
+/**
+ * One team of helper threads kept for call after call (a sector-by-sector solve runs dozens of
+ * solves): started on first use, restarted only when the thread count changes, and not tried
+ * again once it failed to start (callers then work on their own thread).
+ */
+export class KeptTeam<T extends { readonly threads: number; close(): void }> {
+  private team: T | null = null;
+  private failed = false;
+
+  constructor(private readonly start: (threads: number) => T | null) {}
+
+  for(threads: number): T | null {
+    if (threads < 2 || this.failed) return null;
+    if (this.team?.threads !== threads) {
+      this.team?.close();
+      this.team = this.start(threads);
+      this.failed = this.team === null;
+    }
+    return this.team;
+  }
+
+  close(): void {
+    this.team?.close();
+    this.team = null;
+  }
+}
