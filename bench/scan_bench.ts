@@ -54,6 +54,8 @@ steps = ${points}
 
 interface Figures {
   outcome: ScanOutcome;
+  /** Each point's solve time, seconds, in index order. */
+  pointSeconds: number[];
   products: number;
   warm: number;
   method: string;
@@ -67,6 +69,7 @@ async function measure(dir: string, name: string, workers: number, warmStart: bo
   if (outcome.failed > 0) throw new Error(`${name}: ${outcome.failed} points failed: ${records.find((r) => r.status === 'failed')?.error}`);
   return {
     outcome,
+    pointSeconds: [...records].sort((a, b) => a.index - b.index).map((r) => Number(r.seconds)),
     products: records.reduce((s, r) => s + r.iterations, 0),
     warm: records.filter((r) => r.warm_start).length,
     method: String(records[0]?.result?.solver?.method),
@@ -74,9 +77,27 @@ async function measure(dir: string, name: string, workers: number, warmStart: bo
   };
 }
 
+const cores = coreSpeeds();
+
 async function main(): Promise<void> {
-  console.log(describeCores(coreSpeeds()));
+  console.log(describeCores(cores));
   for (const sites of siteCounts) await benchLine(sites);
+}
+
+/**
+ * Amdahl's bound from a one-worker run: its wall time is steady solving (the points' own times,
+ * the first, cold one counted as a typical point) plus a part no second worker shortens (pool and
+ * worker start-up, each worker's first solve while its code is compiled, records written). Returns
+ * that part in seconds and the largest speed-up it leaves `cores` equal cores, or cores of speeds
+ * adding up to `ceiling` times the fastest.
+ */
+function amdahlCeiling(run: Figures, ceiling: number): { fixed: number; steady: number; equal: number; measured: number } {
+  const times = run.pointSeconds;
+  const typical = median(times);
+  const steady = times.reduce((s, t) => s + t, 0) - Math.max(0, times[0] - typical);
+  const fixed = Math.max(0, run.outcome.seconds - steady);
+  const bound = (speedUp: number) => (fixed + steady) / (fixed + steady / speedUp);
+  return { fixed, steady, equal: bound(maxWorkers), measured: bound(Math.min(maxWorkers, ceiling)) };
 }
 
 function median(values: number[]): number {
@@ -126,6 +147,13 @@ async function benchLine(sites: number): Promise<void> {
       console.log('note: runs with the same workers differ in products (work stealing cut a line elsewhere); the table shows the first run');
     }
     console.log(`products cold / warm along the line (1 worker): ${fmt(cold.products / one.products, 3)}`);
+    const fastest = ones.reduce((a, b) => (a.outcome.seconds <= b.outcome.seconds ? a : b));
+    const amdahl = amdahlCeiling(fastest, cores.ceiling ?? maxWorkers);
+    console.log(
+      `Amdahl ceiling from the fastest 1-worker run: ${fmt(amdahl.fixed, 3)} s of its ${fmt(fastest.outcome.seconds, 3)} s is start-up and the first ` +
+        `(cold) solve's extra; ${maxWorkers} workers can be at most ${fmt(amdahl.equal, 3)} times as fast with equal cores, ` +
+        `${fmt(amdahl.measured, 3)} with the core speeds measured at the start`,
+    );
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }

@@ -14,6 +14,7 @@ import { planPoint, solvePoint } from '../src/point.js';
 import { formatBytes } from '../src/resources.js';
 import { VectorArena } from '../src/simd.js';
 import { validateSpec } from '../src/spec.js';
+import type { SectorLabel } from '../src/symmetry.js';
 import { fmt, table } from '../src/tables.js';
 import { coreSpeeds, describeCores } from './cores.js';
 
@@ -25,6 +26,10 @@ interface CaseFigures {
   estimateBytes: number;
   labels: string[];
   sectors: number;
+  /** Products times the length of the vectors they act on (complex entries counted twice), over all sectors (or the full space). */
+  work: number;
+  /** The same, over the sectors that hold one of the answer's states only. */
+  answerWork: number;
 }
 
 /** threads 0: the default ('auto': as many as each product pays for). */
@@ -38,12 +43,21 @@ function chainSpec(sites: number, levels: number, symmetries: string, threads: n
 }
 
 function runCase(sites: number, levels: number, symmetries: string, threads: number): CaseFigures {
+  // (Real couplings here: the full space's vectors are real.)
   const spec = chainSpec(sites, levels, symmetries, threads);
   const estimate = planPoint(spec).memory.totalBytes;
   const t0 = performance.now();
   const { record } = solvePoint(spec, { maxMemory: Number.MAX_SAFE_INTEGER, groundStates: false });
   const seconds = (performance.now() - t0) / 1000;
+  const runs = record.solver.sector_runs ?? [];
+  const same = (a: SectorLabel, b: SectorLabel) => a.momentum === b.momentum && a.parity === b.parity && a.level_flip === b.level_flip && a.charge === b.charge;
+  // Momenta other than 0 and pi have complex amplitudes: twice the numbers per vector entry.
+  const entries = (r: (typeof runs)[number]) => r.dimension * (r.label.momentum !== null && r.label.momentum !== 0 && 2 * r.label.momentum !== sites ? 2 : 1);
+  const holdsAnswer = (r: (typeof runs)[number]) => !r.screened && (record.sectors ?? []).some((l) => same(l, r.label) || r.copies.some((c) => same(l, c)));
+  const work = runs.length > 0 ? runs.reduce((s, r) => s + r.iterations * entries(r), 0) : record.solver.iterations * record.basis.dimension;
   return {
+    work,
+    answerWork: runs.length > 0 ? runs.filter(holdsAnswer).reduce((s, r) => s + r.iterations * entries(r), 0) : work,
     seconds,
     products: record.solver.iterations,
     energies: record.energies,
@@ -139,10 +153,18 @@ function main(): void {
       ];
   const rows: string[][] = [];
   let fullSeconds = NaN;
+  let fullWork = NaN;
+  const ceilings: string[] = [];
   for (const [name, L, N, sym, threads] of cases) {
     const f = child(['--case', String(L), String(N), sym, String(threads)]);
     if (!f) continue;
-    if (name === 'full space, 1 thread' && L === cases[0][1]) fullSeconds = f.seconds;
+    if (name === 'full space, 1 thread' && L === cases[0][1]) [fullSeconds, fullWork] = [f.seconds, f.work];
+    if (sym !== 'none' && L === cases[0][1]) {
+      ceilings.push(
+        `${L}x${N} ${name}: full-space work / the answer's sectors' work = ${fmt(fullWork / f.answerWork, 3)} ` +
+          `(all sectors: ${fmt(fullWork / f.work, 3)}; measured wall-time speed-up ${fmt(fullSeconds / f.seconds, 3)})`,
+      );
+    }
     rows.push([
       `${L}x${N} ${name}`,
       String(N ** L),
@@ -161,6 +183,13 @@ function main(): void {
   console.log(
     table(['case', 'states', 'sectors', 'seconds', 'products', 'speed-up vs full 1 thread', 'peak mem', 'estimate', 'estimate/peak', 'energies', 'sectors of the 4 states'], rows),
   );
+
+  // The Lanczos work (products times vector entries) bounds what sectors can gain: the sectors that
+  // hold the answer must each be converged, so even with every screen and every build free, a
+  // sector solve cannot be faster than the full space by more than full work / their work.
+  console.log('');
+  console.log('ceiling of any sector speed-up with this eigensolver (work: products x vector entries, complex entries twice):');
+  for (const line of ceilings) console.log(`  ${line}`);
 
   const bw = triadBandwidth();
   const productRows: string[][] = [];
