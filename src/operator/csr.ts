@@ -112,6 +112,8 @@ export function complexRowInto(
 
 /** Entries per chunk of a CsrBuilder: filled chunks are kept, never copied to grow. */
 const CHUNK = 1 << 20;
+/** Rows from which a builder starts on a full chunk (at ten or more entries a row, a sixth of it or more). */
+const FULL_CHUNK_ROWS = 1 << 14;
 
 /**
  * Collects matrix elements row by row into fixed-size chunks (a growing array would copy itself
@@ -153,8 +155,12 @@ export class CsrBuilder {
     private readonly spares: ChunkSpares | null = null,
   ) {
     this.rowStart = new Float64Array(dim + 1);
-    // With spare chunks at hand, start on full-size ones; else small, growing by doubling.
-    const size = spares && spares.int32.length > 0 && spares.float64.length >= (isComplex ? 2 : 1) ? CHUNK : 1024;
+    // With spare chunks at hand, or rows enough to fill a good part of one, start on full-size
+    // chunks: only those go back to the spares at `finish` (a matrix that grew to half a chunk by
+    // doubling left none, so every sector of 10x4 copied and faulted in its rows anew: 6% of its
+    // solve), and the untouched pages of a fresh chunk cost nothing. Else small, growing by doubling.
+    const spare = spares && spares.int32.length > 0 && spares.float64.length >= (isComplex ? 2 : 1);
+    const size = spare || dim >= FULL_CHUNK_ROWS ? CHUNK : 1024;
     this.columns = this.int32Chunk(size);
     this.re = this.float64Chunk(size);
     this.im = isComplex ? this.float64Chunk(size) : null;

@@ -1,6 +1,6 @@
 import { Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
-import { CsrBuilder } from '../../src/operator/csr.js';
+import { ChunkSpares, CsrBuilder } from '../../src/operator/csr.js';
 import { VectorArena } from '../../src/simd.js';
 import { rng } from '../support/random.js';
 
@@ -149,5 +149,44 @@ describe('building past one chunk', () => {
       }
       expect(worst).toBe(0);
     }
+  });
+});
+
+describe('spare chunks', () => {
+  // A sector-by-sector solve builds one matrix after another; each should start on the chunks the
+  // last one handed back. A matrix of sector size that fits in less than a chunk used to grow its
+  // chunk by doubling, and a grown chunk was never handed back, so no build reused one.
+  it('a builder of sector size hands its chunk back though it fills only part of it, and the next one takes it', () => {
+    const n = 1 << 15;
+    const spares = new ChunkSpares();
+    const build = (isComplex: boolean) => {
+      const b = new CsrBuilder(n, isComplex, spares);
+      for (let i = 0; i < n; i++) {
+        b.add(i, 2, 0);
+        b.add((i + 1) % n, -1, isComplex ? 0.5 : 0);
+        b.add((i + n - 1) % n, -1, isComplex ? -0.5 : 0);
+        b.endRow();
+      }
+      return b;
+    };
+    const first = build(false);
+    const [int32, float64] = [spares.int32.length, spares.float64.length];
+    const a = first.finish();
+    expect([int32, float64]).toEqual([0, 0]);
+    expect([spares.int32.length, spares.float64.length]).toEqual([1, 1]);
+    const handedBack = spares.int32[0];
+    const second = build(false);
+    expect(spares.int32.length).toBe(0);
+    const b = second.finish();
+    expect(spares.int32[0]).toBe(handedBack);
+    // The reused chunk held the first matrix's entries: the second must not show them.
+    const x = new Float64Array(n).map((_, i) => Math.cos(i));
+    const [ya, yb] = [new Float64Array(n), new Float64Array(n)];
+    a.apply(x, ya);
+    b.apply(x, yb);
+    expect(Array.from(yb)).toEqual(Array.from(ya));
+    // A complex matrix needs two value chunks: it takes the spare one and adds one of its own.
+    build(true).finish();
+    expect([spares.int32.length, spares.float64.length]).toEqual([1, 2]);
   });
 });
