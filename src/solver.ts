@@ -168,6 +168,18 @@ export function defaultKrylovSize(states: number, dim = Infinity): number {
 // ---------------------------------------------------------------------------------------------
 // Small helpers
 
+/**
+ * The seed of a run's random start. A caller that finds states one at a time, each run deflated
+ * against those found before (a sector's states), must not start every run from the same vector:
+ * a first run from s finds the component of s in a degenerate eigenspace, and s with that vector
+ * deflated has no component left in the eigenspace, so a second run from s misses every other
+ * copy (nine free spins: the 9-fold first excited level came out once per sector). Runs with no
+ * deflation keep the plain seed.
+ */
+function startSeed(seed: number, deflated: number): number {
+  return deflated === 0 ? seed : (seed ^ Math.imul(0x9e3779b9, deflated)) >>> 0;
+}
+
 /** mulberry32: tiny, fast, deterministic; statistical quality is ample for start vectors. */
 class Prng {
   private state: number;
@@ -997,7 +1009,7 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
   // Basis size: at least one slot beyond the wanted pairs (else no room to restart), at most the space.
   const krylovFor = (nev: number, wanted: number, space: number): number =>
     Math.min(space, Math.max(wanted, nev + 1));
-  const rng = new Prng(opts.seed ?? DEFAULT_SEED);
+  const rng = new Prng(startSeed(opts.seed ?? DEFAULT_SEED, deflation.length));
   const reorthogonalization = opts.reorthogonalization ?? 'auto';
   if (!['full', 'partial', 'auto'].includes(reorthogonalization)) {
     throw new SpecError('reorthogonalization', `must be "full", "partial" or "auto", got ${JSON.stringify(reorthogonalization)}`);

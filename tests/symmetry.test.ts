@@ -157,6 +157,21 @@ describe('states found one at a time within a sector', () => {
   });
 });
 
+describe('degenerate levels found one at a time within a sector', () => {
+  // Nine free two-level systems (tunnelling only, open chain): each site has levels -t and +t, so
+  // E = -9t + 2t (number of sites excited), and the first excited level is 9-fold (closed form,
+  // common practice). The sectors of reflection and level flip split it 5 + 4, so the 4 lowest
+  // states need three copies from one or two sectors, found one after another with deflation.
+  it('nine free two-level sites: -9t, then -7t three times', () => {
+    const t = 1.25;
+    const raw = { chain: { sites: 9 }, levels: { count: 2, tunnelling: t }, solve: { states: 4, tolerance: 1e-10, entanglement: 'none' } };
+    const r = solvePoint(validateSpec(raw)).record;
+    expect(r.solver.symmetries).toEqual(expect.arrayContaining(['reflection', 'level_flip']));
+    expect(r.energies).toHaveLength(4);
+    [-9 * t, -7 * t, -7 * t, -7 * t].forEach((e, k) => expect(r.energies[k]).toBeCloseTo(e, 9));
+  });
+});
+
 describe('sector solves through solvePoint', () => {
   // Reference: the full-space solve, itself checked against ml-matrix's dense eigensolver on a
   // plain dense build (tests/point.test.ts); a symmetry-adapted basis must not change physics
