@@ -172,6 +172,40 @@ describe('degenerate levels found one at a time within a sector', () => {
   });
 });
 
+// Small chains a random differential test (full space against sectors against a dense build)
+// found wrong: a sector's screen hid its lowest state, and the full space's verification pass
+// missed a copy of a degenerate level, both when Lanczos met a level just above the line before
+// one just below it. Reference: the dense spectrum (ml-matrix) of the plain dense build.
+describe('screens and verification against the dense spectrum', () => {
+  const lowestDense = (raw: Record<string, any>, count: number) => denseSpectrum(densePinnedHamiltonian(validateSpec(raw))).slice(0, count);
+  it('a ring of levels with a weak dipolar exchange: the parity -1 sector is not screened out above its lowest state', () => {
+    const raw = {
+      chain: { sites: 6 },
+      levels: { count: 3, boundary: 'ring', tunnelling: [0.6, 1.4, 1.0] },
+      exchange: { strength: 0.2, range: 'dipolar' },
+      solve: { states: 2, tolerance: 1e-10, entanglement: 'none' },
+    };
+    const r = solvePoint(validateSpec(raw)).record;
+    expect(r.solver.symmetries).toContain('reflection');
+    lowestDense(raw, 2).forEach((e, k) => expect(r.energies[k]).toBeCloseTo(e, 8));
+  });
+
+  it('three sites of six levels in the full space: the verification pass finds the second copy of the ground level', () => {
+    const raw = {
+      chain: { sites: 3, boundary: 'periodic' },
+      levels: { count: 6, boundary: 'ring', tunnelling: [2, 1, 0, 0, 1, 2], phase: Math.PI, detuning: [0.5, 2, -1, -1, 2, 0.5] },
+      exchange: { strength: 2, weights: [2, 0.5, 0.5, 0, 2] },
+      solve: { states: 3, tolerance: 1e-10, symmetries: 'none', entanglement: 'none' },
+    };
+    const reference = lowestDense(raw, 3);
+    expect(reference[1] - reference[0]).toBeLessThan(1e-9);
+    const r = solvePoint(validateSpec(raw)).record;
+    expect(r.solver.method).toBe('lanczos');
+    reference.forEach((e, k) => expect(r.energies[k]).toBeCloseTo(e, 8));
+    expect(r.solver.degeneracy).toBe(2);
+  });
+});
+
 describe('sector solves through solvePoint', () => {
   // Reference: the full-space solve, itself checked against ml-matrix's dense eigensolver on a
   // plain dense build (tests/point.test.ts); a symmetry-adapted basis must not change physics
