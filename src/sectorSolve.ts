@@ -374,6 +374,40 @@ function solveSector(
   }
 }
 
+/**
+ * The ground space on the full basis (interleaved complex), one vector per state. A k <-> -k copy
+ * is its representative's state carried to -k by what pairs the two sectors (see planSectors):
+ * complex conjugation for a real H, the chain reflection for a complex one. (Without the copy, the
+ * entanglement of a complex H's degenerate +-k pair was that of one momentum state alone.)
+ */
+function expandGroundSpace(ground: Found[], model: Model, basis: PinnedBasis): Float64Array[] {
+  const out: Float64Array[] = [];
+  let actions: IndexActions | null = null;
+  ground.forEach((g, k) => {
+    if (k === 0 || g.vector !== ground[k - 1].vector) {
+      out.push(g.sector!.expand(g.vector!, g.complex));
+      return;
+    }
+    const psi = out[out.length - 1];
+    const copy = new Float64Array(psi.length);
+    if (!model.isComplex) {
+      for (let t = 0; t < copy.length; t += 2) {
+        copy[t] = psi[t];
+        copy[t + 1] = -psi[t + 1];
+      }
+    } else {
+      actions ??= new IndexActions(basis);
+      for (let t = 0; t < basis.dim; t++) {
+        const from = actions.reflect(t);
+        copy[2 * t] = psi[2 * from];
+        copy[2 * t + 1] = psi[2 * from + 1];
+      }
+    }
+    out.push(copy);
+  });
+  return out;
+}
+
 /** ||H v - e v|| for a unit vector v. */
 function trueResidual(op: HermitianOperator, v: Float64Array, e: number): number {
   const w = new Float64Array(v.length);
@@ -655,7 +689,7 @@ export function solveInSectors(
   // the same populations, spreads, pair separations and string width.
   const probabilities = new Float64Array(basis.dim);
   for (const g of ground) g.sector!.accumulateProbabilities(g.vector!, g.complex, 1 / ground.length, probabilities);
-  const groundStates = opts.expandGround ? ground.filter((g, k) => k === 0 || g.vector !== ground[k - 1].vector).map((g) => g.sector!.expand(g.vector!, g.complex)) : [];
+  const groundStates = opts.expandGround ? expandGroundSpace(ground, model, basis) : [];
   const answer = found.slice(0, states);
   return {
     energies: answer.map((f) => f.energy),

@@ -226,6 +226,26 @@ describe('sector solves through solvePoint', () => {
     }
   });
 
+  // A complex H (a Peierls phase) pairs k with -k through the reflection, not conjugation: the
+  // ground space of a degenerate +-k pair must hold both momentum states, as the full space's does.
+  it('a complex H with a degenerate +-k ground pair: entanglement as in the full space', () => {
+    const raw = {
+      chain: { sites: 5, boundary: 'periodic' },
+      levels: { count: 2, phase: 0.3 },
+      exchange: { strength: 1 },
+      solve: { states: 3, tolerance: 1e-10, entanglement: 'half' },
+    };
+    const inSectors = solvePoint(validateSpec(raw)).record;
+    const full = solvePoint(validateSpec({ ...raw, solve: { ...raw.solve, symmetries: 'none' } })).record;
+    expect(inSectors.solver.degeneracy).toBe(2);
+    expect(full.solver.degeneracy).toBe(2);
+    expect(new Set(inSectors.sectors!.slice(0, 2).map((l) => l.momentum))).toEqual(new Set([1, 4]));
+    const [a, b] = [inSectors.observables.entanglement![0], full.observables.entanglement![0]];
+    expect(a.von_neumann).toBeCloseTo(b.von_neumann, 8);
+    expect(a.renyi_2).toBeCloseTo(b.renyi_2, 8);
+    a.spectrum.forEach((x, k) => expect(x).toBeCloseTo(b.spectrum[k], 7));
+  });
+
   it('a warm start from the full-space ground state is projected into the sectors', () => {
     const raw = clean({ ...randomPinnedSpec(52, 8, 3), chain: { sites: 8, boundary: 'periodic' } });
     raw.solve = { states: 1, tolerance: 1e-10 };
