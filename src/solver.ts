@@ -1081,8 +1081,9 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
   // eigenspace, so missing copies (and, rarely, a level the main run skipped) are looked for by
   // a fresh random start deflated against everything found: if the lowest eigenvalue of that
   // deflated problem lies below the highest value found, it belongs in the answer. The lowest
-  // eigenvalue is what a random-start Lanczos finds reliably, whatever its multiplicity, so a run
-  // that inserts nothing proves the set complete. Runs look for one pair (double degeneracy is
+  // eigenvalue is what a random-start Lanczos finds, whatever its multiplicity, once its lowest
+  // pair is converged well enough (see SCREEN_RESIDUAL_FRACTION), so a run that inserts nothing
+  // leaves the set complete but for a vanishingly unlucky start. Runs look for one pair (double degeneracy is
   // the common case, and the closing run that inserts nothing is cheapest with one); after two
   // runs in a row that insert all they looked for, the next looks for twice as many (large
   // multiplicities).
