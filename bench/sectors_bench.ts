@@ -43,7 +43,6 @@ function chainSpec(sites: number, levels: number, symmetries: string, threads: n
 }
 
 function runCase(sites: number, levels: number, symmetries: string, threads: number): CaseFigures {
-  // (Real couplings here: the full space's vectors are real.)
   const spec = chainSpec(sites, levels, symmetries, threads);
   const estimate = planPoint(spec).memory.totalBytes;
   const t0 = performance.now();
@@ -54,6 +53,7 @@ function runCase(sites: number, levels: number, symmetries: string, threads: num
   // Momenta other than 0 and pi have complex amplitudes: twice the numbers per vector entry.
   const entries = (r: (typeof runs)[number]) => r.dimension * (r.label.momentum !== null && r.label.momentum !== 0 && 2 * r.label.momentum !== sites ? 2 : 1);
   const holdsAnswer = (r: (typeof runs)[number]) => !r.screened && (record.sectors ?? []).some((l) => same(l, r.label) || r.copies.some((c) => same(l, c)));
+  // The full space's vectors are real here (real couplings), one number an entry.
   const work = runs.length > 0 ? runs.reduce((s, r) => s + r.iterations * entries(r), 0) : record.solver.iterations * record.basis.dimension;
   return {
     work,
