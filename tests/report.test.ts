@@ -1,8 +1,8 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { chromium, type Browser } from 'playwright-core';
+import type { Browser } from 'playwright-core';
 import {
   MAX_CELLS,
   MAX_POINTS,
@@ -19,10 +19,8 @@ import { analyseScan, type AnalysisPoint } from '../src/transitions.js';
 import type { PointRecord } from '../src/point.js';
 import { ROOT, runCli } from './support/cli.js';
 import { writeDemoReport } from '../src/demoReport.js';
+import { launchBrowser } from './support/browser.js';
 
-const CHROMIUM = '/usr/bin/chromium';
-// Flags that work in this container (no sandbox, no GPU, nothing reaching out).
-const CHROMIUM_ARGS = ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'];
 const ARTIFACTS = path.join(ROOT, 'tests/artifacts');
 
 // The transverse-field Ising ring through MODEL.md (see tests/support/ising.ts): two chain lengths,
@@ -68,7 +66,8 @@ let reportFile: string;
 let browser: Browser;
 
 beforeAll(async () => {
-  if (!existsSync(CHROMIUM)) throw new Error(`${CHROMIUM} is missing: apt-get install -y chromium (.ci/run does this)`);
+  // First, so that a missing browser is the one line that says how to get one.
+  browser = (await launchBrowser()).browser;
   dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-report-'));
   writeFileSync(path.join(dir, 'ising.toml'), SPEC);
   const run = path.join(dir, 'run');
@@ -78,7 +77,6 @@ beforeAll(async () => {
   const report = runCli(['report', run, '--out', reportFile, '--fit', 'E0/L', '--power', '2']);
   expect(report.code, report.stderr).toBe(0);
   expect(report.stdout).toContain(reportFile);
-  browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
 });
 
 afterAll(async () => {
