@@ -237,6 +237,17 @@ describe('the demo report', () => {
   }, 120_000);
 });
 
+describe('the demo on the command line', () => {
+  it('says in its first lines where it writes its report, and writes it there', () => {
+    const cwd = mkdtempSync(path.join(os.tmpdir(), 'rungchain-demo-'));
+    const r = runCli(['demo'], { cwd });
+    expect(r.code, r.stderr).toBe(0);
+    const expected = path.join(cwd, 'runs', 'demo-report.html');
+    expect(r.stdout.split('\n').slice(0, 6).join('\n')).toContain(expected);
+    expect(readFileSync(expected, 'utf8')).toMatch(/^<!DOCTYPE html>/i);
+  }, 120_000);
+});
+
 describe('scans without a numeric parameter', () => {
   it('get a table of values per point instead of plots against it', () => {
     const kinds = ['hardcore', 'boson', 'fermion'];
