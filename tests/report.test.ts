@@ -23,7 +23,7 @@ import { launchBrowser } from './support/browser.js';
 
 const ARTIFACTS = path.join(ROOT, 'tests/artifacts');
 
-// The transverse-field Ising ring through MODEL.md (see tests/support/ising.ts): two chain lengths,
+// The transverse-field Ising ring through docs/model.md (see tests/support/ising.ts): two chain lengths,
 // eleven fields across the transition at g = 1.
 const SIZES = [6, 8];
 const FIELDS = 11;
