@@ -6,7 +6,8 @@ import { validateSpec } from './spec.js';
 import { solvePoint } from './point.js';
 import { fmt, table } from './tables.js';
 import { runDynamicsDemo } from './demoDynamics.js';
-import { writeDemoReport } from './demoReport.js';
+import { DEMO_REPORT_FILE, writeDemoReport } from './demoReport.js';
+import path from 'node:path';
 
 export const DEMO_SPEC = {
   chain: { sites: 6, boundary: 'periodic' },
@@ -21,6 +22,7 @@ export async function runDemo(print: (line: string) => void): Promise<void> {
   print('between its rotational levels, dipolar exchange V between neighbours (rigid-rotor weights).');
   print('As V/J grows the molecules bind into one string in the synthetic dimension: its width stays');
   print('small and stops growing with the number of levels N.');
+  print(`It writes one file, an HTML report, under the current folder: ${path.resolve(DEMO_REPORT_FILE)}`);
   print('');
   const rows: string[][] = [];
   for (const V of [0.5, 1, 2, 3, 4, 6]) {

@@ -7,7 +7,7 @@
 // O(dSmall * dim) for the Gram matrix plus O(dSmall^3) for its eigenvalues.
 //
 // A degenerate ground space enters as its average, rho = (1/g) sum_k |psi_k><psi_k|, as every
-// other observable (MODEL.md); its entropies then include the mixing.
+// other observable (docs/model.md); its entropies then include the mixing.
 
 import { symmetricEigen } from './solver/symmetricEigen.js';
 import { ResourceError } from './errors.js';

@@ -22,7 +22,7 @@
 //
 // The Hamiltonian is piecewise constant; within a piece the state is propagated by Krylov steps
 // (src/evolve/krylov.ts) whose lengths follow from the tolerance. At each recorded time the
-// observables of MODEL.md are taken from the state, with the norm, the return probability
+// observables of docs/model.md are taken from the state, with the norm, the return probability
 // |<psi(0)|psi(t)>|^2, the energy <psi|H(t)|psi> and, with a ramp, the weight of the state in the
 // ground space of the instantaneous H(t) (keys at their exact linear value at t, not the piece value).
 

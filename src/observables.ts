@@ -1,5 +1,5 @@
 // Observables of the ground state (or the average over a degenerate ground space).
-// All of MODEL.md's pinned observables are diagonal in the level basis, so they follow from the
+// All of docs/model.md's pinned observables are diagonal in the level basis, so they follow from the
 // probability of each basis state, computed once.
 
 import type { PinnedBasis } from './basis.js';

@@ -19,7 +19,7 @@
 // - Exchange: two dipoles a apart with their quantization axis at theta to the chain exchange one
 //   quantum of rotation with amplitude |<n,0|d_z|n+1,0>|^2 (1 - 3 cos^2 theta) / (4 pi eps0 a^3)
 //   (only the M = 0 ladder is dressed). V is this for the lowest link (|<0|d_z|1>|^2 = d^2/3); the
-//   other links get the rigid-rotor weights c_n of MODEL.md, and with range "dipolar" V falls as 1/r^3.
+//   other links get the rigid-rotor weights c_n of docs/model.md, and with range "dipolar" V falls as 1/r^3.
 //   Unless the spec sets them, [units] makes exchange.range "dipolar" and exchange.weights "rotor",
 //   because that is what real dipoles do.
 // Constants: CODATA 2018 (c and h exact in the SI since 2019; eps0 measured).

@@ -44,7 +44,7 @@ function peschelBlock(hopping: number, sites: number, block: number) {
 }
 
 describe('XX chain half-chain entanglement against the free-fermion correlation-matrix method', () => {
-  // MODEL.md with N = 2 and exchange only is V sum (s+_i s-_{i+1} + h.c.): by Jordan-Wigner on an
+  // docs/model.md with N = 2 and exchange only is V sum (s+_i s-_{i+1} + h.c.): by Jordan-Wigner on an
   // open chain, free fermions hopping with amplitude V (textbook). Even L: a unique ground state at
   // half filling, so the full-space ground state is the Slater determinant.
   it.each([

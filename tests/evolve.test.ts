@@ -279,7 +279,7 @@ describe('itinerant particles', () => {
     });
   });
 
-  // Hard-core bosons at one per site with no hopping are the pinned model (MODEL.md): the same trace.
+  // Hard-core bosons at one per site with no hopping are the pinned model (docs/model.md): the same trace.
   it('hard-core bosons, one per site, t = 0: the pinned dynamics', () => {
     const base = clean(randomPinnedSpec(21, 3, 3));
     const evolve = { initial: { levels: [0, 1, 2], pulses: [{ between: [0, 1], area: 1.1, phase: 0.4 }] }, times: [0, 0.7, 2], tolerance: 1e-10 };

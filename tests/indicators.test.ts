@@ -11,7 +11,7 @@ function overlap(a: Float64Array, b: Float64Array): number {
   return Math.abs(s);
 }
 
-describe('transverse-field Ising ring through MODEL.md against the free-fermion solution (Pfeuty 1970)', () => {
+describe('transverse-field Ising ring through docs/model.md against the free-fermion solution (Pfeuty 1970)', () => {
   it.each([
     [6, 0.3],
     [6, 1.0],

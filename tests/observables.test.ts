@@ -76,7 +76,7 @@ describe('ground-state observables', () => {
 });
 
 describe('pinned observables against their definitions, state by state', () => {
-  // MODEL.md's definitions summed literally over every configuration, with its digits read off the
+  // docs/model.md's definitions summed literally over every configuration, with its digits read off the
   // index (site 0 the fastest digit), for random probabilities: the fast sweep splits the index
   // in halves and must give the same numbers (common practice; no outside source needed).
   it.each([

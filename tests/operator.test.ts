@@ -8,7 +8,7 @@ import { validateSpec } from '../src/spec.js';
 import { densePinnedHamiltonian } from './support/reference.js';
 import { clean, randomPinnedSpec, rng } from './support/random.js';
 
-// The on-the-fly kernel against a plain element-by-element dense build of MODEL.md's Hamiltonian
+// The on-the-fly kernel against a plain element-by-element dense build of docs/model.md's Hamiltonian
 // (tests/support/reference.ts, assembled with ml-matrix): the products must agree to rounding.
 describe('pinned operator', () => {
   const cases: [number, number, number][] = [
@@ -75,7 +75,7 @@ describe('pinned operator', () => {
 
 // Above the cached low-site block (N^blockSites states), terms run as long strided runs; those
 // go to the SIMD kernel when x and y live in an arena. Checked against the column-by-column
-// matrix elements (src/operator/pinnedRows.ts, an independent enumeration of MODEL.md's terms)
+// matrix elements (src/operator/pinnedRows.ts, an independent enumeration of docs/model.md's terms)
 // to rounding, and against the plain loops bit for bit (the same multiply and add per entry).
 describe('pinned operator beyond the cached block', () => {
   it.each([

@@ -16,7 +16,7 @@ function fill(energies: number[], Np: number): number {
 
 describe('hard-core bosons at one particle per site reproduce the pinned model', () => {
   // With Np = L and t = 0 a hard-core particle can never leave its site, so the Fock space is the
-  // pinned space and every term of MODEL.md acts identically (MODEL.md's particle kinds).
+  // pinned space and every term of docs/model.md acts identically (docs/model.md's particle kinds).
   for (const [seed, L, N] of [
     [61, 4, 3],
     [62, 5, 2],

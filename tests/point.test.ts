@@ -73,7 +73,7 @@ describe('two-level molecules: spin chains', () => {
     expect(r.energies[0]).toBeCloseTo(e0, 10);
   });
 
-  // Heisenberg ring through the MODEL.md mapping: exchange 1/2 and diagonal term 1 with moments
+  // Heisenberg ring through the docs/model.md mapping: exchange 1/2 and diagonal term 1 with moments
   // (-1/2, +1/2) give H = sum S_i.S_{i+1}. Ground energies of small periodic rings from published
   // exact-diagonalization tables; values quoted from memory.
   const heisenberg: [number, number][] = [

@@ -1,8 +1,8 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { chromium, type Browser } from 'playwright-core';
+import type { Browser } from 'playwright-core';
 import {
   MAX_CELLS,
   MAX_POINTS,
@@ -19,13 +19,11 @@ import { analyseScan, type AnalysisPoint } from '../src/transitions.js';
 import type { PointRecord } from '../src/point.js';
 import { ROOT, runCli } from './support/cli.js';
 import { writeDemoReport } from '../src/demoReport.js';
+import { launchBrowser } from './support/browser.js';
 
-const CHROMIUM = '/usr/bin/chromium';
-// Flags that work in this container (no sandbox, no GPU, nothing reaching out).
-const CHROMIUM_ARGS = ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'];
 const ARTIFACTS = path.join(ROOT, 'tests/artifacts');
 
-// The transverse-field Ising ring through MODEL.md (see tests/support/ising.ts): two chain lengths,
+// The transverse-field Ising ring through docs/model.md (see tests/support/ising.ts): two chain lengths,
 // eleven fields across the transition at g = 1.
 const SIZES = [6, 8];
 const FIELDS = 11;
@@ -68,7 +66,8 @@ let reportFile: string;
 let browser: Browser;
 
 beforeAll(async () => {
-  if (!existsSync(CHROMIUM)) throw new Error(`${CHROMIUM} is missing: apt-get install -y chromium (.ci/run does this)`);
+  // First, so that a missing browser is the one line that says how to get one.
+  browser = (await launchBrowser()).browser;
   dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-report-'));
   writeFileSync(path.join(dir, 'ising.toml'), SPEC);
   const run = path.join(dir, 'run');
@@ -78,7 +77,6 @@ beforeAll(async () => {
   const report = runCli(['report', run, '--out', reportFile, '--fit', 'E0/L', '--power', '2']);
   expect(report.code, report.stderr).toBe(0);
   expect(report.stdout).toContain(reportFile);
-  browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
 });
 
 afterAll(async () => {
@@ -236,6 +234,17 @@ describe('the demo report', () => {
     for (const id of ['obs-string-width', 'heat-string-width', 'spectrum-0', 'indicator-fidelity', 'fit-string-width-N', 'populations']) expect(ids).toContain(id);
     // Three ladder lengths: a line each in every plot against V.
     expect(plots.find((p) => p.id === 'obs-string-width')!.series).toHaveLength(3);
+  }, 120_000);
+});
+
+describe('the demo on the command line', () => {
+  it('says in its first lines where it writes its report, and writes it there', () => {
+    const cwd = mkdtempSync(path.join(os.tmpdir(), 'rungchain-demo-'));
+    const r = runCli(['demo'], { cwd });
+    expect(r.code, r.stderr).toBe(0);
+    const expected = path.join(cwd, 'runs', 'demo-report.html');
+    expect(r.stdout.split('\n').slice(0, 6).join('\n')).toContain(expected);
+    expect(readFileSync(expected, 'utf8')).toMatch(/^<!DOCTYPE html>/i);
   }, 120_000);
 });
 

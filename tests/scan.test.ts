@@ -152,7 +152,7 @@ values = ["uniform", "rotor"]
 `);
     expect(plan.points.map((p) => p.params['exchange.weights'])).toEqual(['uniform', 'rotor']);
     expect(plan.points[0].spec.exchange.weights).toEqual([1, 1]);
-    // MODEL.md: c_n = ((n+1)^2 / ((2n+1)(2n+3))) / (1/3), the squared M=0 rotor dipole matrix element.
+    // docs/model.md: c_n = ((n+1)^2 / ((2n+1)(2n+3))) / (1/3), the squared M=0 rotor dipole matrix element.
     expect(plan.points[1].spec.exchange.weights[1]).toBeCloseTo(((2 * 2) / (3 * 5)) * 3, 14);
     // A string that looks like a number stays a string, and is then rejected by the spec.
     expect(() => expand(`${BASE}\n[[scan.axis]]\nkey = "exchange.strength"\nvalues = ["2"]\n`)).toThrow(/exchange\.strength: expected a finite number, got "2"/);

@@ -256,7 +256,7 @@ describe('sector solves through solvePoint', () => {
   });
 });
 
-// Heisenberg ring through the MODEL.md mapping (N=2, exchange 1/2, diagonal term 1, moments -1/2,+1/2).
+// Heisenberg ring through the docs/model.md mapping (N=2, exchange 1/2, diagonal term 1, moments -1/2,+1/2).
 // Marshall's sign rule (Marshall 1955; Lieb and Mattis 1962) makes the ground state a singlet with
 // crystal momentum 0 when L/2 is even and pi when L/2 is odd. Energies for L <= 12 from published
 // small-ring tables (from memory, as in tests/point.test.ts).

@@ -54,7 +54,7 @@ describe('rotor matrix elements (standard angular-momentum algebra)', () => {
     }
   });
 
-  it('the rotor exchange weights of MODEL.md are the M = 0 link strengths over the lowest one', () => {
+  it('the rotor exchange weights of docs/model.md are the M = 0 link strengths over the lowest one', () => {
     const weights = rotorWeights(9);
     weights.forEach((c, n) => expect(rotorLinkStrength(n) / rotorLinkStrength(0)).toBeCloseTo(c, 13));
   });

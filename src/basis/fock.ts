@@ -12,7 +12,7 @@
 // terms of the sum. No table of states and no hash map is stored; enumeration in rank order is an
 // odometer over per-(site, remaining particles) lists of feasible local states.
 //
-// Local spaces (the mode order inside a site is by level, as MODEL.md's site-major order asks):
+// Local spaces (the mode order inside a site is by level, as docs/model.md's site-major order asks):
 //   hardcore  empty, or one particle in level n                  N + 1 local states
 //   fermion   any subset of the N levels                          2^N local states
 //   boson     occupations o_0..o_{N-1} with sum <= max_per_site   C(K + N, N) local states

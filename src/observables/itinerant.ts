@@ -1,6 +1,6 @@
 // Ground-state observables of itinerant particles (hard-core bosons, soft-core bosons, fermions).
 //
-// The pinned set of MODEL.md, read over the particles present:
+// The pinned set of docs/model.md, read over the particles present:
 //   populations[i][n]     <n_{i,n}>, the mean occupation of mode (i, n); a row sums to site i's density
 //   level_mean[i]         <sum_n n n_{i,n}> / <N_i>: the mean level of the particles found at site i,
 //                         each particle counted once (a doubly occupied site counts both)

@@ -1,4 +1,4 @@
-// The Hamiltonian of MODEL.md on fixed-number Fock bases (hard-core bosons, soft-core bosons,
+// The Hamiltonian of docs/model.md on fixed-number Fock bases (hard-core bosons, soft-core bosons,
 // fermions), stored once as compressed rows.
 //
 // Every term is written with the creation and annihilation tables of the local space:

@@ -1,4 +1,4 @@
-// An independent, deliberately plain construction of MODEL.md's Hamiltonian for itinerant particles
+// An independent, deliberately plain construction of docs/model.md's Hamiltonian for itinerant particles
 // (hard-core bosons, soft-core bosons, fermions) as a dense matrix, from second quantization as in
 // any many-body textbook: states are occupation lists over the modes m = i*N + n (site-major,
 // level-minor), operators are applied one creation or annihilation at a time, right to left,
@@ -110,7 +110,7 @@ function pairFactor(i: number, j: number, L: number, periodic: boolean, range: s
   return r <= cutoff ? 1 / r ** 3 : 0;
 }
 
-/** The dense Hamiltonian of an itinerant spec, term by term from MODEL.md. */
+/** The dense Hamiltonian of an itinerant spec, term by term from docs/model.md. */
 export function denseFockHamiltonian(spec: Spec): FockReference {
   const L = spec.chain.sites;
   const N = spec.levels.count;

@@ -1,7 +1,7 @@
 // The transverse-field Ising ring H = -sum sz_i sz_{i+1} - g sum sx_i (Pauli matrices), solved as
 // free fermions (Pfeuty, Ann. Phys. 57, 79 (1970)), and the same model written as a rungchain spec.
 //
-// Through MODEL.md: N = 2 levels, tunnelling J = g gives -g sx on every site, and the diagonal
+// Through docs/model.md: N = 2 levels, tunnelling J = g gives -g sx on every site, and the diagonal
 // dipole term W m_i m_j with moments -1/2, +1/2 is (W/4) sz_i sz_j, so W = -4.
 //
 // On a finite ring the Jordan-Wigner fermions are antiperiodic in the sector of even parity

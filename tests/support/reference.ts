@@ -1,4 +1,4 @@
-// An independent, deliberately plain construction of the pinned Hamiltonian of MODEL.md as a dense
+// An independent, deliberately plain construction of the pinned Hamiltonian of docs/model.md as a dense
 // matrix, element by element from the formula, for checking the fast kernels. Shares no code with
 // src/ beyond the validated spec.
 
