@@ -256,7 +256,8 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
           .map((p) => ({ size: p.params[size] as number, value: observableValue(p.record!, name) }))
           .filter((u): u is { size: number; value: number } => typeof u.value === 'number' && Number.isFinite(u.value));
         if (new Set(usable.map((u) => u.size)).size < Math.max(2, terms)) continue;
-        const fit = finiteSizeFit(usable.map((u) => u.size), usable.map((u) => u.value), { power, terms });
+        // E1 >= E0: a gap is never negative.
+        const fit = finiteSizeFit(usable.map((u) => u.size), usable.map((u) => u.value), { power, terms, lowerBound: name === 'gap' ? 0 : undefined });
         observableFits.push({ observable: name, size, fixed: pick(group[0].params, fixedKeys), fit });
       }
     }
@@ -278,7 +279,7 @@ function showParams(params: ScanParams): string {
 
 function showPeak(peak: Peak | null): string {
   if (!peak) return '-';
-  return `${fmt(peak.position, 5)} ± ${fmt(peak.uncertainty, 2)}${peak.at_edge ? ' *' : ''}`;
+  return `${fmt(peak.position, 5)} ± ${fmt(peak.uncertainty, 2)}${peak.at_edge ? ' *' : peak.refined ? '' : ' (grid)'}`;
 }
 
 const INDICATOR_COLUMNS: { name: IndicatorName; title: string }[] = [
@@ -291,7 +292,9 @@ const INDICATOR_COLUMNS: { name: IndicatorName; title: string }[] = [
 export function analysisText(analysis: ScanAnalysis): string {
   const out: string[] = [];
   if (analysis.parameter !== null && analysis.lines.length > 0) {
-    out.push(`transition indicators along ${analysis.parameter}: peak position ± half the grid spacing (* at the end of the scan: the peak may lie beyond it)`);
+    out.push(
+      `transition indicators along ${analysis.parameter}: peak position ± half the grid spacing (* at the end of the scan: the peak may lie beyond it; (grid): the grid point, where a parabola does not fit the peak)`,
+    );
     const present = INDICATOR_COLUMNS.filter((c) => analysis.lines.some((l) => l.indicators.some((i) => i.name === c.name)));
     out.push(
       table(
@@ -302,7 +305,7 @@ export function analysisText(analysis: ScanAnalysis): string {
   }
   const fitRows = (fit: FitResult) => [
     fit.sizes.join(','),
-    `${fmt(fit.extrapolated, 7)} ± ${fit.extrapolated_error === null ? '?' : fmt(fit.extrapolated_error, 2)}`,
+    `${fmt(fit.extrapolated, 7)} ± ${fit.extrapolated_error === null ? '?' : fmt(fit.extrapolated_error, 2)}${fit.bounded ? ` (fit ${fmt(fit.coefficients[0], 3)})` : ''}`,
     fit.coefficients.slice(1).map((c) => fmt(c, 5)).join(', '),
     fit.residuals.map((r) => fmt(r, 2)).join(', '),
     fit.dof > 0 ? fmt(fit.chi2 / fit.dof, 3) : '-',

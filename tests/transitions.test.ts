@@ -2,7 +2,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { analyseScan, observableValue, type AnalysisInput } from '../src/transitions.js';
+import { analyseScan, analysisText, observableValue, type AnalysisInput } from '../src/transitions.js';
 import { fidelitySusceptibility, findPeak } from '../src/indicators.js';
 import { InputError } from '../src/errors.js';
 import type { PointRecord } from '../src/point.js';
@@ -70,6 +70,25 @@ describe('analysis of a scan in memory', () => {
       expect(f.fit.coefficients[1]).toBeCloseTo(law(x, 1).b, 10);
       f.fit.residuals.forEach((r) => expect(Math.abs(r)).toBeLessThan(1e-12));
     }
+  });
+
+  it('never reports a negative gap: a fit of a closing gap gives 0, and says what the fit gave', () => {
+    // gap = 1/L - 0.01 at every parameter value: the straight line in 1/L meets zero before L = inf.
+    const closing: AnalysisInput = {
+      ...input,
+      points: input.points.map((p) => {
+        const L = p.params['chain.sites'] as number;
+        return { ...p, record: { ...p.record!, gap: 1 / L - 0.01 } };
+      }),
+    };
+    const analysis = analyseScan(closing, { fit: ['gap'] });
+    expect(analysis.observable_fits).toHaveLength(xs.length);
+    for (const f of analysis.observable_fits) {
+      expect(f.fit.extrapolated).toBe(0);
+      expect(f.fit.bounded).toBe(true);
+      expect(f.fit.coefficients[0]).toBeCloseTo(-0.01, 10);
+    }
+    expect(analysisText(analysis)).toMatch(/\b0 ± [^\n]*\(fit -0\.01\)/);
   });
 
   it('names what it cannot do', () => {
