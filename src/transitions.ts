@@ -11,7 +11,7 @@ import { transitionIndicators, type Indicator, type IndicatorName, type Peak } f
 import type { PointRecord } from './point.js';
 import type { ScanParams, ScanValue } from './scan.js';
 import type { ScanRunSummary } from './summary.js';
-import { fmt, table } from './tables.js';
+import { csv, fmt, table } from './tables.js';
 
 export interface AnalysisPoint {
   index: number;
@@ -335,6 +335,51 @@ export function analysisText(analysis: ScanAnalysis): string {
   const notes = out.length > 0 ? analysis.notes : analysis.notes.filter((n) => !n.startsWith('no numeric parameter'));
   for (const note of notes) out.push(`note: ${note}`);
   return out.join('\n');
+}
+
+/**
+ * The analysis as one tidy CSV table, one row per result: `kind` is `peak` (an indicator's extremum
+ * on one line), `peak_fit` (peak positions against 1/size^p) or `observable_fit`; the scanned axes
+ * hold the values a row is taken at (empty where the row spans the axis); the remaining columns are
+ * empty where they do not apply. Coefficients, sizes and residuals are `;`-separated lists.
+ */
+export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string {
+  const header = [
+    'kind',
+    ...axisKeys,
+    'name',
+    'size_axis',
+    'position',
+    'value',
+    'uncertainty',
+    'at_edge',
+    'refined',
+    'extrapolated',
+    'extrapolated_error',
+    'bounded',
+    'coefficients',
+    'sizes',
+    'residuals',
+    'chi2',
+    'dof',
+  ];
+  const list = (values: number[]) => values.join(';');
+  const rows: unknown[][] = [];
+  for (const line of analysis.lines) {
+    for (const indicator of line.indicators) {
+      const p = indicator.peak;
+      if (!p) continue;
+      rows.push(['peak', ...axisKeys.map((k) => line.fixed[k]), indicator.name, null, p.position, p.value, p.uncertainty, p.at_edge, p.refined, ...new Array(8).fill(null)]);
+    }
+  }
+  const fitCells = (fit: FitResult) => [fit.extrapolated, fit.extrapolated_error, fit.bounded, list(fit.coefficients), list(fit.sizes), list(fit.residuals), fit.chi2, fit.dof];
+  for (const f of analysis.peak_fits) {
+    rows.push(['peak_fit', ...axisKeys.map((k) => f.fixed[k]), f.indicator, f.size, null, null, null, null, null, ...fitCells(f.fit)]);
+  }
+  for (const f of analysis.observable_fits) {
+    rows.push(['observable_fit', ...axisKeys.map((k) => f.fixed[k]), f.observable, f.size, null, null, null, null, null, ...fitCells(f.fit)]);
+  }
+  return csv(header, rows);
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -163,6 +163,33 @@ describe('summary of a scan: indicator peaks and finite-size fits', () => {
     expect(Math.abs(fit.fit.extrapolated - 1)).toBeLessThan(0.02);
   });
 
+  it('--analysis --csv: one row per peak and per fit, the same numbers as --analysis --json', () => {
+    const args = ['summary', run, '--analysis', '--power', '2', '--fit', 'E0/L'];
+    const analysis = JSON.parse(runCli([...args, '--json']).stdout);
+    const r = runCli([...args, '--csv']);
+    expect(r.code, r.stderr).toBe(0);
+    // Plain RFC 4180 without quoted fields here: split on commas (common practice).
+    const [header, ...lines] = r.stdout.trim().split('\n').map((l) => l.split(','));
+    expect(header.slice(0, 4)).toEqual(['kind', 'chain.sites', 'levels.tunnelling', 'name']);
+    const rows = lines.map((cells) => Object.fromEntries(header.map((h, k) => [h, cells[k]])));
+    const peaks = rows.filter((row) => row.kind === 'peak');
+    const expectedPeaks = analysis.lines.flatMap((l: any) => l.indicators.filter((i: any) => i.peak).map((i: any) => ({ sites: l.fixed['chain.sites'], name: i.name, peak: i.peak })));
+    expect(peaks).toHaveLength(expectedPeaks.length);
+    expectedPeaks.forEach((e: any, k: number) => {
+      expect(Number(peaks[k]['chain.sites'])).toBe(e.sites);
+      expect(peaks[k].name).toBe(e.name);
+      expect(Number(peaks[k].position)).toBe(e.peak.position);
+      expect(Number(peaks[k].value)).toBe(e.peak.value);
+      expect(peaks[k].refined).toBe(String(e.peak.refined));
+    });
+    const peakFits = rows.filter((row) => row.kind === 'peak_fit');
+    expect(peakFits.map((row) => Number(row.extrapolated))).toEqual(analysis.peak_fits.map((f: any) => f.fit.extrapolated));
+    const observableFits = rows.filter((row) => row.kind === 'observable_fit');
+    expect(observableFits).toHaveLength(analysis.observable_fits.length);
+    expect(observableFits[0].sizes).toBe(SIZES.join(';'));
+    expect(observableFits.map((row) => Number(row['levels.tunnelling']))).toEqual(analysis.observable_fits.map((f: any) => f.fixed['levels.tunnelling']));
+  });
+
   it('prints them after the table', () => {
     const r = runCli(['summary', run, '--fit', 'E0/L', '--power', '2']);
     expect(r.code, r.stderr).toBe(0);
