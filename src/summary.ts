@@ -7,7 +7,7 @@ import { lockIsStale, readLock, readRun, type LockInfo, type RunManifest } from 
 import { paramsOf, type ScanParams, type ScanSection, type ScanValue } from './scan.js';
 import type { ScanRecord } from './scanTask.js';
 import { latestRecords } from './scanRunner.js';
-import { csv, fmt, table } from './tables.js';
+import { columnScale, csv, fmt, fmtNoise, table } from './tables.js';
 import { formatBytes } from './resources.js';
 
 export interface SummaryRow {
@@ -191,6 +191,9 @@ function showValue(v: ScanValue | undefined): string {
 
 export function summaryText(summary: ScanRunSummary): string {
   const keys = paramKeys(summary);
+  // Energies and gaps are rounding noise below the energies' scale; widths below 1 or their own.
+  const energyScale = columnScale(summary.rows.map((row) => row.record?.result?.energies[0]));
+  const widthScale = columnScale(summary.rows.map((row) => row.record?.result?.observables.string_width), 1);
   const rows = summary.rows.map((row) => {
     const r = row.record;
     const res = r?.result;
@@ -198,9 +201,9 @@ export function summaryText(summary: ScanRunSummary): string {
       String(row.index),
       ...keys.map((k) => showValue(row.params[k])),
       row.status + (res && !res.solver.converged ? ' (not converged)' : ''),
-      res ? fmt(res.energies[0], 10) : '',
-      res ? fmt(res.gap, 6) : '',
-      res ? fmt(res.observables.string_width, 6) : '',
+      res ? fmtNoise(res.energies[0], energyScale, 10) : '',
+      res ? fmtNoise(res.gap, energyScale, 6) : '',
+      res ? fmtNoise(res.observables.string_width, widthScale, 6) : '',
       res ? String(res.basis.dimension) : '',
       r && r.status === 'done' ? `${r.iterations}${r.warm_start ? ' w' : ''}` : '',
       r ? fmt(r.seconds, 3) : '',

@@ -11,7 +11,7 @@ import { transitionIndicators, type Indicator, type IndicatorName, type Peak } f
 import type { PointRecord } from './point.js';
 import type { ScanParams, ScanValue } from './scan.js';
 import type { ScanRunSummary } from './summary.js';
-import { csv, fmt, table } from './tables.js';
+import { columnScale, csv, fmt, fmtNoise, table } from './tables.js';
 
 export interface AnalysisPoint {
   index: number;
@@ -277,9 +277,12 @@ function showParams(params: ScanParams): string {
   return entries.map(([k, v]) => `${k}=${typeof v === 'number' ? fmt(v, 6) : String(v)}`).join(' ');
 }
 
-function showPeak(peak: Peak | null): string {
+function showPeak(indicator: Indicator | undefined): string {
+  const peak = indicator?.peak;
   if (!peak) return '-';
-  return `${fmt(peak.position, 5)} ± ${fmt(peak.uncertainty, 2)}${peak.at_edge ? ' *' : peak.refined ? '' : ' (grid)'}`;
+  // A position at rounding distance from 0 on the parameter's scale is 0.
+  const position = fmtNoise(peak.position, columnScale(indicator.x), 5);
+  return `${position} ± ${fmt(peak.uncertainty, 2)}${peak.at_edge ? ' *' : peak.refined ? '' : ' (grid)'}`;
 }
 
 const INDICATOR_COLUMNS: { name: IndicatorName; title: string }[] = [
@@ -299,7 +302,7 @@ export function analysisText(analysis: ScanAnalysis): string {
     out.push(
       table(
         ['line', ...present.map((c) => c.title)],
-        analysis.lines.map((l) => [showParams(l.fixed), ...present.map((c) => showPeak(l.indicators.find((i) => i.name === c.name)?.peak ?? null))]),
+        analysis.lines.map((l) => [showParams(l.fixed), ...present.map((c) => showPeak(l.indicators.find((i) => i.name === c.name)))]),
       ),
     );
   }
