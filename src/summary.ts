@@ -175,9 +175,13 @@ export function longCsv(summary: ScanRunSummary): string {
 
 export function longText(summary: ScanRunSummary): string {
   const keys = paramKeys(summary);
+  const rows = longRows(summary);
+  // Each observable's rounding noise is measured against 1 (probabilities, levels) or its largest value.
+  const scales = new Map<string, number>();
+  for (const r of rows) scales.set(r.observable, Math.max(scales.get(r.observable) ?? 1, Math.abs(r.value)));
   return table(
     ['point', ...keys, 'observable', 'site', 'level', 'other site', 'value'],
-    longRows(summary).map((r) => [String(r.index), ...keys.map((k) => showValue(r.params[k])), r.observable, String(r.site), r.level === null ? '' : String(r.level), r.other_site === null ? '' : String(r.other_site), fmt(r.value, 8)]),
+    rows.map((r) => [String(r.index), ...keys.map((k) => showValue(r.params[k])), r.observable, String(r.site), r.level === null ? '' : String(r.level), r.other_site === null ? '' : String(r.other_site), fmtNoise(r.value, scales.get(r.observable)!, 8)]),
   );
 }
 

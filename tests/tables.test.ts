@@ -5,6 +5,7 @@ import path from 'node:path';
 import type { PointRecord } from '../src/point.js';
 import { describeRecord, fmtNoise, fmtSmall, plural, ROUNDING_ZERO } from '../src/tables.js';
 import { axisLabels } from '../src/summary/sideBySide.js';
+import { longText, summaryText, type ScanRunSummary } from '../src/summary.js';
 import { runCli } from './support/cli.js';
 
 const tmp = () => mkdtempSync(path.join(os.tmpdir(), 'rungchain-tables-'));
@@ -64,6 +65,24 @@ describe('readable tables', () => {
     expect(fmtNoise(ROUNDING_ZERO * 6.6, 6.6)).toBe('0');
     expect(fmtNoise(1e-10, 6.6)).toBe('1.000e-10');
     expect(fmtNoise(-2.665e-15, 3)).toBe('0');
+  });
+
+  it('summary tables: a gap of 2.665e-15 beside E0 = -3 is 0, and so is a population of 1e-17', () => {
+    const result = { ...record(), energies: [-3, -3 + 2.665e-15], gap: 2.665e-15 };
+    const summary = {
+      dir: 'run',
+      manifest: {},
+      section: { axes: [{ key: 'exchange.strength', values: [1] }], zip: false },
+      rows: [{ index: 0, params: { 'exchange.strength': 1 }, status: 'done', record: { index: 0, params: { 'exchange.strength': 1 }, status: 'done', result, iterations: 1, seconds: 0.01, warm_start: false, overlap_previous: null } }],
+      counts: { total: 1, done: 1, failed: 0, pending: 0 },
+      records: 1,
+      fileBytes: 0,
+      tornBytes: 0,
+    } as unknown as ScanRunSummary;
+    const row = summaryText(summary).split('\n')[2].trim().split(/\s+/);
+    expect(row.slice(0, 5)).toEqual(['0', '1', 'done', '-3', '0']);
+    const long = longText(summary).split('\n').filter((l) => /\spopulations\s/.test(l));
+    expect(long.map((l) => l.trim().split(/\s+/).pop())).toEqual(['1', '0', '0.5', '0.5']);
   });
 
   it('counts and bounds read as English', () => {
