@@ -255,6 +255,28 @@ describe('a degenerate ground space (an even mixture): the entropy of the sites 
     if (g > 1 && L > 3) expect(sides).toEqual(new Set(['left', 'right']));
   });
 
+  it.each([
+    ['real, four-fold (periodic XX ring of 5)', { chain: { sites: 5, boundary: 'periodic' }, levels: { count: 2, tunnelling: 0 }, exchange: { strength: 1 } }],
+    [
+      'complex, two-fold (Peierls phases, 5 x 3 ring)',
+      { chain: { sites: 5, boundary: 'periodic' }, levels: { count: 3, tunnelling: [0.7, 0.4], phase: [0.9, 0.2], detuning: [0, 0.3, -0.2] }, exchange: { strength: 2.3 } },
+    ],
+  ])('solved degenerate ground spaces, %s: every cut against the dense partial trace', (_name, raw) => {
+    const solved = solvePoint(validateSpec({ ...raw, solve: { states: 6, entanglement: 'all' } }));
+    const g = solved.record.solver.degeneracy;
+    expect(g).toBeGreaterThan(1);
+    const L = raw.chain.sites;
+    const N = raw.levels.count;
+    const isComplex = solved.groundStates[0].length === 2 * N ** L;
+    const cuts = solved.record.observables.entanglement as ReturnType<typeof pinnedEntanglement>;
+    expect(cuts.map((c) => c.cut)).toEqual([1, 2, 3, 4]);
+    for (const c of cuts) {
+      const expected = entropiesFromWeights(denseLeftWeights(solved.groundStates, L, N, c.cut, isComplex));
+      expect(c.von_neumann).toBeCloseTo(expected.von_neumann, 10);
+      expect(c.renyi_2).toBeCloseTo(expected.renyi_2, 10);
+    }
+  });
+
   it('three-site XX chain, two-fold ground level -sqrt 2: cut 2 has the weights 1/8, 1/8, 3/8 +- sqrt(2)/4', () => {
     // Worked by hand: the one- and two-excitation ground states (|100> - sqrt2 |010> + |001>)/2 and
     // its particle-hole partner, averaged and traced over site 2.
