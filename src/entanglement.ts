@@ -2,12 +2,15 @@
 //
 // A cut `l` (1..L-1) splits sites 0..l-1 (left) from l..L-1 (right). With site 0 fastest in the
 // mixed-radix index, a state is the matrix psi[a + dLeft * b] with dLeft = N^l and dRight = N^(L-l):
-// left index a contiguous, right index b strided. The reduced density matrix of the smaller side
-// is that side's Gram matrix (it has the same nonzero spectrum as the other side's), so the work is
-// O(dSmall * dim) for the Gram matrix plus O(dSmall^3) for its eigenvalues.
+// left index a contiguous, right index b strided. The entropies are those of the left sites.
 //
 // A degenerate ground space enters as its average, rho = (1/g) sum_k |psi_k><psi_k|, as every
-// other observable (docs/model.md); its entropies then include the mixing.
+// other observable (docs/model.md); its entropies then include the mixing, and the two sides of a cut
+// no longer share a spectrum. Stacking the states side by side as M[a, (b, k)] = psi_k(a, b) / sqrt g
+// gives rho_left = M M^+, whose nonzero spectrum is that of the Gram matrix M^+ M over the right
+// index and the copy index k together (dimension g dRight). So the left side's spectrum comes from
+// whichever of the two is smaller: O(d * g * dim) for the matrix plus O(d^3) for its eigenvalues.
+// For a pure state (g = 1) this is the usual smaller-side shortcut.
 
 import { symmetricEigen } from './solver/symmetricEigen.js';
 import { ResourceError } from './errors.js';
@@ -25,7 +28,7 @@ export interface CutEntanglement {
 
 /** "auto" computes the half-chain cut when its smaller side is at most this dimension. */
 export const AUTO_ENTANGLEMENT_MAX_SIDE = 256;
-/** Largest smaller-side dimension computed at all: its Gram matrix and eigensolve grow as d^2 and d^3. */
+/** Largest matrix dimension (entanglementMatrixDimension) computed at all: the matrix and its eigensolve grow as d^2 and d^3. */
 export const MAX_ENTANGLEMENT_SIDE = 2048;
 /** How many entanglement energies a record keeps per cut. */
 export const DEFAULT_SPECTRUM_COUNT = 8;
@@ -60,9 +63,20 @@ export function cutsFor(request: EntanglementRequest, sites: number, levels: num
 }
 
 /**
- * The reduced density matrix of the smaller side of `cut`, averaged over `states` (each normalized,
- * real of length N^L or complex interleaved of length 2 N^L). Row-major d x d; `im` is null for
- * real states. Only meaningful for the pinned basis's mixed-radix index.
+ * Dimension of the matrix whose spectrum gives the left side's entanglement of `copies` mixed
+ * states: the left side's N^cut, or the right side's N^(L-cut) times the copies, whichever is smaller.
+ */
+export function entanglementMatrixDimension(sites: number, levels: number, cut: number, copies: number): number {
+  return Math.min(Math.pow(levels, cut), copies * Math.pow(levels, sites - cut));
+}
+
+/**
+ * A Hermitian matrix with the nonzero spectrum of the left side's reduced density matrix at `cut`,
+ * for the average of `states` (each normalized, real of length N^L or complex interleaved of length
+ * 2 N^L). `side: 'left'`: the reduced density matrix itself, over the left index. `side: 'right'`:
+ * the Gram matrix of the stacked states over the right index and the copy index (k dRight + b).
+ * Row-major d x d; `im` is null for real states. Only meaningful for the pinned basis's mixed-radix
+ * index.
  */
 export function reducedDensityMatrix(
   states: Float64Array[],
@@ -76,18 +90,19 @@ export function reducedDensityMatrix(
   }
   const dLeft = Math.pow(levels, cut);
   const dRight = Math.pow(levels, sites - cut);
-  const side = dLeft <= dRight ? 'left' : 'right';
-  const d = side === 'left' ? dLeft : dRight;
+  const copies = states.length;
+  const side = dLeft <= copies * dRight ? 'left' : 'right';
+  const d = side === 'left' ? dLeft : copies * dRight;
   const re = new Float64Array(d * d);
   const im = isComplex ? new Float64Array(d * d) : null;
-  const weight = 1 / states.length;
+  const weight = 1 / copies;
   for (const psi of states) {
     if (psi.length !== (isComplex ? 2 : 1) * dLeft * dRight) {
       throw new RangeError(`state length ${psi.length} does not match ${sites} sites x ${levels} levels`);
     }
-    if (side === 'left') accumulateLeft(psi, dLeft, dRight, weight, re, im);
-    else accumulateRight(psi, dLeft, dRight, weight, re, im);
   }
+  if (side === 'left') for (const psi of states) accumulateLeft(psi, dLeft, dRight, weight, re, im);
+  else accumulateStackedGram(states, dLeft, dRight, weight, re, im);
   // Only the upper triangle was summed; the lower one is its conjugate.
   for (let r = 0; r < d; r++) {
     for (let c = r + 1; c < d; c++) {
@@ -131,35 +146,48 @@ function accumulateLeft(psi: Float64Array, dL: number, dR: number, w: number, re
   }
 }
 
-// rho[b, b'] += w sum_a psi(a, b) conj(psi(a, b')): dot products of contiguous columns, taken in
-// blocks of a so that the columns of one block stay in cache across all pairs (b, b').
-function accumulateRight(psi: Float64Array, dL: number, dR: number, w: number, re: Float64Array, im: Float64Array | null): void {
+// G[(k, b), (k2, b2)] += w sum_a psi_k(a, b) conj(psi_k2(a, b2)): dot products of contiguous
+// columns of the stacked states (the complex conjugate of M^+ M, which has the same spectrum),
+// taken in blocks of a so that the columns of one block stay in cache across all pairs.
+function accumulateStackedGram(
+  states: Float64Array[],
+  dL: number,
+  dR: number,
+  w: number,
+  re: Float64Array,
+  im: Float64Array | null,
+): void {
   const BLOCK = 1024;
+  const d = states.length * dR;
   for (let start = 0; start < dL; start += BLOCK) {
     const end = Math.min(start + BLOCK, dL);
-    for (let b = 0; b < dR; b++) {
-      for (let b2 = b; b2 < dR; b2++) {
+    for (let c = 0; c < d; c++) {
+      const x = states[Math.floor(c / dR)];
+      const b = c % dR;
+      for (let c2 = c; c2 < d; c2++) {
+        const y = states[Math.floor(c2 / dR)];
+        const b2 = c2 % dR;
         if (!im) {
           const x0 = b * dL;
           const y0 = b2 * dL;
           let s = 0;
-          for (let a = start; a < end; a++) s += psi[x0 + a] * psi[y0 + a];
-          re[b * dR + b2] += w * s;
+          for (let a = start; a < end; a++) s += x[x0 + a] * y[y0 + a];
+          re[c * d + c2] += w * s;
         } else {
           const x0 = 2 * b * dL;
           const y0 = 2 * b2 * dL;
           let sr = 0;
           let si = 0;
           for (let a = start; a < end; a++) {
-            const xr = psi[x0 + 2 * a];
-            const xi = psi[x0 + 2 * a + 1];
-            const yr = psi[y0 + 2 * a];
-            const yi = psi[y0 + 2 * a + 1];
+            const xr = x[x0 + 2 * a];
+            const xi = x[x0 + 2 * a + 1];
+            const yr = y[y0 + 2 * a];
+            const yi = y[y0 + 2 * a + 1];
             sr += xr * yr + xi * yi;
             si += xi * yr - xr * yi;
           }
-          re[b * dR + b2] += w * sr;
-          im[b * dR + b2] += w * si;
+          re[c * d + c2] += w * sr;
+          im[c * d + c2] += w * si;
         }
       }
     }
@@ -217,10 +245,10 @@ export function pinnedEntanglement(
   spectrumCount = DEFAULT_SPECTRUM_COUNT,
 ): CutEntanglement[] {
   return cuts.map((cut) => {
-    const side = smallerSideDimension(sites, levels, cut);
-    if (side > MAX_ENTANGLEMENT_SIDE) {
+    const size = entanglementMatrixDimension(sites, levels, cut, states.length);
+    if (size > MAX_ENTANGLEMENT_SIDE) {
       throw new ResourceError(
-        `entanglement of cut ${cut}: its smaller side has ${side} states, more than the ${MAX_ENTANGLEMENT_SIDE} this computes; choose a cut nearer an end`,
+        `entanglement of cut ${cut}: its smaller side has ${size} states (the right side counted once per state of a ${states.length}-fold ground space), more than the ${MAX_ENTANGLEMENT_SIDE} this computes; choose a cut nearer an end`,
       );
     }
     const rho = reducedDensityMatrix(states, sites, levels, isComplex, cut);

@@ -725,15 +725,27 @@ export function runEvolution(plan: EvolutionPlan, options: EvolveOptions = {}): 
 // ---------------------------------------------------------------------------------------------
 // Output
 
-/** The names `evolve --json` prints, in order; ramps add ground_overlap. */
-export const TRACE_KEYS = ['populations', 'level_mean', 'spread', 'string_width', 'return_probability', 'energy', 'norm'] as const;
+/** The names `evolve --json` prints for every kind, in order; itinerant kinds add ITINERANT_TRACE_KEYS, ramps ground_overlap. */
+export const TRACE_KEYS = ['populations', 'level_mean', 'spread', 'string_width', 'pair_separation', 'return_probability', 'energy', 'norm'] as const;
 
-/** `{ name: [time]... }` over the frames: the TRACE_KEYS, and ground_overlap when any frame has it. */
+/** The observables itinerant kinds add to every recorded time (src/observables/itinerant.ts). */
+export const ITINERANT_TRACE_KEYS = [
+  'density',
+  'double_occupancy',
+  'one_body_density_matrix',
+  'one_body_density_matrix_imag',
+  'condensate_fraction',
+  'momentum_distribution',
+] as const;
+
+/** `{ name: [time]... }` over the frames: the TRACE_KEYS, the itinerant ones and ground_overlap when the frames have them. */
 export function timeFirstObservables(frames: readonly { observables: object }[]): Record<string, unknown[]> {
   const rows = frames.map((f) => f.observables as Record<string, unknown>);
   const observables: Record<string, unknown[]> = {};
   for (const key of TRACE_KEYS) observables[key] = rows.map((o) => o[key]);
-  if (rows.some((o) => o.ground_overlap !== undefined)) observables.ground_overlap = rows.map((o) => o.ground_overlap);
+  for (const key of [...ITINERANT_TRACE_KEYS, 'ground_overlap']) {
+    if (rows.some((o) => o[key] !== undefined)) observables[key] = rows.map((o) => o[key]);
+  }
   return observables;
 }
 

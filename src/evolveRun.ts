@@ -30,7 +30,7 @@ import { expandScan, formatParams, type ScanParams } from './scan.js';
 import { defaultRunDir, rungchainVersion } from './scanRunner.js';
 import { loadSpec, type Spec } from './spec.js';
 import { labUnits, describeUnits } from './units.js';
-import { csv, fmt, shellQuote, table } from './tables.js';
+import { columnScale, csv, fmt, fmtNoise, fmtSmall, plural, shellQuote, table } from './tables.js';
 
 export interface FrameRecord {
   kind: 'frame';
@@ -240,19 +240,26 @@ export function traceText(trace: Trace, energyUnitHz: number | null): string {
   const hasMs = trace.frames.some((f) => f.time_ms !== null);
   const hasOverlap = trace.frames.some((f) => f.observables.ground_overlap !== undefined);
   const header = ['t', ...(hasMs ? ['t [ms]'] : []), 'energy', ...(energyUnitHz !== null ? ['energy [Hz]'] : []), 'norm', 'return P', 'width', 'mean level', ...(hasOverlap ? ['ground overlap'] : [])];
+  // Rounding noise: energies against their own scale, probabilities against 1, widths and levels against 1 or their size.
+  const energyScale = columnScale(trace.frames.map((f) => f.observables.energy as number));
+  const meanLevel = (f: FrameRecord) => {
+    const means = f.observables.level_mean as number[];
+    return means.reduce((s, x) => s + x, 0) / means.length;
+  };
+  const widthScale = columnScale(trace.frames.map((f) => f.observables.string_width as number), 1);
+  const levelScale = columnScale(trace.frames.map(meanLevel), 1);
   const rows = trace.frames.map((f) => {
     const o = f.observables;
-    const means = o.level_mean as number[];
     return [
       fmt(f.time, 6),
       ...(hasMs ? [fmt(f.time_ms, 6)] : []),
-      fmt(o.energy as number, 9),
-      ...(energyUnitHz !== null ? [fmt((o.energy as number) * energyUnitHz, 7)] : []),
+      fmtNoise(o.energy as number, energyScale, 9),
+      ...(energyUnitHz !== null ? [fmtNoise((o.energy as number) * energyUnitHz, energyScale * energyUnitHz, 7)] : []),
       fmt(o.norm as number, 10),
-      fmt(o.return_probability as number, 6),
-      fmt(o.string_width as number, 6),
-      fmt(means.reduce((s, x) => s + x, 0) / means.length, 6),
-      ...(hasOverlap ? [fmt(o.ground_overlap as number, 6)] : []),
+      fmtNoise(o.return_probability as number, 1, 6),
+      fmtNoise(o.string_width as number, widthScale, 6),
+      fmtNoise(meanLevel(f), levelScale, 6),
+      ...(hasOverlap ? [fmtNoise(o.ground_overlap as number, 1, 6)] : []),
     ];
   });
   return table(header, rows);
@@ -262,7 +269,7 @@ export function tracesText(contents: EvolveRunContents): string {
   const spec = contents.manifest.energy_unit_hz as number | null | undefined;
   const out: string[] = [];
   for (const t of contents.traces) {
-    out.push(`point ${t.point}${contents.keys.length > 0 ? ` (${formatParams(t.params)})` : ''}: ${t.status}${t.error ? ` (${t.error})` : ''}, ${t.frames.length} times recorded`);
+    out.push(`point ${t.point}${contents.keys.length > 0 ? ` (${formatParams(t.params)})` : ''}: ${t.status}${t.error ? ` (${t.error})` : ''}, ${plural(t.frames.length, 'time')} recorded`);
     if (t.frames.length > 0) out.push(traceText(t, spec ?? null));
     out.push('');
   }
@@ -496,7 +503,7 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
           notes: result.notes,
           finished: new Date().toISOString(),
         });
-        if (mode === 'lines' && (isScan || dir !== null)) say(`${label}: done, ${result.stats.steps} steps, ${result.stats.matvecs} products, error bound ${result.stats.error_bound.toExponential(1)}`);
+        if (mode === 'lines' && (isScan || dir !== null)) say(`${label}: done, ${plural(result.stats.steps, 'step')}, ${plural(result.stats.matvecs, 'product')}, error bound ${fmtSmall(result.stats.error_bound, 1)}`);
       } catch (e) {
         if (!isScan && !isRungchainError(e)) throw e;
         if (!isScan) {

@@ -16,6 +16,8 @@ export interface FitOptions {
   terms?: number;
   /** One uncertainty per point (all positive), or none for equal weights. */
   sigmas?: (number | null | undefined)[];
+  /** A value the quantity never goes below (0 for a gap): an extrapolation below it is reported as it. */
+  lowerBound?: number;
 }
 
 export interface FitResult {
@@ -29,8 +31,10 @@ export interface FitResult {
   coefficients: number[];
   /** Standard errors of the coefficients; null when there are no more points than coefficients. */
   errors: (number | null)[];
-  /** a0: the fitted value at infinite size. */
+  /** a0: the fitted value at infinite size (the lower bound when a0 fell below it, see `bounded`). */
   extrapolated: number;
+  /** True when a0 fell below the quantity's lower bound and `extrapolated` is that bound (a0 stays in `coefficients`). */
+  bounded: boolean;
   extrapolated_error: number | null;
   /** y_i - fit(x_i), in the order of `sizes`. */
   residuals: number[];
@@ -83,6 +87,8 @@ export function finiteSizeFit(sizes: number[], values: number[], options: FitOpt
   if (sigmas) errors = coefficients.map((_, k) => Math.sqrt(covariance.get(k, k)));
   else if (dof > 0) errors = coefficients.map((_, k) => Math.sqrt((covariance.get(k, k) * chi2) / dof));
   else errors = coefficients.map(() => null);
+  // A gap extrapolated below zero says the gap closes, not that it turns negative.
+  const bounded = options.lowerBound !== undefined && coefficients[0] < options.lowerBound;
   return {
     power,
     terms,
@@ -91,7 +97,8 @@ export function finiteSizeFit(sizes: number[], values: number[], options: FitOpt
     sigmas,
     coefficients,
     errors,
-    extrapolated: coefficients[0],
+    extrapolated: bounded ? (options.lowerBound as number) : coefficients[0],
+    bounded,
     extrapolated_error: errors[0],
     residuals,
     chi2,

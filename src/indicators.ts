@@ -19,6 +19,12 @@ export interface Peak {
   uncertainty: number;
   /** True when the extremum is the first or last grid point: the true peak may lie outside the scan. */
   at_edge: boolean;
+  /**
+   * True when position and value are the parabola's vertex; false when they are the extremal grid
+   * point itself (at the edge, on a flat stretch, or when the vertex would leave its bracketing
+   * points or fall below the quantity's lower bound, e.g. a negative gap).
+   */
+  refined: boolean;
 }
 
 export interface Curve {
@@ -51,17 +57,26 @@ export function cleanCurve(x: ArrayLike<number>, y: ArrayLike<number | null | un
 /**
  * The extremum of a curve sampled on an ascending grid, refined by the parabola through the
  * extremal sample and its two neighbours (common practice). `max_abs` looks for the largest |y|.
+ * `lowerBound` is a value the quantity never goes below (0 for a gap): a parabola whose vertex would
+ * dip below it (a kink such as a level crossing is no parabola) is not used, and the grid point is
+ * reported instead, marked `refined: false`.
  */
-export function findPeak(x: ArrayLike<number>, y: ArrayLike<number>, extremum: 'min' | 'max' | 'max_abs' = 'max'): Peak | null {
+export function findPeak(
+  x: ArrayLike<number>,
+  y: ArrayLike<number>,
+  extremum: 'min' | 'max' | 'max_abs' = 'max',
+  options: { lowerBound?: number } = {},
+): Peak | null {
   const n = Math.min(x.length, y.length);
   if (n === 0) return null;
+  const bound = options.lowerBound ?? -Infinity;
   const score = (k: number) => (extremum === 'min' ? -y[k] : extremum === 'max_abs' ? Math.abs(y[k]) : y[k]);
   let best = 0;
   for (let k = 1; k < n; k++) if (score(k) > score(best)) best = k;
-  if (n === 1) return { position: x[0], value: y[0], uncertainty: 0, at_edge: true };
+  if (n === 1) return { position: x[0], value: Math.max(y[0], bound), uncertainty: 0, at_edge: true, refined: false };
   if (best === 0 || best === n - 1) {
     const neighbour = best === 0 ? 1 : n - 2;
-    return { position: x[best], value: y[best], uncertainty: Math.abs(x[best] - x[neighbour]), at_edge: true };
+    return { position: x[best], value: Math.max(y[best], bound), uncertainty: Math.abs(x[best] - x[neighbour]), at_edge: true, refined: false };
   }
   const x0 = x[best - 1];
   const x1 = x[best];
@@ -70,16 +85,19 @@ export function findPeak(x: ArrayLike<number>, y: ArrayLike<number>, extremum: '
   const y1 = y[best];
   const y2 = y[best + 1];
   const uncertainty = (x2 - x0) / 4;
+  const gridPoint: Peak = { position: x1, value: Math.max(y1, bound), uncertainty, at_edge: false, refined: false };
   // Parabola through three points on a possibly uneven grid, in divided differences.
   const d01 = (y1 - y0) / (x1 - x0);
   const d12 = (y2 - y1) / (x2 - x1);
   const a = (d12 - d01) / (x2 - x0);
-  if (a === 0 || !Number.isFinite(a)) return { position: x1, value: y1, uncertainty, at_edge: false };
+  if (a === 0 || !Number.isFinite(a)) return gridPoint;
   const b = d01 - a * (x0 + x1);
-  let vertex = -b / (2 * a);
-  // The vertex of the parabola through an interior extremum lies between the neighbours; clamp against rounding.
-  vertex = Math.min(Math.max(vertex, x0), x2);
-  return { position: vertex, value: quadraticAt(x0, x1, x2, y0, y1, y2, vertex), uncertainty, at_edge: false };
+  const vertex = -b / (2 * a);
+  // For an interior extremum the vertex lies between the neighbours; only rounding puts it outside.
+  if (!(vertex >= x0 && vertex <= x2)) return gridPoint;
+  const value = quadraticAt(x0, x1, x2, y0, y1, y2, vertex);
+  if (!(value >= bound)) return gridPoint;
+  return { position: vertex, value, uncertainty, at_edge: false, refined: true };
 }
 
 function quadraticAt(x0: number, x1: number, x2: number, y0: number, y1: number, y2: number, t: number): number {
@@ -168,13 +186,14 @@ export function transitionIndicators(line: ScanLine): Indicator[] {
   const pick = <T>(values: T[] | undefined) => (values ? order.map((k) => values[k]) : undefined);
   const x = order.map((k) => line.x[k]);
   const out: Indicator[] = [];
-  const add = (name: IndicatorName, label: string, extremum: Indicator['extremum'], curve: Curve) => {
+  const add = (name: IndicatorName, label: string, extremum: Indicator['extremum'], curve: Curve, lowerBound?: number) => {
     if (curve.x.length === 0) return;
-    out.push({ name, label, extremum, ...curve, peak: findPeak(curve.x, curve.y, extremum) });
+    out.push({ name, label, extremum, ...curve, peak: findPeak(curve.x, curve.y, extremum, { lowerBound }) });
   };
 
   const gap = pick(line.gap);
-  if (gap) add('gap', 'gap E1 - E0', 'min', cleanCurve(x, gap));
+  // E1 >= E0: a gap is never negative.
+  if (gap) add('gap', 'gap E1 - E0', 'min', cleanCurve(x, gap), 0);
 
   const overlaps = line.overlapPrevious;
   if (overlaps) {

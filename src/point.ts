@@ -265,7 +265,8 @@ function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, o
       sites: model.sites,
       levels: model.levels,
       operator: 'stored',
-      nonzeros: 0,
+      // Every sector's matrix that was built (a copy k <-> -k is not built twice).
+      nonzeros: solution.runs.reduce((sum, run) => sum + run.nonzeros, 0),
     },
     solver: {
       method: solution.method,

@@ -794,7 +794,7 @@ export function renderReport(input: ReportInput): string {
           x: scaleX(peak.position),
           y: peak.value * yScale,
           xErr: peak.uncertainty * (xAxis.scale),
-          label: `${lineName(l.fixed)}: ${first.extremum === 'min' ? 'minimum' : 'peak'} at ${fmt(scaleX(peak.position), 5)} ± ${fmt(peak.uncertainty * xAxis.scale, 2)}${peak.at_edge ? ' (at the end of the scan)' : ''}`,
+          label: `${lineName(l.fixed)}: ${first.extremum === 'min' ? 'minimum' : 'peak'} at ${fmt(scaleX(peak.position), 5)} ± ${fmt(peak.uncertainty * xAxis.scale, 2)}${peak.at_edge ? ' (at the end of the scan)' : peak.refined ? '' : ' (the grid point: no parabola fits there)'}`,
           style: k,
           hollow: peak.at_edge,
         }];
@@ -813,7 +813,7 @@ export function renderReport(input: ReportInput): string {
       .slice(0, MAX_TABLE_ROWS)
       .map((l) => `<tr><td>${esc(lineName(l.fixed))}</td>${kinds.map((k) => {
         const p = l.indicators.find((i) => i.name === k)?.peak;
-        return `<td>${p ? `${esc(fmt(scaleX(p.position), 5))} ± ${esc(fmt(p.uncertainty * xAxis.scale, 2))}${p.at_edge ? ' (edge)' : ''}` : '-'}</td>`;
+        return `<td>${p ? `${esc(fmt(scaleX(p.position), 5))} ± ${esc(fmt(p.uncertainty * xAxis.scale, 2))}${p.at_edge ? ' (edge)' : p.refined ? '' : ' (grid)'}` : '-'}</td>`;
       }).join('')}</tr>`)
       .join('')}</table>${cutNote(Math.min(MAX_TABLE_ROWS, analysis.lines.length), analysis.lines.length)}`;
     sections.push(

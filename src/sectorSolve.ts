@@ -31,6 +31,8 @@ export interface SectorRun {
   /** True when only the sector's lowest state was needed to show it adds nothing below the answer. */
   screened: boolean;
   copies: SectorLabel[];
+  /** Stored elements of the sector's matrix. */
+  nonzeros: number;
 }
 
 export interface SectorSolution {
@@ -337,7 +339,7 @@ function solveSector(
         shared.publish([next.values[0]], plan.copies.length);
       }
       if (energies.length === 0) {
-        const run = { label: plan.label, dimension: sector.dim, method: 'lanczos' as const, iterations: matvecs, lowest: screenedAt, screened: true, copies: plan.copies };
+        const run = { label: plan.label, dimension: sector.dim, method: 'lanczos' as const, iterations: matvecs, lowest: screenedAt, screened: true, copies: plan.copies, nonzeros: stored.nonzeros() };
         return { run, states: { plan: index, energies: [], residuals: [], vectors: [], complex: isComplex }, matvecs, restarts, converged: true };
       }
     } else {
@@ -352,7 +354,7 @@ function solveSector(
       shared.publish(energies, plan.copies.length);
     }
     const bounds = shared.bounds();
-    const run = { label: plan.label, dimension: sector.dim, method, iterations: matvecs, lowest: energies[0], screened: false, copies: plan.copies };
+    const run = { label: plan.label, dimension: sector.dim, method, iterations: matvecs, lowest: energies[0], screened: false, copies: plan.copies, nonzeros: stored.nonzeros() };
     return {
       run,
       states: {

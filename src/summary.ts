@@ -7,7 +7,7 @@ import { lockIsStale, readLock, readRun, type LockInfo, type RunManifest } from 
 import { paramsOf, type ScanParams, type ScanSection, type ScanValue } from './scan.js';
 import type { ScanRecord } from './scanTask.js';
 import { latestRecords } from './scanRunner.js';
-import { csv, fmt, table } from './tables.js';
+import { columnScale, csv, fmt, fmtNoise, table } from './tables.js';
 import { formatBytes } from './resources.js';
 
 export interface SummaryRow {
@@ -175,9 +175,13 @@ export function longCsv(summary: ScanRunSummary): string {
 
 export function longText(summary: ScanRunSummary): string {
   const keys = paramKeys(summary);
+  const rows = longRows(summary);
+  // Each observable's rounding noise is measured against 1 (probabilities, levels) or its largest value.
+  const scales = new Map<string, number>();
+  for (const r of rows) scales.set(r.observable, Math.max(scales.get(r.observable) ?? 1, Math.abs(r.value)));
   return table(
     ['point', ...keys, 'observable', 'site', 'level', 'other site', 'value'],
-    longRows(summary).map((r) => [String(r.index), ...keys.map((k) => showValue(r.params[k])), r.observable, String(r.site), r.level === null ? '' : String(r.level), r.other_site === null ? '' : String(r.other_site), fmt(r.value, 8)]),
+    rows.map((r) => [String(r.index), ...keys.map((k) => showValue(r.params[k])), r.observable, String(r.site), r.level === null ? '' : String(r.level), r.other_site === null ? '' : String(r.other_site), fmtNoise(r.value, scales.get(r.observable)!, 8)]),
   );
 }
 
@@ -191,6 +195,9 @@ function showValue(v: ScanValue | undefined): string {
 
 export function summaryText(summary: ScanRunSummary): string {
   const keys = paramKeys(summary);
+  // Energies and gaps are rounding noise below the energies' scale; widths below 1 or their own.
+  const energyScale = columnScale(summary.rows.map((row) => row.record?.result?.energies[0]));
+  const widthScale = columnScale(summary.rows.map((row) => row.record?.result?.observables.string_width), 1);
   const rows = summary.rows.map((row) => {
     const r = row.record;
     const res = r?.result;
@@ -198,9 +205,9 @@ export function summaryText(summary: ScanRunSummary): string {
       String(row.index),
       ...keys.map((k) => showValue(row.params[k])),
       row.status + (res && !res.solver.converged ? ' (not converged)' : ''),
-      res ? fmt(res.energies[0], 10) : '',
-      res ? fmt(res.gap, 6) : '',
-      res ? fmt(res.observables.string_width, 6) : '',
+      res ? fmtNoise(res.energies[0], energyScale, 10) : '',
+      res ? fmtNoise(res.gap, energyScale, 6) : '',
+      res ? fmtNoise(res.observables.string_width, widthScale, 6) : '',
       res ? String(res.basis.dimension) : '',
       r && r.status === 'done' ? `${r.iterations}${r.warm_start ? ' w' : ''}` : '',
       r ? fmt(r.seconds, 3) : '',

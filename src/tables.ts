@@ -10,6 +10,36 @@ export function fmt(x: number | null | undefined, digits = 10): string {
   return Number(x.toPrecision(digits)).toString();
 }
 
+/**
+ * A value at most this fraction of its column's scale (its largest magnitude, or the natural scale of
+ * the quantity) is rounding noise of double arithmetic, not a value: readable tables print it as 0.
+ * JSON and CSV keep every number as computed.
+ */
+export const ROUNDING_ZERO = 1e-12;
+
+/** The largest finite magnitude among the values (0 when there is none). */
+export function columnScale(values: Iterable<number | null | undefined>, atLeast = 0): number {
+  let scale = atLeast;
+  for (const v of values) if (typeof v === 'number' && Number.isFinite(v)) scale = Math.max(scale, Math.abs(v));
+  return scale;
+}
+
+/** fmt, but 0 for a value that is rounding noise against `scale` (see ROUNDING_ZERO). */
+export function fmtNoise(x: number | null | undefined, scale: number, digits = 10): string {
+  if (typeof x === 'number' && Math.abs(x) <= ROUNDING_ZERO * scale) return '0';
+  return fmt(x, digits);
+}
+
+/** "1 step", "2 steps". */
+export function plural(count: number, word: string, many = `${word}s`): string {
+  return `${count} ${count === 1 ? word : many}`;
+}
+
+/** A small positive bound or residual in exponent form; exactly zero as 0. */
+export function fmtSmall(x: number, digits = 2): string {
+  return x === 0 ? '0' : x.toExponential(digits);
+}
+
 /** One CSV field: empty for null, quoted when it holds a comma, a quote or a line break (RFC 4180). */
 export function csvCell(value: unknown): string {
   if (value === null || value === undefined) return '';
@@ -53,11 +83,20 @@ export function describePlan(plan: PointPlan, limit: number): string {
   return lines.join('\n');
 }
 
+/** How tables write a quantum number of a symmetry the model does not have. */
+export const NOT_APPLICABLE = 'n/a';
+
+/** A +1 / -1 quantum number as the JSON has it, or n/a. */
+function sign(value: number | null): string {
+  if (value === null) return NOT_APPLICABLE;
+  return value > 0 ? '+1' : '-1';
+}
+
 export function describeRecord(r: PointRecord): string {
   const out: string[] = [];
   out.push(
     `${r.basis.kind} chain: ${r.basis.sites} sites x ${r.basis.levels} levels, dimension ${r.basis.dimension}, ` +
-      `${r.solver.method} (${r.solver.iterations} products, ${fmt(r.solver.seconds, 3)} s)` +
+      `${r.solver.method} (${plural(r.solver.iterations, 'product')}, ${fmt(r.solver.seconds, 3)} s)` +
       (r.solver.converged ? '' : '  NOT CONVERGED'),
   );
   out.push('');
@@ -65,16 +104,21 @@ export function describeRecord(r: PointRecord): string {
   const quantum = (k: number) => {
     const l = labels?.[k];
     if (!l) return [];
-    return [l.momentum === null ? '-' : `${l.momentum}`, l.parity === null ? '-' : l.parity > 0 ? '+' : '-1', l.level_flip === null ? '-' : l.level_flip > 0 ? '+' : '-1', l.charge === null ? '-' : String(l.charge)];
+    return [l.momentum === null ? NOT_APPLICABLE : `${l.momentum}`, sign(l.parity), sign(l.level_flip), l.charge === null ? NOT_APPLICABLE : String(l.charge)];
   };
+  // Differences of energies are rounding noise below the energies' own scale.
+  const energyScale = columnScale(r.energies);
   out.push(
     table(
       ['state', 'energy', 'E - E0', 'residual', ...(labels ? ['k (2pi/L)', 'parity', 'flip', 'charge'] : [])],
-      r.energies.map((e, k) => [String(k), fmt(e, 12), fmt(e - r.energies[0], 8), r.solver.residuals[k].toExponential(1), ...quantum(k)]),
+      r.energies.map((e, k) => [String(k), fmtNoise(e, energyScale, 12), fmtNoise(e - r.energies[0], energyScale, 8), fmtSmall(r.solver.residuals[k], 1), ...quantum(k)]),
     ),
   );
+  if (labels?.some((l) => l.momentum === null || l.parity === null || l.level_flip === null || l.charge === null)) {
+    out.push(`(${NOT_APPLICABLE}: the model has no such symmetry)`);
+  }
   out.push('');
-  out.push(`gap ${fmt(r.gap)}   ground-state degeneracy ${r.solver.degeneracy}   string width ${fmt(r.observables.string_width, 8)}`);
+  out.push(`gap ${fmtNoise(r.gap, energyScale)}   ground-state degeneracy ${r.solver.degeneracy}   string width ${fmtNoise(r.observables.string_width, 1, 8)}`);
   const cuts = r.observables.entanglement as { cut: number; von_neumann: number; renyi_2: number }[] | undefined;
   for (const c of cuts ?? []) {
     out.push(`entanglement of sites 0..${c.cut - 1} with the rest: von Neumann ${fmt(c.von_neumann, 8)}, Renyi-2 ${fmt(c.renyi_2, 8)}`);
@@ -96,12 +140,16 @@ export function describeRecord(r: PointRecord): string {
     'spread',
     ...(itinerant ? ['density', 'pairs'] : []),
   ];
+  // Probabilities and moments of levels: rounding noise is measured against 1 or the column's size.
+  const meanScale = columnScale(r.observables.level_mean, 1);
+  const spreadScale = columnScale(r.observables.spread, 1);
+  const densityScale = itinerant ? columnScale(o.density!, 1) : 1;
   const rows = r.observables.populations.map((p, i) => [
     String(i),
-    ...p.map((q) => fmt(q, 6)),
-    fmt(r.observables.level_mean[i], 6),
-    fmt(r.observables.spread[i], 6),
-    ...(itinerant ? [fmt(o.density![i], 6), fmt(o.double_occupancy![i], 6)] : []),
+    ...p.map((q) => fmtNoise(q, 1, 6)),
+    fmtNoise(r.observables.level_mean[i], meanScale, 6),
+    fmtNoise(r.observables.spread[i], spreadScale, 6),
+    ...(itinerant ? [fmtNoise(o.density![i], densityScale, 6), fmtNoise(o.double_occupancy![i], densityScale, 6)] : []),
   ]);
   out.push(table(header, rows));
   if (itinerant) {

@@ -11,7 +11,7 @@ import { transitionIndicators, type Indicator, type IndicatorName, type Peak } f
 import type { PointRecord } from './point.js';
 import type { ScanParams, ScanValue } from './scan.js';
 import type { ScanRunSummary } from './summary.js';
-import { fmt, table } from './tables.js';
+import { columnScale, csv, fmt, fmtNoise, table } from './tables.js';
 
 export interface AnalysisPoint {
   index: number;
@@ -256,7 +256,8 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
           .map((p) => ({ size: p.params[size] as number, value: observableValue(p.record!, name) }))
           .filter((u): u is { size: number; value: number } => typeof u.value === 'number' && Number.isFinite(u.value));
         if (new Set(usable.map((u) => u.size)).size < Math.max(2, terms)) continue;
-        const fit = finiteSizeFit(usable.map((u) => u.size), usable.map((u) => u.value), { power, terms });
+        // E1 >= E0: a gap is never negative.
+        const fit = finiteSizeFit(usable.map((u) => u.size), usable.map((u) => u.value), { power, terms, lowerBound: name === 'gap' ? 0 : undefined });
         observableFits.push({ observable: name, size, fixed: pick(group[0].params, fixedKeys), fit });
       }
     }
@@ -276,9 +277,12 @@ function showParams(params: ScanParams): string {
   return entries.map(([k, v]) => `${k}=${typeof v === 'number' ? fmt(v, 6) : String(v)}`).join(' ');
 }
 
-function showPeak(peak: Peak | null): string {
+function showPeak(indicator: Indicator | undefined): string {
+  const peak = indicator?.peak;
   if (!peak) return '-';
-  return `${fmt(peak.position, 5)} ± ${fmt(peak.uncertainty, 2)}${peak.at_edge ? ' *' : ''}`;
+  // A position at rounding distance from 0 on the parameter's scale is 0.
+  const position = fmtNoise(peak.position, columnScale(indicator.x), 5);
+  return `${position} ± ${fmt(peak.uncertainty, 2)}${peak.at_edge ? ' *' : peak.refined ? '' : ' (grid)'}`;
 }
 
 const INDICATOR_COLUMNS: { name: IndicatorName; title: string }[] = [
@@ -291,18 +295,20 @@ const INDICATOR_COLUMNS: { name: IndicatorName; title: string }[] = [
 export function analysisText(analysis: ScanAnalysis): string {
   const out: string[] = [];
   if (analysis.parameter !== null && analysis.lines.length > 0) {
-    out.push(`transition indicators along ${analysis.parameter}: peak position ± half the grid spacing (* at the end of the scan: the peak may lie beyond it)`);
+    out.push(
+      `transition indicators along ${analysis.parameter}: peak position ± half the grid spacing (* at the end of the scan: the peak may lie beyond it; (grid): the grid point, where a parabola does not fit the peak)`,
+    );
     const present = INDICATOR_COLUMNS.filter((c) => analysis.lines.some((l) => l.indicators.some((i) => i.name === c.name)));
     out.push(
       table(
         ['line', ...present.map((c) => c.title)],
-        analysis.lines.map((l) => [showParams(l.fixed), ...present.map((c) => showPeak(l.indicators.find((i) => i.name === c.name)?.peak ?? null))]),
+        analysis.lines.map((l) => [showParams(l.fixed), ...present.map((c) => showPeak(l.indicators.find((i) => i.name === c.name)))]),
       ),
     );
   }
   const fitRows = (fit: FitResult) => [
     fit.sizes.join(','),
-    `${fmt(fit.extrapolated, 7)} ± ${fit.extrapolated_error === null ? '?' : fmt(fit.extrapolated_error, 2)}`,
+    `${fmt(fit.extrapolated, 7)} ± ${fit.extrapolated_error === null ? '?' : fmt(fit.extrapolated_error, 2)}${fit.bounded ? ` (fit ${fmt(fit.coefficients[0], 3)})` : ''}`,
     fit.coefficients.slice(1).map((c) => fmt(c, 5)).join(', '),
     fit.residuals.map((r) => fmt(r, 2)).join(', '),
     fit.dof > 0 ? fmt(fit.chi2 / fit.dof, 3) : '-',
@@ -332,6 +338,51 @@ export function analysisText(analysis: ScanAnalysis): string {
   const notes = out.length > 0 ? analysis.notes : analysis.notes.filter((n) => !n.startsWith('no numeric parameter'));
   for (const note of notes) out.push(`note: ${note}`);
   return out.join('\n');
+}
+
+/**
+ * The analysis as one tidy CSV table, one row per result: `kind` is `peak` (an indicator's extremum
+ * on one line), `peak_fit` (peak positions against 1/size^p) or `observable_fit`; the scanned axes
+ * hold the values a row is taken at (empty where the row spans the axis); the remaining columns are
+ * empty where they do not apply. Coefficients, sizes and residuals are `;`-separated lists.
+ */
+export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string {
+  const header = [
+    'kind',
+    ...axisKeys,
+    'name',
+    'size_axis',
+    'position',
+    'value',
+    'uncertainty',
+    'at_edge',
+    'refined',
+    'extrapolated',
+    'extrapolated_error',
+    'bounded',
+    'coefficients',
+    'sizes',
+    'residuals',
+    'chi2',
+    'dof',
+  ];
+  const list = (values: number[]) => values.join(';');
+  const rows: unknown[][] = [];
+  for (const line of analysis.lines) {
+    for (const indicator of line.indicators) {
+      const p = indicator.peak;
+      if (!p) continue;
+      rows.push(['peak', ...axisKeys.map((k) => line.fixed[k]), indicator.name, null, p.position, p.value, p.uncertainty, p.at_edge, p.refined, ...new Array(8).fill(null)]);
+    }
+  }
+  const fitCells = (fit: FitResult) => [fit.extrapolated, fit.extrapolated_error, fit.bounded, list(fit.coefficients), list(fit.sizes), list(fit.residuals), fit.chi2, fit.dof];
+  for (const f of analysis.peak_fits) {
+    rows.push(['peak_fit', ...axisKeys.map((k) => f.fixed[k]), f.indicator, f.size, null, null, null, null, null, ...fitCells(f.fit)]);
+  }
+  for (const f of analysis.observable_fits) {
+    rows.push(['observable_fit', ...axisKeys.map((k) => f.fixed[k]), f.observable, f.size, null, null, null, null, null, ...fitCells(f.fit)]);
+  }
+  return csv(header, rows);
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -3,7 +3,7 @@ import { EigenvalueDecomposition, Matrix, SingularValueDecomposition } from 'ml-
 import { entropiesFromWeights, pinnedEntanglement, reducedDensityMatrix, cutsFor } from '../src/entanglement.js';
 import { solvePoint } from '../src/point.js';
 import { validateSpec } from '../src/spec.js';
-import { clean, randomPinnedSpec } from './support/random.js';
+import { clean, randomPinnedSpec, rng } from './support/random.js';
 
 /**
  * Free-fermion reference (Peschel, J. Phys. A 36, L205 (2003)): for a Slater determinant the
@@ -181,5 +181,124 @@ describe('textbook states', () => {
     expect(cutsFor('all', 4, 3)).toEqual([1, 2, 3]);
     expect(cutsFor([3, 1, 3], 6, 3)).toEqual([1, 3]);
     expect(cutsFor('none', 6, 3)).toEqual([]);
+  });
+});
+
+/**
+ * The left block's reduced density matrix of the even mixture of `states`, by the definition
+ * rho[a, a'] = (1/g) sum_k sum_b psi_k(a, b) conj(psi_k(a', b)) with index a + dL b, and its
+ * eigenvalues from ml-matrix (a complex Hermitian R + iI through the real symmetric [[R, -I], [I, R]],
+ * each eigenvalue twice; common practice).
+ */
+function denseLeftWeights(states: Float64Array[], L: number, N: number, cut: number, isComplex: boolean): number[] {
+  const dL = N ** cut;
+  const dR = N ** (L - cut);
+  const R = Matrix.zeros(dL, dL);
+  const I = Matrix.zeros(dL, dL);
+  for (const psi of states) {
+    const amp = (i: number): [number, number] => (isComplex ? [psi[2 * i], psi[2 * i + 1]] : [psi[i], 0]);
+    for (let a = 0; a < dL; a++)
+      for (let a2 = 0; a2 < dL; a2++)
+        for (let b = 0; b < dR; b++) {
+          const [xr, xi] = amp(a + dL * b);
+          const [yr, yi] = amp(a2 + dL * b);
+          R.set(a, a2, R.get(a, a2) + (xr * yr + xi * yi) / states.length);
+          I.set(a, a2, I.get(a, a2) + (xi * yr - xr * yi) / states.length);
+        }
+  }
+  const big = Matrix.zeros(2 * dL, 2 * dL);
+  for (let a = 0; a < dL; a++)
+    for (let a2 = 0; a2 < dL; a2++) {
+      big.set(a, a2, R.get(a, a2));
+      big.set(a + dL, a2 + dL, R.get(a, a2));
+      big.set(a, a2 + dL, -I.get(a, a2));
+      big.set(a + dL, a2, I.get(a, a2));
+    }
+  const doubled = new EigenvalueDecomposition(big, { assumeSymmetric: true }).realEigenvalues.sort((x, y) => y - x);
+  return doubled.filter((_, k) => k % 2 === 0);
+}
+
+function randomStates(seed: number, count: number, dim: number, isComplex: boolean): Float64Array[] {
+  const r = rng(seed);
+  return Array.from({ length: count }, () => {
+    const psi = Float64Array.from({ length: (isComplex ? 2 : 1) * dim }, () => r() - 0.5);
+    const norm = Math.hypot(...psi);
+    return psi.map((x) => x / norm);
+  });
+}
+
+describe('a degenerate ground space (an even mixture): the entropy of the sites left of every cut', () => {
+  // Random mixtures of g states against the dense partial trace: cuts where the left side is the
+  // smaller, where the right side is smaller but the right side times g is not, and where the right
+  // side's Gram matrix with the copy index is the cheaper one.
+  it.each([
+    [1, 3, 2, 2, false],
+    [2, 3, 2, 2, true],
+    [3, 4, 2, 3, false],
+    [4, 4, 2, 3, true],
+    [5, 4, 3, 2, false],
+    [6, 4, 3, 2, true],
+    [7, 5, 2, 4, true],
+    [8, 5, 2, 1, true],
+  ])('seed %i: L = %i, N = %i, g = %i, complex %s', (seed, L, N, g, isComplex) => {
+    const states = randomStates(seed, g, N ** L, isComplex);
+    const sides = new Set<string>();
+    for (let cut = 1; cut < L; cut++) {
+      sides.add(reducedDensityMatrix(states, L, N, isComplex, cut).side);
+      const [got] = pinnedEntanglement(states, L, N, isComplex, [cut], 64);
+      const expected = entropiesFromWeights(denseLeftWeights(states, L, N, cut, isComplex), 64);
+      expect(got.von_neumann).toBeCloseTo(expected.von_neumann, 12);
+      expect(got.renyi_2).toBeCloseTo(expected.renyi_2, 12);
+      expect(got.spectrum.length).toBe(expected.spectrum.length);
+      expected.spectrum.forEach((e, k) => expect(got.spectrum[k]).toBeCloseTo(e, 9));
+    }
+    if (g > 1 && L > 3) expect(sides).toEqual(new Set(['left', 'right']));
+  });
+
+  it.each([
+    ['real, four-fold (periodic XX ring of 5)', { chain: { sites: 5, boundary: 'periodic' }, levels: { count: 2, tunnelling: 0 }, exchange: { strength: 1 } }],
+    [
+      'complex, two-fold (Peierls phases, 5 x 3 ring)',
+      { chain: { sites: 5, boundary: 'periodic' }, levels: { count: 3, tunnelling: [0.7, 0.4], phase: [0.9, 0.2], detuning: [0, 0.3, -0.2] }, exchange: { strength: 2.3 } },
+    ],
+  ])('solved degenerate ground spaces, %s: every cut against the dense partial trace', (_name, raw) => {
+    const solved = solvePoint(validateSpec({ ...raw, solve: { states: 6, entanglement: 'all' } }));
+    const g = solved.record.solver.degeneracy;
+    expect(g).toBeGreaterThan(1);
+    const L = raw.chain.sites;
+    const N = raw.levels.count;
+    const isComplex = solved.groundStates[0].length === 2 * N ** L;
+    const cuts = solved.record.observables.entanglement as ReturnType<typeof pinnedEntanglement>;
+    expect(cuts.map((c) => c.cut)).toEqual([1, 2, 3, 4]);
+    for (const c of cuts) {
+      const expected = entropiesFromWeights(denseLeftWeights(solved.groundStates, L, N, c.cut, isComplex));
+      expect(c.von_neumann).toBeCloseTo(expected.von_neumann, 10);
+      expect(c.renyi_2).toBeCloseTo(expected.renyi_2, 10);
+    }
+  });
+
+  it('three-site XX chain, two-fold ground level -sqrt 2: cut 2 has the weights 1/8, 1/8, 3/8 +- sqrt(2)/4', () => {
+    // Worked by hand: the one- and two-excitation ground states (|100> - sqrt2 |010> + |001>)/2 and
+    // its particle-hole partner, averaged and traced over site 2.
+    const spec = validateSpec({
+      chain: { sites: 3 },
+      levels: { count: 2, tunnelling: 0 },
+      exchange: { strength: 1 },
+      solve: { entanglement: 'all' },
+    });
+    const { record } = solvePoint(spec);
+    expect(record.solver.degeneracy).toBe(2);
+    const [cut1, cut2] = record.observables.entanglement as ReturnType<typeof pinnedEntanglement>;
+    // Cut 1: site 0 alone is in either level with probability 1/2.
+    expect(cut1.von_neumann).toBeCloseTo(Math.LN2, 12);
+    const weights = [3 / 8 + Math.SQRT2 / 4, 1 / 8, 1 / 8, 3 / 8 - Math.SQRT2 / 4];
+    const expected = entropiesFromWeights(weights);
+    expect(cut2.cut).toBe(2);
+    expect(cut2.von_neumann).toBeCloseTo(0.832991, 6);
+    expect(cut2.von_neumann).toBeCloseTo(expected.von_neumann, 12);
+    expect(cut2.renyi_2).toBeCloseTo(0.575364, 6);
+    expect(cut2.renyi_2).toBeCloseTo(expected.renyi_2, 12);
+    expect(cut2.spectrum.length).toBe(4);
+    expected.spectrum.forEach((e, k) => expect(cut2.spectrum[k]).toBeCloseTo(e, 10));
   });
 });

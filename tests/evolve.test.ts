@@ -6,6 +6,7 @@ import { validateSpec } from '../src/spec.js';
 import { densePinnedHamiltonian } from './support/reference.js';
 import { clean, randomPinnedSpec, rng } from './support/random.js';
 import { complexDistance, complexOverlapSquared, denseEvolver } from './support/dense-evolution.js';
+import { denseFockHamiltonian, key, randomItinerantSpec } from './support/fock-reference.js';
 
 interface Traced extends EvolutionResult {
   states: Float64Array[];
@@ -291,6 +292,87 @@ describe('itinerant particles', () => {
       expect(g.return_probability).toBeCloseTo(f.observables.return_probability, 9);
       expect(g.string_width).toBeCloseTo(f.observables.string_width, 9);
       f.observables.populations.forEach((row, i) => row.forEach((p, n) => expect(g.populations[i][n]).toBeCloseTo(p, 9)));
+    });
+  });
+});
+
+describe('every recorded observable reaches the time-first JSON (evolve --json, trace --json), against dense evolution', () => {
+  // Diagonal observables from the basis-state probabilities of the dense state exp(-i H t) psi(0)
+  // (ml-matrix eigendecomposition), by the definitions of MODEL.md and src/observables/itinerant.ts.
+  const probabilities = (psi: Float64Array) => Array.from({ length: psi.length / 2 }, (_, s) => psi[2 * s] ** 2 + psi[2 * s + 1] ** 2);
+
+  it('pinned: pair_separation <(n_i - n_j)^2> at every time', () => {
+    const L = 3;
+    const N = 3;
+    const base = clean(randomPinnedSpec(31, L, N));
+    const r = trace({
+      ...base,
+      evolve: { initial: { levels: [0, 2, 1], pulses: [{ between: [0, 1], area: 1.3, phase: 0.2 }] }, times: { from: 0, to: 3, steps: 6 }, tolerance: 1e-10 },
+    });
+    const json = traceJson(r);
+    const dense = denseEvolver(densePinnedHamiltonian(validateSpec(clean(base))));
+    expect(json.observables.pair_separation).toHaveLength(r.times.length);
+    r.times.forEach((t, k) => {
+      const p = probabilities(dense.evolve(r.states[0], t));
+      const got = json.observables.pair_separation[k] as number[][];
+      for (let i = 0; i < L; i++)
+        for (let j = 0; j < L; j++) {
+          let expected = 0;
+          p.forEach((q, s) => {
+            const level = (site: number) => Math.floor(s / N ** site) % N; // site 0 fastest
+            expected += q * (level(i) - level(j)) ** 2;
+          });
+          expect(got[i][j]).toBeCloseTo(expected, 8);
+        }
+    });
+  });
+
+  it.each([
+    ['boson', 3, 2, [0, 1, 1], { maxPerSite: 2 }],
+    ['hardcore', 3, 2, [1, -1, 0], {}],
+    ['fermion', 3, 2, [0, 1, -1], {}],
+  ] as const)('%s: density, double_occupancy and pair_separation at every time', (kind, L, N, levels, options) => {
+    const number = levels.filter((n) => n >= 0).length;
+    const base = randomItinerantSpec(41, kind, L, N, number, { ...options, complex: true });
+    delete base.solve;
+    const r = trace({ ...base, evolve: { initial: levels, times: { from: 0, to: 2, steps: 4 }, tolerance: 1e-10 } });
+    const json = traceJson(r);
+    const ref = denseFockHamiltonian(validateSpec(clean(base)));
+    const start = new Array<number>(L * N).fill(0);
+    levels.forEach((n, i) => {
+      if (n >= 0) start[i * N + n] = 1;
+    });
+    const psi0 = new Float64Array(2 * ref.dim);
+    psi0[2 * ref.indexOf.get(key(start))!] = 1;
+    const dense = denseEvolver(ref);
+    for (const name of ['density', 'double_occupancy', 'pair_separation']) expect(json.observables[name]).toHaveLength(r.times.length);
+    r.times.forEach((t, k) => {
+      const p = probabilities(dense.evolve(psi0, t));
+      const count = (occ: number[], i: number) => occ.slice(i * N, (i + 1) * N).reduce((a, b) => a + b, 0);
+      for (let i = 0; i < L; i++) {
+        let density = 0;
+        let pairs = 0;
+        p.forEach((q, s) => {
+          const c = count(ref.states[s], i);
+          density += q * c;
+          pairs += (q * c * (c - 1)) / 2;
+        });
+        expect((json.observables.density[k] as number[])[i]).toBeCloseTo(density, 8);
+        expect((json.observables.double_occupancy[k] as number[])[i]).toBeCloseTo(pairs, 8);
+        for (let j = 0; j < L; j++) {
+          if (j === i) continue;
+          // Mean squared level difference over pairs of particles, one at i and one at j.
+          let weighted = 0;
+          let both = 0;
+          p.forEach((q, s) => {
+            const occ = ref.states[s];
+            both += q * count(occ, i) * count(occ, j);
+            for (let a = 0; a < N; a++) for (let b = 0; b < N; b++) weighted += q * (a - b) ** 2 * occ[i * N + a] * occ[j * N + b];
+          });
+          const expected = both < 1e-12 ? 0 : weighted / both;
+          expect((json.observables.pair_separation[k] as number[][])[i][j]).toBeCloseTo(expected, 7);
+        }
+      }
     });
   });
 });

@@ -140,7 +140,9 @@ tolerance = 1e-10
     expect(lines).toHaveLength(1);
     const out = JSON.parse(lines[0]);
     expect(Object.keys(out).sort()).toEqual(['observables', 'times']);
-    expect(Object.keys(out.observables).sort()).toEqual(['energy', 'level_mean', 'norm', 'populations', 'return_probability', 'spread', 'string_width']);
+    // README, Quench dynamics: the observables of the ground-state output at each time, and the trace's own.
+    expect(Object.keys(out.observables).sort()).toEqual(['energy', 'level_mean', 'norm', 'pair_separation', 'populations', 'return_probability', 'spread', 'string_width']);
+    expect(out.observables.pair_separation[0]).toEqual([[0, 1], [1, 0]]); // levels 0 and 1 at t = 0
     expect(out.times).toHaveLength(9);
     expect(out.observables.populations).toHaveLength(9);
     expect(out.observables.populations[0]).toHaveLength(2); // [time][site][level]
@@ -186,6 +188,30 @@ tolerance = 1e-10
     expect(long.stdout.trim().split('\n')).toHaveLength(1 + 2 * 9 * (2 * 2 + 2 + 2));
     const json = JSON.parse(runCli(['trace', out, '--json']).stdout);
     expect(json).toEqual(traces);
+  });
+
+  it('itinerant kinds: evolve --json and trace --json carry density, double_occupancy and pair_separation at every time', () => {
+    const dir = tmp();
+    const spec = path.join(dir, 'bosons.toml');
+    writeFileSync(
+      spec,
+      `[chain]\nsites = 2\n[levels]\ncount = 2\n[particles]\nkind = "boson"\nnumber = 2\nhopping = 0.7\n[evolve]\ninitial = [0, 1]\ntimes = { from = 0, to = 1, steps = 2 }\n`,
+    );
+    const out = path.join(dir, 'run');
+    const direct = JSON.parse(runCli(['evolve', spec, '--json']).stdout);
+    const r = runCli(['evolve', spec, '--out', out, '--json']);
+    expect(r.code).toBe(0);
+    const [fromRun] = JSON.parse(runCli(['trace', out, '--json']).stdout);
+    for (const observables of [direct.observables, fromRun.observables]) {
+      for (const name of ['density', 'double_occupancy', 'pair_separation', 'one_body_density_matrix', 'condensate_fraction']) {
+        expect(observables[name]).toHaveLength(3);
+      }
+      // t = 0: one boson per site, in levels 0 and 1 (the initial state as written).
+      expect(observables.density[0]).toEqual([1, 1]);
+      expect(observables.double_occupancy[0]).toEqual([0, 0]);
+      expect(observables.pair_separation[0]).toEqual([[0, 1], [1, 0]]);
+    }
+    expect(fromRun.observables.density).toEqual(direct.observables.density);
   });
 
   it('the readable table shows ms and Hz next to model units with [units]', () => {

@@ -54,6 +54,18 @@ describe('weighted least squares against the textbook straight-line formulas', (
     expect(fit.extrapolated_error).toBeNull();
   });
 
+  it('a gap extrapolated below zero is reported as 0 (a closing gap), with the fitted a0 kept', () => {
+    // Points on the line 1/L - 0.01 give a0 = -0.01 exactly (least squares reproduces data on the model).
+    const sizes = [4, 6, 8];
+    const fit = finiteSizeFit(sizes, sizes.map((L) => 1 / L - 0.01), { lowerBound: 0 });
+    expect(fit.coefficients[0]).toBeCloseTo(-0.01, 12);
+    expect(fit.extrapolated).toBe(0);
+    expect(fit.bounded).toBe(true);
+    const open = finiteSizeFit(sizes, sizes.map((L) => 1 / L + 0.01), { lowerBound: 0 });
+    expect(open.extrapolated).toBeCloseTo(0.01, 12);
+    expect(open.bounded).toBe(false);
+  });
+
   it('rejects fits it cannot make', () => {
     expect(() => finiteSizeFit([4, 4, 4], [1, 2, 3])).toThrow(RungchainError);
     expect(() => finiteSizeFit([4, 6], [1, 2], { power: 0 })).toThrow(/power/);

@@ -108,7 +108,25 @@ describe('peaks and finite differences (textbook formulas)', () => {
 
   it('flags a peak at the end of the scan', () => {
     const peak = findPeak([1, 2, 3], [1, 2, 3], 'max')!;
-    expect(peak).toEqual({ position: 3, value: 3, uncertainty: 1, at_edge: true });
+    expect(peak).toEqual({ position: 3, value: 3, uncertainty: 1, at_edge: true, refined: false });
+  });
+
+  it('a gap closing at a level crossing is never reported negative: the grid point, marked unrefined', () => {
+    // A crossing at x = 2 with different slopes on each side: the gap is |E1 - E0| >= 0 (E1 >= E0
+    // by ordering), a kink, not a parabola. The parabola through (1, 0.3), (2, 0), (3, 0.05) has its
+    // vertex at 2 + 0.125 / 0.35 with value -0.125^2 / 0.7 < 0 (elementary algebra).
+    const line = { x: [0, 1, 2, 3, 4], sites: 2, groundEnergy: [0, 0, 0, 0, 0], gap: [0.6, 0.3, 0, 0.05, 0.1] };
+    const gap = transitionIndicators(line).find((i) => i.name === 'gap')!;
+    expect(gap.peak).toEqual({ position: 2, value: 0, uncertainty: 0.5, at_edge: false, refined: false });
+    // The same samples as a curve with no lower bound keep the parabola's vertex.
+    const free = findPeak(line.x, line.gap, 'min')!;
+    expect(free.refined).toBe(true);
+    expect(free.position).toBeCloseTo(2 + 0.125 / 0.35, 12);
+    expect(free.value).toBeCloseTo(-(0.125 ** 2) / 0.7, 12);
+    // A smooth avoided crossing keeps its refined minimum.
+    const smooth = findPeak([0, 1, 2, 3], [1.2, 0.35, 0.3, 0.85], 'min', { lowerBound: 0 })!;
+    expect(smooth.refined).toBe(true);
+    expect(smooth.value).toBeGreaterThan(0);
   });
 
   it('second differences are exact for a quadratic and slopes for a line, also on uneven grids', () => {

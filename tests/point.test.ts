@@ -201,3 +201,29 @@ describe('ground states only when the caller uses them', () => {
     expect(entangled.record.observables.entanglement?.length).toBe(1);
   });
 });
+
+describe('a sector solve reports the stored elements of its sector matrices', () => {
+  // With the total level charge as the only symmetry (no tunnelling), the sectors are blocks of the
+  // Hamiltonian in the basis of level configurations: every nonzero element lies in exactly one
+  // block, so the blocks together store exactly the nonzero entries of the dense matrix, counted
+  // here from the plain element-by-element reference (tests/support/reference.ts).
+  it('charge sectors store the nonzero entries of the dense Hamiltonian', () => {
+    const raw = {
+      chain: { sites: 5 },
+      levels: { count: 3, tunnelling: 0, detuning: [0, 0.37, 1.1] },
+      exchange: { strength: 1.3, weights: [1, 0.8] },
+      ising: { strength: 0.4, moments: [0.2, -0.5, 0.9] },
+      solve: { states: 3, symmetries: ['charge'] },
+    };
+    const spec = validateSpec(raw);
+    const r = solvePoint(spec).record;
+    expect(r.solver.symmetries).toEqual(['charge']);
+    expect(r.basis.operator).toBe('stored');
+    const dense = densePinnedHamiltonian(spec);
+    let nonzero = 0;
+    for (let row = 0; row < dense.dim; row++)
+      for (let col = 0; col < dense.dim; col++) if (dense.re.get(row, col) !== 0 || dense.im.get(row, col) !== 0) nonzero++;
+    expect(nonzero).toBeGreaterThan(dense.dim);
+    expect(r.basis.nonzeros).toBe(nonzero);
+  });
+});

@@ -2,7 +2,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { analyseScan, observableValue, type AnalysisInput } from '../src/transitions.js';
+import { analyseScan, analysisText, observableValue, type AnalysisInput } from '../src/transitions.js';
 import { fidelitySusceptibility, findPeak } from '../src/indicators.js';
 import { InputError } from '../src/errors.js';
 import type { PointRecord } from '../src/point.js';
@@ -70,6 +70,25 @@ describe('analysis of a scan in memory', () => {
       expect(f.fit.coefficients[1]).toBeCloseTo(law(x, 1).b, 10);
       f.fit.residuals.forEach((r) => expect(Math.abs(r)).toBeLessThan(1e-12));
     }
+  });
+
+  it('never reports a negative gap: a fit of a closing gap gives 0, and says what the fit gave', () => {
+    // gap = 1/L - 0.01 at every parameter value: the straight line in 1/L meets zero before L = inf.
+    const closing: AnalysisInput = {
+      ...input,
+      points: input.points.map((p) => {
+        const L = p.params['chain.sites'] as number;
+        return { ...p, record: { ...p.record!, gap: 1 / L - 0.01 } };
+      }),
+    };
+    const analysis = analyseScan(closing, { fit: ['gap'] });
+    expect(analysis.observable_fits).toHaveLength(xs.length);
+    for (const f of analysis.observable_fits) {
+      expect(f.fit.extrapolated).toBe(0);
+      expect(f.fit.bounded).toBe(true);
+      expect(f.fit.coefficients[0]).toBeCloseTo(-0.01, 10);
+    }
+    expect(analysisText(analysis)).toMatch(/\b0 ± [^\n]*\(fit -0\.01\)/);
   });
 
   it('names what it cannot do', () => {
@@ -142,6 +161,33 @@ describe('summary of a scan: indicator peaks and finite-size fits', () => {
     const fit = analysis.peak_fits.find((f: { indicator: string }) => f.indicator === 'fidelity');
     expect(fit.fit.sizes).toEqual(SIZES);
     expect(Math.abs(fit.fit.extrapolated - 1)).toBeLessThan(0.02);
+  });
+
+  it('--analysis --csv: one row per peak and per fit, the same numbers as --analysis --json', () => {
+    const args = ['summary', run, '--analysis', '--power', '2', '--fit', 'E0/L'];
+    const analysis = JSON.parse(runCli([...args, '--json']).stdout);
+    const r = runCli([...args, '--csv']);
+    expect(r.code, r.stderr).toBe(0);
+    // Plain RFC 4180 without quoted fields here: split on commas (common practice).
+    const [header, ...lines] = r.stdout.trim().split('\n').map((l) => l.split(','));
+    expect(header.slice(0, 4)).toEqual(['kind', 'chain.sites', 'levels.tunnelling', 'name']);
+    const rows = lines.map((cells) => Object.fromEntries(header.map((h, k) => [h, cells[k]])));
+    const peaks = rows.filter((row) => row.kind === 'peak');
+    const expectedPeaks = analysis.lines.flatMap((l: any) => l.indicators.filter((i: any) => i.peak).map((i: any) => ({ sites: l.fixed['chain.sites'], name: i.name, peak: i.peak })));
+    expect(peaks).toHaveLength(expectedPeaks.length);
+    expectedPeaks.forEach((e: any, k: number) => {
+      expect(Number(peaks[k]['chain.sites'])).toBe(e.sites);
+      expect(peaks[k].name).toBe(e.name);
+      expect(Number(peaks[k].position)).toBe(e.peak.position);
+      expect(Number(peaks[k].value)).toBe(e.peak.value);
+      expect(peaks[k].refined).toBe(String(e.peak.refined));
+    });
+    const peakFits = rows.filter((row) => row.kind === 'peak_fit');
+    expect(peakFits.map((row) => Number(row.extrapolated))).toEqual(analysis.peak_fits.map((f: any) => f.fit.extrapolated));
+    const observableFits = rows.filter((row) => row.kind === 'observable_fit');
+    expect(observableFits).toHaveLength(analysis.observable_fits.length);
+    expect(observableFits[0].sizes).toBe(SIZES.join(';'));
+    expect(observableFits.map((row) => Number(row['levels.tunnelling']))).toEqual(analysis.observable_fits.map((f: any) => f.fixed['levels.tunnelling']));
   });
 
   it('prints them after the table', () => {

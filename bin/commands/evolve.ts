@@ -3,7 +3,7 @@
 import type { Command } from 'commander';
 import { InputError } from '../../src/errors.js';
 import { checkEvolveOptions, loadEvolveRun, runEvolveCommand, traceContract, traceText, tracesCsv, tracesJson, tracesLongCsv, tracesText } from '../../src/evolveRun.js';
-import { fmt } from '../../src/tables.js';
+import { fmt, fmtSmall, plural } from '../../src/tables.js';
 import { collect, memoryLimit } from './shared.js';
 
 function nonNegativeNumber(text: string, what: string): number {
@@ -61,8 +61,8 @@ export function registerEvolveCommands(program: Command): void {
             if (t.stats) {
               console.log('');
               console.log(
-                `dimension ${t.stats.dimension}, Krylov size ${t.stats.krylov}, ${t.stats.steps} steps, ${t.stats.matvecs} products, ` +
-                  `error bound ${t.stats.error_bound.toExponential(2)} (tolerance ${t.stats.tolerance}), ${fmt(t.stats.seconds, 3)} s`,
+                `dimension ${t.stats.dimension}, Krylov size ${t.stats.krylov}, ${plural(t.stats.steps, 'step')}, ${plural(t.stats.matvecs, 'product')}, ` +
+                  `error bound ${fmtSmall(t.stats.error_bound)} (tolerance ${t.stats.tolerance}), ${fmt(t.stats.seconds, 3)} s`,
               );
             }
           } else {

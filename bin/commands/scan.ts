@@ -4,7 +4,7 @@ import { InputError } from '../../src/errors.js';
 import { runScan } from '../../src/scanRunner.js';
 import { loadScanRun, longCsv, longJson, longText, statusJson, statusText, summaryCsv, summaryJson, summaryText } from '../../src/summary.js';
 import { sideBySide, sideBySideCsv, sideBySideJson, sideBySideText } from '../../src/summary/sideBySide.js';
-import { analyseScan, analysisInputOf, analysisText } from '../../src/transitions.js';
+import { analyseScan, analysisCsv, analysisInputOf, analysisText } from '../../src/transitions.js';
 import { addAnalysisOptions, analysisOptions, type AnalysisFlags } from './report.js';
 import { collect, memoryLimit } from './shared.js';
 import { parseShard, shardFromEnvironment } from '../../src/shard.js';
@@ -55,7 +55,7 @@ export function registerScanCommands(program: Command): void {
     .option('--json', 'JSON array on stdout, one object per point')
     .option('--long', 'per-site and per-level observables, one value per row')
     .option('--by <axis>', 'spread one scan axis into columns, side by side (e.g. --by particles.kind, or --by kind)')
-    .option('--analysis', 'only the transition indicators and finite-size fits (with --json: one JSON object)')
+    .option('--analysis', 'only the transition indicators and finite-size fits (with --json: one JSON object; with --csv: one row per peak or fit)')
     .action((dir: string, opts: AnalysisFlags & { csv?: boolean; json?: boolean; long?: boolean; by?: string; analysis?: boolean }) => {
       if (opts.csv && opts.json) throw new InputError('choose one of --csv and --json');
       if (opts.by !== undefined && opts.long) throw new InputError('choose one of --by and --long');
@@ -76,7 +76,10 @@ export function registerScanCommands(program: Command): void {
       if (opts.analysis) {
         const analysis = analyseScan(analysisInputOf(summary), analysisOptions(opts));
         if (opts.json) process.stdout.write(JSON.stringify(analysis) + '\n');
-        else console.log(analysisText(analysis));
+        else if (opts.csv) {
+          process.stdout.write(analysisCsv(analysis, summary.section.axes.map((a) => a.key)));
+          for (const note of analysis.notes) process.stderr.write(`note: ${note}\n`);
+        } else console.log(analysisText(analysis));
         return;
       }
       if (opts.json) process.stdout.write(JSON.stringify(summaryJson(summary)) + '\n');

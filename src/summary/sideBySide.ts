@@ -8,13 +8,15 @@
 import { InputError } from '../errors.js';
 import type { ScanParams, ScanValue } from '../scan.js';
 import type { ScanRunSummary } from '../summary.js';
-import { csvCell, fmt, table } from '../tables.js';
+import { columnScale, csvCell, fmt, fmtNoise, table } from '../tables.js';
 
 export interface SideBySide {
   /** The axis spread into columns. */
   by: string;
   /** Its values, in axis order. */
   values: ScanValue[];
+  /** How each value is written in column names (numbers to the precision the axis needs). */
+  labels: string[];
   /** The other axes, one column each, in axis order. */
   keys: string[];
   /** Quantities shown per value: E0, gap, then scalar observables. */
@@ -29,8 +31,27 @@ function label(value: ScanValue): string {
   return typeof value === 'string' ? value : JSON.stringify(value);
 }
 
-export function columnName(quantity: string, value: ScanValue): string {
-  return `${quantity}[${label(value)}]`;
+/** A written number counts as its value when it is within this fraction of it. */
+const LABEL_RELATIVE_ERROR = 1e-3;
+
+/**
+ * Labels for an axis's values: numbers with the fewest significant digits that still tell the
+ * axis's numbers apart and keep each within 0.1% of its value (a scan's `from`/`to`/`steps` makes
+ * values such as 0.236922215742493 that nobody wants as a column name); other values as written.
+ */
+export function axisLabels(values: ScanValue[]): string[] {
+  const numbers = [...new Set(values.filter((v): v is number => typeof v === 'number'))];
+  let digits = 1;
+  for (; digits < 17; digits++) {
+    const written = numbers.map((v) => Number(v.toPrecision(digits)));
+    const close = written.every((w, k) => Math.abs(w - numbers[k]) <= LABEL_RELATIVE_ERROR * Math.abs(numbers[k]));
+    if (close && new Set(written).size === numbers.length) break;
+  }
+  return values.map((v) => (typeof v === 'number' && Number.isFinite(v) ? String(Number(v.toPrecision(digits))) : label(v)));
+}
+
+export function columnName(quantity: string, valueLabel: string): string {
+  return `${quantity}[${valueLabel}]`;
 }
 
 /** Spreads axis `by` of a scan run into columns; the other axes label the rows. */
@@ -51,6 +72,9 @@ export function sideBySide(summary: ScanRunSummary, by: string): SideBySide {
     if (obs) for (const [name, v] of Object.entries(obs)) if (typeof v === 'number') scalars.add(name);
   }
   const quantities = ['E0', 'gap', ...scalars];
+  const labels = axisLabels(axis.values);
+  const labelOf = new Map(axis.values.map((v, k) => [JSON.stringify(v), labels[k]]));
+  const column = (quantity: string, value: ScanValue) => columnName(quantity, labelOf.get(JSON.stringify(value)) ?? label(value));
 
   const rows: SideBySide['rows'] = [];
   const rowOf = new Map<string, SideBySide['rows'][number]>();
@@ -61,25 +85,25 @@ export function sideBySide(summary: ScanRunSummary, by: string): SideBySide {
     let target = rowOf.get(id);
     if (!target) {
       target = { params, cells: {} };
-      for (const q of quantities) for (const value of axis.values) target.cells[columnName(q, value)] = null;
+      for (const q of quantities) for (const value of axis.values) target.cells[column(q, value)] = null;
       rowOf.set(id, target);
       rows.push(target);
     }
     const result = row.record?.status === 'done' ? row.record.result : undefined;
     if (!result) continue;
     const value = row.params[key];
-    target.cells[columnName('E0', value)] = result.energies[0] ?? null;
-    target.cells[columnName('gap', value)] = result.gap;
+    target.cells[column('E0', value)] = result.energies[0] ?? null;
+    target.cells[column('gap', value)] = result.gap;
     for (const name of scalars) {
       const v = result.observables[name];
-      target.cells[columnName(name, value)] = typeof v === 'number' ? v : null;
+      target.cells[column(name, value)] = typeof v === 'number' ? v : null;
     }
   }
-  return { by: key, values: axis.values, keys, quantities, rows };
+  return { by: key, values: axis.values, labels, keys, quantities, rows };
 }
 
 function columns(view: SideBySide): string[] {
-  return view.quantities.flatMap((q) => view.values.map((v) => columnName(q, v)));
+  return view.quantities.flatMap((q) => view.labels.map((l) => columnName(q, l)));
 }
 
 /** One object per row: the other axes under their key paths, then a field per column. */
@@ -97,8 +121,16 @@ export function sideBySideCsv(view: SideBySide): string {
 export function sideBySideText(view: SideBySide): string {
   const cols = columns(view);
   const show = (v: ScanValue | undefined): string => (v === undefined ? '' : typeof v === 'number' ? fmt(v, 8) : label(v));
+  // Rounding noise is measured per quantity: against the energies for E0 and gap, else against 1 or the quantity's size.
+  const cellsOf = (q: string) => view.rows.flatMap((r) => view.labels.map((l) => r.cells[columnName(q, l)]));
+  const energyScale = columnScale(cellsOf('E0'));
+  const scaleOf = new Map(view.quantities.map((q) => [q, q === 'E0' || q === 'gap' ? energyScale : columnScale(cellsOf(q), 1)]));
+  const quantityOf = new Map(view.quantities.flatMap((q) => view.labels.map((l) => [columnName(q, l), q] as const)));
   return table(
     [...view.keys, ...cols],
-    view.rows.map((r) => [...view.keys.map((k) => show(r.params[k])), ...cols.map((c) => (r.cells[c] === null ? '' : fmt(r.cells[c], 10)))]),
+    view.rows.map((r) => [
+      ...view.keys.map((k) => show(r.params[k])),
+      ...cols.map((c) => (r.cells[c] === null ? '' : fmtNoise(r.cells[c], scaleOf.get(quantityOf.get(c)!)!, 10))),
+    ]),
   );
 }
