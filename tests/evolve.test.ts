@@ -298,7 +298,7 @@ describe('itinerant particles', () => {
 
 describe('every recorded observable reaches the time-first JSON (evolve --json, trace --json), against dense evolution', () => {
   // Diagonal observables from the basis-state probabilities of the dense state exp(-i H t) psi(0)
-  // (ml-matrix eigendecomposition), by the definitions of MODEL.md and src/observables/itinerant.ts.
+  // (ml-matrix eigendecomposition), by the definitions of docs/model.md and src/observables/itinerant.ts.
   const probabilities = (psi: Float64Array) => Array.from({ length: psi.length / 2 }, (_, s) => psi[2 * s] ** 2 + psi[2 * s + 1] ** 2);
 
   it('pinned: pair_separation <(n_i - n_j)^2> at every time', () => {
