@@ -35,7 +35,7 @@ import { basisProbabilities, pinnedObservables, type Observables } from './obser
 import { itinerantObservables } from './observables/itinerant.js';
 import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES, type MemoryEstimate } from './resources.js';
 import { defaultKrylovSize, lowestEigenpairs } from './solver.js';
-import { applyOverride, describeValue, isTable, registerSection, validateSpec, type Spec } from './spec.js';
+import { applyOverride, describeValue, isTable, registerSection, unknownKeyError, validateSpec, type Spec } from './spec.js';
 import { labUnits } from './units.js';
 import { complexDot, complexView, expectation, KrylovPropagator, toComplex, vectorNorm, type ComplexOperator } from './evolve/krylov.js';
 import { productState, siteAmplitudes, type Pulse } from './evolve/initial.js';
@@ -72,7 +72,7 @@ type Table = Record<string, unknown>;
 
 function onlyKeys(table: Table, path: string, known: readonly string[]): void {
   for (const key of Object.keys(table)) {
-    if (!known.includes(key)) throw new SpecError(`${path}.${key}`, `unknown key (known: ${known.join(', ')})`);
+    if (!known.includes(key)) throw unknownKeyError(path, key, known);
   }
 }
 
@@ -148,10 +148,19 @@ function validateInitial(value: unknown, path: string): InitialState {
   return { kind: 'levels', levels, pulses };
 }
 
+/**
+ * Most recorded times of one trace, and most pieces of one ramp. Each recorded time is a record
+ * with every observable; each ramp piece is a Hamiltonian rebuilt. Beyond these a trace is a
+ * mistake (a stray exponent in `steps`), and the count is checked before any time is made.
+ */
+export const MAX_EVOLVE_TIMES = 100_000;
+export const MAX_RAMP_STEPS = 100_000;
+
 function validateTimes(value: unknown, path: string): number[] {
   if (value === undefined) throw new SpecError(path, 'required key is missing (a list of times, or { from, to, steps })');
   if (Array.isArray(value)) {
     if (value.length === 0) throw new SpecError(path, 'expected at least one time');
+    if (value.length > MAX_EVOLVE_TIMES) throw new SpecError(path, `at most ${MAX_EVOLVE_TIMES} recorded times, got ${value.length}`);
     const times = value.map((v, i) => nonNegative(v, `${path}[${i}]`));
     for (let i = 1; i < times.length; i++) {
       if (!(times[i] > times[i - 1])) throw new SpecError(`${path}[${i}]`, `times must increase strictly; ${times[i]} follows ${times[i - 1]}`);
@@ -166,6 +175,8 @@ function validateTimes(value: unknown, path: string): number[] {
   if (!(to > from)) throw new SpecError(`${path}.to`, `must exceed from = ${from}, got ${to}`);
   if (t.steps === undefined) throw new SpecError(`${path}.steps`, 'required key is missing (the number of intervals; steps+1 times are recorded)');
   const steps = integerAtLeast(t.steps, `${path}.steps`, 1);
+  // steps + 1 times are recorded.
+  if (steps >= MAX_EVOLVE_TIMES) throw new SpecError(`${path}.steps`, `at most ${MAX_EVOLVE_TIMES - 1} (steps + 1 times are recorded, at most ${MAX_EVOLVE_TIMES}), got ${steps}`);
   return Array.from({ length: steps + 1 }, (_, k) => (k === steps ? to : from + ((to - from) * k) / steps));
 }
 
@@ -189,8 +200,14 @@ function validateRamp(value: unknown, path: string): Ramp {
     to: finite(t.to, `${path}.to`),
     duration: positive(t.duration, `${path}.duration`),
     start: t.start === undefined ? 0 : nonNegative(t.start, `${path}.start`),
-    steps: t.steps === undefined ? 100 : integerAtLeast(t.steps, `${path}.steps`, 1),
+    steps: t.steps === undefined ? 100 : rampSteps(t.steps, `${path}.steps`),
   };
+}
+
+function rampSteps(value: unknown, path: string): number {
+  const steps = integerAtLeast(value, path, 1);
+  if (steps > MAX_RAMP_STEPS) throw new SpecError(path, `at most ${MAX_RAMP_STEPS} pieces per ramp, got ${steps}`);
+  return steps;
 }
 
 export function validateEvolveSection(value: unknown, keyPath: string): EvolveSection {

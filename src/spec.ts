@@ -563,11 +563,25 @@ function requiredKey(table: Table, section: string, key: string): unknown {
 
 function rejectUnknownKeys(table: Table, section: string, known: readonly string[]): void {
   for (const key of Object.keys(table)) {
-    if (known.includes(key)) continue;
-    const guess = closestName(key, known);
-    const path = section ? `${section}.${key}` : key;
-    throw new SpecError(path, `unknown ${section ? 'key' : 'section'}${guess ? ` (did you mean ${guess}?)` : ''}`);
+    if (!known.includes(key)) throw unknownKeyError(section, key, known);
   }
+}
+
+/**
+ * The error for a key no section knows, in every section alike: the key path, the nearest known
+ * key when one is close, and the valid keys. `section` is the table's key path ('' for the top
+ * level, whose keys are sections).
+ */
+export function unknownKeyError(section: string, key: string, known: readonly string[]): SpecError {
+  const guess = closestName(key, known);
+  const path = section ? `${section}.${keyForPath(key)}` : keyForPath(key);
+  const what = section ? 'key' : 'section';
+  return new SpecError(path, `unknown ${what}${guess ? ` (did you mean ${guess}?)` : ''}; valid ${what}s: ${known.join(', ')}`);
+}
+
+/** A key as it appears in a key path: plain names as they are, anything else quoted and cut. */
+export function keyForPath(key: string): string {
+  return /^[A-Za-z0-9_-]{1,60}$/.test(key) ? key : quoteText(key);
 }
 
 function finiteNumber(value: unknown, path: string): number {
@@ -628,7 +642,7 @@ function numberList(values: unknown[], path: string, length: number, why: string
 export function describeValue(value: unknown): string {
   if (value === undefined) return 'nothing';
   if (value === null) return 'null';
-  if (typeof value === 'string') return JSON.stringify(value);
+  if (typeof value === 'string') return quoteText(value);
   if (typeof value === 'number') {
     if (Number.isNaN(value)) return 'nan';
     if (!Number.isFinite(value)) return value > 0 ? 'inf' : '-inf';
@@ -641,8 +655,29 @@ export function describeValue(value: unknown): string {
   return typeof value;
 }
 
+/** Longest user text an error message repeats: enough to recognise it, short enough for one line. */
+export const MESSAGE_TEXT_LIMIT = 60;
+
+/** A user-supplied text cut for an error message, saying how long it was when cut. */
+export function cutText(text: string, limit = MESSAGE_TEXT_LIMIT): string {
+  return text.length <= limit ? text : `${headOf(text, limit)}... (${text.length} characters)`;
+}
+
+/** A user-supplied string as an error message shows it: quoted, escaped to one line, cut when long. */
+export function quoteText(text: string, limit = MESSAGE_TEXT_LIMIT): string {
+  return text.length <= limit ? JSON.stringify(text) : `${JSON.stringify(headOf(text, limit))}... (${text.length} characters)`;
+}
+
+function headOf(text: string, limit: number): string {
+  const head = text.slice(0, limit - 3);
+  // Never leave half of a surrogate pair at the cut.
+  return /[\uD800-\uDBFF]$/.test(head) ? head.slice(0, -1) : head;
+}
+
 /** The known name a typo most likely meant, if any is close enough. */
 function closestName(word: string, known: readonly string[]): string | undefined {
+  // A word this long is no typo of a key, and the edit distance would cost its length times each key's.
+  if (word.length > 100) return undefined;
   const squash = (s: string): string => s.toLowerCase().replace(/[_\-\s]/g, '');
   // maxPerSite, max-per-site, MAX_PER_SITE all mean max_per_site.
   const sameWord = known.find((k) => squash(k) === squash(word));
@@ -659,13 +694,17 @@ function closestName(word: string, known: readonly string[]): string | undefined
   return best;
 }
 
+// Optimal string alignment distance: Levenshtein plus the swap of two neighbours, the commonest typo.
 function editDistance(a: string, b: string): number {
+  let beforePrevious: number[] = [];
   let previous = Array.from({ length: b.length + 1 }, (_, j) => j);
   for (let i = 1; i <= a.length; i++) {
     const current = [i];
     for (let j = 1; j <= b.length; j++) {
       current[j] = Math.min(previous[j] + 1, current[j - 1] + 1, previous[j - 1] + (a[i - 1] === b[j - 1] ? 0 : 1));
+      if (i > 1 && j > 1 && a[i - 1] === b[j - 2] && a[i - 2] === b[j - 1]) current[j] = Math.min(current[j], beforePrevious[j - 2] + 1);
     }
+    beforePrevious = previous;
     previous = current;
   }
   return previous[b.length];

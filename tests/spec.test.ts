@@ -14,6 +14,8 @@ import {
   validateSpec,
   type Spec,
 } from '../src/spec.js';
+import '../src/sections.js';
+import '../src/scan.js';
 
 const scratch = mkdtempSync(join(tmpdir(), 'rungchain-spec-'));
 afterAll(() => rmSync(scratch, { recursive: true, force: true }));
@@ -190,6 +192,33 @@ describe('validation errors name the key path', () => {
     expectSpecError({ ...tree(minimal), particles: { maxPerSite: 2 } }, 'particles.maxPerSite', 'did you mean max_per_site?');
     expectSpecError({ ...tree(minimal), solve: { colour: 'red' } }, 'solve.colour', 'unknown key');
     expect(specErrorOf({ ...tree(minimal), solve: { colour: 'red' } }).message).not.toContain('did you mean');
+  });
+
+  // Common practice (compilers, git): an unknown name comes with the nearest valid one and the list
+  // to choose from, and every section answers alike.
+  it('an unknown key in any section lists the valid keys there and the nearest one', () => {
+    const cases: [Record<string, unknown>, string, string, string[]][] = [
+      [{ ...tree(minimal), chain: { sites: 4, boundry: 'open' } }, 'chain.boundry', 'boundary', ['sites', 'boundary']],
+      [{ ...tree(minimal), exchange: { strenght: 1 } }, 'exchange.strenght', 'strength', ['strength', 'range', 'cutoff', 'weights']],
+      [{ ...tree(minimal), ising: { moment: [0, 0, 0] } }, 'ising.moment', 'moments', ['strength', 'moments', 'range', 'cutoff']],
+      [{ ...tree(minimal), particles: { onsit: 1 } }, 'particles.onsit', 'onsite', ['kind', 'number', 'max_per_site', 'hopping', 'onsite']],
+      [{ ...tree(minimal), solve: { state: 2 } }, 'solve.state', 'states', ['states', 'tolerance', 'threads']],
+      [{ ...tree(minimal), solve: { sector: { moment: 0 } } }, 'solve.sector.moment', 'momentum', ['momentum', 'parity', 'level_flip', 'charge']],
+      [{ ...tree(minimal), units: { dipole_debey: 1 } }, 'units.dipole_debey', 'dipole_debye', ['lattice_spacing_nm', 'rabi_khz']],
+      [{ ...tree(minimal), evolve: { time: [1] } }, 'evolve.time', 'times', ['initial', 'times', 'ramp']],
+      [{ ...tree(minimal), evolve: { times: { to: 1, step: 2 } } }, 'evolve.times.step', 'steps', ['from', 'to', 'steps']],
+      [{ ...tree(minimal), scan: { zipp: true, axis: [] } }, 'scan.zipp', 'zip', ['axis', 'zip']],
+      [{ ...tree(minimal), scan: { axis: [{ key: 'exchange.strength', value: [1] }] } }, 'scan.axis[0].value', 'values', ['key', 'values', 'from', 'to', 'steps', 'spacing']],
+      [{ ...tree(minimal), scna: {} }, 'scna', 'scan', ['chain', 'levels', 'particles', 'scan', 'evolve', 'units']],
+    ];
+    for (const [raw, keyPath, nearest, valid] of cases) {
+      const e = specErrorOf(raw);
+      expect(e.keyPath).toBe(keyPath);
+      expect(e.message).toContain(`did you mean ${nearest}?`);
+      const listed = /valid (?:keys|sections): (.*)$/.exec(e.message)?.[1].split(', ');
+      expect(listed).toBeDefined();
+      for (const name of valid) expect(listed).toContain(name);
+    }
   });
 
   it('rejects missing required keys and sections', () => {
