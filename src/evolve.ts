@@ -35,7 +35,7 @@ import { basisProbabilities, pinnedObservables, type Observables } from './obser
 import { itinerantObservables } from './observables/itinerant.js';
 import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES, type MemoryEstimate } from './resources.js';
 import { defaultKrylovSize, lowestEigenpairs } from './solver.js';
-import { applyOverride, describeValue, isTable, registerSection, unknownKeyError, validateSpec, type Spec } from './spec.js';
+import { applyOverride, cutText, describeValue, isTable, keyForPath, quoteText, registerSection, unknownKeyError, validateSpec, type Spec } from './spec.js';
 import { labUnits } from './units.js';
 import { complexDot, complexView, expectation, KrylovPropagator, toComplex, vectorNorm, type ComplexOperator } from './evolve/krylov.js';
 import { productState, siteAmplitudes, type Pulse } from './evolve/initial.js';
@@ -134,7 +134,7 @@ function validateInitial(value: unknown, path: string): InitialState {
       onlyKeys(t, at, ['between', 'area', 'phase', 'sites']);
       const between = integerList(t.between, `${at}.between`);
       if (between.length !== 2 || between[0] === between[1]) {
-        throw new SpecError(`${at}.between`, `expected two different levels [a, b], got ${JSON.stringify(t.between)}`);
+        throw new SpecError(`${at}.between`, `expected two different levels [a, b], got ${describeValue(t.between)}`);
       }
       if (t.area === undefined) throw new SpecError(`${at}.area`, 'required key is missing (pi for a full transfer, pi/2 for an equal superposition)');
       pulses.push({
@@ -188,7 +188,7 @@ function validateRamp(value: unknown, path: string): Ramp {
   }
   const key = t.key.trim();
   if (key.startsWith('evolve.') || key === 'evolve' || key.startsWith('scan.')) {
-    throw new SpecError(`${path}.key`, `a ramp moves a model key, not ${key}`);
+    throw new SpecError(`${path}.key`, `a ramp moves a model key, not ${quoteText(key)}`);
   }
   for (const required of ['from', 'to', 'duration']) {
     if (t[required] === undefined) throw new SpecError(`${path}.${required}`, 'required key is missing');
@@ -323,7 +323,7 @@ function specWith(
     try {
       applyOverride(clone, `${key}=${JSON.stringify(value)}`);
     } catch (e) {
-      if (e instanceof SpecError || e instanceof Error) throw new SpecError(blame(key, index), `cannot set ${key}: ${e.message}`);
+      if (e instanceof SpecError || e instanceof Error) throw new SpecError(blame(key, index), `cannot set ${cutText(key)}: ${e.message}`);
       throw e;
     }
   });
@@ -336,7 +336,7 @@ function specWith(
       0,
       assignments.findIndex(([key]) => e.keyPath === key || e.keyPath.startsWith(`${key}[`) || e.keyPath.startsWith(`${key}.`)),
     );
-    const setting = assignments.map(([k, v]) => `${k} = ${JSON.stringify(v)}`).join(', ');
+    const setting = assignments.map(([k, v]) => `${cutText(k)} = ${cutText(JSON.stringify(v))}`).join(', ');
     throw new SpecError(blame(assignments[culprit][0], culprit), `with ${setting}: ${e.message}`);
   }
 }
@@ -381,7 +381,7 @@ export function planEvolution(raw: Record<string, unknown>, spec: Spec): Evoluti
   if (section.initial.kind === 'ground_state') {
     const assignments: [string, unknown][] = [...ramps.map((r): [string, unknown] => [r.key, r.from]), ...section.initial.changes];
     initialSpec = specWith(raw, spec, assignments, (key, index) =>
-      index < ramps.length ? `${ramps[index].path}.from` : `evolve.initial.ground_state.${key}`,
+      index < ramps.length ? `${ramps[index].path}.from` : `evolve.initial.ground_state.${keyForPath(key)}`,
     );
     const m = buildModel(initialSpec);
     if (m.kind !== model.kind || basisDimension(m) !== dimension) {

@@ -24,7 +24,7 @@ import { InputError, SpecError } from './errors.js';
 import { planPoint, type PointPlan } from './point.js';
 import { formatBytes } from './resources.js';
 import { DEFAULT_DENSE_THRESHOLD } from './solver.js';
-import { applyOverride, describeValue, isTable, quoteText, registerSection, unknownKeyError, validateSpec, type Spec } from './spec.js';
+import { applyOverride, cutText, describeValue, isTable, quoteText, registerSection, unknownKeyError, validateSpec, type Spec } from './spec.js';
 import { runIdentity } from './runfiles.js';
 
 export type ScanValue = number | string | boolean | number[] | string[];
@@ -98,7 +98,7 @@ function validateAxis(value: unknown, path: string): ScanAxis {
   const key = value.key;
   if (typeof key !== 'string' || key.trim() === '') throw new SpecError(`${path}.key`, 'required: the spec key path this axis sets, e.g. "exchange.strength"');
   if (!/^[A-Za-z_][A-Za-z0-9_-]*(\[\d+\])*(\.[A-Za-z_][A-Za-z0-9_-]*(\[\d+\])*)+$/.test(key)) {
-    throw new SpecError(`${path}.key`, `"${key}" is not a key path of the form section.key (e.g. levels.count, levels.tunnelling[1])`);
+    throw new SpecError(`${path}.key`, `${quoteText(key)} is not a key path of the form section.key (e.g. levels.count, levels.tunnelling[1])`);
   }
   if (key.split('.')[0] === 'scan') throw new SpecError(`${path}.key`, 'an axis cannot scan the [scan] section itself');
 
@@ -115,7 +115,7 @@ function validateAxis(value: unknown, path: string): ScanAxis {
   if (!hasRange) throw new SpecError(path, 'needs values = [...] or from, to and steps');
   const number = (k: string): number => {
     const v = value[k];
-    if (typeof v !== 'number' || !Number.isFinite(v)) throw new SpecError(`${path}.${k}`, v === undefined ? 'required with from/to/steps' : `expected a finite number, got ${JSON.stringify(v)}`);
+    if (typeof v !== 'number' || !Number.isFinite(v)) throw new SpecError(`${path}.${k}`, v === undefined ? 'required with from/to/steps' : `expected a finite number, got ${describeValue(v)}`);
     return v;
   };
   const from = number('from');
@@ -124,7 +124,7 @@ function validateAxis(value: unknown, path: string): ScanAxis {
   if (!Number.isInteger(steps) || steps < 1) throw new SpecError(`${path}.steps`, `expected a positive integer (the number of values, ends included), got ${steps}`);
   if (steps > MAX_SCAN_POINTS) throw new SpecError(`${path}.steps`, `at most ${MAX_SCAN_POINTS} values on an axis (a scan has at most ${MAX_SCAN_POINTS} points), got ${steps}`);
   const spacing = value.spacing === undefined ? 'linear' : value.spacing;
-  if (spacing !== 'linear' && spacing !== 'log') throw new SpecError(`${path}.spacing`, `expected "linear" or "log", got ${JSON.stringify(spacing)}`);
+  if (spacing !== 'linear' && spacing !== 'log') throw new SpecError(`${path}.spacing`, `expected "linear" or "log", got ${describeValue(spacing)}`);
   if (steps === 1 && from !== to) throw new SpecError(`${path}.steps`, `one step cannot reach from = ${from} to = ${to}; use steps >= 2 or values = [${from}]`);
   const values: number[] = [];
   if (spacing === 'log') {
@@ -144,7 +144,7 @@ export function validateScanSection(value: unknown, path: string): ScanSection {
     if (k !== 'axis' && k !== 'zip') throw unknownKeyError(path, k, ['axis', 'zip']);
   }
   const zip = value.zip === undefined ? false : value.zip;
-  if (typeof zip !== 'boolean') throw new SpecError(`${path}.zip`, `expected true or false, got ${JSON.stringify(zip)}`);
+  if (typeof zip !== 'boolean') throw new SpecError(`${path}.zip`, `expected true or false, got ${describeValue(zip)}`);
   const rawAxes = value.axis;
   if (rawAxes === undefined) throw new SpecError(`${path}.axis`, 'required: at least one [[scan.axis]]');
   const list = Array.isArray(rawAxes) ? rawAxes : [rawAxes];
@@ -163,7 +163,7 @@ export function validateScanSection(value: unknown, path: string): ScanSection {
   }
   const seen = new Map<string, number>();
   axes.forEach((a, i) => {
-    if (seen.has(a.key)) throw new SpecError(`${path}.axis[${i}].key`, `"${a.key}" is already scanned by ${path}.axis[${seen.get(a.key)}]`);
+    if (seen.has(a.key)) throw new SpecError(`${path}.axis[${i}].key`, `${quoteText(a.key)} is already scanned by ${path}.axis[${seen.get(a.key)}]`);
     seen.set(a.key, i);
   });
   if (zip) {
@@ -220,9 +220,10 @@ export function linesOf(section: ScanSection): number[][] {
   return lines;
 }
 
+/** A point's scanned values for people to read: each value cut to a readable length, control characters escaped. */
 export function formatParams(params: ScanParams): string {
   return Object.entries(params)
-    .map(([k, v]) => `${k}=${typeof v === 'string' ? v : JSON.stringify(v)}`)
+    .map(([k, v]) => `${k}=${typeof v === 'string' && /^[^\u0000-\u001f\u007f]*$/.test(v) ? cutText(v) : cutText(JSON.stringify(v))}`)
     .join(' ');
 }
 

@@ -48,6 +48,7 @@ import { readFileSync } from 'node:fs';
 import { extname } from 'node:path';
 import { parse as parseToml, TomlError } from 'smol-toml';
 import { InputError, SpecError } from './errors.js';
+import { JsonReadError, lineAndColumn, parseJsonStrict } from './spec/json.js';
 
 export type ParticleKind = 'pinned' | 'hardcore' | 'boson' | 'fermion';
 export type ChainBoundary = 'open' | 'periodic';
@@ -123,9 +124,18 @@ export function parseSpecText(text: string, format: 'toml' | 'json', sourceName 
     }
   } else {
     try {
-      tree = JSON.parse(text);
+      tree = parseJsonStrict(text);
     } catch (e) {
-      throw new InputError(`${sourceName}${jsonErrorLocation(text, e)}: invalid JSON: ${errorText(e)}`);
+      if (!(e instanceof JsonReadError)) throw e;
+      const at = (offset: number): string => {
+        const { line, column } = lineAndColumn(text, offset);
+        return `${line}:${column}`;
+      };
+      if (e.duplicate) {
+        const path = formatPath(e.duplicate.path.map((s) => (typeof s === 'string' ? keyForPath(s) : s)));
+        throw new InputError(`${sourceName}:${at(e.offset)}: ${path} is given twice (first at ${at(e.duplicate.firstOffset)}); a key may appear once`);
+      }
+      throw new InputError(`${sourceName}:${at(e.offset)}: invalid JSON: ${e.problem}`);
     }
     if (!isTable(tree)) {
       throw new InputError(`${sourceName}: a spec must be a JSON object of sections, got ${describeValue(tree)}`);
@@ -174,17 +184,6 @@ function fileErrorText(e: unknown): string {
   }
 }
 
-// V8 reports JSON errors by character offset (when at all); users want line and column.
-function jsonErrorLocation(text: string, e: unknown): string {
-  const match = /position (\d+)/.exec(errorText(e));
-  if (!match) return '';
-  const offset = Number(match[1]);
-  const before = text.slice(0, offset);
-  const line = before.split('\n').length;
-  const column = offset - before.lastIndexOf('\n');
-  return `:${line}:${column}`;
-}
-
 // ---------------------------------------------------------------------------------------------
 // Command-line overrides
 
@@ -202,12 +201,12 @@ const FORBIDDEN_KEYS = new Set(['__proto__', 'prototype', 'constructor']);
 export function applyOverride(raw: Record<string, unknown>, assignment: string): void {
   const equals = assignment.indexOf('=');
   if (equals < 0) {
-    throw new InputError(`override "${assignment}": expected key.path=value, e.g. exchange.strength=2.5`);
+    throw new InputError(`override ${quoteText(assignment)}: expected key.path=value, e.g. exchange.strength=2.5`);
   }
   const steps = parseOverridePath(assignment.slice(0, equals).trim(), assignment);
   const valueText = assignment.slice(equals + 1).trim();
-  if (valueText === '') throw new InputError(`override "${assignment}": no value after "="`);
-  const value = parseOverrideValue(valueText);
+  if (valueText === '') throw new InputError(`override ${quoteText(assignment)}: no value after "="`);
+  const value = parseOverrideValue(valueText, assignment);
 
   let container: Table | unknown[] = raw;
   for (let i = 0; i < steps.length; i++) {
@@ -219,10 +218,10 @@ export function applyOverride(raw: Record<string, unknown>, assignment: string):
       // container is then an array.
       const list = container as unknown[];
       if (step >= list.length) {
-        throw new SpecError(here, `cannot apply override "${assignment}": index ${step} is past the end of a list of ${list.length}`);
+        throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: index ${step} is past the end of a list of ${list.length}`);
       }
       if (isLast) {
-        if (value === null) throw new SpecError(here, `cannot apply override "${assignment}": a single list element cannot be removed`);
+        if (value === null) throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: a single list element cannot be removed`);
         list[step] = value;
         return;
       }
@@ -243,21 +242,21 @@ export function applyOverride(raw: Record<string, unknown>, assignment: string):
 function descend(child: unknown, next: PathStep, here: string, assignment: string): Table | unknown[] {
   if (typeof next === 'number') {
     if (Array.isArray(child)) return child;
-    throw new SpecError(here, `cannot apply override "${assignment}": ${here} is ${describeValue(child)}, not a list; set the whole list instead`);
+    throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: ${here} is ${describeValue(child)}, not a list; set the whole list instead`);
   }
   if (isTable(child)) return child;
-  throw new SpecError(here, `cannot apply override "${assignment}": ${here} is ${describeValue(child)}, not a table`);
+  throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: ${here} is ${describeValue(child)}, not a table`);
 }
 
 function parseOverridePath(pathText: string, assignment: string): PathStep[] {
   const bad = (why: string): never => {
-    throw new InputError(`override "${assignment}": ${why}`);
+    throw new InputError(`override ${quoteText(assignment)}: ${why}`);
   };
   if (pathText === '') bad('no key path before "="');
   const steps: PathStep[] = [];
   for (const segment of pathText.split('.')) {
     const match = /^([A-Za-z_][A-Za-z0-9_-]*)((?:\[\d+\])*)$/.exec(segment.trim());
-    if (!match) bad(`"${segment}" is not a valid key (expected e.g. levels.tunnelling or levels.tunnelling[1])`);
+    if (!match) bad(`${quoteText(segment)} is not a valid key (expected e.g. levels.tunnelling or levels.tunnelling[1])`);
     const [, key, indices] = match as RegExpExecArray;
     if (FORBIDDEN_KEYS.has(key)) bad(`"${key}" cannot be used as a key`);
     steps.push(key);
@@ -266,10 +265,14 @@ function parseOverridePath(pathText: string, assignment: string): PathStep[] {
   return steps;
 }
 
-function parseOverrideValue(text: string): unknown {
+function parseOverrideValue(text: string, assignment: string): unknown {
   try {
-    return JSON.parse(text);
-  } catch {
+    return parseJsonStrict(text);
+  } catch (e) {
+    if (e instanceof JsonReadError && e.duplicate) {
+      const key = formatPath(e.duplicate.path.map((s) => (typeof s === 'string' ? keyForPath(s) : s)));
+      throw new InputError(`override ${quoteText(assignment)}: ${key} is given twice in the value; a key may appear once`);
+    }
     return text;
   }
 }
@@ -579,9 +582,9 @@ export function unknownKeyError(section: string, key: string, known: readonly st
   return new SpecError(path, `unknown ${what}${guess ? ` (did you mean ${guess}?)` : ''}; valid ${what}s: ${known.join(', ')}`);
 }
 
-/** A key as it appears in a key path: plain names as they are, anything else quoted and cut. */
+/** A key (or key path) as an error names it: plain names as they are, anything else quoted and cut. */
 export function keyForPath(key: string): string {
-  return /^[A-Za-z0-9_-]{1,60}$/.test(key) ? key : quoteText(key);
+  return /^[A-Za-z0-9_.[\]-]{1,60}$/.test(key) ? key : quoteText(key);
 }
 
 function finiteNumber(value: unknown, path: string): number {

@@ -86,4 +86,20 @@ describe('caps on what a spec may ask for (documented in the README)', () => {
       expect(r.stderr).toContain(`rungchain: ${key}: `);
     }
   });
+
+  it('a 5 MB value in a spec gives one short line on a pipe, for a bad value and for bad JSON', () => {
+    const huge = 'a'.repeat(5_000_000);
+    const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-limits-'));
+    const badValue = path.join(dir, 'value.json');
+    writeFileSync(badValue, `{"chain": {"sites": 4, "boundary": "${huge}"}, "levels": {"count": 2}}`);
+    const badSyntax = path.join(dir, 'syntax.json');
+    writeFileSync(badSyntax, `{"chain": {"sites": 4, "boundary": "${huge}" x}}`);
+    for (const file of [badValue, badSyntax]) {
+      const r = runCli(['check', file], { timeout: 60_000 });
+      expect(r.code).toBe(2);
+      expect(r.stderr.endsWith('\n')).toBe(true);
+      expect(r.stderr.split('\n')).toHaveLength(2);
+      expect(r.stderr.length).toBeLessThan(300);
+    }
+  });
 });
