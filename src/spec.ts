@@ -27,6 +27,7 @@
 //   particles.max_per_site             number (boson); 1 (pinned, hardcore); levels.count (fermion)
 //   particles.hopping                  0                   (not for pinned)
 //   particles.onsite                   0                   (boson only)
+//   particles.<kind>.<key>             (none)              the keys above but kind, for that kind only, over [particles]
 //   [solve] (optional)
 //   solve.states                       4
 //   solve.tolerance                    1e-9
@@ -416,37 +417,87 @@ function rangeAndCutoff(table: Table, section: string): { range: InteractionRang
   return { range, cutoff };
 }
 
-function validateParticles(table: Table, sites: number, count: number): Spec['particles'] {
-  rejectUnknownKeys(table, 'particles', ['kind', 'number', 'max_per_site', 'hopping', 'onsite']);
-  const kind = oneOf(orDefault(table.kind, 'pinned'), 'particles.kind', ['pinned', 'hardcore', 'boson', 'fermion'] as const);
+const PARTICLE_KINDS = ['pinned', 'hardcore', 'boson', 'fermion'] as const;
+const PARTICLE_KEYS = ['kind', 'number', 'max_per_site', 'hopping', 'onsite'];
 
-  // Keys that do nothing for this kind are errors: the user clearly expected them to matter.
-  const notFor = (key: string, why: string): void => {
-    if (table[key] !== undefined) throw new SpecError(`particles.${key}`, `not used for kind = "${kind}" (${why}); remove it`);
-  };
-  if (kind === 'pinned') {
-    const why = 'pinned particles never leave their site';
-    notFor('hopping', why);
-    notFor('onsite', why);
-    notFor('max_per_site', why);
-  } else if (kind === 'hardcore') {
-    notFor('onsite', 'two hardcore particles never share a site; use kind = "boson" for soft-core');
-    notFor('max_per_site', 'hardcore means at most one per site; use kind = "boson" for more');
-  } else if (kind === 'fermion') {
-    notFor('onsite', 'the on-site term is for soft-core bosons');
-    notFor('max_per_site', 'fermions are limited to one per site and level, so a site holds at most levels.count');
+/** Keys that do nothing for a kind, and why: setting one is an error, as the user clearly expected it to matter. */
+function unusedKeys(kind: ParticleKind): Record<string, string> {
+  switch (kind) {
+    case 'pinned': {
+      const why = 'pinned particles never leave their site';
+      return { hopping: why, onsite: why, max_per_site: why };
+    }
+    case 'hardcore':
+      return {
+        onsite: 'two hardcore particles never share a site; use kind = "boson" for soft-core',
+        max_per_site: 'hardcore means at most one per site; use kind = "boson" for more',
+      };
+    case 'fermion':
+      return {
+        onsite: 'the on-site term is for soft-core bosons',
+        max_per_site: 'fermions are limited to one per site and level, so a site holds at most levels.count',
+      };
+    default:
+      return {};
+  }
+}
+
+/**
+ * [particles] with its per-kind tables: `[particles.boson]` (likewise pinned, hardcore, fermion)
+ * holds keys that apply only when the kind is boson, over those of [particles]. So one spec, and
+ * a scan over particles.kind, can give each kind its own settings (bosons at U = 4, the others
+ * without an on-site term). Every kind's table is checked, whether its kind is chosen or not.
+ */
+function validateParticles(particlesTable: Table, sites: number, count: number): Spec['particles'] {
+  rejectUnknownKeys(particlesTable, 'particles', [...PARTICLE_KEYS, ...PARTICLE_KINDS]);
+  const kind = oneOf(orDefault(particlesTable.kind, 'pinned'), 'particles.kind', PARTICLE_KINDS);
+
+  const table: Table = {};
+  // Where each key was set, for errors: particles.onsite or particles.boson.onsite.
+  const origin: Record<string, string> = {};
+  for (const key of PARTICLE_KEYS) {
+    if (particlesTable[key] === undefined) continue;
+    table[key] = particlesTable[key];
+    origin[key] = `particles.${key}`;
+  }
+  for (const tableKind of PARTICLE_KINDS) {
+    if (particlesTable[tableKind] === undefined) continue;
+    const path = `particles.${tableKind}`;
+    const own = particlesTable[tableKind];
+    if (!isTable(own)) throw new SpecError(path, `expected a table of keys for kind = "${tableKind}", got ${describeValue(own)}`);
+    rejectUnknownKeys(own, path, PARTICLE_KEYS.filter((k) => k !== 'kind'));
+    for (const [key, why] of Object.entries(unusedKeys(tableKind))) {
+      if (own[key] !== undefined) throw new SpecError(`${path}.${key}`, `not used for kind = "${tableKind}" (${why}); remove it`);
+    }
+    // Types are checked for every kind's table, so a mistake is found before a scan reaches that kind.
+    for (const [key, value] of Object.entries(own)) {
+      if (key === 'number' || key === 'max_per_site') positiveInteger(value, `${path}.${key}`);
+      else finiteNumber(value, `${path}.${key}`);
+    }
+    if (tableKind !== kind) continue;
+    for (const [key, value] of Object.entries(own)) {
+      table[key] = value;
+      origin[key] = `${path}.${key}`;
+    }
+  }
+  const at = (key: string): string => origin[key] ?? `particles.${key}`;
+
+  for (const [key, why] of Object.entries(unusedKeys(kind))) {
+    if (table[key] === undefined) continue;
+    const elsewhere = PARTICLE_KINDS.filter((k) => !Object.hasOwn(unusedKeys(k), key)).map((k) => `[particles.${k}]`);
+    throw new SpecError(at(key), `not used for kind = "${kind}" (${why}); remove it, or move it to ${elsewhere.join(' or ')} to apply it to that kind only`);
   }
 
-  const number = table.number === undefined ? sites : positiveInteger(table.number, 'particles.number');
+  const number = table.number === undefined ? sites : positiveInteger(table.number, at('number'));
   let maxPerSite: number;
   if (kind === 'boson') {
-    maxPerSite = table.max_per_site === undefined ? number : positiveInteger(table.max_per_site, 'particles.max_per_site');
+    maxPerSite = table.max_per_site === undefined ? number : positiveInteger(table.max_per_site, at('max_per_site'));
   } else {
     maxPerSite = kind === 'fermion' ? count : 1;
   }
 
   if (kind === 'pinned' && number !== sites) {
-    throw new SpecError('particles.number', `pinned particles fill every site exactly once, so number must equal chain.sites = ${sites}, got ${number}`);
+    throw new SpecError(at('number'), `pinned particles fill every site exactly once, so number must equal chain.sites = ${sites}, got ${number}`);
   }
   if (number > sites * maxPerSite) {
     const capacity =
@@ -455,11 +506,11 @@ function validateParticles(table: Table, sites: number, count: number): Spec['pa
         : kind === 'boson'
           ? `${sites} sites with max_per_site = ${maxPerSite} hold at most ${sites * maxPerSite} bosons`
           : `${sites} sites hold at most ${sites} hardcore particles`;
-    throw new SpecError('particles.number', `${capacity}, got ${number}`);
+    throw new SpecError(at('number'), `${capacity}, got ${number}`);
   }
 
-  const hopping = finiteNumber(orDefault(table.hopping, 0), 'particles.hopping');
-  const onsite = finiteNumber(orDefault(table.onsite, 0), 'particles.onsite');
+  const hopping = finiteNumber(orDefault(table.hopping, 0), at('hopping'));
+  const onsite = finiteNumber(orDefault(table.onsite, 0), at('onsite'));
   return { kind, number, maxPerSite, hopping, onsite };
 }
 
