@@ -26,6 +26,7 @@ import { formatBytes } from './resources.js';
 import { DEFAULT_DENSE_THRESHOLD } from './solver.js';
 import { applyOverride, cutText, describeValue, isTable, quoteText, registerSection, unknownKeyError, validateSpec, type Spec } from './spec.js';
 import { runIdentity } from './runfiles.js';
+import { sectorSizes, type SectorSize } from './basis/sectorSizes.js';
 
 export type ScanValue = number | string | boolean | number[] | string[];
 
@@ -291,6 +292,61 @@ export function pointCost(plan: PointPlan): number {
   return dim * termsPerState * matvecs;
 }
 
+/**
+ * Seconds per unit of pointCost, for the rough time estimate `check` prints, measured with
+ * solvePoint on the 2-core development machine: full spaces (pinned 6561 to 177147 states,
+ * itinerant near 50,000) took 1.2 to 3.6 ns per unit; sector solves (pinned 59049 to 16.7 million
+ * states, most sectors only screened) 0.53 to 1.3 ns per unit of their sectors' summed cost. With
+ * these two figures every measured case fell within a factor of 2.5 of its estimate.
+ */
+export const SECONDS_PER_COST_UNIT = 1.5e-9;
+export const SECONDS_PER_SECTOR_COST_UNIT = 0.7e-9;
+/**
+ * A scan's cost per point beyond solving (validating, the record synced to disk, handing out
+ * work): a scan of 2000 points of 16 states took 15.7 s and one of 400 took 4.0 s with 2 workers,
+ * about 15 ms of a worker's time per point.
+ */
+export const SECONDS_PER_SCAN_POINT = 0.015;
+
+/** The sectors a point is solved in, counted exactly without building them (null: the full space at once). */
+export function pointSectors(spec: Spec, plan: PointPlan): SectorSize[] | null {
+  return plan.used ? sectorSizes(plan.model, plan.used, spec.solve.sector).filter((s) => s.dimension > 0) : null;
+}
+
+/** Rough seconds to solve a point: the cost model summed over the sectors it is solved in. */
+export function estimateSeconds(plan: PointPlan, sectors: SectorSize[] | null): number {
+  if (!sectors) return pointCost(plan) * SECONDS_PER_COST_UNIT;
+  return sectors.reduce((sum, s) => sum + pointCost({ ...plan, dimension: s.dimension }), 0) * SECONDS_PER_SECTOR_COST_UNIT;
+}
+
+/** A rough duration for people: seconds to days, two significant figures at most. */
+export function formatDuration(seconds: number): string {
+  if (seconds < 1) return 'under a second';
+  return `about ${roughDuration(seconds)}`;
+}
+
+function roughDuration(seconds: number): string {
+  const round = (x: number) => (x < 10 ? x.toFixed(1).replace(/\.0$/, '') : String(Math.round(x)));
+  if (seconds < 120) return `${round(seconds)} s`;
+  if (seconds < 7200) return `${round(seconds / 60)} min`;
+  if (seconds < 172800) return `${round(seconds / 3600)} h`;
+  return `${round(seconds / 86400)} days`;
+}
+
+/** The lines `check` prints after the sizes of one point: its sectors and a rough time. */
+export function describeWork(spec: Spec, plan: PointPlan): string[] {
+  const sectors = pointSectors(spec, plan);
+  let sectorLine: string;
+  if (sectors) {
+    const largest = sectors.reduce((m, s) => Math.max(m, s.dimension), 0);
+    const copies = sectors.reduce((n, s) => n + s.copies, 0);
+    sectorLine = `sectors          ${sectors.length} to solve${copies > 0 ? ` (and ${copies} reported as their copies)` : ''}, the largest of ${largest} states (counted exactly)`;
+  } else {
+    sectorLine = `sectors          1: the full space of ${plan.dimension} states, no symmetry used`;
+  }
+  return [sectorLine, `time estimate    ${formatDuration(estimateSeconds(plan, sectors))} (rough: within a factor of 3 on a 2-core machine)`];
+}
+
 export interface ScanSizes {
   points: number;
   largest: { index: number; params: ScanParams; plan: PointPlan };
@@ -327,12 +383,14 @@ export function describeScan(raw: Record<string, unknown>, spec: Spec, limit: nu
   const overLimit: number[] = [];
   // The `workers` largest estimates, for what the workers need solving at once.
   const topMemory: number[] = [];
+  let seconds = 0;
   for (const point of eachScanPoint(raw, section)) {
     const plan = planPoint(point.spec, { maxMemory: limit });
     const pick = { index: point.index, params: point.params, plan };
     if (!largest || plan.dimension > largest.plan.dimension) largest = pick;
     if (!largestMemory || plan.memory.totalBytes > largestMemory.plan.memory.totalBytes) largestMemory = pick;
     if (plan.memory.totalBytes > limit) overLimit.push(point.index);
+    seconds += estimateSeconds(plan, pointSectors(point.spec, plan)) + SECONDS_PER_SCAN_POINT;
     topMemory.push(plan.memory.totalBytes);
     topMemory.sort((a, b) => b - a);
     if (topMemory.length > Math.max(1, workers)) topMemory.pop();
@@ -347,6 +405,9 @@ export function describeScan(raw: Record<string, unknown>, spec: Spec, limit: nu
   ];
   const atOnce = topMemory.reduce((s, b) => s + b, 0);
   lines.push(`                 up to ${formatBytes(atOnce)} with ${workers} worker${workers === 1 ? '' : 's'} solving at once`);
+  // Workers share the points; a single large point also spreads over the cores, so this holds either way.
+  const perWorker = seconds / Math.max(1, workers);
+  lines.push(`time estimate    ${formatDuration(perWorker)} with ${workers} worker${workers === 1 ? '' : 's'} (rough: within a factor of 3 on a 2-core machine)`);
   if (overLimit.length > 0) {
     lines.push(`${overLimit.length} point${overLimit.length === 1 ? ' exceeds' : 's exceed'} the memory limit and would be recorded as failed: #${overLimit.slice(0, 10).join(', #')}${overLimit.length > 10 ? ', ...' : ''}`);
   }

@@ -6,7 +6,7 @@ import { describePlan, describeRecord } from '../../src/tables.js';
 import { runDemo } from '../../src/demo.js';
 import { collect, memoryLimit } from './shared.js';
 import { describeLabEnergies, labEnergies, labUnits } from '../../src/units.js';
-import { describeScan } from '../../src/scan.js';
+import { describeScan, describeWork } from '../../src/scan.js';
 import { defaultWorkerCount } from '../../src/scanRunner.js';
 
 export function registerSolveCommands(program: Command): void {
@@ -25,6 +25,7 @@ export function registerSolveCommands(program: Command): void {
       }
       const plan = planPoint(spec, { maxMemory: limit });
       console.log(describePlan(plan, limit));
+      console.log(describeWork(spec, plan).join('\n'));
       if (plan.memory.totalBytes > limit) console.log('solve would refuse this problem: the estimate exceeds the limit');
     });
 
