@@ -371,7 +371,7 @@ export function planEvolution(raw: Record<string, unknown>, spec: Spec): Evoluti
       const s = specWith(raw, spec, [[ramp.key, end]], () => `${ramp.path}.key`);
       const m = buildModel(s);
       if (m.kind !== model.kind || basisDimension(m) !== dimension) {
-        throw new SpecError(`${ramp.path}.key`, `${ramp.key} changes the basis (dimension ${dimension} -> ${basisDimension(m)}); a ramp may only move couplings`);
+        throw new SpecError(`${ramp.path}.key`, `${cutText(ramp.key)} changes the basis (dimension ${dimension} -> ${basisDimension(m)}); a ramp may only move couplings`);
       }
     }
   }

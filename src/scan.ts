@@ -224,7 +224,7 @@ export function linesOf(section: ScanSection): number[][] {
 /** A point's scanned values for people to read: each value cut to a readable length, control characters escaped. */
 export function formatParams(params: ScanParams): string {
   return Object.entries(params)
-    .map(([k, v]) => `${k}=${typeof v === 'string' && /^[^\u0000-\u001f\u007f]*$/.test(v) ? cutText(v) : cutText(JSON.stringify(v))}`)
+    .map(([k, v]) => `${cutText(k)}=${typeof v === 'string' && /^[^\u0000-\u001f\u007f]*$/.test(v) ? cutText(v) : cutText(JSON.stringify(v))}`)
     .join(' ');
 }
 

@@ -133,7 +133,7 @@ export function parseSpecText(text: string, format: 'toml' | 'json', sourceName 
         return `${line}:${column}`;
       };
       if (e.duplicate) {
-        const path = formatPath(e.duplicate.path.map((s) => (typeof s === 'string' ? keyForPath(s) : s)));
+        const path = formatPath(e.duplicate.path);
         throw new InputError(`${sourceName}:${at(e.offset)}: ${path} is given twice (first at ${at(e.duplicate.firstOffset)}); a key may appear once`);
       }
       throw new InputError(`${sourceName}:${at(e.offset)}: invalid JSON: ${e.problem}`);
@@ -271,7 +271,7 @@ function parseOverrideValue(text: string, assignment: string): unknown {
     return parseJsonStrict(text);
   } catch (e) {
     if (e instanceof JsonReadError && e.duplicate) {
-      const key = formatPath(e.duplicate.path.map((s) => (typeof s === 'string' ? keyForPath(s) : s)));
+      const key = formatPath(e.duplicate.path);
       throw new InputError(`override ${quoteText(assignment)}: ${key} is given twice in the value; a key may appear once`);
     }
     return text;
@@ -279,7 +279,7 @@ function parseOverrideValue(text: string, assignment: string): unknown {
 }
 
 function formatPath(steps: readonly PathStep[]): string {
-  return steps.map((s, i) => (typeof s === 'number' ? `[${s}]` : i === 0 ? s : `.${s}`)).join('');
+  return steps.map((s, i) => (typeof s === 'number' ? `[${s}]` : i === 0 ? keyForPath(s) : `.${keyForPath(s)}`)).join('');
 }
 
 // ---------------------------------------------------------------------------------------------

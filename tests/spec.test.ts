@@ -232,6 +232,8 @@ seed = 7
       expect(e.message.length, e.message.slice(0, 300)).toBeLessThan(400);
       expect(e.message).not.toMatch(/[\u0000-\u001f]/);
     }
+    const longKey = 'c'.repeat(5_000_000);
+    expect(() => applyOverride({}, `${longKey}[0]=1`)).toThrow(/^"c+"\.\.\. \(5000000 characters\): [^\u0000-\u001f]{1,300}$/);
     expect(() => applyOverride({}, `chain.sites${huge}=1`)).toThrow(/^override "chain\.sitesb+"\.\.\. \(5000015 characters\): [^\u0000-\u001f]{1,300}$/);
   });
 
