@@ -35,7 +35,7 @@ import { basisProbabilities, pinnedObservables, type Observables } from './obser
 import { itinerantObservables } from './observables/itinerant.js';
 import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES, type MemoryEstimate } from './resources.js';
 import { defaultKrylovSize, lowestEigenpairs } from './solver.js';
-import { applyOverride, describeValue, isTable, registerSection, validateSpec, type Spec } from './spec.js';
+import { applyOverride, cutText, describeValue, isTable, keyForPath, quoteText, registerSection, unknownKeyError, validateSpec, type Spec } from './spec.js';
 import { labUnits } from './units.js';
 import { complexDot, complexView, expectation, KrylovPropagator, toComplex, vectorNorm, type ComplexOperator } from './evolve/krylov.js';
 import { productState, siteAmplitudes, type Pulse } from './evolve/initial.js';
@@ -72,7 +72,7 @@ type Table = Record<string, unknown>;
 
 function onlyKeys(table: Table, path: string, known: readonly string[]): void {
   for (const key of Object.keys(table)) {
-    if (!known.includes(key)) throw new SpecError(`${path}.${key}`, `unknown key (known: ${known.join(', ')})`);
+    if (!known.includes(key)) throw unknownKeyError(path, key, known);
   }
 }
 
@@ -134,7 +134,7 @@ function validateInitial(value: unknown, path: string): InitialState {
       onlyKeys(t, at, ['between', 'area', 'phase', 'sites']);
       const between = integerList(t.between, `${at}.between`);
       if (between.length !== 2 || between[0] === between[1]) {
-        throw new SpecError(`${at}.between`, `expected two different levels [a, b], got ${JSON.stringify(t.between)}`);
+        throw new SpecError(`${at}.between`, `expected two different levels [a, b], got ${describeValue(t.between)}`);
       }
       if (t.area === undefined) throw new SpecError(`${at}.area`, 'required key is missing (pi for a full transfer, pi/2 for an equal superposition)');
       pulses.push({
@@ -148,10 +148,19 @@ function validateInitial(value: unknown, path: string): InitialState {
   return { kind: 'levels', levels, pulses };
 }
 
+/**
+ * Most recorded times of one trace, and most pieces of one ramp. Each recorded time is a record
+ * with every observable; each ramp piece is a Hamiltonian rebuilt. Beyond these a trace is a
+ * mistake (a stray exponent in `steps`), and the count is checked before any time is made.
+ */
+export const MAX_EVOLVE_TIMES = 100_000;
+export const MAX_RAMP_STEPS = 100_000;
+
 function validateTimes(value: unknown, path: string): number[] {
   if (value === undefined) throw new SpecError(path, 'required key is missing (a list of times, or { from, to, steps })');
   if (Array.isArray(value)) {
     if (value.length === 0) throw new SpecError(path, 'expected at least one time');
+    if (value.length > MAX_EVOLVE_TIMES) throw new SpecError(path, `at most ${MAX_EVOLVE_TIMES} recorded times, got ${value.length}`);
     const times = value.map((v, i) => nonNegative(v, `${path}[${i}]`));
     for (let i = 1; i < times.length; i++) {
       if (!(times[i] > times[i - 1])) throw new SpecError(`${path}[${i}]`, `times must increase strictly; ${times[i]} follows ${times[i - 1]}`);
@@ -166,6 +175,8 @@ function validateTimes(value: unknown, path: string): number[] {
   if (!(to > from)) throw new SpecError(`${path}.to`, `must exceed from = ${from}, got ${to}`);
   if (t.steps === undefined) throw new SpecError(`${path}.steps`, 'required key is missing (the number of intervals; steps+1 times are recorded)');
   const steps = integerAtLeast(t.steps, `${path}.steps`, 1);
+  // steps + 1 times are recorded.
+  if (steps >= MAX_EVOLVE_TIMES) throw new SpecError(`${path}.steps`, `at most ${MAX_EVOLVE_TIMES - 1} (steps + 1 times are recorded, at most ${MAX_EVOLVE_TIMES}), got ${steps}`);
   return Array.from({ length: steps + 1 }, (_, k) => (k === steps ? to : from + ((to - from) * k) / steps));
 }
 
@@ -177,7 +188,7 @@ function validateRamp(value: unknown, path: string): Ramp {
   }
   const key = t.key.trim();
   if (key.startsWith('evolve.') || key === 'evolve' || key.startsWith('scan.')) {
-    throw new SpecError(`${path}.key`, `a ramp moves a model key, not ${key}`);
+    throw new SpecError(`${path}.key`, `a ramp moves a model key, not ${quoteText(key)}`);
   }
   for (const required of ['from', 'to', 'duration']) {
     if (t[required] === undefined) throw new SpecError(`${path}.${required}`, 'required key is missing');
@@ -189,8 +200,14 @@ function validateRamp(value: unknown, path: string): Ramp {
     to: finite(t.to, `${path}.to`),
     duration: positive(t.duration, `${path}.duration`),
     start: t.start === undefined ? 0 : nonNegative(t.start, `${path}.start`),
-    steps: t.steps === undefined ? 100 : integerAtLeast(t.steps, `${path}.steps`, 1),
+    steps: t.steps === undefined ? 100 : rampSteps(t.steps, `${path}.steps`),
   };
+}
+
+function rampSteps(value: unknown, path: string): number {
+  const steps = integerAtLeast(value, path, 1);
+  if (steps > MAX_RAMP_STEPS) throw new SpecError(path, `at most ${MAX_RAMP_STEPS} pieces per ramp, got ${steps}`);
+  return steps;
 }
 
 export function validateEvolveSection(value: unknown, keyPath: string): EvolveSection {
@@ -306,7 +323,7 @@ function specWith(
     try {
       applyOverride(clone, `${key}=${JSON.stringify(value)}`);
     } catch (e) {
-      if (e instanceof SpecError || e instanceof Error) throw new SpecError(blame(key, index), `cannot set ${key}: ${e.message}`);
+      if (e instanceof SpecError || e instanceof Error) throw new SpecError(blame(key, index), `cannot set ${cutText(key)}: ${e.message}`);
       throw e;
     }
   });
@@ -319,7 +336,7 @@ function specWith(
       0,
       assignments.findIndex(([key]) => e.keyPath === key || e.keyPath.startsWith(`${key}[`) || e.keyPath.startsWith(`${key}.`)),
     );
-    const setting = assignments.map(([k, v]) => `${k} = ${JSON.stringify(v)}`).join(', ');
+    const setting = assignments.map(([k, v]) => `${cutText(k)} = ${cutText(JSON.stringify(v))}`).join(', ');
     throw new SpecError(blame(assignments[culprit][0], culprit), `with ${setting}: ${e.message}`);
   }
 }
@@ -354,7 +371,7 @@ export function planEvolution(raw: Record<string, unknown>, spec: Spec): Evoluti
       const s = specWith(raw, spec, [[ramp.key, end]], () => `${ramp.path}.key`);
       const m = buildModel(s);
       if (m.kind !== model.kind || basisDimension(m) !== dimension) {
-        throw new SpecError(`${ramp.path}.key`, `${ramp.key} changes the basis (dimension ${dimension} -> ${basisDimension(m)}); a ramp may only move couplings`);
+        throw new SpecError(`${ramp.path}.key`, `${cutText(ramp.key)} changes the basis (dimension ${dimension} -> ${basisDimension(m)}); a ramp may only move couplings`);
       }
     }
   }
@@ -364,7 +381,7 @@ export function planEvolution(raw: Record<string, unknown>, spec: Spec): Evoluti
   if (section.initial.kind === 'ground_state') {
     const assignments: [string, unknown][] = [...ramps.map((r): [string, unknown] => [r.key, r.from]), ...section.initial.changes];
     initialSpec = specWith(raw, spec, assignments, (key, index) =>
-      index < ramps.length ? `${ramps[index].path}.from` : `evolve.initial.ground_state.${key}`,
+      index < ramps.length ? `${ramps[index].path}.from` : `evolve.initial.ground_state.${keyForPath(key)}`,
     );
     const m = buildModel(initialSpec);
     if (m.kind !== model.kind || basisDimension(m) !== dimension) {

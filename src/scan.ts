@@ -24,8 +24,9 @@ import { InputError, SpecError } from './errors.js';
 import { planPoint, type PointPlan } from './point.js';
 import { formatBytes } from './resources.js';
 import { DEFAULT_DENSE_THRESHOLD } from './solver.js';
-import { applyOverride, isTable, registerSection, validateSpec, type Spec } from './spec.js';
+import { applyOverride, cutText, describeValue, isTable, quoteText, registerSection, unknownKeyError, validateSpec, type Spec } from './spec.js';
 import { runIdentity } from './runfiles.js';
+import { sectorSizes, type SectorSize } from './basis/sectorSizes.js';
 
 export type ScanValue = number | string | boolean | number[] | string[];
 
@@ -66,6 +67,14 @@ export interface ScanPlan {
 
 const AXIS_KEYS = ['key', 'values', 'from', 'to', 'steps', 'spacing'];
 
+/**
+ * Most points one scan may have. Every point is validated and sized before anything runs and
+ * held in memory while the scan runs (`check` of 100,000 small points: about 8 s and 0.6 GB), and
+ * each is a record in the run folder; a grid beyond this is a mistake (a stray exponent in
+ * `steps`), not a study. Counted from the axes' lengths before any value is made.
+ */
+export const MAX_SCAN_POINTS = 100_000;
+
 /** Removes rounding dust from computed axis values (0.30000000000000004 -> 0.3). */
 function tidy(x: number): number {
   return Number(x.toPrecision(15));
@@ -85,12 +94,12 @@ function validateValue(value: unknown, path: string): ScanValue {
 function validateAxis(value: unknown, path: string): ScanAxis {
   if (!isTable(value)) throw new SpecError(path, 'expected a table with key and values (or from/to/steps)');
   for (const k of Object.keys(value)) {
-    if (!AXIS_KEYS.includes(k)) throw new SpecError(`${path}.${k}`, `unknown key (an axis has ${AXIS_KEYS.join(', ')})`);
+    if (!AXIS_KEYS.includes(k)) throw unknownKeyError(path, k, AXIS_KEYS);
   }
   const key = value.key;
   if (typeof key !== 'string' || key.trim() === '') throw new SpecError(`${path}.key`, 'required: the spec key path this axis sets, e.g. "exchange.strength"');
   if (!/^[A-Za-z_][A-Za-z0-9_-]*(\[\d+\])*(\.[A-Za-z_][A-Za-z0-9_-]*(\[\d+\])*)+$/.test(key)) {
-    throw new SpecError(`${path}.key`, `"${key}" is not a key path of the form section.key (e.g. levels.count, levels.tunnelling[1])`);
+    throw new SpecError(`${path}.key`, `${quoteText(key)} is not a key path of the form section.key (e.g. levels.count, levels.tunnelling[1])`);
   }
   if (key.split('.')[0] === 'scan') throw new SpecError(`${path}.key`, 'an axis cannot scan the [scan] section itself');
 
@@ -99,20 +108,24 @@ function validateAxis(value: unknown, path: string): ScanAxis {
     if (hasRange) throw new SpecError(path, 'give either values or from/to/steps, not both');
     if (value.spacing !== undefined) throw new SpecError(`${path}.spacing`, 'only applies to from/to/steps');
     if (!Array.isArray(value.values) || value.values.length === 0) throw new SpecError(`${path}.values`, 'expected a non-empty list');
+    if (value.values.length > MAX_SCAN_POINTS) {
+      throw new SpecError(`${path}.values`, `at most ${MAX_SCAN_POINTS} values on an axis (a scan has at most ${MAX_SCAN_POINTS} points), got ${value.values.length}`);
+    }
     return { key, values: value.values.map((v, i) => validateValue(v, `${path}.values[${i}]`)), spacing: 'values' };
   }
   if (!hasRange) throw new SpecError(path, 'needs values = [...] or from, to and steps');
   const number = (k: string): number => {
     const v = value[k];
-    if (typeof v !== 'number' || !Number.isFinite(v)) throw new SpecError(`${path}.${k}`, v === undefined ? 'required with from/to/steps' : `expected a finite number, got ${JSON.stringify(v)}`);
+    if (typeof v !== 'number' || !Number.isFinite(v)) throw new SpecError(`${path}.${k}`, v === undefined ? 'required with from/to/steps' : `expected a finite number, got ${describeValue(v)}`);
     return v;
   };
   const from = number('from');
   const to = number('to');
   const steps = number('steps');
   if (!Number.isInteger(steps) || steps < 1) throw new SpecError(`${path}.steps`, `expected a positive integer (the number of values, ends included), got ${steps}`);
+  if (steps > MAX_SCAN_POINTS) throw new SpecError(`${path}.steps`, `at most ${MAX_SCAN_POINTS} values on an axis (a scan has at most ${MAX_SCAN_POINTS} points), got ${steps}`);
   const spacing = value.spacing === undefined ? 'linear' : value.spacing;
-  if (spacing !== 'linear' && spacing !== 'log') throw new SpecError(`${path}.spacing`, `expected "linear" or "log", got ${JSON.stringify(spacing)}`);
+  if (spacing !== 'linear' && spacing !== 'log') throw new SpecError(`${path}.spacing`, `expected "linear" or "log", got ${describeValue(spacing)}`);
   if (steps === 1 && from !== to) throw new SpecError(`${path}.steps`, `one step cannot reach from = ${from} to = ${to}; use steps >= 2 or values = [${from}]`);
   const values: number[] = [];
   if (spacing === 'log') {
@@ -129,18 +142,29 @@ function validateAxis(value: unknown, path: string): ScanAxis {
 export function validateScanSection(value: unknown, path: string): ScanSection {
   if (!isTable(value)) throw new SpecError(path, 'expected a table with [[scan.axis]] entries');
   for (const k of Object.keys(value)) {
-    if (k !== 'axis' && k !== 'zip') throw new SpecError(`${path}.${k}`, 'unknown key (the scan section has axis and zip)');
+    if (k !== 'axis' && k !== 'zip') throw unknownKeyError(path, k, ['axis', 'zip']);
   }
   const zip = value.zip === undefined ? false : value.zip;
-  if (typeof zip !== 'boolean') throw new SpecError(`${path}.zip`, `expected true or false, got ${JSON.stringify(zip)}`);
+  if (typeof zip !== 'boolean') throw new SpecError(`${path}.zip`, `expected true or false, got ${describeValue(zip)}`);
   const rawAxes = value.axis;
   if (rawAxes === undefined) throw new SpecError(`${path}.axis`, 'required: at least one [[scan.axis]]');
   const list = Array.isArray(rawAxes) ? rawAxes : [rawAxes];
   if (list.length === 0) throw new SpecError(`${path}.axis`, 'required: at least one [[scan.axis]]');
   const axes = list.map((a, i) => validateAxis(a, `${path}.axis[${i}]`));
+  if (!zip) {
+    // Multiplied axis by axis so the count never runs past the cap (or past exact integers).
+    let count = 1;
+    axes.forEach((a, i) => {
+      count *= a.values.length;
+      if (count > MAX_SCAN_POINTS) {
+        const lengths = axes.map((b) => b.values.length).join(' x ');
+        throw new SpecError(`${path}.axis[${i}]`, `the grid ${lengths} has more than ${MAX_SCAN_POINTS} points (the most one scan may have); split the scan or use zip = true`);
+      }
+    });
+  }
   const seen = new Map<string, number>();
   axes.forEach((a, i) => {
-    if (seen.has(a.key)) throw new SpecError(`${path}.axis[${i}].key`, `"${a.key}" is already scanned by ${path}.axis[${seen.get(a.key)}]`);
+    if (seen.has(a.key)) throw new SpecError(`${path}.axis[${i}].key`, `${quoteText(a.key)} is already scanned by ${path}.axis[${seen.get(a.key)}]`);
     seen.set(a.key, i);
   });
   if (zip) {
@@ -197,9 +221,10 @@ export function linesOf(section: ScanSection): number[][] {
   return lines;
 }
 
+/** A point's scanned values for people to read: each value cut to a readable length, control characters escaped. */
 export function formatParams(params: ScanParams): string {
   return Object.entries(params)
-    .map(([k, v]) => `${k}=${typeof v === 'string' ? v : JSON.stringify(v)}`)
+    .map(([k, v]) => `${cutText(k)}=${typeof v === 'string' && /^[^\u0000-\u001f\u007f]*$/.test(v) ? cutText(v) : cutText(JSON.stringify(v))}`)
     .join(' ');
 }
 
@@ -217,10 +242,20 @@ export function pointTree(raw: Record<string, unknown>, params: ScanParams): Rec
  * is a SpecError naming the key and the point. `raw` is the tree after --set overrides.
  */
 export function expandScan(raw: Record<string, unknown>, spec: Spec): ScanPlan {
+  const section = requireScan(spec);
+  const points = [...eachScanPoint(raw, section)];
+  return { section, points, lines: linesOf(section), identity: scanIdentity(raw, section) };
+}
+
+function requireScan(spec: Spec): ScanSection {
   const section = scanOf(spec);
   if (!section) throw new InputError('the spec has no [scan] section (add [[scan.axis]] entries, or use `rungchain solve`)');
+  return section;
+}
+
+/** The points of a scan one at a time, each validated, so a caller that only sizes them holds one at a time. */
+export function* eachScanPoint(raw: Record<string, unknown>, section: ScanSection): Generator<ScanPoint> {
   const total = pointCount(section);
-  const points: ScanPoint[] = [];
   for (let index = 0; index < total; index++) {
     const params = paramsOf(section, index);
     let tree: Record<string, unknown>;
@@ -232,9 +267,8 @@ export function expandScan(raw: Record<string, unknown>, spec: Spec): ScanPlan {
       if (e instanceof SpecError) throw new SpecError(e.keyPath, `${e.problem} (in scan point ${index}: ${formatParams(params)})`);
       throw e;
     }
-    points.push({ index, params, raw: tree, spec: pointSpec });
+    yield { index, params, raw: tree, spec: pointSpec };
   }
-  return { section, points, lines: linesOf(section), identity: scanIdentity(raw, section) };
 }
 
 /** What determines a scan's records: the spec tree (with overrides) and the expanded axes. */
@@ -256,6 +290,61 @@ export function pointCost(plan: PointPlan): number {
   const termsPerState = plan.model.sites * (plan.model.levels + plan.model.exchangePairs.count / Math.max(1, plan.model.sites) + 1);
   const matvecs = 300;
   return dim * termsPerState * matvecs;
+}
+
+/**
+ * Seconds per unit of pointCost, for the rough time estimate `check` prints, measured with
+ * solvePoint on the 2-core development machine: full spaces (pinned 6561 to 177147 states,
+ * itinerant near 50,000) took 1.2 to 3.6 ns per unit; sector solves (pinned 59049 to 16.7 million
+ * states, most sectors only screened) 0.53 to 1.3 ns per unit of their sectors' summed cost. With
+ * these two figures every measured case fell within a factor of 2.5 of its estimate.
+ */
+export const SECONDS_PER_COST_UNIT = 1.5e-9;
+export const SECONDS_PER_SECTOR_COST_UNIT = 0.7e-9;
+/**
+ * A scan's cost per point beyond solving (validating, the record synced to disk, handing out
+ * work): a scan of 2000 points of 16 states took 15.7 s and one of 400 took 4.0 s with 2 workers,
+ * about 15 ms of a worker's time per point.
+ */
+export const SECONDS_PER_SCAN_POINT = 0.015;
+
+/** The sectors a point is solved in, counted exactly without building them (null: the full space at once). */
+export function pointSectors(spec: Spec, plan: PointPlan): SectorSize[] | null {
+  return plan.used ? sectorSizes(plan.model, plan.used, spec.solve.sector).filter((s) => s.dimension > 0) : null;
+}
+
+/** Rough seconds to solve a point: the cost model summed over the sectors it is solved in. */
+export function estimateSeconds(plan: PointPlan, sectors: SectorSize[] | null): number {
+  if (!sectors) return pointCost(plan) * SECONDS_PER_COST_UNIT;
+  return sectors.reduce((sum, s) => sum + pointCost({ ...plan, dimension: s.dimension }), 0) * SECONDS_PER_SECTOR_COST_UNIT;
+}
+
+/** A rough duration for people: seconds to days, two significant figures at most. */
+export function formatDuration(seconds: number): string {
+  if (seconds < 1) return 'under a second';
+  return `about ${roughDuration(seconds)}`;
+}
+
+function roughDuration(seconds: number): string {
+  const round = (x: number) => (x < 10 ? x.toFixed(1).replace(/\.0$/, '') : String(Math.round(x)));
+  if (seconds < 120) return `${round(seconds)} s`;
+  if (seconds < 7200) return `${round(seconds / 60)} min`;
+  if (seconds < 172800) return `${round(seconds / 3600)} h`;
+  return `${round(seconds / 86400)} days`;
+}
+
+/** The lines `check` prints after the sizes of one point: its sectors and a rough time. */
+export function describeWork(spec: Spec, plan: PointPlan): string[] {
+  const sectors = pointSectors(spec, plan);
+  let sectorLine: string;
+  if (sectors) {
+    const largest = sectors.reduce((m, s) => Math.max(m, s.dimension), 0);
+    const copies = sectors.reduce((n, s) => n + s.copies, 0);
+    sectorLine = `sectors          ${sectors.length} to solve${copies > 0 ? ` (and ${copies} reported as their copies)` : ''}, the largest of ${largest} states (counted exactly)`;
+  } else {
+    sectorLine = `sectors          1: the full space of ${plan.dimension} states, no symmetry used`;
+  }
+  return [sectorLine, `time estimate    ${formatDuration(estimateSeconds(plan, sectors))} (rough: within a factor of 3 on a 2-core machine)`];
 }
 
 export interface ScanSizes {
@@ -281,21 +370,46 @@ export function sizeScan(plan: ScanPlan, limit: number): ScanSizes {
   return { points: plan.points.length, largest: pick(largest), largestMemory: pick(largestMemory), overLimit, plans };
 }
 
-/** What `rungchain check` prints for a spec with a [scan] section. */
-export function describeScan(plan: ScanPlan, limit: number, workers: number): string {
-  const sizes = sizeScan(plan, limit);
-  const { section } = plan;
+/**
+ * What `rungchain check` prints for a spec with a [scan] section. Points are validated and sized
+ * one at a time and only the figures kept, so checking a large grid holds no expanded scan.
+ */
+export function describeScan(raw: Record<string, unknown>, spec: Spec, limit: number, workers: number): string {
+  const section = requireScan(spec);
+  const points = pointCount(section);
+  type Pick = { index: number; params: ScanParams; plan: PointPlan };
+  let largest: Pick | null = null;
+  let largestMemory: Pick | null = null;
+  const overLimit: number[] = [];
+  // The `workers` largest estimates, for what the workers need solving at once.
+  const topMemory: number[] = [];
+  let seconds = 0;
+  for (const point of eachScanPoint(raw, section)) {
+    const plan = planPoint(point.spec, { maxMemory: limit });
+    const pick = { index: point.index, params: point.params, plan };
+    if (!largest || plan.dimension > largest.plan.dimension) largest = pick;
+    if (!largestMemory || plan.memory.totalBytes > largestMemory.plan.memory.totalBytes) largestMemory = pick;
+    if (plan.memory.totalBytes > limit) overLimit.push(point.index);
+    seconds += estimateSeconds(plan, pointSectors(point.spec, plan)) + SECONDS_PER_SCAN_POINT;
+    topMemory.push(plan.memory.totalBytes);
+    topMemory.sort((a, b) => b - a);
+    if (topMemory.length > Math.max(1, workers)) topMemory.pop();
+  }
+  const big = largest as Pick;
+  const heavy = largestMemory as Pick;
   const shape = section.axes.map((a) => `${a.key} (${a.values.length} ${a.spacing === 'values' ? 'values' : `${a.spacing} steps`})`);
   const lines = [
-    `scan             ${sizes.points} point${sizes.points === 1 ? '' : 's'}, ${section.zip ? 'zipped' : 'grid'}: ${shape.join(section.zip ? ' with ' : ' x ')}`,
-    `largest point    #${sizes.largest.index} (${formatParams(sizes.largest.params)}): basis dimension ${sizes.largest.plan.dimension}`,
-    `memory estimate  ${formatBytes(sizes.largestMemory.plan.memory.totalBytes)} for the largest point (#${sizes.largestMemory.index}), limit ${formatBytes(limit)}`,
+    `scan             ${points} point${points === 1 ? '' : 's'}, ${section.zip ? 'zipped' : 'grid'}: ${shape.join(section.zip ? ' with ' : ' x ')}`,
+    `largest point    #${big.index} (${formatParams(big.params)}): basis dimension ${big.plan.dimension}`,
+    `memory estimate  ${formatBytes(heavy.plan.memory.totalBytes)} for the largest point (#${heavy.index}), limit ${formatBytes(limit)}`,
   ];
-  const byMemory = sizes.plans.map((p) => p.memory.totalBytes).sort((a, b) => b - a);
-  const atOnce = byMemory.slice(0, Math.max(1, workers)).reduce((s, b) => s + b, 0);
+  const atOnce = topMemory.reduce((s, b) => s + b, 0);
   lines.push(`                 up to ${formatBytes(atOnce)} with ${workers} worker${workers === 1 ? '' : 's'} solving at once`);
-  if (sizes.overLimit.length > 0) {
-    lines.push(`${sizes.overLimit.length} point${sizes.overLimit.length === 1 ? ' exceeds' : 's exceed'} the memory limit and would be recorded as failed: #${sizes.overLimit.slice(0, 10).join(', #')}${sizes.overLimit.length > 10 ? ', ...' : ''}`);
+  // Workers share the points; a single large point also spreads over the cores, so this holds either way.
+  const perWorker = seconds / Math.max(1, workers);
+  lines.push(`time estimate    ${formatDuration(perWorker)} with ${workers} worker${workers === 1 ? '' : 's'} (rough: within a factor of 3 on a 2-core machine)`);
+  if (overLimit.length > 0) {
+    lines.push(`${overLimit.length} point${overLimit.length === 1 ? ' exceeds' : 's exceed'} the memory limit and would be recorded as failed: #${overLimit.slice(0, 10).join(', #')}${overLimit.length > 10 ? ', ...' : ''}`);
   }
   return lines.join('\n');
 }

@@ -27,6 +27,7 @@
 //   particles.max_per_site             number (boson); 1 (pinned, hardcore); levels.count (fermion)
 //   particles.hopping                  0                   (not for pinned)
 //   particles.onsite                   0                   (boson only)
+//   particles.<kind>.<key>             (none)              the keys above but kind, for that kind only, over [particles]
 //   [solve] (optional)
 //   solve.states                       4
 //   solve.tolerance                    1e-9
@@ -48,6 +49,7 @@ import { readFileSync } from 'node:fs';
 import { extname } from 'node:path';
 import { parse as parseToml, TomlError } from 'smol-toml';
 import { InputError, SpecError } from './errors.js';
+import { JsonReadError, lineAndColumn, parseJsonStrict } from './spec/json.js';
 
 export type ParticleKind = 'pinned' | 'hardcore' | 'boson' | 'fermion';
 export type ChainBoundary = 'open' | 'periodic';
@@ -123,9 +125,18 @@ export function parseSpecText(text: string, format: 'toml' | 'json', sourceName 
     }
   } else {
     try {
-      tree = JSON.parse(text);
+      tree = parseJsonStrict(text);
     } catch (e) {
-      throw new InputError(`${sourceName}${jsonErrorLocation(text, e)}: invalid JSON: ${errorText(e)}`);
+      if (!(e instanceof JsonReadError)) throw e;
+      const at = (offset: number): string => {
+        const { line, column } = lineAndColumn(text, offset);
+        return `${line}:${column}`;
+      };
+      if (e.duplicate) {
+        const path = formatPath(e.duplicate.path);
+        throw new InputError(`${sourceName}:${at(e.offset)}: ${path} is given twice (first at ${at(e.duplicate.firstOffset)}); a key may appear once`);
+      }
+      throw new InputError(`${sourceName}:${at(e.offset)}: invalid JSON: ${e.problem}`);
     }
     if (!isTable(tree)) {
       throw new InputError(`${sourceName}: a spec must be a JSON object of sections, got ${describeValue(tree)}`);
@@ -174,17 +185,6 @@ function fileErrorText(e: unknown): string {
   }
 }
 
-// V8 reports JSON errors by character offset (when at all); users want line and column.
-function jsonErrorLocation(text: string, e: unknown): string {
-  const match = /position (\d+)/.exec(errorText(e));
-  if (!match) return '';
-  const offset = Number(match[1]);
-  const before = text.slice(0, offset);
-  const line = before.split('\n').length;
-  const column = offset - before.lastIndexOf('\n');
-  return `:${line}:${column}`;
-}
-
 // ---------------------------------------------------------------------------------------------
 // Command-line overrides
 
@@ -202,12 +202,12 @@ const FORBIDDEN_KEYS = new Set(['__proto__', 'prototype', 'constructor']);
 export function applyOverride(raw: Record<string, unknown>, assignment: string): void {
   const equals = assignment.indexOf('=');
   if (equals < 0) {
-    throw new InputError(`override "${assignment}": expected key.path=value, e.g. exchange.strength=2.5`);
+    throw new InputError(`override ${quoteText(assignment)}: expected key.path=value, e.g. exchange.strength=2.5`);
   }
   const steps = parseOverridePath(assignment.slice(0, equals).trim(), assignment);
   const valueText = assignment.slice(equals + 1).trim();
-  if (valueText === '') throw new InputError(`override "${assignment}": no value after "="`);
-  const value = parseOverrideValue(valueText);
+  if (valueText === '') throw new InputError(`override ${quoteText(assignment)}: no value after "="`);
+  const value = parseOverrideValue(valueText, assignment);
 
   let container: Table | unknown[] = raw;
   for (let i = 0; i < steps.length; i++) {
@@ -219,10 +219,10 @@ export function applyOverride(raw: Record<string, unknown>, assignment: string):
       // container is then an array.
       const list = container as unknown[];
       if (step >= list.length) {
-        throw new SpecError(here, `cannot apply override "${assignment}": index ${step} is past the end of a list of ${list.length}`);
+        throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: index ${step} is past the end of a list of ${list.length}`);
       }
       if (isLast) {
-        if (value === null) throw new SpecError(here, `cannot apply override "${assignment}": a single list element cannot be removed`);
+        if (value === null) throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: a single list element cannot be removed`);
         list[step] = value;
         return;
       }
@@ -243,21 +243,21 @@ export function applyOverride(raw: Record<string, unknown>, assignment: string):
 function descend(child: unknown, next: PathStep, here: string, assignment: string): Table | unknown[] {
   if (typeof next === 'number') {
     if (Array.isArray(child)) return child;
-    throw new SpecError(here, `cannot apply override "${assignment}": ${here} is ${describeValue(child)}, not a list; set the whole list instead`);
+    throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: ${here} is ${describeValue(child)}, not a list; set the whole list instead`);
   }
   if (isTable(child)) return child;
-  throw new SpecError(here, `cannot apply override "${assignment}": ${here} is ${describeValue(child)}, not a table`);
+  throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: ${here} is ${describeValue(child)}, not a table`);
 }
 
 function parseOverridePath(pathText: string, assignment: string): PathStep[] {
   const bad = (why: string): never => {
-    throw new InputError(`override "${assignment}": ${why}`);
+    throw new InputError(`override ${quoteText(assignment)}: ${why}`);
   };
   if (pathText === '') bad('no key path before "="');
   const steps: PathStep[] = [];
   for (const segment of pathText.split('.')) {
     const match = /^([A-Za-z_][A-Za-z0-9_-]*)((?:\[\d+\])*)$/.exec(segment.trim());
-    if (!match) bad(`"${segment}" is not a valid key (expected e.g. levels.tunnelling or levels.tunnelling[1])`);
+    if (!match) bad(`${quoteText(segment)} is not a valid key (expected e.g. levels.tunnelling or levels.tunnelling[1])`);
     const [, key, indices] = match as RegExpExecArray;
     if (FORBIDDEN_KEYS.has(key)) bad(`"${key}" cannot be used as a key`);
     steps.push(key);
@@ -266,16 +266,20 @@ function parseOverridePath(pathText: string, assignment: string): PathStep[] {
   return steps;
 }
 
-function parseOverrideValue(text: string): unknown {
+function parseOverrideValue(text: string, assignment: string): unknown {
   try {
-    return JSON.parse(text);
-  } catch {
+    return parseJsonStrict(text);
+  } catch (e) {
+    if (e instanceof JsonReadError && e.duplicate) {
+      const key = formatPath(e.duplicate.path);
+      throw new InputError(`override ${quoteText(assignment)}: ${key} is given twice in the value; a key may appear once`);
+    }
     return text;
   }
 }
 
 function formatPath(steps: readonly PathStep[]): string {
-  return steps.map((s, i) => (typeof s === 'number' ? `[${s}]` : i === 0 ? s : `.${s}`)).join('');
+  return steps.map((s, i) => (typeof s === 'number' ? `[${s}]` : i === 0 ? keyForPath(s) : `.${keyForPath(s)}`)).join('');
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -413,37 +417,87 @@ function rangeAndCutoff(table: Table, section: string): { range: InteractionRang
   return { range, cutoff };
 }
 
-function validateParticles(table: Table, sites: number, count: number): Spec['particles'] {
-  rejectUnknownKeys(table, 'particles', ['kind', 'number', 'max_per_site', 'hopping', 'onsite']);
-  const kind = oneOf(orDefault(table.kind, 'pinned'), 'particles.kind', ['pinned', 'hardcore', 'boson', 'fermion'] as const);
+const PARTICLE_KINDS = ['pinned', 'hardcore', 'boson', 'fermion'] as const;
+const PARTICLE_KEYS = ['kind', 'number', 'max_per_site', 'hopping', 'onsite'];
 
-  // Keys that do nothing for this kind are errors: the user clearly expected them to matter.
-  const notFor = (key: string, why: string): void => {
-    if (table[key] !== undefined) throw new SpecError(`particles.${key}`, `not used for kind = "${kind}" (${why}); remove it`);
-  };
-  if (kind === 'pinned') {
-    const why = 'pinned particles never leave their site';
-    notFor('hopping', why);
-    notFor('onsite', why);
-    notFor('max_per_site', why);
-  } else if (kind === 'hardcore') {
-    notFor('onsite', 'two hardcore particles never share a site; use kind = "boson" for soft-core');
-    notFor('max_per_site', 'hardcore means at most one per site; use kind = "boson" for more');
-  } else if (kind === 'fermion') {
-    notFor('onsite', 'the on-site term is for soft-core bosons');
-    notFor('max_per_site', 'fermions are limited to one per site and level, so a site holds at most levels.count');
+/** Keys that do nothing for a kind, and why: setting one is an error, as the user clearly expected it to matter. */
+function unusedKeys(kind: ParticleKind): Record<string, string> {
+  switch (kind) {
+    case 'pinned': {
+      const why = 'pinned particles never leave their site';
+      return { hopping: why, onsite: why, max_per_site: why };
+    }
+    case 'hardcore':
+      return {
+        onsite: 'two hardcore particles never share a site; use kind = "boson" for soft-core',
+        max_per_site: 'hardcore means at most one per site; use kind = "boson" for more',
+      };
+    case 'fermion':
+      return {
+        onsite: 'the on-site term is for soft-core bosons',
+        max_per_site: 'fermions are limited to one per site and level, so a site holds at most levels.count',
+      };
+    default:
+      return {};
+  }
+}
+
+/**
+ * [particles] with its per-kind tables: `[particles.boson]` (likewise pinned, hardcore, fermion)
+ * holds keys that apply only when the kind is boson, over those of [particles]. So one spec, and
+ * a scan over particles.kind, can give each kind its own settings (bosons at U = 4, the others
+ * without an on-site term). Every kind's table is checked, whether its kind is chosen or not.
+ */
+function validateParticles(particlesTable: Table, sites: number, count: number): Spec['particles'] {
+  rejectUnknownKeys(particlesTable, 'particles', [...PARTICLE_KEYS, ...PARTICLE_KINDS]);
+  const kind = oneOf(orDefault(particlesTable.kind, 'pinned'), 'particles.kind', PARTICLE_KINDS);
+
+  const table: Table = {};
+  // Where each key was set, for errors: particles.onsite or particles.boson.onsite.
+  const origin: Record<string, string> = {};
+  for (const key of PARTICLE_KEYS) {
+    if (particlesTable[key] === undefined) continue;
+    table[key] = particlesTable[key];
+    origin[key] = `particles.${key}`;
+  }
+  for (const tableKind of PARTICLE_KINDS) {
+    if (particlesTable[tableKind] === undefined) continue;
+    const path = `particles.${tableKind}`;
+    const own = particlesTable[tableKind];
+    if (!isTable(own)) throw new SpecError(path, `expected a table of keys for kind = "${tableKind}", got ${describeValue(own)}`);
+    rejectUnknownKeys(own, path, PARTICLE_KEYS.filter((k) => k !== 'kind'));
+    for (const [key, why] of Object.entries(unusedKeys(tableKind))) {
+      if (own[key] !== undefined) throw new SpecError(`${path}.${key}`, `not used for kind = "${tableKind}" (${why}); remove it`);
+    }
+    // Types are checked for every kind's table, so a mistake is found before a scan reaches that kind.
+    for (const [key, value] of Object.entries(own)) {
+      if (key === 'number' || key === 'max_per_site') positiveInteger(value, `${path}.${key}`);
+      else finiteNumber(value, `${path}.${key}`);
+    }
+    if (tableKind !== kind) continue;
+    for (const [key, value] of Object.entries(own)) {
+      table[key] = value;
+      origin[key] = `${path}.${key}`;
+    }
+  }
+  const at = (key: string): string => origin[key] ?? `particles.${key}`;
+
+  for (const [key, why] of Object.entries(unusedKeys(kind))) {
+    if (table[key] === undefined) continue;
+    const elsewhere = PARTICLE_KINDS.filter((k) => !Object.hasOwn(unusedKeys(k), key)).map((k) => `[particles.${k}]`);
+    throw new SpecError(at(key), `not used for kind = "${kind}" (${why}); remove it, or move it to ${elsewhere.join(' or ')} to apply it to that kind only`);
   }
 
-  const number = table.number === undefined ? sites : positiveInteger(table.number, 'particles.number');
+  const number = table.number === undefined ? sites : positiveInteger(table.number, at('number'));
   let maxPerSite: number;
   if (kind === 'boson') {
-    maxPerSite = table.max_per_site === undefined ? number : positiveInteger(table.max_per_site, 'particles.max_per_site');
+    maxPerSite = table.max_per_site === undefined ? number : positiveInteger(table.max_per_site, at('max_per_site'));
   } else {
     maxPerSite = kind === 'fermion' ? count : 1;
   }
 
   if (kind === 'pinned' && number !== sites) {
-    throw new SpecError('particles.number', `pinned particles fill every site exactly once, so number must equal chain.sites = ${sites}, got ${number}`);
+    throw new SpecError(at('number'), `pinned particles fill every site exactly once, so number must equal chain.sites = ${sites}, got ${number}`);
   }
   if (number > sites * maxPerSite) {
     const capacity =
@@ -452,11 +506,11 @@ function validateParticles(table: Table, sites: number, count: number): Spec['pa
         : kind === 'boson'
           ? `${sites} sites with max_per_site = ${maxPerSite} hold at most ${sites * maxPerSite} bosons`
           : `${sites} sites hold at most ${sites} hardcore particles`;
-    throw new SpecError('particles.number', `${capacity}, got ${number}`);
+    throw new SpecError(at('number'), `${capacity}, got ${number}`);
   }
 
-  const hopping = finiteNumber(orDefault(table.hopping, 0), 'particles.hopping');
-  const onsite = finiteNumber(orDefault(table.onsite, 0), 'particles.onsite');
+  const hopping = finiteNumber(orDefault(table.hopping, 0), at('hopping'));
+  const onsite = finiteNumber(orDefault(table.onsite, 0), at('onsite'));
   return { kind, number, maxPerSite, hopping, onsite };
 }
 
@@ -563,11 +617,25 @@ function requiredKey(table: Table, section: string, key: string): unknown {
 
 function rejectUnknownKeys(table: Table, section: string, known: readonly string[]): void {
   for (const key of Object.keys(table)) {
-    if (known.includes(key)) continue;
-    const guess = closestName(key, known);
-    const path = section ? `${section}.${key}` : key;
-    throw new SpecError(path, `unknown ${section ? 'key' : 'section'}${guess ? ` (did you mean ${guess}?)` : ''}`);
+    if (!known.includes(key)) throw unknownKeyError(section, key, known);
   }
+}
+
+/**
+ * The error for a key no section knows, in every section alike: the key path, the nearest known
+ * key when one is close, and the valid keys. `section` is the table's key path ('' for the top
+ * level, whose keys are sections).
+ */
+export function unknownKeyError(section: string, key: string, known: readonly string[]): SpecError {
+  const guess = closestName(key, known);
+  const path = section ? `${section}.${keyForPath(key)}` : keyForPath(key);
+  const what = section ? 'key' : 'section';
+  return new SpecError(path, `unknown ${what}${guess ? ` (did you mean ${guess}?)` : ''}; valid ${what}s: ${known.join(', ')}`);
+}
+
+/** A key (or key path) as an error names it: plain names as they are, anything else quoted and cut. */
+export function keyForPath(key: string): string {
+  return /^[A-Za-z0-9_.[\]-]{1,60}$/.test(key) ? key : quoteText(key);
 }
 
 function finiteNumber(value: unknown, path: string): number {
@@ -628,7 +696,7 @@ function numberList(values: unknown[], path: string, length: number, why: string
 export function describeValue(value: unknown): string {
   if (value === undefined) return 'nothing';
   if (value === null) return 'null';
-  if (typeof value === 'string') return JSON.stringify(value);
+  if (typeof value === 'string') return quoteText(value);
   if (typeof value === 'number') {
     if (Number.isNaN(value)) return 'nan';
     if (!Number.isFinite(value)) return value > 0 ? 'inf' : '-inf';
@@ -641,8 +709,29 @@ export function describeValue(value: unknown): string {
   return typeof value;
 }
 
+/** Longest user text an error message repeats: enough to recognise it, short enough for one line. */
+export const MESSAGE_TEXT_LIMIT = 60;
+
+/** A user-supplied text cut for an error message, saying how long it was when cut. */
+export function cutText(text: string, limit = MESSAGE_TEXT_LIMIT): string {
+  return text.length <= limit ? text : `${headOf(text, limit)}... (${text.length} characters)`;
+}
+
+/** A user-supplied string as an error message shows it: quoted, escaped to one line, cut when long. */
+export function quoteText(text: string, limit = MESSAGE_TEXT_LIMIT): string {
+  return text.length <= limit ? JSON.stringify(text) : `${JSON.stringify(headOf(text, limit))}... (${text.length} characters)`;
+}
+
+function headOf(text: string, limit: number): string {
+  const head = text.slice(0, limit - 3);
+  // Never leave half of a surrogate pair at the cut.
+  return /[\uD800-\uDBFF]$/.test(head) ? head.slice(0, -1) : head;
+}
+
 /** The known name a typo most likely meant, if any is close enough. */
 function closestName(word: string, known: readonly string[]): string | undefined {
+  // A word this long is no typo of a key, and the edit distance would cost its length times each key's.
+  if (word.length > 100) return undefined;
   const squash = (s: string): string => s.toLowerCase().replace(/[_\-\s]/g, '');
   // maxPerSite, max-per-site, MAX_PER_SITE all mean max_per_site.
   const sameWord = known.find((k) => squash(k) === squash(word));
@@ -659,13 +748,17 @@ function closestName(word: string, known: readonly string[]): string | undefined
   return best;
 }
 
+// Optimal string alignment distance: Levenshtein plus the swap of two neighbours, the commonest typo.
 function editDistance(a: string, b: string): number {
+  let beforePrevious: number[] = [];
   let previous = Array.from({ length: b.length + 1 }, (_, j) => j);
   for (let i = 1; i <= a.length; i++) {
     const current = [i];
     for (let j = 1; j <= b.length; j++) {
       current[j] = Math.min(previous[j] + 1, current[j - 1] + 1, previous[j - 1] + (a[i - 1] === b[j - 1] ? 0 : 1));
+      if (i > 1 && j > 1 && a[i - 1] === b[j - 2] && a[i - 2] === b[j - 1]) current[j] = Math.min(current[j], beforePrevious[j - 2] + 1);
     }
+    beforePrevious = previous;
     previous = current;
   }
   return previous[b.length];

@@ -25,7 +25,7 @@
 // Constants: CODATA 2018 (c and h exact in the SI since 2019; eps0 measured).
 
 import { SpecError } from './errors.js';
-import { describeValue, isTable, registerSection, type Spec } from './spec.js';
+import { describeValue, isTable, registerSection, unknownKeyError, type Spec } from './spec.js';
 
 export const CODATA_2018 = {
   /** Speed of light in vacuum, m/s (exact). */
@@ -199,9 +199,7 @@ function numberOrList(value: unknown, path: string): number | number[] {
 export function validateUnitsSection(value: unknown, keyPath: string): UnitsInput {
   if (!isTable(value)) throw new SpecError(keyPath, `expected a table, got ${describeValue(value)}`);
   for (const key of Object.keys(value)) {
-    if (!(UNIT_KEYS as readonly string[]).includes(key)) {
-      throw new SpecError(`${keyPath}.${key}`, `unknown key (known: ${UNIT_KEYS.join(', ')})`);
-    }
+    if (!(UNIT_KEYS as readonly string[]).includes(key)) throw unknownKeyError(keyPath, key, UNIT_KEYS);
   }
   const opt = <T>(key: string, read: (v: unknown, p: string) => T): T | null =>
     value[key] === undefined ? null : read(value[key], `${keyPath}.${key}`);

@@ -14,6 +14,9 @@ import {
   validateSpec,
   type Spec,
 } from '../src/spec.js';
+import '../src/sections.js';
+import { expandScan } from '../src/scan.js';
+import { planEvolution } from '../src/evolve.js';
 
 const scratch = mkdtempSync(join(tmpdir(), 'rungchain-spec-'));
 afterAll(() => rmSync(scratch, { recursive: true, force: true }));
@@ -129,6 +132,111 @@ seed = 7
     expect(() => parseSpecText('[1, 2]', 'json')).toThrow(InputError);
   });
 
+  // RFC 8259 says names within an object SHOULD be unique; TOML (v1.0, "Keys") forbids defining a
+  // key twice. A spec refuses both, so a duplicated key is never silently the last one.
+  it('refuses a key given twice, in JSON as in TOML, naming the key and both places', () => {
+    const message = (text: string, format: 'json' | 'toml') => {
+      try {
+        parseSpecText(text, format, 'spec');
+      } catch (e) {
+        expect(e).toBeInstanceOf(InputError);
+        return (e as Error).message;
+      }
+      throw new Error(`accepted ${text}`);
+    };
+    expect(message('{"chain":{"sites":4,"sites":5},"levels":{"count":2}}', 'json')).toBe(
+      'spec:1:21: chain.sites is given twice (first at 1:11); a key may appear once',
+    );
+    expect(message('{"chain": {"sites": 4},\n "levels": {"count": 2},\n "chain": {}}', 'json')).toMatch(/^spec:3:2: chain is given twice \(first at 1:2\)/);
+    expect(message('{"scan": {"axis": [{"key": "a.b", "values": [1], "key": "c.d"}]}}', 'json')).toMatch(/^spec:1:\d+: scan\.axis\[0\]\.key is given twice/);
+    expect(message('[chain]\nsites = 4\nsites = 5\n', 'toml')).toMatch(/^spec:3:1: .*sites = 5/);
+    expect(message('[chain]\nsites = 4\n[chain]\n', 'toml')).toMatch(/^spec:3:\d+: .*\[chain\]/);
+    // The same key in different objects is no duplicate.
+    expect(parseSpecText('{"chain":{"sites":4},"levels":{"count":2,"sites":1}}', 'json')).toEqual({ chain: { sites: 4 }, levels: { count: 2, sites: 1 } });
+    expect(() => applyOverride({}, 'solve.sector={"charge":1,"charge":2}')).toThrow(/solve\.sector=.*charge is given twice/);
+  });
+
+  // JSON.parse (ECMA-262, itself following RFC 8259) is the reference for what JSON text means.
+  it('reads every JSON text as JSON.parse does, and refuses what it refuses', () => {
+    let seed = 7;
+    const random = () => ((seed = (seed * 1103515245 + 12345) % 2 ** 31) / 2 ** 31);
+    const make = (depth: number): unknown => {
+      const r = random();
+      if (depth > 3 || r < 0.3) {
+        const pick = Math.floor(random() * 6);
+        return [() => random() * 1e6 - 5e5, () => Math.floor(random() * 100), () => 'a\u00e9\n"\\\t\u0001\ud83d\ude00/' + random(), () => true, () => null, () => -1.5e-300][pick]();
+      }
+      if (r < 0.6) return Array.from({ length: Math.floor(random() * 4) }, () => make(depth + 1));
+      return Object.fromEntries(Array.from({ length: Math.floor(random() * 4) }, (_, k) => [`k${k}_${Math.floor(random() * 9)}`, make(depth + 1)]));
+    };
+    for (let trial = 0; trial < 300; trial++) {
+      const value = { chain: make(0), levels: make(0) };
+      for (const text of [JSON.stringify(value), JSON.stringify(value, null, trial % 4)]) {
+        expect(parseSpecText(text, 'json')).toEqual(JSON.parse(text));
+      }
+    }
+    expect(parseSpecText('{"x": [1e400, -0, 0.5E-3, "\\u0041\\/"]}', 'json')).toEqual(JSON.parse('{"x": [1e400, -0, 0.5E-3, "\\u0041\\/"]}'));
+    const bad = ['{', '{"a":1,}', '[1,]', '{"a" 1}', "{'a':1}", '{"a":01}', '{"a":.5}', '{"a":1.}', '{"a":+1}', '{"a":NaN}', '{"a":"\\x"}',
+      '{"a":"\\u12"}', '{"a":tru}', '{"a":1} x', '{"a":"b\tc"}', '// c\n{}', '{"a":1 /* c */}', '{"a":[1 2]}', '', ' '];
+    for (const text of bad) {
+      expect(() => JSON.parse(text)).toThrow();
+      expect(() => parseSpecText(text, 'json', 'spec')).toThrow(/^spec:\d+:\d+: invalid JSON: [^\n]+$/);
+    }
+  });
+
+  it('a JSON error is one line with line:column, whatever the text holds', () => {
+    const err = (text: string) => {
+      try {
+        parseSpecText(text, 'json', 'spec.json');
+      } catch (e) {
+        return (e as Error).message;
+      }
+      throw new Error('accepted');
+    };
+    expect(err('{"chain": {"sites": 4}\n "levels": {}}')).toBe('spec.json:2:2: invalid JSON: unexpected """, expected "," or "}" after a value in an object');
+    expect(err('{"chain": {"sites": 4,\n "boundary": "open\u0007\nx"}}')).toBe('spec.json:2:19: invalid JSON: control character U+0007 inside a string (write it as an escape such as \\n)');
+    expect(err('{\n  "chain": {"sites": 4}')).toBe('spec.json:2:24: invalid JSON: unexpected end of text, expected "," or "}" after a value in an object');
+    const huge = 'a'.repeat(5_000_000);
+    const line = err(`{"chain": {"boundary": "${huge}" "sites": 4}}`);
+    expect(line).toMatch(/^spec\.json:1:5000027: invalid JSON: unexpected """/);
+    expect(line.length).toBeLessThan(200);
+    expect(err('['.repeat(100_000))).toMatch(/^spec\.json:1:\d+: invalid JSON: nested deeper than/);
+  });
+
+  it('an error that repeats a value or a key cuts it to a readable length, on one line', () => {
+    const huge = `${'b'.repeat(5_000_000)}\n\u0000`;
+    for (const raw of [
+      { chain: { sites: 4, boundary: huge }, levels: { count: 2 } },
+      { chain: { sites: 4, [huge]: 1 }, levels: { count: 2 } },
+      { chain: { sites: 4 }, levels: { count: 2 }, [huge]: {} },
+      { chain: { sites: 4 }, levels: { count: 2 }, particles: { kind: huge } },
+      { chain: { sites: 4 }, levels: { count: 2 }, scan: { axis: [{ key: 'levels.boundary', values: [huge] }] } },
+      { chain: { sites: 4 }, levels: { count: 2 }, scan: { axis: [{ key: huge, values: [1] }] } },
+      { chain: { sites: 4 }, levels: { count: 2 }, scan: { axis: [{ key: 'exchange.strength', from: huge, to: 1, steps: 2 }] } },
+      { chain: { sites: 4 }, levels: { count: 2 }, scan: { axis: [{ key: 'exchange.strength', from: 0, to: 1, steps: 2, spacing: huge }] } },
+      { chain: { sites: 4 }, levels: { count: 2 }, scan: { zip: huge, axis: [{ key: 'exchange.strength', values: [1] }] } },
+      { chain: { sites: 4 }, levels: { count: 2 }, evolve: { times: [1], time_unit: huge } },
+      { chain: { sites: 4 }, levels: { count: 2 }, evolve: { times: [1], initial: { pulses: [{ between: [0, huge], area: 1 }] } } },
+      { chain: { sites: 4 }, levels: { count: 2 }, evolve: { times: [1], ramp: { key: huge, from: 0, to: 1, duration: 1 } } },
+      { chain: { sites: 4 }, levels: { count: 2 }, units: { dipole_debye: huge } },
+    ]) {
+      let e: unknown = null;
+      try {
+        const spec = validateSpec(raw);
+        if (raw.scan) expandScan(raw, spec);
+        if (raw.evolve) planEvolution(raw, spec);
+      } catch (thrown) {
+        e = thrown;
+      }
+      if (!(e instanceof SpecError)) throw new Error(`no SpecError for a spec with ${Object.keys(raw).join(', ')}`);
+      expect(e.message.length, e.message.slice(0, 300)).toBeLessThan(400);
+      expect(e.message).not.toMatch(/[\u0000-\u001f]/);
+    }
+    const longKey = 'c'.repeat(5_000_000);
+    expect(() => applyOverride({}, `${longKey}[0]=1`)).toThrow(/^"c+"\.\.\. \(5000000 characters\): [^\u0000-\u001f]{1,300}$/);
+    expect(() => applyOverride({}, `chain.sites${huge}=1`)).toThrow(/^override "chain\.sitesb+"\.\.\. \(5000015 characters\): [^\u0000-\u001f]{1,300}$/);
+  });
+
   it('reports unreadable files and unknown extensions as InputError', () => {
     expect(() => loadSpecFile(join(scratch, 'absent.toml'))).toThrow(/absent\.toml: no such file/);
     const yaml = writeScratch('model.yaml', 'chain: {}');
@@ -190,6 +298,33 @@ describe('validation errors name the key path', () => {
     expectSpecError({ ...tree(minimal), particles: { maxPerSite: 2 } }, 'particles.maxPerSite', 'did you mean max_per_site?');
     expectSpecError({ ...tree(minimal), solve: { colour: 'red' } }, 'solve.colour', 'unknown key');
     expect(specErrorOf({ ...tree(minimal), solve: { colour: 'red' } }).message).not.toContain('did you mean');
+  });
+
+  // Common practice (compilers, git): an unknown name comes with the nearest valid one and the list
+  // to choose from, and every section answers alike.
+  it('an unknown key in any section lists the valid keys there and the nearest one', () => {
+    const cases: [Record<string, unknown>, string, string, string[]][] = [
+      [{ ...tree(minimal), chain: { sites: 4, boundry: 'open' } }, 'chain.boundry', 'boundary', ['sites', 'boundary']],
+      [{ ...tree(minimal), exchange: { strenght: 1 } }, 'exchange.strenght', 'strength', ['strength', 'range', 'cutoff', 'weights']],
+      [{ ...tree(minimal), ising: { moment: [0, 0, 0] } }, 'ising.moment', 'moments', ['strength', 'moments', 'range', 'cutoff']],
+      [{ ...tree(minimal), particles: { onsit: 1 } }, 'particles.onsit', 'onsite', ['kind', 'number', 'max_per_site', 'hopping', 'onsite']],
+      [{ ...tree(minimal), solve: { state: 2 } }, 'solve.state', 'states', ['states', 'tolerance', 'threads']],
+      [{ ...tree(minimal), solve: { sector: { moment: 0 } } }, 'solve.sector.moment', 'momentum', ['momentum', 'parity', 'level_flip', 'charge']],
+      [{ ...tree(minimal), units: { dipole_debey: 1 } }, 'units.dipole_debey', 'dipole_debye', ['lattice_spacing_nm', 'rabi_khz']],
+      [{ ...tree(minimal), evolve: { time: [1] } }, 'evolve.time', 'times', ['initial', 'times', 'ramp']],
+      [{ ...tree(minimal), evolve: { times: { to: 1, step: 2 } } }, 'evolve.times.step', 'steps', ['from', 'to', 'steps']],
+      [{ ...tree(minimal), scan: { zipp: true, axis: [] } }, 'scan.zipp', 'zip', ['axis', 'zip']],
+      [{ ...tree(minimal), scan: { axis: [{ key: 'exchange.strength', value: [1] }] } }, 'scan.axis[0].value', 'values', ['key', 'values', 'from', 'to', 'steps', 'spacing']],
+      [{ ...tree(minimal), scna: {} }, 'scna', 'scan', ['chain', 'levels', 'particles', 'scan', 'evolve', 'units']],
+    ];
+    for (const [raw, keyPath, nearest, valid] of cases) {
+      const e = specErrorOf(raw);
+      expect(e.keyPath).toBe(keyPath);
+      expect(e.message).toContain(`did you mean ${nearest}?`);
+      const listed = /valid (?:keys|sections): (.*)$/.exec(e.message)?.[1].split(', ');
+      expect(listed).toBeDefined();
+      for (const name of valid) expect(listed).toContain(name);
+    }
   });
 
   it('rejects missing required keys and sections', () => {

@@ -6,7 +6,7 @@ import { describePlan, describeRecord } from '../../src/tables.js';
 import { runDemo } from '../../src/demo.js';
 import { collect, memoryLimit } from './shared.js';
 import { describeLabEnergies, labEnergies, labUnits } from '../../src/units.js';
-import { describeScan, expandScan } from '../../src/scan.js';
+import { describeScan, describeWork } from '../../src/scan.js';
 import { defaultWorkerCount } from '../../src/scanRunner.js';
 
 export function registerSolveCommands(program: Command): void {
@@ -20,11 +20,12 @@ export function registerSolveCommands(program: Command): void {
       const { raw, spec } = loadSpec(specPath, opts.set);
       const limit = memoryLimit(opts);
       if (spec.extra.scan) {
-        console.log(describeScan(expandScan(raw, spec), limit, defaultWorkerCount()));
+        console.log(describeScan(raw, spec, limit, defaultWorkerCount()));
         return;
       }
       const plan = planPoint(spec, { maxMemory: limit });
       console.log(describePlan(plan, limit));
+      console.log(describeWork(spec, plan).join('\n'));
       if (plan.memory.totalBytes > limit) console.log('solve would refuse this problem: the estimate exceeds the limit');
     });
 
