@@ -20,6 +20,16 @@ registerScanCommands(program);
 registerEvolveCommands(program);
 registerReportCommands(program);
 
+// A reader that stops early (`| head`) closes the pipe: the output is no longer wanted, so stop
+// quietly with success, as `rungchain summary RUN --csv | head` should read under `set -o pipefail`.
+process.stdout.on('error', (e: NodeJS.ErrnoException) => {
+  if (e.code === 'EPIPE') process.exit(0);
+  process.stderr.write(`rungchain: cannot write to standard output: ${e.message}\n`);
+  process.exit(2);
+});
+// Messages on a closed stderr are lost; the work itself goes on.
+process.stderr.on('error', () => undefined);
+
 async function main(): Promise<void> {
   try {
     await program.parseAsync(process.argv);
