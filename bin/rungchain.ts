@@ -2,7 +2,7 @@
 // The command line: each command family registers itself from bin/commands/; errors become one line.
 
 import { Command, CommanderError } from 'commander';
-import { isRungchainError } from '../src/errors.js';
+import { isRungchainError, isSystemError, systemErrorCause } from '../src/errors.js';
 import { registerSolveCommands } from './commands/solve.js';
 import { registerScanCommands } from './commands/scan.js';
 import { registerEvolveCommands } from './commands/evolve.js';
@@ -40,6 +40,12 @@ async function main(): Promise<void> {
     }
     if (isRungchainError(e)) {
       process.stderr.write(`rungchain: ${e.message}\n`);
+      process.exit(2);
+    }
+    // A file-system call that failed where no module expected it: still the path and the cause.
+    if (isSystemError(e)) {
+      const where = [e.path, (e as { dest?: string }).dest].filter((p) => p !== undefined).join(' -> ');
+      process.stderr.write(`rungchain: cannot ${e.syscall}${where ? ` ${where}` : ''}: ${systemErrorCause(e)}\n`);
       process.exit(2);
     }
     const message = e instanceof Error ? e.message : String(e);

@@ -3,7 +3,7 @@
 // the built command as a user would.
 import { beforeAll, describe, expect, it } from 'vitest';
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { CLI, ROOT, runCli } from './support/cli.js';
@@ -72,5 +72,110 @@ describe('a reader that closes the pipe early', () => {
     expect(r.stderr).not.toMatch(noStack);
     expect(r.stderr).toBe('');
     expect(r.status).toBe(0);
+  });
+});
+
+/** One line on stderr naming `path`, exit 2, no stack trace (the typed-error rule of this project). */
+function expectOneLine(r: { code: number | null; stderr: string }, ...names: (string | RegExp)[]): void {
+  expect(r.stderr).not.toMatch(noStack);
+  expect(r.stderr.trim().split('\n'), r.stderr).toHaveLength(1);
+  for (const name of names) expect(r.stderr).toMatch(typeof name === 'string' ? new RegExp(name.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')) : name);
+  expect(r.code).toBe(2);
+}
+
+describe('folders that cannot be written', () => {
+  /** A fresh folder with the two specs and a plain file `afile`. */
+  function workspace(): { dir: string; scan: string; evolve: string; file: string } {
+    const dir = tmp();
+    writeFileSync(path.join(dir, 'scan.toml'), SCAN);
+    writeFileSync(path.join(dir, 'evolve.toml'), EVOLVE);
+    writeFileSync(path.join(dir, 'afile'), 'not a folder\n');
+    return { dir, scan: path.join(dir, 'scan.toml'), evolve: path.join(dir, 'evolve.toml'), file: path.join(dir, 'afile') };
+  }
+  const commands = (w: ReturnType<typeof workspace>, out: string): [string, string[]][] => [
+    ['scan', ['scan', w.scan, '--out', out, '--quiet', '--workers', '1']],
+    ['evolve', ['evolve', w.evolve, '--out', out, '--quiet']],
+    ['report', ['report', scanRun, '--out', out === '' ? '' : path.join(out, 'report.html')]],
+    ['merge', ['merge', scanRun, '--out', out]],
+  ];
+
+  it('--out naming an existing file, or a path through one: the path and the cause, exit 2, the file untouched', () => {
+    const w = workspace();
+    for (const out of [w.file, path.join(w.file, 'sub')]) {
+      for (const [name, args] of commands(w, out)) {
+        const r = runCli(args);
+        expect(r.stderr, `${name} --out ${out}`).toMatch(/afile is a file, not a folder/);
+        expectOneLine(r, w.file);
+      }
+    }
+    expect(readdirSync(w.dir).sort()).toEqual(['afile', 'evolve.toml', 'scan.toml']);
+    expect(readFileSync(w.file, 'utf8')).toBe('not a folder\n');
+  });
+
+  it("--out '' is refused by name before anything is written", () => {
+    const w = workspace();
+    for (const [name, args] of commands(w, '')) {
+      const r = runCli(args, { cwd: w.dir });
+      expect(r.stderr, name).toMatch(/--out: expected a path, got an empty one/);
+      expectOneLine(r);
+    }
+    expect(readdirSync(w.dir).sort()).toEqual(['afile', 'evolve.toml', 'scan.toml']);
+  });
+
+  it('report --out naming an existing folder: refused, and no temporary file left beside it', () => {
+    const w = workspace();
+    const r = runCli(['report', scanRun, '--out', w.dir]);
+    expectOneLine(r, `cannot write ${w.dir}: it is a folder`);
+    expect(readdirSync(path.dirname(w.dir)).filter((f) => f.startsWith(`${path.basename(w.dir)}.tmp`))).toEqual([]);
+  });
+
+  it('a lock that is a folder is named and left alone; nothing else is left in the run folder', () => {
+    const w = workspace();
+    const out = path.join(w.dir, 'run');
+    mkdirSync(path.join(out, 'lock'), { recursive: true });
+    const r = runCli(['scan', w.scan, '--out', out, '--quiet']);
+    expectOneLine(r, `${path.join(out, 'lock')} is not a lock file`);
+    expect(readdirSync(out)).toEqual(['lock']);
+    expect(statSync(path.join(out, 'lock')).isDirectory()).toBe(true);
+  });
+
+  // Linux's /proc refuses new entries with ENOENT although the parent exists; Node's recursive
+  // mkdir then retries forever. Found by fuzzing --out; spawnSync's timeout turns a hang into a failure.
+  it.skipIf(!existsSync('/proc/self'))('--out under /proc: one line, exit 2, no endless loop (scan, evolve, report)', () => {
+    const w = workspace();
+    for (const [name, args] of commands(w, '/proc/rungchain-nope').slice(0, 3)) {
+      const r = runCli(args, { timeout: 30_000 });
+      expect(r.code, `${name} hung or crashed: ${r.stderr}`).not.toBeNull();
+      expectOneLine(r, '/proc/rungchain-nope', /\/proc does not take new folders/);
+    }
+  });
+});
+
+describe('a full disk (simulated through the RUNGCHAIN_TEST_DISK_BYTES hook)', () => {
+  const full = (args: string[], bytes: number, cwd = ROOT) => {
+    const r = spawnSync(process.execPath, [CLI, ...args], { cwd, encoding: 'utf8', timeout: 120_000, env: { ...process.env, RUNGCHAIN_TEST_DISK_BYTES: String(bytes) } });
+    return { code: r.status, stdout: r.stdout, stderr: r.stderr };
+  };
+
+  it('ENOSPC on start (the lock, then the manifest): the path and the cause, exit 2, nothing left behind', () => {
+    const dir = tmp();
+    writeFileSync(path.join(dir, 'scan.toml'), SCAN);
+    writeFileSync(path.join(dir, 'evolve.toml'), EVOLVE);
+    // 0 bytes: the lock cannot be written; 300 bytes: the lock is, the manifest (about 1 KB) is not.
+    for (const bytes of [0, 300]) {
+      for (const args of [
+        ['scan', 'scan.toml', '--out', 'new/run', '--quiet'],
+        ['evolve', 'evolve.toml', '--out', 'new/run', '--quiet'],
+      ]) {
+        const r = full(args, bytes, dir);
+        expectOneLine(r, 'new/run', /no space left on the device \(ENOSPC\)/);
+        // The folders it created are removed again; no stray lock or temporary file.
+        expect(readdirSync(dir).sort(), `${args[0]} at ${bytes} bytes`).toEqual(['evolve.toml', 'scan.toml']);
+      }
+    }
+    // A folder that was there before stays, empty.
+    mkdirSync(path.join(dir, 'mine'));
+    expectOneLine(full(['scan', 'scan.toml', '--out', 'mine', '--quiet'], 0, dir), /cannot write the lock in mine: no space left/);
+    expect(readdirSync(path.join(dir, 'mine'))).toEqual([]);
   });
 });

@@ -4,7 +4,7 @@ import type { Command } from 'commander';
 import { InputError } from '../../src/errors.js';
 import { checkEvolveOptions, loadEvolveRun, runEvolveCommand, traceContract, traceText, tracesCsv, tracesJson, tracesLongCsv, tracesText } from '../../src/evolveRun.js';
 import { fmt } from '../../src/tables.js';
-import { collect, memoryLimit } from './shared.js';
+import { checkOutOption, collect, memoryLimit } from './shared.js';
 
 function nonNegativeNumber(text: string, what: string): number {
   const n = Number(text);
@@ -31,6 +31,7 @@ export function registerEvolveCommands(program: Command): void {
         opts: { set: string[]; json?: boolean; csv?: boolean; out?: string; checkpointEvery?: string; retryFailed?: boolean; maxMemory?: string; quiet?: boolean },
       ) => {
         checkEvolveOptions(opts);
+        checkOutOption(opts.out);
         const outcome = await runEvolveCommand({
           specPath,
           overrides: opts.set,

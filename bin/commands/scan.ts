@@ -6,7 +6,7 @@ import { loadScanRun, longCsv, longJson, longText, statusJson, statusText, summa
 import { sideBySide, sideBySideCsv, sideBySideJson, sideBySideText } from '../../src/summary/sideBySide.js';
 import { analyseScan, analysisInputOf, analysisText } from '../../src/transitions.js';
 import { addAnalysisOptions, analysisOptions, type AnalysisFlags } from './report.js';
-import { collect, memoryLimit } from './shared.js';
+import { checkOutOption, collect, memoryLimit } from './shared.js';
 import { parseShard, shardFromEnvironment } from '../../src/shard.js';
 import { registerShardCommands } from './shard.js';
 
@@ -30,6 +30,7 @@ export function registerScanCommands(program: Command): void {
     .option('--quiet', 'print nothing but errors')
     .option('--shard <i/n>', 'run only shard i of n (balanced by estimated cost); in a Slurm array task it comes from SLURM_ARRAY_TASK_ID')
     .action(async (specPath: string, opts: { set: string[]; out?: string; workers?: string; retryFailed?: boolean; warmStart: boolean; maxMemory?: string; quiet?: boolean; shard?: string }) => {
+      checkOutOption(opts.out);
       const outcome = await runScan({
         shard: opts.shard !== undefined ? parseShard(opts.shard) : shardFromEnvironment(),
         specPath,
