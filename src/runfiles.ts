@@ -88,7 +88,8 @@ export function machineInfo(): MachineInfo {
 /**
  * Test hook: the run files of this process may take this many bytes in all; past that a write
  * fails with ENOSPC as on a full disk (after a last short write of what still fits), so tests can
- * fill the disk without mounting a small file system.
+ * fill the disk without mounting a small file system. As on a disk, bytes cut off again or
+ * replaced by a rename are free again.
  */
 let testDiskBytesLeft = process.env.RUNGCHAIN_TEST_DISK_BYTES === undefined ? Infinity : Number(process.env.RUNGCHAIN_TEST_DISK_BYTES);
 
@@ -99,6 +100,10 @@ function writeSome(fd: number, buffer: Buffer, offset: number, length: number): 
   const written = writeSync(fd, buffer, offset, Math.min(length, testDiskBytesLeft));
   testDiskBytesLeft -= written;
   return written;
+}
+
+function testDiskGiveBack(bytes: number): void {
+  testDiskBytesLeft += bytes;
 }
 
 /** Writes the whole buffer (a write may take only part of it). */
@@ -517,8 +522,10 @@ function fsyncDirectory(dir: string): void {
  * folder. On failure the temporary file is removed and a FileSystemError names the file and the cause.
  */
 export function writeFileAtomic(file: string, content: string | Buffer): void {
-  if (statSync(file, { throwIfNoEntry: false })?.isDirectory()) throw new FileSystemError(`cannot write ${file}: it is a folder`);
+  const replaced = statSync(file, { throwIfNoEntry: false });
+  if (replaced?.isDirectory()) throw new FileSystemError(`cannot write ${file}: it is a folder`);
   const temporary = `${file}.tmp.${process.pid}`;
+  const spaceBefore = testDiskBytesLeft;
   try {
     const fd = openSync(temporary, 'w');
     try {
@@ -534,8 +541,10 @@ export function writeFileAtomic(file: string, content: string | Buffer): void {
     } catch {
       /* never created */
     }
+    testDiskGiveBack(spaceBefore - testDiskBytesLeft);
     throw isSystemError(e) ? new FileSystemError(`cannot write ${file}: ${systemErrorCause(e)}`) : e;
   }
+  testDiskGiveBack(replaced?.size ?? 0);
   fsyncDirectory(path.dirname(file));
 }
 
@@ -651,6 +660,7 @@ export class RunWriter {
   append(record: Record<string, unknown>): void {
     if (this.fd === null) throw new RunFileError(`${this.dir}: the run is closed`);
     const frame = encodeFrame(stripUndefined(record));
+    const spaceBefore = testDiskBytesLeft;
     try {
       writeAll(this.fd, frame);
       fsyncSync(this.fd);
@@ -658,6 +668,7 @@ export class RunWriter {
       // A failed append (disk full) must not leave a partial frame for the next one to follow.
       try {
         ftruncateSync(this.fd, this.size);
+        testDiskGiveBack(spaceBefore - testDiskBytesLeft);
       } catch {
         /* the torn tail is cut on the next open */
       }

@@ -7,6 +7,8 @@ import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, statSync
 import os from 'node:os';
 import path from 'node:path';
 import { CLI, ROOT, runCli } from './support/cli.js';
+import { loadEvolveRun } from '../src/evolveRun.js';
+import { readRun } from '../src/runfiles.js';
 
 const tmp = () => mkdtempSync(path.join(os.tmpdir(), 'rungchain-robust-'));
 const noStack = /\bat .*\.js:\d+|node:internal|Unhandled/;
@@ -177,5 +179,45 @@ describe('a full disk (simulated through the RUNGCHAIN_TEST_DISK_BYTES hook)', (
     mkdirSync(path.join(dir, 'mine'));
     expectOneLine(full(['scan', 'scan.toml', '--out', 'mine', '--quiet'], 0, dir), /cannot write the lock in mine: no space left/);
     expect(readdirSync(path.join(dir, 'mine'))).toEqual([]);
+  });
+
+  it('evolve --out when the disk fills: the trace stays pending, and the same command continues it without writing a time twice', () => {
+    const dir = tmp();
+    // 6 sites x 3 levels (729 states): many Krylov steps, so checkpoints fall between recorded times.
+    const spec = path.join(dir, 'quench.toml');
+    writeFileSync(
+      spec,
+      `[chain]\nsites = 6\n[levels]\ncount = 3\ntunnelling = 0.5\n[exchange]\nstrength = 1.0\n` +
+        `[evolve]\ninitial = [0, 0, 1, 0, 0, 0]\ntimes = { from = 0, to = 20, steps = 200 }\ntolerance = 1e-9\n`,
+    );
+    const reference = JSON.parse(runCli(['evolve', spec, '--json']).stdout);
+    expect(reference.times).toHaveLength(201);
+
+    const out = path.join(dir, 'run');
+    const filled = full(['evolve', spec, '--out', out, '--quiet', '--checkpoint-every', '0'], 60_000);
+    expectOneLine(filled, /no space left on the device \(ENOSPC\)/, `resume with: rungchain evolve ${spec} --out ${out}`);
+    const partial = loadEvolveRun(out).traces[0];
+    // A write that failed is not a failed trace.
+    expect(partial.status).toBe('pending');
+    expect(partial.frames.length).toBeGreaterThan(0);
+    expect(partial.frames.length).toBeLessThan(201);
+    expect(existsSync(path.join(out, 'checkpoint-0.bin'))).toBe(true);
+
+    // Space freed: the same command (here with --retry-failed too, which must change nothing) continues.
+    const resumed = runCli(['evolve', spec, '--out', out, '--retry-failed']);
+    expect(resumed.code, resumed.stderr).toBe(0);
+    expect(resumed.stderr).toMatch(/resuming trace at t = /);
+    const frames = readRun(out).records.filter((r) => r.kind === 'frame');
+    expect(frames.map((f) => f.index)).toEqual(Array.from({ length: 201 }, (_, k) => k));
+    const trace = loadEvolveRun(out).traces[0];
+    expect(trace.status).toBe('done');
+    // The resumed trace agrees with the uninterrupted one to the propagation tolerance (1e-9 in the state's norm).
+    trace.frames.forEach((f, k) => {
+      expect(f.time).toBe(reference.times[k]);
+      expect(Math.abs((f.observables.energy as number) - reference.observables.energy[k])).toBeLessThan(1e-8);
+      (f.observables.populations as number[][]).forEach((row, i) =>
+        row.forEach((p, n) => expect(Math.abs(p - reference.observables.populations[k][i][n])).toBeLessThan(1e-8)),
+      );
+    });
   });
 });
