@@ -85,6 +85,23 @@ function expectOneLine(r: { code: number | null; stderr: string }, ...names: (st
   expect(r.code).toBe(2);
 }
 
+describe('options are checked before anything is printed', () => {
+  // Found by fuzzing: each of these printed the whole table, then the error, then exited 2.
+  it.each([
+    [['--power', 'abc'], '--power'],
+    [['--power', '0'], '--power'],
+    [['--terms', '0'], '--terms'],
+    [['--terms', '1.5'], '--terms'],
+    [['--parameter', 'nope'], '--parameter nope'],
+    [['--json', '--parameter', 'nope'], '--parameter nope'],
+    [['--long', '--csv', '--power', '-1'], '--power'],
+  ])('summary RUN %j: nothing on stdout, one line naming the option, exit 2', (args, name) => {
+    const r = runCli(['summary', scanRun, ...args]);
+    expect(r.stdout).toBe('');
+    expectOneLine(r, name);
+  });
+});
+
 describe('folders that cannot be written', () => {
   /** A fresh folder with the two specs and a plain file `afile`. */
   function workspace(): { dir: string; scan: string; evolve: string; file: string } {

@@ -60,7 +60,11 @@ export function registerScanCommands(program: Command): void {
     .action((dir: string, opts: AnalysisFlags & { csv?: boolean; json?: boolean; long?: boolean; by?: string; analysis?: boolean }) => {
       if (opts.csv && opts.json) throw new InputError('choose one of --csv and --json');
       if (opts.by !== undefined && opts.long) throw new InputError('choose one of --by and --long');
+      // Every option is checked before the first line is written: an error after a whole table is easy to miss.
+      const chosen = analysisOptions(opts);
       const summary = loadScanRun(dir);
+      const analysisAsked = opts.analysis || opts.parameter !== undefined || opts.fit.length > 0 || opts.power !== undefined || opts.terms !== undefined;
+      const checkedAnalysis = analysisAsked || (!opts.json && !opts.csv && !opts.long && opts.by === undefined) ? analyseScan(analysisInputOf(summary), chosen) : null;
       if (opts.by !== undefined) {
         const view = sideBySide(summary, opts.by);
         if (opts.json) process.stdout.write(JSON.stringify(sideBySideJson(view)) + '\n');
@@ -84,8 +88,8 @@ export function registerScanCommands(program: Command): void {
       else if (opts.csv) process.stdout.write(summaryCsv(summary));
       else {
         console.log(summaryText(summary));
-        const analysis = analysisText(analyseScan(analysisInputOf(summary), analysisOptions(opts)));
-        if (analysis) console.log(`\n${analysis}`);
+        const text = analysisText(checkedAnalysis!);
+        if (text) console.log(`\n${text}`);
       }
     });
 
