@@ -22,7 +22,7 @@ import { existsSync, readdirSync, readFileSync, unlinkSync } from 'node:fs';
 import path from 'node:path';
 import { crc32 } from 'node:zlib';
 import cliProgress from 'cli-progress';
-import { InputError, RunFileError, SpecError, isRungchainError } from './errors.js';
+import { FileSystemError, InputError, RunFileError, SpecError, isRungchainError } from './errors.js';
 import { Evolution, planEvolution, timeFirstObservables, type EvolutionCheckpoint, type EvolutionFrame, type EvolutionPlan } from './evolve.js';
 import { readRun, runIdentity, RunWriter, writeFileAtomic } from './runfiles.js';
 import { defaultMemoryLimit } from './resources.js';
@@ -429,7 +429,7 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
         say(`${label}: FAILED ${errorText(plan)}`);
         continue;
       }
-      if (trace.status === 'failed') trace.frames.length = 0;
+      // A failed trace run again keeps the times it recorded before failing: they are never written twice.
       try {
         let resume = dir === null ? null : readCheckpoint(dir, identity, job.point, plan.dimension);
         // Frames already on disk are not written again; a resume from an older checkpoint recomputes them.
@@ -498,6 +498,9 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
         });
         if (mode === 'lines' && (isScan || dir !== null)) say(`${label}: done, ${result.stats.steps} steps, ${result.stats.matvecs} products, error bound ${result.stats.error_bound.toExponential(1)}`);
       } catch (e) {
+        // The run folder could not be written (disk full, ...): that is no property of the trace.
+        // It stays pending with its checkpoint, and the same command continues it.
+        if (e instanceof FileSystemError) throw e;
         if (!isScan && !isRungchainError(e)) throw e;
         if (!isScan) {
           if (writer) finish({ kind: 'trace', point: job.point, params: job.params, status: 'failed', error: errorText(e), finished: new Date().toISOString() });
@@ -507,6 +510,11 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
         say(`${label}: FAILED ${errorText(e)}`);
       }
     }
+  } catch (e) {
+    if (e instanceof FileSystemError && resumeCommand) {
+      throw new FileSystemError(`${e.message}; every time recorded so far is kept: once that is fixed, resume with: ${resumeCommand}`);
+    }
+    throw e;
   } finally {
     bar?.stop();
     for (const [signal, handler] of handlers) process.off(signal, handler);
