@@ -30,7 +30,8 @@ import { expandScan, formatParams, type ScanParams } from './scan.js';
 import { defaultRunDir, rungchainVersion } from './scanRunner.js';
 import { loadSpec, type Spec } from './spec.js';
 import { labUnits, describeUnits } from './units.js';
-import { csv, fmt, shellQuote, table } from './tables.js';
+import { csv, fmt, table } from './tables.js';
+import { commandLine } from './invocation.js';
 
 export interface FrameRecord {
   kind: 'frame';
@@ -278,6 +279,8 @@ export interface EvolveRunOptions {
   /** Run folder; null writes nothing (single spec only). Default for scans: runs/<spec name>-<identity>. */
   out?: string | null;
   maxMemory?: number;
+  /** --max-memory as the user wrote it, repeated in the command that resumes. */
+  maxMemoryText?: string;
   progress?: 'auto' | 'bar' | 'lines' | 'none';
   stream?: NodeJS.WriteStream;
   /** Seconds between checkpoints of the state (0: after every recorded time). */
@@ -348,7 +351,18 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
 
   const dir = options.out === undefined ? (isScan ? defaultRunDir(options.specPath, identity) : null) : options.out;
   const resumeCommand =
-    dir === null ? null : ['rungchain', 'evolve', options.specPath, ...overrides.flatMap((o) => ['--set', o]), '--out', dir].map(shellQuote).join(' ');
+    dir === null
+      ? null
+      : commandLine([
+          'evolve',
+          options.specPath,
+          ...overrides.flatMap((o) => ['--set', o]),
+          ...(options.checkpointSeconds !== undefined ? ['--checkpoint-every', String(options.checkpointSeconds)] : []),
+          ...(options.maxMemoryText !== undefined ? ['--max-memory', options.maxMemoryText] : []),
+          ...(options.retryFailed ? ['--retry-failed'] : []),
+          '--out',
+          dir,
+        ]);
   const units = labUnits(spec);
   const energyUnitHz = units?.energyUnitHz ?? null;
   const writer =

@@ -2,7 +2,7 @@
 // cannot be written, options that are wrong, runs that partly fail. End to end: each test spawns
 // the built command as a user would.
 import { beforeAll, describe, expect, it } from 'vitest';
-import { spawnSync } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
@@ -46,6 +46,19 @@ function piped(args: string[], reader: string): { status: number | null; stderr:
   const command = `set -o pipefail; ${quote(process.execPath)} ${quote(CLI)} ${args.map(quote).join(' ')} | ${reader} > /dev/null`;
   const r = spawnSync('bash', ['-c', command], { cwd: ROOT, encoding: 'utf8', timeout: 120_000 });
   return { status: r.status, stderr: r.stderr };
+}
+
+/** The command after "resume with: " on the last line that has one. */
+function resumeCommandIn(stderr: string): string {
+  const found = [...stderr.matchAll(/resume with: (.*)$/gm)].pop();
+  expect(found, stderr).toBeDefined();
+  return found![1];
+}
+
+/** Runs a printed command as a user pasting it into a shell would, in the same folder. */
+function pasted(command: string, cwd = ROOT): { status: number | null; stdout: string; stderr: string } {
+  const r = spawnSync('bash', ['-c', command], { cwd, encoding: 'utf8', timeout: 120_000 });
+  return { status: r.status, stdout: r.stdout, stderr: r.stderr };
 }
 
 let scanRun = '';
@@ -212,7 +225,7 @@ describe('a full disk (simulated through the RUNGCHAIN_TEST_DISK_BYTES hook)', (
 
     const out = path.join(dir, 'run');
     const filled = full(['evolve', spec, '--out', out, '--quiet', '--checkpoint-every', '0'], 60_000);
-    expectOneLine(filled, /no space left on the device \(ENOSPC\)/, `resume with: rungchain evolve ${spec} --out ${out}`);
+    expectOneLine(filled, /no space left on the device \(ENOSPC\)/, `--checkpoint-every 0 --out ${out}`);
     const partial = loadEvolveRun(out).traces[0];
     // A write that failed is not a failed trace.
     expect(partial.status).toBe('pending');
@@ -220,10 +233,11 @@ describe('a full disk (simulated through the RUNGCHAIN_TEST_DISK_BYTES hook)', (
     expect(partial.frames.length).toBeLessThan(201);
     expect(existsSync(path.join(out, 'checkpoint-0.bin'))).toBe(true);
 
-    // Space freed: the same command (here with --retry-failed too, which must change nothing) continues.
-    const resumed = runCli(['evolve', spec, '--out', out, '--retry-failed']);
-    expect(resumed.code, resumed.stderr).toBe(0);
+    // Space freed: the command it printed continues the trace; --retry-failed then finds nothing to redo.
+    const resumed = pasted(resumeCommandIn(filled.stderr));
+    expect(resumed.status, resumed.stderr).toBe(0);
     expect(resumed.stderr).toMatch(/resuming trace at t = /);
+    expect(runCli(['evolve', spec, '--out', out, '--retry-failed', '--quiet']).code).toBe(0);
     const frames = readRun(out).records.filter((r) => r.kind === 'frame');
     expect(frames.map((f) => f.index)).toEqual(Array.from({ length: 201 }, (_, k) => k));
     const trace = loadEvolveRun(out).traces[0];
@@ -238,3 +252,77 @@ describe('a full disk (simulated through the RUNGCHAIN_TEST_DISK_BYTES hook)', (
     });
   });
 });
+
+describe('partial failure: exit 3 and one closing line, for scan, evolve and merge alike', () => {
+  // chain.sites = 13 with 3 levels needs 3^13 states, far above a 70 MB limit: that point fails with its reason.
+  const AXIS = `\n[[scan.axis]]\nkey = "chain.sites"\nvalues = [3, 13, 4]\n`;
+  const BASE = `[chain]\nsites = 3\n[levels]\ncount = 3\ntunnelling = 0.5\n[exchange]\nstrength = 1.0\n`;
+  const TIMES = `[evolve]\ntimes = { from = 0, to = 2, steps = 4 }\n`;
+
+  it('scan, then merge of its folder: 1 of 3 points failed, exit 3 (was 0)', () => {
+    const dir = tmp();
+    writeFileSync(path.join(dir, 'scan.toml'), BASE + AXIS);
+    const out = path.join(dir, 'run');
+    const r = runCli(['scan', path.join(dir, 'scan.toml'), '--out', out, '--max-memory', '70MB', '--quiet']);
+    expect(r.code).toBe(3);
+    expect(r.stderr.trim().split('\n')).toEqual([expect.stringMatching(/^rungchain: 1 of 3 points failed \(the reasons: .*summary .*\); rerun them with --retry-failed$/)]);
+    const merged = runCli(['merge', out, '--out', path.join(dir, 'merged')]);
+    expect(merged.stdout).toMatch(/2 done, 1 failed, 0 missing of 3/);
+    expect(merged.code).toBe(3);
+  });
+
+  it('evolve over a scan: 1 of 3 traces failed, exit 3 (was 2 with no word on why)', () => {
+    const dir = tmp();
+    writeFileSync(path.join(dir, 'evolve.toml'), BASE + TIMES + AXIS);
+    const out = path.join(dir, 'run');
+    for (let attempt = 0; attempt < 2; attempt++) {
+      const r = runCli(['evolve', path.join(dir, 'evolve.toml'), '--out', out, '--max-memory', '70MB', '--quiet', '--json']);
+      expect(JSON.parse(r.stdout)).toHaveLength(3);
+      expect(r.stderr.trim().split('\n')).toEqual([expect.stringMatching(/^rungchain: 1 of 3 traces failed \(the reasons: .*trace .*\); rerun them with --retry-failed$/)]);
+      expect(r.code).toBe(3);
+    }
+  });
+
+  it('a single trace that failed: the next run says why and exits 3 instead of exiting 2 in silence', () => {
+    const dir = tmp();
+    writeFileSync(path.join(dir, 'big.toml'), BASE.replace('sites = 3', 'sites = 13') + TIMES);
+    const args = ['evolve', path.join(dir, 'big.toml'), '--out', path.join(dir, 'run'), '--max-memory', '70MB', '--quiet'];
+    // The run that meets the error reports it as any error (exit 2) and records the trace as failed.
+    expectOneLine(runCli(args), /needs an estimated .* more than the memory limit/);
+    const again = runCli(args);
+    expect(again.stderr.trim().split('\n')).toEqual([expect.stringMatching(/^rungchain: the trace failed: ResourceError: .*memory limit.*; run it again with --retry-failed$/)]);
+    expect(again.code).toBe(3);
+  });
+});
+
+describe('the commands rungchain prints can be pasted where the user stands', () => {
+  // After the README's install (`npm install` in a clone) the name `rungchain` is not on PATH.
+  it('Ctrl-C during a scan prints a resume command with the options the run used, and pasting it finishes the run', async () => {
+    const dir = tmp();
+    writeFileSync(path.join(dir, 'scan.toml'), SCAN);
+    const out = path.join(dir, 'my run');
+    const child = spawn(process.execPath, [CLI, 'scan', path.join(dir, 'scan.toml'), '--out', out, '--workers', '1', '--no-warm-start', '--max-memory', '8GB'], {
+      cwd: ROOT,
+      stdio: ['ignore', 'ignore', 'pipe'],
+      env: { ...process.env, RUNGCHAIN_TEST_POINT_DELAY_MS: '100' },
+    });
+    let stderr = '';
+    child.stderr.on('data', (d) => (stderr += d));
+    const exit = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));
+    const records = path.join(out, 'records.msgpack');
+    for (let i = 0; i < 2000 && !(existsSync(records) && statSync(records).size > 0); i++) await new Promise((r) => setTimeout(r, 10));
+    child.kill('SIGINT');
+    expect(await exit).toBe(130);
+    const command = resumeCommandIn(stderr);
+    for (const option of ['--no-warm-start', '--max-memory 8GB', '--workers 1', `--out '${out}'`]) expect(command).toContain(option);
+    const resumed = pasted(command);
+    expect(resumed.stderr).not.toMatch(/command not found/);
+    expect(resumed.status, resumed.stderr).toBe(0);
+    expect(resumed.stderr).toMatch(/resuming .*: \d+ done, 0 failed/);
+    expect(readRun(out).records).toHaveLength(480);
+    // The closing hint works too.
+    const hint = /results: (.*?)  \(--csv/.exec(resumed.stderr)![1];
+    expect(JSON.parse(pasted(`${hint} --json`).stdout)).toHaveLength(480);
+  });
+});
+

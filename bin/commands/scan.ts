@@ -9,6 +9,10 @@ import { addAnalysisOptions, analysisOptions, type AnalysisFlags } from './repor
 import { checkOutOption, collect, memoryLimit } from './shared.js';
 import { parseShard, shardFromEnvironment } from '../../src/shard.js';
 import { registerShardCommands } from './shard.js';
+import { commandLine } from '../../src/invocation.js';
+
+/** Exit code of a run that finished with points (or traces) that have no result; see the README. */
+export const PARTIAL_FAILURE = 3;
 
 function positiveInteger(text: string, what: string): number {
   const n = Number(text);
@@ -40,11 +44,18 @@ export function registerScanCommands(program: Command): void {
         retryFailed: Boolean(opts.retryFailed),
         warmStart: opts.warmStart,
         maxMemory: memoryLimit(opts),
+        maxMemoryText: opts.maxMemory,
         progress: opts.quiet ? 'none' : 'auto',
         handleSignals: true,
       });
       // 130 is the shell's code for a run stopped by Ctrl-C.
       if (outcome.interrupted) process.exitCode = 130;
+      else if (outcome.failed > 0) {
+        process.stderr.write(
+          `rungchain: ${outcome.failed} of ${outcome.total} points failed (the reasons: ${commandLine(['summary', outcome.dir])}); rerun them with --retry-failed\n`,
+        );
+        process.exitCode = PARTIAL_FAILURE;
+      }
     });
 
   registerShardCommands(program);

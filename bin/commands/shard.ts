@@ -8,6 +8,9 @@ import { mergeRuns } from '../../src/shard.js';
 import { planBatch } from '../../src/batch.js';
 import { checkOutOption, collect } from './shared.js';
 import { makeFolderFor } from '../../src/runfiles.js';
+import { commandLine, invocation } from '../../src/invocation.js';
+import { shellQuote } from '../../src/tables.js';
+import { PARTIAL_FAILURE } from './scan.js';
 
 function listed(indices: number[]): string {
   return indices.length <= 12 ? indices.join(', ') : `${indices.slice(0, 12).join(', ')}, ... (${indices.length} in all)`;
@@ -26,7 +29,11 @@ export function registerShardCommands(program: Command): void {
       if (r.duplicated.length > 0) console.log(`points finished in more than one folder (one record kept): ${listed(r.duplicated)}`);
       if (r.missing.length > 0) {
         console.log(`missing points (no shard has them; rerun the shards that hold them, then merge again): ${listed(r.missing)}`);
-        process.exitCode = 3;
+        process.exitCode = PARTIAL_FAILURE;
+      }
+      if (r.failed > 0) {
+        console.log(`${r.failed} point${r.failed === 1 ? '' : 's'} failed (the reasons: ${commandLine(['summary', r.out])}); rerun ${r.failed === 1 ? 'its shard' : 'their shards'} with --retry-failed, then merge again`);
+        process.exitCode = PARTIAL_FAILURE;
       }
     });
 
@@ -75,6 +82,6 @@ export function registerShardCommands(program: Command): void {
       writeFileSync(file, batch.script, { mode: 0o755 });
       console.log(`wrote ${file}: ${batch.shards} tasks of ${batch.cpusPerTask} core${batch.cpusPerTask === 1 ? '' : 's'}, ${formatBytes(batch.memoryBytes)} and ${batch.timeText} each (heaviest shard: ${batch.heaviestPoints} points)`);
       console.log(`submit:  sbatch ${file}`);
-      console.log(`then:    rungchain merge ${path.join(batch.runDir, 'shard-*')} --out ${path.join(batch.runDir, 'merged')}`);
+      console.log(`then:    ${invocation()} merge ${shellQuote(batch.runDir)}/shard-* --out ${shellQuote(path.join(batch.runDir, 'merged'))}`);
     });
 }
