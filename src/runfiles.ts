@@ -113,7 +113,7 @@ function writeAll(fd: number, buffer: Buffer): void {
 
 /** How to show a path the user did not type (an ancestor of one they did): relative when theirs was. */
 function shownLike(given: string, absolute: string): string {
-  return path.isAbsolute(given) ? absolute : path.relative(process.cwd(), absolute) || '.';
+  return path.isAbsolute(given) ? absolute : path.relative(process.cwd(), absolute) || absolute;
 }
 
 /**
