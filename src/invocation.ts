@@ -14,10 +14,13 @@ function realPath(file: string): string | null {
   }
 }
 
-/** What `name` runs when typed in a shell with this PATH (symlinks followed), or null. */
-function foundOnPath(name: string): string | null {
+/**
+ * What `name` runs when typed in a shell with this PATH (symlinks followed), or null. Under npm
+ * (npx, npm run) the node_modules/.bin folders npm put on PATH are not the user's shell's: skipped.
+ */
+function foundOnPath(name: string, underNpm: boolean): string | null {
   for (const dir of (process.env.PATH ?? '').split(path.delimiter)) {
-    if (!dir) continue;
+    if (!dir || (underNpm && path.basename(dir) === '.bin' && dir.split(path.sep).includes('node_modules'))) continue;
     const candidate = path.join(dir, name);
     try {
       accessSync(candidate, constants.X_OK);
@@ -38,10 +41,11 @@ function foundOnPath(name: string): string | null {
 export function invocation(): string {
   const script = process.argv[1];
   if (!script || !/^rungchain(\.js)?$/.test(path.basename(script))) return 'rungchain';
+  const underNpm = process.env.npm_command !== undefined;
+  if (underNpm && script.split(path.sep).includes('.bin')) return 'npx rungchain';
   const program = realPath(script);
-  if (program !== null && foundOnPath('rungchain') === program) return 'rungchain';
-  if (process.env.npm_command === 'exec' && script.split(path.sep).includes('.bin')) return 'npx rungchain';
-  const node = foundOnPath('node') === realPath(process.execPath) ? 'node' : shellQuote(process.execPath);
+  if (program !== null && foundOnPath('rungchain', underNpm) === program) return 'rungchain';
+  const node = foundOnPath('node', underNpm) === realPath(process.execPath) ? 'node' : shellQuote(process.execPath);
   const relative = path.relative(process.cwd(), script);
   const shown = relative !== '' && !relative.startsWith('..') && !path.isAbsolute(relative) ? relative : path.resolve(script);
   return `${node} ${shellQuote(shown)}`;
