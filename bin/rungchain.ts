@@ -2,7 +2,7 @@
 // The command line: each command family registers itself from bin/commands/; errors become one line.
 
 import { Command, CommanderError } from 'commander';
-import { isRungchainError } from '../src/errors.js';
+import { isRungchainError, isSystemError, systemErrorCause } from '../src/errors.js';
 import { registerSolveCommands } from './commands/solve.js';
 import { registerScanCommands } from './commands/scan.js';
 import { registerEvolveCommands } from './commands/evolve.js';
@@ -20,6 +20,16 @@ registerScanCommands(program);
 registerEvolveCommands(program);
 registerReportCommands(program);
 
+// A reader that stops early (`| head`) closes the pipe: the output is no longer wanted, so stop
+// quietly with success, as `rungchain summary RUN --csv | head` should read under `set -o pipefail`.
+process.stdout.on('error', (e: NodeJS.ErrnoException) => {
+  if (e.code === 'EPIPE') process.exit(0);
+  process.stderr.write(`rungchain: cannot write to standard output: ${e.message}\n`);
+  process.exit(2);
+});
+// Messages on a closed stderr are lost; the work itself goes on.
+process.stderr.on('error', () => undefined);
+
 async function main(): Promise<void> {
   try {
     await program.parseAsync(process.argv);
@@ -30,6 +40,12 @@ async function main(): Promise<void> {
     }
     if (isRungchainError(e)) {
       process.stderr.write(`rungchain: ${e.message}\n`);
+      process.exit(2);
+    }
+    // A file-system call that failed where no module expected it: still the path and the cause.
+    if (isSystemError(e)) {
+      const where = [e.path, (e as { dest?: string }).dest].filter((p) => p !== undefined).join(' -> ');
+      process.stderr.write(`rungchain: cannot ${e.syscall}${where ? ` ${where}` : ''}: ${systemErrorCause(e)}\n`);
       process.exit(2);
     }
     const message = e instanceof Error ? e.message : String(e);

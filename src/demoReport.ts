@@ -2,11 +2,11 @@
 // solved here line by line (each point's overlap with the previous ground state kept for the
 // fidelity susceptibility), analysed and written as the same HTML report `rungchain report` makes.
 
-import { mkdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { DEMO_SPEC } from './demo.js';
 import { solvePoint } from './point.js';
 import { renderReport } from './report.js';
+import { makeFolderFor, writeFileAtomic } from './runfiles.js';
 import { groundSpaceOverlap } from './scanTask.js';
 import { validateSpec } from './spec.js';
 import { analyseScan, type AnalysisInput, type AnalysisPoint } from './transitions.js';
@@ -55,8 +55,8 @@ export function writeDemoReport(print: (line: string) => void, file = DEMO_REPOR
     analysis,
     energyUnitHz: null,
   });
-  mkdirSync(path.dirname(path.resolve(file)), { recursive: true });
-  writeFileSync(file, html);
+  makeFolderFor(file, 'the demo report');
+  writeFileAtomic(file, html);
   print(`Report of a scan over V and N (plots, transition indicators, finite-size trends): ${path.resolve(file)}`);
   print('Open it in any browser; `rungchain report RUN` writes the same for your own scans.');
   return file;

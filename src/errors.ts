@@ -30,6 +30,13 @@ export class ConvergenceError extends RungchainError {}
 /** A run folder or run file is damaged, locked or inconsistent. */
 export class RunFileError extends RungchainError {}
 
+/**
+ * A file or folder that cannot be created, read or written (a path that is a file, no space left,
+ * no permission): names the path and the cause. Not a property of the run: the same command
+ * succeeds once the cause is gone.
+ */
+export class FileSystemError extends RungchainError {}
+
 /** A request the engine does not support for this model (e.g. a term on a basis that cannot hold it). */
 export class UnsupportedError extends RungchainError {}
 
@@ -43,11 +50,39 @@ export function isRungchainError(e: unknown): e is RungchainError {
  * Error saying where it came from.
  */
 export function errorFromThread(name: string, message: string, where: string): Error {
-  const ours: Record<string, new (message: string) => RungchainError> = { InputError, ResourceError, ConvergenceError, RunFileError, UnsupportedError };
+  const ours: Record<string, new (message: string) => RungchainError> = { InputError, ResourceError, ConvergenceError, RunFileError, FileSystemError, UnsupportedError };
   if (name === 'SpecError') return new SpecError('', message);
   if (ours[name]) return new ours[name](message);
   if (name === 'RangeError' && /allocation failed|Invalid typed array length|Array buffer|out of memory/i.test(message)) {
     return new ResourceError(`${where} ran out of memory (${message}); lower the number of threads, or use a machine with more memory`);
   }
   return new Error(`${where} failed: ${name}: ${message}`);
+}
+
+/** An error of a system call (fs, os): it carries an errno code such as ENOSPC and the call's name. */
+export function isSystemError(e: unknown): e is NodeJS.ErrnoException & { code: string; syscall: string } {
+  return e instanceof Error && typeof (e as NodeJS.ErrnoException).code === 'string' && /^E[A-Z0-9]+$/.test((e as NodeJS.ErrnoException).code!) && typeof (e as NodeJS.ErrnoException).syscall === 'string';
+}
+
+const CAUSES: Record<string, string> = {
+  ENOSPC: 'no space left on the device',
+  EDQUOT: 'disk quota exceeded',
+  EACCES: 'permission denied',
+  EPERM: 'operation not permitted',
+  EROFS: 'read-only file system',
+  EISDIR: 'it is a folder',
+  ENOTDIR: 'part of the path is a file, not a folder',
+  ENOENT: 'no such file or folder',
+  EEXIST: 'it already exists',
+  ENAMETOOLONG: 'the name is too long',
+  EMFILE: 'too many open files',
+  EIO: 'input/output error',
+};
+
+/** The cause of a failed system call in words, with its code: "no space left on the device (ENOSPC)". */
+export function systemErrorCause(e: unknown): string {
+  if (!isSystemError(e)) return e instanceof Error ? e.message : String(e);
+  // Node's own text is "CODE: words, syscall 'path'": keep the words when the code is not one of ours.
+  const words = CAUSES[e.code] ?? (/^[A-Z0-9]+: (.*?)(?:, \w+ '.*)?$/.exec(e.message)?.[1] || e.message);
+  return `${words} (${e.code})`;
 }

@@ -22,7 +22,7 @@ import { existsSync, readdirSync, readFileSync, unlinkSync } from 'node:fs';
 import path from 'node:path';
 import { crc32 } from 'node:zlib';
 import cliProgress from 'cli-progress';
-import { InputError, RunFileError, SpecError, isRungchainError } from './errors.js';
+import { FileSystemError, InputError, RunFileError, SpecError, isRungchainError } from './errors.js';
 import { Evolution, planEvolution, timeFirstObservables, type EvolutionCheckpoint, type EvolutionFrame, type EvolutionPlan } from './evolve.js';
 import { readRun, runIdentity, RunWriter, writeFileAtomic } from './runfiles.js';
 import { defaultMemoryLimit } from './resources.js';
@@ -30,7 +30,8 @@ import { expandScan, formatParams, type ScanParams } from './scan.js';
 import { defaultRunDir, rungchainVersion } from './scanRunner.js';
 import { loadSpec, type Spec } from './spec.js';
 import { labUnits, describeUnits } from './units.js';
-import { columnScale, csv, fmt, fmtNoise, fmtSmall, plural, shellQuote, table } from './tables.js';
+import { columnScale, csv, fmt, fmtNoise, fmtSmall, plural, table } from './tables.js';
+import { commandLine } from './invocation.js';
 
 export interface FrameRecord {
   kind: 'frame';
@@ -285,6 +286,8 @@ export interface EvolveRunOptions {
   /** Run folder; null writes nothing (single spec only). Default for scans: runs/<spec name>-<identity>. */
   out?: string | null;
   maxMemory?: number;
+  /** --max-memory as the user wrote it, repeated in the command that resumes. */
+  maxMemoryText?: string;
   progress?: 'auto' | 'bar' | 'lines' | 'none';
   stream?: NodeJS.WriteStream;
   /** Seconds between checkpoints of the state (0: after every recorded time). */
@@ -355,7 +358,18 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
 
   const dir = options.out === undefined ? (isScan ? defaultRunDir(options.specPath, identity) : null) : options.out;
   const resumeCommand =
-    dir === null ? null : ['rungchain', 'evolve', options.specPath, ...overrides.flatMap((o) => ['--set', o]), '--out', dir].map(shellQuote).join(' ');
+    dir === null
+      ? null
+      : commandLine([
+          'evolve',
+          options.specPath,
+          ...overrides.flatMap((o) => ['--set', o]),
+          ...(options.checkpointSeconds !== undefined ? ['--checkpoint-every', String(options.checkpointSeconds)] : []),
+          ...(options.maxMemoryText !== undefined ? ['--max-memory', options.maxMemoryText] : []),
+          ...(options.retryFailed ? ['--retry-failed'] : []),
+          '--out',
+          dir,
+        ]);
   const units = labUnits(spec);
   const energyUnitHz = units?.energyUnitHz ?? null;
   const writer =
@@ -436,7 +450,7 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
         say(`${label}: FAILED ${errorText(plan)}`);
         continue;
       }
-      if (trace.status === 'failed') trace.frames.length = 0;
+      // A failed trace run again keeps the times it recorded before failing: they are never written twice.
       try {
         let resume = dir === null ? null : readCheckpoint(dir, identity, job.point, plan.dimension);
         // Frames already on disk are not written again; a resume from an older checkpoint recomputes them.
@@ -505,6 +519,9 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
         });
         if (mode === 'lines' && (isScan || dir !== null)) say(`${label}: done, ${plural(result.stats.steps, 'step')}, ${plural(result.stats.matvecs, 'product')}, error bound ${fmtSmall(result.stats.error_bound, 1)}`);
       } catch (e) {
+        // The run folder could not be written (disk full, ...): that is no property of the trace.
+        // It stays pending with its checkpoint, and the same command continues it.
+        if (e instanceof FileSystemError) throw e;
         if (!isScan && !isRungchainError(e)) throw e;
         if (!isScan) {
           if (writer) finish({ kind: 'trace', point: job.point, params: job.params, status: 'failed', error: errorText(e), finished: new Date().toISOString() });
@@ -514,6 +531,11 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
         say(`${label}: FAILED ${errorText(e)}`);
       }
     }
+  } catch (e) {
+    if (e instanceof FileSystemError && resumeCommand) {
+      throw new FileSystemError(`${e.message}; every time recorded so far is kept: once that is fixed, resume with: ${resumeCommand}`);
+    }
+    throw e;
   } finally {
     bar?.stop();
     for (const [signal, handler] of handlers) process.off(signal, handler);

@@ -23,13 +23,13 @@
 // Records are plain objects; this layer knows nothing of what is in them, so scans, time traces
 // and shard merges all use it.
 
-import { closeSync, constants, existsSync, fstatSync, fsyncSync, ftruncateSync, linkSync, mkdirSync, openSync, readFileSync, renameSync, unlinkSync, writeFileSync, writeSync } from 'node:fs';
+import { closeSync, constants, existsSync, fstatSync, fsyncSync, ftruncateSync, linkSync, lstatSync, mkdirSync, openSync, readFileSync, renameSync, rmdirSync, statSync, unlinkSync, writeSync } from 'node:fs';
 import { createHash, randomBytes } from 'node:crypto';
 import os from 'node:os';
 import path from 'node:path';
 import { crc32 } from 'node:zlib';
 import { Packr, Unpackr } from 'msgpackr';
-import { RunFileError } from './errors.js';
+import { FileSystemError, RunFileError, isSystemError, systemErrorCause } from './errors.js';
 
 export const MANIFEST_FILE = 'manifest.json';
 export const RECORDS_FILE = 'records.msgpack';
@@ -80,6 +80,107 @@ export function machineInfo(): MachineInfo {
     memory_bytes: os.totalmem(),
     node: process.version,
   };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Writing bytes and making folders
+
+/**
+ * Test hook: the run files of this process may take this many bytes in all; past that a write
+ * fails with ENOSPC as on a full disk (after a last short write of what still fits), so tests can
+ * fill the disk without mounting a small file system. As on a disk, bytes cut off again or
+ * replaced by a rename are free again.
+ */
+let testDiskBytesLeft = process.env.RUNGCHAIN_TEST_DISK_BYTES === undefined ? Infinity : Number(process.env.RUNGCHAIN_TEST_DISK_BYTES);
+
+function writeSome(fd: number, buffer: Buffer, offset: number, length: number): number {
+  if (testDiskBytesLeft <= 0) {
+    throw Object.assign(new Error('ENOSPC: no space left on device, write'), { code: 'ENOSPC', errno: -28, syscall: 'write' });
+  }
+  const written = writeSync(fd, buffer, offset, Math.min(length, testDiskBytesLeft));
+  testDiskBytesLeft -= written;
+  return written;
+}
+
+function testDiskGiveBack(bytes: number): void {
+  testDiskBytesLeft += bytes;
+}
+
+/** Writes the whole buffer (a write may take only part of it). */
+function writeAll(fd: number, buffer: Buffer): void {
+  for (let written = 0; written < buffer.length; ) written += writeSome(fd, buffer, written, buffer.length - written);
+}
+
+/** How to show a path the user did not type (an ancestor of one they did): relative when theirs was. */
+function shownLike(given: string, absolute: string): string {
+  return path.isAbsolute(given) ? absolute : path.relative(process.cwd(), absolute) || absolute;
+}
+
+/**
+ * Creates a folder and any missing parents, one level at a time, and returns the folders it
+ * created (outermost first). Node's recursive mkdir loops forever where a parent exists but
+ * refuses new entries (/proc), so the walk is our own: up to the nearest existing ancestor, which
+ * must be a folder, then down. Every failure is a FileSystemError naming the path and the cause.
+ */
+export function makeFolder(dir: string): string[] {
+  if (dir === '') throw new FileSystemError('an empty path is not a folder');
+  const target = path.resolve(dir);
+  const missing: string[] = [];
+  let existing = target;
+  for (;;) {
+    try {
+      if (!statSync(existing).isDirectory()) {
+        throw new FileSystemError(existing === target ? `${dir} is a file, not a folder` : `cannot create folder ${dir}: ${shownLike(dir, existing)} is a file, not a folder`);
+      }
+      break;
+    } catch (e) {
+      if (!isSystemError(e) || (e.code !== 'ENOENT' && e.code !== 'ENOTDIR')) {
+        throw isSystemError(e) ? new FileSystemError(`cannot create folder ${dir}: ${systemErrorCause(e)}`) : e;
+      }
+      // ENOTDIR: a file further up; keep walking to find it and name it.
+      missing.unshift(existing);
+      const parent = path.dirname(existing);
+      if (parent === existing) throw new FileSystemError(`cannot create folder ${dir}: ${systemErrorCause(e)}`);
+      existing = parent;
+    }
+  }
+  const created: string[] = [];
+  try {
+    for (const folder of missing) {
+      try {
+        mkdirSync(folder);
+        created.push(folder);
+      } catch (e) {
+        if (isSystemError(e) && e.code === 'EEXIST' && statSync(folder).isDirectory()) continue;
+        if (isSystemError(e) && e.code === 'ENOENT') {
+          // The parent exists (we just found or made it) yet the entry cannot be made: a virtual file system.
+          throw new FileSystemError(`cannot create folder ${dir}: ${shownLike(dir, path.dirname(folder))} does not take new folders (ENOENT)`);
+        }
+        throw isSystemError(e) ? new FileSystemError(`cannot create folder ${dir}: ${systemErrorCause(e)}`) : e;
+      }
+    }
+  } catch (e) {
+    removeFolders(created);
+    throw e;
+  }
+  return created;
+}
+
+/** Removes folders made by makeFolder, innermost first, as long as they are empty. */
+export function removeFolders(created: string[]): void {
+  for (const folder of [...created].reverse()) {
+    try {
+      rmdirSync(folder);
+    } catch {
+      return;
+    }
+  }
+}
+
+/** Creates the folder a file will be written into (see makeFolder); refuses an empty name. */
+export function makeFolderFor(file: string, option: string): string[] {
+  if (file === '') throw new FileSystemError(`${option}: an empty path names no file`);
+  return makeFolder(path.dirname(file));
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -322,14 +423,34 @@ export function acquireLock(dir: string, command = process.argv.slice(1).join(' 
   // Write the whole lock under a private name, then link it into place: link fails if a lock exists,
   // so taking the lock is atomic and a lock file is never seen half written.
   const temporary = path.join(dir, `.lock.${process.pid}.${randomBytes(4).toString('hex')}`);
-  writeFileSync(temporary, text);
+  try {
+    const fd = openSync(temporary, 'w');
+    try {
+      writeAll(fd, Buffer.from(text));
+    } finally {
+      closeSync(fd);
+    }
+  } catch (e) {
+    try {
+      unlinkSync(temporary);
+    } catch {
+      /* never created */
+    }
+    throw isSystemError(e) ? new FileSystemError(`cannot write the lock in ${dir}: ${systemErrorCause(e)}`) : e;
+  }
   try {
     for (let attempt = 0; ; attempt++) {
       try {
         linkSync(temporary, lockPath);
         break;
       } catch (e) {
-        if ((e as NodeJS.ErrnoException).code !== 'EEXIST') throw e;
+        if (!isSystemError(e)) throw e;
+        if (e.code !== 'EEXIST') throw new FileSystemError(`cannot take the lock ${lockPath}: ${systemErrorCause(e)}`);
+      }
+      // Only a file can be a lock we broke: anything else at that name is not ours to move.
+      const found = lstatSync(lockPath, { throwIfNoEntry: false });
+      if (found && !found.isFile()) {
+        throw new FileSystemError(`${lockPath} is not a lock file (it is a folder or a link); remove it if no scan is writing ${dir}`);
       }
       const holder = readLock(dir);
       if (attempt >= 3 || !lockIsStale(holder)) {
@@ -396,17 +517,34 @@ function fsyncDirectory(dir: string): void {
   }
 }
 
-/** Writes a file so that it is either absent, or complete: temporary file, fsync, rename, fsync the folder. */
+/**
+ * Writes a file so that it is either absent, or complete: temporary file, fsync, rename, fsync the
+ * folder. On failure the temporary file is removed and a FileSystemError names the file and the cause.
+ */
 export function writeFileAtomic(file: string, content: string | Buffer): void {
+  const replaced = statSync(file, { throwIfNoEntry: false });
+  if (replaced?.isDirectory()) throw new FileSystemError(`cannot write ${file}: it is a folder`);
   const temporary = `${file}.tmp.${process.pid}`;
-  const fd = openSync(temporary, 'w');
+  const spaceBefore = testDiskBytesLeft;
   try {
-    writeSync(fd, typeof content === 'string' ? Buffer.from(content) : content);
-    fsyncSync(fd);
-  } finally {
-    closeSync(fd);
+    const fd = openSync(temporary, 'w');
+    try {
+      writeAll(fd, typeof content === 'string' ? Buffer.from(content) : content);
+      fsyncSync(fd);
+    } finally {
+      closeSync(fd);
+    }
+    renameSync(temporary, file);
+  } catch (e) {
+    try {
+      unlinkSync(temporary);
+    } catch {
+      /* never created */
+    }
+    testDiskGiveBack(spaceBefore - testDiskBytesLeft);
+    throw isSystemError(e) ? new FileSystemError(`cannot write ${file}: ${systemErrorCause(e)}`) : e;
   }
-  renameSync(temporary, file);
+  testDiskGiveBack(replaced?.size ?? 0);
   fsyncDirectory(path.dirname(file));
 }
 
@@ -448,9 +586,17 @@ export class RunWriter {
 
   /** Creates the folder or resumes it; refuses a folder holding a different run or locked by a live writer. */
   static open(dir: string, options: OpenRunOptions): RunWriter {
-    mkdirSync(dir, { recursive: true });
-    const release = acquireLock(dir);
+    const createdFolders = makeFolder(dir);
+    let release: () => void;
+    try {
+      release = acquireLock(dir);
+    } catch (e) {
+      removeFolders(createdFolders);
+      throw e;
+    }
     let fd: number | null = null;
+    // What this call created, removed again when opening fails, so a failed start leaves nothing.
+    const createdFiles: string[] = [];
     try {
       const manifestPath = path.join(dir, MANIFEST_FILE);
       const recordsPath = path.join(dir, RECORDS_FILE);
@@ -479,8 +625,10 @@ export class RunWriter {
           ...options.fields,
         };
         writeFileAtomic(manifestPath, JSON.stringify(manifest, null, 2) + '\n');
+        createdFiles.push(manifestPath);
       }
 
+      if (!existsSync(recordsPath)) createdFiles.push(recordsPath);
       fd = openSync(recordsPath, constants.O_RDWR | constants.O_CREAT | constants.O_APPEND, 0o644);
       fsyncDirectory(dir);
       const buffer = readFileSync(recordsPath);
@@ -495,8 +643,16 @@ export class RunWriter {
       return new RunWriter(dir, manifest, parsed.records as Record<string, unknown>[], cutBytes, fd, parsed.intactEnd, release);
     } catch (e) {
       if (fd !== null) closeSync(fd);
+      for (const file of createdFiles) {
+        try {
+          unlinkSync(file);
+        } catch {
+          /* not there */
+        }
+      }
       release();
-      throw e;
+      removeFolders(createdFolders);
+      throw isSystemError(e) ? new FileSystemError(`cannot open the run folder ${dir}: ${systemErrorCause(e)}`) : e;
     }
   }
 
@@ -504,18 +660,19 @@ export class RunWriter {
   append(record: Record<string, unknown>): void {
     if (this.fd === null) throw new RunFileError(`${this.dir}: the run is closed`);
     const frame = encodeFrame(stripUndefined(record));
+    const spaceBefore = testDiskBytesLeft;
     try {
-      let written = 0;
-      while (written < frame.length) written += writeSync(this.fd, frame, written, frame.length - written);
+      writeAll(this.fd, frame);
       fsyncSync(this.fd);
     } catch (e) {
       // A failed append (disk full) must not leave a partial frame for the next one to follow.
       try {
         ftruncateSync(this.fd, this.size);
+        testDiskGiveBack(spaceBefore - testDiskBytesLeft);
       } catch {
         /* the torn tail is cut on the next open */
       }
-      throw new RunFileError(`cannot append to ${path.join(this.dir, RECORDS_FILE)}: ${(e as Error).message}`);
+      throw new FileSystemError(`cannot append to ${path.join(this.dir, RECORDS_FILE)}: ${systemErrorCause(e)}`);
     }
     this.size += frame.length;
     this.appended++;

@@ -9,7 +9,7 @@ import { fileURLToPath } from 'node:url';
 import { MessageChannel } from 'node:worker_threads';
 import { Piscina } from 'piscina';
 import cliProgress from 'cli-progress';
-import { InputError, RunFileError } from './errors.js';
+import { FileSystemError, InputError, RunFileError } from './errors.js';
 import { defaultMemoryLimit } from './resources.js';
 import { loadSpec } from './spec.js';
 import { expandScan, formatParams, pointCost, sizeScan, type ScanPlan, type ScanPoint } from './scan.js';
@@ -17,7 +17,7 @@ import { RunWriter } from './runfiles.js';
 import { assignShards, type Shard } from './shard.js';
 import { newClaims, takeTail, unclaimed } from './scanClaims.js';
 import type { ScanRecord, TaskMessage } from './scanTask.js';
-import { shellQuote } from './tables.js';
+import { commandLine } from './invocation.js';
 
 export function rungchainVersion(): string {
   // dist/src/ and src/ both sit below the package root.
@@ -223,6 +223,8 @@ export interface ScanOptions {
   retryFailed?: boolean;
   warmStart?: boolean;
   maxMemory?: number;
+  /** --max-memory as the user wrote it, repeated in the command that resumes. */
+  maxMemoryText?: string;
   progress?: 'auto' | 'bar' | 'lines' | 'none';
   /** Where progress and messages go (default stderr). */
   stream?: NodeJS.WriteStream;
@@ -267,7 +269,18 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
   const shard = options.shard ?? null;
   const dir = options.out ?? defaultRunDir(options.specPath, plan.identity, shard);
   const shardArgs = shard && shard.source === '--shard' ? ['--shard', `${shard.index}/${shard.count}`] : [];
-  const resumeCommand = ['rungchain', 'scan', options.specPath, ...overrides.flatMap((o) => ['--set', o]), ...shardArgs, '--out', dir].map(shellQuote).join(' ');
+  const resumeCommand = commandLine([
+    'scan',
+    options.specPath,
+    ...overrides.flatMap((o) => ['--set', o]),
+    ...shardArgs,
+    ...(options.warmStart === false ? ['--no-warm-start'] : []),
+    ...(options.maxMemoryText !== undefined ? ['--max-memory', options.maxMemoryText] : []),
+    ...(options.workers !== undefined ? ['--workers', String(options.workers)] : []),
+    ...(options.retryFailed ? ['--retry-failed'] : []),
+    '--out',
+    dir,
+  ]);
   const shardPoints = shard ? assignShards(plan, costs, shard.count)[shard.index - 1] : null;
 
   const writer = RunWriter.open(dir, {
@@ -449,6 +462,9 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
       pump();
     });
     progress.stop();
+    if (writeError instanceof FileSystemError) {
+      throw new FileSystemError(`${writeError.message}; every finished point is kept: once that is fixed, resume with: ${resumeCommand}`);
+    }
     if (writeError) throw writeError;
     const result = outcome(ran, stopping);
     if (stopping) {
@@ -456,8 +472,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
       say(`resume with: ${resumeCommand}`);
     } else {
       say(`scan finished: ${result.done} done, ${result.failed} failed of ${total} (${ran} solved now, ${result.seconds.toFixed(1)} s); run folder ${dir}`);
-      if (result.failed > 0) say(`failed points keep their reason (rungchain summary ${shellQuote(dir)}); rerun them with --retry-failed`);
-      say(`results: rungchain summary ${shellQuote(dir)}  (--csv, --json, --long)`);
+      say(`results: ${commandLine(['summary', dir])}  (--csv, --json, --long)`);
     }
     return result;
   } finally {

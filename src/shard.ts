@@ -202,7 +202,7 @@ export function batchScript(o: BatchOptions): string {
     '#!/bin/bash',
     `# Job array for the scan ${o.specPath}: ${o.shards} shards balanced by estimated cost.`,
     `# Each task runs one shard into ${o.runDir}/shard-<i>; resubmitting resumes unfinished shards.`,
-    `# When all are done: rungchain merge ${o.runDir}/shard-* --out ${o.runDir}/merged`,
+    `# When all are done: ${o.rungchain} merge ${o.runDir}/shard-* --out ${o.runDir}/merged`,
     `#SBATCH --job-name=${o.jobName}`,
     `#SBATCH --array=1-${o.shards}`,
     `#SBATCH --ntasks=1`,

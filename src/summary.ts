@@ -3,6 +3,7 @@
 
 import os from 'node:os';
 import { RunFileError } from './errors.js';
+import { commandLine } from './invocation.js';
 import { lockIsStale, readLock, readRun, type LockInfo, type RunManifest } from './runfiles.js';
 import { paramsOf, type ScanParams, type ScanSection, type ScanValue } from './scan.js';
 import type { ScanRecord } from './scanTask.js';
@@ -250,7 +251,9 @@ export function statusText(summary: ScanRunSummary): string {
   if (lock && lock.hostname !== os.hostname()) lines.push(`             (the lock is from another machine; it cannot be checked from here)`);
   if (!running && counts.pending + counts.failed > 0 && typeof manifest.spec_path === 'string') {
     const overrides = Array.isArray(manifest.overrides) ? (manifest.overrides as string[]).flatMap((o) => ['--set', o]) : [];
-    lines.push(`resume with  rungchain scan ${[manifest.spec_path, ...overrides, '--out', summary.dir].join(' ')}`);
+    const shard = manifest.shard as { index: number; count: number } | undefined;
+    const shardArgs = shard ? ['--shard', `${shard.index}/${shard.count}`] : [];
+    lines.push(`resume with  ${commandLine(['scan', manifest.spec_path, ...overrides, ...shardArgs, '--out', summary.dir])}`);
   }
   return lines.join('\n');
 }

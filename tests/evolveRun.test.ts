@@ -107,7 +107,7 @@ describe('evolve into a run folder', () => {
     const out = path.join(dir, 'run');
     const stopped = await interrupt(spec, out, 8_000, 'SIGINT');
     expect(stopped.code, stopped.stderr).toBe(130);
-    expect(stopped.stderr).toMatch(/resume with: rungchain evolve .* --out /);
+    expect(stopped.stderr).toMatch(/resume with: \S*(rungchain|node \S*rungchain\.js) evolve .* --out /);
     expect(existsSync(path.join(out, 'checkpoint-0.bin'))).toBe(true);
     const resumed = runCli(['evolve', spec, '--out', out], { timeout: 120_000 });
     expect(resumed.code).toBe(0);

@@ -4,8 +4,8 @@ import { mkdtempSync, readFileSync, truncateSync, writeFileSync, existsSync, app
 import os from 'node:os';
 import path from 'node:path';
 import { crc32 } from 'node:zlib';
-import { RunFileError } from '../src/errors.js';
-import { encodeFrame, parseFrames, readRun, RunWriter, runIdentity, LOCK_FILE, RECORDS_FILE } from '../src/runfiles.js';
+import { FileSystemError, RunFileError } from '../src/errors.js';
+import { encodeFrame, makeFolder, parseFrames, readRun, removeFolders, RunWriter, runIdentity, LOCK_FILE, RECORDS_FILE } from '../src/runfiles.js';
 
 const tmp = () => mkdtempSync(path.join(os.tmpdir(), 'rungchain-runfiles-'));
 
@@ -181,5 +181,31 @@ describe('the lock against two writers', () => {
     const dir = runWith(1);
     writeFileSync(path.join(dir, LOCK_FILE), JSON.stringify({ pid: 1, hostname: 'some-other-node', boot_id: 'b', started: 'earlier', command: 'x' }));
     expect(() => RunWriter.open(dir, { kind: 'test', identity: 'abc' })).toThrow(/in use by another writer \(pid 1 on some-other-node/);
+  });
+});
+
+describe('making folders', () => {
+  it('creates missing parents one level at a time and reports what it made; an existing folder is fine', () => {
+    const base = tmp();
+    const created = makeFolder(path.join(base, 'a', 'b', 'c'));
+    expect(created).toEqual(['a', 'a/b', 'a/b/c'].map((p) => path.join(base, p)));
+    expect(makeFolder(path.join(base, 'a', 'b'))).toEqual([]);
+    removeFolders(created);
+    expect(existsSync(path.join(base, 'a'))).toBe(false);
+  });
+
+  it('a file on the way is named, and nothing is created', () => {
+    const base = tmp();
+    writeFileSync(path.join(base, 'f'), 'x');
+    expect(() => makeFolder(path.join(base, 'f'))).toThrow(new RegExp(`^${path.join(base, 'f')} is a file, not a folder$`));
+    expect(() => makeFolder(path.join(base, 'f', 'g', 'h'))).toThrow(FileSystemError);
+    expect(() => makeFolder(path.join(base, 'f', 'g', 'h'))).toThrow(/f is a file, not a folder/);
+    expect(() => makeFolder('')).toThrow(FileSystemError);
+  });
+
+  // Linux's /proc exists but refuses new entries with ENOENT, where Node's recursive mkdir loops
+  // forever (found by fuzzing --out; it also hung `rungchain demo` started inside /proc).
+  it.skipIf(!existsSync('/proc/self'))('a parent that refuses new entries is an error, not an endless loop', () => {
+    expect(() => makeFolder('/proc/rungchain-nope/deeper')).toThrow(/cannot create folder \/proc\/rungchain-nope\/deeper: \/proc does not take new folders \(ENOENT\)/);
   });
 });

@@ -4,7 +4,9 @@ import type { Command } from 'commander';
 import { InputError } from '../../src/errors.js';
 import { checkEvolveOptions, loadEvolveRun, runEvolveCommand, traceContract, traceText, tracesCsv, tracesJson, tracesLongCsv, tracesText } from '../../src/evolveRun.js';
 import { fmt, fmtSmall, plural } from '../../src/tables.js';
-import { collect, memoryLimit } from './shared.js';
+import { checkOutOption, collect, memoryLimit } from './shared.js';
+import { commandLine } from '../../src/invocation.js';
+import { PARTIAL_FAILURE } from './scan.js';
 
 function nonNegativeNumber(text: string, what: string): number {
   const n = Number(text);
@@ -31,11 +33,13 @@ export function registerEvolveCommands(program: Command): void {
         opts: { set: string[]; json?: boolean; csv?: boolean; out?: string; checkpointEvery?: string; retryFailed?: boolean; maxMemory?: string; quiet?: boolean },
       ) => {
         checkEvolveOptions(opts);
+        checkOutOption(opts.out);
         const outcome = await runEvolveCommand({
           specPath,
           overrides: opts.set,
           out: opts.out,
           maxMemory: memoryLimit(opts),
+          maxMemoryText: opts.maxMemory,
           progress: opts.quiet ? 'none' : 'auto',
           checkpointSeconds: opts.checkpointEvery === undefined ? undefined : nonNegativeNumber(opts.checkpointEvery, '--checkpoint-every'),
           retryFailed: Boolean(opts.retryFailed),
@@ -70,8 +74,16 @@ export function registerEvolveCommands(program: Command): void {
           }
         }
         for (const note of outcome.notes) process.stderr.write(`rungchain: note: ${note}\n`);
-        if (outcome.dir && !opts.quiet) process.stderr.write(`run folder ${outcome.dir} (rungchain trace ${outcome.dir} --csv | --json | --long)\n`);
-        if (outcome.traces.some((t) => t.status === 'failed')) process.exitCode = 2;
+        if (outcome.dir && !opts.quiet) process.stderr.write(`run folder ${outcome.dir} (${commandLine(['trace', outcome.dir])} --csv | --json | --long)\n`);
+        const failed = outcome.traces.filter((t) => t.status === 'failed');
+        if (failed.length > 0) {
+          const what =
+            outcome.traces.length === 1
+              ? `the trace failed: ${failed[0].error}; run it again`
+              : `${failed.length} of ${outcome.traces.length} traces failed (the reasons: ${commandLine(['trace', outcome.dir ?? ''])}); rerun them`;
+          process.stderr.write(`rungchain: ${what} with --retry-failed\n`);
+          process.exitCode = PARTIAL_FAILURE;
+        }
       },
     );
 

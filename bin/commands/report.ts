@@ -1,14 +1,13 @@
 // `report`: one self-contained HTML file with the plots of a scan run, its transition indicators
 // and finite-size fits. Also the analysis options that `summary` shares.
-import { mkdirSync } from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { InputError } from '../../src/errors.js';
 import { renderReport, reportInputFromRun } from '../../src/report.js';
-import { writeFileAtomic } from '../../src/runfiles.js';
+import { makeFolderFor, writeFileAtomic } from '../../src/runfiles.js';
 import { loadScanRun } from '../../src/summary.js';
 import type { AnalysisOptions } from '../../src/transitions.js';
-import { collect } from './shared.js';
+import { checkOutOption, collect } from './shared.js';
 
 export interface AnalysisFlags {
   fit: string[];
@@ -50,6 +49,7 @@ export function registerReportCommands(program: Command): void {
       .option('--out <file>', 'where to write the report (default: report.html in the run folder)')
       .option('--point <index>', 'point whose per-site populations are drawn (default: near the main indicator peak)'),
   ).action((dir: string, opts: AnalysisFlags & { out?: string; point?: string }) => {
+    checkOutOption(opts.out);
     let point: number | undefined;
     if (opts.point !== undefined) {
       point = Number(opts.point);
@@ -58,7 +58,7 @@ export function registerReportCommands(program: Command): void {
     const summary = loadScanRun(dir);
     const html = renderReport(reportInputFromRun(summary, { ...analysisOptions(opts), point }));
     const out = opts.out ?? path.join(dir, 'report.html');
-    mkdirSync(path.dirname(path.resolve(out)), { recursive: true });
+    makeFolderFor(out, '--out');
     writeFileAtomic(out, html);
     console.log(`report written to ${out} (${summary.counts.done} of ${summary.counts.total} points)`);
   });

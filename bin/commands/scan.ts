@@ -6,9 +6,13 @@ import { loadScanRun, longCsv, longJson, longText, statusJson, statusText, summa
 import { sideBySide, sideBySideCsv, sideBySideJson, sideBySideText } from '../../src/summary/sideBySide.js';
 import { analyseScan, analysisCsv, analysisInputOf, analysisText } from '../../src/transitions.js';
 import { addAnalysisOptions, analysisOptions, type AnalysisFlags } from './report.js';
-import { collect, memoryLimit } from './shared.js';
+import { checkOutOption, collect, memoryLimit } from './shared.js';
 import { parseShard, shardFromEnvironment } from '../../src/shard.js';
 import { registerShardCommands } from './shard.js';
+import { commandLine } from '../../src/invocation.js';
+
+/** Exit code of a run that finished with points (or traces) that have no result; see the README. */
+export const PARTIAL_FAILURE = 3;
 
 function positiveInteger(text: string, what: string): number {
   const n = Number(text);
@@ -30,6 +34,7 @@ export function registerScanCommands(program: Command): void {
     .option('--quiet', 'print nothing but errors')
     .option('--shard <i/n>', 'run only shard i of n (balanced by estimated cost); in a Slurm array task it comes from SLURM_ARRAY_TASK_ID')
     .action(async (specPath: string, opts: { set: string[]; out?: string; workers?: string; retryFailed?: boolean; warmStart: boolean; maxMemory?: string; quiet?: boolean; shard?: string }) => {
+      checkOutOption(opts.out);
       const outcome = await runScan({
         shard: opts.shard !== undefined ? parseShard(opts.shard) : shardFromEnvironment(),
         specPath,
@@ -39,11 +44,18 @@ export function registerScanCommands(program: Command): void {
         retryFailed: Boolean(opts.retryFailed),
         warmStart: opts.warmStart,
         maxMemory: memoryLimit(opts),
+        maxMemoryText: opts.maxMemory,
         progress: opts.quiet ? 'none' : 'auto',
         handleSignals: true,
       });
       // 130 is the shell's code for a run stopped by Ctrl-C.
       if (outcome.interrupted) process.exitCode = 130;
+      else if (outcome.failed > 0) {
+        process.stderr.write(
+          `rungchain: ${outcome.failed} of ${outcome.total} points failed (the reasons: ${commandLine(['summary', outcome.dir])}); rerun them with --retry-failed\n`,
+        );
+        process.exitCode = PARTIAL_FAILURE;
+      }
     });
 
   registerShardCommands(program);
@@ -59,7 +71,11 @@ export function registerScanCommands(program: Command): void {
     .action((dir: string, opts: AnalysisFlags & { csv?: boolean; json?: boolean; long?: boolean; by?: string; analysis?: boolean }) => {
       if (opts.csv && opts.json) throw new InputError('choose one of --csv and --json');
       if (opts.by !== undefined && opts.long) throw new InputError('choose one of --by and --long');
+      // Every option is checked before the first line is written: an error after a whole table is easy to miss.
+      const chosen = analysisOptions(opts);
       const summary = loadScanRun(dir);
+      const analysisAsked = opts.analysis || opts.parameter !== undefined || opts.fit.length > 0 || opts.power !== undefined || opts.terms !== undefined;
+      const checkedAnalysis = analysisAsked || (!opts.json && !opts.csv && !opts.long && opts.by === undefined) ? analyseScan(analysisInputOf(summary), chosen) : null;
       if (opts.by !== undefined) {
         const view = sideBySide(summary, opts.by);
         if (opts.json) process.stdout.write(JSON.stringify(sideBySideJson(view)) + '\n');
@@ -86,8 +102,8 @@ export function registerScanCommands(program: Command): void {
       else if (opts.csv) process.stdout.write(summaryCsv(summary));
       else {
         console.log(summaryText(summary));
-        const analysis = analysisText(analyseScan(analysisInputOf(summary), analysisOptions(opts)));
-        if (analysis) console.log(`\n${analysis}`);
+        const text = analysisText(checkedAnalysis!);
+        if (text) console.log(`\n${text}`);
       }
     });
 

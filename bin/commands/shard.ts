@@ -1,12 +1,16 @@
 // `merge` and `slurm`: scans sharded over a batch scheduler's job array, and their merge.
 import type { Command } from 'commander';
-import { writeFileSync, mkdirSync } from 'node:fs';
+import { writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { InputError } from '../../src/errors.js';
 import { formatBytes, parseMemorySize } from '../../src/resources.js';
 import { mergeRuns } from '../../src/shard.js';
 import { planBatch } from '../../src/batch.js';
-import { collect } from './shared.js';
+import { checkOutOption, collect } from './shared.js';
+import { makeFolderFor } from '../../src/runfiles.js';
+import { commandLine, invocation } from '../../src/invocation.js';
+import { shellQuote } from '../../src/tables.js';
+import { PARTIAL_FAILURE } from './scan.js';
 
 function listed(indices: number[]): string {
   return indices.length <= 12 ? indices.join(', ') : `${indices.slice(0, 12).join(', ')}, ... (${indices.length} in all)`;
@@ -19,12 +23,17 @@ export function registerShardCommands(program: Command): void {
     .argument('<shards...>', 'shard run folders')
     .requiredOption('--out <dir>', 'merged run folder')
     .action((dirs: string[], opts: { out: string }) => {
+      checkOutOption(opts.out);
       const r = mergeRuns(dirs, opts.out);
       console.log(`merged ${r.shards} folder${r.shards === 1 ? '' : 's'} into ${r.out}: ${r.done} done, ${r.failed} failed, ${r.missing.length} missing of ${r.total} (${r.written} records written now)`);
       if (r.duplicated.length > 0) console.log(`points finished in more than one folder (one record kept): ${listed(r.duplicated)}`);
       if (r.missing.length > 0) {
         console.log(`missing points (no shard has them; rerun the shards that hold them, then merge again): ${listed(r.missing)}`);
-        process.exitCode = 3;
+        process.exitCode = PARTIAL_FAILURE;
+      }
+      if (r.failed > 0) {
+        console.log(`${r.failed} point${r.failed === 1 ? '' : 's'} failed (the reasons: ${commandLine(['summary', r.out])}); rerun ${r.failed === 1 ? 'its shard' : 'their shards'} with --retry-failed, then merge again`);
+        process.exitCode = PARTIAL_FAILURE;
       }
     });
 
@@ -49,6 +58,8 @@ export function registerShardCommands(program: Command): void {
         if (!Number.isInteger(n) || n < 1) throw new InputError(`${what}: expected a positive integer, got "${text}"`);
         return n;
       };
+      checkOutOption(opts.write, '--write');
+      checkOutOption(opts.runDir, '--run-dir');
       const batch = planBatch({
         specPath,
         overrides: opts.set,
@@ -67,10 +78,10 @@ export function registerShardCommands(program: Command): void {
         return;
       }
       const file = opts.write ?? path.join(batch.runDir, 'scan.sbatch');
-      mkdirSync(path.dirname(file), { recursive: true });
+      makeFolderFor(file, '--write');
       writeFileSync(file, batch.script, { mode: 0o755 });
       console.log(`wrote ${file}: ${batch.shards} tasks of ${batch.cpusPerTask} core${batch.cpusPerTask === 1 ? '' : 's'}, ${formatBytes(batch.memoryBytes)} and ${batch.timeText} each (heaviest shard: ${batch.heaviestPoints} points)`);
       console.log(`submit:  sbatch ${file}`);
-      console.log(`then:    rungchain merge ${path.join(batch.runDir, 'shard-*')} --out ${path.join(batch.runDir, 'merged')}`);
+      console.log(`then:    ${invocation()} merge ${shellQuote(batch.runDir)}/shard-* --out ${shellQuote(path.join(batch.runDir, 'merged'))}`);
     });
 }

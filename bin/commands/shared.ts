@@ -1,8 +1,14 @@
 // Option helpers shared by the commands.
+import { InputError } from '../../src/errors.js';
 import { defaultMemoryLimit, parseMemorySize } from '../../src/resources.js';
 
 export const collect = (value: string, previous: string[]) => previous.concat([value]);
 
 export function memoryLimit(opts: { maxMemory?: string }): number {
   return opts.maxMemory ? parseMemorySize(opts.maxMemory) : defaultMemoryLimit();
+}
+
+/** An empty --out (e.g. an unset shell variable) would write into the current folder or nowhere: refused. */
+export function checkOutOption(out: string | undefined, option = '--out'): void {
+  if (out !== undefined && out.trim() === '') throw new InputError(`${option}: expected a path, got an empty one`);
 }
