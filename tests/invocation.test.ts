@@ -1,7 +1,7 @@
 // How printed commands start: the way this program can be started from where the user stands
 // (common practice for tools that print a command to rerun: it must work when pasted).
 import { afterEach, describe, expect, it } from 'vitest';
-import { mkdirSync, mkdtempSync, symlinkSync } from 'node:fs';
+import { chmodSync, mkdirSync, mkdtempSync, symlinkSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { commandLine, invocation } from '../src/invocation.js';
@@ -20,6 +20,8 @@ afterEach(() => {
 function binWithLink(...segments: string[]): string {
   const bin = path.join(mkdtempSync(path.join(os.tmpdir(), 'rungchain-bin-')), ...segments);
   mkdirSync(bin, { recursive: true });
+  // npm link and npx make the linked script executable; tsc alone writes it without the bit.
+  chmodSync(CLI, 0o755);
   symlinkSync(CLI, path.join(bin, 'rungchain'));
   return bin;
 }
