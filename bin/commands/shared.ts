@@ -1,8 +1,12 @@
 // Option helpers shared by the commands.
-import { defaultMemoryLimit, parseMemorySize } from '../../src/resources.js';
+import { defaultMemoryLimit, memoryLimitWarning, parseMemorySize } from '../../src/resources.js';
 
 export const collect = (value: string, previous: string[]) => previous.concat([value]);
 
 export function memoryLimit(opts: { maxMemory?: string }): number {
-  return opts.maxMemory ? parseMemorySize(opts.maxMemory) : defaultMemoryLimit();
+  if (!opts.maxMemory) return defaultMemoryLimit();
+  const limit = parseMemorySize(opts.maxMemory);
+  const warning = memoryLimitWarning(limit);
+  if (warning) process.stderr.write(`rungchain: warning: ${warning}\n`);
+  return limit;
 }
