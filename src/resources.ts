@@ -6,8 +6,22 @@ import type { Model } from './model.js';
 import type { SymmetryName } from './symmetry.js';
 
 const BYTES_PER_DOUBLE = 8;
-/** Node's own heap, code and buffers, measured on an idle process of this engine. */
-export const RUNTIME_BASELINE_BYTES = 60 * 1024 * 1024;
+/**
+ * Node itself with this engine's modules loaded (measured: 50 MiB resident), and the code compiled,
+ * the WebAssembly kernels instantiated and the plan made by a solve of a few thousand states (up
+ * to 62 MiB at the peak of an 8x3 chain).
+ */
+export const RUNTIME_BASELINE_BYTES = 64 * 1024 * 1024;
+/** Each helper thread's own V8 isolate and modules (measured: 17 MiB for the two of a 12x3 full-space solve). */
+export const HELPER_THREAD_BYTES = 12 * 1024 * 1024;
+/**
+ * Typed arrays that a sector-by-sector solve leaves behind (each sector's matrix build chunks and
+ * vectors outside the arena) are freed only by a garbage collection, which V8 starts once such
+ * memory has grown by its soft limit (64 MiB). Measured, what waits for it: 29 to 44 MiB on an
+ * 11x3 chain (15 MiB of live data), less beside smaller data; so four times the live data, at
+ * most this much.
+ */
+export const SECTOR_GARBAGE_BYTES = 48 * 1024 * 1024;
 
 /** The default memory limit: a share of physical memory that leaves the machine usable. */
 export function defaultMemoryLimit(): number {
@@ -54,8 +68,9 @@ export interface MemoryEstimate {
 }
 
 /**
- * Peak memory of one solve: the operator's storage, the Krylov basis and work vectors of the
- * eigensolver, the returned eigenvectors, and the observables' scratch.
+ * Peak memory of one solve: the runtime and its helper threads, the operator's storage, the
+ * Krylov basis and work vectors of the eigensolver, the returned eigenvectors (copied out of the
+ * arena, both alive until it is recycled), and the observables' scratch.
  */
 export function estimateSolveMemory(opts: {
   dim: number;
@@ -64,9 +79,13 @@ export function estimateSolveMemory(opts: {
   krylovVectors: number;
   states: number;
   denseThreshold: number;
+  /** Threads for one product: each beyond the first means a product helper and a vector-kernel helper. */
+  threads?: number;
 }): MemoryEstimate {
   const vector = opts.dim * (opts.isComplex ? 2 : 1) * BYTES_PER_DOUBLE;
   const parts: Record<string, number> = { runtime: RUNTIME_BASELINE_BYTES, operator: opts.operatorBytes };
+  const helpers = opts.dim > opts.denseThreshold ? 2 * Math.max(0, (opts.threads ?? 1) - 1) : 0;
+  if (helpers > 0) parts.helper_threads = helpers * HELPER_THREAD_BYTES;
   if (opts.dim <= opts.denseThreshold) {
     // Dense matrix, its real embedding when complex, and the decomposition's copies.
     const n = opts.isComplex ? 2 * opts.dim : opts.dim;
@@ -74,7 +93,7 @@ export function estimateSolveMemory(opts: {
   } else {
     parts.krylov = (opts.krylovVectors + 3) * vector;
   }
-  parts.eigenvectors = opts.states * vector;
+  parts.eigenvectors = 2 * opts.states * vector;
   parts.observables = opts.dim * BYTES_PER_DOUBLE;
   let totalBytes = 0;
   for (const v of Object.values(parts)) totalBytes += v;
@@ -130,9 +149,10 @@ export function largestSector(dim: number, model: Model, used: Record<SymmetryNa
 }
 
 /**
- * Peak memory of a sector-by-sector solve: the orbit maps over the full basis (a representative
- * index and a group element per state), the ground-state probabilities, the largest sector's stored
- * matrix and Krylov basis, and full-space ground states when they are handed back.
+ * Peak memory of a sector-by-sector solve: the runtime and its helper threads, the orbit maps over
+ * the full basis (a representative index and a group element per state), the ground-state
+ * probabilities, the largest sector's stored matrix and Krylov basis, full-space ground states
+ * when they are handed back, and the typed arrays waiting for a garbage collection.
  */
 export function estimateSectorMemory(opts: {
   dim: number;
@@ -142,14 +162,20 @@ export function estimateSectorMemory(opts: {
   states: number;
   /** Sectors solved at once, each with its own matrix and Krylov basis (default 1). */
   concurrent?: number;
+  /** Threads for one product of the largest sector solved alone: each beyond the first means a build, a product and a vector-kernel helper (default 1). */
+  productThreads?: number;
+  /** Whether full-space ground states are built (default: when the space has at most 2^22 states). */
+  expandGround?: boolean;
 }): MemoryEstimate {
   const { dim, model, used } = opts;
   const concurrent = opts.concurrent ?? 1;
   const { sectorDim, nnz, complex } = largestSector(dim, model, used);
   const scalar = complex ? 16 : 8;
   const maps = used.reflection && used.translation ? 2 : 1;
+  const helpers = concurrent > 1 ? concurrent - 1 : 3 * Math.max(0, (opts.productThreads ?? 1) - 1);
   const parts: Record<string, number> = {
     runtime: RUNTIME_BASELINE_BYTES,
+    helper_threads: helpers * HELPER_THREAD_BYTES,
     orbit_maps: maps * dim * 6,
     probabilities: dim * BYTES_PER_DOUBLE,
     // The stored matrix and its build chunks, alive together while the chunks are copied into the
@@ -159,7 +185,10 @@ export function estimateSectorMemory(opts: {
     krylov: concurrent * (opts.krylovVectors + 3) * sectorDim * scalar,
     kept_states: concurrent * 2 * opts.states * sectorDim * scalar,
   };
-  if (dim <= 1 << 22) parts.ground_states = 2 * dim * 16;
+  if (opts.expandGround ?? dim <= 1 << 22) parts.ground_states = 2 * dim * 16;
+  let data = 0;
+  for (const [k, v] of Object.entries(parts)) if (k !== 'runtime' && k !== 'helper_threads') data += v;
+  parts.garbage = Math.min(SECTOR_GARBAGE_BYTES, 4 * data);
   let totalBytes = 0;
   for (const v of Object.values(parts)) totalBytes += v;
   return { totalBytes, parts };

@@ -23,7 +23,7 @@ export function registerSolveCommands(program: Command): void {
         console.log(describeScan(expandScan(raw, spec), limit, defaultWorkerCount()));
         return;
       }
-      const plan = planPoint(spec, { maxMemory: limit });
+      const plan = planPoint(spec, { maxMemory: limit, groundStates: false });
       console.log(describePlan(plan, limit));
       if (plan.memory.totalBytes > limit) console.log('solve would refuse this problem: the estimate exceeds the limit');
     });
