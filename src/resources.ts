@@ -188,7 +188,7 @@ export function estimateSectorMemory(opts: {
   if (opts.expandGround ?? dim <= 1 << 22) parts.ground_states = 2 * dim * 16;
   let data = 0;
   for (const [k, v] of Object.entries(parts)) if (k !== 'runtime' && k !== 'helper_threads') data += v;
-  parts.garbage = Math.min(SECTOR_GARBAGE_BYTES, 4 * data);
+  parts.awaiting_gc = Math.min(SECTOR_GARBAGE_BYTES, 4 * data);
   let totalBytes = 0;
   for (const v of Object.values(parts)) totalBytes += v;
   return { totalBytes, parts };
