@@ -401,7 +401,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
         if (rss <= ceilings.processBytes) return;
         let heaviest: { index: number; abort: AbortController; overMemory: string | null } | null = null;
         for (const c of current.values()) {
-          if (c.overMemory === null && c.index >= 0 && (!heaviest || sizes.plans[c.index].memory.totalBytes > sizes.plans[heaviest.index].memory.totalBytes)) heaviest = c;
+          if (c.overMemory === null && (!heaviest || sizes.plans[c.index].memory.totalBytes > sizes.plans[heaviest.index].memory.totalBytes)) heaviest = c;
         }
         if (!heaviest) return;
         heaviest.overMemory =
@@ -440,7 +440,8 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
         running.set(task, claims);
         const { port1, port2 } = new MessageChannel();
         const reported = new Set<number>();
-        const now = { index: -1, abort: new AbortController(), overMemory: null as string | null };
+        // Before its first point a task solves its lead-in, which the watch counts as that point.
+        const now = { index: (task.leadIn ?? task.points[0]).index, abort: new AbortController(), overMemory: null as string | null };
         current.set(task, now);
         port1.on('message', (message: TaskMessage) => {
           if (message.kind === 'start') now.index = message.index;
