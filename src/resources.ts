@@ -175,7 +175,7 @@ export function estimateSectorMemory(opts: {
   const helpers = concurrent > 1 ? concurrent - 1 : 3 * Math.max(0, (opts.productThreads ?? 1) - 1);
   const parts: Record<string, number> = {
     runtime: RUNTIME_BASELINE_BYTES,
-    helper_threads: helpers * HELPER_THREAD_BYTES,
+    ...(helpers > 0 ? { helper_threads: helpers * HELPER_THREAD_BYTES } : {}),
     orbit_maps: maps * dim * 6,
     probabilities: dim * BYTES_PER_DOUBLE,
     // The stored matrix and its build chunks, alive together while the chunks are copied into the
