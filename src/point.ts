@@ -9,7 +9,7 @@ import { basisProbabilities, pinnedObservables, type Observables } from './obser
 import { itinerantObservables } from './observables/itinerant.js';
 import { planFockOperator } from './operator/fock.js';
 import { cutsFor, pinnedEntanglement } from './entanglement.js';
-import { assertWithinMemory, defaultMemoryLimit, estimateSectorMemory, estimateSolveMemory, largestSector, type MemoryEstimate } from './resources.js';
+import { assertWithinMemory, defaultMemoryLimit, estimateSectorMemory, estimateSolveMemory, largestSector, pinnedColumnsPerState, type MemoryEstimate } from './resources.js';
 import { defaultKrylovSize, denseThresholdFor, lowestEigenpairs, type EigenResult } from './solver.js';
 import type { Spec } from './spec.js';
 import { detectSymmetries, planSectors, type SectorLabel, type SymmetryCheck, type SymmetryName } from './symmetry.js';
@@ -88,18 +88,20 @@ const SIDE_BY_SIDE_MIN_STATES = 1 << 19;
  * every core) and the spec allow, fewer when the sectors solved at once would not fit in
  * `limits.maxMemory`.
  */
-export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: number } = {}): PointPlan {
+export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: number; groundStates?: boolean } = {}): PointPlan {
   const model = buildModel(spec);
   const dimension = basisDimension(model);
   const states = Math.min(spec.solve.states, dimension);
   const { symmetries, used } = chooseSymmetries(spec, model);
+  const threadsFor = (work: number) => productThreads(spec, { threads: limits.threads }, work);
   if (used) {
     const sectors = planSectors(used, model, spec.solve.sector ?? {}).length;
-    const { entries } = largestSector(dimension, model, used);
+    const { entries, nnz } = largestSector(dimension, model, used);
     const allowed = entries > SIDE_BY_SIDE_ENTRIES || dimension < SIDE_BY_SIDE_MIN_STATES ? 1 : Math.min(sectors, coreCount(), limits.threads ?? Infinity, spec.solve.threads === 'auto' ? Infinity : spec.solve.threads);
     const limit = limits.maxMemory ?? defaultMemoryLimit();
+    const expandGround = (limits.groundStates !== false && dimension <= EXPAND_LIMIT) || (model.kind === 'pinned' && cutsFor(spec.solve.entanglement, model.sites, model.levels).length > 0);
     const estimate = (concurrent: number) =>
-      estimateSectorMemory({ dim: dimension, model, used, krylovVectors: spec.solve.krylov ?? defaultKrylovSize(states, Infinity), states, concurrent });
+      estimateSectorMemory({ dim: dimension, model, used, krylovVectors: spec.solve.krylov ?? defaultKrylovSize(states, Infinity), states, concurrent, productThreads: threadsFor(nnz), expandGround });
     let sectorThreads = Math.max(1, allowed);
     let memory = estimate(sectorThreads);
     while (sectorThreads > 1 && memory.totalBytes > limit) memory = estimate(--sectorThreads);
@@ -111,6 +113,7 @@ export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: nu
     throw new SpecError('solve.entanglement', `entanglement cuts are computed for pinned chains only, not for kind = "${model.kind}"; remove the key`);
   }
   const fock = model.kind === 'pinned' ? null : planFockOperator(model, dimension);
+  const work = fock ? fock.nonzeros : dimension * pinnedColumnsPerState(model);
   const memory = estimateSolveMemory({
     dim: dimension,
     isComplex: model.isComplex,
@@ -118,6 +121,7 @@ export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: nu
     krylovVectors: spec.solve.krylov ?? defaultKrylovSize(states, dimension),
     states,
     denseThreshold: denseThresholdFor(states),
+    threads: threadsFor(work),
   });
   return { model, symmetries, used: null, dimension, storage: fock ? 'stored' : 'on-the-fly', nonzeros: fock ? fock.nonzeros : null, memory, sectorThreads: 1 };
 }
@@ -154,7 +158,7 @@ export interface SolvedPoint {
 
 export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint {
   const started = performance.now();
-  const plan = planPoint(spec, { maxMemory: options.maxMemory, threads: options.threads });
+  const plan = planPoint(spec, { maxMemory: options.maxMemory, threads: options.threads, groundStates: options.groundStates });
   assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this problem');
   const basis = buildBasis(plan.model);
   if (plan.used && basis.kind === 'pinned') return solvePinnedInSectors(spec, plan, basis, options, started);
@@ -222,7 +226,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
 }
 
 /** Threads for one product: the spec's count or, by default, as many as the work pays for; never more than the caller allows. */
-function productThreads(spec: Spec, options: SolveOptions, work: number): number {
+function productThreads(spec: Spec, options: { threads?: number }, work: number): number {
   const wanted = spec.solve.threads === 'auto' ? defaultProductThreads(work) : spec.solve.threads;
   return Math.max(1, Math.min(wanted, options.threads ?? wanted));
 }

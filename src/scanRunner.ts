@@ -10,7 +10,7 @@ import { MessageChannel } from 'node:worker_threads';
 import { Piscina } from 'piscina';
 import cliProgress from 'cli-progress';
 import { FileSystemError, InputError, RunFileError } from './errors.js';
-import { defaultMemoryLimit } from './resources.js';
+import { defaultMemoryLimit, formatBytes } from './resources.js';
 import { loadSpec } from './spec.js';
 import { expandScan, formatParams, pointCost, sizeScan, type ScanPlan, type ScanPoint } from './scan.js';
 import { RunWriter } from './runfiles.js';
@@ -38,6 +38,8 @@ export function rungchainVersion(): string {
 
 export interface PoolChoice {
   workers: number;
+  /** Each worker's JS heap ceiling, MiB (see workerCeilings); V8's own default when absent. */
+  heapMb?: number;
 }
 
 export function defaultWorkerCount(): number {
@@ -69,7 +71,32 @@ export function createPointPool(choice: PoolChoice): Piscina {
     maxThreads: choice.workers,
     concurrentTasksPerWorker: 1,
     idleTimeout: 30_000,
+    ...(choice.heapMb ? { resourceLimits: { maxOldGenerationSizeMb: choice.heapMb } } : {}),
   });
+}
+
+/**
+ * The memory ceilings of a scan's workers. A worker's JS heap may not outgrow the point limit
+ * (V8 stops that worker alone, ERR_WORKER_OUT_OF_MEMORY), but typed arrays, shared buffers and
+ * WebAssembly memory, where the vectors and matrices live, are outside any V8 heap limit: those
+ * are bounded by the resident memory of the whole process: the main thread and, per worker, one
+ * point at the limit and its JS heap at the ceiling, and never more than 90% of the machine's
+ * memory (past that the system's out-of-memory killer would end the whole scan).
+ */
+export function workerCeilings(maxMemory: number, workers: number, mainBytes: number): { heapMb: number; processBytes: number } {
+  const heapMb = Math.max(64, Math.min(4096, Math.floor(maxMemory / 2 ** 20)));
+  return { heapMb, processBytes: Math.min(0.9 * os.totalmem(), mainBytes + workers * (maxMemory + heapMb * 2 ** 20)) };
+}
+
+/** How often the scan compares its resident memory with the workers' ceiling. */
+const MEMORY_WATCH_MS = 100;
+
+/** Why a worker stopped, for the failed point's record. */
+function workerStopReason(error: unknown, heapMb: number): string {
+  const code = (error as { code?: unknown } | null)?.code;
+  if (code === 'ERR_WORKER_OUT_OF_MEMORY') return `its JS heap went over the worker's ceiling of ${heapMb} MiB (ERR_WORKER_OUT_OF_MEMORY)`;
+  const reason = error instanceof Error ? error.message : String(error);
+  return `the worker stopped while solving this point (${reason}); out of memory is the usual cause`;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -306,6 +333,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
   }
 
   let pool: Piscina | null = null;
+  let watch: ReturnType<typeof setInterval> | null = null;
   const signalHandlers: [NodeJS.Signals, () => void][] = [];
   try {
     if (writer.cutBytes > 0) say(`dropped a torn last record (${writer.cutBytes} bytes, a write cut short); that point runs again`);
@@ -366,12 +394,35 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
       progress.record(record, done, failed, total);
     };
 
-    pool = createPointPool({ workers });
+    const ceilings = workerCeilings(maxMemory, workers, process.memoryUsage.rss());
+    pool = createPointPool({ workers, heapMb: ceilings.heapMb });
+    // A task's own failures reach its promise. Piscina emits the others: a worker's heap running
+    // out as it is being stopped by the memory watch, its task already settled. Unheard, that
+    // event would end the whole scan.
+    pool.on('error', () => undefined);
     const activePool = pool;
     const continuous = linesAreContinuous(plan);
     await new Promise<void>((resolve) => {
       let inflight = 0;
       const running = new Map<PlannedTask, Int32Array>();
+      // The point each running task is on, and how to stop its worker.
+      const current = new Map<PlannedTask, { index: number; abort: AbortController; overMemory: string | null }>();
+      // Over the ceiling, the worker on the point with the largest estimate is stopped (with one
+      // worker, exactly the point that went over); its point is recorded as failed, the rest goes on.
+      watch = setInterval(() => {
+        const rss = process.memoryUsage.rss();
+        if (rss <= ceilings.processBytes) return;
+        let heaviest: { index: number; abort: AbortController; overMemory: string | null } | null = null;
+        for (const c of current.values()) {
+          if (c.overMemory === null && (!heaviest || sizes.plans[c.index].memory.totalBytes > sizes.plans[heaviest.index].memory.totalBytes)) heaviest = c;
+        }
+        if (!heaviest) return;
+        heaviest.overMemory =
+          `the scan's resident memory (${formatBytes(rss)}) went over its ceiling (${formatBytes(ceilings.processBytes)}: --max-memory ${formatBytes(maxMemory)} and a JS heap of ${ceilings.heapMb} MiB` +
+          ` for each of ${workers} worker${workers === 1 ? '' : 's'}, beside the main thread); of the points being solved this one had the largest estimate (${formatBytes(sizes.plans[heaviest.index].memory.totalBytes)}), and its worker was stopped`;
+        heaviest.abort.abort();
+      }, MEMORY_WATCH_MS);
+      watch.unref();
       // A worker with nothing queued takes the unstarted second half of the busiest task. Along a
       // line the taken piece costs one lead-in solve, so it must hold at least two points.
       const takeWork = (): PlannedTask | null => {
@@ -402,7 +453,11 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
         running.set(task, claims);
         const { port1, port2 } = new MessageChannel();
         const reported = new Set<number>();
+        // Before its first point a task solves its lead-in, which the watch counts as that point.
+        const now = { index: (task.leadIn ?? task.points[0]).index, abort: new AbortController(), overMemory: null as string | null };
+        current.set(task, now);
         port1.on('message', (message: TaskMessage) => {
+          if (message.kind === 'start') now.index = message.index;
           if (message.kind === 'record' && !reported.has(message.record.index)) {
             reported.add(message.record.index);
             write(message.record);
@@ -415,18 +470,18 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
           else for (let waited = 0; reported.size < task.points.length && waited < 5000; waited++) await sleep(1);
           port1.close();
           running.delete(task);
+          current.delete(task);
           inflight--;
           if (error && !stopping) {
             const left = task.points.filter((p) => !reported.has(p.index));
             if (left.length > 0) {
               // Points run in order, so the first unreported one is the point the worker died on.
               const [dead, ...rest] = left;
-              const reason = error instanceof Error ? error.message : String(error);
               write({
                 index: dead.index,
                 params: dead.params,
                 status: 'failed',
-                error: `the worker stopped while solving this point (${reason}); out of memory is the usual cause`,
+                error: now.overMemory ?? workerStopReason(error, ceilings.heapMb),
                 iterations: 0,
                 seconds: 0,
                 warm_start: false,
@@ -440,7 +495,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
           pump();
         };
         activePool
-          .run({ points: task.points.map((p) => ({ index: p.index, params: p.params, raw: p.raw })), leadIn: task.leadIn ? { index: task.leadIn.index, params: task.leadIn.params, raw: task.leadIn.raw } : undefined, maxMemory, warmStart: options.warmStart !== false, threads: threadsPerPoint, claims, port: port2 }, { transferList: [port2] })
+          .run({ points: task.points.map((p) => ({ index: p.index, params: p.params, raw: p.raw })), leadIn: task.leadIn ? { index: task.leadIn.index, params: task.leadIn.params, raw: task.leadIn.raw } : undefined, maxMemory, warmStart: options.warmStart !== false, threads: threadsPerPoint, claims, port: port2 }, { transferList: [port2], signal: now.abort.signal })
           .then(
             () => settle(null),
             (e: unknown) => settle(e),
@@ -461,6 +516,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
       }
       pump();
     });
+    if (watch) clearInterval(watch);
     progress.stop();
     if (writeError instanceof FileSystemError) {
       throw new FileSystemError(`${writeError.message}; every finished point is kept: once that is fixed, resume with: ${resumeCommand}`);
@@ -476,6 +532,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
     }
     return result;
   } finally {
+    if (watch) clearInterval(watch);
     for (const [signal, handler] of signalHandlers) process.off(signal, handler);
     if (pool) await pool.destroy().catch(() => undefined);
     writer.close();

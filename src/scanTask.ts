@@ -76,6 +76,26 @@ function testDelayFor(index: number): number {
   return from === undefined || (index >= Number(from) && index <= Number(to)) ? Number(ms) : 0;
 }
 
+/**
+ * Test hook: at one point ("heap:300@5": point 5) the worker first takes this many MiB of JS heap
+ * ("heap") or of typed arrays ("buffer", held for up to 10 s so the scan's memory watch sees it),
+ * then solves the point as usual, so tests can make a point exceed its worker's memory ceiling.
+ */
+const ALLOCATE_AT = /^(heap|buffer):(\d+)@(\d+)$/.exec(process.env.RUNGCHAIN_TEST_POINT_ALLOCATE ?? '');
+function testAllocation(index: number): unknown[] {
+  if (!ALLOCATE_AT || Number(ALLOCATE_AT[3]) !== index) return [];
+  const held: unknown[] = [];
+  const mib = Number(ALLOCATE_AT[2]);
+  if (ALLOCATE_AT[1] === 'heap') {
+    // A JS array of doubles holds them unboxed: 2^17 of them are 1 MiB of heap.
+    for (let m = 0; m < mib; m++) held.push(new Array(1 << 17).fill(m + 0.5));
+  } else {
+    for (let m = 0; m < mib; m += 16) held.push(new Uint8Array(16 << 20).fill(1));
+    Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, 10_000);
+  }
+  return held;
+}
+
 /** A key telling whether two points share a basis (same states in the same order and arithmetic). */
 function basisKey(spec: Spec, isComplex: boolean, dimension: number): string {
   const p = spec.particles;
@@ -149,6 +169,7 @@ export function runScanTask(task: ScanTask, post: (message: TaskMessage) => void
     if (EXIT_AT !== undefined && Number(EXIT_AT) === point.index) process.exit(70);
     const delay = testDelayFor(point.index);
     if (delay > 0) Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, delay);
+    const held = testAllocation(point.index);
     const started = performance.now();
     let record: ScanRecord;
     try {
@@ -189,6 +210,7 @@ export function runScanTask(task: ScanTask, post: (message: TaskMessage) => void
         finished: new Date().toISOString(),
       };
     }
+    held.length = 0;
     post({ kind: 'record', record });
     solved++;
   }

@@ -407,6 +407,27 @@ describe('rungchain scan', () => {
     expect(readRun(out).records).toHaveLength(9);
   });
 
+  // A point whose worker outgrows its memory ceiling must fail alone (common practice for batch
+  // runners: one job over its memory is stopped, not the node). Each point here needs far less
+  // than the 100 MB limit; the test hook makes point 2 take 400 MiB on top.
+  for (const [kind, reason] of [
+    ['heap', /JS heap went over the worker's ceiling of 95 MiB \(ERR_WORKER_OUT_OF_MEMORY\)/],
+    ['buffer', /resident memory .* went over its ceiling .*--max-memory 95\.4 MiB and a JS heap of 95 MiB for each of 1 worker.*worker was stopped/],
+  ] as const) {
+    it(`a point whose worker goes over its memory ceiling (${kind}) is recorded as failed and the scan goes on`, () => {
+      const dir = tmp();
+      const spec = writeSpec(dir, `${BASE}\n[[scan.axis]]\nkey = "chain.sites"\nvalues = [3, 4, 5, 4, 3]\n`);
+      const out = path.join(dir, 'run');
+      const r = spawnCli(['scan', spec, '--out', out, '--workers', '1', '--max-memory', '100MB'], { RUNGCHAIN_TEST_POINT_ALLOCATE: `${kind}:400@2` });
+      expect(r.code).toBe(0);
+      expect(r.stderr).toMatch(/scan finished: 4 done, 1 failed of 5/);
+      const records = recordsByIndex(out);
+      expect(records.get(2)!.status).toBe('failed');
+      expect(records.get(2)!.error).toMatch(reason);
+      for (const k of [0, 1, 3, 4]) expect(records.get(k)!.status).toBe('done');
+    });
+  }
+
   it('a second scan into the same folder at the same time is refused', async () => {
     const dir = tmp();
     const spec = writeSpec(dir, SCAN_SPEC);

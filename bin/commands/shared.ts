@@ -1,11 +1,15 @@
 // Option helpers shared by the commands.
 import { InputError } from '../../src/errors.js';
-import { defaultMemoryLimit, parseMemorySize } from '../../src/resources.js';
+import { defaultMemoryLimit, memoryLimitWarning, parseMemorySize } from '../../src/resources.js';
 
 export const collect = (value: string, previous: string[]) => previous.concat([value]);
 
 export function memoryLimit(opts: { maxMemory?: string }): number {
-  return opts.maxMemory ? parseMemorySize(opts.maxMemory) : defaultMemoryLimit();
+  if (!opts.maxMemory) return defaultMemoryLimit();
+  const limit = parseMemorySize(opts.maxMemory);
+  const warning = memoryLimitWarning(limit);
+  if (warning) process.stderr.write(`rungchain: warning: ${warning}\n`);
+  return limit;
 }
 
 /** An empty --out (e.g. an unset shell variable) would write into the current folder or nowhere: refused. */

@@ -23,7 +23,7 @@ export function registerSolveCommands(program: Command): void {
         console.log(describeScan(raw, spec, limit, defaultWorkerCount()));
         return;
       }
-      const plan = planPoint(spec, { maxMemory: limit });
+      const plan = planPoint(spec, { maxMemory: limit, groundStates: false });
       console.log(describePlan(plan, limit));
       console.log(describeWork(spec, plan).join('\n'));
       if (plan.memory.totalBytes > limit) console.log('solve would refuse this problem: the estimate exceeds the limit');
