@@ -331,11 +331,9 @@ function solveSector(
         const { ground } = shared.bounds();
         return energies[0] <= ground + degeneracyWindow(ground, opts.tolerance);
       };
-      while (energies.length < need || extending()) {
-        if (energies.length >= groundCopies || energies.length >= sector.dim) {
-          groundComplete = energies.length >= sector.dim;
-          break;
-        }
+      while ((energies.length < need || extending()) && energies.length < sector.dim) {
+        // At the cap, one more screen still tells a complete level from one with more copies.
+        const atCap = energies.length >= groundCopies;
         const next = lowestEigenpairs(op, {
           ...base,
           initial: energies.length === 0 ? base.initial : undefined,
@@ -358,6 +356,10 @@ function solveSector(
         converged &&= residuals[residuals.length - 1] <= opts.tolerance;
         vectors.push(v);
         shared.publish([next.values[0]], plan.copies.length);
+        if (atCap) {
+          groundComplete = next.values[0] > levelTop();
+          break;
+        }
       }
       if (energies.length === 0) {
         const run = { label: plan.label, dimension: sector.dim, method: 'lanczos' as const, iterations: matvecs, lowest: screenedAt, screened: true, copies: plan.copies };

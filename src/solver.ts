@@ -1145,16 +1145,14 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
     const rounds = 4 * Math.max(states, groundCopies) + 4;
     for (let round = 0; round < rounds; round++) {
       const extending = wholeLevel();
-      if (extending && values.length >= groundCopies) {
-        capReached = true;
-        break;
-      }
+      // At the cap, one more screen still tells a complete level from one with more copies.
+      const atCap = extending && values.length >= groundCopies;
       const space = available - values.length;
       if (space <= 0) {
         verified = true;
         break;
       }
-      const nev = Math.min(searchFor, space, extending ? groundCopies - values.length : states);
+      const nev = atCap ? 1 : Math.min(searchFor, space, extending ? groundCopies - values.length : states);
       const highestBefore = values[values.length - 1];
       const line = extending
         ? values[0] + groundWindow(values[0])
@@ -1219,6 +1217,10 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
       }
       if (insertedNow === 0) {
         verified = true;
+        break;
+      }
+      if (atCap) {
+        capReached = true;
         break;
       }
       fullRounds = insertedNow === nev ? fullRounds + 1 : 0;
