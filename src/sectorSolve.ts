@@ -345,6 +345,11 @@ function solveSector(
         restarts += next.restarts;
         screenedAt = next.values[0];
         if (next.screened) break;
+        // A further copy not converged leaves the level incomplete, the states found converged.
+        if (energies.length >= need && !next.converged) {
+          groundComplete = false;
+          break;
+        }
         if (next.method === 'dense') method = 'dense';
         converged &&= next.converged;
         const v = next.vectors[0];

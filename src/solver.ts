@@ -20,7 +20,7 @@ export interface EigenOptions {
   states: number;
   /** Stop when ||H v - E v|| <= tolerance for every requested pair (v normalized). */
   tolerance: number;
-  /** Budget of matrix-vector products; default max(5000, 50*states). */
+  /** Budget of matrix-vector products; default max(5000, 50*states), plus 100 per `groundCopies`. */
   maxMatvecs?: number;
   /**
    * Restart basis size m; default max(2*states+14, 24), capped at dim. Working memory is m+1
@@ -80,8 +80,8 @@ export interface EigenOptions {
    * among the `states` pairs). The result then holds max(states, copies) pairs, and
    * `degeneracyComplete` says whether the level was shown to have no further copy. The dense path
    * finds them all; Lanczos keeps deflating while new copies appear (one screen more than without),
-   * and falls back to the dense path when the cap is reached on a space of at most
-   * DENSE_FALLBACK_LENGTH doubles.
+   * and falls back to the dense path when the cap (or the budget) is reached on vectors of at
+   * most DENSE_FALLBACK_LENGTH doubles.
    */
   groundCopies?: number;
 }
@@ -1058,7 +1058,7 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
   };
   if (!lanczos) return dense(0);
 
-  const maxMatvecs = opts.maxMatvecs ?? Math.max(5000, 50 * states);
+  const maxMatvecs = opts.maxMatvecs ?? Math.max(5000, 50 * states) + 100 * groundCopies;
   if (!(maxMatvecs >= 1)) throw new SpecError('maxMatvecs', 'must be at least 1');
   const requestedKrylov = opts.krylovSize ?? defaultKrylovSize(states);
   if (!Number.isInteger(requestedKrylov) || requestedKrylov < 1) {
@@ -1158,8 +1158,9 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
         ? values[0] + groundWindow(values[0])
         : highestBefore - Math.max(2 * tolerance, 1e-11 * Math.max(1, Math.abs(highestBefore)));
       const remainingBudget = maxMatvecs - totalMatvecs;
+      // Running out while looking for further copies leaves the level incomplete, the pairs found converged.
       if (remainingBudget <= 0) {
-        converged = false;
+        if (!extending) converged = false;
         break;
       }
       const run = thickRestartLanczos({
@@ -1183,7 +1184,7 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
       totalFullSteps += run.fullSteps;
       if (!run.converged) {
         pool.push(...run.vectors);
-        converged = false;
+        if (!extending) converged = false;
         break;
       }
       let insertedNow = 0;
@@ -1227,7 +1228,7 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
       searchFor = fullRounds >= 2 ? Math.min(2 * nev, Math.max(states, groundCopies)) : 1;
     }
   }
-  if (capReached && length <= DENSE_FALLBACK_LENGTH) {
+  if (groundCopies > 0 && converged && (capReached || !verified) && length <= DENSE_FALLBACK_LENGTH) {
     pool.length = 0;
     return dense(totalMatvecs);
   }

@@ -5,7 +5,9 @@
 
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
+import type { HermitianOperator } from '../src/operator.js';
 import { solvePoint, type PointRecord } from '../src/point.js';
+import { lowestEigenpairs } from '../src/solver.js';
 import { validateSpec, type Spec } from '../src/spec.js';
 import { describeRecord } from '../src/tables.js';
 import { denseFockHamiltonian, randomItinerantSpec } from './support/fock-reference.js';
@@ -171,5 +173,59 @@ describe('every copy of the ground level is found, whatever solve.states is', ()
     expect(describeRecord(none)).toMatch(/WARNING: not every copy of the ground level was found/);
     const complete = checkPinned(free(4, { count: 3, tunnelling: 0 }, 1), ['none'])[0];
     expect(describeRecord(complete)).not.toMatch(/WARNING/);
+  });
+});
+
+describe('lowestEigenpairs with groundCopies', () => {
+  /** A diagonal operator: its eigenvalues are its entries (`copies` zeros, then 1, 1.01, 1.02, ...). */
+  function diagonal(dim: number, copies: number, isComplex = false): HermitianOperator {
+    const d = Float64Array.from({ length: dim }, (_, k) => (k < copies ? 0 : 1 + 0.01 * (k - copies)));
+    // Copies spread over the index range, so no start vector favours them.
+    const order = Array.from({ length: dim }, (_, k) => (k * 7919) % dim);
+    const entry = new Float64Array(dim);
+    order.forEach((at, k) => (entry[at] = d[k]));
+    return {
+      dim,
+      isComplex,
+      apply(x, y) {
+        const w = isComplex ? 2 : 1;
+        for (let s = 0; s < dim; s++) for (let c = 0; c < w; c++) y[w * s + c] = entry[s] * x[w * s + c];
+      },
+    };
+  }
+  const solve = (op: HermitianOperator, states: number, groundCopies: number) => lowestEigenpairs(op, { states, tolerance: 1e-10, groundCopies });
+
+  it('a single ground state at a cap of one is shown complete with one screen (no dense fallback at this length)', () => {
+    const r = solve(diagonal(2000, 1), 1, 1);
+    expect(r.method).toBe('lanczos');
+    expect(r.degeneracy).toBe(1);
+    expect(r.degeneracyComplete).toBe(true);
+  });
+
+  it('a three-fold level with states = 1: all three, real and complex', () => {
+    for (const isComplex of [false, true]) {
+      const r = solve(diagonal(2000, 3, isComplex), 1, 64);
+      expect(r.degeneracy).toBe(3);
+      expect(r.degeneracyComplete).toBe(true);
+      expect(r.values).toHaveLength(3);
+      r.values.forEach((e) => expect(Math.abs(e)).toBeLessThan(1e-9));
+    }
+  });
+
+  it('past the cap: incomplete on long vectors, the dense fallback on short ones', () => {
+    const capped = solve(diagonal(2000, 3), 1, 2);
+    expect(capped.degeneracyComplete).toBe(false);
+    const long = solve(diagonal(2000, 100), 2, 64);
+    expect(long.degeneracyComplete).toBe(false);
+    expect(long.degeneracy).toBeGreaterThanOrEqual(64);
+    const short = solve(diagonal(800, 100), 2, 64);
+    expect(short.method).toBe('dense');
+    expect(short.degeneracy).toBe(100);
+    expect(short.degeneracyComplete).toBe(true);
+  });
+
+  it('the dense path returns the whole level when asked, only `states` otherwise', () => {
+    expect(solve(diagonal(50, 5), 1, 64).degeneracy).toBe(5);
+    expect(lowestEigenpairs(diagonal(50, 5), { states: 1, tolerance: 1e-10 }).degeneracy).toBe(1);
   });
 });
