@@ -5,6 +5,7 @@
 
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
+import { planEvolution, runEvolution } from '../src/evolve.js';
 import type { HermitianOperator } from '../src/operator.js';
 import { solvePoint, type PointRecord } from '../src/point.js';
 import { lowestEigenpairs } from '../src/solver.js';
@@ -227,5 +228,21 @@ describe('lowestEigenpairs with groundCopies', () => {
   it('the dense path returns the whole level when asked, only `states` otherwise', () => {
     expect(solve(diagonal(50, 5), 1, 64).degeneracy).toBe(5);
     expect(lowestEigenpairs(diagonal(50, 5), { states: 1, tolerance: 1e-10 }).degeneracy).toBe(1);
+  });
+});
+
+describe('time evolution: the weight in the ground space counts every copy', () => {
+  // Sudden approximation (textbook): a ramp far faster than every energy scale leaves the state
+  // unchanged. Ramping the tunnelling of three free two-level molecules to 0 ends at H = 0, whose
+  // ground space is the whole 8-state space: every state has weight 1 in it.
+  it('a sudden ramp to H = 0: ground overlap 1', () => {
+    const tree = clean({
+      chain: { sites: 3 },
+      levels: { count: 2, tunnelling: 1 },
+      exchange: { strength: 0 },
+      evolve: { initial: 'ground_state', times: [0, 1e-6], tolerance: 1e-10, ramp: { key: 'levels.tunnelling', from: 1, to: 0, duration: 1e-6, steps: 1 } },
+    });
+    const r = runEvolution(planEvolution(tree, validateSpec(tree)));
+    expect(r.frames[1].observables.ground_overlap).toBeCloseTo(1, 9);
   });
 });
