@@ -7,7 +7,11 @@ import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
 import { planEvolution, runEvolution } from '../src/evolve.js';
 import type { HermitianOperator } from '../src/operator.js';
+import { buildBasis, type PinnedBasis } from '../src/basis.js';
+import { buildModel } from '../src/model.js';
 import { solvePoint, type PointRecord } from '../src/point.js';
+import { solveInSectors } from '../src/sectorSolve.js';
+import { detectSymmetries, type SymmetryName } from '../src/symmetry.js';
 import { lowestEigenpairs } from '../src/solver.js';
 import { validateSpec, type Spec } from '../src/spec.js';
 import { describeRecord } from '../src/tables.js';
@@ -244,5 +248,28 @@ describe('time evolution: the weight in the ground space counts every copy', () 
     });
     const r = runEvolution(planEvolution(tree, validateSpec(tree)));
     expect(r.frames[1].observables.ground_overlap).toBeCloseTo(1, 9);
+  });
+});
+
+describe('sectors on one thread and on two: every copy in every sector', () => {
+  // Seven free molecules on a ring, each a three-level ring threaded by flux pi (phase pi/3 per
+  // link): each molecule's lowest level is two-fold, spanned by two of its ring's Fourier modes,
+  // whose weights on the three levels are all 1/3 (Bloch's theorem on a ring of three). The chain's
+  // ground level is 2^7 = 128-fold and its equal mixture is uniform over the 3^7 basis states.
+  it('2^7 copies spread over the momentum sectors, uniform probabilities', () => {
+    const spec = validateSpec(clean(free(7, { count: 3, boundary: 'ring', phase: Math.PI / 3 }, 1, 'periodic')));
+    const model = buildModel(spec);
+    const basis = buildBasis(model) as PinnedBasis;
+    const used = Object.fromEntries(detectSymmetries(model, basis).map((c) => [c.name, c.present])) as Record<SymmetryName, boolean>;
+    expect(used.translation).toBe(true);
+    for (const sectorThreads of [1, 2]) {
+      const solution = solveInSectors(model, basis, used, { states: 1, tolerance: 1e-10, groundCopies: 64, sectorThreads });
+      expect(solution.degeneracy).toBe(128);
+      expect(solution.degeneracyComplete).toBe(true);
+      expect(solution.runs.some((r) => r.method === 'lanczos')).toBe(true);
+      let worst = 0;
+      solution.groundProbabilities.forEach((p) => (worst = Math.max(worst, Math.abs(p - 3 ** -7))));
+      expect(worst).toBeLessThan(1e-10);
+    }
   });
 });
