@@ -34,7 +34,7 @@ import { planFockOperator } from './operator/fock.js';
 import { basisProbabilities, pinnedObservables, type Observables } from './observables.js';
 import { itinerantObservables } from './observables/itinerant.js';
 import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES, type MemoryEstimate } from './resources.js';
-import { defaultKrylovSize, lowestEigenpairs } from './solver.js';
+import { defaultKrylovSize, GROUND_COPIES_CAP, lowestEigenpairs } from './solver.js';
 import { applyOverride, cutText, describeValue, isTable, keyForPath, quoteText, registerSection, unknownKeyError, validateSpec, type Spec } from './spec.js';
 import { labUnits } from './units.js';
 import { complexDot, complexView, expectation, KrylovPropagator, toComplex, vectorNorm, type ComplexOperator } from './evolve/krylov.js';
@@ -528,9 +528,11 @@ export function initialState(plan: EvolutionPlan, basis: Basis, notes: string[] 
     maxMatvecs: groundSpec.solve.maxMatvecs ?? undefined,
     seed: groundSpec.solve.seed,
     throwOnFailure: true,
+    groundCopies: GROUND_COPIES_CAP,
   });
   if (eigen.degeneracy > 1) {
-    notes.push(`the initial ground state is ${eigen.degeneracy}-fold degenerate; the trace starts from one vector of that space`);
+    const fold = eigen.degeneracyComplete ? `${eigen.degeneracy}-fold` : `at least ${eigen.degeneracy}-fold`;
+    notes.push(`the initial ground state is ${fold} degenerate; the trace starts from one vector of that space`);
   }
   const psi = toComplex(eigen.vectors[0], basis.dim);
   const n = vectorNorm(psi);
@@ -705,6 +707,8 @@ export class Evolution {
       seed: spec.solve.seed,
       initial: warm && warm.length === (h.op.isComplex ? 2 * this.dim : this.dim) ? warm : undefined,
       throwOnFailure: true,
+      // The weight in the ground space needs every copy of the level, not the first two.
+      groundCopies: GROUND_COPIES_CAP,
     });
     this.extraMatvecs += eigen.matvecs;
     this.ground = { key, vectors: eigen.vectors.slice(0, eigen.degeneracy) };

@@ -10,7 +10,7 @@ import { itinerantObservables } from './observables/itinerant.js';
 import { planFockOperator } from './operator/fock.js';
 import { cutsFor, pinnedEntanglement } from './entanglement.js';
 import { assertWithinMemory, defaultMemoryLimit, estimateSectorMemory, estimateSolveMemory, largestSector, pinnedColumnsPerState, type MemoryEstimate } from './resources.js';
-import { defaultKrylovSize, denseThresholdFor, lowestEigenpairs, type EigenResult } from './solver.js';
+import { defaultKrylovSize, denseThresholdFor, GROUND_COPIES_CAP, lowestEigenpairs, type EigenResult } from './solver.js';
 import type { Spec } from './spec.js';
 import { detectSymmetries, planSectors, type SectorLabel, type SymmetryCheck, type SymmetryName } from './symmetry.js';
 import { solveInSectors, type SectorRun } from './sectorSolve.js';
@@ -44,6 +44,11 @@ export interface PointRecord {
     converged: boolean;
     tolerance: number;
     degeneracy: number;
+    /**
+     * Whether every copy of the lowest level was found (false: more than the cap, or the solver
+     * ran out of budget); the observables then average only the copies found.
+     */
+    degeneracy_complete: boolean;
     seconds: number;
     memory_estimate_bytes: number;
     symmetries?: SymmetryName[];
@@ -180,6 +185,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     initial: options.initial,
     onProgress: options.onProgress,
     throwOnFailure: false,
+    groundCopies: groundCopiesCap(states, (op.isComplex ? 16 : 8) * basis.dim, plan.memory.totalBytes, options.maxMemory),
     threads,
     // The threads' own arena: vectors kept there are multiplied in place, without copies.
     arena: threaded instanceof ThreadedOperator ? threaded.arena : arena,
@@ -197,7 +203,8 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   // Entanglement needs the state itself, so it is computed here; solve.entanglement keeps it cheap by default.
   const cuts = basis.kind === 'pinned' ? cutsFor(spec.solve.entanglement, basis.sites, basis.levels) : [];
   if (cuts.length > 0) observables.entanglement = pinnedEntanglement(ground, basis.sites, basis.levels, op.isComplex, cuts);
-  const energies = Array.from(eigen.values);
+  // `values` also holds copies of the ground level beyond `states`.
+  const energies = Array.from(eigen.values).slice(0, states);
   const record: PointRecord = {
     energies,
     gap: energies.length > 1 ? energies[1] - energies[0] : null,
@@ -214,15 +221,25 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
       method: eigen.method,
       iterations: eigen.matvecs,
       restarts: eigen.restarts,
-      residuals: Array.from(eigen.residuals),
+      residuals: Array.from(eigen.residuals).slice(0, states),
       converged: eigen.converged,
       tolerance: spec.solve.tolerance,
       degeneracy: eigen.degeneracy,
+      degeneracy_complete: eigen.degeneracyComplete ?? false,
       seconds: (performance.now() - started) / 1000,
       memory_estimate_bytes: plan.memory.totalBytes,
     },
   };
   return { record, groundStates: ground, eigen };
+}
+
+/**
+ * Most copies of the ground level to look for: GROUND_COPIES_CAP, fewer when their vectors
+ * (`vectorBytes` each) would not fit in the memory left beside the estimate; never fewer than `states`.
+ */
+function groundCopiesCap(states: number, vectorBytes: number, estimateBytes: number, maxMemory: number | undefined): number {
+  const spare = (maxMemory ?? defaultMemoryLimit()) - estimateBytes;
+  return Math.max(states, Math.min(GROUND_COPIES_CAP, states + Math.floor(Math.max(0, spare) / vectorBytes)));
 }
 
 /** Threads for one product: the spec's count or, by default, as many as the work pays for; never more than the caller allows. */
@@ -251,12 +268,14 @@ function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, o
     threadsFor: (work: number) => productThreads(spec, options, work),
     sectorThreads: plan.sectorThreads,
     onProgress: options.onProgress,
+    groundCopies: groundCopiesCap(states, (model.isComplex ? 16 : 8) * basis.dim, plan.memory.totalBytes, options.maxMemory),
   });
   // Callers get ground states in the model's own arithmetic: a real H has a real ground space,
   // spanned by the real and imaginary parts of its complex sector states.
   const groundStates = model.isComplex ? solution.groundStates : realSpan(solution.groundStates, basis.dim);
   const observables = pinnedObservables(basis, solution.groundProbabilities);
-  if (cuts.length > 0) observables.entanglement = pinnedEntanglement(groundStates, basis.sites, basis.levels, model.isComplex, cuts);
+  // A ground level with more copies than the cap is not expanded (see solveInSectors).
+  if (cuts.length > 0 && groundStates.length > 0) observables.entanglement = pinnedEntanglement(groundStates, basis.sites, basis.levels, model.isComplex, cuts);
   const energies = solution.energies;
   const L = model.sites;
   const record: PointRecord = {
@@ -280,6 +299,7 @@ function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, o
       converged: solution.converged,
       tolerance: spec.solve.tolerance,
       degeneracy: solution.degeneracy,
+      degeneracy_complete: solution.degeneracyComplete,
       seconds: (performance.now() - started) / 1000,
       memory_estimate_bytes: plan.memory.totalBytes,
       symmetries: (Object.keys(plan.used!) as SymmetryName[]).filter((k) => plan.used![k]),

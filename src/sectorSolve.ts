@@ -43,6 +43,8 @@ export interface SectorSolution {
   matvecs: number;
   restarts: number;
   degeneracy: number;
+  /** Whether every copy of the ground level was found (see SectorSolveOptions.groundCopies). */
+  degeneracyComplete: boolean;
   runs: SectorRun[];
   /** |psi(s)|^2 averaged over the degenerate ground space, on the full basis. */
   groundProbabilities: Float64Array;
@@ -69,6 +71,11 @@ export interface SectorSolveOptions {
   /** Sectors with at least this many rows are built by two threads when solved one at a time with threaded products (default 2^16; tests lower it). */
   splitBuildRows?: number;
   onProgress?: EigenOptions['onProgress'];
+  /**
+   * Most copies of its lowest level a sector looks for when that level may be the ground level
+   * (default `states`). Fewer copies in a sector than this are all found, whatever `states` is.
+   */
+  groundCopies?: number;
 }
 
 interface Found {
@@ -96,6 +103,8 @@ interface SectorOutcome {
   matvecs: number;
   restarts: number;
   converged: boolean;
+  /** False when the sector's lowest level may have copies beyond those found (its cap was reached). */
+  groundComplete: boolean;
 }
 
 function groupFor(label: SectorLabel): GroupUse {
@@ -303,6 +312,8 @@ function solveSector(
     let vectors: Float64Array[];
     let converged: boolean;
     let method: 'dense' | 'lanczos';
+    let groundComplete = true;
+    const groundCopies = Math.max(need, Math.min(opts.groundCopies ?? states, sector.dim));
     if (Number.isFinite(screenLine()) && sector.dim > denseThresholdFor(need)) {
       // Screen with the sector's lowest state, converged only as far as the decision needs
       // (see EigenOptions.screenAbove). A state not screened out is converged to the tolerance,
@@ -314,18 +325,33 @@ function solveSector(
       converged = true;
       method = 'lanczos';
       let screenedAt = NaN;
-      while (energies.length < need) {
+      // Past `need`, copies of the sector's lowest level are looked for while it may be the
+      // ground level: the answer's degeneracy and averages need every copy.
+      const levelTop = (): number => energies[0] + degeneracyWindow(energies[0], opts.tolerance);
+      const extending = (): boolean => {
+        if (energies.length < need || energies[energies.length - 1] > levelTop()) return false;
+        const { ground } = shared.bounds();
+        return energies[0] <= ground + degeneracyWindow(ground, opts.tolerance);
+      };
+      while ((energies.length < need || extending()) && energies.length < sector.dim) {
+        // At the cap, one more screen still tells a complete level from one with more copies.
+        const atCap = energies.length >= groundCopies;
         const next = lowestEigenpairs(op, {
           ...base,
           initial: energies.length === 0 ? base.initial : undefined,
           deflate: vectors,
           verifyDegeneracy: false,
-          screenAbove: screenLine(),
+          screenAbove: energies.length < need ? screenLine() : levelTop(),
         });
         matvecs += next.matvecs;
         restarts += next.restarts;
         screenedAt = next.values[0];
         if (next.screened) break;
+        // A further copy not converged leaves the level incomplete, the states found converged.
+        if (energies.length >= need && !next.converged) {
+          groundComplete = false;
+          break;
+        }
         if (next.method === 'dense') method = 'dense';
         converged &&= next.converged;
         const v = next.vectors[0];
@@ -337,13 +363,18 @@ function solveSector(
         converged &&= residuals[residuals.length - 1] <= opts.tolerance;
         vectors.push(v);
         shared.publish([next.values[0]], plan.copies.length);
+        if (atCap) {
+          groundComplete = next.values[0] > levelTop();
+          break;
+        }
       }
       if (energies.length === 0) {
         const run = { label: plan.label, dimension: sector.dim, method: 'lanczos' as const, iterations: matvecs, lowest: screenedAt, screened: true, copies: plan.copies, nonzeros: stored.nonzeros() };
-        return { run, states: { plan: index, energies: [], residuals: [], vectors: [], complex: isComplex }, matvecs, restarts, converged: true };
+        return { run, states: { plan: index, energies: [], residuals: [], vectors: [], complex: isComplex }, matvecs, restarts, converged: true, groundComplete: true };
       }
     } else {
-      const result = lowestEigenpairs(op, { ...base, states: need });
+      const result = lowestEigenpairs(op, { ...base, states: need, groundCopies });
+      groundComplete = result.degeneracyComplete ?? false;
       matvecs += result.matvecs;
       restarts += result.restarts;
       energies = Array.from(result.values);
@@ -368,6 +399,7 @@ function solveSector(
       matvecs,
       restarts,
       converged,
+      groundComplete,
     };
   } finally {
     shared.addMatvecs(matvecs);
@@ -601,7 +633,7 @@ export function solveInSectors(
     if (helpers > 0) {
       // Every map the sectors use exists before the helpers start, so they share it.
       for (const plan of plans) maps.for(plan.label);
-      const { initial, initialComplex, states: s, tolerance, maxMatvecs, krylovSize, seed, selection: sel } = opts;
+      const { initial, initialComplex, states: s, tolerance, maxMatvecs, krylovSize, seed, selection: sel, groundCopies } = opts;
       const script = workerScript('sectors');
       for (let h = 0; h < helpers; h++) {
         const { port1, port2 } = new MessageChannel();
@@ -609,7 +641,7 @@ export function solveInSectors(
           model,
           basis,
           plans,
-          opts: { initial, initialComplex, states: s, tolerance, maxMatvecs, krylovSize, seed, selection: sel },
+          opts: { initial, initialComplex, states: s, tolerance, maxMatvecs, krylovSize, seed, selection: sel, groundCopies },
           maps: maps.parts(),
           progress: { words: shared.words, lowest: shared.lowest },
           port: port2,
@@ -686,12 +718,15 @@ export function solveInSectors(
   const window = degeneracyWindow(e0, opts.tolerance);
   found = found.filter((f, k) => k < states || f.energy - e0 <= window);
   const ground = found.filter((f) => f.energy - e0 <= window);
+  // Only sectors holding the ground level need all its copies.
+  const degeneracyComplete = outcomes.every((o) => o.groundComplete || o.states.energies.length === 0 || o.states.energies[0] - e0 > window);
   // Copies (k <-> -k) share their representative's probabilities for these diagonal observables:
   // complex conjugation leaves |psi|^2 unchanged, and a reflected translation-invariant state has
   // the same populations, spreads, pair separations and string width.
   const probabilities = new Float64Array(basis.dim);
   for (const g of ground) g.sector!.accumulateProbabilities(g.vector!, g.complex, 1 / ground.length, probabilities);
-  const groundStates = opts.expandGround ? expandGroundSpace(ground, model, basis) : [];
+  // Full-space vectors of a level with more copies than the cap would not fit in memory.
+  const groundStates = opts.expandGround && ground.length <= Math.max(states, opts.groundCopies ?? states) ? expandGroundSpace(ground, model, basis) : [];
   const answer = found.slice(0, states);
   return {
     energies: answer.map((f) => f.energy),
@@ -701,6 +736,7 @@ export function solveInSectors(
     matvecs,
     restarts,
     degeneracy: ground.length,
+    degeneracyComplete,
     runs,
     groundProbabilities: probabilities,
     groundStates,

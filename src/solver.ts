@@ -20,7 +20,7 @@ export interface EigenOptions {
   states: number;
   /** Stop when ||H v - E v|| <= tolerance for every requested pair (v normalized). */
   tolerance: number;
-  /** Budget of matrix-vector products; default max(5000, 50*states). */
+  /** Budget of matrix-vector products; default max(5000, 50*states), plus 100 per `groundCopies`. */
   maxMatvecs?: number;
   /**
    * Restart basis size m; default max(2*states+14, 24), capped at dim. Working memory is m+1
@@ -75,6 +75,15 @@ export interface EigenOptions {
    * whether a space holds anything below a level.
    */
   screenAbove?: number;
+  /**
+   * Also find every copy of the lowest level, up to this many in all (default 0: only the copies
+   * among the `states` pairs). The result then holds max(states, copies) pairs, and
+   * `degeneracyComplete` says whether the level was shown to have no further copy. The dense path
+   * finds them all; Lanczos keeps deflating while new copies appear (one screen more than without),
+   * and falls back to the dense path when the cap (or the budget) is reached on vectors of at
+   * most DENSE_FALLBACK_LENGTH doubles.
+   */
+  groundCopies?: number;
 }
 
 export interface EigenResult {
@@ -104,11 +113,27 @@ export interface EigenResult {
   degeneracy: number;
   /** True when stopped by `screenAbove` (nothing below it); values are then upper bounds. */
   screened?: boolean;
+  /**
+   * With `groundCopies`: true when no copy of the lowest level is left out (every copy found
+   * within the degeneracy window), false when the cap or the budget ran out first.
+   */
+  degeneracyComplete?: boolean;
   /** Threads the vector kernels ran on (1 unless `threads` allowed more and the vectors were long). */
   threads?: number;
 }
 
 export const DEFAULT_DENSE_THRESHOLD = 400;
+/**
+ * Most copies of the lowest level a solve looks for (callers also bound it by memory: each copy
+ * is a vector of the dimension). A level with more copies is reported as incomplete.
+ */
+export const GROUND_COPIES_CAP = 64;
+/**
+ * A Lanczos solve whose lowest level has more copies than `groundCopies` is redone densely when
+ * its vectors are at most this long (doubles): a 1024 x 1024 dense solve takes about a second,
+ * and it finds every copy (the 81-fold ground level of four free three-level sites, say).
+ */
+export const DENSE_FALLBACK_LENGTH = 1024;
 const DEFAULT_SEED = 0x5eed1234;
 
 /**
@@ -721,9 +746,10 @@ interface DenseSolution {
 
 /**
  * Lowest `count` eigenpairs of P H P restricted to the complement of `deflation` (orthonormal).
- * Deflated directions are lifted to a shift above the whole spectrum so they sort last.
+ * Deflated directions are lifted to a shift above the whole spectrum so they sort last. With
+ * `groundWindow`, the count grows to include every value within it of the lowest.
  */
-function denseSolve(op: HermitianOperator, count: number, deflation: Float64Array[]): DenseSolution {
+function denseSolve(op: HermitianOperator, count: number, deflation: Float64Array[], groundWindow: ((e0: number) => number) | null = null): DenseSolution {
   const n = op.dim;
   const { re, im } = buildDense(op, deflation);
   // Hermitian part: cancels rounding asymmetry of the operator.
@@ -761,13 +787,18 @@ function denseSolve(op: HermitianOperator, count: number, deflation: Float64Arra
       }
     }
   }
-  const solution = b ? complexDenseEigen(a, b, n, count) : realDenseEigen(a, n, count);
+  const available = n - deflation.length;
+  const solution = b ? complexDenseEigen(a, b, n, count, available, groundWindow) : realDenseEigen(a, n, count, available, groundWindow);
   solution.residuals = denseResiduals(a, b, n, solution.values, solution.vectors);
   return solution;
 }
 
-function realDenseEigen(a: Float64Array, n: number, count: number): DenseSolution {
+function realDenseEigen(a: Float64Array, n: number, count: number, available: number, groundWindow: ((e0: number) => number) | null): DenseSolution {
   const { values, vectors: byVector } = symmetricEigen(a, n);
+  if (groundWindow) {
+    const window = groundWindow(values[0]);
+    while (count < available && values[count] - values[0] <= window) count++;
+  }
   const outValues = new Float64Array(count);
   const vectors: Float64Array[] = [];
   for (let c = 0; c < count; c++) {
@@ -787,7 +818,7 @@ function realDenseEigen(a: Float64Array, n: number, count: number): DenseSolutio
  * picks p orthonormal ones, taking each time the candidate with the largest remaining norm
  * (at least 1/p in square), so the choice stays well conditioned.
  */
-function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: number): DenseSolution {
+function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: number, available: number, groundWindow: ((e0: number) => number) | null): DenseSolution {
   const size = 2 * n;
   const embedded = new Float64Array(size * size);
   for (let i = 0; i < n; i++) {
@@ -801,6 +832,11 @@ function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: n
     }
   }
   const { values, vectors: byVector } = symmetricEigen(embedded, size);
+  if (groundWindow) {
+    // Each eigenvalue of H appears twice in S.
+    const window = groundWindow(values[0]);
+    while (count < available && values[2 * count] - values[0] <= window) count++;
+  }
   // Copies of one eigenvalue split only by rounding (~1e-15 of the spectral radius); levels
   // closer than clusterGap are treated as one cluster, which mixes them by at most that much.
   const radius = Math.max(Math.abs(values[0]), Math.abs(values[size - 1]));
@@ -1000,24 +1036,29 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
     return result;
   };
 
-  if (!lanczos) {
-    const solution = denseSolve(op, states, deflation);
+  const groundCopies = Math.max(0, opts.groundCopies ?? 0);
+  const groundWindow = (e0: number): number => degeneracyWindow(e0, tolerance);
+  const dense = (spent: number): EigenResult => {
+    const solution = denseSolve(op, states, deflation, groundCopies > 0 ? groundWindow : null);
     const converged = solution.residuals.every((r) => r <= tolerance);
-    opts.onProgress?.({ matvecs: dim, restarts: 0, worstResidual: Math.max(0, ...solution.residuals) });
+    opts.onProgress?.({ matvecs: spent + dim, restarts: 0, worstResidual: Math.max(0, ...solution.residuals) });
     return fail({
       values: solution.values,
       vectors: solution.vectors,
       residuals: solution.residuals,
-      matvecs: dim,
+      matvecs: spent + dim,
       restarts: 0,
       fullSteps: 0,
       converged,
       method: 'dense',
       degeneracy: degeneracyOf(solution.values, tolerance),
+      // The whole spectrum was computed: every copy is among the values.
+      ...(groundCopies > 0 ? { degeneracyComplete: true } : {}),
     });
-  }
+  };
+  if (!lanczos) return dense(0);
 
-  const maxMatvecs = opts.maxMatvecs ?? Math.max(5000, 50 * states);
+  const maxMatvecs = opts.maxMatvecs ?? Math.max(5000, 50 * states) + 100 * groundCopies;
   if (!(maxMatvecs >= 1)) throw new SpecError('maxMatvecs', 'must be at least 1');
   const requestedKrylov = opts.krylovSize ?? defaultKrylovSize(states);
   if (!Number.isInteger(requestedKrylov) || requestedKrylov < 1) {
@@ -1089,16 +1130,37 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
   // the common case, and the closing run that inserts nothing is cheapest with one); after two
   // runs in a row that insert all they looked for, the next looks for twice as many (large
   // multiplicities).
+  //
+  // With `groundCopies`, while every value found is a copy of the lowest level, the same runs
+  // look for one more copy instead (screening at the top of the level's window rather than below
+  // the highest value), and a copy they find is added rather than swapped in; they stop when a
+  // run finds nothing within the window (the level is complete) or at the cap.
   const inserted = new Set<Float64Array>();
+  const wholeLevel = (): boolean => groundCopies > 0 && values[values.length - 1] - values[0] <= groundWindow(values[0]);
+  let capReached = false;
+  let verified = states >= available;
   if (converged && states < available && opts.verifyDegeneracy !== false) {
     let searchFor = 1;
     let fullRounds = 0;
-    for (let round = 0; round < 4 * states + 4; round++) {
-      const space = available - states;
-      const nev = Math.min(searchFor, space);
+    const rounds = 4 * Math.max(states, groundCopies) + 4;
+    for (let round = 0; round < rounds; round++) {
+      const extending = wholeLevel();
+      // At the cap, one more screen still tells a complete level from one with more copies.
+      const atCap = extending && values.length >= groundCopies;
+      const space = available - values.length;
+      if (space <= 0) {
+        verified = true;
+        break;
+      }
+      const nev = atCap ? 1 : Math.min(searchFor, space, extending ? groundCopies - values.length : states);
+      const highestBefore = values[values.length - 1];
+      const line = extending
+        ? values[0] + groundWindow(values[0])
+        : highestBefore - Math.max(2 * tolerance, 1e-11 * Math.max(1, Math.abs(highestBefore)));
       const remainingBudget = maxMatvecs - totalMatvecs;
+      // Running out while looking for further copies leaves the level incomplete, the pairs found converged.
       if (remainingBudget <= 0) {
-        converged = false;
+        if (!extending) converged = false;
         break;
       }
       const run = thickRestartLanczos({
@@ -1113,8 +1175,8 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
         pool,
         progress,
         kernels,
-        // Only "is anything below the highest value found?" needs answering, not the value itself.
-        screenAbove: values[values.length - 1] - Math.max(2 * tolerance, 1e-11 * Math.max(1, Math.abs(values[values.length - 1]))),
+        // Only "is anything below the line?" needs answering, not the value itself.
+        screenAbove: line,
         partial,
       });
       totalMatvecs += run.matvecs;
@@ -1122,7 +1184,7 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
       totalFullSteps += run.fullSteps;
       if (!run.converged) {
         pool.push(...run.vectors);
-        converged = false;
+        if (!extending) converged = false;
         break;
       }
       let insertedNow = 0;
@@ -1130,10 +1192,13 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
         const candidate = run.values[c];
         const highest = values[values.length - 1];
         const margin = Math.max(2 * tolerance, 1e-11 * Math.max(1, Math.abs(highest)));
-        if (candidate < highest - margin) {
-          pool.push(vectors.pop() as Float64Array);
-          values.pop();
-          residuals.pop();
+        const copy = extending && candidate <= line;
+        if (copy || candidate < highest - margin) {
+          if (!copy) {
+            pool.push(vectors.pop() as Float64Array);
+            values.pop();
+            residuals.pop();
+          }
           let at = values.length;
           while (at > 0 && values[at - 1] > candidate) at--;
           values.splice(at, 0, candidate);
@@ -1145,10 +1210,27 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
           pool.push(run.vectors[c]);
         }
       }
-      if (insertedNow === 0) break;
+      // A lower level found while extending makes the copies above its window surplus.
+      while (values.length > states && values[values.length - 1] - values[0] > groundWindow(values[0])) {
+        pool.push(vectors.pop() as Float64Array);
+        values.pop();
+        residuals.pop();
+      }
+      if (insertedNow === 0) {
+        verified = true;
+        break;
+      }
+      if (atCap) {
+        capReached = true;
+        break;
+      }
       fullRounds = insertedNow === nev ? fullRounds + 1 : 0;
-      searchFor = fullRounds >= 2 ? Math.min(2 * nev, states) : 1;
+      searchFor = fullRounds >= 2 ? Math.min(2 * nev, Math.max(states, groundCopies)) : 1;
     }
+  }
+  if (groundCopies > 0 && converged && (capReached || !verified) && length <= DENSE_FALLBACK_LENGTH) {
+    pool.length = 0;
+    return dense(totalMatvecs);
   }
 
   // Pairs from verification runs were checked against a larger deflation set; measure them
@@ -1195,8 +1277,9 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
     matvecs: totalMatvecs,
     restarts: totalRestarts,
     fullSteps: totalFullSteps,
-    converged: converged && vectors.length === states,
+    converged: converged && vectors.length >= states,
     method: 'lanczos',
     degeneracy: degeneracyOf(outValues, tolerance),
+    ...(groundCopies > 0 ? { degeneracyComplete: converged && verified && !capReached } : {}),
   });
 }

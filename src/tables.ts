@@ -119,6 +119,9 @@ export function describeRecord(r: PointRecord): string {
   }
   out.push('');
   out.push(`gap ${fmtNoise(r.gap, energyScale)}   ground-state degeneracy ${r.solver.degeneracy}   string width ${fmtNoise(r.observables.string_width, 1, 8)}`);
+  if (r.solver.degeneracy_complete === false) {
+    out.push(`WARNING: not every copy of the ground level was found (${r.solver.degeneracy} found, cap or budget reached); the observables below average only those`);
+  }
   const cuts = r.observables.entanglement as { cut: number; von_neumann: number; renyi_2: number }[] | undefined;
   for (const c of cuts ?? []) {
     out.push(`entanglement of sites 0..${c.cut - 1} with the rest: von Neumann ${fmt(c.von_neumann, 8)}, Renyi-2 ${fmt(c.renyi_2, 8)}`);
