@@ -13,7 +13,7 @@ import { assertWithinMemory, defaultMemoryLimit, estimateSectorMemory, estimateS
 import { defaultKrylovSize, denseThresholdFor, GROUND_COPIES_CAP, lowestEigenpairs, type EigenResult } from './solver.js';
 import type { Spec } from './spec.js';
 import { detectSymmetries, planSectors, type SectorLabel, type SymmetryCheck, type SymmetryName } from './symmetry.js';
-import { solveInSectors, type SectorRun } from './sectorSolve.js';
+import { solveInSectors, type SectorRun, type SectorSolveOptions } from './sectorSolve.js';
 import { coreCount, defaultProductThreads, ThreadedOperator, withThreads } from './parallel.js';
 import { VectorArena } from './simd.js';
 
@@ -64,7 +64,8 @@ export interface SolveOptions {
   initial?: Float64Array;
   /** Most threads one matrix-vector product may use (a scan running points in parallel passes its share). */
   threads?: number;
-  onProgress?: (info: { matvecs: number; restarts: number; worstResidual: number }) => void;
+  /** Products, restarts and the worst residual so far; in a sector-by-sector solve, also where it stands. */
+  onProgress?: SectorSolveOptions['onProgress'];
   /**
    * Whether the caller uses `groundStates` (default true). A sector solve otherwise builds them
    * only for entanglement: expanding sector states to the full space costs a pass over it per

@@ -20,6 +20,7 @@ import { VectorArena } from './simd.js';
 import { KeptTeam, spinLocked, workerScript } from './threadTeam.js';
 import { degeneracyWindow, denseThresholdFor, lowestEigenpairs, type EigenOptions } from './solver.js';
 import { KernelTeam } from './solver/team.js';
+import { sectorSizes } from './basis/sectorSizes.js';
 import { IndexActions, planSectors, type SectorLabel, type SectorPlan, type SectorSelection, type SymmetryName } from './symmetry.js';
 
 export interface SectorRun {
@@ -53,6 +54,26 @@ export interface SectorSolution {
   method: 'dense' | 'lanczos';
 }
 
+/** Where a sector-by-sector solve stands, for a progress line. */
+export interface SectorProgress {
+  /** Sectors taken so far (by every thread), 1-based. */
+  index: number;
+  count: number;
+  /** The sector this thread is solving. */
+  label: SectorLabel;
+  dimension: number;
+  /** Share of the solved space in the sectors taken before this one (their states over all states). */
+  spaceBefore: number;
+}
+
+function labelKey(l: SectorLabel): string {
+  return `${l.momentum},${l.parity},${l.level_flip},${l.charge}`;
+}
+
+function sectorDimensionsByKey(model: Model, use: Record<SymmetryName, boolean>, selection: SectorSelection): Map<string, number> {
+  return new Map(sectorSizes(model, use, selection).map((s) => [labelKey(s.label), s.dimension]));
+}
+
 export interface SectorSolveOptions {
   states: number;
   tolerance: number;
@@ -70,7 +91,7 @@ export interface SectorSolveOptions {
   sectorThreads?: number;
   /** Sectors with at least this many rows are built by two threads when solved one at a time with threaded products (default 2^16; tests lower it). */
   splitBuildRows?: number;
-  onProgress?: EigenOptions['onProgress'];
+  onProgress?: (info: Parameters<NonNullable<EigenOptions['onProgress']>>[0] & { sector?: SectorProgress }) => void;
   /**
    * Most copies of its lowest level a sector looks for when that level may be the ground level
    * (default `states`). Fewer copies in a sector than this are all found, whatever `states` is.
@@ -162,6 +183,11 @@ class SharedProgress {
   /** Index of the next sector to solve (past the end: none left). */
   claim(): number {
     return Atomics.add(this.words, NEXT, 1);
+  }
+
+  /** Sectors taken so far by every thread. */
+  claimed(): number {
+    return Atomics.load(this.words, NEXT);
   }
 
   /** The ground energy and the energy every new state must stay below to enter the answer. */
@@ -658,13 +684,29 @@ export function solveInSectors(
     }
     // This thread takes sectors too; with helpers, each product runs on one thread.
     const threadsFor = helpers > 0 ? () => 1 : (opts.threadsFor ?? (() => 1));
-    const onProgress = opts.onProgress ? (info: Parameters<NonNullable<EigenOptions['onProgress']>>[0]) => opts.onProgress!({ ...info, matvecs: shared.matvecs() + info.matvecs }) : undefined;
+    // Progress names the sector this thread works on and the share of the space in the sectors
+    // taken before it, from exact sizes counted only when someone listens.
+    const sizes = opts.onProgress ? sectorDimensionsByKey(model, use, selection) : null;
+    const totalDimension = plans.reduce((sum, p) => sum + (sizes?.get(labelKey(p.label)) ?? 0), 0);
+    const onProgressIn = (i: number) => {
+      const report = opts.onProgress;
+      if (!report || !sizes) return undefined;
+      const before = plans.slice(0, i).reduce((sum, p) => sum + (sizes.get(labelKey(p.label)) ?? 0), 0);
+      const sector = (): SectorProgress => ({
+        index: Math.min(shared.claimed(), plans.length),
+        count: plans.length,
+        label: plans[i].label,
+        dimension: sizes.get(labelKey(plans[i].label)) ?? 0,
+        spaceBefore: totalDimension > 0 ? before / totalDimension : 0,
+      });
+      return (info: Parameters<NonNullable<EigenOptions['onProgress']>>[0]) => report({ ...info, matvecs: shared.matvecs() + info.matvecs, sector: sector() });
+    };
     const arena = VectorArena.acquire();
     const spares = new ChunkSpares();
     const kernels = new KeptTeam((threads) => (arena ? KernelTeam.start(arena, threads) : null));
     kernelTeams = kernels;
     for (let i; (i = shared.claim()) < plans.length; ) {
-      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgress, builds, (t) => kernels.for(t), (t) => productTeams.for(t));
+      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgressIn(i), builds, (t) => kernels.for(t), (t) => productTeams.for(t));
       if (outcome) outcomes.push(outcome);
       prune(outcomes, shared, opts.tolerance);
     }

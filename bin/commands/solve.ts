@@ -2,6 +2,8 @@
 import type { Command } from 'commander';
 import { loadSpec } from '../../src/spec.js';
 import { planPoint, solvePoint } from '../../src/point.js';
+import type { SectorProgress } from '../../src/sectorSolve.js';
+import type { SectorLabel } from '../../src/symmetry.js';
 import { describePlan, describeRecord } from '../../src/tables.js';
 import { runDemo } from '../../src/demo.js';
 import { collect, memoryLimit } from './shared.js';
@@ -64,23 +66,44 @@ export function registerSolveCommands(program: Command): void {
 
 /**
  * A one-line progress report on a terminal's stderr (stdout stays the result alone): products so
- * far, the worst residual against the tolerance, elapsed time. Redrawn at most twice a second.
+ * far, the worst residual against the tolerance, elapsed time; in a sector-by-sector solve also
+ * which sector (each sector's residual starts afresh) and a rough time left from the share of the
+ * space in the sectors before it. Redrawn at most twice a second.
  */
 function solveProgress() {
   const started = Date.now();
   let last = 0;
   let shown = false;
   return {
-    update(info: { matvecs: number; restarts: number; worstResidual: number }): void {
+    update(info: { matvecs: number; restarts: number; worstResidual: number; sector?: SectorProgress }): void {
       const now = Date.now();
       if (now - last < 500) return;
       last = now;
       shown = true;
-      const line = `solving: ${info.matvecs} products, ${info.restarts} restarts, worst residual ${info.worstResidual.toExponential(1)}, ${((now - started) / 1000).toFixed(0)} s`;
-      process.stderr.write(`\r${line.padEnd(78)}`);
+      const elapsed = (now - started) / 1000;
+      const where = info.sector ? `sector ${info.sector.index} of ${info.sector.count} (${sectorName(info.sector.label)}, ${info.sector.dimension} states), ` : '';
+      const left = info.sector && info.sector.spaceBefore > 0 ? `, about ${durationText((elapsed * (1 - info.sector.spaceBefore)) / info.sector.spaceBefore)} left` : '';
+      const line = `solving: ${where}${info.matvecs} products, residual ${info.worstResidual.toExponential(1)}, ${durationText(elapsed)}${left}`;
+      process.stderr.write(`\r${line.padEnd(100)}`);
     },
     done(): void {
-      if (shown) process.stderr.write(`\r${' '.repeat(78)}\r`);
+      if (shown) process.stderr.write(`\r${' '.repeat(100)}\r`);
     },
   };
+}
+
+/** A sector's quantum numbers as a short label: k=2 P+ F- q=3 (only the symmetries in use). */
+export function sectorName(l: SectorLabel): string {
+  const parts: string[] = [];
+  if (l.momentum !== null) parts.push(`k=${l.momentum}`);
+  if (l.parity !== null) parts.push(`P${l.parity > 0 ? '+' : '-'}`);
+  if (l.level_flip !== null) parts.push(`F${l.level_flip > 0 ? '+' : '-'}`);
+  if (l.charge !== null) parts.push(`q=${l.charge}`);
+  return parts.join(' ') || 'whole space';
+}
+
+function durationText(seconds: number): string {
+  if (seconds < 90) return `${seconds.toFixed(0)} s`;
+  if (seconds < 5400) return `${(seconds / 60).toFixed(0)} min`;
+  return `${(seconds / 3600).toFixed(1)} h`;
 }
