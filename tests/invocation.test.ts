@@ -33,7 +33,8 @@ describe('the start of a printed command', () => {
     process.argv[1] = CLI;
     process.chdir(ROOT);
     expect(invocation()).toBe('node dist/bin/rungchain.js');
-    process.chdir(os.tmpdir());
+    // A fresh folder is never an ancestor of the clone, wherever the clone lies (CI may clone under the temp folder).
+    process.chdir(mkdtempSync(path.join(os.tmpdir(), 'rungchain-elsewhere-')));
     expect(invocation()).toBe(`node ${CLI}`);
     expect(commandLine(['summary', 'runs/my run'])).toBe(`node ${CLI} summary 'runs/my run'`);
   });
