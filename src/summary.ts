@@ -84,6 +84,8 @@ export function summaryJson(summary: ScanRunSummary): Record<string, unknown>[] 
     for (const name of scalars) out[name] = result ? ((result.observables[name] as number | undefined) ?? null) : null;
     out.dimension = result ? result.basis.dimension : null;
     out.converged = result ? result.solver.converged : null;
+    out.degeneracy = result ? result.solver.degeneracy : null;
+    out.degeneracy_complete = result ? (result.solver.degeneracy_complete ?? null) : null;
     out.iterations = r.iterations;
     out.warm_start = r.warm_start;
     out.overlap_previous = r.overlap_previous ?? null;
@@ -102,7 +104,7 @@ export function summaryCsv(summary: ScanRunSummary): string {
   const keys = paramKeys(summary);
   const scalars = scalarObservables(rows);
   const states = Math.max(0, ...rows.map((r) => r.record!.result?.energies.length ?? 0));
-  const header = ['index', ...keys, 'status', ...Array.from({ length: states }, (_, k) => `E${k}`), 'gap', ...scalars, 'dimension', 'converged', 'iterations', 'warm_start', 'overlap_previous', 'seconds', 'error'];
+  const header = ['index', ...keys, 'status', ...Array.from({ length: states }, (_, k) => `E${k}`), 'gap', ...scalars, 'dimension', 'converged', 'degeneracy', 'degeneracy_complete', 'iterations', 'warm_start', 'overlap_previous', 'seconds', 'error'];
   const body = rows.map((row) => {
     const r = row.record!;
     const res = r.result;
@@ -115,6 +117,8 @@ export function summaryCsv(summary: ScanRunSummary): string {
       ...scalars.map((s) => res?.observables[s]),
       res?.basis.dimension,
       res?.solver.converged,
+      res?.solver.degeneracy,
+      res?.solver.degeneracy_complete,
       r.iterations,
       r.warm_start,
       r.overlap_previous,
@@ -205,7 +209,7 @@ export function summaryText(summary: ScanRunSummary): string {
     return [
       String(row.index),
       ...keys.map((k) => showValue(row.params[k])),
-      row.status + (res && !res.solver.converged ? ' (not converged)' : ''),
+      row.status + (res && !res.solver.converged ? ' (not converged)' : '') + (res && res.solver.degeneracy_complete === false ? ' (incomplete level)' : ''),
       res ? fmtNoise(res.energies[0], energyScale, 10) : '',
       res ? fmtNoise(res.gap, energyScale, 6) : '',
       res ? fmtNoise(res.observables.string_width, widthScale, 6) : '',
@@ -218,6 +222,10 @@ export function summaryText(summary: ScanRunSummary): string {
   const c = summary.counts;
   out.push('');
   out.push(`${c.done} done, ${c.failed} failed, ${c.pending} pending of ${c.total}` + (summary.rows.some((r) => r.record?.warm_start) ? '   (w: Lanczos started from the previous point\'s ground state)' : ''));
+  const incomplete = summary.rows.filter((r) => r.record?.result?.solver.degeneracy_complete === false).map((r) => r.index);
+  if (incomplete.length > 0) {
+    out.push(`WARNING: ${incomplete.length} point(s) (${incomplete.slice(0, 10).join(', ')}${incomplete.length > 10 ? ', ...' : ''}) found not every copy of their ground level: their observables average only the copies found`);
+  }
   const failures = summary.rows.filter((r) => r.status === 'failed');
   for (const f of failures.slice(0, 20)) out.push(`point ${f.index} failed: ${f.record!.error}`);
   if (failures.length > 20) out.push(`... and ${failures.length - 20} more failed points`);

@@ -191,3 +191,32 @@ describe('rungchain status', () => {
     expect(r.stderr).toMatch(/records\.msgpack is damaged in the middle: .* at byte 0, after record 0, with 5 intact records after/);
   });
 });
+
+// H = 0 on 7 three-level sites: every one of the 3^7 = 2187 states is a ground state (elementary),
+// beyond the 64 copies a Lanczos solve looks for. Summaries must say the level is incomplete
+// rather than present the average over the copies found as the ground space's.
+describe('summaries of points whose ground level was not found whole', () => {
+  it('carry degeneracy and degeneracy_complete in JSON and CSV, and warn in the table', () => {
+    const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-incomplete-'));
+    const spec = path.join(dir, 'flat.toml');
+    writeFileSync(
+      spec,
+      '[chain]\nsites = 7\n[levels]\ncount = 3\ntunnelling = 0.0\n[exchange]\nstrength = 0.0\n[solve]\nstates = 1\nsymmetries = "none"\n' +
+        '[[scan.axis]]\nkey = "levels.detuning"\nvalues = [0.0, 0.5]\n',
+    );
+    const out = path.join(dir, 'run');
+    expect(runCli(['scan', spec, '--out', out, '--quiet']).code).toBe(0);
+    const json = JSON.parse(runCli(['summary', out, '--json']).stdout) as Row[];
+    for (const row of json) {
+      expect(row.degeneracy_complete).toBe(false);
+      expect(row.degeneracy).toBeLessThan(2187);
+    }
+    const csvRows = parseCsv(runCli(['summary', out, '--csv']).stdout);
+    const column = csvRows[0].indexOf('degeneracy_complete');
+    expect(column).toBeGreaterThan(0);
+    expect(csvRows.slice(1).map((r) => r[column])).toEqual(['false', 'false']);
+    const text = runCli(['summary', out]).stdout;
+    expect(text).toMatch(/done \(incomplete level\)/);
+    expect(text).toMatch(/WARNING: 2 point\(s\) \(0, 1\) found not every copy of their ground level/);
+  });
+});
