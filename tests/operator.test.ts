@@ -6,6 +6,7 @@ import { columnBuffer, PinnedColumns } from '../src/operator/pinnedRows.js';
 import { VectorArena } from '../src/simd.js';
 import { validateSpec } from '../src/spec.js';
 import { densePinnedHamiltonian } from './support/reference.js';
+import { ofKind } from './support/narrow.js';
 import { clean, randomPinnedSpec, rng } from './support/random.js';
 
 // The on-the-fly kernel against a plain element-by-element dense build of docs/model.md's Hamiltonian
@@ -24,7 +25,7 @@ describe('pinned operator', () => {
     it(`matches the dense reference product (seed ${seed}, L=${L}, N=${N})`, () => {
       const spec = validateSpec(clean(randomPinnedSpec(seed, L, N)));
       const model = buildModel(spec);
-      const basis = buildBasis(model);
+      const basis = ofKind(buildBasis(model), 'pinned');
       const op = new PinnedOperator(model, basis);
       const ref = densePinnedHamiltonian(spec);
       const dim = basis.dim;
@@ -63,7 +64,7 @@ describe('pinned operator', () => {
   it('counts the nonzeros a stored matrix would hold', () => {
     const spec = validateSpec(clean(randomPinnedSpec(11, 4, 3)));
     const model = buildModel(spec);
-    const basis = buildBasis(model);
+    const basis = ofKind(buildBasis(model), 'pinned');
     const op = new PinnedOperator(model, basis);
     const ref = densePinnedHamiltonian(spec);
     let nz = 0;
