@@ -89,8 +89,8 @@ describe('pinned operator beyond the cached block', () => {
     if (real) raw.levels.phase = raw.levels.phase.map(() => 0);
     const spec = validateSpec(clean(raw));
     const model = buildModel(spec);
-    const basis = buildBasis(model);
-    const op = new PinnedOperator(model, basis as never);
+    const basis = ofKind(buildBasis(model), 'pinned');
+    const op = new PinnedOperator(model, basis);
     expect(op.isComplex).toBe(!real);
     const c = op.isComplex ? 2 : 1;
     const length = c * op.dim;
@@ -106,7 +106,7 @@ describe('pinned operator beyond the cached block', () => {
     op.apply(xa, ya);
     expect(Array.from(ya)).toEqual(Array.from(plain));
 
-    const columns = new PinnedColumns(model, basis as never);
+    const columns = new PinnedColumns(model, basis);
     const buffer = columnBuffer(model);
     const expected = new Float64Array(length);
     let scale = 0;
