@@ -2,7 +2,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { analyseScan, analysisText, observableValue, type AnalysisInput, type ScanAnalysis } from '../src/transitions.js';
+import { analyseScan, analysisText, observableValue, type AnalysisInput } from '../src/transitions.js';
 import { fidelitySusceptibility, findPeak } from '../src/indicators.js';
 import { InputError } from '../src/errors.js';
 import type { PointRecord } from '../src/point.js';
@@ -165,7 +165,7 @@ describe('summary of a scan: indicator peaks and finite-size fits', () => {
 
   it('--analysis --csv: one row per peak and per fit, the same numbers as --analysis --json', () => {
     const args = ['summary', run, '--analysis', '--power', '2', '--fit', 'E0/L'];
-    const analysis: ScanAnalysis = JSON.parse(runCli([...args, '--json']).stdout);
+    const analysis: ReturnType<typeof analyseScan> = JSON.parse(runCli([...args, '--json']).stdout);
     const r = runCli([...args, '--csv']);
     expect(r.code, r.stderr).toBe(0);
     // Plain RFC 4180 without quoted fields here: split on commas (common practice).
