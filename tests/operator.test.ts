@@ -6,6 +6,7 @@ import { columnBuffer, PinnedColumns } from '../src/operator/pinnedRows.js';
 import { VectorArena } from '../src/simd.js';
 import { validateSpec } from '../src/spec.js';
 import { densePinnedHamiltonian } from './support/reference.js';
+import { ofKind } from './support/narrow.js';
 import { clean, randomPinnedSpec, rng } from './support/random.js';
 
 // The on-the-fly kernel against a plain element-by-element dense build of docs/model.md's Hamiltonian
@@ -24,7 +25,7 @@ describe('pinned operator', () => {
     it(`matches the dense reference product (seed ${seed}, L=${L}, N=${N})`, () => {
       const spec = validateSpec(clean(randomPinnedSpec(seed, L, N)));
       const model = buildModel(spec);
-      const basis = buildBasis(model);
+      const basis = ofKind(buildBasis(model), 'pinned');
       const op = new PinnedOperator(model, basis);
       const ref = densePinnedHamiltonian(spec);
       const dim = basis.dim;
@@ -63,7 +64,7 @@ describe('pinned operator', () => {
   it('counts the nonzeros a stored matrix would hold', () => {
     const spec = validateSpec(clean(randomPinnedSpec(11, 4, 3)));
     const model = buildModel(spec);
-    const basis = buildBasis(model);
+    const basis = ofKind(buildBasis(model), 'pinned');
     const op = new PinnedOperator(model, basis);
     const ref = densePinnedHamiltonian(spec);
     let nz = 0;
@@ -88,8 +89,8 @@ describe('pinned operator beyond the cached block', () => {
     if (real) raw.levels.phase = raw.levels.phase.map(() => 0);
     const spec = validateSpec(clean(raw));
     const model = buildModel(spec);
-    const basis = buildBasis(model);
-    const op = new PinnedOperator(model, basis as never);
+    const basis = ofKind(buildBasis(model), 'pinned');
+    const op = new PinnedOperator(model, basis);
     expect(op.isComplex).toBe(!real);
     const c = op.isComplex ? 2 : 1;
     const length = c * op.dim;
@@ -105,7 +106,7 @@ describe('pinned operator beyond the cached block', () => {
     op.apply(xa, ya);
     expect(Array.from(ya)).toEqual(Array.from(plain));
 
-    const columns = new PinnedColumns(model, basis as never);
+    const columns = new PinnedColumns(model, basis);
     const buffer = columnBuffer(model);
     const expected = new Float64Array(length);
     let scale = 0;

@@ -6,6 +6,7 @@ import { PinnedOperator } from '../src/operator/pinned.js';
 import { ProductTeam, withThreads } from '../src/parallel.js';
 import { VectorArena } from '../src/simd.js';
 import { validateSpec } from '../src/spec.js';
+import { ofKind } from './support/narrow.js';
 import { clean, randomPinnedSpec, rng } from './support/random.js';
 
 // Splitting a product by rows must not change it: every slice is computed from the same formula,
@@ -19,8 +20,8 @@ function randomVector(length: number, seed: number): Float64Array {
 function pinnedProduct(seed: number, L: number, N: number) {
   const spec = validateSpec(clean(randomPinnedSpec(seed, L, N)));
   const model = buildModel(spec);
-  const basis = buildBasis(model);
-  const op = new PinnedOperator(model, basis as never);
+  const basis = ofKind(buildBasis(model), 'pinned');
+  const op = new PinnedOperator(model, basis);
   const c = op.isComplex ? 2 : 1;
   const x = randomVector(c * op.dim, seed);
   const product = new Float64Array(c * op.dim);
@@ -48,7 +49,7 @@ describe('products split by rows', () => {
       [72, 7, 3],
     ]) {
       const { op, c, x, product: one, model, basis } = pinnedProduct(seed, L, N);
-      const threaded = withThreads(op, 2, model, basis as never);
+      const threaded = withThreads(op, 2, model, basis);
       const two = new Float64Array(c * op.dim);
       threaded.apply(x, two);
       threaded.apply(x, two); // a second product reuses the same workers
@@ -86,7 +87,7 @@ describe('products split by rows', () => {
   it('vectors kept in the threads\' arena are multiplied in place, with the same bits', () => {
     // pinned: the threads' own arena
     const { op, c, x, product: one, model, basis } = pinnedProduct(73, 8, 3);
-    const threaded = withThreads(op, 2, model, basis as never) as ReturnType<typeof withThreads> & { arena: VectorArena | null };
+    const threaded = withThreads(op, 2, model, basis) as ReturnType<typeof withThreads> & { arena: VectorArena | null };
     expect(threaded.arena).not.toBeNull();
     const xa = threaded.arena!.vector(c * op.dim);
     const ya = threaded.arena!.vector(c * op.dim);
@@ -151,7 +152,7 @@ describe('products split by rows', () => {
         const x = randomVector(length, 40 + k);
         const one = new Float64Array(length);
         op.apply(x, one);
-        const threaded = withThreads(op, 2, model, basis as never, team);
+        const threaded = withThreads(op, 2, model, basis, team);
         const two = new Float64Array(length);
         threaded.apply(x, two);
         threaded.apply(x, two);

@@ -12,7 +12,7 @@ function record(gap: number): PointRecord {
     gap,
     observables: { populations: [[1, 0], [1, 0]], level_mean: [0, 0], spread: [0, 0], string_width: 0, pair_separation: [[0, 0], [0, 0]] },
     basis: { kind: 'pinned', dimension: 4, sites: 2, levels: 2, operator: 'on-the-fly', nonzeros: 0 },
-    solver: { method: 'dense', iterations: 1, restarts: 0, residuals: [0, 0], converged: true, tolerance: 1e-9, degeneracy: 1, seconds: 0, memory_estimate_bytes: 0 },
+    solver: { method: 'dense', iterations: 1, restarts: 0, residuals: [0, 0], converged: true, tolerance: 1e-9, degeneracy: 1, degeneracy_complete: true, seconds: 0, memory_estimate_bytes: 0 },
   };
 }
 

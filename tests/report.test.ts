@@ -208,7 +208,7 @@ function syntheticRecord(x: number, a: number, sites: number): PointRecord {
       pair_separation: Array.from({ length: sites }, () => Array.from({ length: sites }, () => 0.5)),
     },
     basis: { kind: 'pinned', dimension: 2 ** sites, sites, levels: 2, operator: 'on-the-fly', nonzeros: 0 },
-    solver: { method: 'lanczos', iterations: 10, restarts: 0, residuals: [0, 0], converged: true, tolerance: 1e-9, degeneracy: 1, seconds: 0, memory_estimate_bytes: 0 },
+    solver: { method: 'lanczos', iterations: 10, restarts: 0, residuals: [0, 0], converged: true, tolerance: 1e-9, degeneracy: 1, degeneracy_complete: true, seconds: 0, memory_estimate_bytes: 0 },
   };
 }
 

@@ -6,11 +6,12 @@ import { solveInSectors } from '../src/sectorSolve.js';
 import { validateSpec } from '../src/spec.js';
 import { detectSymmetries, type SymmetryName } from '../src/symmetry.js';
 import { densePinnedHamiltonian, denseSpectrum } from './support/reference.js';
+import { entanglementOf, ofKind } from './support/narrow.js';
 import { clean, randomPinnedSpec, rng } from './support/random.js';
 
 function usedFrom(spec: ReturnType<typeof validateSpec>) {
   const model = buildModel(spec);
-  const basis = buildBasis(model);
+  const basis = ofKind(buildBasis(model), 'pinned');
   const checks = detectSymmetries(model, basis);
   const used = Object.fromEntries(checks.map((c) => [c.name, c.present])) as Record<SymmetryName, boolean>;
   return { model, basis, used };
@@ -147,8 +148,7 @@ describe('states found one at a time within a sector', () => {
   // the full-space one (the full-space solve is checked against ml-matrix's dense eigensolver in
   // tests/point.test.ts), with residuals measured against H itself.
   it.each([71, 72, 73])('random periodic L=9 N=3, seed %i: the 5 lowest states equal the full-space solve', (seed) => {
-    const raw = clean({ ...randomPinnedSpec(seed, 9, 3), chain: { sites: 9, boundary: 'periodic' } });
-    raw.solve = { states: 5, tolerance: 1e-10, entanglement: 'none' };
+    const raw = clean({ ...randomPinnedSpec(seed, 9, 3), chain: { sites: 9, boundary: 'periodic' }, solve: { states: 5, tolerance: 1e-10, entanglement: 'none' } });
     const inSectors = solvePoint(validateSpec(raw)).record;
     const full = solvePoint(validateSpec({ ...raw, solve: { ...raw.solve, symmetries: 'none' } })).record;
     inSectors.energies.forEach((e, k) => expect(e).toBeCloseTo(full.energies[k], 9));
@@ -211,8 +211,7 @@ describe('sector solves through solvePoint', () => {
   // plain dense build (tests/point.test.ts); a symmetry-adapted basis must not change physics
   // (common practice).
   it('observables and energies agree with the full-space solve', () => {
-    const raw = clean({ ...randomPinnedSpec(51, 7, 3), chain: { sites: 7, boundary: 'periodic' } });
-    raw.solve = { states: 3, tolerance: 1e-10 };
+    const raw = clean({ ...randomPinnedSpec(51, 7, 3), chain: { sites: 7, boundary: 'periodic' }, solve: { states: 3, tolerance: 1e-10 } });
     const inSectors = solvePoint(validateSpec(raw)).record;
     const full = solvePoint(validateSpec({ ...raw, solve: { ...raw.solve, symmetries: 'none' } })).record;
     expect(inSectors.sectors).toHaveLength(3);
@@ -240,15 +239,14 @@ describe('sector solves through solvePoint', () => {
     expect(inSectors.solver.degeneracy).toBe(2);
     expect(full.solver.degeneracy).toBe(2);
     expect(new Set(inSectors.sectors!.slice(0, 2).map((l) => l.momentum))).toEqual(new Set([1, 4]));
-    const [a, b] = [inSectors.observables.entanglement![0], full.observables.entanglement![0]];
+    const [a, b] = [entanglementOf(inSectors.observables)[0], entanglementOf(full.observables)[0]];
     expect(a.von_neumann).toBeCloseTo(b.von_neumann, 8);
     expect(a.renyi_2).toBeCloseTo(b.renyi_2, 8);
     a.spectrum.forEach((x, k) => expect(x).toBeCloseTo(b.spectrum[k], 7));
   });
 
   it('a warm start from the full-space ground state is projected into the sectors', () => {
-    const raw = clean({ ...randomPinnedSpec(52, 8, 3), chain: { sites: 8, boundary: 'periodic' } });
-    raw.solve = { states: 1, tolerance: 1e-10 };
+    const raw = clean({ ...randomPinnedSpec(52, 8, 3), chain: { sites: 8, boundary: 'periodic' }, solve: { states: 1, tolerance: 1e-10 } });
     const cold = solvePoint(validateSpec(raw));
     const warm = solvePoint(validateSpec(raw), { initial: cold.groundStates[0] });
     expect(warm.record.energies[0]).toBeCloseTo(cold.record.energies[0], 10);

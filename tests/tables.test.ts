@@ -26,7 +26,7 @@ function record(): PointRecord {
       pair_separation: [],
     },
     basis: { kind: 'pinned', dimension: 4, sites: 2, levels: 2, operator: 'stored', nonzeros: 8 },
-    solver: { method: 'lanczos', iterations: 1, restarts: 0, residuals: [0, 5.5e-15, 1.1e-14], converged: true, tolerance: 1e-9, degeneracy: 2, seconds: 0.01, memory_estimate_bytes: 0 },
+    solver: { method: 'lanczos', iterations: 1, restarts: 0, residuals: [0, 5.5e-15, 1.1e-14], converged: true, tolerance: 1e-9, degeneracy: 2, degeneracy_complete: true, seconds: 0.01, memory_estimate_bytes: 0 },
     sectors: [
       { momentum: 0, k: 0, parity: 1, level_flip: null, charge: 1 },
       { momentum: 1, k: Math.PI, parity: -1, level_flip: null, charge: 1 },

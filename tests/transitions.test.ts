@@ -22,7 +22,7 @@ function record(sites: number, e0: number, width: number, extra: Record<string, 
       ...extra,
     },
     basis: { kind: 'pinned', dimension: 2 ** sites, sites, levels: 2, operator: 'on-the-fly', nonzeros: 0 },
-    solver: { method: 'dense', iterations: 1, restarts: 0, residuals: [0, 0], converged: true, tolerance: 1e-9, degeneracy: 1, seconds: 0, memory_estimate_bytes: 0 },
+    solver: { method: 'dense', iterations: 1, restarts: 0, residuals: [0, 0], converged: true, tolerance: 1e-9, degeneracy: 1, degeneracy_complete: true, seconds: 0, memory_estimate_bytes: 0 },
   };
 }
 
@@ -165,7 +165,7 @@ describe('summary of a scan: indicator peaks and finite-size fits', () => {
 
   it('--analysis --csv: one row per peak and per fit, the same numbers as --analysis --json', () => {
     const args = ['summary', run, '--analysis', '--power', '2', '--fit', 'E0/L'];
-    const analysis = JSON.parse(runCli([...args, '--json']).stdout);
+    const analysis: ReturnType<typeof analyseScan> = JSON.parse(runCli([...args, '--json']).stdout);
     const r = runCli([...args, '--csv']);
     expect(r.code, r.stderr).toBe(0);
     // Plain RFC 4180 without quoted fields here: split on commas (common practice).
@@ -173,9 +173,9 @@ describe('summary of a scan: indicator peaks and finite-size fits', () => {
     expect(header.slice(0, 4)).toEqual(['kind', 'chain.sites', 'levels.tunnelling', 'name']);
     const rows = lines.map((cells) => Object.fromEntries(header.map((h, k) => [h, cells[k]])));
     const peaks = rows.filter((row) => row.kind === 'peak');
-    const expectedPeaks = analysis.lines.flatMap((l: any) => l.indicators.filter((i: any) => i.peak).map((i: any) => ({ sites: l.fixed['chain.sites'], name: i.name, peak: i.peak })));
+    const expectedPeaks = analysis.lines.flatMap((l) => l.indicators.flatMap((i) => (i.peak ? [{ sites: l.fixed['chain.sites'], name: i.name, peak: i.peak }] : [])));
     expect(peaks).toHaveLength(expectedPeaks.length);
-    expectedPeaks.forEach((e: any, k: number) => {
+    expectedPeaks.forEach((e, k) => {
       expect(Number(peaks[k]['chain.sites'])).toBe(e.sites);
       expect(peaks[k].name).toBe(e.name);
       expect(Number(peaks[k].position)).toBe(e.peak.position);
@@ -183,11 +183,11 @@ describe('summary of a scan: indicator peaks and finite-size fits', () => {
       expect(peaks[k].refined).toBe(String(e.peak.refined));
     });
     const peakFits = rows.filter((row) => row.kind === 'peak_fit');
-    expect(peakFits.map((row) => Number(row.extrapolated))).toEqual(analysis.peak_fits.map((f: any) => f.fit.extrapolated));
+    expect(peakFits.map((row) => Number(row.extrapolated))).toEqual(analysis.peak_fits.map((f) => f.fit.extrapolated));
     const observableFits = rows.filter((row) => row.kind === 'observable_fit');
     expect(observableFits).toHaveLength(analysis.observable_fits.length);
     expect(observableFits[0].sizes).toBe(SIZES.join(';'));
-    expect(observableFits.map((row) => Number(row['levels.tunnelling']))).toEqual(analysis.observable_fits.map((f: any) => f.fixed['levels.tunnelling']));
+    expect(observableFits.map((row) => Number(row['levels.tunnelling']))).toEqual(analysis.observable_fits.map((f) => f.fixed['levels.tunnelling']));
   });
 
   it('prints them after the table', () => {

@@ -3,7 +3,6 @@ import { describe, expect, it } from 'vitest';
 import { BLOCK, plainKernels, VectorKernels } from '../../src/solver/kernels.js';
 import { VectorArena } from '../../src/simd.js';
 import { rng } from '../support/random.js';
-// @ts-expect-error plain ESM helper without type declarations
 import { compiledVectorKernels, generatedSource, GENERATED_PATH } from '../support/wat.mjs';
 
 // The SIMD kernels compute textbook sums (dot products, linear combinations); the reference is the

@@ -7,6 +7,7 @@ import { lowestEigenpairs } from '../../src/solver.js';
 import { BLOCK, plainKernels, VectorKernels } from '../../src/solver/kernels.js';
 import { KernelTeam } from '../../src/solver/team.js';
 import { validateSpec } from '../../src/spec.js';
+import { ofKind } from '../support/narrow.js';
 import { clean, randomPinnedSpec, rng } from '../support/random.js';
 
 // Splitting a sum over entries between threads and adding the partial sums changes only the order
@@ -24,7 +25,7 @@ function realPinnedOperator(seed: number): PinnedOperator {
   const raw = randomPinnedSpec(seed, 11, 3);
   raw.levels.phase = raw.levels.phase.map(() => 0);
   const model = buildModel(validateSpec(clean(raw)));
-  return new PinnedOperator(model, buildBasis(model) as never);
+  return new PinnedOperator(model, ofKind(buildBasis(model), 'pinned'));
 }
 
 describe('vector kernels on two threads', () => {
