@@ -1,0 +1,185 @@
+// Level crossings against an exactly solvable case: the XX ring.
+//
+// A pinned periodic chain of 2-level molecules with no microwave tunnelling and exchange V is
+//   H = V sum_i (s+_i s-_{i+1} + h.c.) + Delta sum_i n_i,  n_i in {0, 1},
+// with the total level charge q = sum_i n_i conserved. The Jordan-Wigner map makes it free fermions
+// hopping with amplitude V; the ring's closing bond picks up (-1)^(q-1), so the fermions see a
+// periodic ring for odd q and an antiperiodic one for even q (Lieb, Schultz and Mattis, Ann. Phys.
+// 16, 407 (1961)). The lowest energy with charge q is the sum of the q lowest 2V cos k + Delta, k in
+// 2 pi m / L (q odd) or 2 pi (m + 1/2) / L (q even), exactly linear in Delta; the ground charge
+// steps where two sectors' lines meet on their lower envelope. The closed form is checked against
+// ml-matrix's dense eigensolver first.
+
+import { beforeAll, describe, expect, it } from 'vitest';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { gapAboveGround } from '../src/point.js';
+import type { analyseScan } from '../src/transitions.js';
+import { runCli } from './support/cli.js';
+
+type Analysis = ReturnType<typeof analyseScan>;
+
+/** Lowest energy with charge q at Delta = 0 (free fermions, parity-dependent boundary twist). */
+function closedFormSectorEnergy(L: number, V: number, q: number): number {
+  const shift = q % 2 === 1 ? 0 : 0.5;
+  const eps = Array.from({ length: L }, (_, m) => 2 * V * Math.cos((2 * Math.PI * (m + shift)) / L)).sort((a, b) => a - b);
+  return eps.slice(0, q).reduce((s, e) => s + e, 0);
+}
+
+/** Where the ground charge changes, from the lower envelope of E(q) + q Delta, in ascending Delta. */
+function closedFormCrossings(L: number, V: number): { position: number; from: number; to: number }[] {
+  const S = Array.from({ length: L + 1 }, (_, q) => closedFormSectorEnergy(L, V, q));
+  // At Delta -> -inf the ground is q = L; walk up in Delta, always to the next line to meet.
+  const out = [];
+  let q = L;
+  let at = -Infinity;
+  while (q > 0) {
+    let best: { r: number; d: number } | null = null;
+    for (let r = 0; r < q; r++) {
+      const d = (S[r] - S[q]) / (q - r); // S[q] + q d = S[r] + r d
+      if (d > at && (!best || d < best.d - 1e-12 || (Math.abs(d - best.d) <= 1e-12 && r < best.r))) best = { r, d };
+    }
+    out.push({ position: best!.d, from: q, to: best!.r });
+    at = best!.d;
+    q = best!.r;
+  }
+  return out;
+}
+
+/** The charge-q block of the XX ring at Delta = 0 (bit i of a state = level of site i), built directly. */
+function denseSectorGround(L: number, V: number, q: number): number {
+  const states = [];
+  for (let s = 0; s < 1 << L; s++) if (popcount(s) === q) states.push(s);
+  const index = new Map(states.map((s, k) => [s, k]));
+  const H = Matrix.zeros(states.length, states.length);
+  for (const [k, s] of states.entries()) {
+    for (let i = 0; i < L; i++) {
+      const j = (i + 1) % L;
+      // s+_i s-_j + s-_i s+_j swaps the levels of i and j when they differ.
+      if (((s >> i) & 1) !== ((s >> j) & 1)) H.set(index.get(s ^ (1 << i) ^ (1 << j))!, k, V);
+    }
+  }
+  if (states.length === 1) return H.get(0, 0);
+  return Math.min(...new EigenvalueDecomposition(H, { assumeSymmetric: true }).realEigenvalues);
+}
+
+function popcount(s: number): number {
+  let c = 0;
+  for (; s; s &= s - 1) c++;
+  return c;
+}
+
+const L = 6;
+const V = 1;
+
+describe('the XX ring in closed form', () => {
+  it('matches a dense diagonalization of every charge sector', () => {
+    for (const size of [3, 4, 5, 6]) {
+      for (let q = 0; q <= size; q++) expect(closedFormSectorEnergy(size, V, q)).toBeCloseTo(denseSectorGround(size, V, q), 10);
+    }
+  });
+
+  it('has its ground charge step once per unit at L = 6, symmetric about Delta = 0', () => {
+    const c = closedFormCrossings(L, V);
+    expect(c.map((x) => [x.from, x.to])).toEqual([[6, 5], [5, 4], [4, 3], [3, 2], [2, 1], [1, 0]]);
+    for (let k = 0; k < c.length; k++) expect(c[k].position).toBeCloseTo(-c[c.length - 1 - k].position, 12);
+  });
+});
+
+const SPEC = (sites: number, boundary: string, from: number, to: number, steps: number) => `
+[chain]
+sites = ${sites}
+boundary = "${boundary}"
+[levels]
+count = 2
+tunnelling = 0
+detuning = [0, 0]
+[exchange]
+strength = ${V}
+[solve]
+states = 2
+[[scan.axis]]
+key = "levels.detuning[1]"
+from = ${from}
+to = ${to}
+steps = ${steps}
+`;
+
+function scanAnalysis(name: string, spec: string): Analysis {
+  const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-crossings-'));
+  writeFileSync(path.join(dir, `${name}.toml`), spec);
+  const run = path.join(dir, 'run');
+  const r = runCli(['scan', path.join(dir, `${name}.toml`), '--out', run, '--workers', '1', '--quiet']);
+  expect(r.code, r.stderr).toBe(0);
+  const a = runCli(['summary', run, '--analysis', '--json']);
+  expect(a.code, a.stderr).toBe(0);
+  return JSON.parse(a.stdout) as Analysis;
+}
+
+describe('crossings reported by summary --analysis --json', () => {
+  let ring: Analysis;
+  beforeAll(() => {
+    // Grid step 0.1 with no grid point on a crossing; the positions must come from the sector energies.
+    ring = scanAnalysis('xx-ring', SPEC(L, 'periodic', -2.95, 2.95, 60));
+  });
+
+  it('finds every charge step of the XX ring at the closed-form detuning to 1e-6, with both sectors', () => {
+    const expected = closedFormCrossings(L, V);
+    expect(ring.lines).toHaveLength(1);
+    const found = ring.lines[0].crossings;
+    expect(found).toHaveLength(expected.length);
+    for (let k = 0; k < expected.length; k++) {
+      expect(found[k].detected_by).toBe('sectors');
+      expect(found[k].interpolated).toBe(true);
+      expect(Math.abs(found[k].position - expected[k].position)).toBeLessThan(1e-6);
+      expect(found[k].from?.charge).toBe(expected[k].from);
+      expect(found[k].to?.charge).toBe(expected[k].to);
+      expect(found[k].between[0]).toBeLessThanOrEqual(found[k].position);
+      expect(found[k].between[1]).toBeGreaterThanOrEqual(found[k].position);
+    }
+  });
+
+  it('reports the indicators that sit on a crossing as crossings, not peaks', () => {
+    const indicators = ring.lines[0].indicators;
+    for (const name of ['gap', 'fidelity', 'curvature']) {
+      const ind = indicators.find((i) => i.name === name)!;
+      expect(ind.kind, name).toBe('crossing');
+      expect(ring.lines[0].crossings).toContainEqual(ind.crossing);
+    }
+    expect(indicators.find((i) => i.name === 'gap')!.uses).toBe('gap_above_ground');
+  });
+
+  it('does not call the fidelity across an exact crossing of two sites a flat curve (closed form: Delta = +-V)', () => {
+    // Open pair: q = 1 has -|V| + Delta, q = 0 has 0, q = 2 has 2 Delta (diagonalize the 2x2 block by hand).
+    const pair = scanAnalysis('pair', SPEC(2, 'open', -1.95, 1.95, 40));
+    const line = pair.lines[0];
+    expect(line.crossings.map((c) => c.position).every((p, k) => Math.abs(p - [-V, V][k]) < 1e-9)).toBe(true);
+    expect(line.crossings).toHaveLength(2);
+    const fidelity = line.indicators.find((i) => i.name === 'fidelity')!;
+    expect(fidelity.kind).toBe('crossing');
+    expect([-V, V]).toContain(Math.round(fidelity.crossing!.position * 1e9) / 1e9);
+  });
+});
+
+describe('gap above the ground level', () => {
+  it('skips copies of the ground level within the degeneracy window (definition)', () => {
+    expect(gapAboveGround([-1, -1 + 1e-12, -1 + 2e-12, 0.5], 1e-9)).toBeCloseTo(1.5, 12);
+    expect(gapAboveGround([-1, -1 + 1e-12], 1e-9)).toBeNull();
+    expect(gapAboveGround([-1, -0.25], 1e-9)).toBeCloseTo(0.75, 12);
+  });
+
+  it('is the distance to the next level on a 4-fold degenerate XX ring of 3 sites (closed form: 1)', () => {
+    // Delta = 0, L = 3: q = 1 and q = 2 both have -V twice (m = 1, 2), q = 0 and q = 3 have 0.
+    const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-gap-'));
+    const spec = SPEC(3, 'periodic', 0, 0, 1).replace(/\[\[scan\.axis\]\][\s\S]*$/, '').replace('states = 2', 'states = 6');
+    writeFileSync(path.join(dir, 'ring3.toml'), spec);
+    const r = runCli(['solve', path.join(dir, 'ring3.toml'), '--json']);
+    expect(r.code, r.stderr).toBe(0);
+    const record = JSON.parse(r.stdout) as { gap: number; gap_above_ground: number; energies: number[] };
+    expect(record.energies[0]).toBeCloseTo(closedFormSectorEnergy(3, V, 1), 9);
+    expect(Math.abs(record.gap)).toBeLessThan(1e-9);
+    expect(record.gap_above_ground).toBeCloseTo(0 - closedFormSectorEnergy(3, V, 1), 9);
+  });
+});
