@@ -11,12 +11,13 @@
 // ml-matrix's dense eigensolver first.
 
 import { beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { gapAboveGround } from '../src/point.js';
-import type { analyseScan } from '../src/transitions.js';
+import { analyseScan, analysisText, PEAK_FIT_CHI2_LIMIT, type AnalysisInput } from '../src/transitions.js';
+import type { PointRecord } from '../src/point.js';
 import { runCli } from './support/cli.js';
 
 type Analysis = ReturnType<typeof analyseScan>;
@@ -107,10 +108,12 @@ to = ${to}
 steps = ${steps}
 `;
 
+let lastRun = '';
+
 function scanAnalysis(name: string, spec: string): Analysis {
   const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-crossings-'));
   writeFileSync(path.join(dir, `${name}.toml`), spec);
-  const run = path.join(dir, 'run');
+  const run = (lastRun = path.join(dir, 'run'));
   const r = runCli(['scan', path.join(dir, `${name}.toml`), '--out', run, '--workers', '1', '--quiet']);
   expect(r.code, r.stderr).toBe(0);
   const a = runCli(['summary', run, '--analysis', '--json']);
@@ -120,9 +123,24 @@ function scanAnalysis(name: string, spec: string): Analysis {
 
 describe('crossings reported by summary --analysis --json', () => {
   let ring: Analysis;
+  let ringRun: string;
   beforeAll(() => {
     // Grid step 0.1 with no grid point on a crossing; the positions must come from the sector energies.
     ring = scanAnalysis('xx-ring', SPEC(L, 'periodic', -2.95, 2.95, 60));
+    ringRun = lastRun;
+  });
+
+  it('names the crossings in the text summary and draws the lowest level of each sector in the report', () => {
+    const text = runCli(['summary', ringRun, '--analysis']);
+    expect(text.stdout).toContain('level crossings along levels.detuning[1]');
+    expect(text.stdout).toContain('q=4 m=0 P=+ -> q=3');
+    const out = path.join(path.dirname(ringRun), 'report.html');
+    const r = runCli(['report', ringRun, '--out', out]);
+    expect(r.code, r.stderr).toBe(0);
+    const html = readFileSync(out, 'utf8');
+    expect(html).toContain('Sector levels');
+    expect(html).toContain('lowest level of each sector');
+    expect(html).toContain('level crossing at');
   });
 
   it('finds every charge step of the XX ring at the closed-form detuning to 1e-6, with both sectors', () => {
@@ -181,5 +199,43 @@ describe('gap above the ground level', () => {
     expect(record.energies[0]).toBeCloseTo(closedFormSectorEnergy(3, V, 1), 9);
     expect(Math.abs(record.gap)).toBeLessThan(1e-9);
     expect(record.gap_above_ground).toBeCloseTo(0 - closedFormSectorEnergy(3, V, 1), 9);
+  });
+});
+
+describe('finite-size fits of peak positions are flagged', () => {
+  // Gap minima at p(L) on the grid 0, 0.5, ..., 5: the gap is a parabola in x, so the refined minimum
+  // is p(L) exactly (a parabola through three points of a parabola is that parabola).
+  function input(position: (L: number) => number): AnalysisInput {
+    const xs = Array.from({ length: 11 }, (_, k) => k / 2);
+    const sizes = [4, 6, 8];
+    const record = (gap: number): PointRecord => ({
+      energies: [-1, -1 + gap],
+      gap,
+      observables: { populations: [], level_mean: [], spread: [], string_width: 0, pair_separation: [] },
+      basis: { kind: 'pinned', dimension: 4, sites: 2, levels: 2, operator: 'on-the-fly', nonzeros: 0 },
+      solver: { method: 'dense', iterations: 1, restarts: 0, residuals: [0, 0], converged: true, tolerance: 1e-9, degeneracy: 1, degeneracy_complete: true, seconds: 0, memory_estimate_bytes: 0 },
+    });
+    return {
+      axes: [{ key: 'chain.sites', values: sizes }, { key: 'exchange.strength', values: xs }],
+      zip: false,
+      points: sizes.flatMap((size, i) => xs.map((x, k) => ({ index: i * xs.length + k, params: { 'chain.sites': size, 'exchange.strength': x }, record: record((x - position(size)) ** 2 + 0.1), overlapPrevious: null }))),
+    };
+  }
+
+  it('an extrapolation beyond the end of the scan: positions 5.5 - 6/L go to 5.5 for a scan ending at 5', () => {
+    const analysis = analyseScan(input((L) => 5.5 - 6 / L));
+    const fit = analysis.peak_fits.find((f) => f.indicator === 'gap')!;
+    expect(fit.fit.extrapolated).toBeCloseTo(5.5, 9);
+    expect(fit.flags).toEqual(['outside_scan']);
+    expect(analysisText(analysis)).toContain('outside the scan');
+  });
+
+  it('a fit whose chi2/dof is far above the limit: positions 4, 2, 4 against 1/L (by hand, chi2/dof = 41)', () => {
+    const analysis = analyseScan(input((L) => (L === 6 ? 2 : 4)));
+    const fit = analysis.peak_fits.find((f) => f.indicator === 'gap')!;
+    expect(fit.fit.chi2 / fit.fit.dof).toBeCloseTo(41.1, 0);
+    expect(fit.fit.chi2 / fit.fit.dof).toBeGreaterThan(PEAK_FIT_CHI2_LIMIT);
+    expect(fit.flags).toEqual(['poor_fit']);
+    expect(analysisText(analysis)).toContain(`chi2/dof > ${PEAK_FIT_CHI2_LIMIT}`);
   });
 });
