@@ -400,7 +400,8 @@ export function analysisText(analysis: ScanAnalysis): string {
 
 /**
  * The analysis as one tidy CSV table, one row per result: `kind` is `peak` (an indicator's extremum
- * on one line), `peak_fit` (peak positions against 1/size^p) or `observable_fit`; the scanned axes
+ * on one line), `crossing` (a level crossing on one line; `refined` holds whether it is interpolated),
+ * `peak_fit` (peak positions against 1/size^p) or `observable_fit`; the scanned axes
  * hold the values a row is taken at (empty where the row spans the axis); the remaining columns are
  * empty where they do not apply. Coefficients, sizes and residuals are `;`-separated lists.
  */
@@ -423,6 +424,10 @@ export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string 
     'residuals',
     'chi2',
     'dof',
+    'indicator_kind',
+    'from',
+    'to',
+    'flags',
   ];
   const list = (values: number[]) => values.join(';');
   const rows: unknown[][] = [];
@@ -430,15 +435,19 @@ export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string 
     for (const indicator of line.indicators) {
       const p = indicator.peak;
       if (!p) continue;
-      rows.push(['peak', ...axisKeys.map((k) => line.fixed[k]), indicator.name, null, p.position, p.value, p.uncertainty, p.at_edge, p.refined, ...new Array(8).fill(null)]);
+      const c = indicator.kind === 'crossing' ? indicator.crossing : undefined;
+      rows.push(['peak', ...axisKeys.map((k) => line.fixed[k]), indicator.name, null, p.position, p.value, p.uncertainty, p.at_edge, p.refined, ...new Array(8).fill(null), indicator.kind, c ? sectorText(c.from) : null, c ? sectorText(c.to) : null, null]);
+    }
+    for (const c of line.crossings) {
+      rows.push(['crossing', ...axisKeys.map((k) => line.fixed[k]), c.detected_by, null, c.position, null, null, null, c.interpolated, ...new Array(8).fill(null), null, sectorText(c.from), sectorText(c.to), null]);
     }
   }
   const fitCells = (fit: FitResult) => [fit.extrapolated, fit.extrapolated_error, fit.bounded, list(fit.coefficients), list(fit.sizes), list(fit.residuals), fit.chi2, fit.dof];
   for (const f of analysis.peak_fits) {
-    rows.push(['peak_fit', ...axisKeys.map((k) => f.fixed[k]), f.indicator, f.size, null, null, null, null, null, ...fitCells(f.fit)]);
+    rows.push(['peak_fit', ...axisKeys.map((k) => f.fixed[k]), f.indicator, f.size, null, null, null, null, null, ...fitCells(f.fit), null, null, null, f.flags.join(';')]);
   }
   for (const f of analysis.observable_fits) {
-    rows.push(['observable_fit', ...axisKeys.map((k) => f.fixed[k]), f.observable, f.size, null, null, null, null, null, ...fitCells(f.fit)]);
+    rows.push(['observable_fit', ...axisKeys.map((k) => f.fixed[k]), f.observable, f.size, null, null, null, null, null, ...fitCells(f.fit), null, null, null, null]);
   }
   return csv(header, rows);
 }

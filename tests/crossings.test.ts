@@ -134,6 +134,12 @@ describe('crossings reported by summary --analysis --json', () => {
     const text = runCli(['summary', ringRun, '--analysis']);
     expect(text.stdout).toContain('level crossings along levels.detuning[1]');
     expect(text.stdout).toContain('q=4 m=0 P=+ -> q=3');
+    // The CSV has one row per crossing, with the same positions (plain RFC 4180, no quoted fields here).
+    const csv = runCli(['summary', ringRun, '--analysis', '--csv']);
+    const [header, ...rows] = csv.stdout.trim().split('\n').map((l) => l.split(','));
+    const crossingRows = rows.filter((r) => r[0] === 'crossing').map((r) => Object.fromEntries(header.map((h, k) => [h, r[k]])));
+    expect(crossingRows.map((r) => Number(r.position))).toEqual(ring.lines[0].crossings.map((c) => c.position));
+    expect(crossingRows[0].from).toBe('q=6 m=0 P=+');
     const out = path.join(path.dirname(ringRun), 'report.html');
     const r = runCli(['report', ringRun, '--out', out]);
     expect(r.code, r.stderr).toBe(0);
