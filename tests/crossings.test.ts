@@ -16,6 +16,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { gapAboveGround } from '../src/point.js';
+import { CROSSING_OVERLAP, detectCrossings } from '../src/crossings.js';
 import { analyseScan, analysisText, PEAK_FIT_CHI2_LIMIT, type AnalysisInput } from '../src/transitions.js';
 import type { PointRecord } from '../src/point.js';
 import { runCli } from './support/cli.js';
@@ -243,5 +244,38 @@ describe('finite-size fits of peak positions are flagged', () => {
     expect(fit.fit.chi2 / fit.fit.dof).toBeGreaterThan(PEAK_FIT_CHI2_LIMIT);
     expect(fit.flags).toEqual(['poor_fit']);
     expect(analysisText(analysis)).toContain(`chi2/dof > ${PEAK_FIT_CHI2_LIMIT}`);
+  });
+});
+
+describe('crossings from sector energies, line by line (elementary algebra)', () => {
+  const label = (charge: number) => ({ momentum: null, parity: null, level_flip: null, charge });
+  const point = (x: number, energies: number[], overlapPrevious: number | null = null) => ({
+    x,
+    sectors: energies.map((lowest, q) => ({ label: label(q), lowest })),
+    tolerance: 1e-9,
+    overlapPrevious,
+  });
+
+  it('follows the lower envelope through a sector that is above both ends but lowest in between', () => {
+    // A = 2t, B = 2 - 2t, C = 0.5 on t in [0, 1]: C takes over at t = 0.25 and hands over to B at t = 0.75.
+    const found = detectCrossings([point(0, [0, 2, 0.5]), point(1, [2, 0, 0.5])]);
+    expect(found.map((c) => [c.from?.charge, c.to?.charge])).toEqual([[0, 2], [2, 1]]);
+    expect(found[0].position).toBeCloseTo(0.25, 14);
+    expect(found[1].position).toBeCloseTo(0.75, 14);
+  });
+
+  it('counts a crossing on a grid point once, and copies of one level never', () => {
+    // A = -x, B = x - 2 meet at x = 1; D is a copy of A (level with it at every point).
+    const found = detectCrossings([point(0, [0, -2, 0]), point(1, [-1, -1, -1]), point(2, [-2, 0, -2])]);
+    expect(found).toHaveLength(1);
+    expect(found[0].position).toBe(1);
+    expect(found[0].from?.charge).toBe(1);
+  });
+
+  it('without sector energies, takes an overlap below CROSSING_OVERLAP as a crossing at the midpoint', () => {
+    const bare = (x: number, overlapPrevious: number | null) => ({ x, sectors: null, tolerance: 1e-9, overlapPrevious });
+    const found = detectCrossings([bare(0, null), bare(1, 0.9), bare(2, CROSSING_OVERLAP / 10), bare(3, 0.99)]);
+    expect(found).toHaveLength(1);
+    expect(found[0]).toMatchObject({ position: 1.5, between: [1, 2], interpolated: false, detected_by: 'overlap', from: null, to: null });
   });
 });
