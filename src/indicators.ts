@@ -4,11 +4,17 @@
 // points for second differences) and, when it has one, its peak: the position where a transition
 // on a finite chain most likely sits. Peak positions come with an uncertainty from the grid spacing.
 //
-//   gap              E1 - E0; a transition shows as a minimum
+//   gap              gap_above_ground (E1 - E0 for records without it); a transition shows as a minimum
 //   fidelity         chi_F per site = -2 ln F / (delta^2 L), F = |<psi(x)|psi(x + delta)>|
 //                    (Zanardi and Paunkovic, PRE 74, 031123 (2006); You, Li and Gu, PRE 76, 022101 (2007))
 //   curvature        -d2E0/dx2 per site (second-order transitions peak here)
 //   width_slope      d(string width)/dx; the steepest change is reported (peak of |slope|)
+//
+// A level crossing (see crossings.ts) is no smooth peak: an indicator whose extremum sits on a
+// crossing is of kind "crossing" and names it; the fidelity of a pair across a crossing is not a
+// susceptibility and is left out of its curve.
+
+import type { Crossing } from './crossings.js';
 
 export interface Peak {
   /** Best estimate of the extremum's position (vertex of a parabola through the grid extremum and its neighbours). */
@@ -38,9 +44,17 @@ export interface Indicator extends Curve {
   name: IndicatorName;
   /** Human-readable label for tables and plots. */
   label: string;
+  /** The record quantity the curve is built from (`gap_above_ground` or `gap` for the gap). */
+  uses: string;
   /** Which extremum marks the transition. */
   extremum: 'min' | 'max' | 'max_abs';
   peak: Peak | null;
+  /**
+   * "crossing": the extremum sits on a level crossing (`crossing` names it; `peak` is the smooth
+   * curve's own extremum away from it); "edge": at the end of the scan; "peak": a smooth extremum.
+   */
+  kind: 'crossing' | 'peak' | 'edge';
+  crossing?: Crossing;
 }
 
 /** Drops non-finite pairs and sorts by x (scans may run in any order, and failed points leave holes). */
@@ -165,6 +179,10 @@ export function slope(x: ArrayLike<number>, y: ArrayLike<number>): Curve {
 /** One line of a scan: points along one axis with the others held fixed. Arrays are parallel. */
 export interface ScanLine {
   x: number[];
+  /** Level crossings along the line (detectCrossings). */
+  crossings?: Crossing[];
+  /** Which quantity `gap` holds. */
+  gapUses?: 'gap_above_ground' | 'gap';
   sites: number;
   groundEnergy: (number | null)[];
   gap?: (number | null)[];
@@ -185,42 +203,108 @@ export function transitionIndicators(line: ScanLine): Indicator[] {
   order.sort((a, b) => line.x[a] - line.x[b]);
   const pick = <T>(values: T[] | undefined) => (values ? order.map((k) => values[k]) : undefined);
   const x = order.map((k) => line.x[k]);
+  const crossings = line.crossings ?? [];
   const out: Indicator[] = [];
-  const add = (name: IndicatorName, label: string, extremum: Indicator['extremum'], curve: Curve, lowerBound?: number) => {
-    if (curve.x.length === 0) return;
-    out.push({ name, label, extremum, ...curve, peak: findPeak(curve.x, curve.y, extremum, { lowerBound }) });
+  // `support` gives the grid interval each sample of the curve is computed from; `extra` are samples
+  // left out of the curve (pairs across a crossing) that still compete for the extremum.
+  const add = (
+    name: IndicatorName,
+    label: string,
+    uses: string,
+    extremum: Indicator['extremum'],
+    curve: Curve,
+    support: (k: number) => [number, number],
+    lowerBound?: number,
+    extra: { value: number; crossing: Crossing }[] = [],
+  ) => {
+    if (curve.x.length === 0 && extra.length === 0) return;
+    const peak = curve.x.length > 0 ? findPeak(curve.x, curve.y, extremum, { lowerBound }) : null;
+    const { kind, crossing } = classify(curve, extremum, support, crossings, extra, peak);
+    out.push({ name, label, uses, extremum, ...curve, peak, kind, ...(crossing ? { crossing } : {}) });
   };
+  const pointSupport = (c: Curve) => (k: number): [number, number] => [c.x[k], c.x[k]];
 
   const gap = pick(line.gap);
   // E1 >= E0: a gap is never negative.
-  if (gap) add('gap', 'gap E1 - E0', 'min', cleanCurve(x, gap), 0);
+  if (gap) {
+    const uses = line.gapUses ?? 'gap';
+    const curve = cleanCurve(x, gap);
+    add('gap', uses === 'gap' ? 'gap E1 - E0' : 'gap above the ground level', uses, 'min', curve, pointSupport(curve), 0);
+  }
 
   const overlaps = line.overlapPrevious;
   if (overlaps) {
     const degeneracy = pick(line.degeneracy);
     const pairs = [];
+    const across: { value: number; crossing: Crossing }[] = [];
     // The overlap belongs to a point and its predecessor in scan order; after sorting, use it only
     // when that predecessor is still the neighbour on the grid (the scan ran the line in order).
     for (let s = 1; s < order.length; s++) {
       const k = order[s];
       const previous = order[s - 1];
       const neighbourInScan = k - 1 === previous || k + 1 === previous;
+      // A crossing between them: the overlap measures a change of sector, not of one smooth state.
+      const crossing = crossings.find((c) => c.between[0] === x[s - 1] && c.between[1] === x[s]);
+      if (crossing) {
+        const overlap = neighbourInScan ? (k - 1 === previous ? overlaps[k] : overlaps[previous]) : null;
+        const F = typeof overlap === 'number' && Number.isFinite(overlap) ? Math.min(Math.abs(overlap), 1) : 0;
+        across.push({ value: (-2 * Math.log(F)) / ((x[s] - x[s - 1]) ** 2 * line.sites), crossing });
+        continue;
+      }
       const degeneracyChanges = degeneracy && (degeneracy[s] ?? 1) !== (degeneracy[s - 1] ?? 1);
       if (!neighbourInScan || degeneracyChanges) continue;
       // overlapPrevious[k] pairs k with k-1; if the line ran backwards, k-1 is the next point up.
       const overlap = k - 1 === previous ? overlaps[k] : overlaps[previous];
       pairs.push({ from: x[s - 1], to: x[s], overlap });
     }
-    add('fidelity', 'fidelity susceptibility per site', 'max', fidelitySusceptibility(pairs, line.sites));
+    const curve = fidelitySusceptibility(pairs, line.sites);
+    const half = (k: number): [number, number] => {
+      const gridIndex = x.findIndex((v) => v > curve.x[k]);
+      return gridIndex > 0 ? [x[gridIndex - 1], x[gridIndex]] : [curve.x[k], curve.x[k]];
+    };
+    add('fidelity', 'fidelity susceptibility per site', 'overlap_previous', 'max', curve, half, undefined, across);
   }
 
   const energy = cleanCurve(x, pick(line.groundEnergy) ?? []);
-  if (energy.x.length >= 3) add('curvature', '-d2E0/dx2 per site', 'max', negativeCurvature(energy.x, energy.y, line.sites));
+  if (energy.x.length >= 3) {
+    add('curvature', '-d2E0/dx2 per site', 'E0', 'max', negativeCurvature(energy.x, energy.y, line.sites), (k) => [energy.x[k], energy.x[k + 2]]);
+  }
 
   const width = pick(line.stringWidth);
   if (width) {
     const w = cleanCurve(x, width);
-    if (w.x.length >= 2) add('width_slope', 'slope of the string width', 'max_abs', slope(w.x, w.y));
+    if (w.x.length >= 2) add('width_slope', 'slope of the string width', 'string_width', 'max_abs', slope(w.x, w.y), (k) => [w.x[k], w.x[k + 1]]);
   }
   return out;
+}
+
+/**
+ * Whether an indicator's extremum is a crossing, the end of the scan or a smooth peak. The extremal
+ * sample is a crossing's when the grid interval it is computed from reaches across that crossing
+ * (for a sample at one grid point: the crossing lies next to it).
+ */
+function classify(
+  curve: Curve,
+  extremum: Indicator['extremum'],
+  support: (k: number) => [number, number],
+  crossings: Crossing[],
+  extra: { value: number; crossing: Crossing }[],
+  peak: Peak | null,
+): { kind: Indicator['kind']; crossing?: Crossing } {
+  const score = (v: number) => (extremum === 'min' ? -v : extremum === 'max_abs' ? Math.abs(v) : v);
+  let best = -1;
+  for (let k = 0; k < curve.y.length; k++) if (best < 0 || score(curve.y[k]) > score(curve.y[best])) best = k;
+  const strongestExtra = extra.reduce<(typeof extra)[number] | null>((b, e) => (!b || score(e.value) > score(b.value) ? e : b), null);
+  if (strongestExtra && (best < 0 || !(score(curve.y[best]) > score(strongestExtra.value)))) return { kind: 'crossing', crossing: strongestExtra.crossing };
+  if (best >= 0 && crossings.length > 0) {
+    const [lo, hi] = support(best);
+    const touches = (c: Crossing) => (lo === hi ? c.between[0] <= lo && lo <= c.between[1] : Math.max(lo, c.between[0]) < Math.min(hi, c.between[1]));
+    const near = crossings.filter(touches);
+    if (near.length > 0) {
+      const at = peak?.position ?? curve.x[best];
+      near.sort((a, b) => Math.abs(a.position - at) - Math.abs(b.position - at));
+      return { kind: 'crossing', crossing: near[0] };
+    }
+  }
+  return { kind: peak === null || peak.at_edge ? 'edge' : 'peak' };
 }

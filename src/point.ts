@@ -10,7 +10,7 @@ import { itinerantObservables } from './observables/itinerant.js';
 import { planFockOperator } from './operator/fock.js';
 import { cutsFor, pinnedEntanglement } from './entanglement.js';
 import { assertWithinMemory, defaultMemoryLimit, estimateSectorMemory, estimateSolveMemory, largestSector, pinnedColumnsPerState, type MemoryEstimate } from './resources.js';
-import { defaultKrylovSize, denseThresholdFor, GROUND_COPIES_CAP, lowestEigenpairs, type EigenResult } from './solver.js';
+import { defaultKrylovSize, degeneracyWindow, denseThresholdFor, GROUND_COPIES_CAP, lowestEigenpairs, type EigenResult } from './solver.js';
 import type { Spec } from './spec.js';
 import { detectSymmetries, planSectors, type SectorLabel, type SymmetryCheck, type SymmetryName } from './symmetry.js';
 import { solveInSectors, type SectorRun, type SectorSolveOptions } from './sectorSolve.js';
@@ -34,6 +34,8 @@ export interface PointPlan {
 export interface PointRecord {
   energies: number[];
   gap: number | null;
+  /** Distance from the ground level to the next distinct level (copies within the degeneracy window are the ground level); null when no higher level was solved. */
+  gap_above_ground?: number | null;
   observables: Observables;
   basis: { kind: string; dimension: number; sites: number; levels: number; operator: string; nonzeros: number };
   solver: {
@@ -209,6 +211,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   const record: PointRecord = {
     energies,
     gap: energies.length > 1 ? energies[1] - energies[0] : null,
+    gap_above_ground: gapAboveGround(energies, spec.solve.tolerance),
     observables,
     basis: {
       kind: plan.model.kind,
@@ -232,6 +235,18 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     },
   };
   return { record, groundStates: ground, eigen };
+}
+
+/**
+ * E - E0 for the lowest solved energy E above the ground level's degeneracy window (the window the
+ * solver counts copies of the ground level in), or null when every solved energy is a copy of E0.
+ */
+export function gapAboveGround(energies: ArrayLike<number>, tolerance: number): number | null {
+  if (energies.length === 0) return null;
+  const e0 = energies[0];
+  const window = degeneracyWindow(e0, tolerance);
+  for (let k = 1; k < energies.length; k++) if (energies[k] - e0 > window) return energies[k] - e0;
+  return null;
 }
 
 /**
@@ -282,6 +297,7 @@ function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, o
   const record: PointRecord = {
     energies,
     gap: energies.length > 1 ? energies[1] - energies[0] : null,
+    gap_above_ground: gapAboveGround(energies, spec.solve.tolerance),
     observables,
     basis: {
       kind: model.kind,

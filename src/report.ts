@@ -20,6 +20,7 @@ import { validateSpec } from './spec.js';
 import type { ScanRunSummary } from './summary.js';
 import { fmt } from './tables.js';
 import {
+  PEAK_FIT_CHI2_LIMIT,
   SIZE_AXES,
   analyseScan,
   analysisInputOf,
@@ -31,6 +32,8 @@ import {
 } from './transitions.js';
 import { labUnits } from './units.js';
 import type { Indicator } from './indicators.js';
+import { sectorKey, sectorText } from './crossings.js';
+import type { SectorLabel } from './symmetry.js';
 import type { FitResult } from './fits.js';
 
 export const MAX_SERIES = 10;
@@ -629,16 +632,17 @@ function cutNote(shown: number, total: number): string {
   return total > shown ? `<p class="note">first ${shown} of ${total} rows; \`rungchain summary RUN --analysis --json\` has them all</p>` : '';
 }
 
-function fitTable(allRows: { label: string; fit: FitResult }[], variable: string, valueUnit: string): string {
+function fitTable(allRows: { label: string; fit: FitResult; warnings?: string }[], variable: string, valueUnit: string): string {
   const rows = allRows.slice(0, MAX_TABLE_ROWS);
-  const head = `<tr><th>what</th><th>sizes ${esc(variable)}</th><th>extrapolated ${esc(variable)} → ∞${valueUnit ? ` [${esc(valueUnit)}]` : ''}</th><th>coefficients a₁…</th><th>residuals</th><th>χ²/dof</th></tr>`;
+  const warned = rows.some((r) => r.warnings !== undefined);
+  const head = `<tr><th>what</th><th>sizes ${esc(variable)}</th><th>extrapolated ${esc(variable)} → ∞${valueUnit ? ` [${esc(valueUnit)}]` : ''}</th><th>coefficients a₁…</th><th>residuals</th><th>χ²/dof</th>${warned ? '<th>warnings</th>' : ''}</tr>`;
   const body = rows
     .map(
-      ({ label, fit }) =>
+      ({ label, fit, warnings }) =>
         `<tr><td>${esc(label)}</td><td>${fit.sizes.join(', ')}</td><td>${esc(fmt(fit.extrapolated, 7))} ± ${fit.extrapolated_error === null ? '?' : esc(fmt(fit.extrapolated_error, 2))}</td><td>${fit.coefficients
           .slice(1)
           .map((c, k) => `${esc(fmt(c, 5))}${fit.errors[k + 1] !== null ? ` ± ${esc(fmt(fit.errors[k + 1]!, 2))}` : ''}`)
-          .join('; ')}</td><td>${fit.residuals.map((r) => esc(fmt(r, 2))).join(', ')}</td><td>${fit.dof > 0 ? esc(fmt(fit.chi2 / fit.dof, 3)) : '-'}</td></tr>`,
+          .join('; ')}</td><td>${fit.residuals.map((r) => esc(fmt(r, 2))).join(', ')}</td><td>${fit.dof > 0 ? esc(fmt(fit.chi2 / fit.dof, 3)) : '-'}</td>${warned ? `<td class="warn">${esc(warnings || '-')}</td>` : ''}</tr>`,
     )
     .join('');
   return `<table class="fits">${head}${body}</table>${cutNote(rows.length, allRows.length)}`;
@@ -773,6 +777,55 @@ export function renderReport(input: ReportInput): string {
     sections.push(section('spectrum', 'Low spectrum', plots, 'Excitation energies of the lowest states; level crossings and a closing gap show where the ground state changes character.'));
   }
 
+  // Lowest level of each symmetry sector: a crossing of the ground state shows as two sectors' lines meeting.
+  if (parameter && xAxis) {
+    const chosen = evenlyChosen(lines.filter((l) => l.points.some((p) => p.record.solver.sector_runs)), 4);
+    const plots = chosen.map((line, k) => {
+      const levels = new Map<string, { label: SectorLabel; y: number[]; above: number }>();
+      line.points.forEach((p, i) => {
+        for (const run of p.record.solver.sector_runs ?? []) {
+          const key = sectorKey(run.label);
+          let level = levels.get(key);
+          if (!level) levels.set(key, (level = { label: run.label, y: new Array<number>(line.points.length).fill(NaN), above: Infinity }));
+          level.y[i] = run.lowest;
+          level.above = Math.min(level.above, run.lowest - p.record.energies[0]);
+        }
+      });
+      // The sectors that come nearest the ground level (the ground sectors first), as many as a plot shows.
+      const shown = [...levels.values()].sort((a, b) => a.above - b.above).slice(0, MAX_SERIES);
+      const analysed = analysis.lines.find((l) => JSON.stringify(l.fixed) === JSON.stringify(line.fixed));
+      const e0At = (x: number) => {
+        const i = line.points.findIndex((p) => p.x >= x);
+        if (i <= 0) return line.points[Math.max(i, 0)].record.energies[0];
+        const a = line.points[i - 1];
+        const b = line.points[i];
+        const from = analysed?.crossings.find((c) => c.position === x)?.from;
+        const level = from ? levels.get(sectorKey(from)) : undefined;
+        // The crossing lies on the line of the sector it leaves.
+        const ya = level ? level.y[i - 1] : a.record.energies[0];
+        const yb = level ? level.y[i] : b.record.energies[0];
+        return ya + ((x - a.x) / (b.x - a.x)) * (yb - ya);
+      };
+      return renderLinePlot({
+        id: `sectors-${k}`,
+        title: `lowest level of each sector against ${xAxis.label}${lines.length > 1 ? ` (${lineName(line.fixed)})` : ''}`,
+        xLabel: axisTitle(xAxis),
+        yLabel: `E [${units.energy}]`,
+        series: shown.map((level) => ({ name: sectorText(level.label), x: line.points.map((p) => scaleX(p.x)), y: level.y.map((v) => v * units.energyScale) })),
+        marks: (analysed?.crossings ?? []).map((c) => ({
+          x: scaleX(c.position),
+          y: e0At(c.position) * units.energyScale,
+          xErr: 0,
+          label: `crossing at ${fmt(scaleX(c.position), 7)}: ${sectorText(c.from)} → ${sectorText(c.to)}${c.interpolated ? '' : ' (midpoint: no sector energies)'}`,
+          style: 0,
+          hollow: false,
+        })),
+        notes: levels.size > shown.length ? [`the ${shown.length} of ${levels.size} sectors that come nearest the ground level`] : [],
+      });
+    });
+    sections.push(section('sectors', 'Sector levels', plots, 'The lowest energy of each symmetry sector (q: level charge, m: momentum 2πm/L, P: reflection, F: level flip); where the ground state changes sector the lines cross, and diamonds mark the crossings, placed where the two lines meet between grid points.'));
+  }
+
   // Transition indicators.
   if (parameter && xAxis && analysis.lines.length > 0) {
     const kinds: Indicator['name'][] = ['gap', 'fidelity', 'curvature', 'width_slope'];
@@ -788,7 +841,21 @@ export function renderReport(input: ReportInput): string {
         return { name: lineName(l.fixed), x: ind.x.map(scaleX), y: ind.y.map((v) => v * yScale), style: k };
       });
       const marks = shownLines.flatMap((l, k) => {
-        const peak = l.indicators.find((i) => i.name === name)!.peak;
+        const ind = l.indicators.find((i) => i.name === name)!;
+        const peak = ind.peak;
+        if (ind.kind === 'crossing' && ind.crossing) {
+          const c = ind.crossing;
+          // On the curve's sample nearest the crossing (a curve across a crossing has no value at it).
+          const nearest = ind.x.reduce((best, v, i) => (Math.abs(v - c.position) < Math.abs(ind.x[best] - c.position) ? i : best), 0);
+          return [{
+            x: scaleX(c.position),
+            y: (ind.y[nearest] ?? 0) * yScale,
+            xErr: 0,
+            label: `${lineName(l.fixed)}: level crossing at ${fmt(scaleX(c.position), 7)} (${sectorText(c.from)} → ${sectorText(c.to)}), not a smooth ${first.extremum === 'min' ? 'minimum' : 'peak'}`,
+            style: k,
+            hollow: false,
+          }];
+        }
         if (!peak) return [];
         return [{
           x: scaleX(peak.position),
@@ -803,7 +870,7 @@ export function renderReport(input: ReportInput): string {
         id: `indicator-${name}`,
         title: `${first.label} against ${xAxis.label}`,
         xLabel: axisTitle(xAxis),
-        yLabel: unit ? `${INDICATOR_SHORT[name]} [${unit}]` : INDICATOR_SHORT[name],
+        yLabel: (name === 'gap' && first.uses === 'gap_above_ground' ? 'E(next level) − E₀' : INDICATOR_SHORT[name]) + (unit ? ` [${unit}]` : ''),
         series,
         marks,
         notes: marks.some((m) => m.hollow) ? ['hollow diamonds: the extremum is at the end of the scan, the peak may lie beyond it'] : [],
@@ -812,13 +879,15 @@ export function renderReport(input: ReportInput): string {
     const table = `<table class="peaks"><tr><th>line</th>${kinds.map((k) => `<th>${esc(k === 'gap' ? 'gap minimum' : k === 'fidelity' ? 'fidelity peak' : k === 'curvature' ? '−d²E₀/dx² peak' : 'steepest string width')}</th>`).join('')}</tr>${analysis.lines
       .slice(0, MAX_TABLE_ROWS)
       .map((l) => `<tr><td>${esc(lineName(l.fixed))}</td>${kinds.map((k) => {
-        const p = l.indicators.find((i) => i.name === k)?.peak;
+        const ind = l.indicators.find((i) => i.name === k);
+        const p = ind?.peak;
+        if (ind?.kind === 'crossing' && ind.crossing) return `<td>crossing at ${esc(fmt(scaleX(ind.crossing.position), 7))} (${esc(sectorText(ind.crossing.from))} → ${esc(sectorText(ind.crossing.to))})</td>`;
         return `<td>${p ? `${esc(fmt(scaleX(p.position), 5))} ± ${esc(fmt(p.uncertainty * xAxis.scale, 2))}${p.at_edge ? ' (edge)' : p.refined ? '' : ' (grid)'}` : '-'}</td>`;
       }).join('')}</tr>`)
       .join('')}</table>${cutNote(Math.min(MAX_TABLE_ROWS, analysis.lines.length), analysis.lines.length)}`;
     sections.push(
       section('indicators', 'Transition indicators', [...plots, `<div class="table-wrap">${table}</div>`],
-        `Diamonds mark each line's extremum (parabola through the extremal grid point and its neighbours), with a bar of ± half the grid spacing. Fidelity susceptibility per site χ_F = −2 ln F/(δ² L) from overlaps F of neighbouring ground states.`),
+        `Diamonds mark each line's extremum (parabola through the extremal grid point and its neighbours), with a bar of ± half the grid spacing. Fidelity susceptibility per site χ_F = −2 ln F/(δ² L) from overlaps F of neighbouring ground states, except across a level crossing, where the extremum is the crossing itself (marked and named in the table). The gap is the distance from the (possibly degenerate) ground level to the next level.`),
     );
   }
 
@@ -859,7 +928,7 @@ export function renderReport(input: ReportInput): string {
         }),
       );
       fitParts.push(
-        `<div class="table-wrap">${fitTable(fits.map((f) => ({ label: `${f.label}${Object.keys(f.fixed).length ? ` (${lineName(f.fixed)})` : ''}`, fit: f.fit })), v, xAxis.unit)}</div>`,
+        `<div class="table-wrap">${fitTable(fits.map((f) => ({ label: `${f.label}${Object.keys(f.fixed).length ? ` (${lineName(f.fixed)})` : ''}`, fit: f.fit, warnings: f.flags.map((w) => (w === 'outside_scan' ? 'extrapolated outside the scanned range' : `χ²/dof above ${PEAK_FIT_CHI2_LIMIT}`)).join(', ') })), v, xAxis.unit)}</div>`,
       );
     }
   }

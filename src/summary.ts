@@ -80,6 +80,7 @@ export function summaryJson(summary: ScanRunSummary): Record<string, unknown>[] 
     if (r.status === 'failed') out.error = r.error ?? 'unknown';
     out.energies = result ? result.energies : null;
     out.gap = result ? result.gap : null;
+    out.gap_above_ground = result ? (result.gap_above_ground ?? null) : null;
     out.observables = result ? result.observables : null;
     for (const name of scalars) out[name] = result ? ((result.observables[name] as number | undefined) ?? null) : null;
     out.dimension = result ? result.basis.dimension : null;

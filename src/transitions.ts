@@ -6,9 +6,10 @@
 // tests share it whatever the points were read from.
 
 import { InputError } from './errors.js';
+import { detectCrossings, sectorText, type Crossing, type CrossingPoint } from './crossings.js';
 import { finiteSizeFit, type FitResult } from './fits.js';
 import { transitionIndicators, type Indicator, type IndicatorName, type Peak } from './indicators.js';
-import type { PointRecord } from './point.js';
+import { gapAboveGround, type PointRecord } from './point.js';
 import type { ScanParams, ScanValue } from './scan.js';
 import type { ScanRunSummary } from './summary.js';
 import { columnScale, csv, fmt, fmtNoise, table } from './tables.js';
@@ -48,6 +49,8 @@ export interface LineAnalysis {
   fixed: ScanParams;
   sites: number | null;
   levels: number | null;
+  /** Level crossings along the line, in ascending order of the parameter. */
+  crossings: Crossing[];
   indicators: Indicator[];
 }
 
@@ -59,7 +62,21 @@ export interface PeakFit {
   /** Values of the axes other than the size and the parameter. */
   fixed: ScanParams;
   fit: FitResult;
+  /**
+   * Warnings about the fit: `outside_scan` when the extrapolated position lies outside the scanned
+   * range of the parameter (no point of the scan says anything there), `poor_fit` when chi2/dof
+   * exceeds PEAK_FIT_CHI2_LIMIT (the positions do not follow the fitted law within their uncertainties).
+   */
+  flags: ('outside_scan' | 'poor_fit')[];
 }
+
+/**
+ * chi2/dof above which a peak-position fit is flagged. The weights are the peaks' grid
+ * uncertainties, so a fit that describes the positions gives chi2/dof of order 1; 4 leaves room for
+ * the uncertainties being half-spacings rather than standard errors (common practice: well above 1
+ * means the law does not describe the data).
+ */
+export const PEAK_FIT_CHI2_LIMIT = 4;
 
 export interface ObservableFit {
   observable: string;
@@ -155,6 +172,22 @@ export function availableObservables(records: PointRecord[]): string[] {
   return [...names];
 }
 
+/**
+ * Crossings along one line (points in run order): solved points sorted by the parameter, with the
+ * overlap of a pair only when the scan ran them one after the other.
+ */
+function lineCrossings(group: AnalysisPoint[], parameter: string, overlaps: boolean): Crossing[] {
+  const solved = group.map((p, runIndex) => ({ p, runIndex, x: p.params[parameter] as number })).filter((e) => e.p.record !== null && Number.isFinite(e.x));
+  solved.sort((a, b) => a.x - b.x);
+  const points: CrossingPoint[] = solved.map((e, k) => {
+    const before = solved[k - 1];
+    const after = before && before.runIndex === e.runIndex - 1 ? e.p.overlapPrevious : before && before.runIndex === e.runIndex + 1 ? before.p.overlapPrevious : null;
+    const record = e.p.record!;
+    return { x: e.x, sectors: record.solver.sector_runs ?? null, tolerance: record.solver.tolerance, overlapPrevious: overlaps ? after : null };
+  });
+  return detectCrossings(points);
+}
+
 export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {}): ScanAnalysis {
   const power = options.power ?? 1;
   const terms = options.terms ?? 2;
@@ -189,18 +222,23 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
       const first = solved[0].record!;
       const sites = first.basis.sites;
       const constantSites = solved.every((p) => p.record!.basis.sites === sites);
+      const crossings = constantSites ? lineCrossings(group, parameter, overlaps) : [];
+      // Records written before gap_above_ground existed get it from their energies.
+      const gapUses = solved.every((p) => p.record!.energies.length > 0) ? ('gap_above_ground' as const) : ('gap' as const);
       const line = {
         x: group.map((p) => p.params[parameter!] as number),
         sites,
+        crossings,
+        gapUses,
         groundEnergy: group.map((p) => p.record?.energies[0] ?? null),
-        gap: group.map((p) => p.record?.gap ?? null),
+        gap: group.map((p) => (p.record ? (gapUses === 'gap' ? p.record.gap : (p.record.gap_above_ground ?? gapAboveGround(p.record.energies, p.record.solver.tolerance))) : null)),
         stringWidth: group.map((p) => p.record?.observables.string_width ?? null),
         degeneracy: group.map((p) => p.record?.solver.degeneracy ?? null),
         // A missing point breaks the chain of neighbours: its successor's overlap is with a point not on the grid.
         overlapPrevious: overlaps ? group.map((p, k) => (k > 0 && group[k - 1].record !== null ? p.overlapPrevious : null)) : undefined,
       };
       const indicators = constantSites ? transitionIndicators(line) : transitionIndicators({ ...line, overlapPrevious: undefined, groundEnergy: [] });
-      lines.push({ fixed: pick(group[0].params, others), sites: constantSites ? sites : null, levels: first.basis.levels, indicators });
+      lines.push({ fixed: pick(group[0].params, others), sites: constantSites ? sites : null, levels: first.basis.levels, crossings, indicators });
     }
     if (!overlaps && done.length > 0) notes.push(`fidelity susceptibility needs ${parameter} to be the innermost axis of the scan (the run records overlaps of neighbours along it)`);
   }
@@ -226,14 +264,18 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
         for (const name of names) {
           const usable = group
             .map((l) => ({ size: l.fixed[size] as number, indicator: l.indicators.find((i) => i.name === name) }))
-            .filter((u): u is { size: number; indicator: Indicator & { peak: Peak } } => u.indicator?.peak != null && !u.indicator.peak.at_edge);
+            .filter((u): u is { size: number; indicator: Indicator & { peak: Peak } } => u.indicator?.peak != null && u.indicator.kind === 'peak');
           if (new Set(usable.map((u) => u.size)).size < Math.max(2, terms)) continue;
           const fit = finiteSizeFit(
             usable.map((u) => u.size),
             usable.map((u) => u.indicator.peak.position),
             { power, terms, sigmas: usable.map((u) => u.indicator.peak.uncertainty) },
           );
-          peakFits.push({ indicator: name, label: usable[0].indicator.label, size, fixed: pick(group[0].fixed, fixedKeys), fit });
+          const range = input.axes.find((a) => a.key === parameter)!.values as number[];
+          const flags: PeakFit['flags'] = [];
+          if (fit.extrapolated < Math.min(...range) || fit.extrapolated > Math.max(...range)) flags.push('outside_scan');
+          if (fit.dof > 0 && fit.chi2 / fit.dof > PEAK_FIT_CHI2_LIMIT) flags.push('poor_fit');
+          peakFits.push({ indicator: name, label: usable[0].indicator.label, size, fixed: pick(group[0].fixed, fixedKeys), fit, flags });
         }
       }
     }
@@ -278,11 +320,18 @@ function showParams(params: ScanParams): string {
 }
 
 function showPeak(indicator: Indicator | undefined): string {
+  if (indicator?.kind === 'crossing' && indicator.crossing) return `crossing ${showCrossing(indicator.crossing, indicator.x)}`;
   const peak = indicator?.peak;
   if (!peak) return '-';
   // A position at rounding distance from 0 on the parameter's scale is 0.
   const position = fmtNoise(peak.position, columnScale(indicator.x), 5);
   return `${position} ± ${fmt(peak.uncertainty, 2)}${peak.at_edge ? ' *' : peak.refined ? '' : ' (grid)'}`;
+}
+
+function showCrossing(c: Crossing, x: number[]): string {
+  const position = fmtNoise(c.position, columnScale(x.length > 0 ? x : c.between), 7);
+  const sectors = c.from || c.to ? ` (${sectorText(c.from)} -> ${sectorText(c.to)})` : '';
+  return `${position}${c.interpolated ? '' : ' (midpoint)'}${sectors}`;
 }
 
 const INDICATOR_COLUMNS: { name: IndicatorName; title: string }[] = [
@@ -305,6 +354,14 @@ export function analysisText(analysis: ScanAnalysis): string {
         analysis.lines.map((l) => [showParams(l.fixed), ...present.map((c) => showPeak(l.indicators.find((i) => i.name === c.name)))]),
       ),
     );
+    const gapUses = analysis.lines.flatMap((l) => l.indicators.filter((i) => i.name === 'gap').map((i) => i.uses))[0];
+    if (gapUses) out.push(`gap min uses ${gapUses}${gapUses === 'gap_above_ground' ? ' (the next level above the degenerate ground level)' : ''}`);
+    const crossingRows = analysis.lines.flatMap((l) => l.crossings.map((c) => [showParams(l.fixed), showCrossing(c, []), `${fmt(c.between[0], 6)} .. ${fmt(c.between[1], 6)}`, c.detected_by]));
+    if (crossingRows.length > 0) {
+      out.push('');
+      out.push(`level crossings along ${analysis.parameter} (the ground state changes sector; position where the two sectors' lowest levels meet, linear between the grid points)`);
+      out.push(table(['line', 'crossing', 'between', 'detected by'], crossingRows));
+    }
   }
   const fitRows = (fit: FitResult) => [
     fit.sizes.join(','),
@@ -313,14 +370,15 @@ export function analysisText(analysis: ScanAnalysis): string {
     fit.residuals.map((r) => fmt(r, 2)).join(', '),
     fit.dof > 0 ? fmt(fit.chi2 / fit.dof, 3) : '-',
   ];
+  const flagText = (flags: PeakFit['flags']) => flags.map((f) => (f === 'outside_scan' ? 'outside the scan' : `chi2/dof > ${PEAK_FIT_CHI2_LIMIT}`)).join(', ') || '-';
   if (analysis.peak_fits.length > 0) {
     out.push('');
     const variable = SIZE_AXES[analysis.peak_fits[0].size];
     out.push(`finite-size fits of peak positions: position = a0 + a1 x${analysis.terms > 2 ? ' + a2 x^2 ...' : ''}, x = 1/size^${analysis.power}, weighted by the peak uncertainties`);
     out.push(
       table(
-        ['indicator', 'size', 'fixed', 'sizes', `extrapolated (${variable} -> inf)`, 'a1...', 'residuals', 'chi2/dof'],
-        analysis.peak_fits.map((f) => [f.label, SIZE_AXES[f.size], showParams(f.fixed), ...fitRows(f.fit)]),
+        ['indicator', 'size', 'fixed', 'sizes', `extrapolated (${variable} -> inf)`, 'a1...', 'residuals', 'chi2/dof', 'warnings'],
+        analysis.peak_fits.map((f) => [f.label, SIZE_AXES[f.size], showParams(f.fixed), ...fitRows(f.fit), flagText(f.flags)]),
       ),
     );
   }
@@ -342,7 +400,8 @@ export function analysisText(analysis: ScanAnalysis): string {
 
 /**
  * The analysis as one tidy CSV table, one row per result: `kind` is `peak` (an indicator's extremum
- * on one line), `peak_fit` (peak positions against 1/size^p) or `observable_fit`; the scanned axes
+ * on one line), `crossing` (a level crossing on one line; `refined` holds whether it is interpolated),
+ * `peak_fit` (peak positions against 1/size^p) or `observable_fit`; the scanned axes
  * hold the values a row is taken at (empty where the row spans the axis); the remaining columns are
  * empty where they do not apply. Coefficients, sizes and residuals are `;`-separated lists.
  */
@@ -365,6 +424,10 @@ export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string 
     'residuals',
     'chi2',
     'dof',
+    'indicator_kind',
+    'from',
+    'to',
+    'flags',
   ];
   const list = (values: number[]) => values.join(';');
   const rows: unknown[][] = [];
@@ -372,15 +435,19 @@ export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string 
     for (const indicator of line.indicators) {
       const p = indicator.peak;
       if (!p) continue;
-      rows.push(['peak', ...axisKeys.map((k) => line.fixed[k]), indicator.name, null, p.position, p.value, p.uncertainty, p.at_edge, p.refined, ...new Array(8).fill(null)]);
+      const c = indicator.kind === 'crossing' ? indicator.crossing : undefined;
+      rows.push(['peak', ...axisKeys.map((k) => line.fixed[k]), indicator.name, null, p.position, p.value, p.uncertainty, p.at_edge, p.refined, ...new Array(8).fill(null), indicator.kind, c ? sectorText(c.from) : null, c ? sectorText(c.to) : null, null]);
+    }
+    for (const c of line.crossings) {
+      rows.push(['crossing', ...axisKeys.map((k) => line.fixed[k]), c.detected_by, null, c.position, null, null, null, c.interpolated, ...new Array(8).fill(null), null, sectorText(c.from), sectorText(c.to), null]);
     }
   }
   const fitCells = (fit: FitResult) => [fit.extrapolated, fit.extrapolated_error, fit.bounded, list(fit.coefficients), list(fit.sizes), list(fit.residuals), fit.chi2, fit.dof];
   for (const f of analysis.peak_fits) {
-    rows.push(['peak_fit', ...axisKeys.map((k) => f.fixed[k]), f.indicator, f.size, null, null, null, null, null, ...fitCells(f.fit)]);
+    rows.push(['peak_fit', ...axisKeys.map((k) => f.fixed[k]), f.indicator, f.size, null, null, null, null, null, ...fitCells(f.fit), null, null, null, f.flags.join(';')]);
   }
   for (const f of analysis.observable_fits) {
-    rows.push(['observable_fit', ...axisKeys.map((k) => f.fixed[k]), f.observable, f.size, null, null, null, null, null, ...fitCells(f.fit)]);
+    rows.push(['observable_fit', ...axisKeys.map((k) => f.fixed[k]), f.observable, f.size, null, null, null, null, null, ...fitCells(f.fit), null, null, null, null]);
   }
   return csv(header, rows);
 }

@@ -3,9 +3,10 @@ import type { PointRecord } from '../src/point.js';
 import { renderReport } from '../src/report.js';
 import { analyseScan, type AnalysisInput } from '../src/transitions.js';
 
-// A gap that closes at a level crossing (a kink, |E1 - E0| >= 0 by ordering): the parabola through
-// (1, 0.3), (2, 0), (3, 0.05) dips to -0.125^2 / 0.7 < 0 (elementary algebra), so the report marks
-// the grid point and says so, and draws no negative gap.
+// A gap that nearly closes at an avoided crossing (a kink, |E1 - E0| >= 0 by ordering): the parabola
+// through (1, 0.3), (2, 0.001), (3, 0.05) dips to 0.001 - 0.125^2 / 0.696 < 0 (elementary algebra), so
+// the report marks the grid point and says so, and draws no negative gap. (A gap of exactly 0 would
+// be a doubly degenerate ground level, whose gap above the ground level these two energies do not give.)
 function record(gap: number): PointRecord {
   return {
     energies: [-1, -1 + gap],
@@ -19,7 +20,7 @@ function record(gap: number): PointRecord {
 describe('the report marks a peak that is the grid point', () => {
   it('a closing gap: "(grid)" in the peak table and the marker label, never a negative value', () => {
     const x = [0, 1, 2, 3, 4];
-    const gaps = [0.6, 0.3, 0, 0.05, 0.1];
+    const gaps = [0.6, 0.3, 0.001, 0.05, 0.1];
     const input: AnalysisInput = {
       axes: [{ key: 'exchange.strength', values: x }],
       zip: false,
@@ -27,7 +28,8 @@ describe('the report marks a peak that is the grid point', () => {
     };
     const analysis = analyseScan(input);
     const peak = analysis.lines[0].indicators.find((i) => i.name === 'gap')!.peak!;
-    expect(peak).toMatchObject({ position: 2, value: 0, refined: false });
+    expect(peak).toMatchObject({ position: 2, refined: false });
+    expect(peak.value).toBeCloseTo(0.001, 12);
     const html = renderReport({ ...input, title: 'crossing', about: [], analysis, energyUnitHz: null });
     expect(html).toContain('(grid)');
     expect(html).toContain('the grid point: no parabola fits there');
