@@ -2,7 +2,7 @@
 // The command line: each command family registers itself from bin/commands/; errors become one line.
 
 import { Command, CommanderError } from 'commander';
-import { isRungchainError, isSystemError, systemErrorCause } from '../src/errors.js';
+import { isRungchainError, isSystemError, systemErrorCause } from '../src/errors/errors.js';
 import { registerSolveCommands } from './commands/solve.js';
 import { registerScanCommands } from './commands/scan.js';
 import { registerEvolveCommands } from './commands/evolve.js';

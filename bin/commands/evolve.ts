@@ -1,11 +1,11 @@
 // `evolve` and `trace`: quench dynamics of one spec (or one trace per scan point), and reading
 // a trace's run folder back.
 import type { Command } from 'commander';
-import { InputError } from '../../src/errors.js';
-import { checkEvolveOptions, loadEvolveRun, runEvolveCommand, traceContract, traceText, tracesCsv, tracesJson, tracesLongCsv, tracesText } from '../../src/evolveRun.js';
-import { fmt, fmtSmall, plural } from '../../src/tables.js';
+import { InputError } from '../../src/errors/errors.js';
+import { checkEvolveOptions, loadEvolveRun, runEvolveCommand, traceContract, traceText, tracesCsv, tracesJson, tracesLongCsv, tracesText } from '../../src/dynamics/evolveRun.js';
+import { fmt, fmtSmall, plural } from '../../src/format/tables.js';
 import { checkOutOption, collect, memoryLimit } from './shared.js';
-import { commandLine } from '../../src/invocation.js';
+import { commandLine } from '../invocation.js';
 import { PARTIAL_FAILURE } from './scan.js';
 
 function nonNegativeNumber(text: string, what: string): number {

@@ -2,11 +2,11 @@
 // and finite-size fits. Also the analysis options that `summary` shares.
 import path from 'node:path';
 import type { Command } from 'commander';
-import { InputError } from '../../src/errors.js';
-import { renderReport, reportInputFromRun } from '../../src/report.js';
-import { makeFolderFor, writeFileAtomic } from '../../src/runfiles.js';
-import { loadScanRun } from '../../src/summary.js';
-import type { AnalysisOptions } from '../../src/transitions.js';
+import { InputError } from '../../src/errors/errors.js';
+import { renderReport, reportInputFromRun } from '../../src/output/report/report.js';
+import { makeFolderFor, writeFileAtomic } from '../../src/runs/runFiles.js';
+import { loadScanRun } from '../../src/output/summary.js';
+import type { AnalysisOptions } from '../../src/analysis/transitions.js';
 import { checkOutOption, collect } from './shared.js';
 
 export interface AnalysisFlags {

@@ -1,15 +1,15 @@
 // `scan`, `summary` and `status`: parameter scans written to run folders, and reading them back.
 import type { Command } from 'commander';
-import { InputError } from '../../src/errors.js';
-import { runScan } from '../../src/scanRunner.js';
-import { loadScanRun, longCsv, longJson, longText, statusJson, statusText, summaryCsv, summaryJson, summaryText } from '../../src/summary.js';
-import { sideBySide, sideBySideCsv, sideBySideJson, sideBySideText } from '../../src/summary/sideBySide.js';
-import { analyseScan, analysisCsv, analysisInputOf, analysisText } from '../../src/transitions.js';
+import { InputError } from '../../src/errors/errors.js';
+import { runScan } from '../../src/scan/runner.js';
+import { loadScanRun, longCsv, longJson, longText, statusJson, statusText, summaryCsv, summaryJson, summaryText } from '../../src/output/summary.js';
+import { sideBySide, sideBySideCsv, sideBySideJson, sideBySideText } from '../../src/output/sideBySide.js';
+import { analyseScan, analysisCsv, analysisInputOf, analysisText } from '../../src/analysis/transitions.js';
 import { addAnalysisOptions, analysisOptions, type AnalysisFlags } from './report.js';
 import { checkOutOption, collect, memoryLimit } from './shared.js';
-import { parseShard, shardFromEnvironment } from '../../src/shard.js';
+import { parseShard, shardFromEnvironment } from '../../src/scan/shard.js';
 import { registerShardCommands } from './shard.js';
-import { commandLine } from '../../src/invocation.js';
+import { commandLine } from '../invocation.js';
 
 /** Exit code of a run that finished with points (or traces) that have no result; see the README. */
 export const PARTIAL_FAILURE = 3;

@@ -1,6 +1,6 @@
 // Option helpers shared by the commands.
-import { InputError } from '../../src/errors.js';
-import { defaultMemoryLimit, memoryLimitWarning, parseMemorySize } from '../../src/resources.js';
+import { InputError } from '../../src/errors/errors.js';
+import { defaultMemoryLimit, memoryLimitWarning, parseMemorySize } from '../../src/point/memory.js';
 
 export const collect = (value: string, previous: string[]) => previous.concat([value]);
 
