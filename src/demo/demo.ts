@@ -8,14 +8,7 @@ import { fmt, table } from '../format/tables.js';
 import { runDynamicsDemo } from './dynamics.js';
 import { DEMO_REPORT_FILE, writeDemoReport } from './report.js';
 import path from 'node:path';
-
-export const DEMO_SPEC = {
-  chain: { sites: 6, boundary: 'periodic' },
-  levels: { count: 4, boundary: 'open', tunnelling: 1 },
-  exchange: { strength: 1, range: 'nearest', weights: 'rotor' },
-  particles: { kind: 'pinned' },
-  solve: { states: 2, tolerance: 1e-9 },
-};
+import { DEMO_SPEC } from './spec.js';
 
 export async function runDemo(print: (line: string) => void): Promise<void> {
   print('rungchain demo: invented molecule X-47, six tweezers on a ring, microwave tunnelling J = 1');

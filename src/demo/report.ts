@@ -3,7 +3,7 @@
 // fidelity susceptibility), analysed and written as the same HTML report `rungchain report` makes.
 
 import path from 'node:path';
-import { DEMO_SPEC } from './demo.js';
+import { DEMO_SPEC } from './spec.js';
 import { solvePoint } from '../point/solvePoint.js';
 import { renderReport } from '../output/report/report.js';
 import { makeFolderFor, writeFileAtomic } from '../runs/runFiles.js';

@@ -29,7 +29,8 @@
 import { basisDimension, buildBasis, type Basis } from '../basis/basis.js';
 import { ConvergenceError, SpecError } from '../errors/errors.js';
 import { buildModel, type Model } from '../model/model.js';
-import { buildOperator, type HermitianOperator } from '../operator/build.js';
+import { buildOperator } from '../operator/build.js';
+import type { HermitianOperator } from '../operator/hermitian.js';
 import { planFockOperator } from '../operator/fock.js';
 import { basisProbabilities, pinnedObservables, type Observables } from '../observables/pinned.js';
 import { itinerantObservables } from '../observables/itinerant.js';

@@ -15,7 +15,7 @@
 
 import { symmetricEigen } from '../linalg/symmetricEigen.js';
 import { ConvergenceError } from '../errors/errors.js';
-import type { HermitianOperator } from '../operator/build.js';
+import type { HermitianOperator } from '../operator/hermitian.js';
 
 /** A Hermitian operator acting on interleaved complex vectors (length 2*dim). */
 export interface ComplexOperator {

@@ -6,7 +6,7 @@
 
 import { VectorArena, type WasmKernels } from '../simd/arena.js';
 import { serveTeam, SyncTeam, TEAM_WORDS, workerScript } from '../threads/team.js';
-import { BLOCK, SIMD_BLOCK } from './vectorKernels.js';
+import { BLOCK, SIMD_BLOCK, type KernelHelpers } from './vectorKernels.js';
 
 // Parameters of the current command, after the hand-off's control words (read as Uint32: byte
 // offsets may pass 2 GiB).
@@ -73,7 +73,7 @@ function runSlice(command: number, wasm: WasmKernels, memory: WebAssembly.Memory
 }
 
 /** Helper threads for one arena's kernels. */
-export class KernelTeam {
+export class KernelTeam implements KernelHelpers {
   private readonly team: SyncTeam;
   private readonly params: Uint32Array;
   private partials: Float64Array | null = null;

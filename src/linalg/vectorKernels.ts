@@ -5,7 +5,6 @@
 // vectors alike; results agree to rounding.
 
 import type { VectorArena } from '../simd/arena.js';
-import type { KernelTeam } from './kernelTeam.js';
 
 /** Entries of a vector processed per block: a block of w stays in cache while basis vectors stream past. */
 export const BLOCK = 2048;
@@ -214,12 +213,33 @@ export function coefficientNormSquared(coef: Float64Array, count: number, isComp
 }
 
 /**
+ * What helper threads do for the kernels, each on its slice of the vectors (kernelTeam.ts).
+ * Each returns false / null when it could not take the work, and the caller runs it alone.
+ */
+export interface KernelHelpers {
+  /** coef[0..) = <set_i, w>; `table` holds the set's pointers. */
+  project(w: Float64Array, length: number, table: number, count: number, isComplex: boolean, coef: Float64Array): boolean;
+  /** w -= sum_i coef_i set_i; returns ||w||^2; fills `nextCoef` with the new w's dots when given. */
+  subtract(
+    w: Float64Array,
+    length: number,
+    table: number,
+    count: number,
+    isComplex: boolean,
+    coef: Float64Array,
+    nextCoef: Float64Array | null,
+  ): number | null;
+  /** The restart combination. */
+  combine(length: number, table: number, size: number, y: Float64Array, ys: number, keep: number): boolean;
+}
+
+/**
  * The solver's vector operations. With an arena, operations whose vectors (and coefficient
  * arrays) all live in it run in WebAssembly; anything else runs in plain loops.
  */
 export class VectorKernels {
   /** Helper threads sharing the arena's kernels, when the caller allows more than one thread. */
-  team: KernelTeam | null = null;
+  team: KernelHelpers | null = null;
 
   constructor(readonly arena: VectorArena | null) {}
 

@@ -1,6 +1,6 @@
 // Stored sparse matrices in compressed rows.
 
-import type { HermitianOperator } from './build.js';
+import type { HermitianOperator } from './hermitian.js';
 import { arenaHolding, type VectorArena } from '../simd/arena.js';
 
 /**

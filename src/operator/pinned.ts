@@ -2,7 +2,7 @@
 
 import type { PinnedBasis } from '../basis/basis.js';
 import type { Model } from '../model/model.js';
-import type { HermitianOperator } from './build.js';
+import type { HermitianOperator } from './hermitian.js';
 import { complexRowInto } from './csr.js';
 import { arenaHolding, type VectorArena } from '../simd/arena.js';
 

@@ -10,7 +10,7 @@ import os from 'node:os';
 import { MessageChannel, receiveMessageOnPort, type MessagePort } from 'node:worker_threads';
 import type { PinnedBasis } from '../basis/basis.js';
 import type { Model } from '../model/model.js';
-import type { HermitianOperator } from './build.js';
+import type { HermitianOperator } from './hermitian.js';
 import { CsrOperator } from './csr.js';
 import { PinnedOperator, type BlockPlacement } from './pinned.js';
 import { arenaHolding, VectorArena } from '../simd/arena.js';

@@ -9,7 +9,7 @@
 // Vector layout follows src/operator/build.ts: length dim (real) or 2*dim (complex, interleaved re,im).
 
 import { ConvergenceError, SpecError } from '../errors/errors.js';
-import type { HermitianOperator } from '../operator/build.js';
+import type { HermitianOperator } from '../operator/hermitian.js';
 import { VectorArena } from '../simd/arena.js';
 import { BLOCK, coefficientNormSquared, norm2, plainKernels, scale, VectorKernels } from '../linalg/vectorKernels.js';
 import { KernelTeam } from '../linalg/kernelTeam.js';
@@ -1000,13 +1000,15 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   const kernels = arena ? new VectorKernels(arena) : plainKernels;
   const mark = given?.mark();
   const lent = opts.team && opts.team.arena === kernels.arena && opts.team.threads === opts.threads ? opts.team : null;
+  let team: KernelTeam | null = null;
   if (kernels.arena && (opts.threads ?? 1) > 1 && length >= TEAM_MIN_LENGTH) {
-    kernels.team = lent ? lent.reuse() : KernelTeam.start(kernels.arena, opts.threads as number);
+    team = lent ? lent.reuse() : KernelTeam.start(kernels.arena, opts.threads as number);
+    kernels.team = team;
   }
   try {
-    return { ...solveWith(op, opts, kernels, lanczos), threads: kernels.team?.threads ?? 1 };
+    return { ...solveWith(op, opts, kernels, lanczos), threads: team?.threads ?? 1 };
   } finally {
-    if (kernels.team !== lent) kernels.team?.close();
+    if (team !== lent) team?.close();
     if (given && mark !== undefined) given.release(mark);
     else if (!given) arena?.recycle();
   }

@@ -12,7 +12,7 @@ import type { PinnedBasis } from '../basis/basis.js';
 import { OrbitMap, SectorBasis, type GroupUse, type OrbitMapParts } from './sectorBasis.js';
 import { errorFromThread, SpecError } from '../errors/errors.js';
 import type { Model } from '../model/model.js';
-import type { HermitianOperator } from '../operator/build.js';
+import type { HermitianOperator } from '../operator/hermitian.js';
 import { ChunkSpares, CsrBuilder, type BuiltRows } from '../operator/csr.js';
 import { buildSectorOperator, buildSectorRows } from './sectorOperator.js';
 import { ProductTeam, withThreads } from '../operator/threaded.js';

@@ -1,6 +1,6 @@
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
-import type { HermitianOperator } from '../../src/operator/build.js';
+import type { HermitianOperator } from '../../src/operator/hermitian.js';
 import { VectorArena } from '../../src/simd/arena.js';
 import { lowestEigenpairs } from '../../src/solver/eigensolver.js';
 import { rng } from '../support/random.js';

@@ -6,7 +6,7 @@
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
 import { planEvolution, runEvolution } from '../../src/dynamics/evolution.js';
-import type { HermitianOperator } from '../../src/operator/build.js';
+import type { HermitianOperator } from '../../src/operator/hermitian.js';
 import { buildBasis, type PinnedBasis } from '../../src/basis/basis.js';
 import { buildModel } from '../../src/model/model.js';
 import { solvePoint, type PointRecord } from '../../src/point/solvePoint.js';

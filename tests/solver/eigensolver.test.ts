@@ -2,7 +2,7 @@ import { describe, it, expect } from 'vitest';
 import { Matrix, EigenvalueDecomposition, QrDecomposition } from 'ml-matrix';
 import { lowestEigenpairs, denseEigen, denseMatrixOf, PARTIAL_MIN_LENGTH, STEP_CHECK_MIN_LENGTH, type EigenResult } from '../../src/solver/eigensolver.js';
 import { ConvergenceError, SpecError } from '../../src/errors/errors.js';
-import type { HermitianOperator } from '../../src/operator/build.js';
+import type { HermitianOperator } from '../../src/operator/hermitian.js';
 import { denseSpectrum } from '../support/reference.js';
 
 // ---------------------------------------------------------------------------------------------
