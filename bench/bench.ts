@@ -14,7 +14,7 @@ import { solvePoint } from '../src/point/solvePoint.js';
 import { VectorArena } from '../src/simd/arena.js';
 import { validateSpec } from '../src/spec/spec.js';
 import { fmt, table } from '../src/format/tables.js';
-import { formatBytes } from '../src/point/memory.js';
+import { formatBytes } from '../src/format/bytes.js';
 
 const LEVELS = 4;
 const STATES = 4;

@@ -11,7 +11,7 @@ import { buildBasis } from '../src/basis/basis.js';
 import { buildModel } from '../src/model/model.js';
 import { buildOperator } from '../src/operator/build.js';
 import { solvePoint } from '../src/point/solvePoint.js';
-import { formatBytes } from '../src/point/memory.js';
+import { formatBytes } from '../src/format/bytes.js';
 import { VectorArena } from '../src/simd/arena.js';
 import { validateSpec, type Spec } from '../src/spec/spec.js';
 import { fmt, table } from '../src/format/tables.js';

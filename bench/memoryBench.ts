@@ -9,7 +9,7 @@ import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { planPoint, solvePoint } from '../src/point/solvePoint.js';
-import { formatBytes } from '../src/point/memory.js';
+import { formatBytes } from '../src/format/bytes.js';
 import { validateSpec, type Spec } from '../src/spec/spec.js';
 import { table } from '../src/format/tables.js';
 

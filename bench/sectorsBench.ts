@@ -11,7 +11,7 @@ import { buildModel } from '../src/model/model.js';
 import { PinnedOperator } from '../src/operator/pinned.js';
 import { ThreadedOperator, withThreads } from '../src/operator/threaded.js';
 import { planPoint, solvePoint } from '../src/point/solvePoint.js';
-import { formatBytes } from '../src/point/memory.js';
+import { formatBytes } from '../src/format/bytes.js';
 import { VectorArena } from '../src/simd/arena.js';
 import { validateSpec } from '../src/spec/spec.js';
 import type { SectorLabel } from '../src/symmetry/group.js';

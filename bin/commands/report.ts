@@ -5,7 +5,7 @@ import type { Command } from 'commander';
 import { InputError } from '../../src/errors/errors.js';
 import { renderReport, reportInputFromRun } from '../../src/output/report/report.js';
 import { makeFolderFor, writeFileAtomic } from '../../src/runs/runFiles.js';
-import { loadScanRun } from '../../src/output/summary.js';
+import { loadScanRun } from '../../src/scan/scanRun.js';
 import type { AnalysisOptions } from '../../src/analysis/transitions.js';
 import { checkOutOption, collect } from './shared.js';
 

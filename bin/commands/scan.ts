@@ -2,7 +2,8 @@
 import type { Command } from 'commander';
 import { InputError } from '../../src/errors/errors.js';
 import { runScan } from '../../src/scan/runner.js';
-import { loadScanRun, longCsv, longJson, longText, statusJson, statusText, summaryCsv, summaryJson, summaryText } from '../../src/output/summary.js';
+import { loadScanRun } from '../../src/scan/scanRun.js';
+import { longCsv, longJson, longText, statusJson, statusText, summaryCsv, summaryJson, summaryText } from '../../src/output/summary.js';
 import { sideBySide, sideBySideCsv, sideBySideJson, sideBySideText } from '../../src/output/sideBySide.js';
 import { analyseScan, analysisCsv, analysisInputOf, analysisText } from '../../src/analysis/transitions.js';
 import { addAnalysisOptions, analysisOptions, type AnalysisFlags } from './report.js';

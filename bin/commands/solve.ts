@@ -4,7 +4,7 @@ import { loadSpec } from '../../src/spec/spec.js';
 import { planPoint, solvePoint } from '../../src/point/solvePoint.js';
 import type { SectorProgress } from '../../src/symmetry/sectorSolve.js';
 import type { SectorLabel } from '../../src/symmetry/group.js';
-import { describePlan, describeRecord } from '../../src/format/tables.js';
+import { describePlan, describeRecord } from '../../src/point/describe.js';
 import { runDemo } from '../../src/demo/demo.js';
 import { collect, memoryLimit } from './shared.js';
 import { describeLabEnergies, labEnergies, labUnits } from '../../src/spec/units.js';

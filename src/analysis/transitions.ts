@@ -10,7 +10,7 @@ import { finiteSizeFit, type FitResult } from './fits.js';
 import { transitionIndicators, type Indicator, type IndicatorName, type Peak } from './indicators.js';
 import type { PointRecord } from '../point/solvePoint.js';
 import type { ScanParams, ScanValue } from '../scan/plan.js';
-import type { ScanRunSummary } from '../output/summary.js';
+import type { ScanRunSummary } from '../scan/scanRun.js';
 import { columnScale, csv, fmt, fmtNoise, table } from '../format/tables.js';
 
 export interface AnalysisPoint {

@@ -7,7 +7,7 @@
 
 import { InputError } from '../errors/errors.js';
 import type { ScanParams, ScanValue } from '../scan/plan.js';
-import type { ScanRunSummary } from './summary.js';
+import type { ScanRunSummary } from '../scan/scanRun.js';
 import { columnScale, csvCell, fmt, fmtNoise, table } from '../format/tables.js';
 
 export interface SideBySide {

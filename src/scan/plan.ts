@@ -22,7 +22,7 @@
 
 import { InputError, SpecError } from '../errors/errors.js';
 import { planPoint, type PointPlan } from '../point/solvePoint.js';
-import { formatBytes } from '../point/memory.js';
+import { formatBytes } from '../format/bytes.js';
 import { DEFAULT_DENSE_THRESHOLD } from '../solver/eigensolver.js';
 import { applyOverride, cutText, describeValue, isTable, quoteText, registerSection, unknownKeyError, validateSpec, type Spec } from '../spec/spec.js';
 import { runIdentity } from '../runs/runFiles.js';

@@ -3,9 +3,11 @@ import { mkdtempSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import type { PointRecord } from '../../src/point/solvePoint.js';
-import { describeRecord, fmtNoise, fmtSmall, plural, ROUNDING_ZERO } from '../../src/format/tables.js';
+import { fmtNoise, fmtSmall, plural, ROUNDING_ZERO } from '../../src/format/tables.js';
+import { describeRecord } from '../../src/point/describe.js';
 import { axisLabels } from '../../src/output/sideBySide.js';
-import { longText, summaryText, type ScanRunSummary } from '../../src/output/summary.js';
+import { longText, summaryText } from '../../src/output/summary.js';
+import type { ScanRunSummary } from '../../src/scan/scanRun.js';
 import { runCli } from '../support/cli.js';
 
 const tmp = () => mkdtempSync(path.join(os.tmpdir(), 'rungchain-tables-'));

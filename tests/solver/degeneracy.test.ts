@@ -14,7 +14,7 @@ import { solveInSectors } from '../../src/symmetry/sectorSolve.js';
 import { detectSymmetries, type SymmetryName } from '../../src/symmetry/group.js';
 import { lowestEigenpairs } from '../../src/solver/eigensolver.js';
 import { validateSpec, type Spec } from '../../src/spec/spec.js';
-import { describeRecord } from '../../src/format/tables.js';
+import { describeRecord } from '../../src/point/describe.js';
 import { denseFockHamiltonian, randomItinerantSpec } from '../support/fockReference.js';
 import { clean, randomPinnedSpec } from '../support/random.js';
 import { densePinnedHamiltonian, realEmbedding, type DenseHermitian } from '../support/reference.js';

@@ -17,7 +17,7 @@ import { InputError } from '../../errors/errors.js';
 import type { PointRecord } from '../../point/solvePoint.js';
 import { pointTree, type ScanParams } from '../../scan/plan.js';
 import { validateSpec } from '../../spec/spec.js';
-import type { ScanRunSummary } from '../summary.js';
+import type { ScanRunSummary } from '../../scan/scanRun.js';
 import { fmt } from '../../format/tables.js';
 import {
   SIZE_AXES,
