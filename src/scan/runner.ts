@@ -17,6 +17,7 @@ import { expandScan, formatParams, pointCost, sizeScan, type ScanPlan, type Scan
 import { RunWriter } from '../runs/runFiles.js';
 import { assignShards, type Shard } from './shard.js';
 import { newClaims, takeTail, unclaimed } from './claims.js';
+import { latestRecords } from './scanRun.js';
 import type { ScanRecord, TaskMessage } from './task.js';
 import { commandLine } from '../../bin/invocation.js';
 
@@ -161,15 +162,6 @@ export function planTasks(plan: ScanPlan, pending: Set<number>, costs: number[],
     }
   }
   return tasks.sort((a, b) => b.cost - a.cost || a.points[0].index - b.points[0].index);
-}
-
-/** The latest record of each point (a retried point has several; the last one counts). */
-export function latestRecords(records: Record<string, unknown>[]): Map<number, ScanRecord> {
-  const latest = new Map<number, ScanRecord>();
-  for (const r of records) {
-    if (typeof r.index === 'number') latest.set(r.index, r as unknown as ScanRecord);
-  }
-  return latest;
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -4,7 +4,6 @@ import { RunFileError } from '../errors/errors.js';
 import { readRun, type RunManifest } from '../runs/runFiles.js';
 import { paramsOf, type ScanParams, type ScanSection } from './plan.js';
 import type { ScanRecord } from './task.js';
-import { latestRecords } from './runner.js';
 
 export interface SummaryRow {
   index: number;
@@ -23,6 +22,15 @@ export interface ScanRunSummary {
   records: number;
   fileBytes: number;
   tornBytes: number;
+}
+
+/** The latest record of each point (a retried point has several; the last one counts). */
+export function latestRecords(records: Record<string, unknown>[]): Map<number, ScanRecord> {
+  const latest = new Map<number, ScanRecord>();
+  for (const r of records) {
+    if (typeof r.index === 'number') latest.set(r.index, r as unknown as ScanRecord);
+  }
+  return latest;
 }
 
 /** Reads a scan's run folder; damage in the middle of its records is a RunFileError, never skipped. */

@@ -9,7 +9,7 @@ import path from 'node:path';
 import { InputError, RunFileError } from '../errors/errors.js';
 import { readRun, RunWriter, type RunManifest } from '../runs/runFiles.js';
 import type { ScanPlan } from './plan.js';
-import { latestRecords } from './runner.js';
+import { latestRecords } from './scanRun.js';
 import type { ScanRecord } from './task.js';
 import { shellQuote } from '../format/tables.js';
 
