@@ -4,7 +4,7 @@
 
 import { accessSync, constants, realpathSync } from 'node:fs';
 import path from 'node:path';
-import { shellQuote } from '../src/format/tables.js';
+import { shellCommand, shellQuote } from '../src/format/tables.js';
 
 function realPath(file: string): string | null {
   try {
@@ -53,5 +53,5 @@ export function invocation(): string {
 
 /** A command to print: the invocation, then the arguments quoted for a POSIX shell. */
 export function commandLine(args: string[]): string {
-  return [invocation(), ...args.map(shellQuote)].join(' ');
+  return shellCommand(invocation(), args);
 }

@@ -5,6 +5,8 @@ import { Command, CommanderError } from 'commander';
 import { isRungchainError, isSystemError, systemErrorCause } from '../src/errors/errors.js';
 import { registerSolveCommands } from './commands/solve.js';
 import { registerScanCommands } from './commands/scan.js';
+import { registerShardCommands } from './commands/shard.js';
+import { registerSummaryCommands } from './commands/summary.js';
 import { registerEvolveCommands } from './commands/evolve.js';
 import { registerReportCommands } from './commands/report.js';
 
@@ -17,6 +19,8 @@ program
 
 registerSolveCommands(program);
 registerScanCommands(program);
+registerShardCommands(program);
+registerSummaryCommands(program);
 registerEvolveCommands(program);
 registerReportCommands(program);
 

@@ -4,9 +4,8 @@ import type { Command } from 'commander';
 import { InputError } from '../../src/errors/errors.js';
 import { checkEvolveOptions, loadEvolveRun, runEvolveCommand, traceContract, traceText, tracesCsv, tracesJson, tracesLongCsv, tracesText } from '../../src/dynamics/evolveRun.js';
 import { fmt, fmtSmall, plural } from '../../src/format/tables.js';
-import { checkOutOption, collect, memoryLimit } from './shared.js';
-import { commandLine } from '../invocation.js';
-import { PARTIAL_FAILURE } from './scan.js';
+import { checkOutOption, collect, memoryLimit, PARTIAL_FAILURE } from './shared.js';
+import { commandLine, invocation } from '../invocation.js';
 
 function nonNegativeNumber(text: string, what: string): number {
   const n = Number(text);
@@ -44,6 +43,7 @@ export function registerEvolveCommands(program: Command): void {
           checkpointSeconds: opts.checkpointEvery === undefined ? undefined : nonNegativeNumber(opts.checkpointEvery, '--checkpoint-every'),
           retryFailed: Boolean(opts.retryFailed),
           handleSignals: true,
+          program: invocation(),
         });
         if (outcome.interrupted) {
           // 130 is the shell's code for a run stopped by Ctrl-C.

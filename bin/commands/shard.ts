@@ -7,11 +7,10 @@ import { formatBytes } from '../../src/format/bytes.js';
 import { parseMemorySize } from '../../src/point/memory.js';
 import { mergeRuns } from '../../src/scan/shard.js';
 import { planBatch } from '../../src/scan/batch.js';
-import { checkOutOption, collect } from './shared.js';
+import { checkOutOption, collect, PARTIAL_FAILURE } from './shared.js';
 import { makeFolderFor } from '../../src/runs/runFiles.js';
 import { commandLine, invocation } from '../invocation.js';
 import { shellQuote } from '../../src/format/tables.js';
-import { PARTIAL_FAILURE } from './scan.js';
 
 function listed(indices: number[]): string {
   return indices.length <= 12 ? indices.join(', ') : `${indices.slice(0, 12).join(', ')}, ... (${indices.length} in all)`;

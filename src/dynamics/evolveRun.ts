@@ -30,8 +30,7 @@ import { expandScan, formatParams, type ScanParams } from '../scan/plan.js';
 import { defaultRunDir, rungchainVersion } from '../scan/runner.js';
 import { loadSpec, type Spec } from '../spec/spec.js';
 import { labUnits, describeUnits } from '../spec/units.js';
-import { columnScale, csv, fmt, fmtNoise, fmtSmall, plural, table } from '../format/tables.js';
-import { commandLine } from '../../bin/invocation.js';
+import { columnScale, csv, fmt, fmtNoise, fmtSmall, plural, shellCommand, table } from '../format/tables.js';
 
 export interface FrameRecord {
   kind: 'frame';
@@ -282,6 +281,8 @@ export function tracesText(contents: EvolveRunContents): string {
 
 export interface EvolveRunOptions {
   specPath: string;
+  /** How the printed commands start the program (the command line passes its own invocation). */
+  program?: string;
   overrides?: string[];
   /** Run folder; null writes nothing (single spec only). Default for scans: runs/<spec name>-<identity>. */
   out?: string | null;
@@ -360,7 +361,7 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
   const resumeCommand =
     dir === null
       ? null
-      : commandLine([
+      : shellCommand(options.program ?? 'rungchain', [
           'evolve',
           options.specPath,
           ...overrides.flatMap((o) => ['--set', o]),

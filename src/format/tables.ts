@@ -54,6 +54,11 @@ export function shellQuote(word: string): string {
   return /^[A-Za-z0-9_./=:,@%+-]+$/.test(word) ? word : `'${word.replace(/'/g, `'\\''`)}'`;
 }
 
+/** A command to print: how the program is started, then the arguments quoted for a POSIX shell. */
+export function shellCommand(program: string, args: string[]): string {
+  return [program, ...args.map(shellQuote)].join(' ');
+}
+
 /** Left column left-aligned, the rest right-aligned, columns separated by two spaces. */
 export function table(header: string[], rows: string[][]): string {
   const widths = header.map((h, c) => Math.max(h.length, ...rows.map((r) => (r[c] ?? '').length)));

@@ -2,11 +2,10 @@
 // per-level observables in long format, and done / failed / pending counts.
 
 import os from 'node:os';
-import { commandLine } from '../../bin/invocation.js';
 import { lockIsStale, readLock, type LockInfo } from '../runs/runFiles.js';
 import type { ScanParams, ScanValue } from '../scan/plan.js';
 import type { ScanRunSummary, SummaryRow } from '../scan/scanRun.js';
-import { columnScale, csv, fmt, fmtNoise, table } from '../format/tables.js';
+import { columnScale, csv, fmt, fmtNoise, shellCommand, table } from '../format/tables.js';
 import { formatBytes } from '../format/bytes.js';
 
 function finished(summary: ScanRunSummary): SummaryRow[] {
@@ -193,7 +192,8 @@ function writerState(dir: string): { lock: LockInfo | null; running: boolean } {
   return { lock, running: !lockIsStale(lock) };
 }
 
-export function statusText(summary: ScanRunSummary): string {
+/** `program`: how the printed resume command starts rungchain (the command line passes its own invocation). */
+export function statusText(summary: ScanRunSummary, program = 'rungchain'): string {
   const { manifest, counts } = summary;
   const { lock, running } = writerState(summary.dir);
   const axes = summary.section.axes.map((a) => `${a.key} (${a.values.length})`).join(summary.section.zip ? ' with ' : ' x ');
@@ -213,7 +213,7 @@ export function statusText(summary: ScanRunSummary): string {
     const overrides = Array.isArray(manifest.overrides) ? (manifest.overrides as string[]).flatMap((o) => ['--set', o]) : [];
     const shard = manifest.shard as { index: number; count: number } | undefined;
     const shardArgs = shard ? ['--shard', `${shard.index}/${shard.count}`] : [];
-    lines.push(`resume with  ${commandLine(['scan', manifest.spec_path, ...overrides, ...shardArgs, '--out', summary.dir])}`);
+    lines.push(`resume with  ${shellCommand(program, ['scan', manifest.spec_path, ...overrides, ...shardArgs, '--out', summary.dir])}`);
   }
   return lines.join('\n');
 }

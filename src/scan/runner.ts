@@ -12,6 +12,7 @@ import cliProgress from 'cli-progress';
 import { FileSystemError, InputError, RunFileError } from '../errors/errors.js';
 import { defaultMemoryLimit } from '../point/memory.js';
 import { formatBytes } from '../format/bytes.js';
+import { shellCommand } from '../format/tables.js';
 import { loadSpec } from '../spec/spec.js';
 import { expandScan, formatParams, pointCost, sizeScan, type ScanPlan, type ScanPoint } from './plan.js';
 import { RunWriter } from '../runs/runFiles.js';
@@ -19,7 +20,6 @@ import { assignShards, type Shard } from './shard.js';
 import { newClaims, takeTail, unclaimed } from './claims.js';
 import { latestRecords } from './scanRun.js';
 import type { ScanRecord, TaskMessage } from './task.js';
-import { commandLine } from '../../bin/invocation.js';
 
 export function rungchainVersion(): string {
   // dist/src/scan/ and src/scan/ both sit below the package root.
@@ -252,6 +252,8 @@ export interface ScanOptions {
   handleSignals?: boolean;
   /** Run only this shard's points (balanced by estimated cost; see src/scan/shard.ts). */
   shard?: Shard | null;
+  /** How the printed commands start the program (the command line passes its own invocation). */
+  program?: string;
 }
 
 export interface ScanOutcome {
@@ -289,7 +291,8 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
   const shard = options.shard ?? null;
   const dir = options.out ?? defaultRunDir(options.specPath, plan.identity, shard);
   const shardArgs = shard && shard.source === '--shard' ? ['--shard', `${shard.index}/${shard.count}`] : [];
-  const resumeCommand = commandLine([
+  const program = options.program ?? 'rungchain';
+  const resumeCommand = shellCommand(program, [
     'scan',
     options.specPath,
     ...overrides.flatMap((o) => ['--set', o]),
@@ -521,7 +524,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
       say(`resume with: ${resumeCommand}`);
     } else {
       say(`scan finished: ${result.done} done, ${result.failed} failed of ${total} (${ran} solved now, ${result.seconds.toFixed(1)} s); run folder ${dir}`);
-      say(`results: ${commandLine(['summary', dir])}  (--csv, --json, --long)`);
+      say(`results: ${shellCommand(program, ['summary', dir])}  (--csv, --json, --long)`);
     }
     return result;
   } finally {
