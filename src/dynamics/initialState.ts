@@ -3,15 +3,7 @@
 
 import type { Basis, FockBasis } from '../basis/basis.js';
 import { UnsupportedError } from '../errors/errors.js';
-
-/** A resonant pulse of area `area` (= Omega * duration) and phase `phase` between two levels. */
-export interface Pulse {
-  between: [number, number];
-  area: number;
-  phase: number;
-  /** Sites the pulse reaches; null for all. */
-  sites: number[] | null;
-}
+import type { Pulse } from '../spec/evolveSection.js';
 
 /**
  * One site's state after starting in `level` and receiving the pulses in order, as N complex

@@ -5,7 +5,7 @@ import { mkdtempSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { SpecError } from '../../src/errors/errors.js';
-import { MAX_EVOLVE_TIMES, MAX_RAMP_STEPS } from '../../src/dynamics/evolution.js';
+import { MAX_EVOLVE_TIMES, MAX_RAMP_STEPS } from '../../src/spec/evolveSection.js';
 import { MAX_SCAN_POINTS } from '../../src/scan/plan.js';
 import { parseSpecText, validateSpec } from '../../src/spec/spec.js';
 import { runCli } from '../support/cli.js';
