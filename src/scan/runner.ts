@@ -19,6 +19,7 @@ import { RunWriter } from '../runs/runFiles.js';
 import { assignShards, type Shard } from './shard.js';
 import { newClaims, takeTail, unclaimed } from './claims.js';
 import { latestRecords } from './scanRun.js';
+import { workerScript } from '../threads/team.js';
 import type { ScanRecord, TaskMessage } from './task.js';
 
 export function rungchainVersion(): string {
@@ -66,7 +67,7 @@ export function chooseParallelism(pendingCosts: number[], requestedWorkers?: num
 }
 
 export function createPointPool(choice: PoolChoice): Piscina {
-  const filename = fileURLToPath(new URL('../../workers/point.js', import.meta.url));
+  const filename = fileURLToPath(workerScript('point'));
   return new Piscina({
     filename,
     minThreads: choice.workers,

@@ -47,7 +47,7 @@ function arenaOrSkip(): VectorArena {
 }
 
 describe('shipped WebAssembly matches its source', () => {
-  it('src/solver/vectorWasm.ts is vector.wat compiled by wabt (run `npm run wasm` after editing the .wat)', async () => {
+  it('src/simd/vectorWasm.ts is vector.wat compiled by wabt (run `npm run wasm` after editing the .wat)', async () => {
     const expected = generatedSource(await compiledVectorKernels());
     expect(fs.readFileSync(GENERATED_PATH, 'utf8')).toBe(expected);
   });
