@@ -3,6 +3,7 @@
 
 import { Command, CommanderError } from 'commander';
 import { isRungchainError, isSystemError, systemErrorCause } from '../src/errors/errors.js';
+import { rungchainVersion } from '../src/runs/version.js';
 import { registerSolveCommands } from './commands/solve.js';
 import { registerScanCommands } from './commands/scan.js';
 import { registerShardCommands } from './commands/shard.js';
@@ -14,7 +15,7 @@ const program = new Command();
 program
   .name('rungchain')
   .description('Exact diagonalization of lattice models with a synthetic dimension')
-  .version('0.1.0')
+  .version(rungchainVersion())
   .exitOverride();
 
 registerSolveCommands(program);

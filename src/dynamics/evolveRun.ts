@@ -27,7 +27,8 @@ import { Evolution, planEvolution, timeFirstObservables, type EvolutionCheckpoin
 import { readRun, runIdentity, RunWriter, writeFileAtomic } from '../runs/runFiles.js';
 import { defaultMemoryLimit } from '../point/memory.js';
 import { expandScan, formatParams, type ScanParams } from '../scan/plan.js';
-import { defaultRunDir, rungchainVersion } from '../scan/runner.js';
+import { defaultRunDir } from '../scan/runner.js';
+import { rungchainVersion } from '../runs/version.js';
 import { loadSpec, type Spec } from '../spec/spec.js';
 import { labUnits, describeUnits } from '../spec/units.js';
 import { columnScale, csv, fmt, fmtNoise, fmtSmall, plural, shellCommand, table } from '../format/tables.js';

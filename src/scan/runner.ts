@@ -2,7 +2,6 @@
 // points to a pool of worker threads, largest first, and append each finished point's record to
 // the run file the moment it arrives.
 
-import { readFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -20,20 +19,8 @@ import { assignShards, type Shard } from './shard.js';
 import { newClaims, takeTail, unclaimed } from './claims.js';
 import { latestRecords } from './scanRun.js';
 import { workerScript } from '../threads/team.js';
+import { rungchainVersion } from '../runs/version.js';
 import type { ScanRecord, TaskMessage } from './task.js';
-
-export function rungchainVersion(): string {
-  // dist/src/scan/ and src/scan/ both sit below the package root.
-  for (const up of ['../../..', '../..']) {
-    try {
-      const pkg = JSON.parse(readFileSync(fileURLToPath(new URL(`${up}/package.json`, import.meta.url)), 'utf8'));
-      if (pkg.name === 'rungchain') return String(pkg.version);
-    } catch {
-      /* try the next level */
-    }
-  }
-  return 'unknown';
-}
 
 // ---------------------------------------------------------------------------------------------
 // The worker pool: built here and only here, so the choice between point-parallel and
