@@ -7,7 +7,7 @@ import { DEMO_SPEC } from './spec.js';
 import { solvePoint } from '../point/solvePoint.js';
 import { renderReport } from '../output/report/report.js';
 import { makeFolderFor, writeFileAtomic } from '../runs/runFiles.js';
-import { groundSpaceOverlap } from '../scan/task.js';
+import { groundSpaceOverlap } from '../observables/overlap.js';
 import { validateSpec } from '../spec/spec.js';
 import { analyseScan, type AnalysisInput, type AnalysisPoint } from '../analysis/transitions.js';
 

@@ -27,7 +27,7 @@ import { Evolution, planEvolution, timeFirstObservables, type EvolutionCheckpoin
 import { readRun, runIdentity, RunWriter, writeFileAtomic } from '../runs/runFiles.js';
 import { defaultMemoryLimit } from '../point/memory.js';
 import { expandScan, formatParams, type ScanParams } from '../scan/plan.js';
-import { defaultRunDir } from '../scan/runner.js';
+import { defaultRunDir } from '../runs/folders.js';
 import { rungchainVersion } from '../runs/version.js';
 import { loadSpec, type Spec } from '../spec/spec.js';
 import { labUnits, describeUnits } from '../spec/units.js';

@@ -3,7 +3,7 @@
 
 import { RUNTIME_BASELINE_BYTES } from '../point/memory.js';
 import { expandScan, pointCost, sizeScan } from './plan.js';
-import { defaultRunDir } from './runner.js';
+import { defaultRunDir } from '../runs/folders.js';
 import { assignShards, batchScript, formatMinutes } from './shard.js';
 import { loadSpec } from '../spec/spec.js';
 import { InputError } from '../errors/errors.js';

@@ -3,7 +3,6 @@
 // the run file the moment it arrives.
 
 import os from 'node:os';
-import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { MessageChannel } from 'node:worker_threads';
 import { Piscina } from 'piscina';
@@ -19,6 +18,7 @@ import { assignShards, type Shard } from './shard.js';
 import { newClaims, takeTail, unclaimed } from './claims.js';
 import { latestRecords } from './scanRun.js';
 import { workerScript } from '../threads/team.js';
+import { defaultRunDir } from '../runs/folders.js';
 import { rungchainVersion } from '../runs/version.js';
 import type { ScanRecord, TaskMessage } from './task.js';
 
@@ -255,12 +255,6 @@ export interface ScanOutcome {
   seconds: number;
   interrupted: boolean;
   resumeCommand: string;
-}
-
-export function defaultRunDir(specPath: string, identity: string, shard?: Shard | null): string {
-  const base = path.basename(specPath).replace(/\.(toml|json)$/i, '');
-  const dir = path.join('runs', `${base}-${identity.slice(0, 8)}`);
-  return shard ? path.join(dir, `shard-${shard.index}of${shard.count}`) : dir;
 }
 
 export async function runScan(options: ScanOptions): Promise<ScanOutcome> {

@@ -10,6 +10,7 @@ import { claimNext } from './claims.js';
 import { planPoint, solvePoint, type PointRecord } from '../point/solvePoint.js';
 import { validateSpec, type Spec } from '../spec/spec.js';
 import type { ScanParams } from './plan.js';
+import { groundSpaceOverlap } from '../observables/overlap.js';
 
 export interface TaskPoint {
   index: number;
@@ -100,27 +101,6 @@ function testAllocation(index: number): unknown[] {
 function basisKey(spec: Spec, isComplex: boolean, dimension: number): string {
   const p = spec.particles;
   return [p.kind, spec.chain.sites, spec.levels.count, p.number, p.maxPerSite, isComplex ? 'c' : 'r', dimension].join(':');
-}
-
-/** Square root of the mean squared overlap between two sets of orthonormal vectors (see ScanRecord). */
-export function groundSpaceOverlap(previous: Float64Array[], current: Float64Array[], isComplex: boolean): number {
-  let sum = 0;
-  for (const p of previous) {
-    for (const q of current) {
-      let re = 0;
-      let im = 0;
-      if (isComplex) {
-        for (let t = 0; t < p.length; t += 2) {
-          re += p[t] * q[t] + p[t + 1] * q[t + 1];
-          im += p[t] * q[t + 1] - p[t + 1] * q[t];
-        }
-      } else {
-        for (let t = 0; t < p.length; t++) re += p[t] * q[t];
-      }
-      sum += re * re + im * im;
-    }
-  }
-  return Math.sqrt(sum / Math.max(previous.length, current.length));
 }
 
 /**
