@@ -1,20 +1,20 @@
 // `npm run bench`: pinned chains up to 10 sites x 4 levels (periodic, about a million states), each
 // size in a fresh process so peak memory is its own, side by side with the NumPy/SciPy baseline in
-// bench/scipy_baseline.py building the same matrix and calling its sparse eigensolver.
+// bench/scipyBaseline.py building the same matrix and calling its sparse eigensolver.
 //
 // usage: node dist/bench/bench.js [--sizes 6,8,10] [--no-baseline]
 
 import { spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 import path from 'node:path';
-import { buildBasis } from '../src/basis.js';
-import { buildModel } from '../src/model.js';
-import { buildOperator } from '../src/operator.js';
-import { solvePoint } from '../src/point.js';
-import { VectorArena } from '../src/simd.js';
-import { validateSpec } from '../src/spec.js';
-import { fmt, table } from '../src/tables.js';
-import { formatBytes } from '../src/resources.js';
+import { buildBasis } from '../src/basis/basis.js';
+import { buildModel } from '../src/model/model.js';
+import { buildOperator } from '../src/operator/build.js';
+import { solvePoint } from '../src/point/solvePoint.js';
+import { VectorArena } from '../src/simd/arena.js';
+import { validateSpec } from '../src/spec/spec.js';
+import { fmt, table } from '../src/format/tables.js';
+import { formatBytes } from '../src/format/bytes.js';
 
 const LEVELS = 4;
 const STATES = 4;
@@ -39,7 +39,7 @@ function specFor(sites: number) {
     chain: { sites, boundary: 'periodic' },
     levels: { count: LEVELS, tunnelling: J },
     exchange: { strength: V },
-    // The full space on purpose: the comparison is matrix against matrix (sectors: sectors_bench.ts).
+    // The full space on purpose: the comparison is matrix against matrix (sectors: sectorsBench.ts).
     solve: { states: STATES, tolerance: 1e-9, symmetries: 'none', entanglement: 'none' },
   });
 }
@@ -102,7 +102,7 @@ function main(): void {
   for (const L of sizes) {
     const ours = runChild(process.execPath, [fileURLToPath(import.meta.url), '--case', String(L)]);
     const theirs = baseline
-      ? runChild('python3', [path.join(repo, 'bench/scipy_baseline.py'), String(L), String(LEVELS), String(STATES), String(J), String(V)], pyEnv)
+      ? runChild('python3', [path.join(repo, 'bench/scipyBaseline.py'), String(L), String(LEVELS), String(STATES), String(J), String(V)], pyEnv)
       : null;
     if (!ours) continue;
     const agree = theirs ? Math.max(...ours.energies.map((e, k) => Math.abs(e - theirs.energies[k]))) : NaN;

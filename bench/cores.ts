@@ -7,7 +7,7 @@
 import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import os from 'node:os';
-import { fmt } from '../src/tables.js';
+import { fmt } from '../src/format/tables.js';
 
 const LOOP = `
 const n = 4096, a = new Float64Array(n), b = new Float64Array(n);

@@ -2,9 +2,12 @@
 // The command line: each command family registers itself from bin/commands/; errors become one line.
 
 import { Command, CommanderError } from 'commander';
-import { isRungchainError, isSystemError, systemErrorCause } from '../src/errors.js';
+import { isRungchainError, isSystemError, systemErrorCause } from '../src/errors/errors.js';
+import { rungchainVersion } from '../src/runs/version.js';
 import { registerSolveCommands } from './commands/solve.js';
 import { registerScanCommands } from './commands/scan.js';
+import { registerShardCommands } from './commands/shard.js';
+import { registerSummaryCommands } from './commands/summary.js';
 import { registerEvolveCommands } from './commands/evolve.js';
 import { registerReportCommands } from './commands/report.js';
 
@@ -12,11 +15,13 @@ const program = new Command();
 program
   .name('rungchain')
   .description('Exact diagonalization of lattice models with a synthetic dimension')
-  .version('0.1.0')
+  .version(rungchainVersion())
   .exitOverride();
 
 registerSolveCommands(program);
 registerScanCommands(program);
+registerShardCommands(program);
+registerSummaryCommands(program);
 registerEvolveCommands(program);
 registerReportCommands(program);
 

@@ -1,12 +1,11 @@
 // `evolve` and `trace`: quench dynamics of one spec (or one trace per scan point), and reading
 // a trace's run folder back.
 import type { Command } from 'commander';
-import { InputError } from '../../src/errors.js';
-import { checkEvolveOptions, loadEvolveRun, runEvolveCommand, traceContract, traceText, tracesCsv, tracesJson, tracesLongCsv, tracesText } from '../../src/evolveRun.js';
-import { fmt, fmtSmall, plural } from '../../src/tables.js';
-import { checkOutOption, collect, memoryLimit } from './shared.js';
-import { commandLine } from '../../src/invocation.js';
-import { PARTIAL_FAILURE } from './scan.js';
+import { InputError } from '../../src/errors/errors.js';
+import { checkEvolveOptions, loadEvolveRun, runEvolveCommand, traceContract, traceText, tracesCsv, tracesJson, tracesLongCsv, tracesText } from '../../src/dynamics/evolveRun.js';
+import { fmt, fmtSmall, plural } from '../../src/format/tables.js';
+import { checkOutOption, collect, memoryLimit, PARTIAL_FAILURE } from './shared.js';
+import { commandLine, invocation } from '../invocation.js';
 
 function nonNegativeNumber(text: string, what: string): number {
   const n = Number(text);
@@ -44,6 +43,7 @@ export function registerEvolveCommands(program: Command): void {
           checkpointSeconds: opts.checkpointEvery === undefined ? undefined : nonNegativeNumber(opts.checkpointEvery, '--checkpoint-every'),
           retryFailed: Boolean(opts.retryFailed),
           handleSignals: true,
+          program: invocation(),
         });
         if (outcome.interrupted) {
           // 130 is the shell's code for a run stopped by Ctrl-C.

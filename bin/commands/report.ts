@@ -2,43 +2,11 @@
 // and finite-size fits. Also the analysis options that `summary` shares.
 import path from 'node:path';
 import type { Command } from 'commander';
-import { InputError } from '../../src/errors.js';
-import { renderReport, reportInputFromRun } from '../../src/report.js';
-import { makeFolderFor, writeFileAtomic } from '../../src/runfiles.js';
-import { loadScanRun } from '../../src/summary.js';
-import type { AnalysisOptions } from '../../src/transitions.js';
-import { checkOutOption, collect } from './shared.js';
-
-export interface AnalysisFlags {
-  fit: string[];
-  power?: string;
-  terms?: string;
-  parameter?: string;
-}
-
-/** Adds the options that choose the indicators' axis and the finite-size fits. */
-export function addAnalysisOptions(command: Command): Command {
-  return command
-    .option('--parameter <key>', 'axis the transition indicators run along (default: the last numeric axis that is not a size)')
-    .option('--fit <observable>', 'fit this observable against 1/size^p when chain.sites or levels.count is scanned: E0, E0/L, gap, string_width, entropy, ... (repeatable)', collect, [])
-    .option('--power <p>', 'power p of 1/size in the finite-size fits (default 1)')
-    .option('--terms <k>', 'coefficients of the fit polynomial in 1/size^p (default 2: a straight line)');
-}
-
-export function analysisOptions(flags: AnalysisFlags): AnalysisOptions {
-  const options: AnalysisOptions = { fit: flags.fit, parameter: flags.parameter };
-  if (flags.power !== undefined) {
-    const p = Number(flags.power);
-    if (!Number.isFinite(p) || p <= 0) throw new InputError(`--power: expected a positive number, got "${flags.power}"`);
-    options.power = p;
-  }
-  if (flags.terms !== undefined) {
-    const k = Number(flags.terms);
-    if (!Number.isInteger(k) || k < 1) throw new InputError(`--terms: expected a positive integer, got "${flags.terms}"`);
-    options.terms = k;
-  }
-  return options;
-}
+import { InputError } from '../../src/errors/errors.js';
+import { renderReport, reportInputFromRun } from '../../src/output/report/report.js';
+import { makeFolderFor, writeFileAtomic } from '../../src/runs/runFiles.js';
+import { loadScanRun } from '../../src/scan/scanRun.js';
+import { addAnalysisOptions, analysisOptions, checkOutOption, type AnalysisFlags } from './shared.js';
 
 export function registerReportCommands(program: Command): void {
   addAnalysisOptions(

@@ -2,15 +2,15 @@
 import type { Command } from 'commander';
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
-import { InputError } from '../../src/errors.js';
-import { formatBytes, parseMemorySize } from '../../src/resources.js';
-import { mergeRuns } from '../../src/shard.js';
-import { planBatch } from '../../src/batch.js';
-import { checkOutOption, collect } from './shared.js';
-import { makeFolderFor } from '../../src/runfiles.js';
-import { commandLine, invocation } from '../../src/invocation.js';
-import { shellQuote } from '../../src/tables.js';
-import { PARTIAL_FAILURE } from './scan.js';
+import { InputError } from '../../src/errors/errors.js';
+import { formatBytes } from '../../src/format/bytes.js';
+import { parseMemorySize } from '../../src/point/memory.js';
+import { mergeRuns } from '../../src/scan/shard.js';
+import { planBatch } from '../../src/scan/batch.js';
+import { checkOutOption, collect, PARTIAL_FAILURE } from './shared.js';
+import { makeFolderFor } from '../../src/runs/runFiles.js';
+import { commandLine, invocation } from '../invocation.js';
+import { shellQuote } from '../../src/format/tables.js';
 
 function listed(indices: number[]): string {
   return indices.length <= 12 ? indices.join(', ') : `${indices.slice(0, 12).join(', ')}, ... (${indices.length} in all)`;

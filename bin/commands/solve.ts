@@ -1,15 +1,15 @@
 // `check`, `solve` and `demo`: one model spec at a time.
 import type { Command } from 'commander';
-import { loadSpec } from '../../src/spec.js';
-import { planPoint, solvePoint } from '../../src/point.js';
-import type { SectorProgress } from '../../src/sectorSolve.js';
-import type { SectorLabel } from '../../src/symmetry.js';
-import { describePlan, describeRecord } from '../../src/tables.js';
-import { runDemo } from '../../src/demo.js';
+import { loadSpec } from '../../src/spec/spec.js';
+import { planPoint, solvePoint } from '../../src/point/solvePoint.js';
+import type { SectorProgress } from '../../src/symmetry/sectorSolve.js';
+import type { SectorLabel } from '../../src/symmetry/group.js';
+import { describePlan, describeRecord } from '../../src/point/describe.js';
+import { runDemo } from '../../src/demo/demo.js';
 import { collect, memoryLimit } from './shared.js';
-import { describeLabEnergies, labEnergies, labUnits } from '../../src/units.js';
-import { describeScan, describeWork } from '../../src/scan.js';
-import { defaultWorkerCount } from '../../src/scanRunner.js';
+import { describeLabEnergies, labEnergies, labUnits } from '../../src/spec/units.js';
+import { describeScan, describeWork } from '../../src/scan/plan.js';
+import { defaultWorkerCount } from '../../src/scan/runner.js';
 
 export function registerSolveCommands(program: Command): void {
   program

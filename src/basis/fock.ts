@@ -18,7 +18,7 @@
 //   boson     occupations o_0..o_{N-1} with sum <= max_per_site   C(K + N, N) local states
 // Local states are sorted by particle count, so the empty site is local state 0.
 
-import { ResourceError } from '../errors.js';
+import { ResourceError } from '../errors/errors.js';
 
 export type ItinerantKind = 'hardcore' | 'boson' | 'fermion';
 

@@ -26,9 +26,9 @@
 // For a degenerate ground space every quantity is the average over the space (the condensate
 // fraction is that of the averaged rho).
 
-import { symmetricEigen } from '../solver/symmetricEigen.js';
+import { symmetricEigen } from '../linalg/symmetricEigen.js';
 import type { FockBasis } from '../basis/fock.js';
-import type { Observables } from '../observables.js';
+import type { Observables } from './pinned.js';
 
 /** Expected counts below this are "never occupied". */
 const EMPTY = 1e-12;

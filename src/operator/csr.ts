@@ -1,7 +1,7 @@
 // Stored sparse matrices in compressed rows.
 
-import type { HermitianOperator } from '../operator.js';
-import { arenaHolding, type VectorArena } from '../simd.js';
+import type { HermitianOperator } from './hermitian.js';
+import { arenaHolding, type VectorArena } from '../simd/arena.js';
 
 /**
  * A stored sparse Hermitian matrix in compressed rows (full rows, both triangles), for bases whose

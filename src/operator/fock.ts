@@ -18,13 +18,13 @@
 // plus the change of the few rank-table terms the move touches (see src/basis/fock.ts). The number
 // of stored entries is known in closed form before building (fockOffDiagonalCount), so every array
 // is allocated once at its final size. The result is an ordinary CsrOperator in shared memory, so
-// threaded products (src/parallel.ts) apply to it unchanged.
+// threaded products (src/operator/threaded.ts) apply to it unchanged.
 
 import type { FockBasis, LocalSpace } from '../basis/fock.js';
 import { buildLocalSpace } from '../basis/fock.js';
-import { ResourceError } from '../errors.js';
-import type { Model } from '../model.js';
-import type { VectorArena } from '../simd.js';
+import { ResourceError } from '../errors/errors.js';
+import type { Model } from '../model/model.js';
+import type { VectorArena } from '../simd/arena.js';
 import { CsrOperator } from './csr.js';
 
 /** Largest number of stored entries: typed arrays are indexed by 32-bit integers here. */
@@ -239,7 +239,7 @@ export function planFockOperator(model: Model, dim: number): FockPlan {
   return { nonzeros: stored, bytes: 8 * (dim + 1) + stored * (4 + valueBytes) };
 }
 
-/** Arrays the product threads can share (src/parallel.ts) without copying the matrix. */
+/** Arrays the product threads can share (src/operator/threaded.ts) without copying the matrix. */
 function shared<T extends Float64Array | Int32Array>(length: number, kind: { new (buffer: SharedArrayBuffer): T; BYTES_PER_ELEMENT: number }): T {
   const out = new kind(new SharedArrayBuffer(Math.max(1, length) * kind.BYTES_PER_ELEMENT));
   return out.length === length ? out : (out.subarray(0, length) as T);

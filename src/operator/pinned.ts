@@ -1,10 +1,10 @@
 // The pinned Hamiltonian as strided block loops over the mixed-radix index.
 
-import type { PinnedBasis } from '../basis.js';
-import type { Model } from '../model.js';
-import type { HermitianOperator } from '../operator.js';
+import type { PinnedBasis } from '../basis/basis.js';
+import type { Model } from '../model/model.js';
+import type { HermitianOperator } from './hermitian.js';
 import { complexRowInto } from './csr.js';
-import { arenaHolding, type VectorArena } from '../simd.js';
+import { arenaHolding, type VectorArena } from '../simd/arena.js';
 
 /** Byte offsets of the block pass's data copied into an arena (see PinnedOperator.placementIn). */
 export interface BlockPlacement {

@@ -1,8 +1,8 @@
 // The pinned Hamiltonian one basis state at a time: H|s> = sum_t <t|H|s> |t>. Symmetry sectors
 // and symmetry checks need the individual matrix elements of a state, not a whole product.
 
-import type { PinnedBasis } from '../basis.js';
-import type { Model } from '../model.js';
+import type { PinnedBasis } from '../basis/basis.js';
+import type { Model } from '../model/model.js';
 
 /** Reusable output of `PinnedColumns.of`: targets and amplitudes <t|H|s>, diagonal first. */
 export interface ColumnBuffer {

@@ -5,7 +5,7 @@
 ;; Conventions: every pointer is a byte offset into the shared memory; `start` and `end` count
 ;; doubles (for complex vectors: interleaved re, im, so both are even). A "set" is an i32 table of
 ;; pointers to `count` vectors. Coefficient arrays hold one double per vector (real) or two (re, im).
-;; The JavaScript versions in kernels.ts are the reference: same loops, same grouping.
+;; The JavaScript versions in linalg/vectorKernels.ts are the reference: same loops, same grouping.
 (module
   (import "env" "memory" (memory 1 65536 shared))
 

@@ -1,4 +1,4 @@
-// Generated from vector.wat by `npm run wasm` (wabt); tests/solver/kernels.test.ts checks that
+// Generated from vector.wat by `npm run wasm` (wabt); tests/linalg/vectorKernels.test.ts checks that
 // it matches its source. Do not edit by hand.
 export const VECTOR_WASM_BASE64 =
   'AGFzbQEAAAABVAlgBn9/f39/fwBgBH9/fH8AYAV/f3x8fwBgCX9/f39/f39/fwBgCn9/f39/f39/f38AYAd/f39/f39/AGAI' +

@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { basisDimension } from '../../src/basis.js';
+import { basisDimension } from '../../src/basis/basis.js';
 import { FockBasis, fockDimension, type ItinerantKind } from '../../src/basis/fock.js';
-import { buildModel } from '../../src/model.js';
-import { validateSpec } from '../../src/spec.js';
-import { enumerateStates, key } from '../support/fock-reference.js';
+import { buildModel } from '../../src/model/model.js';
+import { validateSpec } from '../../src/spec/spec.js';
+import { enumerateStates, key } from '../support/fockReference.js';
 
 // Binomial coefficient by Pascal's rule, written independently of src/.
 function choose(n: number, k: number): number {

@@ -1,7 +1,7 @@
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
-import { solvePoint } from '../../src/point.js';
-import { validateSpec, type Spec } from '../../src/spec.js';
+import { solvePoint } from '../../src/point/solvePoint.js';
+import { validateSpec, type Spec } from '../../src/spec/spec.js';
 import {
   applyLadders,
   denseFockHamiltonian,
@@ -10,7 +10,7 @@ import {
   key,
   randomItinerantSpec,
   type FockReference,
-} from '../support/fock-reference.js';
+} from '../support/fockReference.js';
 import { realEmbedding } from '../support/reference.js';
 
 type Kind = 'hardcore' | 'boson' | 'fermion';
@@ -113,7 +113,7 @@ function expectClose(actual: number[][], expected: number[][], digits: number): 
 
 // Ground states of random small specs (seeds chosen for a non-degenerate ground state, checked), observables from rungchain's
 // pipeline against the same quantities evaluated on ml-matrix's dense ground state of the plain
-// reference Hamiltonian (tests/support/fock-reference.ts).
+// reference Hamiltonian (tests/support/fockReference.ts).
 describe('itinerant observables against a dense reference ground state', () => {
   const cases: [number, Kind, number, number, number, { periodic?: boolean; complex?: boolean; maxPerSite?: number }][] = [
     [42, 'hardcore', 5, 3, 3, { periodic: true }],

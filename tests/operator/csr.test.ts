@@ -1,7 +1,7 @@
 import { Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
 import { ChunkSpares, CsrBuilder } from '../../src/operator/csr.js';
-import { VectorArena } from '../../src/simd.js';
+import { VectorArena } from '../../src/simd/arena.js';
 import { rng } from '../support/random.js';
 
 // A stored matrix built in an arena runs its product in WebAssembly; it must give the plain loop's

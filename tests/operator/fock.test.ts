@@ -1,12 +1,12 @@
 import { describe, expect, it } from 'vitest';
 import { FockBasis } from '../../src/basis/fock.js';
-import { buildModel } from '../../src/model.js';
+import { buildModel } from '../../src/model/model.js';
 import { buildFockOperator, planFockOperator } from '../../src/operator/fock.js';
-import { lowestEigenpairs } from '../../src/solver.js';
-import { validateSpec, type Spec } from '../../src/spec.js';
-import { denseFockHamiltonian, denseGround, key, randomItinerantSpec, type FockReference } from '../support/fock-reference.js';
+import { lowestEigenpairs } from '../../src/solver/eigensolver.js';
+import { validateSpec, type Spec } from '../../src/spec/spec.js';
+import { denseFockHamiltonian, denseGround, key, randomItinerantSpec, type FockReference } from '../support/fockReference.js';
 import { denseSpectrum } from '../support/reference.js';
-import { VectorArena } from '../../src/simd.js';
+import { VectorArena } from '../../src/simd/arena.js';
 
 type Kind = 'hardcore' | 'boson' | 'fermion';
 
@@ -48,7 +48,7 @@ const cases: [number, Kind, number, number, number, { periodic?: boolean; comple
 ];
 
 // The stored Fock-space matrix against the plain dense construction from second quantization in
-// tests/support/fock-reference.ts (element by element, with ml-matrix storage).
+// tests/support/fockReference.ts (element by element, with ml-matrix storage).
 describe('Fock-space operator against the dense second-quantized reference', () => {
   for (const [seed, kind, L, N, Np, options] of cases) {
     it(`${kind} seed ${seed}: L=${L} N=${N} Np=${Np} ${options.periodic ? 'periodic' : 'open'}${options.complex ? ' complex' : ''}: every matrix element`, () => {
@@ -89,7 +89,7 @@ describe('Fock-space operator against the dense second-quantized reference', () 
   }
 });
 
-// Lanczos (src/solver.ts, dense path disabled) on our operator against ml-matrix's dense
+// Lanczos (src/solver/eigensolver.ts, dense path disabled) on our operator against ml-matrix's dense
 // eigensolver on the reference matrix: the lowest eigenvalues must agree.
 describe('Lanczos on Fock operators against ml-matrix dense eigenvalues', () => {
   const spectra: [number, Kind, number, number, number, { periodic?: boolean; complex?: boolean; maxPerSite?: number }][] = [

@@ -1,6 +1,6 @@
 // Checked narrowing for tests: a wrong shape fails the test with a message instead of a cast
 // hiding it from the type checker.
-import type { CutEntanglement } from '../../src/entanglement.js';
+import type { CutEntanglement } from '../../src/observables/entanglement.js';
 
 /** The member of a `kind`-tagged union with the given kind (for example the pinned basis). */
 export function ofKind<T extends { kind: string }, K extends T['kind']>(value: T, kind: K): Extract<T, { kind: K }> {

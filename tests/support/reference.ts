@@ -3,7 +3,7 @@
 // src/ beyond the validated spec.
 
 import { Matrix, EigenvalueDecomposition } from 'ml-matrix';
-import type { Spec } from '../../src/spec.js';
+import type { Spec } from '../../src/spec/spec.js';
 
 export interface DenseHermitian {
   dim: number;

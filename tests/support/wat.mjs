@@ -20,7 +20,7 @@ export async function compiledVectorKernels() {
 export function generatedSource(base64) {
   const lines = base64.match(/.{1,96}/g) ?? [];
   return [
-    '// Generated from vector.wat by `npm run wasm` (wabt); tests/solver/kernels.test.ts checks that',
+    '// Generated from vector.wat by `npm run wasm` (wabt); tests/linalg/vectorKernels.test.ts checks that',
     '// it matches its source. Do not edit by hand.',
     'export const VECTOR_WASM_BASE64 =',
     lines.map((l) => `  '${l}'`).join(' +\n') + ';',

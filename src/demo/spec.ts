@@ -1,0 +1,9 @@
+// The demo's chain, shared by the printed story (demo.ts) and its HTML report (report.ts).
+
+export const DEMO_SPEC = {
+  chain: { sites: 6, boundary: 'periodic' },
+  levels: { count: 4, boundary: 'open', tunnelling: 1 },
+  exchange: { strength: 1, range: 'nearest', weights: 'rotor' },
+  particles: { kind: 'pinned' },
+  solve: { states: 2, tolerance: 1e-9 },
+};

@@ -1,0 +1,241 @@
+// Summaries of a scan's run folder: one row per point (readable, CSV or JSON), per-site and
+// per-level observables in long format, and done / failed / pending counts.
+
+import os from 'node:os';
+import { lockIsStale, readLock, type LockInfo } from '../runs/runFiles.js';
+import type { ScanParams, ScanValue } from '../scan/plan.js';
+import type { ScanRunSummary, SummaryRow } from '../scan/scanRun.js';
+import { columnScale, csv, fmt, fmtNoise, shellCommand, table } from '../format/tables.js';
+import { formatBytes } from '../format/bytes.js';
+
+function finished(summary: ScanRunSummary): SummaryRow[] {
+  return summary.rows.filter((r) => r.record !== null);
+}
+
+/** Scalar observables present in any record (string_width, and whatever later issues add). */
+function scalarObservables(rows: SummaryRow[]): string[] {
+  const names = new Set<string>();
+  for (const r of rows) {
+    const obs = r.record?.result?.observables;
+    if (obs) for (const [k, v] of Object.entries(obs)) if (typeof v === 'number') names.add(k);
+  }
+  return [...names];
+}
+
+// ---------------------------------------------------------------------------------------------
+// Tidy rows: JSON and CSV
+
+/**
+ * One object per finished point: its scanned parameters under their key paths, status, energies,
+ * gap and the observables of the output contract (scalar observables also at top level, for
+ * plotting tools), with how it was solved.
+ */
+export function summaryJson(summary: ScanRunSummary): Record<string, unknown>[] {
+  const scalars = scalarObservables(summary.rows);
+  return finished(summary).map((row) => {
+    const r = row.record!;
+    const result = r.result;
+    const out: Record<string, unknown> = { index: row.index, ...row.params, status: r.status };
+    if (r.status === 'failed') out.error = r.error ?? 'unknown';
+    out.energies = result ? result.energies : null;
+    out.gap = result ? result.gap : null;
+    out.gap_above_ground = result ? (result.gap_above_ground ?? null) : null;
+    out.observables = result ? result.observables : null;
+    for (const name of scalars) out[name] = result ? ((result.observables[name] as number | undefined) ?? null) : null;
+    out.dimension = result ? result.basis.dimension : null;
+    out.converged = result ? result.solver.converged : null;
+    out.degeneracy = result ? result.solver.degeneracy : null;
+    out.degeneracy_complete = result ? (result.solver.degeneracy_complete ?? null) : null;
+    out.iterations = r.iterations;
+    out.warm_start = r.warm_start;
+    out.overlap_previous = r.overlap_previous ?? null;
+    out.seconds = r.seconds;
+    return out;
+  });
+}
+
+function paramKeys(summary: ScanRunSummary): string[] {
+  return summary.section.axes.map((a) => a.key);
+}
+
+/** Tidy CSV: one row per finished point; energies as E0, E1, ...; failed points keep their reason. */
+export function summaryCsv(summary: ScanRunSummary): string {
+  const rows = finished(summary);
+  const keys = paramKeys(summary);
+  const scalars = scalarObservables(rows);
+  const states = Math.max(0, ...rows.map((r) => r.record!.result?.energies.length ?? 0));
+  const header = ['index', ...keys, 'status', ...Array.from({ length: states }, (_, k) => `E${k}`), 'gap', ...scalars, 'dimension', 'converged', 'degeneracy', 'degeneracy_complete', 'iterations', 'warm_start', 'overlap_previous', 'seconds', 'error'];
+  const body = rows.map((row) => {
+    const r = row.record!;
+    const res = r.result;
+    return [
+      row.index,
+      ...keys.map((k) => row.params[k]),
+      r.status,
+      ...Array.from({ length: states }, (_, k) => res?.energies[k]),
+      res?.gap,
+      ...scalars.map((s) => res?.observables[s]),
+      res?.basis.dimension,
+      res?.solver.converged,
+      res?.solver.degeneracy,
+      res?.solver.degeneracy_complete,
+      r.iterations,
+      r.warm_start,
+      r.overlap_previous,
+      r.seconds,
+      r.error,
+    ];
+  });
+  return csv(header, body);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Long format: per-site and per-level observables
+
+export interface LongRow {
+  index: number;
+  params: ScanParams;
+  observable: string;
+  site: number;
+  /** Level n for populations; the second site j for pair_separation; null otherwise. */
+  level: number | null;
+  other_site: number | null;
+  value: number;
+}
+
+export function longRows(summary: ScanRunSummary): LongRow[] {
+  const out: LongRow[] = [];
+  for (const row of summary.rows) {
+    const obs = row.record?.result?.observables;
+    if (!obs) continue;
+    const base = { index: row.index, params: row.params };
+    obs.populations.forEach((p, i) => p.forEach((value, n) => out.push({ ...base, observable: 'populations', site: i, level: n, other_site: null, value })));
+    obs.level_mean.forEach((value, i) => out.push({ ...base, observable: 'level_mean', site: i, level: null, other_site: null, value }));
+    obs.spread.forEach((value, i) => out.push({ ...base, observable: 'spread', site: i, level: null, other_site: null, value }));
+    // Per-site observables of itinerant kinds (src/observables/itinerant.ts), when present.
+    for (const name of ['density', 'double_occupancy']) {
+      const values = obs[name];
+      if (Array.isArray(values)) values.forEach((value: number, i: number) => out.push({ ...base, observable: name, site: i, level: null, other_site: null, value }));
+    }
+    obs.pair_separation.forEach((p, i) =>
+      p.forEach((value, j) => {
+        if (j > i) out.push({ ...base, observable: 'pair_separation', site: i, level: null, other_site: j, value });
+      }),
+    );
+  }
+  return out;
+}
+
+export function longJson(summary: ScanRunSummary): Record<string, unknown>[] {
+  return longRows(summary).map((r) => ({ index: r.index, ...r.params, observable: r.observable, site: r.site, level: r.level, other_site: r.other_site, value: r.value }));
+}
+
+export function longCsv(summary: ScanRunSummary): string {
+  const keys = paramKeys(summary);
+  return csv(
+    ['index', ...keys, 'observable', 'site', 'level', 'other_site', 'value'],
+    longRows(summary).map((r) => [r.index, ...keys.map((k) => r.params[k]), r.observable, r.site, r.level, r.other_site, r.value]),
+  );
+}
+
+export function longText(summary: ScanRunSummary): string {
+  const keys = paramKeys(summary);
+  const rows = longRows(summary);
+  // Each observable's rounding noise is measured against 1 (probabilities, levels) or its largest value.
+  const scales = new Map<string, number>();
+  for (const r of rows) scales.set(r.observable, Math.max(scales.get(r.observable) ?? 1, Math.abs(r.value)));
+  return table(
+    ['point', ...keys, 'observable', 'site', 'level', 'other site', 'value'],
+    rows.map((r) => [String(r.index), ...keys.map((k) => showValue(r.params[k])), r.observable, String(r.site), r.level === null ? '' : String(r.level), r.other_site === null ? '' : String(r.other_site), fmtNoise(r.value, scales.get(r.observable)!, 8)]),
+  );
+}
+
+// ---------------------------------------------------------------------------------------------
+// Readable
+
+function showValue(v: ScanValue | undefined): string {
+  if (v === undefined) return '';
+  return typeof v === 'number' ? fmt(v, 8) : typeof v === 'string' ? v : JSON.stringify(v);
+}
+
+export function summaryText(summary: ScanRunSummary): string {
+  const keys = paramKeys(summary);
+  // Energies and gaps are rounding noise below the energies' scale; widths below 1 or their own.
+  const energyScale = columnScale(summary.rows.map((row) => row.record?.result?.energies[0]));
+  const widthScale = columnScale(summary.rows.map((row) => row.record?.result?.observables.string_width), 1);
+  const rows = summary.rows.map((row) => {
+    const r = row.record;
+    const res = r?.result;
+    return [
+      String(row.index),
+      ...keys.map((k) => showValue(row.params[k])),
+      row.status + (res && !res.solver.converged ? ' (not converged)' : '') + (res && res.solver.degeneracy_complete === false ? ' (incomplete level)' : ''),
+      res ? fmtNoise(res.energies[0], energyScale, 10) : '',
+      res ? fmtNoise(res.gap, energyScale, 6) : '',
+      res ? fmtNoise(res.observables.string_width, widthScale, 6) : '',
+      res ? String(res.basis.dimension) : '',
+      r && r.status === 'done' ? `${r.iterations}${r.warm_start ? ' w' : ''}` : '',
+      r ? fmt(r.seconds, 3) : '',
+    ];
+  });
+  const out = [table(['point', ...keys, 'status', 'E0', 'gap', 'string width', 'dim', 'products', 'seconds'], rows)];
+  const c = summary.counts;
+  out.push('');
+  out.push(`${c.done} done, ${c.failed} failed, ${c.pending} pending of ${c.total}` + (summary.rows.some((r) => r.record?.warm_start) ? '   (w: Lanczos started from the previous point\'s ground state)' : ''));
+  const incomplete = summary.rows.filter((r) => r.record?.result?.solver.degeneracy_complete === false).map((r) => r.index);
+  if (incomplete.length > 0) {
+    out.push(`WARNING: ${incomplete.length} point(s) (${incomplete.slice(0, 10).join(', ')}${incomplete.length > 10 ? ', ...' : ''}) found not every copy of their ground level: their observables average only the copies found`);
+  }
+  const failures = summary.rows.filter((r) => r.status === 'failed');
+  for (const f of failures.slice(0, 20)) out.push(`point ${f.index} failed: ${f.record!.error}`);
+  if (failures.length > 20) out.push(`... and ${failures.length - 20} more failed points`);
+  return out.join('\n');
+}
+
+// ---------------------------------------------------------------------------------------------
+// Status
+
+function writerState(dir: string): { lock: LockInfo | null; running: boolean } {
+  const lock = readLock(dir);
+  if (!lock) return { lock: null, running: false };
+  return { lock, running: !lockIsStale(lock) };
+}
+
+/** `program`: how the printed resume command starts rungchain (the command line passes its own invocation). */
+export function statusText(summary: ScanRunSummary, program = 'rungchain'): string {
+  const { manifest, counts } = summary;
+  const { lock, running } = writerState(summary.dir);
+  const axes = summary.section.axes.map((a) => `${a.key} (${a.values.length})`).join(summary.section.zip ? ' with ' : ' x ');
+  const lines = [
+    `run folder   ${summary.dir}`,
+    `scan         ${counts.total} points, ${summary.section.zip ? 'zipped' : 'grid'}: ${axes}`,
+    `started      ${manifest.created} on ${manifest.machine?.hostname ?? '?'} (rungchain ${manifest.version})`,
+    `done         ${counts.done}`,
+    `failed       ${counts.failed}${counts.failed > 0 ? '   (rerun with --retry-failed)' : ''}`,
+    `pending      ${counts.pending}`,
+    `records      ${summary.records} in ${formatBytes(summary.fileBytes)}` +
+      (summary.tornBytes > 0 ? `, then ${summary.tornBytes} bytes of an unfinished record${running ? ' (being written)' : ' (dropped on resume)'}` : ', intact'),
+    `writer       ${running && lock ? `running: pid ${lock.pid} on ${lock.hostname} since ${lock.started}` : lock ? `none (stale lock of pid ${lock.pid} on ${lock.hostname}; taken over on resume)` : 'none'}`,
+  ];
+  if (lock && lock.hostname !== os.hostname()) lines.push(`             (the lock is from another machine; it cannot be checked from here)`);
+  if (!running && counts.pending + counts.failed > 0 && typeof manifest.spec_path === 'string') {
+    const overrides = Array.isArray(manifest.overrides) ? (manifest.overrides as string[]).flatMap((o) => ['--set', o]) : [];
+    const shard = manifest.shard as { index: number; count: number } | undefined;
+    const shardArgs = shard ? ['--shard', `${shard.index}/${shard.count}`] : [];
+    lines.push(`resume with  ${shellCommand(program, ['scan', manifest.spec_path, ...overrides, ...shardArgs, '--out', summary.dir])}`);
+  }
+  return lines.join('\n');
+}
+
+export function statusJson(summary: ScanRunSummary): Record<string, unknown> {
+  const { lock, running } = writerState(summary.dir);
+  return {
+    dir: summary.dir,
+    identity: summary.manifest.identity,
+    ...summary.counts,
+    records: summary.records,
+    torn_bytes: summary.tornBytes,
+    running,
+    writer: running ? lock : null,
+  };
+}

@@ -1,0 +1,182 @@
+// Memory estimates made before anything large is allocated, and the limit they are checked against.
+
+import os from 'node:os';
+import { ResourceError } from '../errors/errors.js';
+import { formatBytes } from '../format/bytes.js';
+import type { Model } from '../model/model.js';
+import type { SymmetryName } from '../symmetry/group.js';
+
+const BYTES_PER_DOUBLE = 8;
+/**
+ * Node itself with this engine's modules loaded (measured: 50 MiB resident), and the code compiled,
+ * the WebAssembly kernels instantiated and the plan made by a solve of a few thousand states (up
+ * to 62 MiB at the peak of an 8x3 chain).
+ */
+export const RUNTIME_BASELINE_BYTES = 64 * 1024 * 1024;
+/** Each helper thread's own V8 isolate and modules (measured: 17 MiB for the two of a 12x3 full-space solve). */
+export const HELPER_THREAD_BYTES = 12 * 1024 * 1024;
+/**
+ * Typed arrays that a sector-by-sector solve leaves behind (each sector's matrix build chunks and
+ * vectors outside the arena) are freed only by a garbage collection, which V8 starts once such
+ * memory has grown by its soft limit (64 MiB). Measured, what waits for it: 29 to 44 MiB on an
+ * 11x3 chain (15 MiB of live data), less beside smaller data; so four times the live data, at
+ * most this much.
+ */
+export const SECTOR_GARBAGE_BYTES = 48 * 1024 * 1024;
+
+/** The default memory limit: a share of physical memory that leaves the machine usable. */
+export function defaultMemoryLimit(): number {
+  return Math.floor(os.totalmem() * 0.6);
+}
+
+/**
+ * Parses a memory size as written: SI units are powers of 1000 ("500MB" is 500e6 bytes, also kB,
+ * GB, TB), binary units powers of 1024 ("500MiB" is 500 * 2^20, also KiB, GiB, TiB, or "8Gi"), a
+ * bare letter ("8G", "512M", as Slurm and ulimit write them) binary too, a plain number bytes.
+ */
+export function parseMemorySize(text: string, what = '--max-memory'): number {
+  const m = /^\s*([0-9]*\.?[0-9]+)\s*(?:([kKmMgGtT])(i?)([bB]?)|([bB]?))\s*$/.exec(text);
+  if (!m) throw new ResourceError(`${what}: cannot read "${text}" as a memory size (e.g. 8GB = 8e9 bytes, 8GiB = 8 * 2^30 bytes)`);
+  const power = m[2] ? 'kmgt'.indexOf(m[2].toLowerCase()) + 1 : 0;
+  const si = m[2] !== undefined && m[3] === '' && m[4] !== '';
+  return Math.floor(parseFloat(m[1]) * (si ? 1000 : 1024) ** power);
+}
+
+/** A warning to print when a memory limit is more than this machine has, or null. */
+export function memoryLimitWarning(limit: number, what = '--max-memory'): string | null {
+  const total = os.totalmem();
+  if (limit <= total) return null;
+  return `${what} ${formatBytes(limit)} is more than this machine's memory (${formatBytes(total)}); a problem that big would be stopped by the system, not refused here`;
+}
+
+export interface MemoryEstimate {
+  totalBytes: number;
+  parts: Record<string, number>;
+}
+
+/**
+ * Peak memory of one solve: the runtime and its helper threads, the operator's storage, the
+ * Krylov basis and work vectors of the eigensolver, the returned eigenvectors (copied out of the
+ * arena, both alive until it is recycled), and the observables' scratch.
+ */
+export function estimateSolveMemory(opts: {
+  dim: number;
+  isComplex: boolean;
+  operatorBytes: number;
+  krylovVectors: number;
+  states: number;
+  denseThreshold: number;
+  /** Threads for one product: each beyond the first means a product helper and a vector-kernel helper. */
+  threads?: number;
+}): MemoryEstimate {
+  const vector = opts.dim * (opts.isComplex ? 2 : 1) * BYTES_PER_DOUBLE;
+  const parts: Record<string, number> = { runtime: RUNTIME_BASELINE_BYTES, operator: opts.operatorBytes };
+  const helpers = opts.dim > opts.denseThreshold ? 2 * Math.max(0, (opts.threads ?? 1) - 1) : 0;
+  if (helpers > 0) parts.helper_threads = helpers * HELPER_THREAD_BYTES;
+  if (opts.dim <= opts.denseThreshold) {
+    // Dense matrix, its real embedding when complex, and the decomposition's copies.
+    const n = opts.isComplex ? 2 * opts.dim : opts.dim;
+    parts.dense = 4 * n * n * BYTES_PER_DOUBLE;
+  } else {
+    parts.krylov = (opts.krylovVectors + 3) * vector;
+  }
+  parts.eigenvectors = 2 * opts.states * vector;
+  parts.observables = opts.dim * BYTES_PER_DOUBLE;
+  let totalBytes = 0;
+  for (const v of Object.values(parts)) totalBytes += v;
+  return { totalBytes, parts };
+}
+
+export function assertWithinMemory(estimate: MemoryEstimate, limit: number, what: string): void {
+  if (estimate.totalBytes > limit) {
+    throw new ResourceError(
+      `${what} needs an estimated ${formatBytes(estimate.totalBytes)}, more than the memory limit ${formatBytes(limit)}` +
+        ` (raise it with --max-memory, or use symmetry sectors / fewer states)`,
+    );
+  }
+}
+
+/** Average number of stored elements per column of the pinned Hamiltonian (diagonal included). */
+export function pinnedColumnsPerState(model: Model): number {
+  const N = model.levels;
+  let offDiagonal = 0;
+  for (let a = 0; a < N; a++)
+    for (let b = 0; b < N; b++) if (a !== b && (model.localRe[a * N + b] !== 0 || model.localIm[a * N + b] !== 0)) offDiagonal++;
+  let links = 0;
+  for (const c of model.exchangeWeights) if (c !== 0) links++;
+  // a site in level b tunnels along the nonzero entries of column b: offDiagonal/N on average;
+  // a pair exchanges when its two levels are adjacent on a weighted link: 2*links/N^2 of configurations
+  return 1 + (model.sites * offDiagonal) / N + (model.exchangePairs.count * 2 * links) / (N * N);
+}
+
+/** Fraction of pinned states in the most populated total-level sector: (1+x+...+x^(N-1))^L's largest coefficient / N^L. */
+export function largestChargeFraction(sites: number, levels: number): number {
+  let poly = [1];
+  for (let i = 0; i < sites; i++) {
+    const next = new Array(poly.length + levels - 1).fill(0);
+    for (let q = 0; q < poly.length; q++) for (let n = 0; n < levels; n++) next[q + n] += poly[q] / levels;
+    poly = next;
+  }
+  return Math.max(...poly);
+}
+
+/**
+ * Size of the largest sector (with a margin), whether its arithmetic is complex (momentum sectors
+ * are), its vectors' length in doubles, and its stored matrix's nonzeros, before building anything.
+ */
+export function largestSector(dim: number, model: Model, used: Record<SymmetryName, boolean>): { sectorDim: number; complex: boolean; entries: number; nnz: number } {
+  const translations = used.translation ? model.sites : 1;
+  const flip = used.level_flip && !used.charge ? 2 : 1;
+  const fraction = used.charge ? largestChargeFraction(model.sites, model.levels) : 1;
+  // Momentum sectors other than 0 and pi are not split by parity, so they are the largest.
+  const parityHalves = used.reflection && !used.translation ? 2 : 1;
+  const sectorDim = Math.ceil((dim * fraction * 1.05) / (translations * flip * parityHalves)) + 64;
+  const complex = model.isComplex || used.translation;
+  return { sectorDim, complex, entries: sectorDim * (complex ? 2 : 1), nnz: sectorDim * pinnedColumnsPerState(model) };
+}
+
+/**
+ * Peak memory of a sector-by-sector solve: the runtime and its helper threads, the orbit maps over
+ * the full basis (a representative index and a group element per state), the ground-state
+ * probabilities, the largest sector's stored matrix and Krylov basis, full-space ground states
+ * when they are handed back, and the typed arrays waiting for a garbage collection.
+ */
+export function estimateSectorMemory(opts: {
+  dim: number;
+  model: Model;
+  used: Record<SymmetryName, boolean>;
+  krylovVectors: number;
+  states: number;
+  /** Sectors solved at once, each with its own matrix and Krylov basis (default 1). */
+  concurrent?: number;
+  /** Threads for one product of the largest sector solved alone: each beyond the first means a build, a product and a vector-kernel helper (default 1). */
+  productThreads?: number;
+  /** Whether full-space ground states are built (default: when the space has at most 2^22 states). */
+  expandGround?: boolean;
+}): MemoryEstimate {
+  const { dim, model, used } = opts;
+  const concurrent = opts.concurrent ?? 1;
+  const { sectorDim, nnz, complex } = largestSector(dim, model, used);
+  const scalar = complex ? 16 : 8;
+  const maps = used.reflection && used.translation ? 2 : 1;
+  const helpers = concurrent > 1 ? concurrent - 1 : 3 * Math.max(0, (opts.productThreads ?? 1) - 1);
+  const parts: Record<string, number> = {
+    runtime: RUNTIME_BASELINE_BYTES,
+    ...(helpers > 0 ? { helper_threads: helpers * HELPER_THREAD_BYTES } : {}),
+    orbit_maps: maps * dim * 6,
+    probabilities: dim * BYTES_PER_DOUBLE,
+    // The stored matrix and its build chunks, alive together while the chunks are copied into the
+    // arena (sectors reuse one arena, so no earlier sector's matrix waits for the GC): measured
+    // peaks of 12x4 and 16x3 chains held 1.7 to 1.9 matrices.
+    sector_matrix: concurrent * 2 * (nnz * (4 + scalar) + 8 * (sectorDim + 1)),
+    krylov: concurrent * (opts.krylovVectors + 3) * sectorDim * scalar,
+    kept_states: concurrent * 2 * opts.states * sectorDim * scalar,
+  };
+  if (opts.expandGround ?? dim <= 1 << 22) parts.ground_states = 2 * dim * 16;
+  let data = 0;
+  for (const [k, v] of Object.entries(parts)) if (k !== 'runtime' && k !== 'helper_threads') data += v;
+  parts.awaiting_gc = Math.min(SECTOR_GARBAGE_BYTES, 4 * data);
+  let totalBytes = 0;
+  for (const v of Object.values(parts)) totalBytes += v;
+  return { totalBytes, parts };
+}

@@ -1,0 +1,351 @@
+// One point of the data path: spec -> model -> basis -> operator -> solver -> observables -> record.
+// `planPoint` sizes the problem without allocating it; `solvePoint` runs it.
+
+import { basisDimension, buildBasis, MAX_DIMENSION, type PinnedBasis } from '../basis/basis.js';
+import { SpecError } from '../errors/errors.js';
+import { buildModel, type Model } from '../model/model.js';
+import { buildOperator, operatorStorage } from '../operator/build.js';
+import { basisProbabilities, pinnedObservables, type Observables } from '../observables/pinned.js';
+import { itinerantObservables } from '../observables/itinerant.js';
+import { planFockOperator } from '../operator/fock.js';
+import { cutsFor, pinnedEntanglement } from '../observables/entanglement.js';
+import { assertWithinMemory, defaultMemoryLimit, estimateSectorMemory, estimateSolveMemory, largestSector, pinnedColumnsPerState, type MemoryEstimate } from './memory.js';
+import { defaultKrylovSize, degeneracyWindow, denseThresholdFor, GROUND_COPIES_CAP, lowestEigenpairs, type EigenResult } from '../solver/eigensolver.js';
+import type { Spec } from '../spec/spec.js';
+import { detectSymmetries, planSectors, type SectorLabel, type SymmetryCheck, type SymmetryName } from '../symmetry/group.js';
+import { solveInSectors, type SectorRun, type SectorSolveOptions } from '../symmetry/sectorSolve.js';
+import { coreCount, defaultProductThreads, ThreadedOperator, withThreads } from '../operator/threaded.js';
+import { VectorArena } from '../simd/arena.js';
+
+export interface PointPlan {
+  model: Model;
+  /** Symmetries checked against the operator, and which of them the solve will use. */
+  symmetries: SymmetryCheck[];
+  used: Record<SymmetryName, boolean> | null;
+  dimension: number;
+  storage: 'on-the-fly' | 'stored';
+  /** Nonzero matrix elements: stored ones, or what a stored matrix would hold for on-the-fly operators. */
+  nonzeros: number | null;
+  memory: MemoryEstimate;
+  /** Sectors solved at once on their own threads (1 without sectors). */
+  sectorThreads: number;
+}
+
+export interface PointRecord {
+  energies: number[];
+  gap: number | null;
+  /** Distance from the ground level to the next distinct level (copies within the degeneracy window are the ground level); null when no higher level was solved. */
+  gap_above_ground?: number | null;
+  observables: Observables;
+  basis: { kind: string; dimension: number; sites: number; levels: number; operator: string; nonzeros: number };
+  solver: {
+    method: string;
+    iterations: number;
+    restarts: number;
+    residuals: number[];
+    converged: boolean;
+    tolerance: number;
+    degeneracy: number;
+    /**
+     * Whether every copy of the lowest level was found (false: more than the cap, or the solver
+     * ran out of budget); the observables then average only the copies found.
+     */
+    degeneracy_complete: boolean;
+    seconds: number;
+    memory_estimate_bytes: number;
+    symmetries?: SymmetryName[];
+    sector_runs?: SectorRun[];
+  };
+  /** Quantum numbers of each state of `energies`, when solved in symmetry sectors. */
+  sectors?: (SectorLabel & { k: number | null })[];
+}
+
+export interface SolveOptions {
+  maxMemory?: number;
+  /** Start vector for the eigensolver (warm start from a neighbouring point). */
+  initial?: Float64Array;
+  /** Most threads one matrix-vector product may use (a scan running points in parallel passes its share). */
+  threads?: number;
+  /** Products, restarts and the worst residual so far; in a sector-by-sector solve, also where it stands. */
+  onProgress?: SectorSolveOptions['onProgress'];
+  /**
+   * Whether the caller uses `groundStates` (default true). A sector solve otherwise builds them
+   * only for entanglement: expanding sector states to the full space costs a pass over it per
+   * state (about 6% of a 10x4 solve) and the full-space vectors' memory.
+   */
+  groundStates?: boolean;
+}
+
+/**
+ * Sectors up to this many vector entries (doubles) are solved side by side, one thread each;
+ * larger ones one at a time with every core on each product. Measured (4 states, 2 cores): 14x3
+ * (largest sector 0.34 M entries) 13.4 s side by side against 20-25 s one at a time; 12x4 (1.4 M)
+ * 70 s against 77 s; 16x3 (2.7 M) 351 s against 312 s, with 5.0 GB against 3.0 GB at the peak.
+ */
+const SIDE_BY_SIDE_ENTRIES = 1 << 21;
+/**
+ * Below this many states a point is too quick to pay for starting the extra thread (about 0.1 s):
+ * measured 9x3 points at 0.27 s one at a time against 0.38 s side by side, 8x4 and 9x4 even, 10x4
+ * 2.9 s against 3.1 s, 11x4 17 s against 33 s.
+ */
+const SIDE_BY_SIDE_MIN_STATES = 1 << 19;
+
+/**
+ * Sizes a point: dimension, storage and memory estimate, allocating nothing large. Sectors are
+ * solved side by side (see SIDE_BY_SIDE_ENTRIES and SIDE_BY_SIDE_MIN_STATES) on as many threads as `limits.threads` (default:
+ * every core) and the spec allow, fewer when the sectors solved at once would not fit in
+ * `limits.maxMemory`.
+ */
+export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: number; groundStates?: boolean } = {}): PointPlan {
+  const model = buildModel(spec);
+  const dimension = basisDimension(model);
+  const states = Math.min(spec.solve.states, dimension);
+  const { symmetries, used } = chooseSymmetries(spec, model);
+  const threadsFor = (work: number) => productThreads(spec, { threads: limits.threads }, work);
+  if (used) {
+    const sectors = planSectors(used, model, spec.solve.sector ?? {}).length;
+    const { entries, nnz } = largestSector(dimension, model, used);
+    const allowed = entries > SIDE_BY_SIDE_ENTRIES || dimension < SIDE_BY_SIDE_MIN_STATES ? 1 : Math.min(sectors, coreCount(), limits.threads ?? Infinity, spec.solve.threads === 'auto' ? Infinity : spec.solve.threads);
+    const limit = limits.maxMemory ?? defaultMemoryLimit();
+    const expandGround = (limits.groundStates !== false && dimension <= EXPAND_LIMIT) || (model.kind === 'pinned' && cutsFor(spec.solve.entanglement, model.sites, model.levels).length > 0);
+    const estimate = (concurrent: number) =>
+      estimateSectorMemory({ dim: dimension, model, used, krylovVectors: spec.solve.krylov ?? defaultKrylovSize(states, Infinity), states, concurrent, productThreads: threadsFor(nnz), expandGround });
+    let sectorThreads = Math.max(1, allowed);
+    let memory = estimate(sectorThreads);
+    while (sectorThreads > 1 && memory.totalBytes > limit) memory = estimate(--sectorThreads);
+    return { model, symmetries, used, dimension, storage: 'stored', nonzeros: null, memory, sectorThreads };
+  }
+  // Itinerant kinds store their matrix; its size is known in closed form before building.
+  const cuts = spec.solve.entanglement;
+  if (model.kind !== 'pinned' && cuts !== 'auto' && cuts !== 'none') {
+    throw new SpecError('solve.entanglement', `entanglement cuts are computed for pinned chains only, not for kind = "${model.kind}"; remove the key`);
+  }
+  const fock = model.kind === 'pinned' ? null : planFockOperator(model, dimension);
+  const work = fock ? fock.nonzeros : dimension * pinnedColumnsPerState(model);
+  const memory = estimateSolveMemory({
+    dim: dimension,
+    isComplex: model.isComplex,
+    operatorBytes: fock ? fock.bytes : dimension * 8, // the stored Fock matrix, or the pinned diagonal
+    krylovVectors: spec.solve.krylov ?? defaultKrylovSize(states, dimension),
+    states,
+    denseThreshold: denseThresholdFor(states),
+    threads: threadsFor(work),
+  });
+  return { model, symmetries, used: null, dimension, storage: fock ? 'stored' : 'on-the-fly', nonzeros: fock ? fock.nonzeros : null, memory, sectorThreads: 1 };
+}
+
+/** The symmetries a pinned spec really has (checked on its operator) and those the solve will use. */
+function chooseSymmetries(spec: Spec, model: Model): { symmetries: SymmetryCheck[]; used: Record<SymmetryName, boolean> | null } {
+  const choice = spec.solve.symmetries;
+  if (model.kind !== 'pinned' || choice === 'none') return { symmetries: [], used: null };
+  const dimension = basisDimension(model);
+  if (dimension > MAX_DIMENSION) return { symmetries: [], used: null };
+  const symmetries = detectSymmetries(model, buildBasis(model) as PinnedBasis);
+  const used = { translation: false, reflection: false, level_flip: false, charge: false } as Record<SymmetryName, boolean>;
+  for (const check of symmetries) {
+    const wanted = choice === 'auto' || choice.includes(check.name);
+    if (wanted && check.present) used[check.name] = true;
+    if (choice !== 'auto' && choice.includes(check.name) && !check.present) {
+      throw new SpecError('solve.symmetries', `${check.name}: ${check.detail}`);
+    }
+  }
+  const any = Object.values(used).some(Boolean);
+  return { symmetries, used: any ? used : null };
+}
+
+export interface SolvedPoint {
+  record: PointRecord;
+  /**
+   * Ground-state vectors (a degenerate ground space gives several), for warm starts and analysis.
+   * Empty after a sector solve asked with `groundStates: false`, or one too large to expand.
+   */
+  groundStates: Float64Array[];
+  /** The full-space eigensolver result (absent when solved in symmetry sectors). */
+  eigen?: EigenResult;
+}
+
+export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint {
+  const started = performance.now();
+  const plan = planPoint(spec, { maxMemory: options.maxMemory, threads: options.threads, groundStates: options.groundStates });
+  assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this problem');
+  const basis = buildBasis(plan.model);
+  if (plan.used && basis.kind === 'pinned') return solvePinnedInSectors(spec, plan, basis, options, started);
+  // A stored matrix is built in an arena, beside the solver's vectors, so its products run in WebAssembly.
+  const arena = basis.kind === 'pinned' ? null : VectorArena.acquire();
+  const op = buildOperator(plan.model, basis, arena);
+  const states = Math.min(spec.solve.states, basis.dim);
+  const threads = productThreads(spec, options, op.nonzeros());
+  const threaded = withThreads(op, threads, plan.model, basis.kind === 'pinned' ? basis : undefined);
+  let eigen: EigenResult;
+  try {
+    eigen = lowestEigenpairs(threaded, {
+    states,
+    tolerance: spec.solve.tolerance,
+    maxMatvecs: spec.solve.maxMatvecs ?? undefined,
+    krylovSize: spec.solve.krylov ?? undefined,
+    seed: spec.solve.seed,
+    denseThreshold: denseThresholdFor(states),
+    initial: options.initial,
+    onProgress: options.onProgress,
+    throwOnFailure: false,
+    groundCopies: groundCopiesCap(states, (op.isComplex ? 16 : 8) * basis.dim, plan.memory.totalBytes, options.maxMemory),
+    threads,
+    // The threads' own arena: vectors kept there are multiplied in place, without copies.
+    arena: threaded instanceof ThreadedOperator ? threaded.arena : arena,
+    });
+  } finally {
+    threaded.close();
+  }
+  // The solver's results are copies, and the operator is done with: the next point may reuse the memory.
+  arena?.recycle();
+  const ground = eigen.vectors.slice(0, eigen.degeneracy);
+  const observables =
+    basis.kind === 'pinned'
+      ? pinnedObservables(basis, basisProbabilities(ground, basis.dim, op.isComplex))
+      : itinerantObservables(basis, ground, op.isComplex, plan.model.chainPeriodic);
+  // Entanglement needs the state itself, so it is computed here; solve.entanglement keeps it cheap by default.
+  const cuts = basis.kind === 'pinned' ? cutsFor(spec.solve.entanglement, basis.sites, basis.levels) : [];
+  if (cuts.length > 0) observables.entanglement = pinnedEntanglement(ground, basis.sites, basis.levels, op.isComplex, cuts);
+  // `values` also holds copies of the ground level beyond `states`.
+  const energies = Array.from(eigen.values).slice(0, states);
+  const record: PointRecord = {
+    energies,
+    gap: energies.length > 1 ? energies[1] - energies[0] : null,
+    gap_above_ground: gapAboveGround(energies, spec.solve.tolerance),
+    observables,
+    basis: {
+      kind: plan.model.kind,
+      dimension: basis.dim,
+      sites: plan.model.sites,
+      levels: plan.model.levels,
+      operator: operatorStorage(op),
+      nonzeros: op.nonzeros(),
+    },
+    solver: {
+      method: eigen.method,
+      iterations: eigen.matvecs,
+      restarts: eigen.restarts,
+      residuals: Array.from(eigen.residuals).slice(0, states),
+      converged: eigen.converged,
+      tolerance: spec.solve.tolerance,
+      degeneracy: eigen.degeneracy,
+      degeneracy_complete: eigen.degeneracyComplete ?? false,
+      seconds: (performance.now() - started) / 1000,
+      memory_estimate_bytes: plan.memory.totalBytes,
+    },
+  };
+  return { record, groundStates: ground, eigen };
+}
+
+/**
+ * E - E0 for the lowest solved energy E above the ground level's degeneracy window (the window the
+ * solver counts copies of the ground level in), or null when every solved energy is a copy of E0.
+ */
+export function gapAboveGround(energies: ArrayLike<number>, tolerance: number): number | null {
+  if (energies.length === 0) return null;
+  const e0 = energies[0];
+  const window = degeneracyWindow(e0, tolerance);
+  for (let k = 1; k < energies.length; k++) if (energies[k] - e0 > window) return energies[k] - e0;
+  return null;
+}
+
+/**
+ * Most copies of the ground level to look for: GROUND_COPIES_CAP, fewer when their vectors
+ * (`vectorBytes` each) would not fit in the memory left beside the estimate; never fewer than `states`.
+ */
+function groundCopiesCap(states: number, vectorBytes: number, estimateBytes: number, maxMemory: number | undefined): number {
+  const spare = (maxMemory ?? defaultMemoryLimit()) - estimateBytes;
+  return Math.max(states, Math.min(GROUND_COPIES_CAP, states + Math.floor(Math.max(0, spare) / vectorBytes)));
+}
+
+/** Threads for one product: the spec's count or, by default, as many as the work pays for; never more than the caller allows. */
+function productThreads(spec: Spec, options: { threads?: number }, work: number): number {
+  const wanted = spec.solve.threads === 'auto' ? defaultProductThreads(work) : spec.solve.threads;
+  return Math.max(1, Math.min(wanted, options.threads ?? wanted));
+}
+
+/** Vectors this large are not expanded to the full space for callers (warm starts, entanglement). */
+const EXPAND_LIMIT = 1 << 22;
+
+function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, options: SolveOptions, started: number): SolvedPoint {
+  const model = plan.model;
+  const states = Math.min(spec.solve.states, basis.dim);
+  const cuts = cutsFor(spec.solve.entanglement, basis.sites, basis.levels);
+  const solution = solveInSectors(model, basis, plan.used!, {
+    states,
+    tolerance: spec.solve.tolerance,
+    maxMatvecs: spec.solve.maxMatvecs ?? undefined,
+    krylovSize: spec.solve.krylov ?? undefined,
+    seed: spec.solve.seed,
+    selection: spec.solve.sector,
+    initial: options.initial,
+    initialComplex: options.initial ? options.initial.length === 2 * basis.dim : false,
+    expandGround: (options.groundStates !== false && basis.dim <= EXPAND_LIMIT) || cuts.length > 0,
+    threadsFor: (work: number) => productThreads(spec, options, work),
+    sectorThreads: plan.sectorThreads,
+    onProgress: options.onProgress,
+    groundCopies: groundCopiesCap(states, (model.isComplex ? 16 : 8) * basis.dim, plan.memory.totalBytes, options.maxMemory),
+  });
+  // Callers get ground states in the model's own arithmetic: a real H has a real ground space,
+  // spanned by the real and imaginary parts of its complex sector states.
+  const groundStates = model.isComplex ? solution.groundStates : realSpan(solution.groundStates, basis.dim);
+  const observables = pinnedObservables(basis, solution.groundProbabilities);
+  // A ground level with more copies than the cap is not expanded (see solveInSectors).
+  if (cuts.length > 0 && groundStates.length > 0) observables.entanglement = pinnedEntanglement(groundStates, basis.sites, basis.levels, model.isComplex, cuts);
+  const energies = solution.energies;
+  const L = model.sites;
+  const record: PointRecord = {
+    energies,
+    gap: energies.length > 1 ? energies[1] - energies[0] : null,
+    gap_above_ground: gapAboveGround(energies, spec.solve.tolerance),
+    observables,
+    basis: {
+      kind: model.kind,
+      dimension: basis.dim,
+      sites: model.sites,
+      levels: model.levels,
+      operator: 'stored',
+      // Every sector's matrix that was built (a copy k <-> -k is not built twice).
+      nonzeros: solution.runs.reduce((sum, run) => sum + run.nonzeros, 0),
+    },
+    solver: {
+      method: solution.method,
+      iterations: solution.matvecs,
+      restarts: solution.restarts,
+      residuals: solution.residuals,
+      converged: solution.converged,
+      tolerance: spec.solve.tolerance,
+      degeneracy: solution.degeneracy,
+      degeneracy_complete: solution.degeneracyComplete,
+      seconds: (performance.now() - started) / 1000,
+      memory_estimate_bytes: plan.memory.totalBytes,
+      symmetries: (Object.keys(plan.used!) as SymmetryName[]).filter((k) => plan.used![k]),
+      sector_runs: solution.runs,
+    },
+    sectors: solution.labels.map((l) => ({ ...l, k: l.momentum === null ? null : (2 * Math.PI * l.momentum) / L })),
+  };
+  return { record, groundStates };
+}
+
+/** An orthonormal real basis of the span of the real and imaginary parts of complex vectors. */
+function realSpan(complexStates: Float64Array[], dim: number): Float64Array[] {
+  const out: Float64Array[] = [];
+  for (const psi of complexStates) {
+    for (const part of [0, 1]) {
+      const v = new Float64Array(dim);
+      for (let s = 0; s < dim; s++) v[s] = psi[2 * s + part];
+      for (const u of out) {
+        let d = 0;
+        for (let s = 0; s < dim; s++) d += u[s] * v[s];
+        for (let s = 0; s < dim; s++) v[s] -= d * u[s];
+      }
+      let n = 0;
+      for (let s = 0; s < dim; s++) n += v[s] * v[s];
+      n = Math.sqrt(n);
+      if (n < 1e-6) continue;
+      for (let s = 0; s < dim; s++) v[s] /= n;
+      out.push(v);
+    }
+  }
+  return out;
+}

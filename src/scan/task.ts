@@ -1,0 +1,198 @@
+// The work of one scan task, run inside a worker thread: a run of neighbouring points on one
+// line, solved in order, each starting Lanczos from the previous ground state when the basis is
+// the same. Every finished point is posted at once on the task's port, so the main thread writes
+// it to disk before the next point starts; a worker that dies loses only the point it was on.
+
+import type { MessagePort } from 'node:worker_threads';
+import { threadId } from 'node:worker_threads';
+import { isRungchainError } from '../errors/errors.js';
+import { claimNext } from './claims.js';
+import { planPoint, solvePoint, type PointRecord } from '../point/solvePoint.js';
+import { validateSpec, type Spec } from '../spec/spec.js';
+import type { ScanParams } from './plan.js';
+import { groundSpaceOverlap } from '../observables/overlap.js';
+
+export interface TaskPoint {
+  index: number;
+  params: ScanParams;
+  raw: Record<string, unknown>;
+}
+
+export interface ScanTask {
+  points: TaskPoint[];
+  /**
+   * The point just before points[0] on its line, when it runs elsewhere (another task, or an earlier
+   * run): solved first and not recorded, so the first point too gets its overlap (the fidelity
+   * between neighbours is what transition indicators need) and a warm start.
+   */
+  leadIn?: TaskPoint;
+  maxMemory: number;
+  warmStart: boolean;
+  /** Most threads one product may use: the cores this worker's share allows (see chooseParallelism). */
+  threads?: number;
+  /** Shared claims (see newClaims): the worker takes points through them, so the main thread can hand the unstarted tail to an idle worker. */
+  claims?: Int32Array;
+  port: MessagePort;
+}
+
+/** One record per point, as written to records.msgpack. */
+export interface ScanRecord {
+  index: number;
+  params: ScanParams;
+  status: 'done' | 'failed';
+  /** Why a point failed: the error's class and message. */
+  error?: string;
+  result?: PointRecord;
+  /** Matrix-vector products used (0 when failed before solving). */
+  iterations: number;
+  /** Wall time of this point, seconds. */
+  seconds: number;
+  /** Whether Lanczos started from the previous point's ground state. */
+  warm_start: boolean;
+  /**
+   * Fidelity between this ground state and the previous point's on the same line, when both
+   * live in the same basis: |<psi_prev|psi>|; for degenerate ground spaces P (g1 vectors) and
+   * Q (g2 vectors), sqrt(sum_ab |<p_a|q_b>|^2 / max(g1, g2)), which is 1 exactly when the spaces
+   * coincide. null for the first point of a line, after a change of basis, or when the previous point failed.
+   */
+  overlap_previous: number | null;
+  /** Worker thread id that solved it (0: the main thread). */
+  worker: number;
+  finished: string;
+}
+
+export type TaskMessage = { kind: 'start'; index: number } | { kind: 'record'; record: ScanRecord };
+
+/** Test hook: a worker exits abruptly (as on running out of memory) when it reaches this point index. */
+const EXIT_AT = process.env.RUNGCHAIN_TEST_WORKER_EXIT_AT;
+/**
+ * Test hook: each point first waits this many milliseconds ("150"), or only the points with an
+ * index in a range ("150@0-4"), so tests that interrupt a scan part way (kill, Ctrl-C, a second
+ * writer) do not race a scan that finishes too fast, and tests of uneven work can make some slow.
+ */
+const POINT_DELAY = /^(\d+)(?:@(\d+)-(\d+))?$/.exec(process.env.RUNGCHAIN_TEST_POINT_DELAY_MS ?? '');
+function testDelayFor(index: number): number {
+  if (!POINT_DELAY) return 0;
+  const [, ms, from, to] = POINT_DELAY;
+  return from === undefined || (index >= Number(from) && index <= Number(to)) ? Number(ms) : 0;
+}
+
+/**
+ * Test hook: at one point ("heap:300@5": point 5) the worker first takes this many MiB of JS heap
+ * ("heap") or of typed arrays ("buffer", held for up to 10 s so the scan's memory watch sees it),
+ * then solves the point as usual, so tests can make a point exceed its worker's memory ceiling.
+ */
+const ALLOCATE_AT = /^(heap|buffer):(\d+)@(\d+)$/.exec(process.env.RUNGCHAIN_TEST_POINT_ALLOCATE ?? '');
+function testAllocation(index: number): unknown[] {
+  if (!ALLOCATE_AT || Number(ALLOCATE_AT[3]) !== index) return [];
+  const held: unknown[] = [];
+  const mib = Number(ALLOCATE_AT[2]);
+  if (ALLOCATE_AT[1] === 'heap') {
+    // A JS array of doubles holds them unboxed: 2^17 of them are 1 MiB of heap.
+    for (let m = 0; m < mib; m++) held.push(new Array(1 << 17).fill(m + 0.5));
+  } else {
+    for (let m = 0; m < mib; m += 16) held.push(new Uint8Array(16 << 20).fill(1));
+    Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, 10_000);
+  }
+  return held;
+}
+
+/** A key telling whether two points share a basis (same states in the same order and arithmetic). */
+function basisKey(spec: Spec, isComplex: boolean, dimension: number): string {
+  const p = spec.particles;
+  return [p.kind, spec.chain.sites, spec.levels.count, p.number, p.maxPerSite, isComplex ? 'c' : 'r', dimension].join(':');
+}
+
+/**
+ * The next point's start vector: the normalized sum of this point's low eigenvectors, so Lanczos
+ * starts with a large component along every wanted state, not only the ground state (measured:
+ * with 2 or 4 states, the ground state alone saves nothing; the sum saves about as much as with 1).
+ */
+export function startVector(vectors: Float64Array[]): Float64Array | undefined {
+  if (vectors.length === 0) return undefined;
+  const sum = new Float64Array(vectors[0].length);
+  for (const v of vectors) for (let t = 0; t < sum.length; t++) sum[t] += v[t];
+  let norm = 0;
+  for (let t = 0; t < sum.length; t++) norm += sum[t] * sum[t];
+  if (!(norm > 0)) return vectors[0];
+  const scale = 1 / Math.sqrt(norm);
+  for (let t = 0; t < sum.length; t++) sum[t] *= scale;
+  return sum;
+}
+
+function errorText(e: unknown): string {
+  if (isRungchainError(e)) return `${e.name}: ${e.message}`;
+  if (e instanceof RangeError && /allocation failed|Invalid typed array length|Array buffer/i.test(e.message)) {
+    return `out of memory: ${e.message}`;
+  }
+  return e instanceof Error ? `${e.name}: ${e.message}` : String(e);
+}
+
+export function runScanTask(task: ScanTask, post: (message: TaskMessage) => void = (m) => task.port.postMessage(m)): number {
+  let previous: { key: string; states: Float64Array[]; start: Float64Array | undefined } | null = null;
+  if (task.leadIn) {
+    try {
+      const spec = validateSpec(task.leadIn.raw);
+      const plan = planPoint(spec);
+      const lead = solvePoint(spec, { maxMemory: task.maxMemory, threads: task.threads ?? 1 });
+      previous = { key: basisKey(spec, plan.model.isComplex, plan.dimension), states: lead.groundStates, start: startVector(lead.eigen?.vectors ?? lead.groundStates) };
+    } catch {
+      // The first point then starts cold and has no overlap, as without a lead-in.
+      previous = null;
+    }
+  }
+  let solved = 0;
+  for (let k = 0; k < task.points.length; k++) {
+    if (task.claims && claimNext(task.claims) !== k) break;
+    const point = task.points[k];
+    post({ kind: 'start', index: point.index });
+    if (EXIT_AT !== undefined && Number(EXIT_AT) === point.index) process.exit(70);
+    const delay = testDelayFor(point.index);
+    if (delay > 0) Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, delay);
+    const held = testAllocation(point.index);
+    const started = performance.now();
+    let record: ScanRecord;
+    try {
+      const spec = validateSpec(point.raw);
+      const plan = planPoint(spec);
+      const key = basisKey(spec, plan.model.isComplex, plan.dimension);
+      const same = previous !== null && previous.key === key && previous.states.length > 0;
+      const warm = task.warmStart && same;
+      const solvedPoint = solvePoint(spec, { maxMemory: task.maxMemory, threads: task.threads ?? 1, initial: warm ? previous!.start : undefined });
+      const ground = solvedPoint.groundStates;
+      const overlap = same && ground.length > 0 ? groundSpaceOverlap(previous!.states, ground, plan.model.isComplex) : null;
+      previous = { key, states: ground, start: startVector(solvedPoint.eigen?.vectors ?? ground) };
+      record = {
+        index: point.index,
+        params: point.params,
+        status: 'done',
+        result: solvedPoint.record,
+        iterations: solvedPoint.record.solver.iterations,
+        seconds: (performance.now() - started) / 1000,
+        // The dense path ignores the start vector, so only Lanczos counts as warm.
+        warm_start: warm && solvedPoint.record.solver.method === 'lanczos',
+        overlap_previous: overlap,
+        worker: threadId,
+        finished: new Date().toISOString(),
+      };
+    } catch (e) {
+      previous = null;
+      record = {
+        index: point.index,
+        params: point.params,
+        status: 'failed',
+        error: errorText(e),
+        iterations: 0,
+        seconds: (performance.now() - started) / 1000,
+        warm_start: false,
+        overlap_previous: null,
+        worker: threadId,
+        finished: new Date().toISOString(),
+      };
+    }
+    held.length = 0;
+    post({ kind: 'record', record });
+    solved++;
+  }
+  return solved;
+}

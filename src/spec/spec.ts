@@ -1,0 +1,765 @@
+// Model specs: reading TOML/JSON files, command-line overrides, and validation into a typed Spec.
+//
+// Defaults (file keys are snake_case; the Spec object uses camelCase):
+//
+//   key                      required  default
+//   -----------------------  --------  -------------------------------------------------
+//   chain.sites              yes       -
+//   chain.boundary                     "open"              ("open" | "periodic")
+//   levels.count             yes       -
+//   levels.boundary                    "open"              ("open" | "ring")
+//   levels.tunnelling                  1 on every link     (number or one per link)
+//   levels.phase                       0 on every link     (radians; number or one per link)
+//   levels.detuning                    0 on every level    (number or one per level)
+//   [exchange] (optional)
+//   exchange.strength                  0
+//   exchange.range                     "nearest"           ("nearest" | "dipolar")
+//   exchange.cutoff                    none (Infinity)     (dipolar only)
+//   exchange.weights                   "uniform"           ("uniform" | "rotor" | one per open link)
+//   [ising] (optional)
+//   ising.strength                     0
+//   ising.moments                      all 0               (one per level; required if strength != 0)
+//   ising.range                        "nearest"
+//   ising.cutoff                       none (Infinity)     (dipolar only)
+//   [particles] (optional)
+//   particles.kind                     "pinned"            ("pinned" | "hardcore" | "boson" | "fermion")
+//   particles.number                   chain.sites
+//   particles.max_per_site             number (boson); 1 (pinned, hardcore); levels.count (fermion)
+//   particles.hopping                  0                   (not for pinned)
+//   particles.onsite                   0                   (boson only)
+//   particles.<kind>.<key>             (none)              the keys above but kind, for that kind only, over [particles]
+//   [solve] (optional)
+//   solve.states                       4
+//   solve.tolerance                    1e-9
+//   solve.max_matvecs                  none (null)
+//   solve.krylov                       none (null)
+//   solve.seed                         1
+//   solve.symmetries                   "auto"              ("auto" | "none" | list of translation, reflection, level_flip, charge)
+//   solve.sector                       every sector        (table: momentum, parity, level_flip, charge; a value or a list each)
+//   solve.threads                      "auto"              (threads for one matrix-vector product, or a count)
+//   solve.entanglement                 "auto"              ("none" | "auto" | "half" | "all" | list of cuts;
+//                                                           a cut l splits sites 0..l-1 from l..L-1; "auto"
+//                                                           is the half chain when its smaller side has at
+//                                                           most 256 states; see src/observables/entanglement.ts)
+//
+// Further top-level sections ([scan], [evolve], [units], ...) are validated by whoever registers
+// them with registerSection; their validated values land in spec.extra.
+
+import { readFileSync } from 'node:fs';
+import { extname } from 'node:path';
+import { parse as parseToml, TomlError } from 'smol-toml';
+import { InputError, SpecError } from '../errors/errors.js';
+import { JsonReadError, lineAndColumn, parseJsonStrict } from './json.js';
+
+export type ParticleKind = 'pinned' | 'hardcore' | 'boson' | 'fermion';
+export type ChainBoundary = 'open' | 'periodic';
+export type LevelBoundary = 'open' | 'ring';
+export type InteractionRange = 'nearest' | 'dipolar';
+export type ExchangeWeightsName = 'uniform' | 'rotor' | 'list';
+export type SymmetryChoice = 'translation' | 'reflection' | 'level_flip' | 'charge';
+
+export interface Spec {
+  chain: { sites: number; boundary: ChainBoundary };
+  levels: {
+    count: number;
+    boundary: LevelBoundary;
+    /** One per link: length count-1 (open) or count (ring). Link l joins level l to l+1; a ring's last link joins count-1 to 0. */
+    tunnelling: number[];
+    /** Peierls phase per link, radians; same length as tunnelling. */
+    phase: number[];
+    /** One per level, length count. */
+    detuning: number[];
+  };
+  exchange: {
+    strength: number;
+    range: InteractionRange;
+    /** Largest separation (lattice spacings) still coupled; Infinity when absent. */
+    cutoff: number;
+    /** c_n per open link, length count-1 (exchange never crosses a ring's closing link). */
+    weights: number[];
+    weightsName: ExchangeWeightsName;
+  };
+  ising: { strength: number; moments: number[]; range: InteractionRange; cutoff: number };
+  particles: { kind: ParticleKind; number: number; maxPerSite: number; hopping: number; onsite: number };
+  solve: {
+    states: number;
+    tolerance: number;
+    maxMatvecs: number | null;
+    krylov: number | null;
+    seed: number;
+    entanglement: 'none' | 'auto' | 'half' | 'all' | number[];
+    /** Symmetries to use: all detected ("auto"), none, or the named ones (each still checked). */
+    symmetries: 'auto' | 'none' | SymmetryChoice[];
+    /** Restrict the solve to these sectors; absent keys mean every value. */
+    sector: { momentum?: number[]; parity?: (1 | -1)[]; level_flip?: (1 | -1)[]; charge?: number[] };
+    /** Threads for one product: "auto" (by size) or a count. */
+    threads: 'auto' | number;
+  };
+  /** Validated values of registered sections, keyed by section name. */
+  extra: Record<string, unknown>;
+}
+
+type Table = Record<string, unknown>;
+
+const CORE_SECTIONS = ['chain', 'levels', 'exchange', 'ising', 'particles', 'solve'] as const;
+
+// ---------------------------------------------------------------------------------------------
+// Reading text and files
+
+/** Parses spec text into a raw tree; syntax errors become InputError with line/column when known. */
+export function parseSpecText(text: string, format: 'toml' | 'json', sourceName = `<${format} text>`): Record<string, unknown> {
+  let tree: unknown;
+  if (format === 'toml') {
+    try {
+      tree = parseToml(text);
+    } catch (e) {
+      if (e instanceof TomlError) {
+        // smol-toml's message is "Invalid TOML document: <what>\n\n<code excerpt>"; errors are one
+        // line, so the excerpt becomes the offending line quoted after the headline.
+        const headline = e.message.replace(/^Invalid TOML document:\s*/, '').split('\n')[0];
+        const source = text.split(/\r?\n/)[e.line - 1]?.trim();
+        const quoted = source ? ` (line ${e.line}: ${JSON.stringify(source.length > 80 ? `${source.slice(0, 77)}...` : source)})` : '';
+        throw new InputError(`${sourceName}:${e.line}:${e.column}: invalid TOML: ${headline}${quoted}`);
+      }
+      throw new InputError(`${sourceName}: invalid TOML: ${errorText(e)}`);
+    }
+  } else {
+    try {
+      tree = parseJsonStrict(text);
+    } catch (e) {
+      if (!(e instanceof JsonReadError)) throw e;
+      const at = (offset: number): string => {
+        const { line, column } = lineAndColumn(text, offset);
+        return `${line}:${column}`;
+      };
+      if (e.duplicate) {
+        const path = formatPath(e.duplicate.path);
+        throw new InputError(`${sourceName}:${at(e.offset)}: ${path} is given twice (first at ${at(e.duplicate.firstOffset)}); a key may appear once`);
+      }
+      throw new InputError(`${sourceName}:${at(e.offset)}: invalid JSON: ${e.problem}`);
+    }
+    if (!isTable(tree)) {
+      throw new InputError(`${sourceName}: a spec must be a JSON object of sections, got ${describeValue(tree)}`);
+    }
+  }
+  return tree as Record<string, unknown>;
+}
+
+/** Reads a spec file, choosing the parser by extension (.toml or .json). */
+export function loadSpecFile(path: string): Record<string, unknown> {
+  const extension = extname(path).toLowerCase();
+  if (extension !== '.toml' && extension !== '.json') {
+    throw new InputError(`${path}: cannot tell the spec format from the extension "${extension}"; use .toml or .json`);
+  }
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (e) {
+    throw new InputError(`cannot read spec file ${path}: ${fileErrorText(e)}`);
+  }
+  return parseSpecText(text, extension === '.toml' ? 'toml' : 'json', path);
+}
+
+/** Reads a spec file, applies `key.path=value` overrides in order, and validates the result. */
+export function loadSpec(path: string, overrides: string[] = []): { raw: Record<string, unknown>; spec: Spec } {
+  const raw = loadSpecFile(path);
+  for (const assignment of overrides) applyOverride(raw, assignment);
+  return { raw, spec: validateSpec(raw) };
+}
+
+function errorText(e: unknown): string {
+  return e instanceof Error ? e.message : String(e);
+}
+
+function fileErrorText(e: unknown): string {
+  const code = typeof e === 'object' && e !== null && 'code' in e ? (e as { code: unknown }).code : undefined;
+  switch (code) {
+    case 'ENOENT':
+      return 'no such file';
+    case 'EACCES':
+      return 'permission denied';
+    case 'EISDIR':
+      return 'it is a directory';
+    default:
+      return errorText(e);
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Command-line overrides
+
+type PathStep = string | number;
+
+// Keys that would reach Object.prototype instead of the spec tree.
+const FORBIDDEN_KEYS = new Set(['__proto__', 'prototype', 'constructor']);
+
+/**
+ * Applies one `key.path=value` assignment to a raw tree, in place. The value is JSON when it
+ * parses as JSON, else a bare string (so `particles.kind=hardcore` works unquoted). Missing
+ * tables are created; `a.b[2]=x` replaces one element of an existing array; the value `null`
+ * removes the key, restoring its default. Validation happens later, in validateSpec.
+ */
+export function applyOverride(raw: Record<string, unknown>, assignment: string): void {
+  const equals = assignment.indexOf('=');
+  if (equals < 0) {
+    throw new InputError(`override ${quoteText(assignment)}: expected key.path=value, e.g. exchange.strength=2.5`);
+  }
+  const steps = parseOverridePath(assignment.slice(0, equals).trim(), assignment);
+  const valueText = assignment.slice(equals + 1).trim();
+  if (valueText === '') throw new InputError(`override ${quoteText(assignment)}: no value after "="`);
+  const value = parseOverrideValue(valueText, assignment);
+
+  let container: Table | unknown[] = raw;
+  for (let i = 0; i < steps.length; i++) {
+    const step = steps[i];
+    const isLast = i === steps.length - 1;
+    const here = formatPath(steps.slice(0, i + 1));
+    if (typeof step === 'number') {
+      // parseOverridePath guarantees an index follows a key, and the walk below guarantees the
+      // container is then an array.
+      const list = container as unknown[];
+      if (step >= list.length) {
+        throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: index ${step} is past the end of a list of ${list.length}`);
+      }
+      if (isLast) {
+        if (value === null) throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: a single list element cannot be removed`);
+        list[step] = value;
+        return;
+      }
+      container = descend(list[step], steps[i + 1], here, assignment);
+    } else {
+      const table = container as Table;
+      if (isLast) {
+        if (value === null) delete table[step];
+        else table[step] = value;
+        return;
+      }
+      if (!Object.hasOwn(table, step) && typeof steps[i + 1] === 'string') table[step] = {};
+      container = descend(table[step], steps[i + 1], here, assignment);
+    }
+  }
+}
+
+function descend(child: unknown, next: PathStep, here: string, assignment: string): Table | unknown[] {
+  if (typeof next === 'number') {
+    if (Array.isArray(child)) return child;
+    throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: ${here} is ${describeValue(child)}, not a list; set the whole list instead`);
+  }
+  if (isTable(child)) return child;
+  throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: ${here} is ${describeValue(child)}, not a table`);
+}
+
+function parseOverridePath(pathText: string, assignment: string): PathStep[] {
+  const bad = (why: string): never => {
+    throw new InputError(`override ${quoteText(assignment)}: ${why}`);
+  };
+  if (pathText === '') bad('no key path before "="');
+  const steps: PathStep[] = [];
+  for (const segment of pathText.split('.')) {
+    const match = /^([A-Za-z_][A-Za-z0-9_-]*)((?:\[\d+\])*)$/.exec(segment.trim());
+    if (!match) bad(`${quoteText(segment)} is not a valid key (expected e.g. levels.tunnelling or levels.tunnelling[1])`);
+    const [, key, indices] = match as RegExpExecArray;
+    if (FORBIDDEN_KEYS.has(key)) bad(`"${key}" cannot be used as a key`);
+    steps.push(key);
+    for (const index of indices.matchAll(/\[(\d+)\]/g)) steps.push(Number(index[1]));
+  }
+  return steps;
+}
+
+function parseOverrideValue(text: string, assignment: string): unknown {
+  try {
+    return parseJsonStrict(text);
+  } catch (e) {
+    if (e instanceof JsonReadError && e.duplicate) {
+      const key = formatPath(e.duplicate.path);
+      throw new InputError(`override ${quoteText(assignment)}: ${key} is given twice in the value; a key may appear once`);
+    }
+    return text;
+  }
+}
+
+function formatPath(steps: readonly PathStep[]): string {
+  return steps.map((s, i) => (typeof s === 'number' ? `[${s}]` : i === 0 ? keyForPath(s) : `.${keyForPath(s)}`)).join('');
+}
+
+// ---------------------------------------------------------------------------------------------
+// Registered sections
+
+type SectionValidator = (value: unknown, keyPath: string) => unknown;
+/** Runs after every section is validated, so a section can derive core values (e.g. [units] sets couplings). */
+export type SectionResolver = (spec: Spec, raw: Record<string, unknown>) => void;
+const registeredSections = new Map<string, SectionValidator>();
+const sectionResolvers = new Map<string, SectionResolver>();
+
+/**
+ * Lets a feature own a top-level section. The validator receives the raw value and the key path
+ * to name in its SpecErrors; what it returns is stored in spec.extra[name]. It is only called
+ * when the section is present.
+ */
+export function registerSection(name: string, validate: SectionValidator, resolve?: SectionResolver): void {
+  if ((CORE_SECTIONS as readonly string[]).includes(name)) {
+    throw new Error(`section "${name}" is built in and cannot be registered`);
+  }
+  const existing = registeredSections.get(name);
+  // Re-registering the same validator is harmless (a module loaded twice); two different ones is a clash.
+  if (existing && existing !== validate) throw new Error(`section "${name}" is already registered`);
+  registeredSections.set(name, validate);
+  if (resolve) sectionResolvers.set(name, resolve);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Validation
+
+/** Checks a raw tree and fills in defaults; every problem is a SpecError naming its key path. */
+export function validateSpec(raw: Record<string, unknown>): Spec {
+  const sectionNames = [...CORE_SECTIONS, ...registeredSections.keys()];
+  rejectUnknownKeys(raw, '', sectionNames);
+
+  const chain = validateChain(requiredSection(raw, 'chain'));
+  const levels = validateLevels(requiredSection(raw, 'levels'));
+  const exchange = validateExchange(optionalSection(raw, 'exchange'), levels);
+  const ising = validateIsing(optionalSection(raw, 'ising'), levels.count);
+  const particles = validateParticles(optionalSection(raw, 'particles'), chain.sites, levels.count);
+  const solve = validateSolve(optionalSection(raw, 'solve'), chain.sites);
+
+  const extra: Record<string, unknown> = {};
+  for (const [name, validate] of registeredSections) {
+    if (Object.hasOwn(raw, name)) extra[name] = validate(raw[name], name);
+  }
+  const spec: Spec = { chain, levels, exchange, ising, particles, solve, extra };
+  for (const [name, resolve] of sectionResolvers) {
+    if (Object.hasOwn(raw, name)) resolve(spec, raw);
+  }
+  return spec;
+}
+
+function validateChain(table: Table): Spec['chain'] {
+  rejectUnknownKeys(table, 'chain', ['sites', 'boundary']);
+  const sites = positiveInteger(requiredKey(table, 'chain', 'sites'), 'chain.sites');
+  const boundary = oneOf(orDefault(table.boundary, 'open'), 'chain.boundary', ['open', 'periodic'] as const);
+  // With 2 sites the wrap-around bond would duplicate the open one; with 1 it would be a self-bond.
+  if (boundary === 'periodic' && sites < 3) {
+    throw new SpecError('chain.boundary', `a periodic chain needs at least 3 sites, got chain.sites = ${sites}`);
+  }
+  return { sites, boundary };
+}
+
+function validateLevels(table: Table): Spec['levels'] {
+  rejectUnknownKeys(table, 'levels', ['count', 'boundary', 'tunnelling', 'phase', 'detuning']);
+  const count = positiveInteger(requiredKey(table, 'levels', 'count'), 'levels.count');
+  const boundary = oneOf(orDefault(table.boundary, 'open'), 'levels.boundary', ['open', 'ring'] as const);
+  // Below 3 levels the closing link would join levels that are already joined (or a level to itself).
+  if (boundary === 'ring' && count < 3) {
+    throw new SpecError('levels.boundary', `a ring needs at least 3 levels, got levels.count = ${count}`);
+  }
+  const linkCount = boundary === 'ring' ? count : count - 1;
+  const perLink =
+    boundary === 'ring' ? `one per link of a ring of ${count} levels` : `one per link of an open ladder of ${count} levels`;
+  const perLevel = `one per level of ${count}`;
+  return {
+    count,
+    boundary,
+    tunnelling: numberOrList(orDefault(table.tunnelling, 1), 'levels.tunnelling', linkCount, perLink),
+    phase: numberOrList(orDefault(table.phase, 0), 'levels.phase', linkCount, perLink),
+    detuning: numberOrList(orDefault(table.detuning, 0), 'levels.detuning', count, perLevel),
+  };
+}
+
+function validateExchange(table: Table, levels: Spec['levels']): Spec['exchange'] {
+  rejectUnknownKeys(table, 'exchange', ['strength', 'range', 'cutoff', 'weights']);
+  const strength = finiteNumber(orDefault(table.strength, 0), 'exchange.strength');
+  const { range, cutoff } = rangeAndCutoff(table, 'exchange');
+  const linkCount = levels.count - 1;
+  const weightsValue = orDefault(table.weights, 'uniform');
+  let weights: number[];
+  let weightsName: ExchangeWeightsName;
+  if (Array.isArray(weightsValue)) {
+    const why =
+      levels.boundary === 'ring'
+        ? `one per link of ${levels.count} levels, not counting the ring's closing link, which exchange never crosses`
+        : `one per link of an open ladder of ${levels.count} levels`;
+    weights = numberList(weightsValue, 'exchange.weights', linkCount, why);
+    weightsName = 'list';
+  } else {
+    const name = oneOf(weightsValue, 'exchange.weights', ['uniform', 'rotor'] as const, 'or a list of numbers');
+    weights = name === 'rotor' ? rotorWeights(levels.count) : new Array<number>(linkCount).fill(1);
+    weightsName = name;
+  }
+  return { strength, range, cutoff, weights, weightsName };
+}
+
+function validateIsing(table: Table, count: number): Spec['ising'] {
+  rejectUnknownKeys(table, 'ising', ['strength', 'moments', 'range', 'cutoff']);
+  const strength = finiteNumber(orDefault(table.strength, 0), 'ising.strength');
+  const { range, cutoff } = rangeAndCutoff(table, 'ising');
+  let moments: number[];
+  if (table.moments === undefined) {
+    // A nonzero strength with no moments would silently do nothing.
+    if (strength !== 0) throw new SpecError('ising.moments', `required when ising.strength is not 0 (one per level of ${count})`);
+    moments = new Array<number>(count).fill(0);
+  } else {
+    if (!Array.isArray(table.moments)) {
+      throw new SpecError('ising.moments', `expected a list of ${count} numbers (one per level), got ${describeValue(table.moments)}`);
+    }
+    moments = numberList(table.moments, 'ising.moments', count, `one per level of ${count}`);
+  }
+  return { strength, moments, range, cutoff };
+}
+
+function rangeAndCutoff(table: Table, section: string): { range: InteractionRange; cutoff: number } {
+  const range = oneOf(orDefault(table.range, 'nearest'), `${section}.range`, ['nearest', 'dipolar'] as const);
+  if (table.cutoff === undefined) return { range, cutoff: Infinity };
+  const path = `${section}.cutoff`;
+  // A cutoff on nearest-neighbour coupling would be silently ignored.
+  if (range !== 'dipolar') throw new SpecError(path, `only applies to ${section}.range = "dipolar" (range is "${range}")`);
+  const cutoff = positiveNumber(table.cutoff, path);
+  if (cutoff < 1) throw new SpecError(path, `must be at least 1 lattice spacing, or no pair is coupled; got ${cutoff}`);
+  return { range, cutoff };
+}
+
+const PARTICLE_KINDS = ['pinned', 'hardcore', 'boson', 'fermion'] as const;
+const PARTICLE_KEYS = ['kind', 'number', 'max_per_site', 'hopping', 'onsite'];
+
+/** Keys that do nothing for a kind, and why: setting one is an error, as the user clearly expected it to matter. */
+function unusedKeys(kind: ParticleKind): Record<string, string> {
+  switch (kind) {
+    case 'pinned': {
+      const why = 'pinned particles never leave their site';
+      return { hopping: why, onsite: why, max_per_site: why };
+    }
+    case 'hardcore':
+      return {
+        onsite: 'two hardcore particles never share a site; use kind = "boson" for soft-core',
+        max_per_site: 'hardcore means at most one per site; use kind = "boson" for more',
+      };
+    case 'fermion':
+      return {
+        onsite: 'the on-site term is for soft-core bosons',
+        max_per_site: 'fermions are limited to one per site and level, so a site holds at most levels.count',
+      };
+    default:
+      return {};
+  }
+}
+
+/**
+ * [particles] with its per-kind tables: `[particles.boson]` (likewise pinned, hardcore, fermion)
+ * holds keys that apply only when the kind is boson, over those of [particles]. So one spec, and
+ * a scan over particles.kind, can give each kind its own settings (bosons at U = 4, the others
+ * without an on-site term). Every kind's table is checked, whether its kind is chosen or not.
+ */
+function validateParticles(particlesTable: Table, sites: number, count: number): Spec['particles'] {
+  rejectUnknownKeys(particlesTable, 'particles', [...PARTICLE_KEYS, ...PARTICLE_KINDS]);
+  const kind = oneOf(orDefault(particlesTable.kind, 'pinned'), 'particles.kind', PARTICLE_KINDS);
+
+  const table: Table = {};
+  // Where each key was set, for errors: particles.onsite or particles.boson.onsite.
+  const origin: Record<string, string> = {};
+  for (const key of PARTICLE_KEYS) {
+    if (particlesTable[key] === undefined) continue;
+    table[key] = particlesTable[key];
+    origin[key] = `particles.${key}`;
+  }
+  for (const tableKind of PARTICLE_KINDS) {
+    if (particlesTable[tableKind] === undefined) continue;
+    const path = `particles.${tableKind}`;
+    const own = particlesTable[tableKind];
+    if (!isTable(own)) throw new SpecError(path, `expected a table of keys for kind = "${tableKind}", got ${describeValue(own)}`);
+    rejectUnknownKeys(own, path, PARTICLE_KEYS.filter((k) => k !== 'kind'));
+    for (const [key, why] of Object.entries(unusedKeys(tableKind))) {
+      if (own[key] !== undefined) throw new SpecError(`${path}.${key}`, `not used for kind = "${tableKind}" (${why}); remove it`);
+    }
+    // Types are checked for every kind's table, so a mistake is found before a scan reaches that kind.
+    for (const [key, value] of Object.entries(own)) {
+      if (key === 'number' || key === 'max_per_site') positiveInteger(value, `${path}.${key}`);
+      else finiteNumber(value, `${path}.${key}`);
+    }
+    if (tableKind !== kind) continue;
+    for (const [key, value] of Object.entries(own)) {
+      table[key] = value;
+      origin[key] = `${path}.${key}`;
+    }
+  }
+  const at = (key: string): string => origin[key] ?? `particles.${key}`;
+
+  for (const [key, why] of Object.entries(unusedKeys(kind))) {
+    if (table[key] === undefined) continue;
+    const elsewhere = PARTICLE_KINDS.filter((k) => !Object.hasOwn(unusedKeys(k), key)).map((k) => `[particles.${k}]`);
+    throw new SpecError(at(key), `not used for kind = "${kind}" (${why}); remove it, or move it to ${elsewhere.join(' or ')} to apply it to that kind only`);
+  }
+
+  const number = table.number === undefined ? sites : positiveInteger(table.number, at('number'));
+  let maxPerSite: number;
+  if (kind === 'boson') {
+    maxPerSite = table.max_per_site === undefined ? number : positiveInteger(table.max_per_site, at('max_per_site'));
+  } else {
+    maxPerSite = kind === 'fermion' ? count : 1;
+  }
+
+  if (kind === 'pinned' && number !== sites) {
+    throw new SpecError(at('number'), `pinned particles fill every site exactly once, so number must equal chain.sites = ${sites}, got ${number}`);
+  }
+  if (number > sites * maxPerSite) {
+    const capacity =
+      kind === 'fermion'
+        ? `${sites} sites with ${count} levels hold at most ${sites * count} fermions`
+        : kind === 'boson'
+          ? `${sites} sites with max_per_site = ${maxPerSite} hold at most ${sites * maxPerSite} bosons`
+          : `${sites} sites hold at most ${sites} hardcore particles`;
+    throw new SpecError(at('number'), `${capacity}, got ${number}`);
+  }
+
+  const hopping = finiteNumber(orDefault(table.hopping, 0), at('hopping'));
+  const onsite = finiteNumber(orDefault(table.onsite, 0), at('onsite'));
+  return { kind, number, maxPerSite, hopping, onsite };
+}
+
+function validateSolve(table: Table, sites: number): Spec['solve'] {
+  rejectUnknownKeys(table, 'solve', ['states', 'tolerance', 'max_matvecs', 'krylov', 'seed', 'entanglement', 'symmetries', 'sector', 'threads']);
+  const states = positiveInteger(orDefault(table.states, 4), 'solve.states');
+  const tolerance = positiveNumber(orDefault(table.tolerance, 1e-9), 'solve.tolerance');
+  const maxMatvecs = table.max_matvecs === undefined ? null : positiveInteger(table.max_matvecs, 'solve.max_matvecs');
+  const krylov = table.krylov === undefined ? null : positiveInteger(table.krylov, 'solve.krylov');
+  // The subspace must hold the wanted states and still have room to grow.
+  if (krylov !== null && krylov <= states) {
+    throw new SpecError('solve.krylov', `must exceed solve.states = ${states}, got ${krylov}`);
+  }
+  const seed = nonNegativeInteger(orDefault(table.seed, 1), 'solve.seed');
+  const entanglement = validateEntanglement(orDefault(table.entanglement, 'auto'), sites);
+  const symmetries = validateSymmetries(orDefault(table.symmetries, 'auto'));
+  const sector = validateSector(orDefault(table.sector, {}));
+  const threadsRaw = orDefault(table.threads, 'auto');
+  const threads = threadsRaw === 'auto' ? 'auto' : positiveInteger(threadsRaw, 'solve.threads');
+  return { states, tolerance, maxMatvecs, krylov, seed, entanglement, symmetries, sector, threads };
+}
+
+const SYMMETRY_CHOICES = ['translation', 'reflection', 'level_flip', 'charge'] as const;
+
+function validateSymmetries(value: unknown): Spec['solve']['symmetries'] {
+  const path = 'solve.symmetries';
+  if (!Array.isArray(value)) return oneOf(value, path, ['auto', 'none'] as const, 'or a list of symmetry names');
+  return value.map((name, i) => oneOf(name, `${path}[${i}]`, SYMMETRY_CHOICES));
+}
+
+function validateSector(value: unknown): Spec['solve']['sector'] {
+  const path = 'solve.sector';
+  if (!isTable(value)) throw new SpecError(path, `expected a table, got ${describeValue(value)}`);
+  rejectUnknownKeys(value, path, ['momentum', 'parity', 'level_flip', 'charge']);
+  const sector: Spec['solve']['sector'] = {};
+  const list = (key: string) => {
+    const v = value[key];
+    return v === undefined ? undefined : Array.isArray(v) ? v.map((x, i) => [x, `${path}.${key}[${i}]`] as const) : [[v, `${path}.${key}`] as const];
+  };
+  const momentum = list('momentum');
+  if (momentum) sector.momentum = momentum.map(([x, at]) => nonNegativeInteger(x, at));
+  const charge = list('charge');
+  if (charge) sector.charge = charge.map(([x, at]) => nonNegativeInteger(x, at));
+  for (const key of ['parity', 'level_flip'] as const) {
+    const entries = list(key);
+    if (!entries) continue;
+    sector[key] = entries.map(([x, at]) => {
+      if (x !== 1 && x !== -1) throw new SpecError(at, `expected +1 or -1, got ${describeValue(x)}`);
+      return x;
+    });
+  }
+  return sector;
+}
+
+function validateEntanglement(value: unknown, sites: number): Spec['solve']['entanglement'] {
+  const path = 'solve.entanglement';
+  if (!Array.isArray(value)) return oneOf(value, path, ['none', 'auto', 'half', 'all'] as const, 'or a list of cuts');
+  return value.map((cut, i) => {
+    const at = `${path}[${i}]`;
+    // A cut l splits sites 0..l-1 from l..L-1, so both sides are non-empty only for 1 <= l <= L-1.
+    if (typeof cut !== 'number' || !Number.isSafeInteger(cut) || cut < 1 || cut > sites - 1) {
+      throw new SpecError(at, `expected a cut from 1 to ${sites - 1} (sites left of the cut), got ${describeValue(cut)}`);
+    }
+    return cut;
+  });
+}
+
+/** Rigid-rotor exchange weights c_n, n = 0..count-2: the squared M=0 dipole matrix element between levels n and n+1, normalised so c_0 = 1. */
+export function rotorWeights(count: number): number[] {
+  if (!Number.isInteger(count) || count < 1) throw new RangeError(`rotorWeights: count must be a positive integer, got ${count}`);
+  const weights: number[] = [];
+  for (let n = 0; n < count - 1; n++) weights.push((n + 1) ** 2 / ((2 * n + 1) * (2 * n + 3)) / (1 / 3));
+  return weights;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Small typed readers; each names the key path it reads
+
+export function isTable(value: unknown): value is Table {
+  return typeof value === 'object' && value !== null && !Array.isArray(value) && !(value instanceof Date);
+}
+
+// Only a missing key takes the default: JSON null is a wrong value, as it has no TOML counterpart.
+function orDefault(value: unknown, fallback: unknown): unknown {
+  return value === undefined ? fallback : value;
+}
+
+function requiredSection(raw: Table, name: string): Table {
+  if (raw[name] === undefined) throw new SpecError(name, 'required section is missing');
+  return optionalSection(raw, name);
+}
+
+function optionalSection(raw: Table, name: string): Table {
+  const value = raw[name];
+  if (value === undefined) return {};
+  if (!isTable(value)) throw new SpecError(name, `expected a table, got ${describeValue(value)}`);
+  return value;
+}
+
+function requiredKey(table: Table, section: string, key: string): unknown {
+  if (table[key] === undefined) throw new SpecError(`${section}.${key}`, 'required key is missing');
+  return table[key];
+}
+
+function rejectUnknownKeys(table: Table, section: string, known: readonly string[]): void {
+  for (const key of Object.keys(table)) {
+    if (!known.includes(key)) throw unknownKeyError(section, key, known);
+  }
+}
+
+/**
+ * The error for a key no section knows, in every section alike: the key path, the nearest known
+ * key when one is close, and the valid keys. `section` is the table's key path ('' for the top
+ * level, whose keys are sections).
+ */
+export function unknownKeyError(section: string, key: string, known: readonly string[]): SpecError {
+  const guess = closestName(key, known);
+  const path = section ? `${section}.${keyForPath(key)}` : keyForPath(key);
+  const what = section ? 'key' : 'section';
+  return new SpecError(path, `unknown ${what}${guess ? ` (did you mean ${guess}?)` : ''}; valid ${what}s: ${known.join(', ')}`);
+}
+
+/** A key (or key path) as an error names it: plain names as they are, anything else quoted and cut. */
+export function keyForPath(key: string): string {
+  return /^[A-Za-z0-9_.[\]-]{1,60}$/.test(key) ? key : quoteText(key);
+}
+
+function finiteNumber(value: unknown, path: string): number {
+  if (typeof value !== 'number' || !Number.isFinite(value)) {
+    throw new SpecError(path, `expected a finite number, got ${describeValue(value)}`);
+  }
+  return value;
+}
+
+function positiveNumber(value: unknown, path: string): number {
+  if (typeof value !== 'number' || !Number.isFinite(value) || value <= 0) {
+    throw new SpecError(path, `expected a positive number, got ${describeValue(value)}`);
+  }
+  return value;
+}
+
+function positiveInteger(value: unknown, path: string): number {
+  if (typeof value !== 'number' || !Number.isSafeInteger(value) || value < 1) {
+    throw new SpecError(path, `expected a positive integer, got ${describeValue(value)}`);
+  }
+  return value;
+}
+
+function nonNegativeInteger(value: unknown, path: string): number {
+  if (typeof value !== 'number' || !Number.isSafeInteger(value) || value < 0) {
+    throw new SpecError(path, `expected a non-negative integer, got ${describeValue(value)}`);
+  }
+  return value;
+}
+
+function oneOf<const T extends string>(value: unknown, path: string, options: readonly T[], alternative?: string): T {
+  if (typeof value === 'string' && (options as readonly string[]).includes(value)) return value as T;
+  const listed = options.map((o) => `"${o}"`).join(', ');
+  const guess = typeof value === 'string' ? closestName(value, options) : undefined;
+  throw new SpecError(
+    path,
+    `expected one of ${listed}${alternative ? ` ${alternative}` : ''}, got ${describeValue(value)}${guess ? ` (did you mean "${guess}"?)` : ''}`,
+  );
+}
+
+/** A scalar applied to every slot, or a list of exactly `length` finite numbers. */
+function numberOrList(value: unknown, path: string, length: number, why: string): number[] {
+  if (Array.isArray(value)) return numberList(value, path, length, why);
+  if (typeof value !== 'number') {
+    throw new SpecError(path, `expected a number or a list of ${length} numbers (${why}), got ${describeValue(value)}`);
+  }
+  return new Array<number>(length).fill(finiteNumber(value, path));
+}
+
+function numberList(values: unknown[], path: string, length: number, why: string): number[] {
+  if (values.length !== length) {
+    throw new SpecError(path, `expected ${length} ${length === 1 ? 'value' : 'values'} (${why}), got ${values.length}`);
+  }
+  return values.map((v, i) => finiteNumber(v, `${path}[${i}]`));
+}
+
+/** How a value looks in an error message. */
+export function describeValue(value: unknown): string {
+  if (value === undefined) return 'nothing';
+  if (value === null) return 'null';
+  if (typeof value === 'string') return quoteText(value);
+  if (typeof value === 'number') {
+    if (Number.isNaN(value)) return 'nan';
+    if (!Number.isFinite(value)) return value > 0 ? 'inf' : '-inf';
+    return String(value);
+  }
+  if (typeof value === 'boolean') return String(value);
+  if (value instanceof Date) return 'a date';
+  if (Array.isArray(value)) return `a list of ${value.length}`;
+  if (isTable(value)) return 'a table';
+  return typeof value;
+}
+
+/** Longest user text an error message repeats: enough to recognise it, short enough for one line. */
+export const MESSAGE_TEXT_LIMIT = 60;
+
+/** A user-supplied text cut for an error message, saying how long it was when cut. */
+export function cutText(text: string, limit = MESSAGE_TEXT_LIMIT): string {
+  return text.length <= limit ? text : `${headOf(text, limit)}... (${text.length} characters)`;
+}
+
+/** A user-supplied string as an error message shows it: quoted, escaped to one line, cut when long. */
+export function quoteText(text: string, limit = MESSAGE_TEXT_LIMIT): string {
+  return text.length <= limit ? JSON.stringify(text) : `${JSON.stringify(headOf(text, limit))}... (${text.length} characters)`;
+}
+
+function headOf(text: string, limit: number): string {
+  const head = text.slice(0, limit - 3);
+  // Never leave half of a surrogate pair at the cut.
+  return /[\uD800-\uDBFF]$/.test(head) ? head.slice(0, -1) : head;
+}
+
+/** The known name a typo most likely meant, if any is close enough. */
+function closestName(word: string, known: readonly string[]): string | undefined {
+  // A word this long is no typo of a key, and the edit distance would cost its length times each key's.
+  if (word.length > 100) return undefined;
+  const squash = (s: string): string => s.toLowerCase().replace(/[_\-\s]/g, '');
+  // maxPerSite, max-per-site, MAX_PER_SITE all mean max_per_site.
+  const sameWord = known.find((k) => squash(k) === squash(word));
+  if (sameWord) return sameWord;
+  let best: string | undefined;
+  let bestDistance = Infinity;
+  for (const candidate of known) {
+    const distance = editDistance(word.toLowerCase(), candidate.toLowerCase());
+    if (distance < bestDistance && distance <= Math.max(1, Math.floor(candidate.length / 3))) {
+      best = candidate;
+      bestDistance = distance;
+    }
+  }
+  return best;
+}
+
+// Optimal string alignment distance: Levenshtein plus the swap of two neighbours, the commonest typo.
+function editDistance(a: string, b: string): number {
+  let beforePrevious: number[] = [];
+  let previous = Array.from({ length: b.length + 1 }, (_, j) => j);
+  for (let i = 1; i <= a.length; i++) {
+    const current = [i];
+    for (let j = 1; j <= b.length; j++) {
+      current[j] = Math.min(previous[j] + 1, current[j - 1] + 1, previous[j - 1] + (a[i - 1] === b[j - 1] ? 0 : 1));
+      if (i > 1 && j > 1 && a[i - 1] === b[j - 2] && a[i - 2] === b[j - 1]) current[j] = Math.min(current[j], beforePrevious[j - 2] + 1);
+    }
+    beforePrevious = previous;
+    previous = current;
+  }
+  return previous[b.length];
+}

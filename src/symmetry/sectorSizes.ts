@@ -1,0 +1,115 @@
+// Dimensions of the symmetry sectors of a pinned chain, counted without building anything.
+//
+// The basis states are the N^L level configurations, and every symmetry in use permutes them
+// (translations and the reflection permute sites, the level flip maps n to N-1-n), so the sector
+// of a one-dimensional character chi of the group H it is labelled by has dimension
+//
+//   dim = (1/|H|) sum_{h in H} conj(chi(h)) Fix_q(h),
+//
+// the multiplicity of chi in a permutation representation (the trace of the projector onto it),
+// where Fix_q(h) counts the configurations of total level q (any q when the charge is not used)
+// that h leaves unchanged. Fix_q follows from the cycles of h's site permutation: a fixed
+// configuration is constant on each cycle (without the flip), or alternates n, N-1-n around it (with
+// the flip: N choices on an even cycle, one on an odd cycle when N is odd, none otherwise). The
+// counts are exact; Burnside's lemma is the special case of the trivial character.
+
+import type { Model } from '../model/model.js';
+import { planSectors, type SectorLabel, type SectorSelection, type SymmetryName } from './group.js';
+
+export interface SectorSize {
+  label: SectorLabel;
+  /** Sectors reported as copies of this one (same spectrum), not solved again. */
+  copies: number;
+  dimension: number;
+}
+
+interface GroupElement {
+  /** Power of the translation (0 without translations). */
+  shift: number;
+  reflected: boolean;
+  flipped: boolean;
+  /** Lengths of the cycles of the site permutation. */
+  cycles: number[];
+}
+
+/** Every sector the solve will use (after `selection`), with its exact dimension. */
+export function sectorSizes(model: Pick<Model, 'sites' | 'levels' | 'isComplex'>, used: Record<SymmetryName, boolean>, selection: SectorSelection = {}): SectorSize[] {
+  const L = model.sites;
+  const N = model.levels;
+  const flipUsed = used.level_flip && !used.charge;
+  const elements: GroupElement[] = [];
+  for (let shift = 0; shift < (used.translation ? L : 1); shift++) {
+    for (const reflected of used.reflection ? [false, true] : [false]) {
+      for (const flipped of flipUsed ? [false, true] : [false]) {
+        elements.push({ shift, reflected, flipped, cycles: cycleLengths(L, shift, reflected) });
+      }
+    }
+  }
+  const fixedCache = new Map<number | null, number[]>();
+  const fixed = (q: number | null): number[] => {
+    let counts = fixedCache.get(q);
+    if (!counts) {
+      counts = elements.map((g) => fixedConfigurations(g, N, q));
+      fixedCache.set(q, counts);
+    }
+    return counts;
+  };
+
+  return planSectors(used, model as Model, selection).map((plan) => {
+    const { momentum, parity, level_flip: flip, charge } = plan.label;
+    const counts = fixed(charge);
+    let sum = 0;
+    let order = 0;
+    elements.forEach((g, e) => {
+      // A reflection belongs to the sector's group only where parity labels it (k = 0, pi, or no translations).
+      if (g.reflected && parity === null) return;
+      order++;
+      let character = momentum === null ? 1 : Math.cos((2 * Math.PI * momentum * g.shift) / L);
+      if (g.reflected) character *= parity as number;
+      if (g.flipped) character *= flip as number;
+      sum += character * counts[e];
+    });
+    // The sine parts cancel between shifts j and L-j, which fix equally many configurations.
+    return { label: plan.label, copies: plan.copies.length, dimension: Math.round(sum / order) };
+  });
+}
+
+/** Cycle lengths of the site permutation i -> (r(i) + shift) mod L, r the reflection i -> L-1-i or the identity. */
+function cycleLengths(L: number, shift: number, reflected: boolean): number[] {
+  const image = (i: number): number => ((reflected ? L - 1 - i : i) + shift) % L;
+  const seen = new Uint8Array(L);
+  const lengths: number[] = [];
+  for (let start = 0; start < L; start++) {
+    if (seen[start]) continue;
+    let length = 0;
+    for (let i = start; !seen[i]; i = image(i)) {
+      seen[i] = 1;
+      length++;
+    }
+    lengths.push(length);
+  }
+  return lengths;
+}
+
+/** Configurations (of total level q, or any when q is null) that a group element leaves unchanged. */
+function fixedConfigurations(g: GroupElement, N: number, q: number | null): number {
+  if (g.flipped) {
+    // The flip is never combined with the charge.
+    let count = 1;
+    for (const length of g.cycles) count *= length % 2 === 0 ? N : N % 2 === 1 ? 1 : 0;
+    return count;
+  }
+  if (q === null) return N ** g.cycles.length;
+  // Coefficient of x^q in prod over cycles of (1 + x^len + x^(2 len) + ... + x^((N-1) len)).
+  let ways = new Float64Array(q + 1);
+  ways[0] = 1;
+  for (const length of g.cycles) {
+    const next = new Float64Array(q + 1);
+    for (let total = 0; total <= q; total++) {
+      if (ways[total] === 0) continue;
+      for (let level = 0; level < N && total + level * length <= q; level++) next[total + level * length] += ways[total];
+    }
+    ways = next;
+  }
+  return ways[q];
+}

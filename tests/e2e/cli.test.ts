@@ -1,0 +1,87 @@
+import { describe, expect, it } from 'vitest';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { runCli } from '../support/cli.js';
+
+const fixture = 'tests/fixtures/xx-chain.toml';
+
+describe('rungchain command line', () => {
+  it('solve --json prints exactly one JSON object with the output contract', () => {
+    const r = runCli(['solve', fixture, '--json']);
+    expect(r.code).toBe(0);
+    const lines = r.stdout.trim().split('\n');
+    expect(lines).toHaveLength(1);
+    const out = JSON.parse(lines[0]);
+    expect(out.energies).toHaveLength(2);
+    for (const key of ['populations', 'level_mean', 'spread', 'string_width', 'pair_separation']) {
+      expect(out.observables).toHaveProperty(key);
+    }
+    expect(out.basis.dimension).toBe(256);
+    expect(out.solver.iterations).toBeGreaterThan(0);
+    expect(out.solver.residuals).toHaveLength(2);
+    // XX chain of 8 sites, free fermions (Lieb, Schultz, Mattis 1961)
+    let e0 = 0;
+    for (let k = 1; k <= 8; k++) e0 += Math.min(0, 2 * Math.cos((k * Math.PI) / 9));
+    expect(out.energies[0]).toBeCloseTo(e0, 10);
+  });
+
+  it('--set overrides a key and the same spec reads from JSON', () => {
+    const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-'));
+    const json = path.join(dir, 'spec.json');
+    writeFileSync(json, JSON.stringify({ chain: { sites: 8 }, levels: { count: 2, tunnelling: 0 }, exchange: { strength: 1 } }));
+    const a = JSON.parse(runCli(['solve', json, '--json', '--set', 'exchange.strength=2']).stdout);
+    const b = JSON.parse(runCli(['solve', fixture, '--json']).stdout);
+    expect(a.energies[0]).toBeCloseTo(2 * b.energies[0], 10);
+  });
+
+  it('the readable table names the energies and the populations', () => {
+    const r = runCli(['solve', fixture]);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/energy/);
+    expect(r.stdout).toMatch(/P\(n=1\)/);
+  });
+
+  it('bad input: one line naming the key, exit code 2, no stack trace', () => {
+    const r = runCli(['solve', fixture, '--set', 'levels.tunelling=1']);
+    expect(r.code).toBe(2);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toMatch(/levels\.tunelling/);
+    expect(r.stderr).not.toMatch(/\bat .*\.js:\d+/);
+    const missing = runCli(['solve', 'no/such/spec.toml']);
+    expect(missing.code).toBe(2);
+    expect(missing.stderr.trim().split('\n')).toHaveLength(1);
+  });
+
+  it('check sizes the problem, and solve refuses what exceeds the memory limit', () => {
+    const c = runCli(['check', fixture, '--set', 'chain.sites=20', '--set', 'solve.symmetries="none"']);
+    expect(c.code).toBe(0);
+    expect(c.stdout).toMatch(/basis dimension\s+1048576/);
+    expect(c.stdout).toMatch(/on the fly/);
+    // with symmetries (the default) check names them: an open XX chain has its mirror and a conserved total level
+    const sectors = runCli(['check', fixture, '--set', 'chain.sites=20']);
+    expect(sectors.stdout).toMatch(/symmetries\s+reflection, charge/);
+    const refused = runCli(['solve', fixture, '--set', 'chain.sites=20', '--max-memory', '20MB']);
+    expect(refused.code).toBe(2);
+    expect(refused.stderr).toMatch(/estimated .*MiB/);
+  });
+
+  it.skipIf(os.availableParallelism() < 2)('check says how many sectors run at once, and fewer under a tight memory limit', () => {
+    const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-cli-'));
+    const spec = path.join(dir, 'ring.toml');
+    writeFileSync(spec, '[chain]\nsites = 10\nboundary = "periodic"\n[levels]\ncount = 4\ntunnelling = 1.0\n[exchange]\nstrength = 1.5\n');
+    const roomy = runCli(['check', spec]);
+    expect(roomy.stdout).toMatch(/solved sector by sector, 2 at a time\)/);
+    const estimate = (out: string) => Number(/memory estimate\s+([\d.]+) MiB/.exec(out)![1]);
+    // Just under the estimate for two at a time: one at a time still fits.
+    const tight = runCli(['check', spec, '--max-memory', `${Math.floor(estimate(roomy.stdout) - 1)}MiB`]);
+    expect(tight.stdout).toMatch(/solved sector by sector\)/);
+    expect(estimate(tight.stdout)).toBeLessThan(estimate(roomy.stdout));
+  });
+
+  it('demo runs and shows the string width table', () => {
+    const r = runCli(['demo'], { timeout: 60_000 });
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/width N=5/);
+  });
+});
