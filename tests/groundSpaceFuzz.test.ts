@@ -5,7 +5,7 @@
 // solve.states 1..4. Checked: the ground level's multiplicity (the documented window), the energies,
 // every observable of the ground space's equal mixture, the entanglement of the sites left of every
 // cut (pinned), and the evolve trace's observables against exp(-i H t) by the dense spectral
-// decomposition. FUZZ_CASES (default 30) and FUZZ_SEED choose the run; FUZZ_MAX_DIM the largest space.
+// decomposition. FUZZ_CASES (default 80) and FUZZ_SEED choose the run; FUZZ_MAX_DIM the largest space.
 
 import { writeFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
@@ -26,7 +26,7 @@ import {
 } from './support/occupation-reference.js';
 import { rng } from './support/random.js';
 
-const CASES = Number(process.env.FUZZ_CASES ?? 30);
+const CASES = Number(process.env.FUZZ_CASES ?? 80);
 const SEED = Number(process.env.FUZZ_SEED ?? 20261204);
 const MAX_DIM = Number(process.env.FUZZ_MAX_DIM ?? 260);
 const MIN_DIM = Number(process.env.FUZZ_MIN_DIM ?? 1);
@@ -419,7 +419,7 @@ describe('ground space differential fuzz against a dense build of docs/model.md'
 // - free molecules (no pair terms): the ground space is the product of each site's d-fold level, so
 //   g = d^L, its mixture the product of the sites' mixtures P1/d: populations P1[n][n]/d, pair
 //   separation 2 spread, string width (1 - 1/L) spread, and every cut's entropies l ln d.
-const LARGE = Number(process.env.FUZZ_LARGE ?? 4);
+const LARGE = Number(process.env.FUZZ_LARGE ?? 8);
 
 function largeCase(r: () => number): { spec: Record<string, any>; L: number; N: number; diagonal: boolean } {
   const pick = <T,>(xs: readonly T[]): T => xs[Math.floor(r() * xs.length)];
