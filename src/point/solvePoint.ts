@@ -137,7 +137,17 @@ export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: nu
 /** The symmetries a pinned spec really has (checked on its operator) and those the solve will use. */
 function chooseSymmetries(spec: Spec, model: Model): { symmetries: SymmetryCheck[]; used: Record<SymmetryName, boolean> | null } {
   const choice = spec.solve.symmetries;
-  if (model.kind !== 'pinned' || choice === 'none') return { symmetries: [], used: null };
+  // A selection the solve would not use must not quietly give the whole space's answer.
+  const selects = Object.keys(spec.solve.sector ?? {}).length > 0;
+  if (model.kind !== 'pinned') {
+    const key = selects ? 'solve.sector' : Array.isArray(choice) ? 'solve.symmetries' : null;
+    if (key) throw new SpecError(key, `symmetry sectors are used for pinned chains only, not for kind = "${model.kind}"; remove the key`);
+    return { symmetries: [], used: null };
+  }
+  if (choice === 'none') {
+    if (selects) throw new SpecError('solve.sector', 'selects sectors, but solve.symmetries is "none"; remove one of the two');
+    return { symmetries: [], used: null };
+  }
   const dimension = basisDimension(model);
   if (dimension > MAX_DIMENSION) return { symmetries: [], used: null };
   const symmetries = detectSymmetries(model, buildBasis(model) as PinnedBasis);
@@ -150,6 +160,7 @@ function chooseSymmetries(spec: Spec, model: Model): { symmetries: SymmetryCheck
     }
   }
   const any = Object.values(used).some(Boolean);
+  if (!any && selects) throw new SpecError('solve.sector', 'this model has no symmetry to select sectors of');
   return { symmetries, used: any ? used : null };
 }
 
