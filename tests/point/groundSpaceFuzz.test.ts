@@ -1,5 +1,5 @@
 // Differential fuzz of the ground space against the plain dense build of docs/model.md in
-// tests/support/occupation-reference.ts (ml-matrix's dense eigensolver): random small specs of every
+// tests/support/occupationReference.ts (ml-matrix's dense eigensolver): random small specs of every
 // particle kind, deliberately degenerate (free molecules, H = 0, rings threaded by flux, symmetric
 // couplings, charge-conserving chains) or generic with every term on, both symmetry settings,
 // solve.states 1..4. Checked: the ground level's multiplicity (the documented window), the energies,
@@ -9,10 +9,10 @@
 
 import { writeFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { planEvolution, runEvolution, traceJson } from '../src/evolve.js';
-import { solvePoint, type PointRecord } from '../src/point.js';
-import { SpecError } from '../src/errors.js';
-import { validateSpec } from '../src/spec.js';
+import { planEvolution, runEvolution, traceJson } from '../../src/dynamics/evolution.js';
+import { solvePoint, type PointRecord } from '../../src/point/solvePoint.js';
+import { SpecError } from '../../src/errors/errors.js';
+import { validateSpec } from '../../src/spec/spec.js';
 import {
   buildDense,
   energyOf,
@@ -23,8 +23,8 @@ import {
   observablesFrom,
   type Kind,
   type ModelDescription,
-} from './support/occupation-reference.js';
-import { rng } from './support/random.js';
+} from '../support/occupationReference.js';
+import { rng } from '../support/random.js';
 
 const CASES = Number(process.env.FUZZ_CASES ?? 80);
 const SEED = Number(process.env.FUZZ_SEED ?? 20261204);

@@ -7,8 +7,8 @@
 // "complete" (seeds 2 and 3: 15 and 1 copies).
 
 import { describe, expect, it } from 'vitest';
-import { solvePoint } from '../src/point.js';
-import { validateSpec } from '../src/spec.js';
+import { solvePoint } from '../../src/point/solvePoint.js';
+import { validateSpec } from '../../src/spec/spec.js';
 
 describe('a warm start from a ground state', () => {
   it.each([1, 2, 3, 4, 5])('finds all 16 copies of four flux-pi rings (seed %i)', (seed) => {

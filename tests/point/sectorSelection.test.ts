@@ -4,8 +4,8 @@
 // "each still checked".
 
 import { describe, expect, it } from 'vitest';
-import { planPoint } from '../src/point.js';
-import { validateSpec } from '../src/spec.js';
+import { planPoint } from '../../src/point/solvePoint.js';
+import { validateSpec } from '../../src/spec/spec.js';
 
 const hardcore = { chain: { sites: 3, boundary: 'periodic' }, levels: { count: 2 }, particles: { kind: 'hardcore', number: 2, hopping: 1 } };
 const pinned = { chain: { sites: 3, boundary: 'periodic' }, levels: { count: 2 }, exchange: { strength: 1 } };
