@@ -7,6 +7,7 @@ import type { SectorLabel } from '../../src/symmetry/group.js';
 import { describePlan, describeRecord } from '../../src/point/describe.js';
 import { runDemo } from '../../src/demo/demo.js';
 import { collect, memoryLimit } from './shared.js';
+import { invocation } from '../invocation.js';
 import { describeLabEnergies, labEnergies, labUnits } from '../../src/spec/units.js';
 import { describeScan, describeWork } from '../../src/scan/plan.js';
 import { defaultWorkerCount } from '../../src/scan/runner.js';
@@ -60,7 +61,7 @@ export function registerSolveCommands(program: Command): void {
     .command('demo')
     .description('solve a built-in invented scenario and print what it shows')
     .action(async () => {
-      await runDemo((line) => console.log(line));
+      await runDemo((line) => console.log(line), invocation());
     });
 }
 

@@ -10,7 +10,8 @@ import { DEMO_REPORT_FILE, writeDemoReport } from './report.js';
 import path from 'node:path';
 import { DEMO_SPEC } from './spec.js';
 
-export async function runDemo(print: (line: string) => void): Promise<void> {
+/** `program`: how the user starts rungchain from where they stand, for the commands the demo suggests. */
+export async function runDemo(print: (line: string) => void, program = 'rungchain'): Promise<void> {
   print('rungchain demo: invented molecule X-47, six tweezers on a ring, microwave tunnelling J = 1');
   print('between its rotational levels, dipolar exchange V between neighbours (rigid-rotor weights).');
   print('As V/J grows the molecules bind into one string in the synthetic dimension: its width stays');
@@ -37,5 +38,5 @@ export async function runDemo(print: (line: string) => void): Promise<void> {
   print('');
   writeDemoReport(print);
   print('');
-  print('Solve your own: write a spec (see README) and run `rungchain solve SPEC`; evolve one with `rungchain evolve SPEC`.');
+  print(`Solve your own: write a spec (see README) and run \`${program} solve SPEC\`; evolve one with \`${program} evolve SPEC\`.`);
 }

@@ -2,7 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { runCli } from '../support/cli.js';
+import { spawnSync } from 'node:child_process';
+import { CLI, ROOT, runCli } from '../support/cli.js';
 
 const fixture = 'tests/fixtures/xx-chain.toml';
 
@@ -83,5 +84,14 @@ describe('rungchain command line', () => {
     const r = runCli(['demo'], { timeout: 60_000 });
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/width N=5/);
+  });
+
+  it('the demo suggests commands that run from where the user stands (no rungchain on PATH after npm install)', () => {
+    const env: NodeJS.ProcessEnv = { ...process.env, PATH: path.dirname(process.execPath) };
+    delete env.npm_command;
+    const r = spawnSync(process.execPath, [CLI, 'demo'], { cwd: ROOT, env, encoding: 'utf8', timeout: 60_000 });
+    expect(r.status).toBe(0);
+    expect(r.stdout).toContain('run `node dist/bin/rungchain.js solve SPEC`');
+    expect(r.stdout).not.toMatch(/`rungchain solve/);
   });
 });
