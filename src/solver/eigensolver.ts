@@ -14,6 +14,7 @@ import { VectorArena } from '../simd/arena.js';
 import { BLOCK, coefficientNormSquared, norm2, plainKernels, scale, VectorKernels } from '../linalg/vectorKernels.js';
 import { KernelTeam } from '../linalg/kernelTeam.js';
 import { symmetricEigen } from '../linalg/symmetricEigen.js';
+import { realFormEigen } from '../linalg/hermitianEigen.js';
 
 export interface EigenOptions {
   /** How many lowest eigenpairs. */
@@ -826,19 +827,7 @@ function realDenseEigen(a: Float64Array, n: number, count: number, available: nu
  * (at least 1/p in square), so the choice stays well conditioned.
  */
 function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: number, available: number, groundWindow: ((e0: number) => number) | null): DenseSolution {
-  const size = 2 * n;
-  const embedded = new Float64Array(size * size);
-  for (let i = 0; i < n; i++) {
-    for (let j = 0; j < n; j++) {
-      const aij = a[i * n + j];
-      const bij = b[i * n + j];
-      embedded[i * size + j] = aij;
-      embedded[i * size + n + j] = -bij;
-      embedded[(n + i) * size + j] = bij;
-      embedded[(n + i) * size + n + j] = aij;
-    }
-  }
-  const { values, vectors: byVector } = symmetricEigen(embedded, size);
+  const { values, vectors: byVector, size } = realFormEigen(a, b, n);
   if (groundWindow) {
     // Each eigenvalue of H appears twice in S.
     const window = groundWindow(values[0]);
