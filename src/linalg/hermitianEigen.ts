@@ -40,3 +40,43 @@ export function hermitianEigenvalues(re: Float64Array, im: Float64Array | null, 
   for (let k = 0; k < n; k++) once[k] = 0.5 * (values[2 * k] + values[2 * k + 1]);
   return once;
 }
+
+/** ||H v_k - e_k v_k|| for H = a + i b (b null: real) and vectors interleaved (re, im) when complex. */
+export function denseResidualNorms(
+  a: Float64Array,
+  b: Float64Array | null,
+  n: number,
+  values: Float64Array,
+  vectors: Float64Array[],
+): Float64Array {
+  const residuals = new Float64Array(vectors.length);
+  for (let k = 0; k < vectors.length; k++) {
+    const v = vectors[k];
+    const e = values[k];
+    let sum = 0;
+    for (let i = 0; i < n; i++) {
+      if (b) {
+        let rr = 0;
+        let ri = 0;
+        for (let j = 0; j < n; j++) {
+          const aij = a[i * n + j];
+          const bij = b[i * n + j];
+          const xr = v[2 * j];
+          const xi = v[2 * j + 1];
+          rr += aij * xr - bij * xi;
+          ri += bij * xr + aij * xi;
+        }
+        rr -= e * v[2 * i];
+        ri -= e * v[2 * i + 1];
+        sum += rr * rr + ri * ri;
+      } else {
+        let r = 0;
+        for (let j = 0; j < n; j++) r += a[i * n + j] * v[j];
+        r -= e * v[i];
+        sum += r * r;
+      }
+    }
+    residuals[k] = Math.sqrt(sum);
+  }
+  return residuals;
+}
