@@ -16,6 +16,7 @@ import { detectSymmetries, planSectors, type SymmetryCheck, type SymmetryName } 
 import { solveInSectors, type SectorSolveOptions } from '../symmetry/sectorSolve.js';
 import { coreCount, defaultProductThreads, ThreadedOperator, withThreads } from '../operator/threaded.js';
 import { VectorArena } from '../simd/arena.js';
+import { solveSettings } from '../solver/specSettings.js';
 import { buildPointRecord, type PointRecord } from './record.js';
 
 export { gapAboveGround, type PointRecord } from './record.js';
@@ -165,10 +166,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   try {
     eigen = lowestEigenpairs(threaded, {
     states,
-    tolerance: spec.solve.tolerance,
-    maxMatvecs: spec.solve.maxMatvecs ?? undefined,
-    krylovSize: spec.solve.krylov ?? undefined,
-    seed: spec.solve.seed,
+    ...solveSettings(spec.solve),
     denseThreshold: denseThresholdFor(states),
     initial: options.initial,
     onProgress: options.onProgress,
@@ -240,10 +238,7 @@ function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, o
   const cuts = cutsFor(spec.solve.entanglement, basis.sites, basis.levels);
   const solution = solveInSectors(model, basis, plan.used!, {
     states,
-    tolerance: spec.solve.tolerance,
-    maxMatvecs: spec.solve.maxMatvecs ?? undefined,
-    krylovSize: spec.solve.krylov ?? undefined,
-    seed: spec.solve.seed,
+    ...solveSettings(spec.solve),
     selection: spec.solve.sector,
     initial: options.initial,
     initialComplex: options.initial ? options.initial.length === 2 * basis.dim : false,
