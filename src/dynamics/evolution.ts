@@ -36,6 +36,7 @@ import { basisProbabilities, pinnedObservables, type Observables } from '../obse
 import { itinerantObservables } from '../observables/itinerant.js';
 import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES, type MemoryEstimate } from '../point/memory.js';
 import { defaultKrylovSize, GROUND_COPIES_CAP, lowestEigenpairs } from '../solver/eigensolver.js';
+import { solveSettings } from '../solver/specSettings.js';
 import { applyOverride, cutText, isTable, keyForPath, validateSpec, type Spec } from '../spec/spec.js';
 import { labUnits } from '../spec/units.js';
 import { complexDot, complexView, expectation, KrylovPropagator, toComplex, vectorNorm, type ComplexOperator } from './krylov.js';
@@ -185,7 +186,8 @@ export function planEvolution(raw: Record<string, unknown>, spec: Spec): Evoluti
     observables: dimension * 8,
   };
   if (ramps.length > 0 || section.initial.kind === 'ground_state') {
-    parts.ground = (defaultKrylovSize(2, dimension) + 3 + 2) * vector;
+    // The ground-state solves take solve.krylov like any other (see solveSettings).
+    parts.ground = (Math.min(spec.solve.krylov ?? defaultKrylovSize(2), dimension) + 3 + 2) * vector;
   }
   let totalBytes = 0;
   for (const v of Object.values(parts)) totalBytes += v;
@@ -290,9 +292,7 @@ export function initialState(plan: EvolutionPlan, basis: Basis, notes: string[] 
   const op = buildOperator(buildModel(groundSpec), basis);
   const eigen = lowestEigenpairs(op, {
     states: Math.min(2, basis.dim),
-    tolerance: groundSpec.solve.tolerance,
-    maxMatvecs: groundSpec.solve.maxMatvecs ?? undefined,
-    seed: groundSpec.solve.seed,
+    ...solveSettings(groundSpec.solve),
     throwOnFailure: true,
     groundCopies: GROUND_COPIES_CAP,
   });
@@ -468,9 +468,7 @@ export class Evolution {
     const warm = this.ground?.vectors[0];
     const eigen = lowestEigenpairs(h.op, {
       states: Math.min(2, this.dim),
-      tolerance: spec.solve.tolerance,
-      maxMatvecs: spec.solve.maxMatvecs ?? undefined,
-      seed: spec.solve.seed,
+      ...solveSettings(spec.solve),
       initial: warm && warm.length === (h.op.isComplex ? 2 * this.dim : this.dim) ? warm : undefined,
       throwOnFailure: true,
       // The weight in the ground space needs every copy of the level, not the first two.

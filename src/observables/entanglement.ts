@@ -12,7 +12,7 @@
 // whichever of the two is smaller: O(d * g * dim) for the matrix plus O(d^3) for its eigenvalues.
 // For a pure state (g = 1) this is the usual smaller-side shortcut.
 
-import { symmetricEigen } from '../linalg/symmetricEigen.js';
+import { hermitianEigenvalues as ascendingHermitianEigenvalues } from '../linalg/hermitianEigen.js';
 import { ResourceError } from '../errors/errors.js';
 
 export interface CutEntanglement {
@@ -197,25 +197,7 @@ function accumulateStackedGram(
 /** Eigenvalues of a Hermitian d x d matrix (row-major re, im), descending. */
 export function hermitianEigenvalues(d: number, re: Float64Array, im: Float64Array | null): Float64Array {
   if (d === 1) return Float64Array.of(re[0]);
-  if (!im) return symmetricEigen(re, d, false).values.reverse();
-  // R + iI is Hermitian iff [[R, -I], [I, R]] is real symmetric; the latter has every eigenvalue of
-  // the former twice (common practice).
-  const size = 2 * d;
-  const embedded = new Float64Array(size * size);
-  for (let r = 0; r < d; r++) {
-    for (let c = 0; c < d; c++) {
-      const x = re[r * d + c];
-      const y = im[r * d + c];
-      embedded[r * size + c] = x;
-      embedded[(r + d) * size + c + d] = x;
-      embedded[r * size + c + d] = -y;
-      embedded[(r + d) * size + c] = y;
-    }
-  }
-  const doubled = symmetricEigen(embedded, size, false).values.reverse();
-  const values = new Float64Array(d);
-  for (let k = 0; k < d; k++) values[k] = 0.5 * (doubled[2 * k] + doubled[2 * k + 1]);
-  return values;
+  return ascendingHermitianEigenvalues(re, im, d).reverse();
 }
 
 /** Entropies and entanglement energies from Schmidt weights (eigenvalues of rho, any order). */

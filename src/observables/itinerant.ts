@@ -26,7 +26,7 @@
 // For a degenerate ground space every quantity is the average over the space (the condensate
 // fraction is that of the averaged rho).
 
-import { symmetricEigen } from '../linalg/symmetricEigen.js';
+import { realFormEigen } from '../linalg/hermitianEigen.js';
 import type { FockBasis } from '../basis/fock.js';
 import type { Observables } from './pinned.js';
 
@@ -250,19 +250,6 @@ function oneBodyDensityMatrix(basis: FockBasis, states: Float64Array[], isComple
 
 /** Largest eigenvalue of the Hermitian L x L matrix re + i im (via the real embedding when complex). */
 function largestEigenvalue(re: Float64Array, im: Float64Array | null, L: number): number {
-  const n = im === null ? L : 2 * L;
-  const m = new Float64Array(n * n);
-  for (let i = 0; i < L; i++)
-    for (let j = 0; j < L; j++) {
-      const a = re[i * L + j];
-      m[i * n + j] = a;
-      if (im !== null) {
-        const b = im[i * L + j];
-        m[(i + L) * n + j + L] = a;
-        m[i * n + j + L] = -b;
-        m[(i + L) * n + j] = b;
-      }
-    }
-  const values = symmetricEigen(m, n, false).values;
-  return n > 0 ? values[n - 1] : -Infinity;
+  const { values, size } = realFormEigen(re, im, L, false);
+  return size > 0 ? values[size - 1] : -Infinity;
 }

@@ -5,17 +5,21 @@ import { basisDimension, buildBasis, MAX_DIMENSION, type PinnedBasis } from '../
 import { SpecError } from '../errors/errors.js';
 import { buildModel, type Model } from '../model/model.js';
 import { buildOperator, operatorStorage } from '../operator/build.js';
-import { basisProbabilities, pinnedObservables, type Observables } from '../observables/pinned.js';
+import { basisProbabilities, pinnedObservables } from '../observables/pinned.js';
 import { itinerantObservables } from '../observables/itinerant.js';
 import { planFockOperator } from '../operator/fock.js';
 import { cutsFor, pinnedEntanglement } from '../observables/entanglement.js';
 import { assertWithinMemory, defaultMemoryLimit, estimateSectorMemory, estimateSolveMemory, largestSector, pinnedColumnsPerState, type MemoryEstimate } from './memory.js';
-import { defaultKrylovSize, degeneracyWindow, denseThresholdFor, GROUND_COPIES_CAP, lowestEigenpairs, type EigenResult } from '../solver/eigensolver.js';
+import { defaultKrylovSize, denseThresholdFor, GROUND_COPIES_CAP, lowestEigenpairs, type EigenResult } from '../solver/eigensolver.js';
 import type { Spec } from '../spec/spec.js';
-import { detectSymmetries, planSectors, type SectorLabel, type SymmetryCheck, type SymmetryName } from '../symmetry/group.js';
-import { solveInSectors, type SectorRun, type SectorSolveOptions } from '../symmetry/sectorSolve.js';
+import { detectSymmetries, planSectors, type SymmetryCheck, type SymmetryName } from '../symmetry/group.js';
+import { solveInSectors, type SectorSolveOptions } from '../symmetry/sectorSolve.js';
 import { coreCount, defaultProductThreads, ThreadedOperator, withThreads } from '../operator/threaded.js';
 import { VectorArena } from '../simd/arena.js';
+import { solveSettings } from '../solver/specSettings.js';
+import { buildPointRecord, type PointRecord } from './record.js';
+
+export { gapAboveGround, type PointRecord } from './record.js';
 
 export interface PointPlan {
   model: Model;
@@ -29,35 +33,6 @@ export interface PointPlan {
   memory: MemoryEstimate;
   /** Sectors solved at once on their own threads (1 without sectors). */
   sectorThreads: number;
-}
-
-export interface PointRecord {
-  energies: number[];
-  gap: number | null;
-  /** Distance from the ground level to the next distinct level (copies within the degeneracy window are the ground level); null when no higher level was solved. */
-  gap_above_ground?: number | null;
-  observables: Observables;
-  basis: { kind: string; dimension: number; sites: number; levels: number; operator: string; nonzeros: number };
-  solver: {
-    method: string;
-    iterations: number;
-    restarts: number;
-    residuals: number[];
-    converged: boolean;
-    tolerance: number;
-    degeneracy: number;
-    /**
-     * Whether every copy of the lowest level was found (false: more than the cap, or the solver
-     * ran out of budget); the observables then average only the copies found.
-     */
-    degeneracy_complete: boolean;
-    seconds: number;
-    memory_estimate_bytes: number;
-    symmetries?: SymmetryName[];
-    sector_runs?: SectorRun[];
-  };
-  /** Quantum numbers of each state of `energies`, when solved in symmetry sectors. */
-  sectors?: (SectorLabel & { k: number | null })[];
 }
 
 export interface SolveOptions {
@@ -191,10 +166,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   try {
     eigen = lowestEigenpairs(threaded, {
     states,
-    tolerance: spec.solve.tolerance,
-    maxMatvecs: spec.solve.maxMatvecs ?? undefined,
-    krylovSize: spec.solve.krylov ?? undefined,
-    seed: spec.solve.seed,
+    ...solveSettings(spec.solve),
     denseThreshold: denseThresholdFor(states),
     initial: options.initial,
     onProgress: options.onProgress,
@@ -219,45 +191,27 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   if (cuts.length > 0) observables.entanglement = pinnedEntanglement(ground, basis.sites, basis.levels, op.isComplex, cuts);
   // `values` also holds copies of the ground level beyond `states`.
   const energies = Array.from(eigen.values).slice(0, states);
-  const record: PointRecord = {
+  const record = buildPointRecord({
     energies,
-    gap: energies.length > 1 ? energies[1] - energies[0] : null,
-    gap_above_ground: gapAboveGround(energies, spec.solve.tolerance),
     observables,
-    basis: {
-      kind: plan.model.kind,
-      dimension: basis.dim,
-      sites: plan.model.sites,
-      levels: plan.model.levels,
-      operator: operatorStorage(op),
-      nonzeros: op.nonzeros(),
-    },
-    solver: {
+    model: plan.model,
+    dimension: basis.dim,
+    operator: operatorStorage(op),
+    nonzeros: op.nonzeros(),
+    solve: {
       method: eigen.method,
-      iterations: eigen.matvecs,
+      matvecs: eigen.matvecs,
       restarts: eigen.restarts,
       residuals: Array.from(eigen.residuals).slice(0, states),
       converged: eigen.converged,
-      tolerance: spec.solve.tolerance,
       degeneracy: eigen.degeneracy,
-      degeneracy_complete: eigen.degeneracyComplete ?? false,
-      seconds: (performance.now() - started) / 1000,
-      memory_estimate_bytes: plan.memory.totalBytes,
+      degeneracyComplete: eigen.degeneracyComplete ?? false,
     },
-  };
+    tolerance: spec.solve.tolerance,
+    started,
+    memoryBytes: plan.memory.totalBytes,
+  });
   return { record, groundStates: ground, eigen };
-}
-
-/**
- * E - E0 for the lowest solved energy E above the ground level's degeneracy window (the window the
- * solver counts copies of the ground level in), or null when every solved energy is a copy of E0.
- */
-export function gapAboveGround(energies: ArrayLike<number>, tolerance: number): number | null {
-  if (energies.length === 0) return null;
-  const e0 = energies[0];
-  const window = degeneracyWindow(e0, tolerance);
-  for (let k = 1; k < energies.length; k++) if (energies[k] - e0 > window) return energies[k] - e0;
-  return null;
 }
 
 /**
@@ -284,10 +238,7 @@ function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, o
   const cuts = cutsFor(spec.solve.entanglement, basis.sites, basis.levels);
   const solution = solveInSectors(model, basis, plan.used!, {
     states,
-    tolerance: spec.solve.tolerance,
-    maxMatvecs: spec.solve.maxMatvecs ?? undefined,
-    krylovSize: spec.solve.krylov ?? undefined,
-    seed: spec.solve.seed,
+    ...solveSettings(spec.solve),
     selection: spec.solve.sector,
     initial: options.initial,
     initialComplex: options.initial ? options.initial.length === 2 * basis.dim : false,
@@ -305,36 +256,22 @@ function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, o
   if (cuts.length > 0 && groundStates.length > 0) observables.entanglement = pinnedEntanglement(groundStates, basis.sites, basis.levels, model.isComplex, cuts);
   const energies = solution.energies;
   const L = model.sites;
-  const record: PointRecord = {
+  const record = buildPointRecord({
     energies,
-    gap: energies.length > 1 ? energies[1] - energies[0] : null,
-    gap_above_ground: gapAboveGround(energies, spec.solve.tolerance),
     observables,
-    basis: {
-      kind: model.kind,
-      dimension: basis.dim,
-      sites: model.sites,
-      levels: model.levels,
-      operator: 'stored',
-      // Every sector's matrix that was built (a copy k <-> -k is not built twice).
-      nonzeros: solution.runs.reduce((sum, run) => sum + run.nonzeros, 0),
-    },
-    solver: {
-      method: solution.method,
-      iterations: solution.matvecs,
-      restarts: solution.restarts,
-      residuals: solution.residuals,
-      converged: solution.converged,
-      tolerance: spec.solve.tolerance,
-      degeneracy: solution.degeneracy,
-      degeneracy_complete: solution.degeneracyComplete,
-      seconds: (performance.now() - started) / 1000,
-      memory_estimate_bytes: plan.memory.totalBytes,
-      symmetries: (Object.keys(plan.used!) as SymmetryName[]).filter((k) => plan.used![k]),
-      sector_runs: solution.runs,
-    },
+    model,
+    dimension: basis.dim,
+    operator: 'stored',
+    // Every sector's matrix that was built (a copy k <-> -k is not built twice).
+    nonzeros: solution.runs.reduce((sum, run) => sum + run.nonzeros, 0),
+    solve: solution,
+    tolerance: spec.solve.tolerance,
+    started,
+    memoryBytes: plan.memory.totalBytes,
+    symmetries: (Object.keys(plan.used!) as SymmetryName[]).filter((k) => plan.used![k]),
+    sectorRuns: solution.runs,
     sectors: solution.labels.map((l) => ({ ...l, k: l.momentum === null ? null : (2 * Math.PI * l.momentum) / L })),
-  };
+  });
   return { record, groundStates };
 }
 

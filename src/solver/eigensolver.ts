@@ -14,6 +14,8 @@ import { VectorArena } from '../simd/arena.js';
 import { BLOCK, coefficientNormSquared, norm2, plainKernels, scale, VectorKernels } from '../linalg/vectorKernels.js';
 import { KernelTeam } from '../linalg/kernelTeam.js';
 import { symmetricEigen } from '../linalg/symmetricEigen.js';
+import { denseResidualNorms, realFormEigen } from '../linalg/hermitianEigen.js';
+import { residualVector } from './residual.js';
 
 export interface EigenOptions {
   /** How many lowest eigenpairs. */
@@ -465,9 +467,8 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
 
   /** ||H y - theta y|| measured with one product into `work` (the part along the deflation vectors left out). */
   const explicitResidual = (y: Float64Array, theta: number, work: Float64Array): number => {
-    op.apply(y, work);
+    residualVector(op, y, theta, work, kernels);
     matvecs++;
-    kernels.axpy(work, y, -theta);
     if (deflationCount === 0) return kernels.norm2(work);
     kernels.project(work, orthoSet, deflationCount, isComplex, coef);
     return Math.sqrt(kernels.subtract(work, orthoSet, deflationCount, isComplex, coef, null));
@@ -796,7 +797,7 @@ function denseSolve(op: HermitianOperator, count: number, deflation: Float64Arra
   }
   const available = n - deflation.length;
   const solution = b ? complexDenseEigen(a, b, n, count, available, groundWindow) : realDenseEigen(a, n, count, available, groundWindow);
-  solution.residuals = denseResiduals(a, b, n, solution.values, solution.vectors);
+  solution.residuals = denseResidualNorms(a, b, n, solution.values, solution.vectors);
   return solution;
 }
 
@@ -826,19 +827,7 @@ function realDenseEigen(a: Float64Array, n: number, count: number, available: nu
  * (at least 1/p in square), so the choice stays well conditioned.
  */
 function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: number, available: number, groundWindow: ((e0: number) => number) | null): DenseSolution {
-  const size = 2 * n;
-  const embedded = new Float64Array(size * size);
-  for (let i = 0; i < n; i++) {
-    for (let j = 0; j < n; j++) {
-      const aij = a[i * n + j];
-      const bij = b[i * n + j];
-      embedded[i * size + j] = aij;
-      embedded[i * size + n + j] = -bij;
-      embedded[(n + i) * size + j] = bij;
-      embedded[(n + i) * size + n + j] = aij;
-    }
-  }
-  const { values, vectors: byVector } = symmetricEigen(embedded, size);
+  const { values, vectors: byVector, size } = realFormEigen(a, b, n);
   if (groundWindow) {
     // Each eigenvalue of H appears twice in S.
     const window = groundWindow(values[0]);
@@ -900,45 +889,6 @@ function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: n
     start = end;
   }
   return { values: outValues, vectors, residuals: new Float64Array(count) };
-}
-
-function denseResiduals(
-  a: Float64Array,
-  b: Float64Array | null,
-  n: number,
-  values: Float64Array,
-  vectors: Float64Array[],
-): Float64Array {
-  const residuals = new Float64Array(vectors.length);
-  for (let k = 0; k < vectors.length; k++) {
-    const v = vectors[k];
-    const e = values[k];
-    let sum = 0;
-    for (let i = 0; i < n; i++) {
-      if (b) {
-        let rr = 0;
-        let ri = 0;
-        for (let j = 0; j < n; j++) {
-          const aij = a[i * n + j];
-          const bij = b[i * n + j];
-          const xr = v[2 * j];
-          const xi = v[2 * j + 1];
-          rr += aij * xr - bij * xi;
-          ri += bij * xr + aij * xi;
-        }
-        rr -= e * v[2 * i];
-        ri -= e * v[2 * i + 1];
-        sum += rr * rr + ri * ri;
-      } else {
-        let r = 0;
-        for (let j = 0; j < n; j++) r += a[i * n + j] * v[j];
-        r -= e * v[i];
-        sum += r * r;
-      }
-    }
-    residuals[k] = Math.sqrt(sum);
-  }
-  return residuals;
 }
 
 /** All eigenpairs of op, ascending (dense; meant for small operators and tests). */

@@ -19,6 +19,7 @@ import { ProductTeam, withThreads } from '../operator/threaded.js';
 import { VectorArena } from '../simd/arena.js';
 import { KeptTeam, spinLocked, workerScript } from '../threads/team.js';
 import { degeneracyWindow, denseThresholdFor, lowestEigenpairs, type EigenOptions } from '../solver/eigensolver.js';
+import { residualNorm } from '../solver/residual.js';
 import { KernelTeam } from '../linalg/kernelTeam.js';
 import { sectorSizes } from './sectorSizes.js';
 import { IndexActions, planSectors, type SectorLabel, type SectorPlan, type SectorSelection, type SymmetryName } from './group.js';
@@ -384,7 +385,7 @@ function solveSector(
         energies.push(next.values[0]);
         // Measured against H itself: the run's own residual is that of H with the found states
         // projected out, which those states' small residuals perturb.
-        residuals.push(vectors.length === 0 ? next.residuals[0] : trueResidual(op, v, next.values[0]));
+        residuals.push(vectors.length === 0 ? next.residuals[0] : residualNorm(op, v, next.values[0]));
         if (vectors.length > 0) matvecs++;
         converged &&= residuals[residuals.length - 1] <= opts.tolerance;
         vectors.push(v);
@@ -466,18 +467,6 @@ function expandGroundSpace(ground: Found[], model: Model, basis: PinnedBasis): F
     out.push(copy);
   });
   return out;
-}
-
-/** ||H v - e v|| for a unit vector v. */
-function trueResidual(op: HermitianOperator, v: Float64Array, e: number): number {
-  const w = new Float64Array(v.length);
-  op.apply(v, w);
-  let sum = 0;
-  for (let t = 0; t < v.length; t++) {
-    const r = w[t] - e * v[t];
-    sum += r * r;
-  }
-  return Math.sqrt(sum);
 }
 
 /** Drops the vectors of states that can no longer enter the answer. */

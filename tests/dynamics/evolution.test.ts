@@ -409,3 +409,26 @@ describe('the [evolve] section: bad input names the key path', () => {
     [{ times: [1], initial: [0, -1] }, /^evolve\.initial\[1\]$/],
   ])('%j -> %s', (evolve, path) => fails(evolve, path));
 });
+
+describe('the ground-state solve of an evolution takes the [solve] settings', () => {
+  // A Lanczos run with a Krylov space of m vectors holds those m vectors besides a few work
+  // vectors (common practice), so solve.krylov sizes the ground-state part of the estimate.
+  it('sizes its memory estimate with solve.krylov', () => {
+    const raw = (krylov?: number): Record<string, any> =>
+      clean({
+        chain: { sites: 4 },
+        levels: { count: 3 },
+        ...(krylov ? { solve: { krylov } } : {}),
+        evolve: { initial: { ground_state: {} }, times: [0, 1], tolerance: 1e-9 },
+      });
+    const planned = (krylov?: number) => {
+      const tree = raw(krylov);
+      return planEvolution(tree, validateSpec(tree));
+    };
+    const plan = planned(60);
+    const vector = 2 * plan.dimension * 8;
+    expect(plan.dimension).toBe(81);
+    expect(plan.memory.parts.ground).toBe((60 + 3 + 2) * vector);
+    expect(runEvolution(plan).frames[0].observables.return_probability).toBeCloseTo(1, 8);
+  });
+});
