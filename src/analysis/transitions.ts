@@ -113,6 +113,18 @@ function groupKey(params: ScanParams, keys: string[]): string {
   return JSON.stringify(keys.map((k) => params[k] ?? null));
 }
 
+/** Items grouped by their values of `keys`, groups and items in first-seen order. */
+function groupByKeys<T>(items: T[], paramsOf: (item: T) => ScanParams, keys: string[]): Map<string, T[]> {
+  const groups = new Map<string, T[]>();
+  for (const item of items) {
+    const key = groupKey(paramsOf(item), keys);
+    let list = groups.get(key);
+    if (!list) groups.set(key, (list = []));
+    list.push(item);
+  }
+  return groups;
+}
+
 function pick(params: ScanParams, keys: string[]): ScanParams {
   const out: ScanParams = {};
   for (const k of keys) if (k in params) out[k] = params[k];
@@ -208,13 +220,7 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
   const lines: LineAnalysis[] = [];
   if (parameter !== null) {
     const others = input.zip ? [] : keys.filter((k) => k !== parameter);
-    const groups = new Map<string, AnalysisPoint[]>();
-    for (const p of input.points) {
-      const key = groupKey(p.params, others);
-      let list = groups.get(key);
-      if (!list) groups.set(key, (list = []));
-      list.push(p);
-    }
+    const groups = groupByKeys(input.points, (p) => p.params, others);
     for (const group of groups.values()) {
       // Keep run order (index order): overlapPrevious pairs each point with the one before it.
       const solved = group.filter((p) => p.record !== null);
@@ -252,13 +258,7 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
     if (parameter !== null && !input.zip) {
       // Peaks: lines that differ only in this size, fitted together.
       const fixedKeys = keys.filter((k) => k !== size && k !== parameter);
-      const groups = new Map<string, LineAnalysis[]>();
-      for (const line of lines) {
-        const key = groupKey(line.fixed, fixedKeys);
-        let list = groups.get(key);
-        if (!list) groups.set(key, (list = []));
-        list.push(line);
-      }
+      const groups = groupByKeys(lines, (line) => line.fixed, fixedKeys);
       for (const group of groups.values()) {
         const names = new Set(group.flatMap((l) => l.indicators.map((i) => i.name)));
         for (const name of names) {
@@ -286,13 +286,7 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
       if (!known.includes(name) && !/^E\d+$/.test(name)) {
         throw new InputError(`--fit ${name}: not an observable of this run (choose from ${known.join(', ')}, or E1, E2, ...)`);
       }
-      const groups = new Map<string, AnalysisPoint[]>();
-      for (const p of done) {
-        const key = groupKey(p.params, fixedKeys);
-        let list = groups.get(key);
-        if (!list) groups.set(key, (list = []));
-        list.push(p);
-      }
+      const groups = groupByKeys(done, (p) => p.params, fixedKeys);
       for (const group of groups.values()) {
         const usable = group
           .map((p) => ({ size: p.params[size] as number, value: observableValue(p.record!, name) }))
