@@ -51,7 +51,8 @@ module.exports = {
     ...upStageRules,
     {
       name: 'src-is-a-library',
-      comment: 'src/ never reaches into the command line, the worker entries, benchmarks or tests (CLI wording lives in bin/).',
+      comment:
+        'src/ never reaches into the command line, the worker entries, benchmarks or tests (CLI wording lives in bin/).',
       severity: 'error',
       from: { path: '^src/' },
       to: { path: '^(bin|workers|bench|tests)/' },
@@ -86,7 +87,8 @@ module.exports = {
     },
     {
       name: 'workers-are-thin',
-      comment: 'A worker entry only hands its message to one function in src/: no bin, no other worker, no npm packages of its own.',
+      comment:
+        'A worker entry only hands its message to one function in src/: no bin, no other worker, no npm packages of its own.',
       severity: 'error',
       from: { path: '^workers/' },
       to: { pathNot: '^src/', dependencyTypesNot: ['core'] },
@@ -117,7 +119,15 @@ module.exports = {
       severity: 'warn',
       from: {
         orphan: true,
-        pathNot: ['^bin/rungchain\\.ts$', '^workers/', '^bench/', '^tests/', '\\.d\\.ts$', '(^|/)\\.[^/]+\\.(c|m)?js$', '\\.config\\.ts$'],
+        pathNot: [
+          '^bin/rungchain\\.ts$',
+          '^workers/',
+          '^bench/',
+          '^tests/',
+          '\\.d\\.ts$',
+          '(^|/)\\.[^/]+\\.(c|m)?js$',
+          '\\.config\\.ts$',
+        ],
       },
       to: {},
     },

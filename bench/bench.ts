@@ -82,7 +82,7 @@ function runChild(cmd: string, args: string[], env: NodeJS.ProcessEnv = process.
     process.stderr.write(`bench: ${cmd} ${args.join(' ')} failed: ${r.stderr.trim().split('\n').pop()}\n`);
     return null;
   }
-  return JSON.parse(r.stdout.trim().split('\n').pop()!);
+  return JSON.parse(r.stdout.trim().split('\n').pop()!) as Figures;
 }
 
 function main(): void {
@@ -102,7 +102,11 @@ function main(): void {
   for (const L of sizes) {
     const ours = runChild(process.execPath, [fileURLToPath(import.meta.url), '--case', String(L)]);
     const theirs = baseline
-      ? runChild('python3', [path.join(repo, 'bench/scipyBaseline.py'), String(L), String(LEVELS), String(STATES), String(J), String(V)], pyEnv)
+      ? runChild(
+          'python3',
+          [path.join(repo, 'bench/scipyBaseline.py'), String(L), String(LEVELS), String(STATES), String(J), String(V)],
+          pyEnv,
+        )
       : null;
     if (!ours) continue;
     const agree = theirs ? Math.max(...ours.energies.map((e, k) => Math.abs(e - theirs.energies[k]))) : NaN;
@@ -128,8 +132,24 @@ function main(): void {
   console.log(`pinned chain, periodic, ${LEVELS} levels, J=${J}, V=${V}, ${STATES} lowest states, tolerance 1e-9`);
   console.log(
     table(
-      ['size', 'dim', 'nonzeros', 'build s', 'Hx ms', 'Mnz/s', 'products', 'solve s', 'peak mem',
-        'scipy Hx ms', 'scipy products', 'scipy s', 'scipy mem', 'time ratio', 'mem ratio', 'max |dE|'],
+      [
+        'size',
+        'dim',
+        'nonzeros',
+        'build s',
+        'Hx ms',
+        'Mnz/s',
+        'products',
+        'solve s',
+        'peak mem',
+        'scipy Hx ms',
+        'scipy products',
+        'scipy s',
+        'scipy mem',
+        'time ratio',
+        'mem ratio',
+        'max |dE|',
+      ],
       rows,
     ),
   );

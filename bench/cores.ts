@@ -57,6 +57,6 @@ export function describeCores(speeds: CoreSpeeds): string {
   if (!speeds.ms) return 'core speeds: not measured (no taskset)';
   return (
     `core speeds (one dot-product loop pinned to each core): ${speeds.ms.map((t, k) => `core ${speeds.cores![k]} ${fmt(t, 4)} ms`).join(', ')}; ` +
-    `best possible speed-up of all cores over the fastest alone: ${fmt(speeds.ceiling!, 3)}`
+    `best possible speed-up of all cores over the fastest alone: ${fmt(speeds.ceiling, 3)}`
   );
 }

@@ -25,12 +25,22 @@ interface Case {
 
 const CASES: Case[] = [
   { name: 'hardcore 12x3, 6 particles', sites: 12, levels: 3, particles: { kind: 'hardcore', number: 6 } },
-  { name: 'boson 10x2, 7 particles, <=3/site', sites: 10, levels: 2, particles: { kind: 'boson', number: 7, max_per_site: 3, onsite: 2 } },
+  {
+    name: 'boson 10x2, 7 particles, <=3/site',
+    sites: 10,
+    levels: 2,
+    particles: { kind: 'boson', number: 7, max_per_site: 3, onsite: 2 },
+  },
   { name: 'fermion 12x2, 8 particles', sites: 12, levels: 2, particles: { kind: 'fermion', number: 8 } },
 ];
 const SMALL: Case[] = [
   { name: 'hardcore 8x3, 4 particles', sites: 8, levels: 3, particles: { kind: 'hardcore', number: 4 } },
-  { name: 'boson 7x2, 5 particles, <=3/site', sites: 7, levels: 2, particles: { kind: 'boson', number: 5, max_per_site: 3, onsite: 2 } },
+  {
+    name: 'boson 7x2, 5 particles, <=3/site',
+    sites: 7,
+    levels: 2,
+    particles: { kind: 'boson', number: 5, max_per_site: 3, onsite: 2 },
+  },
   { name: 'fermion 8x2, 6 particles', sites: 8, levels: 2, particles: { kind: 'fermion', number: 6 } },
 ];
 const STATES = 4;
@@ -97,7 +107,10 @@ function measureSolve(c: Case): Pick<Figures, 'iterations' | 'solve_s' | 'e0' | 
 }
 
 function child<T>(k: number, size: 'small' | 'full', what: 'build' | 'solve', name: string): T | null {
-  const r = spawnSync(process.execPath, [fileURLToPath(import.meta.url), '--case', String(k), size, what], { encoding: 'utf8', maxBuffer: 1 << 24 });
+  const r = spawnSync(process.execPath, [fileURLToPath(import.meta.url), '--case', String(k), size, what], {
+    encoding: 'utf8',
+    maxBuffer: 1 << 24,
+  });
   if (r.status !== 0) {
     process.stderr.write(`itinerant bench: ${name} (${what}) failed: ${r.stderr.trim().split('\n').pop()}\n`);
     return null;
@@ -135,9 +148,14 @@ function main(): void {
   });
   console.log(`itinerant particles, periodic chains, J = t = 1, V = 1.5, ${STATES} lowest states, tolerance 1e-9`);
   console.log(
-    table(['case', 'dim', 'stored', 'build s', 'Hx ms', 'Mnz/s', 'build mem', 'products', 'solve s', 'solve mem', 'E0'], rows),
+    table(
+      ['case', 'dim', 'stored', 'build s', 'Hx ms', 'Mnz/s', 'build mem', 'products', 'solve s', 'solve mem', 'E0'],
+      rows,
+    ),
   );
-  console.log('build mem: peak of a process that only builds and applies H; solve s and solve mem: end to end in a fresh');
+  console.log(
+    'build mem: peak of a process that only builds and applies H; solve s and solve mem: end to end in a fresh',
+  );
   console.log('process (basis, operator, Lanczos, observables); stored counts the diagonal when one is stored');
 }
 

@@ -31,7 +31,13 @@ const CASES: Case[] = [
   { name: 'pinned 11x3, no symmetries', sites: 11, levels: 3, symmetries: 'none' },
   { name: 'pinned 12x3, no symmetries', sites: 12, levels: 3, symmetries: 'none', slow: true },
   { name: 'hardcore 10x3, 5 particles', sites: 10, levels: 3, particles: { kind: 'hardcore', number: 5, hopping: 1 } },
-  { name: 'hardcore 12x3, 6 particles', sites: 12, levels: 3, particles: { kind: 'hardcore', number: 6, hopping: 1 }, slow: true },
+  {
+    name: 'hardcore 12x3, 6 particles',
+    sites: 12,
+    levels: 3,
+    particles: { kind: 'hardcore', number: 6, hopping: 1 },
+    slow: true,
+  },
 ];
 
 const LOW = 1.0;
@@ -43,7 +49,12 @@ function specFor(c: Case): Spec {
     levels: { count: c.levels, tunnelling: 1 },
     exchange: { strength: 1.5 },
     ...(c.particles ? { particles: c.particles } : {}),
-    solve: { states: 4, tolerance: 1e-9, entanglement: 'none', ...(c.particles ? {} : { symmetries: c.symmetries ?? 'auto' }) },
+    solve: {
+      states: 4,
+      tolerance: 1e-9,
+      entanglement: 'none',
+      ...(c.particles ? {} : { symmetries: c.symmetries ?? 'auto' }),
+    },
   });
 }
 
@@ -77,7 +88,14 @@ function measure(c: Case): Figures {
   solvePoint(spec, { groundStates: false });
   const seconds = (performance.now() - t0) / 1000;
   const peak = Math.max(procStatus('VmHWM'), process.resourceUsage().maxRSS * 1024);
-  return { dimension: plan.dimension, estimate: plan.memory.totalBytes, parts: plan.memory.parts, startRss, peak, seconds };
+  return {
+    dimension: plan.dimension,
+    estimate: plan.memory.totalBytes,
+    parts: plan.memory.parts,
+    startRss,
+    peak,
+    seconds,
+  };
 }
 
 function main(): void {
@@ -90,11 +108,16 @@ function main(): void {
   const quick = args.includes('--quick');
   const only = args.includes('--only') ? args[args.indexOf('--only') + 1] : null;
   const cases = CASES.filter((c) => (only ? c.name.includes(only) : !(quick && c.slow)));
-  console.log(`memory estimate against measured peak RSS, each case in a fresh process (want ${LOW} <= estimate/peak <= ${HIGH})`);
+  console.log(
+    `memory estimate against measured peak RSS, each case in a fresh process (want ${LOW} <= estimate/peak <= ${HIGH})`,
+  );
   const rows: string[][] = [];
   let outside = 0;
   for (const c of cases) {
-    const r = spawnSync(process.execPath, [fileURLToPath(import.meta.url), '--child', c.name], { encoding: 'utf8', maxBuffer: 1 << 24 });
+    const r = spawnSync(process.execPath, [fileURLToPath(import.meta.url), '--child', c.name], {
+      encoding: 'utf8',
+      maxBuffer: 1 << 24,
+    });
     if (r.status !== 0) {
       rows.push([c.name, '', '', '', '', `failed: ${(r.stderr || '').trim().split('\n').pop()}`]);
       outside++;
@@ -108,10 +131,21 @@ function main(): void {
       .filter(([, v]) => v >= 1 << 20)
       .map(([k, v]) => `${k} ${formatBytes(v)}`)
       .join(', ');
-    rows.push([c.name, String(f.dimension), formatBytes(f.estimate), formatBytes(f.peak), ratio.toFixed(2) + (ok ? '' : ' OUTSIDE'), `${f.seconds.toFixed(1)} s; start ${formatBytes(f.startRss)}; ${parts}`]);
+    rows.push([
+      c.name,
+      String(f.dimension),
+      formatBytes(f.estimate),
+      formatBytes(f.peak),
+      ratio.toFixed(2) + (ok ? '' : ' OUTSIDE'),
+      `${f.seconds.toFixed(1)} s; start ${formatBytes(f.startRss)}; ${parts}`,
+    ]);
   }
   console.log(table(['case', 'dimension', 'estimate', 'peak RSS', 'est/peak', 'notes'], rows));
-  console.log(outside === 0 ? `every ratio within [${LOW}, ${HIGH}]` : `${outside} case${outside === 1 ? '' : 's'} outside [${LOW}, ${HIGH}]`);
+  console.log(
+    outside === 0
+      ? `every ratio within [${LOW}, ${HIGH}]`
+      : `${outside} case${outside === 1 ? '' : 's'} outside [${LOW}, ${HIGH}]`,
+  );
 }
 
 main();

@@ -62,11 +62,23 @@ interface Figures {
   dimension: number;
 }
 
+/** The fields of a scan record this bench reads. */
+interface BenchRecord {
+  index: number;
+  status: string;
+  error?: string;
+  seconds: number;
+  iterations: number;
+  warm_start?: boolean;
+  result?: { solver?: { method?: string }; basis?: { dimension?: number } };
+}
+
 async function measure(dir: string, name: string, workers: number, warmStart: boolean): Promise<Figures> {
   const out = path.join(dir, name);
   const outcome = await runScan({ specPath: path.join(dir, 'line.toml'), out, workers, warmStart, progress: 'none' });
-  const records = readRun(out).records as Record<string, any>[];
-  if (outcome.failed > 0) throw new Error(`${name}: ${outcome.failed} points failed: ${records.find((r) => r.status === 'failed')?.error}`);
+  const records = readRun(out).records as unknown as BenchRecord[];
+  if (outcome.failed > 0)
+    throw new Error(`${name}: ${outcome.failed} points failed: ${records.find((r) => r.status === 'failed')?.error}`);
   return {
     outcome,
     pointSeconds: [...records].sort((a, b) => a.index - b.index).map((r) => Number(r.seconds)),
@@ -91,7 +103,10 @@ async function main(): Promise<void> {
  * that part in seconds and the largest speed-up it leaves `cores` equal cores, or cores of speeds
  * adding up to `ceiling` times the fastest.
  */
-function amdahlCeiling(run: Figures, ceiling: number): { fixed: number; steady: number; equal: number; measured: number } {
+function amdahlCeiling(
+  run: Figures,
+  ceiling: number,
+): { fixed: number; steady: number; equal: number; measured: number } {
   const times = run.pointSeconds;
   const typical = median(times);
   const steady = times.reduce((s, t) => s + t, 0) - Math.max(0, times[0] - typical);
@@ -128,7 +143,9 @@ async function benchLine(sites: number): Promise<void> {
       name,
       String(workers),
       String(runs[0].warm),
-      seconds(runs).map((t) => fmt(t, 3)).join(', '),
+      seconds(runs)
+        .map((t) => fmt(t, 3))
+        .join(', '),
       fmt(median(seconds(runs)), 3),
       String(runs[0].products),
       fmt(runs[0].products / points, 4),
@@ -136,7 +153,11 @@ async function benchLine(sites: number): Promise<void> {
     console.log(
       table(
         ['run', 'workers', 'warm starts', 'wall s (each run)', 'median s', 'products (first run)', 'products/point'],
-        [row('warm, 1 worker', 1, ones), row(`warm, ${maxWorkers} workers`, maxWorkers, twos), row('cold, 1 worker', 1, [cold])],
+        [
+          row('warm, 1 worker', 1, ones),
+          row(`warm, ${maxWorkers} workers`, maxWorkers, twos),
+          row('cold, 1 worker', 1, [cold]),
+        ],
       ),
     );
     console.log(
@@ -144,7 +165,9 @@ async function benchLine(sites: number): Promise<void> {
         `fastest 1-worker run / median ${maxWorkers}-worker run: ${fmt(Math.min(...seconds(ones)) / median(seconds(twos)), 3)}   (goal >= 1.7 with 2 workers on 2 cores)`,
     );
     if (ones.some((f) => f.products !== one.products) || twos.some((f) => f.products !== two.products)) {
-      console.log('note: runs with the same workers differ in products (work stealing cut a line elsewhere); the table shows the first run');
+      console.log(
+        'note: runs with the same workers differ in products (work stealing cut a line elsewhere); the table shows the first run',
+      );
     }
     console.log(`products cold / warm along the line (1 worker): ${fmt(cold.products / one.products, 3)}`);
     const fastest = ones.reduce((a, b) => (a.outcome.seconds <= b.outcome.seconds ? a : b));

@@ -49,12 +49,18 @@ function runCase(sites: number, levels: number, symmetries: string, threads: num
   const { record } = solvePoint(spec, { maxMemory: Number.MAX_SAFE_INTEGER, groundStates: false });
   const seconds = (performance.now() - t0) / 1000;
   const runs = record.solver.sector_runs ?? [];
-  const same = (a: SectorLabel, b: SectorLabel) => a.momentum === b.momentum && a.parity === b.parity && a.level_flip === b.level_flip && a.charge === b.charge;
+  const same = (a: SectorLabel, b: SectorLabel) =>
+    a.momentum === b.momentum && a.parity === b.parity && a.level_flip === b.level_flip && a.charge === b.charge;
   // Momenta other than 0 and pi have complex amplitudes: twice the numbers per vector entry.
-  const entries = (r: (typeof runs)[number]) => r.dimension * (r.label.momentum !== null && r.label.momentum !== 0 && 2 * r.label.momentum !== sites ? 2 : 1);
-  const holdsAnswer = (r: (typeof runs)[number]) => !r.screened && (record.sectors ?? []).some((l) => same(l, r.label) || r.copies.some((c) => same(l, c)));
+  const entries = (r: (typeof runs)[number]) =>
+    r.dimension * (r.label.momentum !== null && r.label.momentum !== 0 && 2 * r.label.momentum !== sites ? 2 : 1);
+  const holdsAnswer = (r: (typeof runs)[number]) =>
+    !r.screened && (record.sectors ?? []).some((l) => same(l, r.label) || r.copies.some((c) => same(l, c)));
   // The full space's vectors are real here (real couplings), one number an entry.
-  const work = runs.length > 0 ? runs.reduce((s, r) => s + r.iterations * entries(r), 0) : record.solver.iterations * record.basis.dimension;
+  const work =
+    runs.length > 0
+      ? runs.reduce((s, r) => s + r.iterations * entries(r), 0)
+      : record.solver.iterations * record.basis.dimension;
   return {
     work,
     answerWork: runs.length > 0 ? runs.filter(holdsAnswer).reduce((s, r) => s + r.iterations * entries(r), 0) : work,
@@ -63,7 +69,10 @@ function runCase(sites: number, levels: number, symmetries: string, threads: num
     energies: record.energies,
     peakBytes: process.resourceUsage().maxRSS * 1024,
     estimateBytes: estimate,
-    labels: (record.sectors ?? []).map((l) => `k=${l.momentum}${l.parity === null ? '' : l.parity > 0 ? ',P+' : ',P-'}${l.level_flip === null ? '' : l.level_flip > 0 ? ',F+' : ',F-'}`),
+    labels: (record.sectors ?? []).map(
+      (l) =>
+        `k=${l.momentum}${l.parity === null ? '' : l.parity > 0 ? ',P+' : ',P-'}${l.level_flip === null ? '' : l.level_flip > 0 ? ',F+' : ',F-'}`,
+    ),
     sectors: record.solver.sector_runs?.length ?? 1,
   };
 }
@@ -88,7 +97,11 @@ function triadBandwidth(): number {
 }
 
 /** Seconds per product of the on-the-fly kernel, and the bytes it streams per product. */
-function productFigures(sites: number, levels: number, threads: number): { seconds: number; bytes: number; nonzeros: number } {
+function productFigures(
+  sites: number,
+  levels: number,
+  threads: number,
+): { seconds: number; bytes: number; nonzeros: number } {
   const spec = chainSpec(sites, levels, 'none', threads);
   const model = buildModel(spec);
   const basis = buildBasis(model);
@@ -116,12 +129,17 @@ function productFigures(sites: number, levels: number, threads: number): { secon
 }
 
 function child(args: string[]): CaseFigures | null {
-  const r = spawnSync(process.execPath, [fileURLToPath(import.meta.url), ...args], { encoding: 'utf8', maxBuffer: 1 << 24 });
+  const r = spawnSync(process.execPath, [fileURLToPath(import.meta.url), ...args], {
+    encoding: 'utf8',
+    maxBuffer: 1 << 24,
+  });
   if (r.status !== 0) {
-    process.stderr.write(`sectors bench: case ${args.join(' ')} failed: ${r.stderr.trim().split('\n').slice(-3).join(' | ')}\n`);
+    process.stderr.write(
+      `sectors bench: case ${args.join(' ')} failed: ${r.stderr.trim().split('\n').slice(-3).join(' | ')}\n`,
+    );
     return null;
   }
-  return JSON.parse(r.stdout.trim().split('\n').pop()!);
+  return JSON.parse(r.stdout.trim().split('\n').pop()!) as CaseFigures;
 }
 
 function main(): void {
@@ -181,21 +199,42 @@ function main(): void {
   }
   console.log('pinned periodic chains, J=1, V=1.5, 4 lowest states, tolerance 1e-9');
   console.log(
-    table(['case', 'states', 'sectors', 'seconds', 'products', 'speed-up vs full 1 thread', 'peak mem', 'estimate', 'estimate/peak', 'energies', 'sectors of the 4 states'], rows),
+    table(
+      [
+        'case',
+        'states',
+        'sectors',
+        'seconds',
+        'products',
+        'speed-up vs full 1 thread',
+        'peak mem',
+        'estimate',
+        'estimate/peak',
+        'energies',
+        'sectors of the 4 states',
+      ],
+      rows,
+    ),
   );
 
   // The Lanczos work (products times vector entries) bounds what sectors can gain: the sectors that
   // hold the answer must each be converged, so even with every screen and every build free, a
   // sector solve cannot be faster than the full space by more than full work / their work.
   console.log('');
-  console.log('ceiling of any sector speed-up with this eigensolver (work: products x vector entries, complex entries twice):');
+  console.log(
+    'ceiling of any sector speed-up with this eigensolver (work: products x vector entries, complex entries twice):',
+  );
   for (const line of ceilings) console.log(`  ${line}`);
 
   const bw = triadBandwidth();
   const productRows: string[][] = [];
   const [L, N] = quick ? [8, 4] : [10, 4];
   for (const threads of [1, 2]) {
-    const p = child(['--products', String(L), String(N), String(threads)]) as unknown as { seconds: number; bytes: number; nonzeros: number } | null;
+    const p = child(['--products', String(L), String(N), String(threads)]) as unknown as {
+      seconds: number;
+      bytes: number;
+      nonzeros: number;
+    } | null;
     if (!p) continue;
     productRows.push([
       `${L}x${N}, ${threads} thread${threads > 1 ? 's' : ''}`,
@@ -208,7 +247,9 @@ function main(): void {
   console.log('');
   console.log(describeCores(coreSpeeds()));
   console.log(`memory bandwidth (SIMD triad y += s x, one thread): ${fmt(bw / 1e9, 3)} GB/s`);
-  console.log(table(['on-the-fly product', 'ms', 'M elements/s', 'GB/s streamed', 'fraction of triad bandwidth'], productRows));
+  console.log(
+    table(['on-the-fly product', 'ms', 'M elements/s', 'GB/s streamed', 'fraction of triad bandwidth'], productRows),
+  );
 }
 
 main();

@@ -47,7 +47,8 @@ export function invocation(): string {
   if (program !== null && foundOnPath('rungchain', underNpm) === program) return 'rungchain';
   const node = foundOnPath('node', underNpm) === realPath(process.execPath) ? 'node' : shellQuote(process.execPath);
   const relative = path.relative(process.cwd(), script);
-  const shown = relative !== '' && !relative.startsWith('..') && !path.isAbsolute(relative) ? relative : path.resolve(script);
+  const shown =
+    relative !== '' && !relative.startsWith('..') && !path.isAbsolute(relative) ? relative : path.resolve(script);
   return `${node} ${shellQuote(shown)}`;
 }
 

@@ -3,4 +3,4 @@
 import { workerData } from 'node:worker_threads';
 import { runKernelWorker } from '../src/linalg/kernelTeam.js';
 
-runKernelWorker(workerData);
+runKernelWorker(workerData as Parameters<typeof runKernelWorker>[0]);

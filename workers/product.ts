@@ -3,4 +3,4 @@
 import { workerData } from 'node:worker_threads';
 import { runProductWorker } from '../src/operator/threaded.js';
 
-runProductWorker(workerData);
+runProductWorker(workerData as Parameters<typeof runProductWorker>[0]);

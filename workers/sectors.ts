@@ -4,4 +4,4 @@
 import { workerData } from 'node:worker_threads';
 import { runSectorWorker } from '../src/symmetry/sectorSolve.js';
 
-runSectorWorker(workerData);
+runSectorWorker(workerData as Parameters<typeof runSectorWorker>[0]);

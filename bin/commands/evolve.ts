@@ -2,7 +2,17 @@
 // a trace's run folder back.
 import type { Command } from 'commander';
 import { InputError } from '../../src/errors/errors.js';
-import { checkEvolveOptions, loadEvolveRun, runEvolveCommand, traceContract, traceText, tracesCsv, tracesJson, tracesLongCsv, tracesText } from '../../src/dynamics/evolveRun.js';
+import {
+  checkEvolveOptions,
+  loadEvolveRun,
+  runEvolveCommand,
+  traceContract,
+  traceText,
+  tracesCsv,
+  tracesJson,
+  tracesLongCsv,
+  tracesText,
+} from '../../src/dynamics/evolveRun.js';
 import { fmt, fmtSmall, plural } from '../../src/format/tables.js';
 import { checkOutOption, collect, memoryLimit, PARTIAL_FAILURE } from './shared.js';
 import { commandLine, invocation } from '../invocation.js';
@@ -16,20 +26,37 @@ function nonNegativeNumber(text: string, what: string): number {
 export function registerEvolveCommands(program: Command): void {
   program
     .command('evolve')
-    .description('time evolution from a prepared state ([evolve] section): populations, energy, return probability at chosen times')
+    .description(
+      'time evolution from a prepared state ([evolve] section): populations, energy, return probability at chosen times',
+    )
     .argument('<spec>', 'model spec with an [evolve] section, .toml or .json')
     .option('--set <key=value>', 'override a spec key (repeatable)', collect, [])
     .option('--json', 'print { times, observables } as one JSON object on stdout (an array of traces for a scan)')
     .option('--csv', 'print a tidy CSV on stdout: one row per recorded time')
-    .option('--out <dir>', 'write the trace to a run folder that survives interruption; the same command resumes it (default for scans: runs/<spec name>-<identity>)')
-    .option('--checkpoint-every <seconds>', 'seconds between saved states in the run folder (default 30; 0: at every step)')
+    .option(
+      '--out <dir>',
+      'write the trace to a run folder that survives interruption; the same command resumes it (default for scans: runs/<spec name>-<identity>)',
+    )
+    .option(
+      '--checkpoint-every <seconds>',
+      'seconds between saved states in the run folder (default 30; 0: at every step)',
+    )
     .option('--retry-failed', 'run again the scan points recorded as failed')
     .option('--max-memory <size>', 'refuse traces whose estimate exceeds this (default: 60% of RAM)')
     .option('--quiet', 'print no progress')
     .action(
       async (
         specPath: string,
-        opts: { set: string[]; json?: boolean; csv?: boolean; out?: string; checkpointEvery?: string; retryFailed?: boolean; maxMemory?: string; quiet?: boolean },
+        opts: {
+          set: string[];
+          json?: boolean;
+          csv?: boolean;
+          out?: string;
+          checkpointEvery?: string;
+          retryFailed?: boolean;
+          maxMemory?: string;
+          quiet?: boolean;
+        },
       ) => {
         checkEvolveOptions(opts);
         checkOutOption(opts.out);
@@ -40,7 +67,10 @@ export function registerEvolveCommands(program: Command): void {
           maxMemory: memoryLimit(opts),
           maxMemoryText: opts.maxMemory,
           progress: opts.quiet ? 'none' : 'auto',
-          checkpointSeconds: opts.checkpointEvery === undefined ? undefined : nonNegativeNumber(opts.checkpointEvery, '--checkpoint-every'),
+          checkpointSeconds:
+            opts.checkpointEvery === undefined
+              ? undefined
+              : nonNegativeNumber(opts.checkpointEvery, '--checkpoint-every'),
           retryFailed: Boolean(opts.retryFailed),
           handleSignals: true,
           program: invocation(),
@@ -50,7 +80,12 @@ export function registerEvolveCommands(program: Command): void {
           process.exitCode = 130;
           return;
         }
-        const contents = { dir: outcome.dir ?? '', manifest: { energy_unit_hz: outcome.energyUnitHz }, traces: outcome.traces, keys: outcome.keys };
+        const contents = {
+          dir: outcome.dir ?? '',
+          manifest: { energy_unit_hz: outcome.energyUnitHz },
+          traces: outcome.traces,
+          keys: outcome.keys,
+        };
         const single = outcome.keys.length === 0 && outcome.traces.length === 1;
         if (opts.json) {
           process.stdout.write(JSON.stringify(single ? traceContract(outcome.traces[0]) : tracesJson(contents)) + '\n');
@@ -74,7 +109,10 @@ export function registerEvolveCommands(program: Command): void {
           }
         }
         for (const note of outcome.notes) process.stderr.write(`rungchain: note: ${note}\n`);
-        if (outcome.dir && !opts.quiet) process.stderr.write(`run folder ${outcome.dir} (${commandLine(['trace', outcome.dir])} --csv | --json | --long)\n`);
+        if (outcome.dir && !opts.quiet)
+          process.stderr.write(
+            `run folder ${outcome.dir} (${commandLine(['trace', outcome.dir])} --csv | --json | --long)\n`,
+          );
         const failed = outcome.traces.filter((t) => t.status === 'failed');
         if (failed.length > 0) {
           const what =
@@ -92,7 +130,10 @@ export function registerEvolveCommands(program: Command): void {
     .description('read a time-trace run folder written by `evolve --out`: a table, or tidy CSV / JSON')
     .argument('<run>', 'run folder')
     .option('--csv', 'tidy CSV on stdout: one row per point and recorded time')
-    .option('--json', 'JSON array on stdout, one object per trace: parameters, status, times, observables indexed by time')
+    .option(
+      '--json',
+      'JSON array on stdout, one object per trace: parameters, status, times, observables indexed by time',
+    )
     .option('--long', 'with --csv: populations, level_mean and spread per site and level, one value per row')
     .action((dir: string, opts: { csv?: boolean; json?: boolean; long?: boolean }) => {
       checkEvolveOptions(opts);

@@ -12,7 +12,9 @@ export function registerReportCommands(program: Command): void {
   addAnalysisOptions(
     program
       .command('report')
-      .description('write one self-contained HTML report of a scan run: observables, heat maps, low spectrum, transition indicators, finite-size fits, populations')
+      .description(
+        'write one self-contained HTML report of a scan run: observables, heat maps, low spectrum, transition indicators, finite-size fits, populations',
+      )
       .argument('<run>', 'run folder')
       .option('--out <file>', 'where to write the report (default: report.html in the run folder)')
       .option('--point <index>', 'point whose per-site populations are drawn (default: near the main indicator peak)'),
@@ -21,7 +23,8 @@ export function registerReportCommands(program: Command): void {
     let point: number | undefined;
     if (opts.point !== undefined) {
       point = Number(opts.point);
-      if (!Number.isInteger(point) || point < 0) throw new InputError(`--point: expected a point index, got "${opts.point}"`);
+      if (!Number.isInteger(point) || point < 0)
+        throw new InputError(`--point: expected a point index, got "${opts.point}"`);
     }
     const summary = loadScanRun(dir);
     const html = renderReport(reportInputFromRun(summary, { ...analysisOptions(opts), point }));

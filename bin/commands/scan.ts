@@ -15,39 +15,61 @@ function positiveInteger(text: string, what: string): number {
 export function registerScanCommands(program: Command): void {
   program
     .command('scan')
-    .description('solve every point of a spec\'s [scan] section on worker threads, into a run folder that survives interruption')
+    .description(
+      "solve every point of a spec's [scan] section on worker threads, into a run folder that survives interruption",
+    )
     .argument('<spec>', 'model spec with a [scan] section, .toml or .json')
     .option('--set <key=value>', 'override a spec key (repeatable)', collect, [])
     .option('--out <dir>', 'run folder (default: runs/<spec name>-<identity>, so the same command resumes)')
     .option('--workers <n>', 'worker threads (default: one per core)')
     .option('--retry-failed', 'run again the points recorded as failed')
-    .option('--no-warm-start', 'start every Lanczos run from a random vector (bitwise reproducible order-independent results)')
+    .option(
+      '--no-warm-start',
+      'start every Lanczos run from a random vector (bitwise reproducible order-independent results)',
+    )
     .option('--max-memory <size>', 'a point whose estimate exceeds this is recorded as failed (default: 60% of RAM)')
     .option('--quiet', 'print nothing but errors')
-    .option('--shard <i/n>', 'run only shard i of n (balanced by estimated cost); in a Slurm array task it comes from SLURM_ARRAY_TASK_ID')
-    .action(async (specPath: string, opts: { set: string[]; out?: string; workers?: string; retryFailed?: boolean; warmStart: boolean; maxMemory?: string; quiet?: boolean; shard?: string }) => {
-      checkOutOption(opts.out);
-      const outcome = await runScan({
-        shard: opts.shard !== undefined ? parseShard(opts.shard) : shardFromEnvironment(),
-        specPath,
-        overrides: opts.set,
-        out: opts.out,
-        workers: opts.workers === undefined ? undefined : positiveInteger(opts.workers, '--workers'),
-        retryFailed: Boolean(opts.retryFailed),
-        warmStart: opts.warmStart,
-        maxMemory: memoryLimit(opts),
-        maxMemoryText: opts.maxMemory,
-        progress: opts.quiet ? 'none' : 'auto',
-        handleSignals: true,
-        program: invocation(),
-      });
-      // 130 is the shell's code for a run stopped by Ctrl-C.
-      if (outcome.interrupted) process.exitCode = 130;
-      else if (outcome.failed > 0) {
-        process.stderr.write(
-          `rungchain: ${outcome.failed} of ${outcome.total} points failed (the reasons: ${commandLine(['summary', outcome.dir])}); rerun them with --retry-failed\n`,
-        );
-        process.exitCode = PARTIAL_FAILURE;
-      }
-    });
+    .option(
+      '--shard <i/n>',
+      'run only shard i of n (balanced by estimated cost); in a Slurm array task it comes from SLURM_ARRAY_TASK_ID',
+    )
+    .action(
+      async (
+        specPath: string,
+        opts: {
+          set: string[];
+          out?: string;
+          workers?: string;
+          retryFailed?: boolean;
+          warmStart: boolean;
+          maxMemory?: string;
+          quiet?: boolean;
+          shard?: string;
+        },
+      ) => {
+        checkOutOption(opts.out);
+        const outcome = await runScan({
+          shard: opts.shard !== undefined ? parseShard(opts.shard) : shardFromEnvironment(),
+          specPath,
+          overrides: opts.set,
+          out: opts.out,
+          workers: opts.workers === undefined ? undefined : positiveInteger(opts.workers, '--workers'),
+          retryFailed: Boolean(opts.retryFailed),
+          warmStart: opts.warmStart,
+          maxMemory: memoryLimit(opts),
+          maxMemoryText: opts.maxMemory,
+          progress: opts.quiet ? 'none' : 'auto',
+          handleSignals: true,
+          program: invocation(),
+        });
+        // 130 is the shell's code for a run stopped by Ctrl-C.
+        if (outcome.interrupted) process.exitCode = 130;
+        else if (outcome.failed > 0) {
+          process.stderr.write(
+            `rungchain: ${outcome.failed} of ${outcome.total} points failed (the reasons: ${commandLine(['summary', outcome.dir])}); rerun them with --retry-failed\n`,
+          );
+          process.exitCode = PARTIAL_FAILURE;
+        }
+      },
+    );
 }

@@ -13,33 +13,46 @@ import { commandLine, invocation } from '../invocation.js';
 import { shellQuote } from '../../src/format/tables.js';
 
 function listed(indices: number[]): string {
-  return indices.length <= 12 ? indices.join(', ') : `${indices.slice(0, 12).join(', ')}, ... (${indices.length} in all)`;
+  return indices.length <= 12
+    ? indices.join(', ')
+    : `${indices.slice(0, 12).join(', ')}, ... (${indices.length} in all)`;
 }
 
 export function registerShardCommands(program: Command): void {
   program
     .command('merge')
-    .description('merge shard run folders of one scan into one run folder (checks manifests; merging again is harmless)')
+    .description(
+      'merge shard run folders of one scan into one run folder (checks manifests; merging again is harmless)',
+    )
     .argument('<shards...>', 'shard run folders')
     .requiredOption('--out <dir>', 'merged run folder')
     .action((dirs: string[], opts: { out: string }) => {
       checkOutOption(opts.out);
       const r = mergeRuns(dirs, opts.out);
-      console.log(`merged ${r.shards} folder${r.shards === 1 ? '' : 's'} into ${r.out}: ${r.done} done, ${r.failed} failed, ${r.missing.length} missing of ${r.total} (${r.written} records written now)`);
-      if (r.duplicated.length > 0) console.log(`points finished in more than one folder (one record kept): ${listed(r.duplicated)}`);
+      console.log(
+        `merged ${r.shards} folder${r.shards === 1 ? '' : 's'} into ${r.out}: ${r.done} done, ${r.failed} failed, ${r.missing.length} missing of ${r.total} (${r.written} records written now)`,
+      );
+      if (r.duplicated.length > 0)
+        console.log(`points finished in more than one folder (one record kept): ${listed(r.duplicated)}`);
       if (r.missing.length > 0) {
-        console.log(`missing points (no shard has them; rerun the shards that hold them, then merge again): ${listed(r.missing)}`);
+        console.log(
+          `missing points (no shard has them; rerun the shards that hold them, then merge again): ${listed(r.missing)}`,
+        );
         process.exitCode = PARTIAL_FAILURE;
       }
       if (r.failed > 0) {
-        console.log(`${r.failed} point${r.failed === 1 ? '' : 's'} failed (the reasons: ${commandLine(['summary', r.out])}); rerun ${r.failed === 1 ? 'its shard' : 'their shards'} with --retry-failed, then merge again`);
+        console.log(
+          `${r.failed} point${r.failed === 1 ? '' : 's'} failed (the reasons: ${commandLine(['summary', r.out])}); rerun ${r.failed === 1 ? 'its shard' : 'their shards'} with --retry-failed, then merge again`,
+        );
         process.exitCode = PARTIAL_FAILURE;
       }
     });
 
   program
     .command('slurm')
-    .description('write a Slurm job-array batch script for a scan, with per-task memory and time from rungchain estimates')
+    .description(
+      'write a Slurm job-array batch script for a scan, with per-task memory and time from rungchain estimates',
+    )
     .argument('<spec>', 'model spec with a [scan] section')
     .requiredOption('--shards <n>', 'array size: number of shards')
     .option('--set <key=value>', 'override a spec key (repeatable)', collect, [])
@@ -52,36 +65,58 @@ export function registerShardCommands(program: Command): void {
     .option('--sbatch <option>', 'extra #SBATCH line, e.g. --sbatch=--qos=long (repeatable)', collect, [])
     .option('--rungchain <command>', 'how to run rungchain on the cluster (default: this node and this install)')
     .option('--write <file>', 'script file (default: <run-dir>/scan.sbatch); "-" prints it')
-    .action((specPath: string, opts: { shards: string; set: string[]; runDir?: string; cpus: string; partition?: string; account?: string; timeLimit?: string; mem?: string; sbatch: string[]; rungchain?: string; write?: string }) => {
-      const number = (text: string, what: string): number => {
-        const n = Number(text);
-        if (!Number.isInteger(n) || n < 1) throw new InputError(`${what}: expected a positive integer, got "${text}"`);
-        return n;
-      };
-      checkOutOption(opts.write, '--write');
-      checkOutOption(opts.runDir, '--run-dir');
-      const batch = planBatch({
-        specPath,
-        overrides: opts.set,
-        shards: number(opts.shards, '--shards'),
-        cpusPerTask: number(opts.cpus, '--cpus'),
-        runDir: opts.runDir,
-        minutes: opts.timeLimit === undefined ? undefined : number(opts.timeLimit, '--time-limit'),
-        memoryBytes: opts.mem === undefined ? undefined : parseMemorySize(opts.mem, '--mem'),
-        partition: opts.partition,
-        account: opts.account,
-        extra: opts.sbatch,
-        rungchain: opts.rungchain ?? `${process.execPath} ${path.resolve(process.argv[1])}`,
-      });
-      if (opts.write === '-') {
-        process.stdout.write(batch.script);
-        return;
-      }
-      const file = opts.write ?? path.join(batch.runDir, 'scan.sbatch');
-      makeFolderFor(file, '--write');
-      writeFileSync(file, batch.script, { mode: 0o755 });
-      console.log(`wrote ${file}: ${batch.shards} tasks of ${batch.cpusPerTask} core${batch.cpusPerTask === 1 ? '' : 's'}, ${formatBytes(batch.memoryBytes)} and ${batch.timeText} each (heaviest shard: ${batch.heaviestPoints} points)`);
-      console.log(`submit:  sbatch ${file}`);
-      console.log(`then:    ${invocation()} merge ${shellQuote(batch.runDir)}/shard-* --out ${shellQuote(path.join(batch.runDir, 'merged'))}`);
-    });
+    .action(
+      (
+        specPath: string,
+        opts: {
+          shards: string;
+          set: string[];
+          runDir?: string;
+          cpus: string;
+          partition?: string;
+          account?: string;
+          timeLimit?: string;
+          mem?: string;
+          sbatch: string[];
+          rungchain?: string;
+          write?: string;
+        },
+      ) => {
+        const number = (text: string, what: string): number => {
+          const n = Number(text);
+          if (!Number.isInteger(n) || n < 1)
+            throw new InputError(`${what}: expected a positive integer, got "${text}"`);
+          return n;
+        };
+        checkOutOption(opts.write, '--write');
+        checkOutOption(opts.runDir, '--run-dir');
+        const batch = planBatch({
+          specPath,
+          overrides: opts.set,
+          shards: number(opts.shards, '--shards'),
+          cpusPerTask: number(opts.cpus, '--cpus'),
+          runDir: opts.runDir,
+          minutes: opts.timeLimit === undefined ? undefined : number(opts.timeLimit, '--time-limit'),
+          memoryBytes: opts.mem === undefined ? undefined : parseMemorySize(opts.mem, '--mem'),
+          partition: opts.partition,
+          account: opts.account,
+          extra: opts.sbatch,
+          rungchain: opts.rungchain ?? `${process.execPath} ${path.resolve(process.argv[1])}`,
+        });
+        if (opts.write === '-') {
+          process.stdout.write(batch.script);
+          return;
+        }
+        const file = opts.write ?? path.join(batch.runDir, 'scan.sbatch');
+        makeFolderFor(file, '--write');
+        writeFileSync(file, batch.script, { mode: 0o755 });
+        console.log(
+          `wrote ${file}: ${batch.shards} tasks of ${batch.cpusPerTask} core${batch.cpusPerTask === 1 ? '' : 's'}, ${formatBytes(batch.memoryBytes)} and ${batch.timeText} each (heaviest shard: ${batch.heaviestPoints} points)`,
+        );
+        console.log(`submit:  sbatch ${file}`);
+        console.log(
+          `then:    ${invocation()} merge ${shellQuote(batch.runDir)}/shard-* --out ${shellQuote(path.join(batch.runDir, 'merged'))}`,
+        );
+      },
+    );
 }

@@ -29,7 +29,8 @@ export function registerSolveCommands(program: Command): void {
       const plan = planPoint(spec, { maxMemory: limit, groundStates: false });
       console.log(describePlan(plan, limit));
       console.log(describeWork(spec, plan).join('\n'));
-      if (plan.memory.totalBytes > limit) console.log('solve would refuse this problem: the estimate exceeds the limit');
+      if (plan.memory.totalBytes > limit)
+        console.log('solve would refuse this problem: the estimate exceeds the limit');
     });
 
   program
@@ -43,25 +44,34 @@ export function registerSolveCommands(program: Command): void {
     .action((specPath: string, opts: { set: string[]; json?: boolean; maxMemory?: string; quiet?: boolean }) => {
       const { spec } = loadSpec(specPath, opts.set);
       const progress = opts.quiet || !process.stderr.isTTY ? undefined : solveProgress();
-      const { record } = solvePoint(spec, { maxMemory: memoryLimit(opts), onProgress: progress?.update, groundStates: false });
+      const { record } = solvePoint(spec, {
+        maxMemory: memoryLimit(opts),
+        onProgress: progress ? (info) => progress.update(info) : undefined,
+        groundStates: false,
+      });
       progress?.done();
       // With [units], energies also in Hz (a `units` block in JSON, lines under the table).
       const units = labUnits(spec);
-      if (opts.json) process.stdout.write(JSON.stringify(units ? { ...record, units: labEnergies(units, record.energies, record.gap) } : record) + '\n');
+      if (opts.json)
+        process.stdout.write(
+          JSON.stringify(units ? { ...record, units: labEnergies(units, record.energies, record.gap) } : record) + '\n',
+        );
       else {
         console.log(describeRecord(record));
         if (units) console.log('\n' + describeLabEnergies(units, record.energies, record.gap).join('\n'));
       }
       if (!record.solver.converged) {
-        process.stderr.write(`rungchain: warning: not converged to tolerance ${spec.solve.tolerance}; residuals are in the output\n`);
+        process.stderr.write(
+          `rungchain: warning: not converged to tolerance ${spec.solve.tolerance}; residuals are in the output\n`,
+        );
       }
     });
 
   program
     .command('demo')
     .description('solve a built-in invented scenario and print what it shows')
-    .action(async () => {
-      await runDemo((line) => console.log(line), invocation());
+    .action(() => {
+      runDemo((line) => console.log(line), invocation());
     });
 }
 
@@ -82,8 +92,13 @@ function solveProgress() {
       last = now;
       shown = true;
       const elapsed = (now - started) / 1000;
-      const where = info.sector ? `sector ${info.sector.index} of ${info.sector.count} (${sectorName(info.sector.label)}, ${info.sector.dimension} states), ` : '';
-      const left = info.sector && info.sector.spaceBefore > 0 ? `, about ${durationText((elapsed * (1 - info.sector.spaceBefore)) / info.sector.spaceBefore)} left` : '';
+      const where = info.sector
+        ? `sector ${info.sector.index} of ${info.sector.count} (${sectorName(info.sector.label)}, ${info.sector.dimension} states), `
+        : '';
+      const left =
+        info.sector && info.sector.spaceBefore > 0
+          ? `, about ${durationText((elapsed * (1 - info.sector.spaceBefore)) / info.sector.spaceBefore)} left`
+          : '';
       const line = `solving: ${where}${info.matvecs} products, residual ${info.worstResidual.toExponential(1)}, ${durationText(elapsed)}${left}`;
       process.stderr.write(`\r${line.padEnd(100)}`);
     },

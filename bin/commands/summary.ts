@@ -2,7 +2,16 @@
 import type { Command } from 'commander';
 import { InputError } from '../../src/errors/errors.js';
 import { loadScanRun } from '../../src/scan/scanRun.js';
-import { longCsv, longJson, longText, statusJson, statusText, summaryCsv, summaryJson, summaryText } from '../../src/output/summary.js';
+import {
+  longCsv,
+  longJson,
+  longText,
+  statusJson,
+  statusText,
+  summaryCsv,
+  summaryJson,
+  summaryText,
+} from '../../src/output/summary.js';
 import { sideBySide, sideBySideCsv, sideBySideJson, sideBySideText } from '../../src/output/sideBySide.js';
 import { analyseScan, analysisCsv, analysisInputOf, analysisText } from '../../src/analysis/transitions.js';
 import { addAnalysisOptions, analysisOptions, type AnalysisFlags } from './shared.js';
@@ -10,51 +19,74 @@ import { invocation } from '../invocation.js';
 
 export function registerSummaryCommands(program: Command): void {
   addAnalysisOptions(program.command('summary'))
-    .description('table of a scan run: one row per point (scanned parameters, energies, gap, observables), then transition indicators and finite-size fits')
+    .description(
+      'table of a scan run: one row per point (scanned parameters, energies, gap, observables), then transition indicators and finite-size fits',
+    )
     .argument('<run>', 'run folder')
     .option('--csv', 'tidy CSV on stdout')
     .option('--json', 'JSON array on stdout, one object per point')
     .option('--long', 'per-site and per-level observables, one value per row')
     .option('--by <axis>', 'spread one scan axis into columns, side by side (e.g. --by particles.kind, or --by kind)')
-    .option('--analysis', 'only the transition indicators and finite-size fits (with --json: one JSON object; with --csv: one row per peak or fit)')
-    .action((dir: string, opts: AnalysisFlags & { csv?: boolean; json?: boolean; long?: boolean; by?: string; analysis?: boolean }) => {
-      if (opts.csv && opts.json) throw new InputError('choose one of --csv and --json');
-      if (opts.by !== undefined && opts.long) throw new InputError('choose one of --by and --long');
-      // Every option is checked before the first line is written: an error after a whole table is easy to miss.
-      const chosen = analysisOptions(opts);
-      const summary = loadScanRun(dir);
-      const analysisAsked = opts.analysis || opts.parameter !== undefined || opts.fit.length > 0 || opts.power !== undefined || opts.terms !== undefined;
-      const checkedAnalysis = analysisAsked || (!opts.json && !opts.csv && !opts.long && opts.by === undefined) ? analyseScan(analysisInputOf(summary), chosen) : null;
-      if (opts.by !== undefined) {
-        const view = sideBySide(summary, opts.by);
-        if (opts.json) process.stdout.write(JSON.stringify(sideBySideJson(view)) + '\n');
-        else if (opts.csv) process.stdout.write(sideBySideCsv(view));
-        else console.log(sideBySideText(view));
-        return;
-      }
-      if (opts.long) {
-        if (opts.json) process.stdout.write(JSON.stringify(longJson(summary)) + '\n');
-        else if (opts.csv) process.stdout.write(longCsv(summary));
-        else console.log(longText(summary));
-        return;
-      }
-      if (opts.analysis) {
-        const analysis = analyseScan(analysisInputOf(summary), analysisOptions(opts));
-        if (opts.json) process.stdout.write(JSON.stringify(analysis) + '\n');
-        else if (opts.csv) {
-          process.stdout.write(analysisCsv(analysis, summary.section.axes.map((a) => a.key)));
-          for (const note of analysis.notes) process.stderr.write(`note: ${note}\n`);
-        } else console.log(analysisText(analysis));
-        return;
-      }
-      if (opts.json) process.stdout.write(JSON.stringify(summaryJson(summary)) + '\n');
-      else if (opts.csv) process.stdout.write(summaryCsv(summary));
-      else {
-        console.log(summaryText(summary));
-        const text = analysisText(checkedAnalysis!);
-        if (text) console.log(`\n${text}`);
-      }
-    });
+    .option(
+      '--analysis',
+      'only the transition indicators and finite-size fits (with --json: one JSON object; with --csv: one row per peak or fit)',
+    )
+    .action(
+      (
+        dir: string,
+        opts: AnalysisFlags & { csv?: boolean; json?: boolean; long?: boolean; by?: string; analysis?: boolean },
+      ) => {
+        if (opts.csv && opts.json) throw new InputError('choose one of --csv and --json');
+        if (opts.by !== undefined && opts.long) throw new InputError('choose one of --by and --long');
+        // Every option is checked before the first line is written: an error after a whole table is easy to miss.
+        const chosen = analysisOptions(opts);
+        const summary = loadScanRun(dir);
+        const analysisAsked =
+          opts.analysis ||
+          opts.parameter !== undefined ||
+          opts.fit.length > 0 ||
+          opts.power !== undefined ||
+          opts.terms !== undefined;
+        const checkedAnalysis =
+          analysisAsked || (!opts.json && !opts.csv && !opts.long && opts.by === undefined)
+            ? analyseScan(analysisInputOf(summary), chosen)
+            : null;
+        if (opts.by !== undefined) {
+          const view = sideBySide(summary, opts.by);
+          if (opts.json) process.stdout.write(JSON.stringify(sideBySideJson(view)) + '\n');
+          else if (opts.csv) process.stdout.write(sideBySideCsv(view));
+          else console.log(sideBySideText(view));
+          return;
+        }
+        if (opts.long) {
+          if (opts.json) process.stdout.write(JSON.stringify(longJson(summary)) + '\n');
+          else if (opts.csv) process.stdout.write(longCsv(summary));
+          else console.log(longText(summary));
+          return;
+        }
+        if (opts.analysis) {
+          const analysis = analyseScan(analysisInputOf(summary), analysisOptions(opts));
+          if (opts.json) process.stdout.write(JSON.stringify(analysis) + '\n');
+          else if (opts.csv) {
+            process.stdout.write(
+              analysisCsv(
+                analysis,
+                summary.section.axes.map((a) => a.key),
+              ),
+            );
+            for (const note of analysis.notes) process.stderr.write(`note: ${note}\n`);
+          } else console.log(analysisText(analysis));
+          return;
+        }
+        if (opts.json) process.stdout.write(JSON.stringify(summaryJson(summary)) + '\n');
+        else if (opts.csv) process.stdout.write(summaryCsv(summary));
+        else {
+          console.log(summaryText(summary));
+          const text = analysisText(checkedAnalysis!);
+          if (text) console.log(`\n${text}`);
+        }
+      },
+    );
 
   program
     .command('status')

@@ -78,12 +78,21 @@ export function detectCrossings(points: CrossingPoint[]): Crossing[] {
   for (let k = 1; k < points.length; k++) {
     const a = points[k - 1];
     const b = points[k];
-    const overlap = typeof b.overlapPrevious === 'number' && Number.isFinite(b.overlapPrevious) ? b.overlapPrevious : null;
+    const overlap =
+      typeof b.overlapPrevious === 'number' && Number.isFinite(b.overlapPrevious) ? b.overlapPrevious : null;
     const found = a.sectors && b.sectors ? envelopeCrossings(a, b) : [];
     for (const c of found) out.push({ ...c, overlap });
     if (found.length === 0 && overlap !== null && overlap < CROSSING_OVERLAP) {
       const ground = (p: CrossingPoint) => (p.sectors ? lowestOf(p.sectors) : null);
-      out.push({ position: (a.x + b.x) / 2, between: [a.x, b.x], from: ground(a)?.label ?? null, to: ground(b)?.label ?? null, interpolated: false, detected_by: 'overlap', overlap });
+      out.push({
+        position: (a.x + b.x) / 2,
+        between: [a.x, b.x],
+        from: ground(a)?.label ?? null,
+        to: ground(b)?.label ?? null,
+        interpolated: false,
+        detected_by: 'overlap',
+        overlap,
+      });
     }
   }
   return out;
@@ -103,10 +112,14 @@ function envelopeCrossings(a: CrossingPoint, b: CrossingPoint): Omit<Crossing, '
   const lines: { label: SectorLabel; e0: number; slope: number }[] = [];
   for (const s of a.sectors!) {
     const r = right.get(sectorKey(s.label));
-    if (r && Number.isFinite(s.lowest) && Number.isFinite(r.lowest)) lines.push({ label: s.label, e0: s.lowest, slope: r.lowest - s.lowest });
+    if (r && Number.isFinite(s.lowest) && Number.isFinite(r.lowest))
+      lines.push({ label: s.label, e0: s.lowest, slope: r.lowest - s.lowest });
   }
   if (lines.length < 2) return [];
-  const window = Math.max(degeneracyWindow(lines[0].e0, a.tolerance), degeneracyWindow(lines[0].e0 + lines[0].slope, b.tolerance));
+  const window = Math.max(
+    degeneracyWindow(lines[0].e0, a.tolerance),
+    degeneracyWindow(lines[0].e0 + lines[0].slope, b.tolerance),
+  );
   // Start on the lowest line at t = 0; among level ones, the one that stays lowest just after it.
   let current = lines[0];
   for (const l of lines) {
@@ -126,11 +139,19 @@ function envelopeCrossings(a: CrossingPoint, b: CrossingPoint): Omit<Crossing, '
       const meet = -d0 / dSlope;
       // A meeting at the left point itself was settled by the choice of the starting line.
       if (!(meet > t + 1e-12) || meet > 1 + 1e-12) continue;
-      if (!next || meet < next.t - 1e-15 || (Math.abs(meet - next.t) <= 1e-15 && l.slope < next.line.slope)) next = { line: l, t: meet };
+      if (!next || meet < next.t - 1e-15 || (Math.abs(meet - next.t) <= 1e-15 && l.slope < next.line.slope))
+        next = { line: l, t: meet };
     }
     if (!next) break;
     const tt = Math.min(next.t, 1);
-    out.push({ position: a.x + tt * (b.x - a.x), between: [a.x, b.x], from: current.label, to: next.line.label, interpolated: true, detected_by: 'sectors' });
+    out.push({
+      position: a.x + tt * (b.x - a.x),
+      between: [a.x, b.x],
+      from: current.label,
+      to: next.line.label,
+      interpolated: true,
+      detected_by: 'sectors',
+    });
     current = next.line;
     t = next.t;
   }

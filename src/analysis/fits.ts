@@ -47,12 +47,16 @@ export interface FitResult {
 export function finiteSizeFit(sizes: number[], values: number[], options: FitOptions = {}): FitResult {
   const power = options.power ?? 1;
   const terms = options.terms ?? 2;
-  if (sizes.length !== values.length) throw new RangeError(`finiteSizeFit: ${sizes.length} sizes but ${values.length} values`);
-  if (!(power > 0) || !Number.isFinite(power)) throw new InputError(`fit power must be a positive number, got ${power}`);
+  if (sizes.length !== values.length)
+    throw new RangeError(`finiteSizeFit: ${sizes.length} sizes but ${values.length} values`);
+  if (!(power > 0) || !Number.isFinite(power))
+    throw new InputError(`fit power must be a positive number, got ${power}`);
   if (!Number.isInteger(terms) || terms < 1) throw new InputError(`fit terms must be a positive integer, got ${terms}`);
   const n = sizes.length;
   if (new Set(sizes).size < terms) {
-    throw new InputError(`a fit with ${terms} coefficients needs at least ${terms} different sizes, got ${new Set(sizes).size}`);
+    throw new InputError(
+      `a fit with ${terms} coefficients needs at least ${terms} different sizes, got ${new Set(sizes).size}`,
+    );
   }
   for (const s of sizes) if (!(s > 0)) throw new InputError(`sizes must be positive, got ${s}`);
   let sigmas: number[] | null = null;

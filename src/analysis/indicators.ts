@@ -90,7 +90,13 @@ export function findPeak(
   if (n === 1) return { position: x[0], value: Math.max(y[0], bound), uncertainty: 0, at_edge: true, refined: false };
   if (best === 0 || best === n - 1) {
     const neighbour = best === 0 ? 1 : n - 2;
-    return { position: x[best], value: Math.max(y[best], bound), uncertainty: Math.abs(x[best] - x[neighbour]), at_edge: true, refined: false };
+    return {
+      position: x[best],
+      value: Math.max(y[best], bound),
+      uncertainty: Math.abs(x[best] - x[neighbour]),
+      at_edge: true,
+      refined: false,
+    };
   }
   const x0 = x[best - 1];
   const x1 = x[best];
@@ -148,7 +154,10 @@ export function fidelitySusceptibility(
 }
 
 /** Fidelity pairs from an ascending line of points that each carry the overlap with the previous one. */
-export function consecutivePairs(x: ArrayLike<number>, overlapPrevious: ArrayLike<number | null | undefined>): { from: number; to: number; overlap: number | null | undefined }[] {
+export function consecutivePairs(
+  x: ArrayLike<number>,
+  overlapPrevious: ArrayLike<number | null | undefined>,
+): { from: number; to: number; overlap: number | null | undefined }[] {
   const pairs = [];
   for (let k = 1; k < x.length; k++) pairs.push({ from: x[k - 1], to: x[k], overlap: overlapPrevious[k] });
   return pairs;
@@ -222,14 +231,24 @@ export function transitionIndicators(line: ScanLine): Indicator[] {
     const { kind, crossing } = classify(curve, extremum, support, crossings, extra, peak);
     out.push({ name, label, uses, extremum, ...curve, peak, kind, ...(crossing ? { crossing } : {}) });
   };
-  const pointSupport = (c: Curve) => (k: number): [number, number] => [c.x[k], c.x[k]];
+  const pointSupport =
+    (c: Curve) =>
+    (k: number): [number, number] => [c.x[k], c.x[k]];
 
   const gap = pick(line.gap);
   // E1 >= E0: a gap is never negative.
   if (gap) {
     const uses = line.gapUses ?? 'gap';
     const curve = cleanCurve(x, gap);
-    add('gap', uses === 'gap' ? 'gap E1 - E0' : 'gap above the ground level', uses, 'min', curve, pointSupport(curve), 0);
+    add(
+      'gap',
+      uses === 'gap' ? 'gap E1 - E0' : 'gap above the ground level',
+      uses,
+      'min',
+      curve,
+      pointSupport(curve),
+      0,
+    );
   }
 
   const overlaps = line.overlapPrevious;
@@ -267,13 +286,20 @@ export function transitionIndicators(line: ScanLine): Indicator[] {
 
   const energy = cleanCurve(x, pick(line.groundEnergy) ?? []);
   if (energy.x.length >= 3) {
-    add('curvature', '-d2E0/dx2 per site', 'E0', 'max', negativeCurvature(energy.x, energy.y, line.sites), (k) => [energy.x[k], energy.x[k + 2]]);
+    add('curvature', '-d2E0/dx2 per site', 'E0', 'max', negativeCurvature(energy.x, energy.y, line.sites), (k) => [
+      energy.x[k],
+      energy.x[k + 2],
+    ]);
   }
 
   const width = pick(line.stringWidth);
   if (width) {
     const w = cleanCurve(x, width);
-    if (w.x.length >= 2) add('width_slope', 'slope of the string width', 'string_width', 'max_abs', slope(w.x, w.y), (k) => [w.x[k], w.x[k + 1]]);
+    if (w.x.length >= 2)
+      add('width_slope', 'slope of the string width', 'string_width', 'max_abs', slope(w.x, w.y), (k) => [
+        w.x[k],
+        w.x[k + 1],
+      ]);
   }
   return out;
 }
@@ -294,11 +320,16 @@ function classify(
   const score = (v: number) => (extremum === 'min' ? -v : extremum === 'max_abs' ? Math.abs(v) : v);
   let best = -1;
   for (let k = 0; k < curve.y.length; k++) if (best < 0 || score(curve.y[k]) > score(curve.y[best])) best = k;
-  const strongestExtra = extra.reduce<(typeof extra)[number] | null>((b, e) => (!b || score(e.value) > score(b.value) ? e : b), null);
-  if (strongestExtra && (best < 0 || !(score(curve.y[best]) > score(strongestExtra.value)))) return { kind: 'crossing', crossing: strongestExtra.crossing };
+  const strongestExtra = extra.reduce<(typeof extra)[number] | null>(
+    (b, e) => (!b || score(e.value) > score(b.value) ? e : b),
+    null,
+  );
+  if (strongestExtra && (best < 0 || !(score(curve.y[best]) > score(strongestExtra.value))))
+    return { kind: 'crossing', crossing: strongestExtra.crossing };
   if (best >= 0 && crossings.length > 0) {
     const [lo, hi] = support(best);
-    const touches = (c: Crossing) => (lo === hi ? c.between[0] <= lo && lo <= c.between[1] : Math.max(lo, c.between[0]) < Math.min(hi, c.between[1]));
+    const touches = (c: Crossing) =>
+      lo === hi ? c.between[0] <= lo && lo <= c.between[1] : Math.max(lo, c.between[0]) < Math.min(hi, c.between[1]);
     const near = crossings.filter(touches);
     if (near.length > 0) {
       const at = peak?.position ?? curve.x[best];

@@ -189,13 +189,25 @@ export function availableObservables(records: PointRecord[]): string[] {
  * overlap of a pair only when the scan ran them one after the other.
  */
 function lineCrossings(group: AnalysisPoint[], parameter: string, overlaps: boolean): Crossing[] {
-  const solved = group.map((p, runIndex) => ({ p, runIndex, x: p.params[parameter] as number })).filter((e) => e.p.record !== null && Number.isFinite(e.x));
+  const solved = group
+    .map((p, runIndex) => ({ p, runIndex, x: p.params[parameter] as number }))
+    .filter((e) => e.p.record !== null && Number.isFinite(e.x));
   solved.sort((a, b) => a.x - b.x);
   const points: CrossingPoint[] = solved.map((e, k) => {
     const before = solved[k - 1];
-    const after = before && before.runIndex === e.runIndex - 1 ? e.p.overlapPrevious : before && before.runIndex === e.runIndex + 1 ? before.p.overlapPrevious : null;
+    const after =
+      before && before.runIndex === e.runIndex - 1
+        ? e.p.overlapPrevious
+        : before && before.runIndex === e.runIndex + 1
+          ? before.p.overlapPrevious
+          : null;
     const record = e.p.record!;
-    return { x: e.x, sectors: record.solver.sector_runs ?? null, tolerance: record.solver.tolerance, overlapPrevious: overlaps ? after : null };
+    return {
+      x: e.x,
+      sectors: record.solver.sector_runs ?? null,
+      tolerance: record.solver.tolerance,
+      overlapPrevious: overlaps ? after : null,
+    };
   });
   return detectCrossings(points);
 }
@@ -205,7 +217,7 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
   const terms = options.terms ?? 2;
   const notes: string[] = [];
   const keys = input.axes.map((a) => a.key);
-  let parameter = options.parameter ?? defaultParameter(input.axes);
+  const parameter = options.parameter ?? defaultParameter(input.axes);
   if (options.parameter !== undefined) {
     const axis = input.axes.find((a) => a.key === options.parameter);
     if (!axis) throw new InputError(`--parameter ${options.parameter}: not a scanned axis (axes: ${keys.join(', ')})`);
@@ -230,23 +242,44 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
       const constantSites = solved.every((p) => p.record!.basis.sites === sites);
       const crossings = constantSites ? lineCrossings(group, parameter, overlaps) : [];
       // Records written before gap_above_ground existed get it from their energies.
-      const gapUses = solved.every((p) => p.record!.energies.length > 0) ? ('gap_above_ground' as const) : ('gap' as const);
+      const gapUses = solved.every((p) => p.record!.energies.length > 0)
+        ? ('gap_above_ground' as const)
+        : ('gap' as const);
       const line = {
-        x: group.map((p) => p.params[parameter!] as number),
+        x: group.map((p) => p.params[parameter] as number),
         sites,
         crossings,
         gapUses,
         groundEnergy: group.map((p) => p.record?.energies[0] ?? null),
-        gap: group.map((p) => (p.record ? (gapUses === 'gap' ? p.record.gap : (p.record.gap_above_ground ?? gapAboveGround(p.record.energies, p.record.solver.tolerance))) : null)),
+        gap: group.map((p) =>
+          p.record
+            ? gapUses === 'gap'
+              ? p.record.gap
+              : (p.record.gap_above_ground ?? gapAboveGround(p.record.energies, p.record.solver.tolerance))
+            : null,
+        ),
         stringWidth: group.map((p) => p.record?.observables.string_width ?? null),
         degeneracy: group.map((p) => p.record?.solver.degeneracy ?? null),
         // A missing point breaks the chain of neighbours: its successor's overlap is with a point not on the grid.
-        overlapPrevious: overlaps ? group.map((p, k) => (k > 0 && group[k - 1].record !== null ? p.overlapPrevious : null)) : undefined,
+        overlapPrevious: overlaps
+          ? group.map((p, k) => (k > 0 && group[k - 1].record !== null ? p.overlapPrevious : null))
+          : undefined,
       };
-      const indicators = constantSites ? transitionIndicators(line) : transitionIndicators({ ...line, overlapPrevious: undefined, groundEnergy: [] });
-      lines.push({ fixed: pick(group[0].params, others), sites: constantSites ? sites : null, levels: first.basis.levels, crossings, indicators });
+      const indicators = constantSites
+        ? transitionIndicators(line)
+        : transitionIndicators({ ...line, overlapPrevious: undefined, groundEnergy: [] });
+      lines.push({
+        fixed: pick(group[0].params, others),
+        sites: constantSites ? sites : null,
+        levels: first.basis.levels,
+        crossings,
+        indicators,
+      });
     }
-    if (!overlaps && done.length > 0) notes.push(`fidelity susceptibility needs ${parameter} to be the innermost axis of the scan (the run records overlaps of neighbours along it)`);
+    if (!overlaps && done.length > 0)
+      notes.push(
+        `fidelity susceptibility needs ${parameter} to be the innermost axis of the scan (the run records overlaps of neighbours along it)`,
+      );
   }
 
   // Finite-size fits, against each size axis that is scanned with at least two sizes.
@@ -264,7 +297,10 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
         for (const name of names) {
           const usable = group
             .map((l) => ({ size: l.fixed[size] as number, indicator: l.indicators.find((i) => i.name === name) }))
-            .filter((u): u is { size: number; indicator: Indicator & { peak: Peak } } => u.indicator?.peak != null && u.indicator.kind === 'peak');
+            .filter(
+              (u): u is { size: number; indicator: Indicator & { peak: Peak } } =>
+                u.indicator?.peak != null && u.indicator.kind === 'peak',
+            );
           if (new Set(usable.map((u) => u.size)).size < Math.max(2, terms)) continue;
           const fit = finiteSizeFit(
             usable.map((u) => u.size),
@@ -273,9 +309,17 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
           );
           const range = input.axes.find((a) => a.key === parameter)!.values as number[];
           const flags: PeakFit['flags'] = [];
-          if (fit.extrapolated < Math.min(...range) || fit.extrapolated > Math.max(...range)) flags.push('outside_scan');
+          if (fit.extrapolated < Math.min(...range) || fit.extrapolated > Math.max(...range))
+            flags.push('outside_scan');
           if (fit.dof > 0 && fit.chi2 / fit.dof > PEAK_FIT_CHI2_LIMIT) flags.push('poor_fit');
-          peakFits.push({ indicator: name, label: usable[0].indicator.label, size, fixed: pick(group[0].fixed, fixedKeys), fit, flags });
+          peakFits.push({
+            indicator: name,
+            label: usable[0].indicator.label,
+            size,
+            fixed: pick(group[0].fixed, fixedKeys),
+            fit,
+            flags,
+          });
         }
       }
     }
@@ -284,7 +328,9 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
     for (const name of options.fit ?? []) {
       const known = availableObservables(done.map((p) => p.record!));
       if (!known.includes(name) && !/^E\d+$/.test(name)) {
-        throw new InputError(`--fit ${name}: not an observable of this run (choose from ${known.join(', ')}, or E1, E2, ...)`);
+        throw new InputError(
+          `--fit ${name}: not an observable of this run (choose from ${known.join(', ')}, or E1, E2, ...)`,
+        );
       }
       const groups = groupByKeys(done, (p) => p.params, fixedKeys);
       for (const group of groups.values()) {
@@ -293,7 +339,11 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
           .filter((u): u is { size: number; value: number } => typeof u.value === 'number' && Number.isFinite(u.value));
         if (new Set(usable.map((u) => u.size)).size < Math.max(2, terms)) continue;
         // E1 >= E0: a gap is never negative.
-        const fit = finiteSizeFit(usable.map((u) => u.size), usable.map((u) => u.value), { power, terms, lowerBound: name === 'gap' ? 0 : undefined });
+        const fit = finiteSizeFit(
+          usable.map((u) => u.size),
+          usable.map((u) => u.value),
+          { power, terms, lowerBound: name === 'gap' ? 0 : undefined },
+        );
         observableFits.push({ observable: name, size, fixed: pick(group[0].params, fixedKeys), fit });
       }
     }
@@ -314,7 +364,8 @@ function showParams(params: ScanParams): string {
 }
 
 function showPeak(indicator: Indicator | undefined): string {
-  if (indicator?.kind === 'crossing' && indicator.crossing) return `crossing ${showCrossing(indicator.crossing, indicator.x)}`;
+  if (indicator?.kind === 'crossing' && indicator.crossing)
+    return `crossing ${showCrossing(indicator.crossing, indicator.x)}`;
   const peak = indicator?.peak;
   if (!peak) return '-';
   // A position at rounding distance from 0 on the parameter's scale is 0.
@@ -341,44 +392,86 @@ export function analysisText(analysis: ScanAnalysis): string {
     out.push(
       `transition indicators along ${analysis.parameter}: peak position ± half the grid spacing (* at the end of the scan: the peak may lie beyond it; (grid): the grid point, where a parabola does not fit the peak)`,
     );
-    const present = INDICATOR_COLUMNS.filter((c) => analysis.lines.some((l) => l.indicators.some((i) => i.name === c.name)));
+    const present = INDICATOR_COLUMNS.filter((c) =>
+      analysis.lines.some((l) => l.indicators.some((i) => i.name === c.name)),
+    );
     out.push(
       table(
         ['line', ...present.map((c) => c.title)],
-        analysis.lines.map((l) => [showParams(l.fixed), ...present.map((c) => showPeak(l.indicators.find((i) => i.name === c.name)))]),
+        analysis.lines.map((l) => [
+          showParams(l.fixed),
+          ...present.map((c) => showPeak(l.indicators.find((i) => i.name === c.name))),
+        ]),
       ),
     );
     const gapUses = analysis.lines.flatMap((l) => l.indicators.filter((i) => i.name === 'gap').map((i) => i.uses))[0];
-    if (gapUses) out.push(`gap min uses ${gapUses}${gapUses === 'gap_above_ground' ? ' (the next level above the degenerate ground level)' : ''}`);
-    const crossingRows = analysis.lines.flatMap((l) => l.crossings.map((c) => [showParams(l.fixed), showCrossing(c, []), `${fmt(c.between[0], 6)} .. ${fmt(c.between[1], 6)}`, c.detected_by]));
+    if (gapUses)
+      out.push(
+        `gap min uses ${gapUses}${gapUses === 'gap_above_ground' ? ' (the next level above the degenerate ground level)' : ''}`,
+      );
+    const crossingRows = analysis.lines.flatMap((l) =>
+      l.crossings.map((c) => [
+        showParams(l.fixed),
+        showCrossing(c, []),
+        `${fmt(c.between[0], 6)} .. ${fmt(c.between[1], 6)}`,
+        c.detected_by,
+      ]),
+    );
     if (crossingRows.length > 0) {
       out.push('');
-      out.push(`level crossings along ${analysis.parameter} (the ground state changes sector; position where the two sectors' lowest levels meet, linear between the grid points)`);
+      out.push(
+        `level crossings along ${analysis.parameter} (the ground state changes sector; position where the two sectors' lowest levels meet, linear between the grid points)`,
+      );
       out.push(table(['line', 'crossing', 'between', 'detected by'], crossingRows));
     }
   }
   const fitRows = (fit: FitResult) => [
     fit.sizes.join(','),
     `${fmt(fit.extrapolated, 7)} ± ${fit.extrapolated_error === null ? '?' : fmt(fit.extrapolated_error, 2)}${fit.bounded ? ` (fit ${fmt(fit.coefficients[0], 3)})` : ''}`,
-    fit.coefficients.slice(1).map((c) => fmt(c, 5)).join(', '),
+    fit.coefficients
+      .slice(1)
+      .map((c) => fmt(c, 5))
+      .join(', '),
     fit.residuals.map((r) => fmt(r, 2)).join(', '),
     fit.dof > 0 ? fmt(fit.chi2 / fit.dof, 3) : '-',
   ];
-  const flagText = (flags: PeakFit['flags']) => flags.map((f) => (f === 'outside_scan' ? 'outside the scan' : `chi2/dof > ${PEAK_FIT_CHI2_LIMIT}`)).join(', ') || '-';
+  const flagText = (flags: PeakFit['flags']) =>
+    flags.map((f) => (f === 'outside_scan' ? 'outside the scan' : `chi2/dof > ${PEAK_FIT_CHI2_LIMIT}`)).join(', ') ||
+    '-';
   if (analysis.peak_fits.length > 0) {
     out.push('');
     const variable = SIZE_AXES[analysis.peak_fits[0].size];
-    out.push(`finite-size fits of peak positions: position = a0 + a1 x${analysis.terms > 2 ? ' + a2 x^2 ...' : ''}, x = 1/size^${analysis.power}, weighted by the peak uncertainties`);
+    out.push(
+      `finite-size fits of peak positions: position = a0 + a1 x${analysis.terms > 2 ? ' + a2 x^2 ...' : ''}, x = 1/size^${analysis.power}, weighted by the peak uncertainties`,
+    );
     out.push(
       table(
-        ['indicator', 'size', 'fixed', 'sizes', `extrapolated (${variable} -> inf)`, 'a1...', 'residuals', 'chi2/dof', 'warnings'],
-        analysis.peak_fits.map((f) => [f.label, SIZE_AXES[f.size], showParams(f.fixed), ...fitRows(f.fit), flagText(f.flags)]),
+        [
+          'indicator',
+          'size',
+          'fixed',
+          'sizes',
+          `extrapolated (${variable} -> inf)`,
+          'a1...',
+          'residuals',
+          'chi2/dof',
+          'warnings',
+        ],
+        analysis.peak_fits.map((f) => [
+          f.label,
+          SIZE_AXES[f.size],
+          showParams(f.fixed),
+          ...fitRows(f.fit),
+          flagText(f.flags),
+        ]),
       ),
     );
   }
   if (analysis.observable_fits.length > 0) {
     out.push('');
-    out.push(`finite-size fits of observables: value = a0 + a1 x${analysis.terms > 2 ? ' + a2 x^2 ...' : ''}, x = 1/size^${analysis.power}; errors from the residual scatter`);
+    out.push(
+      `finite-size fits of observables: value = a0 + a1 x${analysis.terms > 2 ? ' + a2 x^2 ...' : ''}, x = 1/size^${analysis.power}; errors from the residual scatter`,
+    );
     out.push(
       table(
         ['observable', 'size', 'fixed', 'sizes', 'extrapolated', 'a1...', 'residuals', 'chi2/dof'],
@@ -430,18 +523,87 @@ export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string 
       const p = indicator.peak;
       if (!p) continue;
       const c = indicator.kind === 'crossing' ? indicator.crossing : undefined;
-      rows.push(['peak', ...axisKeys.map((k) => line.fixed[k]), indicator.name, null, p.position, p.value, p.uncertainty, p.at_edge, p.refined, ...new Array(8).fill(null), indicator.kind, c ? sectorText(c.from) : null, c ? sectorText(c.to) : null, null]);
+      rows.push([
+        'peak',
+        ...axisKeys.map((k) => line.fixed[k]),
+        indicator.name,
+        null,
+        p.position,
+        p.value,
+        p.uncertainty,
+        p.at_edge,
+        p.refined,
+        ...new Array<null>(8).fill(null),
+        indicator.kind,
+        c ? sectorText(c.from) : null,
+        c ? sectorText(c.to) : null,
+        null,
+      ]);
     }
     for (const c of line.crossings) {
-      rows.push(['crossing', ...axisKeys.map((k) => line.fixed[k]), c.detected_by, null, c.position, null, null, null, c.interpolated, ...new Array(8).fill(null), null, sectorText(c.from), sectorText(c.to), null]);
+      rows.push([
+        'crossing',
+        ...axisKeys.map((k) => line.fixed[k]),
+        c.detected_by,
+        null,
+        c.position,
+        null,
+        null,
+        null,
+        c.interpolated,
+        ...new Array<null>(8).fill(null),
+        null,
+        sectorText(c.from),
+        sectorText(c.to),
+        null,
+      ]);
     }
   }
-  const fitCells = (fit: FitResult) => [fit.extrapolated, fit.extrapolated_error, fit.bounded, list(fit.coefficients), list(fit.sizes), list(fit.residuals), fit.chi2, fit.dof];
+  const fitCells = (fit: FitResult) => [
+    fit.extrapolated,
+    fit.extrapolated_error,
+    fit.bounded,
+    list(fit.coefficients),
+    list(fit.sizes),
+    list(fit.residuals),
+    fit.chi2,
+    fit.dof,
+  ];
   for (const f of analysis.peak_fits) {
-    rows.push(['peak_fit', ...axisKeys.map((k) => f.fixed[k]), f.indicator, f.size, null, null, null, null, null, ...fitCells(f.fit), null, null, null, f.flags.join(';')]);
+    rows.push([
+      'peak_fit',
+      ...axisKeys.map((k) => f.fixed[k]),
+      f.indicator,
+      f.size,
+      null,
+      null,
+      null,
+      null,
+      null,
+      ...fitCells(f.fit),
+      null,
+      null,
+      null,
+      f.flags.join(';'),
+    ]);
   }
   for (const f of analysis.observable_fits) {
-    rows.push(['observable_fit', ...axisKeys.map((k) => f.fixed[k]), f.observable, f.size, null, null, null, null, null, ...fitCells(f.fit), null, null, null, null]);
+    rows.push([
+      'observable_fit',
+      ...axisKeys.map((k) => f.fixed[k]),
+      f.observable,
+      f.size,
+      null,
+      null,
+      null,
+      null,
+      null,
+      ...fitCells(f.fit),
+      null,
+      null,
+      null,
+      null,
+    ]);
   }
   return csv(header, rows);
 }

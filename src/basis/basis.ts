@@ -31,16 +31,20 @@ export function pinnedDimension(sites: number, levels: number): number {
 
 /** Dimension of the model's basis without building it (for `check` and memory estimates). */
 export function basisDimension(model: Model): number {
-  if (model.kind !== 'pinned') return fockDimension(model.kind, model.sites, model.levels, model.particleNumber, model.maxPerSite);
+  if (model.kind !== 'pinned')
+    return fockDimension(model.kind, model.sites, model.levels, model.particleNumber, model.maxPerSite);
   return pinnedDimension(model.sites, model.levels);
 }
 
 export function buildBasis(model: Model): Basis {
   const dim = basisDimension(model);
   if (dim > MAX_DIMENSION) {
-    throw new ResourceError(`basis dimension ${dim.toExponential(3)} exceeds the largest supported dimension ${MAX_DIMENSION}`);
+    throw new ResourceError(
+      `basis dimension ${dim.toExponential(3)} exceeds the largest supported dimension ${MAX_DIMENSION}`,
+    );
   }
-  if (model.kind !== 'pinned') return new FockBasis(model.kind, model.sites, model.levels, model.particleNumber, model.maxPerSite);
+  if (model.kind !== 'pinned')
+    return new FockBasis(model.kind, model.sites, model.levels, model.particleNumber, model.maxPerSite);
   const strides = new Int32Array(model.sites);
   let s = 1;
   for (let i = 0; i < model.sites; i++) {

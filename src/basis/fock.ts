@@ -93,7 +93,13 @@ function waysTable(byParticles: number[], sites: number, particles: number): Flo
  * C(L N, Np) for fermions, and for soft-core bosons the coefficient of x^Np in
  * (sum_{k<=K} C(k+N-1, N-1) x^k)^L (compositions bounded per site). Allocates nothing large.
  */
-export function fockDimension(kind: ItinerantKind, sites: number, levels: number, particles: number, maxPerSite: number): number {
+export function fockDimension(
+  kind: ItinerantKind,
+  sites: number,
+  levels: number,
+  particles: number,
+  maxPerSite: number,
+): number {
   if (kind === 'hardcore') return binomial(sites, particles) * levels ** particles;
   if (kind === 'fermion') return binomial(sites * levels, particles);
   const ways = waysTable(localCountsByParticles(kind, levels, maxPerSite), sites, particles);

@@ -11,7 +11,7 @@ import path from 'node:path';
 import { DEMO_SPEC } from './spec.js';
 
 /** `program`: how the user starts rungchain from where they stand, for the commands the demo suggests. */
-export async function runDemo(print: (line: string) => void, program = 'rungchain'): Promise<void> {
+export function runDemo(print: (line: string) => void, program = 'rungchain'): void {
   print('rungchain demo: invented molecule X-47, six tweezers on a ring, microwave tunnelling J = 1');
   print('between its rotational levels, dipolar exchange V between neighbours (rigid-rotor weights).');
   print('As V/J grows the molecules bind into one string in the synthetic dimension: its width stays');
@@ -22,7 +22,7 @@ export async function runDemo(print: (line: string) => void, program = 'rungchai
   for (const V of [0.5, 1, 2, 3, 4, 6]) {
     const cells = [fmt(V, 3)];
     for (const N of [3, 4, 5]) {
-      const raw = structuredClone(DEMO_SPEC) as Record<string, any>;
+      const raw = structuredClone(DEMO_SPEC);
       raw.exchange.strength = V;
       raw.levels.count = N;
       const { record } = solvePoint(validateSpec(raw), { groundStates: false });
@@ -38,5 +38,7 @@ export async function runDemo(print: (line: string) => void, program = 'rungchai
   print('');
   writeDemoReport(print);
   print('');
-  print(`Solve your own: write a spec (see README) and run \`${program} solve SPEC\`; evolve one with \`${program} evolve SPEC\`.`);
+  print(
+    `Solve your own: write a spec (see README) and run \`${program} solve SPEC\`; evolve one with \`${program} evolve SPEC\`.`,
+  );
 }

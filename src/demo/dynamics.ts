@@ -30,7 +30,14 @@ export function runDynamicsDemo(print: (line: string) => void): void {
   print('');
   const rows = result.frames.map((f, k) => {
     const excited = f.observables.populations.map((p) => p[1]);
-    return [fmt(result.timesMs![k], 4), ...excited.map((q) => fmt(q, 3)), fmt(excited.reduce((s, q) => s + q, 0), 6)];
+    return [
+      fmt(result.timesMs![k], 4),
+      ...excited.map((q) => fmt(q, 3)),
+      fmt(
+        excited.reduce((s, q) => s + q, 0),
+        6,
+      ),
+    ];
   });
   print(table(['t [ms]', ...Array.from({ length: 7 }, (_, i) => `P1 site ${i}`), 'total'], rows));
   print('The total stays 1: exchange moves the excitation, it never creates or destroys one.');

@@ -27,7 +27,7 @@ export function writeDemoReport(print: (line: string) => void, file = DEMO_REPOR
   for (const N of counts) {
     let previous: { states: Float64Array[]; isComplex: boolean } | null = null;
     for (const V of strengths) {
-      const raw = structuredClone(DEMO_SPEC) as Record<string, any>;
+      const raw = structuredClone(DEMO_SPEC);
       raw.levels.count = N;
       raw.exchange.strength = V;
       raw.solve.states = 3;

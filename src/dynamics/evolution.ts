@@ -34,12 +34,25 @@ import type { HermitianOperator } from '../operator/hermitian.js';
 import { planFockOperator } from '../operator/fock.js';
 import { basisProbabilities, pinnedObservables, type Observables } from '../observables/pinned.js';
 import { itinerantObservables } from '../observables/itinerant.js';
-import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES, type MemoryEstimate } from '../point/memory.js';
+import {
+  assertWithinMemory,
+  defaultMemoryLimit,
+  RUNTIME_BASELINE_BYTES,
+  type MemoryEstimate,
+} from '../point/memory.js';
 import { defaultKrylovSize, GROUND_COPIES_CAP, lowestEigenpairs } from '../solver/eigensolver.js';
 import { solveSettings } from '../solver/specSettings.js';
 import { applyOverride, cutText, isTable, keyForPath, validateSpec, type Spec } from '../spec/spec.js';
 import { labUnits } from '../spec/units.js';
-import { complexDot, complexView, expectation, KrylovPropagator, toComplex, vectorNorm, type ComplexOperator } from './krylov.js';
+import {
+  complexDot,
+  complexView,
+  expectation,
+  KrylovPropagator,
+  toComplex,
+  vectorNorm,
+  type ComplexOperator,
+} from './krylov.js';
 import { productState, siteAmplitudes } from './initialState.js';
 // Loading the evolution registers the [evolve] section, so every spec validated beside it may have one.
 import '../spec/evolveSection.js';
@@ -90,7 +103,8 @@ function specWith(
     try {
       applyOverride(clone, `${key}=${JSON.stringify(value)}`);
     } catch (e) {
-      if (e instanceof SpecError || e instanceof Error) throw new SpecError(blame(key, index), `cannot set ${cutText(key)}: ${e.message}`);
+      if (e instanceof SpecError || e instanceof Error)
+        throw new SpecError(blame(key, index), `cannot set ${cutText(key)}: ${e.message}`);
       throw e;
     }
   });
@@ -101,7 +115,9 @@ function specWith(
     // Blame the assignment the error is about (levels.tunnelling for levels.tunnelling[1]), else the first.
     const culprit = Math.max(
       0,
-      assignments.findIndex(([key]) => e.keyPath === key || e.keyPath.startsWith(`${key}[`) || e.keyPath.startsWith(`${key}.`)),
+      assignments.findIndex(
+        ([key]) => e.keyPath === key || e.keyPath.startsWith(`${key}[`) || e.keyPath.startsWith(`${key}.`),
+      ),
     );
     const setting = assignments.map(([k, v]) => `${cutText(k)} = ${cutText(JSON.stringify(v))}`).join(', ');
     throw new SpecError(blame(assignments[culprit][0], culprit), `with ${setting}: ${e.message}`);
@@ -117,7 +133,8 @@ function rampValue(ramp: Ramp, t: number): number {
 /** The evolve section of a spec, or a SpecError saying it is needed. */
 export function evolveSection(spec: Spec): EvolveSection {
   const section = spec.extra.evolve as EvolveSection | undefined;
-  if (section === undefined) throw new SpecError('evolve', 'required section is missing: rungchain evolve needs at least evolve.times');
+  if (section === undefined)
+    throw new SpecError('evolve', 'required section is missing: rungchain evolve needs at least evolve.times');
   return section;
 }
 
@@ -127,7 +144,8 @@ export function planEvolution(raw: Record<string, unknown>, spec: Spec): Evoluti
   const model = buildModel(spec);
   const dimension = basisDimension(model);
   const units = labUnits(spec);
-  const toModel = section.timeUnit === 'ms' ? (t: number) => t / (units as NonNullable<typeof units>).timeUnitMs : (t: number) => t;
+  const toModel =
+    section.timeUnit === 'ms' ? (t: number) => t / (units as NonNullable<typeof units>).timeUnitMs : (t: number) => t;
   const times = section.times.map(toModel);
   const timesMs = units === null ? null : times.map((t) => t * units.timeUnitMs);
   const ramps = section.ramps.map((r) => ({ ...r, start: toModel(r.start), duration: toModel(r.duration) }));
@@ -138,7 +156,10 @@ export function planEvolution(raw: Record<string, unknown>, spec: Spec): Evoluti
       const s = specWith(raw, spec, [[ramp.key, end]], () => `${ramp.path}.key`);
       const m = buildModel(s);
       if (m.kind !== model.kind || basisDimension(m) !== dimension) {
-        throw new SpecError(`${ramp.path}.key`, `${cutText(ramp.key)} changes the basis (dimension ${dimension} -> ${basisDimension(m)}); a ramp may only move couplings`);
+        throw new SpecError(
+          `${ramp.path}.key`,
+          `${cutText(ramp.key)} changes the basis (dimension ${dimension} -> ${basisDimension(m)}); a ramp may only move couplings`,
+        );
       }
     }
   }
@@ -146,13 +167,19 @@ export function planEvolution(raw: Record<string, unknown>, spec: Spec): Evoluti
   // The spec whose ground state starts the trace: ramped keys at their start, then the listed changes.
   let initialSpec: Spec | null = null;
   if (section.initial.kind === 'ground_state') {
-    const assignments: [string, unknown][] = [...ramps.map((r): [string, unknown] => [r.key, r.from]), ...section.initial.changes];
+    const assignments: [string, unknown][] = [
+      ...ramps.map((r): [string, unknown] => [r.key, r.from]),
+      ...section.initial.changes,
+    ];
     initialSpec = specWith(raw, spec, assignments, (key, index) =>
       index < ramps.length ? `${ramps[index].path}.from` : `evolve.initial.ground_state.${keyForPath(key)}`,
     );
     const m = buildModel(initialSpec);
     if (m.kind !== model.kind || basisDimension(m) !== dimension) {
-      throw new SpecError('evolve.initial.ground_state', `the changed keys change the basis (dimension ${dimension} -> ${basisDimension(m)}); a quench may only change couplings`);
+      throw new SpecError(
+        'evolve.initial.ground_state',
+        `the changed keys change the basis (dimension ${dimension} -> ${basisDimension(m)}); a quench may only change couplings`,
+      );
     }
   }
 
@@ -191,7 +218,19 @@ export function planEvolution(raw: Record<string, unknown>, spec: Spec): Evoluti
   }
   let totalBytes = 0;
   for (const v of Object.values(parts)) totalBytes += v;
-  return { raw, spec, section, model, dimension, times, timesMs, ramps, pieces, initialSpec, memory: { totalBytes, parts } };
+  return {
+    raw,
+    spec,
+    section,
+    model,
+    dimension,
+    times,
+    timesMs,
+    ramps,
+    pieces,
+    initialSpec,
+    memory: { totalBytes, parts },
+  };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -354,7 +393,9 @@ export class Evolution {
     this.eps = 1e-12 * Math.max(1, this.end);
     const resume = options.resume;
     if (resume && resume.psi.length !== 2 * this.dim) {
-      throw new ConvergenceError(`cannot resume: the saved state has ${resume.psi.length / 2} amplitudes, the basis ${this.dim}`);
+      throw new ConvergenceError(
+        `cannot resume: the saved state has ${resume.psi.length / 2} amplitudes, the basis ${this.dim}`,
+      );
     }
     this.psi0 = resume ? Float64Array.from(resume.psi0) : initialState(plan, this.basis, this.notes);
     this.psi = resume ? Float64Array.from(resume.psi) : Float64Array.from(this.psi0);
@@ -368,7 +409,8 @@ export class Evolution {
     if (this.nextFrame < times.length && times[this.nextFrame] <= this.time + this.eps) {
       this.record(times[this.nextFrame], this.psi, this.errorBound);
     }
-    while (this.pieceIndex < plan.pieces.length && plan.pieces[this.pieceIndex].end <= this.time + this.eps) this.pieceIndex++;
+    while (this.pieceIndex < plan.pieces.length && plan.pieces[this.pieceIndex].end <= this.time + this.eps)
+      this.pieceIndex++;
   }
 
   get done(): boolean {
@@ -398,7 +440,9 @@ export class Evolution {
     const pieces = this.plan.pieces;
     if (this.pieceIndex >= pieces.length) {
       // Only reachable through rounding in the cut arithmetic; say so rather than return a short trace.
-      throw new ConvergenceError(`time evolution stopped at t = ${this.time} before the recorded time ${this.plan.times[this.nextFrame]}`);
+      throw new ConvergenceError(
+        `time evolution stopped at t = ${this.time} before the recorded time ${this.plan.times[this.nextFrame]}`,
+      );
     }
     const piece = pieces[this.pieceIndex];
     if (this.propagator === null) {
@@ -452,7 +496,14 @@ export class Evolution {
       const model =
         ramps.length === 0
           ? plan.model
-          : buildModel(specWith(plan.raw, plan.spec, ramps.map((r, k) => [r.key, values[k]]), (_key, k) => `${ramps[k].path}.key`));
+          : buildModel(
+              specWith(
+                plan.raw,
+                plan.spec,
+                ramps.map((r, k) => [r.key, values[k]]),
+                (_key, k) => `${ramps[k].path}.key`,
+              ),
+            );
       const op = buildOperator(model, this.basis);
       h = { op, complex: complexView(op) };
       if (this.hamiltonians.size >= 2) this.hamiltonians.delete(this.hamiltonians.keys().next().value as string);
@@ -493,7 +544,13 @@ export class Evolution {
       norm: vectorNorm(state),
     };
     if (ramps.length > 0) observables.ground_overlap = weightInSpan(this.groundSpace(values, h), state, this.dim);
-    const frame: EvolutionFrame = { index: this.nextFrame, time, observables, error_bound: bound, matvecs: this.matvecs };
+    const frame: EvolutionFrame = {
+      index: this.nextFrame,
+      time,
+      observables,
+      error_bound: bound,
+      matvecs: this.matvecs,
+    };
     this.frames.push(frame);
     this.nextFrame++;
     this.options.onFrame?.(frame, state);
@@ -511,7 +568,16 @@ export function runEvolution(plan: EvolutionPlan, options: EvolveOptions = {}): 
 // Output
 
 /** The names `evolve --json` prints for every kind, in order; itinerant kinds add ITINERANT_TRACE_KEYS, ramps ground_overlap. */
-export const TRACE_KEYS = ['populations', 'level_mean', 'spread', 'string_width', 'pair_separation', 'return_probability', 'energy', 'norm'] as const;
+export const TRACE_KEYS = [
+  'populations',
+  'level_mean',
+  'spread',
+  'string_width',
+  'pair_separation',
+  'return_probability',
+  'energy',
+  'norm',
+] as const;
 
 /** The observables itinerant kinds add to every recorded time (src/observables/itinerant.ts). */
 export const ITINERANT_TRACE_KEYS = [

@@ -23,7 +23,14 @@ import path from 'node:path';
 import { crc32 } from 'node:zlib';
 import cliProgress from 'cli-progress';
 import { FileSystemError, InputError, RunFileError, SpecError, isRungchainError } from '../errors/errors.js';
-import { Evolution, planEvolution, timeFirstObservables, type EvolutionCheckpoint, type EvolutionFrame, type EvolutionPlan } from './evolution.js';
+import {
+  Evolution,
+  planEvolution,
+  timeFirstObservables,
+  type EvolutionCheckpoint,
+  type EvolutionFrame,
+  type EvolutionPlan,
+} from './evolution.js';
 import { readRun, runIdentity, RunWriter, writeFileAtomic } from '../runs/runFiles.js';
 import { defaultMemoryLimit } from '../point/memory.js';
 import { expandScan, formatParams, type ScanParams } from '../scan/plan.js';
@@ -118,12 +125,18 @@ export function readCheckpoint(dir: string, identity: string, point: number, dim
   const headerLength = buffer.readUInt32LE(4);
   let header: Record<string, number | string>;
   try {
-    header = JSON.parse(buffer.subarray(8, 8 + headerLength).toString('utf8'));
+    header = JSON.parse(buffer.subarray(8, 8 + headerLength).toString('utf8')) as Record<string, number | string>;
   } catch {
     return null;
   }
   const data = buffer.subarray(8 + headerLength);
-  if (header.identity !== identity || header.point !== point || header.dim !== dim || data.length !== 32 * dim || crc32(data) !== header.crc32) {
+  if (
+    header.identity !== identity ||
+    header.point !== point ||
+    header.dim !== dim ||
+    data.length !== 32 * dim ||
+    crc32(data) !== header.crc32
+  ) {
     return null;
   }
   const psi = new Float64Array(2 * dim);
@@ -148,7 +161,8 @@ export function readCheckpoint(dir: string, identity: string, point: number, dim
 
 export function tracesOf(records: Record<string, unknown>[], points: { point: number; params: ScanParams }[]): Trace[] {
   const traces = new Map<number, Trace>();
-  for (const p of points) traces.set(p.point, { point: p.point, params: p.params, status: 'pending', frames: [], notes: [] });
+  for (const p of points)
+    traces.set(p.point, { point: p.point, params: p.params, status: 'pending', frames: [], notes: [] });
   for (const r of records) {
     const trace = traces.get(Number(r.point));
     if (!trace) continue;
@@ -178,7 +192,8 @@ export interface EvolveRunContents {
 
 export function loadEvolveRun(dir: string): EvolveRunContents {
   const run = readRun(dir);
-  if (run.manifest.kind !== 'evolve') throw new RunFileError(`${dir} holds a ${run.manifest.kind} run, not a time trace`);
+  if (run.manifest.kind !== 'evolve')
+    throw new RunFileError(`${dir} holds a ${run.manifest.kind} run, not a time trace`);
   const points = (run.manifest.points as { point: number; params: ScanParams }[]) ?? [];
   const keys = ((run.manifest.axes as { key: string }[] | undefined) ?? []).map((a) => a.key);
   return { dir, manifest: run.manifest, traces: tracesOf(run.records, points), keys };
@@ -215,7 +230,16 @@ export function tracesCsv(contents: EvolveRunContents): string {
     for (const f of t.frames) {
       const o = f.observables;
       const mean = (o.level_mean as number[]).reduce((s, x) => s + x, 0) / (o.level_mean as number[]).length;
-      rows.push([t.point, ...contents.keys.map((k) => t.params[k]), f.index, f.time, f.time_ms, ...SCALARS.map((s) => o[s]), mean, f.error_bound]);
+      rows.push([
+        t.point,
+        ...contents.keys.map((k) => t.params[k]),
+        f.index,
+        f.time,
+        f.time_ms,
+        ...SCALARS.map((s) => o[s]),
+        mean,
+        f.error_bound,
+      ]);
     }
   }
   return csv(['point', ...contents.keys, 'frame', 'time', 'time_ms', ...SCALARS, 'mean_level', 'error_bound'], rows);
@@ -228,7 +252,9 @@ export function tracesLongCsv(contents: EvolveRunContents): string {
     const lead = [t.point, ...contents.keys.map((k) => t.params[k])];
     for (const f of t.frames) {
       const o = f.observables;
-      (o.populations as number[][]).forEach((p, i) => p.forEach((v, n) => rows.push([...lead, f.time, f.time_ms, 'populations', i, n, v])));
+      (o.populations as number[][]).forEach((p, i) =>
+        p.forEach((v, n) => rows.push([...lead, f.time, f.time_ms, 'populations', i, n, v])),
+      );
       (o.level_mean as number[]).forEach((v, i) => rows.push([...lead, f.time, f.time_ms, 'level_mean', i, null, v]));
       (o.spread as number[]).forEach((v, i) => rows.push([...lead, f.time, f.time_ms, 'spread', i, null, v]));
     }
@@ -240,14 +266,27 @@ export function tracesLongCsv(contents: EvolveRunContents): string {
 export function traceText(trace: Trace, energyUnitHz: number | null): string {
   const hasMs = trace.frames.some((f) => f.time_ms !== null);
   const hasOverlap = trace.frames.some((f) => f.observables.ground_overlap !== undefined);
-  const header = ['t', ...(hasMs ? ['t [ms]'] : []), 'energy', ...(energyUnitHz !== null ? ['energy [Hz]'] : []), 'norm', 'return P', 'width', 'mean level', ...(hasOverlap ? ['ground overlap'] : [])];
+  const header = [
+    't',
+    ...(hasMs ? ['t [ms]'] : []),
+    'energy',
+    ...(energyUnitHz !== null ? ['energy [Hz]'] : []),
+    'norm',
+    'return P',
+    'width',
+    'mean level',
+    ...(hasOverlap ? ['ground overlap'] : []),
+  ];
   // Rounding noise: energies against their own scale, probabilities against 1, widths and levels against 1 or their size.
   const energyScale = columnScale(trace.frames.map((f) => f.observables.energy as number));
   const meanLevel = (f: FrameRecord) => {
     const means = f.observables.level_mean as number[];
     return means.reduce((s, x) => s + x, 0) / means.length;
   };
-  const widthScale = columnScale(trace.frames.map((f) => f.observables.string_width as number), 1);
+  const widthScale = columnScale(
+    trace.frames.map((f) => f.observables.string_width as number),
+    1,
+  );
   const levelScale = columnScale(trace.frames.map(meanLevel), 1);
   const rows = trace.frames.map((f) => {
     const o = f.observables;
@@ -270,7 +309,9 @@ export function tracesText(contents: EvolveRunContents): string {
   const spec = contents.manifest.energy_unit_hz as number | null | undefined;
   const out: string[] = [];
   for (const t of contents.traces) {
-    out.push(`point ${t.point}${contents.keys.length > 0 ? ` (${formatParams(t.params)})` : ''}: ${t.status}${t.error ? ` (${t.error})` : ''}, ${plural(t.frames.length, 'time')} recorded`);
+    out.push(
+      `point ${t.point}${contents.keys.length > 0 ? ` (${formatParams(t.params)})` : ''}: ${t.status}${t.error ? ` (${t.error})` : ''}, ${plural(t.frames.length, 'time')} recorded`,
+    );
     if (t.frames.length > 0) out.push(traceText(t, spec ?? null));
     out.push('');
   }
@@ -331,7 +372,8 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
   const overrides = options.overrides ?? [];
   const { raw, spec } = loadSpec(options.specPath, overrides);
   const isScan = spec.extra.scan !== undefined;
-  if (spec.extra.evolve === undefined) throw new SpecError('evolve', 'required section is missing: rungchain evolve needs at least evolve.times');
+  if (spec.extra.evolve === undefined)
+    throw new SpecError('evolve', 'required section is missing: rungchain evolve needs at least evolve.times');
 
   let jobs: PointJob[];
   let axes: { key: string; values: unknown[] }[] = [];
@@ -340,7 +382,12 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
     const plan = expandScan(raw, spec);
     jobs = plan.points.map((p) => ({ point: p.index, params: p.params, raw: p.raw, spec: p.spec }));
     axes = plan.section.axes;
-    identity = runIdentity({ kind: 'evolve', spec: raw, axes: plan.section.axes.map((a) => ({ key: a.key, values: a.values })), zip: plan.section.zip });
+    identity = runIdentity({
+      kind: 'evolve',
+      spec: raw,
+      axes: plan.section.axes.map((a) => ({ key: a.key, values: a.values })),
+      zip: plan.section.zip,
+    });
   } else {
     jobs = [{ point: 0, params: {}, raw, spec }];
     identity = runIdentity({ kind: 'evolve', spec: raw });
@@ -353,7 +400,8 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
       plans.set(job.point, planEvolution(job.raw, job.spec));
     } catch (e) {
       if (!isScan) throw e;
-      if (e instanceof SpecError) throw new SpecError(e.keyPath, `${e.problem} (in scan point ${job.point}: ${formatParams(job.params)})`);
+      if (e instanceof SpecError)
+        throw new SpecError(e.keyPath, `${e.problem} (in scan point ${job.point}: ${formatParams(job.params)})`);
       plans.set(job.point, e as Error);
     }
   }
@@ -396,7 +444,9 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
   const say = (line: string): void => {
     if (options.progress !== 'none') stream.write(line + '\n');
   };
-  const existing = writer ? tracesOf(writer.existing, jobs) : jobs.map((j): Trace => ({ point: j.point, params: j.params, status: 'pending', frames: [], notes: [] }));
+  const existing = writer
+    ? tracesOf(writer.existing, jobs)
+    : jobs.map((j): Trace => ({ point: j.point, params: j.params, status: 'pending', frames: [], notes: [] }));
   const byPoint = new Map(existing.map((t) => [t.point, t]));
   const notes: string[] = [];
   let stopping = false;
@@ -412,7 +462,8 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
     }
   }
   const checkpointSeconds = options.checkpointSeconds ?? 30;
-  const mode = options.progress === undefined || options.progress === 'auto' ? (stream.isTTY ? 'bar' : 'lines') : options.progress;
+  const mode =
+    options.progress === undefined || options.progress === 'auto' ? (stream.isTTY ? 'bar' : 'lines') : options.progress;
   const totalFrames = jobs.reduce((n, j) => {
     const p = plans.get(j.point);
     return n + (p instanceof Error || p === undefined ? 0 : p.times.length);
@@ -421,7 +472,13 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
   const bar =
     mode === 'bar'
       ? new cliProgress.SingleBar(
-          { stream, format: ' {bar} {value}/{total} times | t = {t} of {end}', hideCursor: true, clearOnComplete: false, fps: 5 },
+          {
+            stream,
+            format: ' {bar} {value}/{total} times | t = {t} of {end}',
+            hideCursor: true,
+            clearOnComplete: false,
+            fps: 5,
+          },
           cliProgress.Presets.shades_classic,
         )
       : null;
@@ -430,7 +487,8 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
     // We hold the lock: temporary checkpoint files are left from a writer that was killed mid-write.
     for (const file of readdirSync(dir)) if (/^checkpoint-\d+\.bin\.tmp\./.test(file)) unlinkSync(path.join(dir, file));
   }
-  if (writer && writer.cutBytes > 0) say(`dropped a torn last record (${writer.cutBytes} bytes, a write cut short); it is computed again`);
+  if (writer && writer.cutBytes > 0)
+    say(`dropped a torn last record (${writer.cutBytes} bytes, a write cut short); it is computed again`);
 
   try {
     for (const job of jobs) {
@@ -448,7 +506,14 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
         if (dir !== null) removeCheckpoint(dir, job.point);
       };
       if (plan instanceof Error) {
-        finish({ kind: 'trace', point: job.point, params: job.params, status: 'failed', error: errorText(plan), finished: new Date().toISOString() });
+        finish({
+          kind: 'trace',
+          point: job.point,
+          params: job.params,
+          status: 'failed',
+          error: errorText(plan),
+          finished: new Date().toISOString(),
+        });
         say(`${label}: FAILED ${errorText(plan)}`);
         continue;
       }
@@ -459,8 +524,10 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
         const saved = trace.frames.length;
         // Records are synced before each checkpoint, so a checkpoint ahead of them was not written by this run: ignore it.
         if (resume && resume.nextFrame > saved) resume = null;
-        if (resume) say(`resuming ${label} at t = ${fmt(resume.time, 6)} (${saved} of ${plan.times.length} times saved)`);
-        else if (saved > 0) say(`restarting ${label} from t = 0 (${saved} of ${plan.times.length} times saved, no checkpoint)`);
+        if (resume)
+          say(`resuming ${label} at t = ${fmt(resume.time, 6)} (${saved} of ${plan.times.length} times saved)`);
+        else if (saved > 0)
+          say(`restarting ${label} from t = 0 (${saved} of ${plan.times.length} times saved, no checkpoint)`);
         let lastCheckpoint = performance.now();
         let lastYield = performance.now();
         let lastLine = performance.now();
@@ -476,26 +543,37 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
               index: frame.index,
               time: frame.time,
               time_ms: plan.timesMs ? plan.timesMs[frame.index] : null,
-              observables: frame.observables as unknown as Record<string, unknown>,
+              observables: frame.observables,
               error_bound: frame.error_bound,
               matvecs: frame.matvecs,
             };
             writer?.append(record as unknown as Record<string, unknown>);
             trace.frames.push(record);
             framesDone++;
-            bar?.update(Math.min(framesDone, totalFrames), { t: fmt(frame.time, 5), end: fmt(plan.times[plan.times.length - 1], 5) });
+            bar?.update(Math.min(framesDone, totalFrames), {
+              t: fmt(frame.time, 5),
+              end: fmt(plan.times[plan.times.length - 1], 5),
+            });
           },
         });
         for (const note of evolution.notes) notes.push(isScan ? `${label}: ${note}` : note);
         while (!evolution.done) {
           evolution.advance();
           const now = performance.now();
-          if (writer && dir !== null && now - lastCheckpoint >= checkpointSeconds * 1000 && evolution.nextFrame > 0 && !evolution.done) {
+          if (
+            writer &&
+            dir !== null &&
+            now - lastCheckpoint >= checkpointSeconds * 1000 &&
+            evolution.nextFrame > 0 &&
+            !evolution.done
+          ) {
             writeCheckpoint(dir, identity, job.point, evolution.checkpoint());
             lastCheckpoint = performance.now();
           }
           if (mode === 'lines' && now - lastLine >= 10_000) {
-            say(`${label}: t = ${fmt(evolution.time, 6)} of ${fmt(plan.times[plan.times.length - 1], 6)}, ${evolution.nextFrame}/${plan.times.length} times`);
+            say(
+              `${label}: t = ${fmt(evolution.time, 6)} of ${fmt(plan.times[plan.times.length - 1], 6)}, ${evolution.nextFrame}/${plan.times.length} times`,
+            );
             lastLine = now;
           }
           // Let signals in every so often; the propagation itself is synchronous.
@@ -519,23 +597,43 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
           notes: result.notes,
           finished: new Date().toISOString(),
         });
-        if (mode === 'lines' && (isScan || dir !== null)) say(`${label}: done, ${plural(result.stats.steps, 'step')}, ${plural(result.stats.matvecs, 'product')}, error bound ${fmtSmall(result.stats.error_bound, 1)}`);
+        if (mode === 'lines' && (isScan || dir !== null))
+          say(
+            `${label}: done, ${plural(result.stats.steps, 'step')}, ${plural(result.stats.matvecs, 'product')}, error bound ${fmtSmall(result.stats.error_bound, 1)}`,
+          );
       } catch (e) {
         // The run folder could not be written (disk full, ...): that is no property of the trace.
         // It stays pending with its checkpoint, and the same command continues it.
         if (e instanceof FileSystemError) throw e;
         if (!isScan && !isRungchainError(e)) throw e;
         if (!isScan) {
-          if (writer) finish({ kind: 'trace', point: job.point, params: job.params, status: 'failed', error: errorText(e), finished: new Date().toISOString() });
+          if (writer)
+            finish({
+              kind: 'trace',
+              point: job.point,
+              params: job.params,
+              status: 'failed',
+              error: errorText(e),
+              finished: new Date().toISOString(),
+            });
           throw e;
         }
-        finish({ kind: 'trace', point: job.point, params: job.params, status: 'failed', error: errorText(e), finished: new Date().toISOString() });
+        finish({
+          kind: 'trace',
+          point: job.point,
+          params: job.params,
+          status: 'failed',
+          error: errorText(e),
+          finished: new Date().toISOString(),
+        });
         say(`${label}: FAILED ${errorText(e)}`);
       }
     }
   } catch (e) {
     if (e instanceof FileSystemError && resumeCommand) {
-      throw new FileSystemError(`${e.message}; every time recorded so far is kept: once that is fixed, resume with: ${resumeCommand}`);
+      throw new FileSystemError(
+        `${e.message}; every time recorded so far is kept: once that is fixed, resume with: ${resumeCommand}`,
+      );
     }
     throw e;
   } finally {

@@ -49,7 +49,8 @@ export function productState(basis: Basis, perSite: (Float64Array | null)[]): Fl
   if (basis.kind !== 'pinned') return fockProductState(basis, perSite);
   const N = basis.levels;
   const current = new Float64Array(2 * basis.dim);
-  if (perSite.some((c) => c === null)) throw new UnsupportedError('pinned particles fill every site: no site can start empty');
+  if (perSite.some((c) => c === null))
+    throw new UnsupportedError('pinned particles fill every site: no site can start empty');
   current.set((perSite[0] as Float64Array).subarray(0, 2 * N));
   let length = N;
   for (let i = 1; i < basis.sites; i++) {
@@ -76,7 +77,9 @@ function fockProductState(basis: FockBasis, perSite: (Float64Array | null)[]): F
   const { local } = basis;
   const occupied = perSite.filter((c) => c !== null).length;
   if (occupied !== basis.particles) {
-    throw new UnsupportedError(`the initial state puts ${occupied} particles on the chain, but particles.number is ${basis.particles}`);
+    throw new UnsupportedError(
+      `the initial state puts ${occupied} particles on the chain, but particles.number is ${basis.particles}`,
+    );
   }
   // Local state "one particle in level n", and the empty site.
   const single = new Int32Array(N).fill(-1);

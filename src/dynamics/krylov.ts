@@ -308,11 +308,17 @@ interface TridiagonalAnalysis {
   /** beta_m: the coupling of the space to the next Krylov direction (0 when invariant). */
   h: number;
   /** A posteriori error bound of a step of length tau. */
-  bound(tau: number): number;
+  bound: (tau: number) => number;
 }
 
 /** Eigen-decomposition of T_size (exp(-i s T) e_1 = Q exp(-i s Lambda) Q^T e_1) and the step error bound. */
-function analyseTridiagonal(alpha: Float64Array, beta: Float64Array, size: number, h: number, beta0: number): TridiagonalAnalysis {
+function analyseTridiagonal(
+  alpha: Float64Array,
+  beta: Float64Array,
+  size: number,
+  h: number,
+  beta0: number,
+): TridiagonalAnalysis {
   const T = new Float64Array(size * size);
   for (let j = 0; j < size; j++) {
     T[j * size + j] = alpha[j];
@@ -357,7 +363,8 @@ function analyseTridiagonal(alpha: Float64Array, beta: Float64Array, size: numbe
     let integral = 0;
     for (let p = 0; p < panels; p++) {
       const mid = (p + 0.5) * width;
-      for (let g = 0; g < GL_NODES.length; g++) integral += GL_WEIGHTS[g] * (width / 2) * defect(mid + (GL_NODES[g] * width) / 2);
+      for (let g = 0; g < GL_NODES.length; g++)
+        integral += GL_WEIGHTS[g] * (width / 2) * defect(mid + (GL_NODES[g] * width) / 2);
     }
     return beta0 * h * integral;
   };

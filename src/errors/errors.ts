@@ -50,18 +50,35 @@ export function isRungchainError(e: unknown): e is RungchainError {
  * Error saying where it came from.
  */
 export function errorFromThread(name: string, message: string, where: string): Error {
-  const ours: Record<string, new (message: string) => RungchainError> = { InputError, ResourceError, ConvergenceError, RunFileError, FileSystemError, UnsupportedError };
+  const ours: Record<string, new (message: string) => RungchainError> = {
+    InputError,
+    ResourceError,
+    ConvergenceError,
+    RunFileError,
+    FileSystemError,
+    UnsupportedError,
+  };
   if (name === 'SpecError') return new SpecError('', message);
   if (ours[name]) return new ours[name](message);
-  if (name === 'RangeError' && /allocation failed|Invalid typed array length|Array buffer|out of memory/i.test(message)) {
-    return new ResourceError(`${where} ran out of memory (${message}); lower the number of threads, or use a machine with more memory`);
+  if (
+    name === 'RangeError' &&
+    /allocation failed|Invalid typed array length|Array buffer|out of memory/i.test(message)
+  ) {
+    return new ResourceError(
+      `${where} ran out of memory (${message}); lower the number of threads, or use a machine with more memory`,
+    );
   }
   return new Error(`${where} failed: ${name}: ${message}`);
 }
 
 /** An error of a system call (fs, os): it carries an errno code such as ENOSPC and the call's name. */
 export function isSystemError(e: unknown): e is NodeJS.ErrnoException & { code: string; syscall: string } {
-  return e instanceof Error && typeof (e as NodeJS.ErrnoException).code === 'string' && /^E[A-Z0-9]+$/.test((e as NodeJS.ErrnoException).code!) && typeof (e as NodeJS.ErrnoException).syscall === 'string';
+  return (
+    e instanceof Error &&
+    typeof (e as NodeJS.ErrnoException).code === 'string' &&
+    /^E[A-Z0-9]+$/.test((e as NodeJS.ErrnoException).code!) &&
+    typeof (e as NodeJS.ErrnoException).syscall === 'string'
+  );
 }
 
 const CAUSES: Record<string, string> = {

@@ -40,7 +40,12 @@ export function fmtSmall(x: number, digits = 2): string {
 /** One CSV field: empty for null, quoted when it holds a comma, a quote or a line break (RFC 4180). */
 export function csvCell(value: unknown): string {
   if (value === null || value === undefined) return '';
-  const text = typeof value === 'string' ? value : typeof value === 'number' || typeof value === 'boolean' ? String(value) : JSON.stringify(value);
+  const text =
+    typeof value === 'string'
+      ? value
+      : typeof value === 'number' || typeof value === 'boolean'
+        ? String(value)
+        : JSON.stringify(value);
   return /[",\n\r]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
 }
 
@@ -63,7 +68,10 @@ export function shellCommand(program: string, args: string[]): string {
 export function table(header: string[], rows: string[][]): string {
   const widths = header.map((h, c) => Math.max(h.length, ...rows.map((r) => (r[c] ?? '').length)));
   const line = (cells: string[]) =>
-    cells.map((cell, c) => (c === 0 ? cell.padEnd(widths[c]) : cell.padStart(widths[c]))).join('  ').trimEnd();
+    cells
+      .map((cell, c) => (c === 0 ? cell.padEnd(widths[c]) : cell.padStart(widths[c])))
+      .join('  ')
+      .trimEnd();
   return [line(header), line(widths.map((w) => '-'.repeat(w))), ...rows.map(line)].join('\n');
 }
 

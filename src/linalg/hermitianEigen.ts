@@ -26,7 +26,12 @@ export function realEmbedding(re: Float64Array, im: Float64Array, n: number): Fl
  * (size n), else of its embedding (size 2n, every eigenvalue twice; vector k holds x in its
  * first n components and y in its last n for the complex eigenvector x + iy).
  */
-export function realFormEigen(re: Float64Array, im: Float64Array | null, n: number, wantVectors = true): SymmetricEigen & { size: number } {
+export function realFormEigen(
+  re: Float64Array,
+  im: Float64Array | null,
+  n: number,
+  wantVectors = true,
+): SymmetricEigen & { size: number } {
   if (im === null) return { ...symmetricEigen(re, n, wantVectors), size: n };
   const size = 2 * n;
   return { ...symmetricEigen(realEmbedding(re, im, n), size, wantVectors), size };

@@ -36,7 +36,14 @@ function slice(length: number, t: number, threads: number): [number, number] {
 }
 
 /** What one thread does for the current command, on its slice. */
-function runSlice(command: number, wasm: WasmKernels, memory: WebAssembly.Memory, p: Uint32Array, t: number, threads: number): void {
+function runSlice(
+  command: number,
+  wasm: WasmKernels,
+  memory: WebAssembly.Memory,
+  p: Uint32Array,
+  t: number,
+  threads: number,
+): void {
   const [lo, hi] = slice(p[P_LENGTH], t, threads);
   const count = p[P_COUNT];
   const complex = p[P_COMPLEX] === 1;
@@ -84,7 +91,12 @@ export class KernelTeam implements KernelHelpers {
     readonly threads: number,
   ) {
     const script = workerScript('kernels');
-    this.team = new SyncTeam(script, threads, PARAMS, (thread, control) => ({ memory: arena.memory, control, thread, threads }));
+    this.team = new SyncTeam(script, threads, PARAMS, (thread, control) => ({
+      memory: arena.memory,
+      control,
+      thread,
+      threads,
+    }));
     this.params = new Uint32Array(this.team.control.buffer);
   }
 
@@ -153,7 +165,14 @@ export class KernelTeam implements KernelHelpers {
   }
 
   /** coef[0..) = <set_i, w> over all threads' slices; `table` holds the set's pointers. False: not done (no room). */
-  project(w: Float64Array, length: number, table: number, count: number, isComplex: boolean, coef: Float64Array): boolean {
+  project(
+    w: Float64Array,
+    length: number,
+    table: number,
+    count: number,
+    isComplex: boolean,
+    coef: Float64Array,
+  ): boolean {
     if (!this.sweep(w, length, table, count, isComplex)) return false;
     this.run(PROJECT);
     const n = isComplex ? 2 * count : count;
@@ -213,8 +232,15 @@ export class KernelTeam implements KernelHelpers {
 }
 
 /** A helper thread: attach to the arena, then run its slice of every command until told to stop. */
-export function runKernelWorker(data: { memory: WebAssembly.Memory; control: Int32Array; thread: number; threads: number }): void {
+export function runKernelWorker(data: {
+  memory: WebAssembly.Memory;
+  control: Int32Array;
+  thread: number;
+  threads: number;
+}): void {
   const arena = VectorArena.attach(data.memory, 0);
   const p = new Uint32Array(data.control.buffer);
-  serveTeam(data.control, arena !== null, (command) => runSlice(command, arena!.wasm, data.memory, p, data.thread, data.threads));
+  serveTeam(data.control, arena !== null, (command) =>
+    runSlice(command, arena!.wasm, data.memory, p, data.thread, data.threads),
+  );
 }

@@ -139,7 +139,8 @@ function implicitQl(d: Float64Array, e: Float64Array, w: Float64Array | null, n:
     while (m < n - 1 && Math.abs(e[m]) > eps * norm) m++;
     let sweeps = 0;
     while (m > l && Math.abs(e[l]) > eps * norm) {
-      if (++sweeps > MAX_SWEEPS) throw new ConvergenceError(`dense symmetric eigensolver: no convergence after ${MAX_SWEEPS} QL sweeps`);
+      if (++sweeps > MAX_SWEEPS)
+        throw new ConvergenceError(`dense symmetric eigensolver: no convergence after ${MAX_SWEEPS} QL sweeps`);
       // Wilkinson shift from the leading 2 x 2 block.
       let g = d[l];
       let p = (d[l + 1] - g) / (2 * e[l]);

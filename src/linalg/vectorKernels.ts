@@ -30,7 +30,14 @@ export function scale(v: Float64Array, factor: number): void {
 // of w serves four of them, which about doubles the speed of these memory-bound loops in V8.
 
 /** coef[i] += <set_i, w> over entries [start, end) of real vectors. */
-function addDotsReal(w: Float64Array, set: Float64Array[], count: number, coef: Float64Array, start: number, end: number): void {
+function addDotsReal(
+  w: Float64Array,
+  set: Float64Array[],
+  count: number,
+  coef: Float64Array,
+  start: number,
+  end: number,
+): void {
   let i = 0;
   for (; i + 4 <= count; i += 4) {
     const a0 = set[i];
@@ -62,7 +69,14 @@ function addDotsReal(w: Float64Array, set: Float64Array[], count: number, coef: 
 }
 
 /** w -= sum_i coef[i] set_i over entries [start, end) of real vectors. */
-function subtractReal(w: Float64Array, set: Float64Array[], count: number, coef: Float64Array, start: number, end: number): void {
+function subtractReal(
+  w: Float64Array,
+  set: Float64Array[],
+  count: number,
+  coef: Float64Array,
+  start: number,
+  end: number,
+): void {
   let i = 0;
   for (; i + 4 <= count; i += 4) {
     const a0 = set[i];
@@ -83,7 +97,14 @@ function subtractReal(w: Float64Array, set: Float64Array[], count: number, coef:
 }
 
 /** coef[2i], coef[2i+1] += <set_i, w> = sum conj(a) w over interleaved complex entries [start, end). */
-function addDotsComplex(w: Float64Array, set: Float64Array[], count: number, coef: Float64Array, start: number, end: number): void {
+function addDotsComplex(
+  w: Float64Array,
+  set: Float64Array[],
+  count: number,
+  coef: Float64Array,
+  start: number,
+  end: number,
+): void {
   let i = 0;
   for (; i + 2 <= count; i += 2) {
     const a0 = set[i];
@@ -127,7 +148,14 @@ function addDotsComplex(w: Float64Array, set: Float64Array[], count: number, coe
 }
 
 /** w -= sum_i c_i set_i (complex c_i interleaved in coef) over entries [start, end). */
-function subtractComplex(w: Float64Array, set: Float64Array[], count: number, coef: Float64Array, start: number, end: number): void {
+function subtractComplex(
+  w: Float64Array,
+  set: Float64Array[],
+  count: number,
+  coef: Float64Array,
+  start: number,
+  end: number,
+): void {
   let i = 0;
   for (; i + 2 <= count; i += 2) {
     const a0 = set[i];
@@ -204,7 +232,6 @@ function combineJs(
   }
 }
 
-
 export function coefficientNormSquared(coef: Float64Array, count: number, isComplex: boolean): number {
   const n = isComplex ? 2 * count : count;
   let s = 0;
@@ -218,7 +245,14 @@ export function coefficientNormSquared(coef: Float64Array, count: number, isComp
  */
 export interface KernelHelpers {
   /** coef[0..) = <set_i, w>; `table` holds the set's pointers. */
-  project(w: Float64Array, length: number, table: number, count: number, isComplex: boolean, coef: Float64Array): boolean;
+  project(
+    w: Float64Array,
+    length: number,
+    table: number,
+    count: number,
+    isComplex: boolean,
+    coef: Float64Array,
+  ): boolean;
   /** w -= sum_i coef_i set_i; returns ||w||^2; fills `nextCoef` with the new w's dots when given. */
   subtract(
     w: Float64Array,
@@ -354,7 +388,14 @@ export class VectorKernels {
    * ("twice is enough"), and a third time if the second pass still removed most of what was left.
    * Returns ||w|| afterwards (w is not normalized).
    */
-  orthogonalize(w: Float64Array, set: Float64Array[], count: number, isComplex: boolean, coef: Float64Array, coef2: Float64Array): number {
+  orthogonalize(
+    w: Float64Array,
+    set: Float64Array[],
+    count: number,
+    isComplex: boolean,
+    coef: Float64Array,
+    coef2: Float64Array,
+  ): number {
     if (count === 0) return this.norm2(w);
     this.project(w, set, count, isComplex, coef);
     const afterFirst = Math.sqrt(this.subtract(w, set, count, isComplex, coef, coef2));
@@ -378,7 +419,16 @@ export class VectorKernels {
       const len = VectorKernels.padded(basis[0]);
       if (this.team?.combine(len, table, size, y, ys, keep)) return;
       for (let start = 0; start < len; start += BLOCK) {
-        arena.wasm.combine(table, size, y.byteOffset, ys, keep, scratch.byteOffset, start, Math.min(start + BLOCK, len));
+        arena.wasm.combine(
+          table,
+          size,
+          y.byteOffset,
+          ys,
+          keep,
+          scratch.byteOffset,
+          start,
+          Math.min(start + BLOCK, len),
+        );
       }
       return;
     }

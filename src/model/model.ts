@@ -86,7 +86,12 @@ function nearestNeighbourBonds(sites: number, periodic: boolean, amplitude: numb
       js.push(sites - 1);
     }
   }
-  return { count: is.length, i: Int32Array.from(is), j: Int32Array.from(js), value: new Float64Array(is.length).fill(amplitude) };
+  return {
+    count: is.length,
+    i: Int32Array.from(is),
+    j: Int32Array.from(js),
+    value: new Float64Array(is.length).fill(amplitude),
+  };
 }
 
 export function buildModel(spec: Spec): Model {
@@ -131,7 +136,10 @@ export function buildModel(spec: Spec): Model {
     exchangePairs: pairCouplings(L, periodic, ex.strength, ex.range, ex.cutoff),
     moments: Float64Array.from(is.moments),
     isingPairs: pairCouplings(L, periodic, is.strength, is.range, is.cutoff),
-    hoppingBonds: kind === 'pinned' ? nearestNeighbourBonds(L, false, 0) : nearestNeighbourBonds(L, periodic, spec.particles.hopping),
+    hoppingBonds:
+      kind === 'pinned'
+        ? nearestNeighbourBonds(L, false, 0)
+        : nearestNeighbourBonds(L, periodic, spec.particles.hopping),
     particleNumber: spec.particles.number,
     maxPerSite: spec.particles.maxPerSite,
     onsite: spec.particles.onsite,

@@ -115,7 +115,14 @@ export function reducedDensityMatrix(
 
 // rho[a, a'] += w sum_b psi(a, b) conj(psi(a', b)): one rank-1 update per right index b, over a
 // contiguous column of the state.
-function accumulateLeft(psi: Float64Array, dL: number, dR: number, w: number, re: Float64Array, im: Float64Array | null): void {
+function accumulateLeft(
+  psi: Float64Array,
+  dL: number,
+  dR: number,
+  w: number,
+  re: Float64Array,
+  im: Float64Array | null,
+): void {
   if (!im) {
     for (let b = 0; b < dR; b++) {
       const base = b * dL;
@@ -201,7 +208,10 @@ export function hermitianEigenvalues(d: number, re: Float64Array, im: Float64Arr
 }
 
 /** Entropies and entanglement energies from Schmidt weights (eigenvalues of rho, any order). */
-export function entropiesFromWeights(weights: ArrayLike<number>, spectrumCount = DEFAULT_SPECTRUM_COUNT): Omit<CutEntanglement, 'cut'> {
+export function entropiesFromWeights(
+  weights: ArrayLike<number>,
+  spectrumCount = DEFAULT_SPECTRUM_COUNT,
+): Omit<CutEntanglement, 'cut'> {
   let vonNeumann = 0;
   let purity = 0;
   const kept: number[] = [];

@@ -155,7 +155,8 @@ export function itinerantObservables(
     }
   }
 
-  const matrix = (a: Float64Array): number[][] => Array.from({ length: L }, (_, i) => Array.from(a.subarray(i * L, (i + 1) * L)));
+  const matrix = (a: Float64Array): number[][] =>
+    Array.from({ length: L }, (_, i) => Array.from(a.subarray(i * L, (i + 1) * L)));
   const result: ItinerantObservables = {
     populations,
     level_mean: levelMean,
@@ -178,7 +179,11 @@ export function itinerantObservables(
  * conj(psi(t)) amp psi(s) to rho[i][j], t the state after the move; rho[j][i] is its conjugate.
  * The target's rank is found as in the operator build (src/operator/fock.ts): O(1) per move.
  */
-function oneBodyDensityMatrix(basis: FockBasis, states: Float64Array[], isComplex: boolean): { re: Float64Array; im: Float64Array } {
+function oneBodyDensityMatrix(
+  basis: FockBasis,
+  states: Float64Array[],
+  isComplex: boolean,
+): { re: Float64Array; im: Float64Array } {
   const L = basis.sites;
   const N = basis.levels;
   const Np = basis.particles;

@@ -113,10 +113,16 @@ function halfOf(width: number, N: number): Half {
  * The marginals of the low half (sites 0..h-1, the fast digits) and of the high half, and per
  * high part the moments sum over lo of p(hi, lo) n_i(lo) of each low site i: cross[hi * h + i].
  */
-function halfMarginals(probabilities: Float64Array, low: Half, highSize: number): { pLow: Float64Array; pHigh: Float64Array; cross: Float64Array } {
+function halfMarginals(
+  probabilities: Float64Array,
+  low: Half,
+  highSize: number,
+): { pLow: Float64Array; pHigh: Float64Array; cross: Float64Array } {
   const lowSize = low.size;
   const h = low.width;
-  const lowColumns = Array.from({ length: h }, (_, i) => Float64Array.from({ length: lowSize }, (_, lo) => low.digits[lo * h + i]));
+  const lowColumns = Array.from({ length: h }, (_, i) =>
+    Float64Array.from({ length: lowSize }, (_, lo) => low.digits[lo * h + i]),
+  );
   const pLow = new Float64Array(lowSize);
   const pHigh = new Float64Array(highSize);
   const cross = new Float64Array(highSize * h);
@@ -149,7 +155,8 @@ function addPopulations(pop: Float64Array, offset: number, half: Half, at: numbe
 /** <n_a n_b> for two sites of one half, from its marginal. */
 function pairWithinHalf(half: Half, a: number, b: number, marginal: Float64Array): number {
   let sum = 0;
-  for (let x = 0; x < half.size; x++) sum += marginal[x] * half.digits[x * half.width + a] * half.digits[x * half.width + b];
+  for (let x = 0; x < half.size; x++)
+    sum += marginal[x] * half.digits[x * half.width + a] * half.digits[x * half.width + b];
   return sum;
 }
 

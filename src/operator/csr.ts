@@ -38,9 +38,20 @@ export class CsrOperator implements HermitianOperator {
     const vi = this.valuesIm;
     // Matrix, x and y in one arena: the WebAssembly loop (same order of operations, same bits).
     const arena = arenaHolding(x, y);
-    if (arena && arena.owns(vr) && arena.owns(rs) && (col.length === 0 || arena.owns(col as never))) {
-      if (vi === null) arena.wasm.csrReal(y.byteOffset, x.byteOffset, rs.byteOffset, col.byteOffset, vr.byteOffset, lo, hi);
-      else if (arena.owns(vi)) arena.wasm.csrComplex(y.byteOffset, x.byteOffset, rs.byteOffset, col.byteOffset, vr.byteOffset, vi.byteOffset, lo, hi);
+    if (arena && arena.owns(vr) && arena.owns(rs) && (col.length === 0 || arena.owns(col))) {
+      if (vi === null)
+        arena.wasm.csrReal(y.byteOffset, x.byteOffset, rs.byteOffset, col.byteOffset, vr.byteOffset, lo, hi);
+      else if (arena.owns(vi))
+        arena.wasm.csrComplex(
+          y.byteOffset,
+          x.byteOffset,
+          rs.byteOffset,
+          col.byteOffset,
+          vr.byteOffset,
+          vi.byteOffset,
+          lo,
+          hi,
+        );
       else this.applyPlain(x, y, lo, hi);
       return;
     }
@@ -190,7 +201,14 @@ export class CsrBuilder {
 
   /** The rows built so far, to hand to another thread's builder (`absorb`); this builder is done. */
   export(): BuiltRows {
-    const chunks = [...this.done, { columns: this.columns.subarray(0, this.fill), re: this.re.subarray(0, this.fill), im: this.im ? this.im.subarray(0, this.fill) : null }];
+    const chunks = [
+      ...this.done,
+      {
+        columns: this.columns.subarray(0, this.fill),
+        re: this.re.subarray(0, this.fill),
+        im: this.im ? this.im.subarray(0, this.fill) : null,
+      },
+    ];
     return { rows: this.row, rowStart: this.rowStart.subarray(0, this.row + 1), chunks };
   }
 
@@ -199,7 +217,11 @@ export class CsrBuilder {
    * chunks are not handed to the spares at `finish`: the spares would grow by them every build.
    */
   absorb(part: BuiltRows): void {
-    this.done.push({ columns: this.columns.subarray(0, this.fill), re: this.re.subarray(0, this.fill), im: this.im ? this.im.subarray(0, this.fill) : null });
+    this.done.push({
+      columns: this.columns.subarray(0, this.fill),
+      re: this.re.subarray(0, this.fill),
+      im: this.im ? this.im.subarray(0, this.fill) : null,
+    });
     this.before += this.fill;
     for (const c of part.chunks) {
       this.done.push(c);
@@ -221,12 +243,19 @@ export class CsrBuilder {
   finish(arena?: VectorArena | null): CsrOperator {
     if (this.row !== this.dim) throw new Error(`CsrBuilder: ${this.row} rows ended, expected ${this.dim}`);
     const size = this.before + this.fill;
-    const chunks = [...this.done, { columns: this.columns.subarray(0, this.fill), re: this.re.subarray(0, this.fill), im: this.im ? this.im.subarray(0, this.fill) : null }];
+    const chunks = [
+      ...this.done,
+      {
+        columns: this.columns.subarray(0, this.fill),
+        re: this.re.subarray(0, this.fill),
+        im: this.im ? this.im.subarray(0, this.fill) : null,
+      },
+    ];
     const gather = <T extends Float64Array | Int32Array>(out: T, part: (c: (typeof chunks)[number]) => T): T => {
       let at = 0;
       for (const c of chunks) {
         const piece = part(c);
-        out.set(piece as never, at);
+        out.set(piece, at);
         at += piece.length;
       }
       return out;
@@ -295,6 +324,6 @@ export function sharedCopy<T extends Float64Array | Int32Array>(
   kind: { new (buffer: SharedArrayBuffer): T; BYTES_PER_ELEMENT: number },
 ): T {
   const out = new kind(new SharedArrayBuffer(Math.max(1, length) * kind.BYTES_PER_ELEMENT));
-  out.set(source.subarray(0, length) as never);
+  out.set(source.subarray(0, length));
   return out.length === length ? out : (out.subarray(0, length) as T);
 }

@@ -135,7 +135,20 @@ function localTerms(model: Model, local: LocalSpace): LocalTerms {
   for (let s = 0; s < d; s++) if (localDiagonal[s] !== 0) hasDiagonal = true;
   if (model.isingPairs.count > 0) for (let s = 0; s < d; s++) if (moment[s] !== 0) hasDiagonal = true;
 
-  return { local, localStart, localCol, localRe, localIm, localDiagonal, moment, raiseTo, raiseAmp, lowerTo, lowerAmp, hasDiagonal };
+  return {
+    local,
+    localStart,
+    localCol,
+    localRe,
+    localIm,
+    localDiagonal,
+    moment,
+    raiseTo,
+    raiseAmp,
+    lowerTo,
+    lowerAmp,
+    hasDiagonal,
+  };
 }
 
 function localSpaceOf(model: Model): LocalSpace {
@@ -144,7 +157,13 @@ function localSpaceOf(model: Model): LocalSpace {
 }
 
 /** sum over local states s, t with particle counts p, q (weights wS[p], wT[q]) of ways(L-2 sites hold Np-p-q). */
-function pairCompletions(wS: Float64Array, wT: Float64Array, ways: Float64Array, sites: number, particles: number): number {
+function pairCompletions(
+  wS: Float64Array,
+  wT: Float64Array,
+  ways: Float64Array,
+  sites: number,
+  particles: number,
+): number {
   const P1 = particles + 1;
   let total = 0;
   for (let p = 0; p < wS.length && p <= particles; p++) {
@@ -240,7 +259,10 @@ export function planFockOperator(model: Model, dim: number): FockPlan {
 }
 
 /** Arrays the product threads can share (src/operator/threaded.ts) without copying the matrix. */
-function shared<T extends Float64Array | Int32Array>(length: number, kind: { new (buffer: SharedArrayBuffer): T; BYTES_PER_ELEMENT: number }): T {
+function shared<T extends Float64Array | Int32Array>(
+  length: number,
+  kind: { new (buffer: SharedArrayBuffer): T; BYTES_PER_ELEMENT: number },
+): T {
   const out = new kind(new SharedArrayBuffer(Math.max(1, length) * kind.BYTES_PER_ELEMENT));
   return out.length === length ? out : (out.subarray(0, length) as T);
 }
@@ -257,7 +279,9 @@ export function buildFockOperator(model: Model, basis: FockBasis, arena?: Vector
   const offDiagonal = offDiagonalCount(model, terms);
   const stored = offDiagonal + (terms.hasDiagonal ? basis.dim : 0);
   if (stored > MAX_STORED) {
-    throw new ResourceError(`the Hamiltonian would store ${stored} matrix elements, more than the ${MAX_STORED} supported`);
+    throw new ResourceError(
+      `the Hamiltonian would store ${stored} matrix elements, more than the ${MAX_STORED} supported`,
+    );
   }
   const inArena = arena
     ? {
@@ -267,7 +291,8 @@ export function buildFockOperator(model: Model, basis: FockBasis, arena?: Vector
         valuesIm: model.isComplex ? arena.float64Array(stored) : null,
       }
     : null;
-  const placed = inArena && inArena.rowStart && inArena.columns && inArena.valuesRe && (inArena.valuesIm || !model.isComplex);
+  const placed =
+    inArena && inArena.rowStart && inArena.columns && inArena.valuesRe && (inArena.valuesIm || !model.isComplex);
   const out: FockArrays = placed
     ? {
         rowStart: inArena.rowStart as Float64Array,
@@ -432,7 +457,8 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
         if (ti >= 0 && tj >= 0) {
           // Fermions: (-1)^(P_j) from a_{j,n}, then (-1)^(P_i) from a+_{i,n} (site i precedes j).
           const sign = fermion && (Pi + Pj) % 2 === 1 ? -1 : 1;
-          const col = rest + R[(i * P1 + Pi) * d + ti] + R[(j * P1 + Pj + 1) * d + tj] + (upChange[j] - upChange[i + 1]);
+          const col =
+            rest + R[(i * P1 + Pi) * d + ti] + R[(j * P1 + Pj + 1) * d + tj] + (upChange[j] - upChange[i + 1]);
           columns[k] = col;
           valuesRe[k++] = -t * sign * createAmp[n * d + si] * annihilateAmp[n * d + sj];
         }
@@ -441,7 +467,8 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
         tj = createTo[n * d + sj];
         if (ti >= 0 && tj >= 0) {
           const sign = fermion && (Pi + Pj - 1) % 2 !== 0 ? -1 : 1;
-          const col = rest + R[(i * P1 + Pi) * d + ti] + R[(j * P1 + Pj - 1) * d + tj] + (downChange[j] - downChange[i + 1]);
+          const col =
+            rest + R[(i * P1 + Pi) * d + ti] + R[(j * P1 + Pj - 1) * d + tj] + (downChange[j] - downChange[i + 1]);
           columns[k] = col;
           valuesRe[k++] = -t * sign * annihilateAmp[n * d + si] * createAmp[n * d + sj];
         }

@@ -174,7 +174,13 @@ export class PinnedOperator implements HermitianOperator {
       const re = arena.copyOf(this.blockRe);
       const im = arena.copyOf(this.blockIm);
       if (diag && rowStart && column && re && im) {
-        placement = { diag: diag.byteOffset, rowStart: rowStart.byteOffset, column: column.byteOffset, re: re.byteOffset, im: im.byteOffset };
+        placement = {
+          diag: diag.byteOffset,
+          rowStart: rowStart.byteOffset,
+          column: column.byteOffset,
+          re: re.byteOffset,
+          im: im.byteOffset,
+        };
       }
     }
     this.placements.set(arena, { placement, epoch: arena.epoch });
@@ -210,24 +216,25 @@ export class PinnedOperator implements HermitianOperator {
     const col = this.blockColumn;
     const val = this.blockRe;
     if (wasm && placed) wasm.blockPassReal(yAt, xAt, placed.diag, placed.rowStart, placed.column, placed.re, B, lo, hi);
-    else for (let base = lo - (lo % B); base < hi; base += B) {
-      const r0 = base < lo ? lo - base : 0;
-      const r1 = base + B > hi ? hi - base : B;
-      // Two sums take the terms in turn, the first starting from the diagonal term, as the
-      // WebAssembly pass adds them (same bits).
-      for (let r = r0; r < r1; r++) {
-        const s = base + r;
-        let acc0 = diag[s] * x[s];
-        let acc1 = 0;
-        const end = rs[r + 1];
-        for (let k = rs[r]; k < end; k++) {
-          const next = acc0 + val[k] * x[base + col[k]];
-          acc0 = acc1;
-          acc1 = next;
+    else
+      for (let base = lo - (lo % B); base < hi; base += B) {
+        const r0 = base < lo ? lo - base : 0;
+        const r1 = base + B > hi ? hi - base : B;
+        // Two sums take the terms in turn, the first starting from the diagonal term, as the
+        // WebAssembly pass adds them (same bits).
+        for (let r = r0; r < r1; r++) {
+          const s = base + r;
+          let acc0 = diag[s] * x[s];
+          let acc1 = 0;
+          const end = rs[r + 1];
+          for (let k = rs[r]; k < end; k++) {
+            const next = acc0 + val[k] * x[base + col[k]];
+            acc0 = acc1;
+            acc1 = next;
+          }
+          y[s] = acc0 + acc1;
         }
-        y[s] = acc0 + acc1;
       }
-    }
     const nLocal = this.localTo.length;
     for (let site = this.blockSites; site < this.strides.length; site++) {
       const S = this.strides[site];
@@ -294,15 +301,16 @@ export class PinnedOperator implements HermitianOperator {
     const vi = this.blockIm;
     if (wasm && placed) {
       wasm.blockPassComplex(yAt, xAt, placed.diag, placed.rowStart, placed.column, placed.re, placed.im, B, lo, hi);
-    } else for (let base = lo - (lo % B); base < hi; base += B) {
-      const r0 = base < lo ? lo - base : 0;
-      const r1 = base + B > hi ? hi - base : B;
-      for (let r = r0; r < r1; r++) {
-        const s = base + r;
-        const d = diag[s];
-        complexRowInto(y, s, x, base, col, vr, vi, rs[r], rs[r + 1], d * x[2 * s], d * x[2 * s + 1]);
+    } else
+      for (let base = lo - (lo % B); base < hi; base += B) {
+        const r0 = base < lo ? lo - base : 0;
+        const r1 = base + B > hi ? hi - base : B;
+        for (let r = r0; r < r1; r++) {
+          const s = base + r;
+          const d = diag[s];
+          complexRowInto(y, s, x, base, col, vr, vi, rs[r], rs[r + 1], d * x[2 * s], d * x[2 * s + 1]);
+        }
       }
-    }
     const nLocal = this.localTo.length;
     for (let site = this.blockSites; site < this.strides.length; site++) {
       const S = this.strides[site];
@@ -389,7 +397,16 @@ function blockMatrix(model: Model, basis: PinnedBasis, sites: number, size: numb
 }
 
 /** Writes the block's rows (row starts and entries); returns the number of entries. */
-function blockEntries(model: Model, basis: PinnedBasis, sites: number, size: number, rowStart: Int32Array, column: Int32Array, re: Float64Array, im: Float64Array): number {
+function blockEntries(
+  model: Model,
+  basis: PinnedBasis,
+  sites: number,
+  size: number,
+  rowStart: Int32Array,
+  column: Int32Array,
+  re: Float64Array,
+  im: Float64Array,
+): number {
   const N = model.levels;
   const digits = new Int32Array(sites);
   const w = model.exchangeWeights;

@@ -15,7 +15,12 @@ export interface ColumnBuffer {
 export function columnBuffer(model: Model): ColumnBuffer {
   const N = model.levels;
   const capacity = 1 + model.sites * (N - 1) * 2 + 2 * model.exchangePairs.count + 4;
-  return { count: 0, targets: new Float64Array(capacity), re: new Float64Array(capacity), im: new Float64Array(capacity) };
+  return {
+    count: 0,
+    targets: new Float64Array(capacity),
+    re: new Float64Array(capacity),
+    im: new Float64Array(capacity),
+  };
 }
 
 export class PinnedColumns {
@@ -73,7 +78,8 @@ export class PinnedColumns {
     let diag = 0;
     for (let i = 0; i < L; i++) diag += model.localRe[digits[i] * (N + 1)];
     const ip = model.isingPairs;
-    for (let p = 0; p < ip.count; p++) diag += ip.value[p] * model.moments[digits[ip.i[p]]] * model.moments[digits[ip.j[p]]];
+    for (let p = 0; p < ip.count; p++)
+      diag += ip.value[p] * model.moments[digits[ip.i[p]]] * model.moments[digits[ip.j[p]]];
     out.targets[0] = s;
     out.re[0] = diag;
     out.im[0] = 0;

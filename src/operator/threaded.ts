@@ -39,7 +39,15 @@ export function payloadOf(op: HermitianOperator, model?: Model, basis?: PinnedBa
     return { kind: 'pinned', model, basis, diagonal: op.diagonal };
   }
   if (op instanceof CsrOperator && op.columns.buffer instanceof SharedArrayBuffer) {
-    return { kind: 'csr', dim: op.dim, isComplex: op.isComplex, rowStart: op.rowStart, columns: op.columns, valuesRe: op.valuesRe, valuesIm: op.valuesIm };
+    return {
+      kind: 'csr',
+      dim: op.dim,
+      isComplex: op.isComplex,
+      rowStart: op.rowStart,
+      columns: op.columns,
+      valuesRe: op.valuesRe,
+      valuesIm: op.valuesIm,
+    };
   }
   return null;
 }
@@ -68,7 +76,8 @@ const CHUNKS_PER_THREAD = 16;
 /** Takes chunks of rows from the shared counter and runs `rows` on each, until none is left. */
 function takeChunks(control: Int32Array, chunks: Int32Array, rows: (lo: number, hi: number) => void): void {
   const count = chunks.length - 1;
-  for (let c = Atomics.add(control, NEXT_CHUNK, 1); c < count; c = Atomics.add(control, NEXT_CHUNK, 1)) rows(chunks[c], chunks[c + 1]);
+  for (let c = Atomics.add(control, NEXT_CHUNK, 1); c < count; c = Atomics.add(control, NEXT_CHUNK, 1))
+    rows(chunks[c], chunks[c + 1]);
 }
 
 /** Cores this process may use. */
@@ -225,7 +234,9 @@ export class ThreadedOperator implements HermitianOperator {
             nonzeros: local.columns.length,
           }
         : null;
-    const shared: SharedArena | null = arena ? { memory: arena.memory, used: arena.used, length, placement, csr } : null;
+    const shared: SharedArena | null = arena
+      ? { memory: arena.memory, used: arena.used, length, placement, csr }
+      : null;
     const bounds = splitRows(local, Math.min(local.dim, CHUNKS_PER_THREAD * threads));
     this.chunks = new Int32Array(new SharedArrayBuffer(4 * bounds.length));
     this.chunks.set(bounds);
@@ -247,7 +258,9 @@ export class ThreadedOperator implements HermitianOperator {
     this.offsets[X_AT] = xs.byteOffset;
     this.offsets[Y_AT] = ys.byteOffset;
     Atomics.store(this.team.control, NEXT_CHUNK, 0);
-    this.team.run(RUN, () => takeChunks(this.team.control, this.chunks, (lo, hi) => this.local.applyRange(xs, ys, lo, hi)));
+    this.team.run(RUN, () =>
+      takeChunks(this.team.control, this.chunks, (lo, hi) => this.local.applyRange(xs, ys, lo, hi)),
+    );
     if (!inPlace) y.set(ys);
   }
 
@@ -319,7 +332,13 @@ export function runProductWorker(data: { control: Int32Array; port: MessagePort 
 }
 
 /** The operator itself, or a threaded wrapper when more than one thread is asked and possible. */
-export function withThreads(op: HermitianOperator, threads: number, model?: Model, basis?: PinnedBasis, kept: ProductTeam | null = null): HermitianOperator & { close(): void } {
+export function withThreads(
+  op: HermitianOperator,
+  threads: number,
+  model?: Model,
+  basis?: PinnedBasis,
+  kept: ProductTeam | null = null,
+): HermitianOperator & { close(): void } {
   const payload = threads > 1 ? payloadOf(op, model, basis) : null;
   if (!payload || !('applyRange' in op)) return Object.assign(op, { close() {} });
   return new ThreadedOperator(op as RangeOperator, payload, threads, kept);

@@ -47,7 +47,9 @@ export function axisLabels(values: ScanValue[]): string[] {
     const close = written.every((w, k) => Math.abs(w - numbers[k]) <= LABEL_RELATIVE_ERROR * Math.abs(numbers[k]));
     if (close && new Set(written).size === numbers.length) break;
   }
-  return values.map((v) => (typeof v === 'number' && Number.isFinite(v) ? String(Number(v.toPrecision(digits))) : label(v)));
+  return values.map((v) =>
+    typeof v === 'number' && Number.isFinite(v) ? String(Number(v.toPrecision(digits))) : label(v),
+  );
 }
 
 export function columnName(quantity: string, valueLabel: string): string {
@@ -63,7 +65,8 @@ export function sideBySide(summary: ScanRunSummary, by: string): SideBySide {
     const scanned = axes.map((a) => a.key).join(', ');
     throw new InputError(`--by ${by}: the scan has no axis ${key} (its axes: ${scanned})`);
   }
-  if (summary.section.zip) throw new InputError(`--by ${by}: a zipped scan has no rows that share the other axes; use a grid scan`);
+  if (summary.section.zip)
+    throw new InputError(`--by ${by}: a zipped scan has no rows that share the other axes; use a grid scan`);
   const keys = axes.filter((a) => a.key !== key).map((a) => a.key);
 
   const scalars = new Set<string>();
@@ -74,7 +77,8 @@ export function sideBySide(summary: ScanRunSummary, by: string): SideBySide {
   const quantities = ['E0', 'gap', ...scalars];
   const labels = axisLabels(axis.values);
   const labelOf = new Map(axis.values.map((v, k) => [JSON.stringify(v), labels[k]]));
-  const column = (quantity: string, value: ScanValue) => columnName(quantity, labelOf.get(JSON.stringify(value)) ?? label(value));
+  const column = (quantity: string, value: ScanValue) =>
+    columnName(quantity, labelOf.get(JSON.stringify(value)) ?? label(value));
 
   const rows: SideBySide['rows'] = [];
   const rowOf = new Map<string, SideBySide['rows'][number]>();
@@ -114,17 +118,21 @@ export function sideBySideJson(view: SideBySide): Record<string, unknown>[] {
 export function sideBySideCsv(view: SideBySide): string {
   const cols = columns(view);
   const lines = [[...view.keys, ...cols].map(csvCell).join(',')];
-  for (const r of view.rows) lines.push([...view.keys.map((k) => r.params[k]), ...cols.map((c) => r.cells[c])].map(csvCell).join(','));
+  for (const r of view.rows)
+    lines.push([...view.keys.map((k) => r.params[k]), ...cols.map((c) => r.cells[c])].map(csvCell).join(','));
   return lines.join('\n') + '\n';
 }
 
 export function sideBySideText(view: SideBySide): string {
   const cols = columns(view);
-  const show = (v: ScanValue | undefined): string => (v === undefined ? '' : typeof v === 'number' ? fmt(v, 8) : label(v));
+  const show = (v: ScanValue | undefined): string =>
+    v === undefined ? '' : typeof v === 'number' ? fmt(v, 8) : label(v);
   // Rounding noise is measured per quantity: against the energies for E0 and gap, else against 1 or the quantity's size.
   const cellsOf = (q: string) => view.rows.flatMap((r) => view.labels.map((l) => r.cells[columnName(q, l)]));
   const energyScale = columnScale(cellsOf('E0'));
-  const scaleOf = new Map(view.quantities.map((q) => [q, q === 'E0' || q === 'gap' ? energyScale : columnScale(cellsOf(q), 1)]));
+  const scaleOf = new Map(
+    view.quantities.map((q) => [q, q === 'E0' || q === 'gap' ? energyScale : columnScale(cellsOf(q), 1)]),
+  );
   const quantityOf = new Map(view.quantities.flatMap((q) => view.labels.map((l) => [columnName(q, l), q] as const)));
   return table(
     [...view.keys, ...cols],

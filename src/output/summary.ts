@@ -41,7 +41,7 @@ export function summaryJson(summary: ScanRunSummary): Record<string, unknown>[] 
     out.gap = result ? result.gap : null;
     out.gap_above_ground = result ? (result.gap_above_ground ?? null) : null;
     out.observables = result ? result.observables : null;
-    for (const name of scalars) out[name] = result ? ((result.observables[name] as number | undefined) ?? null) : null;
+    for (const name of scalars) out[name] = result ? (result.observables[name] ?? null) : null;
     out.dimension = result ? result.basis.dimension : null;
     out.converged = result ? result.solver.converged : null;
     out.degeneracy = result ? result.solver.degeneracy : null;
@@ -64,7 +64,23 @@ export function summaryCsv(summary: ScanRunSummary): string {
   const keys = paramKeys(summary);
   const scalars = scalarObservables(rows);
   const states = Math.max(0, ...rows.map((r) => r.record!.result?.energies.length ?? 0));
-  const header = ['index', ...keys, 'status', ...Array.from({ length: states }, (_, k) => `E${k}`), 'gap', ...scalars, 'dimension', 'converged', 'degeneracy', 'degeneracy_complete', 'iterations', 'warm_start', 'overlap_previous', 'seconds', 'error'];
+  const header = [
+    'index',
+    ...keys,
+    'status',
+    ...Array.from({ length: states }, (_, k) => `E${k}`),
+    'gap',
+    ...scalars,
+    'dimension',
+    'converged',
+    'degeneracy',
+    'degeneracy_complete',
+    'iterations',
+    'warm_start',
+    'overlap_previous',
+    'seconds',
+    'error',
+  ];
   const body = rows.map((row) => {
     const r = row.record!;
     const res = r.result;
@@ -109,13 +125,24 @@ export function longRows(summary: ScanRunSummary): LongRow[] {
     const obs = row.record?.result?.observables;
     if (!obs) continue;
     const base = { index: row.index, params: row.params };
-    obs.populations.forEach((p, i) => p.forEach((value, n) => out.push({ ...base, observable: 'populations', site: i, level: n, other_site: null, value })));
-    obs.level_mean.forEach((value, i) => out.push({ ...base, observable: 'level_mean', site: i, level: null, other_site: null, value }));
-    obs.spread.forEach((value, i) => out.push({ ...base, observable: 'spread', site: i, level: null, other_site: null, value }));
+    obs.populations.forEach((p, i) =>
+      p.forEach((value, n) =>
+        out.push({ ...base, observable: 'populations', site: i, level: n, other_site: null, value }),
+      ),
+    );
+    obs.level_mean.forEach((value, i) =>
+      out.push({ ...base, observable: 'level_mean', site: i, level: null, other_site: null, value }),
+    );
+    obs.spread.forEach((value, i) =>
+      out.push({ ...base, observable: 'spread', site: i, level: null, other_site: null, value }),
+    );
     // Per-site observables of itinerant kinds (src/observables/itinerant.ts), when present.
     for (const name of ['density', 'double_occupancy']) {
       const values = obs[name];
-      if (Array.isArray(values)) values.forEach((value: number, i: number) => out.push({ ...base, observable: name, site: i, level: null, other_site: null, value }));
+      if (Array.isArray(values))
+        values.forEach((value: number, i: number) =>
+          out.push({ ...base, observable: name, site: i, level: null, other_site: null, value }),
+        );
     }
     obs.pair_separation.forEach((p, i) =>
       p.forEach((value, j) => {
@@ -127,14 +154,30 @@ export function longRows(summary: ScanRunSummary): LongRow[] {
 }
 
 export function longJson(summary: ScanRunSummary): Record<string, unknown>[] {
-  return longRows(summary).map((r) => ({ index: r.index, ...r.params, observable: r.observable, site: r.site, level: r.level, other_site: r.other_site, value: r.value }));
+  return longRows(summary).map((r) => ({
+    index: r.index,
+    ...r.params,
+    observable: r.observable,
+    site: r.site,
+    level: r.level,
+    other_site: r.other_site,
+    value: r.value,
+  }));
 }
 
 export function longCsv(summary: ScanRunSummary): string {
   const keys = paramKeys(summary);
   return csv(
     ['index', ...keys, 'observable', 'site', 'level', 'other_site', 'value'],
-    longRows(summary).map((r) => [r.index, ...keys.map((k) => r.params[k]), r.observable, r.site, r.level, r.other_site, r.value]),
+    longRows(summary).map((r) => [
+      r.index,
+      ...keys.map((k) => r.params[k]),
+      r.observable,
+      r.site,
+      r.level,
+      r.other_site,
+      r.value,
+    ]),
   );
 }
 
@@ -146,7 +189,15 @@ export function longText(summary: ScanRunSummary): string {
   for (const r of rows) scales.set(r.observable, Math.max(scales.get(r.observable) ?? 1, Math.abs(r.value)));
   return table(
     ['point', ...keys, 'observable', 'site', 'level', 'other site', 'value'],
-    rows.map((r) => [String(r.index), ...keys.map((k) => showValue(r.params[k])), r.observable, String(r.site), r.level === null ? '' : String(r.level), r.other_site === null ? '' : String(r.other_site), fmtNoise(r.value, scales.get(r.observable)!, 8)]),
+    rows.map((r) => [
+      String(r.index),
+      ...keys.map((k) => showValue(r.params[k])),
+      r.observable,
+      String(r.site),
+      r.level === null ? '' : String(r.level),
+      r.other_site === null ? '' : String(r.other_site),
+      fmtNoise(r.value, scales.get(r.observable)!, 8),
+    ]),
   );
 }
 
@@ -162,14 +213,19 @@ export function summaryText(summary: ScanRunSummary): string {
   const keys = paramKeys(summary);
   // Energies and gaps are rounding noise below the energies' scale; widths below 1 or their own.
   const energyScale = columnScale(summary.rows.map((row) => row.record?.result?.energies[0]));
-  const widthScale = columnScale(summary.rows.map((row) => row.record?.result?.observables.string_width), 1);
+  const widthScale = columnScale(
+    summary.rows.map((row) => row.record?.result?.observables.string_width),
+    1,
+  );
   const rows = summary.rows.map((row) => {
     const r = row.record;
     const res = r?.result;
     return [
       String(row.index),
       ...keys.map((k) => showValue(row.params[k])),
-      row.status + (res && !res.solver.converged ? ' (not converged)' : '') + (res && res.solver.degeneracy_complete === false ? ' (incomplete level)' : ''),
+      row.status +
+        (res && !res.solver.converged ? ' (not converged)' : '') +
+        (res && res.solver.degeneracy_complete === false ? ' (incomplete level)' : ''),
       res ? fmtNoise(res.energies[0], energyScale, 10) : '',
       res ? fmtNoise(res.gap, energyScale, 6) : '',
       res ? fmtNoise(res.observables.string_width, widthScale, 6) : '',
@@ -181,10 +237,19 @@ export function summaryText(summary: ScanRunSummary): string {
   const out = [table(['point', ...keys, 'status', 'E0', 'gap', 'string width', 'dim', 'products', 'seconds'], rows)];
   const c = summary.counts;
   out.push('');
-  out.push(`${c.done} done, ${c.failed} failed, ${c.pending} pending of ${c.total}` + (summary.rows.some((r) => r.record?.warm_start) ? '   (w: Lanczos started from the previous point\'s ground state)' : ''));
-  const incomplete = summary.rows.filter((r) => r.record?.result?.solver.degeneracy_complete === false).map((r) => r.index);
+  out.push(
+    `${c.done} done, ${c.failed} failed, ${c.pending} pending of ${c.total}` +
+      (summary.rows.some((r) => r.record?.warm_start)
+        ? "   (w: Lanczos started from the previous point's ground state)"
+        : ''),
+  );
+  const incomplete = summary.rows
+    .filter((r) => r.record?.result?.solver.degeneracy_complete === false)
+    .map((r) => r.index);
   if (incomplete.length > 0) {
-    out.push(`WARNING: ${incomplete.length} point(s) (${incomplete.slice(0, 10).join(', ')}${incomplete.length > 10 ? ', ...' : ''}) found not every copy of their ground level: their observables average only the copies found`);
+    out.push(
+      `WARNING: ${incomplete.length} point(s) (${incomplete.slice(0, 10).join(', ')}${incomplete.length > 10 ? ', ...' : ''}) found not every copy of their ground level: their observables average only the copies found`,
+    );
   }
   const failures = summary.rows.filter((r) => r.status === 'failed');
   for (const f of failures.slice(0, 20)) out.push(`point ${f.index} failed: ${f.record!.error}`);
@@ -205,7 +270,9 @@ function writerState(dir: string): { lock: LockInfo | null; running: boolean } {
 export function statusText(summary: ScanRunSummary, program = 'rungchain'): string {
   const { manifest, counts } = summary;
   const { lock, running } = writerState(summary.dir);
-  const axes = summary.section.axes.map((a) => `${a.key} (${a.values.length})`).join(summary.section.zip ? ' with ' : ' x ');
+  const axes = summary.section.axes
+    .map((a) => `${a.key} (${a.values.length})`)
+    .join(summary.section.zip ? ' with ' : ' x ');
   const lines = [
     `run folder   ${summary.dir}`,
     `scan         ${counts.total} points, ${summary.section.zip ? 'zipped' : 'grid'}: ${axes}`,
@@ -214,15 +281,22 @@ export function statusText(summary: ScanRunSummary, program = 'rungchain'): stri
     `failed       ${counts.failed}${counts.failed > 0 ? '   (rerun with --retry-failed)' : ''}`,
     `pending      ${counts.pending}`,
     `records      ${summary.records} in ${formatBytes(summary.fileBytes)}` +
-      (summary.tornBytes > 0 ? `, then ${summary.tornBytes} bytes of an unfinished record${running ? ' (being written)' : ' (dropped on resume)'}` : ', intact'),
+      (summary.tornBytes > 0
+        ? `, then ${summary.tornBytes} bytes of an unfinished record${running ? ' (being written)' : ' (dropped on resume)'}`
+        : ', intact'),
     `writer       ${running && lock ? `running: pid ${lock.pid} on ${lock.hostname} since ${lock.started}` : lock ? `none (stale lock of pid ${lock.pid} on ${lock.hostname}; taken over on resume)` : 'none'}`,
   ];
-  if (lock && lock.hostname !== os.hostname()) lines.push(`             (the lock is from another machine; it cannot be checked from here)`);
+  if (lock && lock.hostname !== os.hostname())
+    lines.push(`             (the lock is from another machine; it cannot be checked from here)`);
   if (!running && counts.pending + counts.failed > 0 && typeof manifest.spec_path === 'string') {
-    const overrides = Array.isArray(manifest.overrides) ? (manifest.overrides as string[]).flatMap((o) => ['--set', o]) : [];
+    const overrides = Array.isArray(manifest.overrides)
+      ? (manifest.overrides as string[]).flatMap((o) => ['--set', o])
+      : [];
     const shard = manifest.shard as { index: number; count: number } | undefined;
     const shardArgs = shard ? ['--shard', `${shard.index}/${shard.count}`] : [];
-    lines.push(`resume with  ${shellCommand(program, ['scan', manifest.spec_path, ...overrides, ...shardArgs, '--out', summary.dir])}`);
+    lines.push(
+      `resume with  ${shellCommand(program, ['scan', manifest.spec_path, ...overrides, ...shardArgs, '--out', summary.dir])}`,
+    );
   }
   return lines.join('\n');
 }

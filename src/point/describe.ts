@@ -16,9 +16,14 @@ export function describePlan(plan: PointPlan, limit: number): string {
   if (plan.symmetries.length > 0) {
     const used = plan.symmetries.filter((c) => plan.used?.[c.name]).map((c) => c.name);
     const howMany = plan.sectorThreads > 1 ? `, ${plan.sectorThreads} at a time` : '';
-    lines.splice(3, 0, `symmetries       ${used.length > 0 ? used.join(', ') + ` (checked on the operator; solved sector by sector${howMany})` : 'none found'}`);
+    lines.splice(
+      3,
+      0,
+      `symmetries       ${used.length > 0 ? used.join(', ') + ` (checked on the operator; solved sector by sector${howMany})` : 'none found'}`,
+    );
   }
-  for (const [part, bytes] of Object.entries(plan.memory.parts)) lines.push(`  ${part.padEnd(14)} ${formatBytes(bytes)}`);
+  for (const [part, bytes] of Object.entries(plan.memory.parts))
+    lines.push(`  ${part.padEnd(14)} ${formatBytes(bytes)}`);
   return lines.join('\n');
 }
 
@@ -43,27 +48,44 @@ export function describeRecord(r: PointRecord): string {
   const quantum = (k: number) => {
     const l = labels?.[k];
     if (!l) return [];
-    return [l.momentum === null ? NOT_APPLICABLE : `${l.momentum}`, sign(l.parity), sign(l.level_flip), l.charge === null ? NOT_APPLICABLE : String(l.charge)];
+    return [
+      l.momentum === null ? NOT_APPLICABLE : `${l.momentum}`,
+      sign(l.parity),
+      sign(l.level_flip),
+      l.charge === null ? NOT_APPLICABLE : String(l.charge),
+    ];
   };
   // Differences of energies are rounding noise below the energies' own scale.
   const energyScale = columnScale(r.energies);
   out.push(
     table(
       ['state', 'energy', 'E - E0', 'residual', ...(labels ? ['k (2pi/L)', 'parity', 'flip', 'charge'] : [])],
-      r.energies.map((e, k) => [String(k), fmtNoise(e, energyScale, 12), fmtNoise(e - r.energies[0], energyScale, 8), fmtSmall(r.solver.residuals[k], 1), ...quantum(k)]),
+      r.energies.map((e, k) => [
+        String(k),
+        fmtNoise(e, energyScale, 12),
+        fmtNoise(e - r.energies[0], energyScale, 8),
+        fmtSmall(r.solver.residuals[k], 1),
+        ...quantum(k),
+      ]),
     ),
   );
   if (labels?.some((l) => l.momentum === null || l.parity === null || l.level_flip === null || l.charge === null)) {
     out.push(`(${NOT_APPLICABLE}: the model has no such symmetry)`);
   }
   out.push('');
-  out.push(`gap ${fmtNoise(r.gap, energyScale)}   ground-state degeneracy ${r.solver.degeneracy}   string width ${fmtNoise(r.observables.string_width, 1, 8)}`);
+  out.push(
+    `gap ${fmtNoise(r.gap, energyScale)}   ground-state degeneracy ${r.solver.degeneracy}   string width ${fmtNoise(r.observables.string_width, 1, 8)}`,
+  );
   if (r.solver.degeneracy_complete === false) {
-    out.push(`WARNING: not every copy of the ground level was found (${r.solver.degeneracy} found, cap or budget reached); the observables below average only those`);
+    out.push(
+      `WARNING: not every copy of the ground level was found (${r.solver.degeneracy} found, cap or budget reached); the observables below average only those`,
+    );
   }
   const cuts = r.observables.entanglement as { cut: number; von_neumann: number; renyi_2: number }[] | undefined;
   for (const c of cuts ?? []) {
-    out.push(`entanglement of sites 0..${c.cut - 1} with the rest: von Neumann ${fmt(c.von_neumann, 8)}, Renyi-2 ${fmt(c.renyi_2, 8)}`);
+    out.push(
+      `entanglement of sites 0..${c.cut - 1} with the rest: von Neumann ${fmt(c.von_neumann, 8)}, Renyi-2 ${fmt(c.renyi_2, 8)}`,
+    );
   }
   out.push('');
   const N = r.basis.levels;
@@ -96,9 +118,13 @@ export function describeRecord(r: PointRecord): string {
   out.push(table(header, rows));
   if (itinerant) {
     out.push('');
-    out.push(`condensate fraction ${fmt(o.condensate_fraction, 8)}   (largest eigenvalue of the one-body density matrix / particle number)`);
+    out.push(
+      `condensate fraction ${fmt(o.condensate_fraction, 8)}   (largest eigenvalue of the one-body density matrix / particle number)`,
+    );
     if (o.momentum_distribution) {
-      out.push(`momentum distribution n(k), k = 2 pi m / L, m = 0..${o.momentum_distribution.length - 1}: ${o.momentum_distribution.map((x) => fmt(x, 6)).join('  ')}`);
+      out.push(
+        `momentum distribution n(k), k = 2 pi m / L, m = 0..${o.momentum_distribution.length - 1}: ${o.momentum_distribution.map((x) => fmt(x, 6)).join('  ')}`,
+      );
     }
   }
   return out.join('\n');

@@ -36,7 +36,10 @@ export function defaultMemoryLimit(): number {
  */
 export function parseMemorySize(text: string, what = '--max-memory'): number {
   const m = /^\s*([0-9]*\.?[0-9]+)\s*(?:([kKmMgGtT])(i?)([bB]?)|([bB]?))\s*$/.exec(text);
-  if (!m) throw new ResourceError(`${what}: cannot read "${text}" as a memory size (e.g. 8GB = 8e9 bytes, 8GiB = 8 * 2^30 bytes)`);
+  if (!m)
+    throw new ResourceError(
+      `${what}: cannot read "${text}" as a memory size (e.g. 8GB = 8e9 bytes, 8GiB = 8 * 2^30 bytes)`,
+    );
   const power = m[2] ? 'kmgt'.indexOf(m[2].toLowerCase()) + 1 : 0;
   const si = m[2] !== undefined && m[3] === '' && m[4] !== '';
   return Math.floor(parseFloat(m[1]) * (si ? 1000 : 1024) ** power);
@@ -101,7 +104,8 @@ export function pinnedColumnsPerState(model: Model): number {
   const N = model.levels;
   let offDiagonal = 0;
   for (let a = 0; a < N; a++)
-    for (let b = 0; b < N; b++) if (a !== b && (model.localRe[a * N + b] !== 0 || model.localIm[a * N + b] !== 0)) offDiagonal++;
+    for (let b = 0; b < N; b++)
+      if (a !== b && (model.localRe[a * N + b] !== 0 || model.localIm[a * N + b] !== 0)) offDiagonal++;
   let links = 0;
   for (const c of model.exchangeWeights) if (c !== 0) links++;
   // a site in level b tunnels along the nonzero entries of column b: offDiagonal/N on average;
@@ -113,7 +117,7 @@ export function pinnedColumnsPerState(model: Model): number {
 export function largestChargeFraction(sites: number, levels: number): number {
   let poly = [1];
   for (let i = 0; i < sites; i++) {
-    const next = new Array(poly.length + levels - 1).fill(0);
+    const next = new Array<number>(poly.length + levels - 1).fill(0);
     for (let q = 0; q < poly.length; q++) for (let n = 0; n < levels; n++) next[q + n] += poly[q] / levels;
     poly = next;
   }
@@ -124,7 +128,11 @@ export function largestChargeFraction(sites: number, levels: number): number {
  * Size of the largest sector (with a margin), whether its arithmetic is complex (momentum sectors
  * are), its vectors' length in doubles, and its stored matrix's nonzeros, before building anything.
  */
-export function largestSector(dim: number, model: Model, used: Record<SymmetryName, boolean>): { sectorDim: number; complex: boolean; entries: number; nnz: number } {
+export function largestSector(
+  dim: number,
+  model: Model,
+  used: Record<SymmetryName, boolean>,
+): { sectorDim: number; complex: boolean; entries: number; nnz: number } {
   const translations = used.translation ? model.sites : 1;
   const flip = used.level_flip && !used.charge ? 2 : 1;
   const fraction = used.charge ? largestChargeFraction(model.sites, model.levels) : 1;

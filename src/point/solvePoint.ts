@@ -9,8 +9,22 @@ import { basisProbabilities, pinnedObservables } from '../observables/pinned.js'
 import { itinerantObservables } from '../observables/itinerant.js';
 import { planFockOperator } from '../operator/fock.js';
 import { cutsFor, pinnedEntanglement } from '../observables/entanglement.js';
-import { assertWithinMemory, defaultMemoryLimit, estimateSectorMemory, estimateSolveMemory, largestSector, pinnedColumnsPerState, type MemoryEstimate } from './memory.js';
-import { defaultKrylovSize, denseThresholdFor, GROUND_COPIES_CAP, lowestEigenpairs, type EigenResult } from '../solver/eigensolver.js';
+import {
+  assertWithinMemory,
+  defaultMemoryLimit,
+  estimateSectorMemory,
+  estimateSolveMemory,
+  largestSector,
+  pinnedColumnsPerState,
+  type MemoryEstimate,
+} from './memory.js';
+import {
+  defaultKrylovSize,
+  denseThresholdFor,
+  GROUND_COPIES_CAP,
+  lowestEigenpairs,
+  type EigenResult,
+} from '../solver/eigensolver.js';
 import type { Spec } from '../spec/spec.js';
 import { detectSymmetries, planSectors, type SymmetryCheck, type SymmetryName } from '../symmetry/group.js';
 import { solveInSectors, type SectorSolveOptions } from '../symmetry/sectorSolve.js';
@@ -71,7 +85,10 @@ const SIDE_BY_SIDE_MIN_STATES = 1 << 19;
  * every core) and the spec allow, fewer when the sectors solved at once would not fit in
  * `limits.maxMemory`.
  */
-export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: number; groundStates?: boolean } = {}): PointPlan {
+export function planPoint(
+  spec: Spec,
+  limits: { maxMemory?: number; threads?: number; groundStates?: boolean } = {},
+): PointPlan {
   const model = buildModel(spec);
   const dimension = basisDimension(model);
   const states = Math.min(spec.solve.states, dimension);
@@ -80,11 +97,30 @@ export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: nu
   if (used) {
     const sectors = planSectors(used, model, spec.solve.sector ?? {}).length;
     const { entries, nnz } = largestSector(dimension, model, used);
-    const allowed = entries > SIDE_BY_SIDE_ENTRIES || dimension < SIDE_BY_SIDE_MIN_STATES ? 1 : Math.min(sectors, coreCount(), limits.threads ?? Infinity, spec.solve.threads === 'auto' ? Infinity : spec.solve.threads);
+    const allowed =
+      entries > SIDE_BY_SIDE_ENTRIES || dimension < SIDE_BY_SIDE_MIN_STATES
+        ? 1
+        : Math.min(
+            sectors,
+            coreCount(),
+            limits.threads ?? Infinity,
+            spec.solve.threads === 'auto' ? Infinity : spec.solve.threads,
+          );
     const limit = limits.maxMemory ?? defaultMemoryLimit();
-    const expandGround = (limits.groundStates !== false && dimension <= EXPAND_LIMIT) || (model.kind === 'pinned' && cutsFor(spec.solve.entanglement, model.sites, model.levels).length > 0);
+    const expandGround =
+      (limits.groundStates !== false && dimension <= EXPAND_LIMIT) ||
+      (model.kind === 'pinned' && cutsFor(spec.solve.entanglement, model.sites, model.levels).length > 0);
     const estimate = (concurrent: number) =>
-      estimateSectorMemory({ dim: dimension, model, used, krylovVectors: spec.solve.krylov ?? defaultKrylovSize(states, Infinity), states, concurrent, productThreads: threadsFor(nnz), expandGround });
+      estimateSectorMemory({
+        dim: dimension,
+        model,
+        used,
+        krylovVectors: spec.solve.krylov ?? defaultKrylovSize(states, Infinity),
+        states,
+        concurrent,
+        productThreads: threadsFor(nnz),
+        expandGround,
+      });
     let sectorThreads = Math.max(1, allowed);
     let memory = estimate(sectorThreads);
     while (sectorThreads > 1 && memory.totalBytes > limit) memory = estimate(--sectorThreads);
@@ -93,7 +129,10 @@ export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: nu
   // Itinerant kinds store their matrix; its size is known in closed form before building.
   const cuts = spec.solve.entanglement;
   if (model.kind !== 'pinned' && cuts !== 'auto' && cuts !== 'none') {
-    throw new SpecError('solve.entanglement', `entanglement cuts are computed for pinned chains only, not for kind = "${model.kind}"; remove the key`);
+    throw new SpecError(
+      'solve.entanglement',
+      `entanglement cuts are computed for pinned chains only, not for kind = "${model.kind}"; remove the key`,
+    );
   }
   const fock = model.kind === 'pinned' ? null : planFockOperator(model, dimension);
   const work = fock ? fock.nonzeros : dimension * pinnedColumnsPerState(model);
@@ -106,27 +145,47 @@ export function planPoint(spec: Spec, limits: { maxMemory?: number; threads?: nu
     denseThreshold: denseThresholdFor(states),
     threads: threadsFor(work),
   });
-  return { model, symmetries, used: null, dimension, storage: fock ? 'stored' : 'on-the-fly', nonzeros: fock ? fock.nonzeros : null, memory, sectorThreads: 1 };
+  return {
+    model,
+    symmetries,
+    used: null,
+    dimension,
+    storage: fock ? 'stored' : 'on-the-fly',
+    nonzeros: fock ? fock.nonzeros : null,
+    memory,
+    sectorThreads: 1,
+  };
 }
 
 /** The symmetries a pinned spec really has (checked on its operator) and those the solve will use. */
-function chooseSymmetries(spec: Spec, model: Model): { symmetries: SymmetryCheck[]; used: Record<SymmetryName, boolean> | null } {
+function chooseSymmetries(
+  spec: Spec,
+  model: Model,
+): { symmetries: SymmetryCheck[]; used: Record<SymmetryName, boolean> | null } {
   const choice = spec.solve.symmetries;
   // A selection the solve would not use must not quietly give the whole space's answer.
   const selects = Object.keys(spec.solve.sector ?? {}).length > 0;
   if (model.kind !== 'pinned') {
     const key = selects ? 'solve.sector' : Array.isArray(choice) ? 'solve.symmetries' : null;
-    if (key) throw new SpecError(key, `symmetry sectors are used for pinned chains only, not for kind = "${model.kind}"; remove the key`);
+    if (key)
+      throw new SpecError(
+        key,
+        `symmetry sectors are used for pinned chains only, not for kind = "${model.kind}"; remove the key`,
+      );
     return { symmetries: [], used: null };
   }
   if (choice === 'none') {
-    if (selects) throw new SpecError('solve.sector', 'selects sectors, but solve.symmetries is "none"; remove one of the two');
+    if (selects)
+      throw new SpecError('solve.sector', 'selects sectors, but solve.symmetries is "none"; remove one of the two');
     return { symmetries: [], used: null };
   }
   const dimension = basisDimension(model);
   if (dimension > MAX_DIMENSION) return { symmetries: [], used: null };
   const symmetries = detectSymmetries(model, buildBasis(model) as PinnedBasis);
-  const used = { translation: false, reflection: false, level_flip: false, charge: false } as Record<SymmetryName, boolean>;
+  const used = { translation: false, reflection: false, level_flip: false, charge: false } as Record<
+    SymmetryName,
+    boolean
+  >;
   for (const check of symmetries) {
     const wanted = choice === 'auto' || choice.includes(check.name);
     if (wanted && check.present) used[check.name] = true;
@@ -152,7 +211,11 @@ export interface SolvedPoint {
 
 export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint {
   const started = performance.now();
-  const plan = planPoint(spec, { maxMemory: options.maxMemory, threads: options.threads, groundStates: options.groundStates });
+  const plan = planPoint(spec, {
+    maxMemory: options.maxMemory,
+    threads: options.threads,
+    groundStates: options.groundStates,
+  });
   assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this problem');
   const basis = buildBasis(plan.model);
   if (plan.used && basis.kind === 'pinned') return solvePinnedInSectors(spec, plan, basis, options, started);
@@ -165,16 +228,21 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   let eigen: EigenResult;
   try {
     eigen = lowestEigenpairs(threaded, {
-    states,
-    ...solveSettings(spec.solve),
-    denseThreshold: denseThresholdFor(states),
-    initial: options.initial,
-    onProgress: options.onProgress,
-    throwOnFailure: false,
-    groundCopies: groundCopiesCap(states, (op.isComplex ? 16 : 8) * basis.dim, plan.memory.totalBytes, options.maxMemory),
-    threads,
-    // The threads' own arena: vectors kept there are multiplied in place, without copies.
-    arena: threaded instanceof ThreadedOperator ? threaded.arena : arena,
+      states,
+      ...solveSettings(spec.solve),
+      denseThreshold: denseThresholdFor(states),
+      initial: options.initial,
+      onProgress: options.onProgress,
+      throwOnFailure: false,
+      groundCopies: groundCopiesCap(
+        states,
+        (op.isComplex ? 16 : 8) * basis.dim,
+        plan.memory.totalBytes,
+        options.maxMemory,
+      ),
+      threads,
+      // The threads' own arena: vectors kept there are multiplied in place, without copies.
+      arena: threaded instanceof ThreadedOperator ? threaded.arena : arena,
     });
   } finally {
     threaded.close();
@@ -188,7 +256,8 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
       : itinerantObservables(basis, ground, op.isComplex, plan.model.chainPeriodic);
   // Entanglement needs the state itself, so it is computed here; solve.entanglement keeps it cheap by default.
   const cuts = basis.kind === 'pinned' ? cutsFor(spec.solve.entanglement, basis.sites, basis.levels) : [];
-  if (cuts.length > 0) observables.entanglement = pinnedEntanglement(ground, basis.sites, basis.levels, op.isComplex, cuts);
+  if (cuts.length > 0)
+    observables.entanglement = pinnedEntanglement(ground, basis.sites, basis.levels, op.isComplex, cuts);
   // `values` also holds copies of the ground level beyond `states`.
   const energies = Array.from(eigen.values).slice(0, states);
   const record = buildPointRecord({
@@ -218,7 +287,12 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
  * Most copies of the ground level to look for: GROUND_COPIES_CAP, fewer when their vectors
  * (`vectorBytes` each) would not fit in the memory left beside the estimate; never fewer than `states`.
  */
-function groundCopiesCap(states: number, vectorBytes: number, estimateBytes: number, maxMemory: number | undefined): number {
+function groundCopiesCap(
+  states: number,
+  vectorBytes: number,
+  estimateBytes: number,
+  maxMemory: number | undefined,
+): number {
   const spare = (maxMemory ?? defaultMemoryLimit()) - estimateBytes;
   return Math.max(states, Math.min(GROUND_COPIES_CAP, states + Math.floor(Math.max(0, spare) / vectorBytes)));
 }
@@ -232,7 +306,13 @@ function productThreads(spec: Spec, options: { threads?: number }, work: number)
 /** Vectors this large are not expanded to the full space for callers (warm starts, entanglement). */
 const EXPAND_LIMIT = 1 << 22;
 
-function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, options: SolveOptions, started: number): SolvedPoint {
+function solvePinnedInSectors(
+  spec: Spec,
+  plan: PointPlan,
+  basis: PinnedBasis,
+  options: SolveOptions,
+  started: number,
+): SolvedPoint {
   const model = plan.model;
   const states = Math.min(spec.solve.states, basis.dim);
   const cuts = cutsFor(spec.solve.entanglement, basis.sites, basis.levels);
@@ -246,14 +326,20 @@ function solvePinnedInSectors(spec: Spec, plan: PointPlan, basis: PinnedBasis, o
     threadsFor: (work: number) => productThreads(spec, options, work),
     sectorThreads: plan.sectorThreads,
     onProgress: options.onProgress,
-    groundCopies: groundCopiesCap(states, (model.isComplex ? 16 : 8) * basis.dim, plan.memory.totalBytes, options.maxMemory),
+    groundCopies: groundCopiesCap(
+      states,
+      (model.isComplex ? 16 : 8) * basis.dim,
+      plan.memory.totalBytes,
+      options.maxMemory,
+    ),
   });
   // Callers get ground states in the model's own arithmetic: a real H has a real ground space,
   // spanned by the real and imaginary parts of its complex sector states.
   const groundStates = model.isComplex ? solution.groundStates : realSpan(solution.groundStates, basis.dim);
   const observables = pinnedObservables(basis, solution.groundProbabilities);
   // A ground level with more copies than the cap is not expanded (see solveInSectors).
-  if (cuts.length > 0 && groundStates.length > 0) observables.entanglement = pinnedEntanglement(groundStates, basis.sites, basis.levels, model.isComplex, cuts);
+  if (cuts.length > 0 && groundStates.length > 0)
+    observables.entanglement = pinnedEntanglement(groundStates, basis.sites, basis.levels, model.isComplex, cuts);
   const energies = solution.energies;
   const L = model.sites;
   const record = buildPointRecord({

@@ -7,7 +7,10 @@ export function rungchainVersion(): string {
   // dist/src/runs/ and src/runs/ both sit below the package root.
   for (const up of ['../../..', '../..']) {
     try {
-      const pkg = JSON.parse(readFileSync(fileURLToPath(new URL(`${up}/package.json`, import.meta.url)), 'utf8'));
+      const pkg = JSON.parse(readFileSync(fileURLToPath(new URL(`${up}/package.json`, import.meta.url)), 'utf8')) as {
+        name?: unknown;
+        version?: unknown;
+      };
       if (pkg.name === 'rungchain') return String(pkg.version);
     } catch {
       /* try the next level */

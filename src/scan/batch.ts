@@ -55,7 +55,10 @@ export function planBatch(request: BatchRequest): BatchPlan {
   let heaviestPoints = 0;
   for (const points of shards) {
     // Workers solve up to cpusPerTask points at once: the largest of them together.
-    const largest = points.map((i) => sizes.plans[i].memory.totalBytes).sort((a, b) => b - a).slice(0, request.cpusPerTask);
+    const largest = points
+      .map((i) => sizes.plans[i].memory.totalBytes)
+      .sort((a, b) => b - a)
+      .slice(0, request.cpusPerTask);
     // Each estimate counts the runtime once; the workers share one process.
     const together = largest.reduce((s, b) => s + b, 0) - (largest.length - 1) * RUNTIME_BASELINE_BYTES;
     memory = Math.max(memory, together);
@@ -66,7 +69,7 @@ export function planBatch(request: BatchRequest): BatchPlan {
     }
   }
   const memoryBytes = request.memoryBytes ?? Math.ceil(memory * 1.25 + 256 * 2 ** 20);
-  const estimated = (cost / request.cpusPerTask) * SECONDS_PER_COST_UNIT * TIME_SAFETY / 60;
+  const estimated = ((cost / request.cpusPerTask) * SECONDS_PER_COST_UNIT * TIME_SAFETY) / 60;
   const minutes = request.minutes ?? Math.max(MIN_MINUTES, Math.ceil((estimated + 5) / 5) * 5);
   const runDir = request.runDir ?? defaultRunDir(request.specPath, plan.identity);
   const script = batchScript({
@@ -83,5 +86,14 @@ export function planBatch(request: BatchRequest): BatchPlan {
     rungchain: request.rungchain,
     extra: request.extra,
   });
-  return { script, runDir, shards: request.shards, cpusPerTask: request.cpusPerTask, memoryBytes, minutes, timeText: formatMinutes(minutes), heaviestPoints };
+  return {
+    script,
+    runDir,
+    shards: request.shards,
+    cpusPerTask: request.cpusPerTask,
+    memoryBytes,
+    minutes,
+    timeText: formatMinutes(minutes),
+    heaviestPoints,
+  };
 }

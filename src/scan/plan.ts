@@ -24,7 +24,17 @@ import { InputError, SpecError } from '../errors/errors.js';
 import { planPoint, type PointPlan } from '../point/solvePoint.js';
 import { formatBytes } from '../format/bytes.js';
 import { DEFAULT_DENSE_THRESHOLD } from '../solver/eigensolver.js';
-import { applyOverride, cutText, describeValue, isTable, quoteText, registerSection, unknownKeyError, validateSpec, type Spec } from '../spec/spec.js';
+import {
+  applyOverride,
+  cutText,
+  describeValue,
+  isTable,
+  quoteText,
+  registerSection,
+  unknownKeyError,
+  validateSpec,
+  type Spec,
+} from '../spec/spec.js';
 import { runIdentity } from '../runs/runFiles.js';
 import { sectorSizes, type SectorSize } from '../symmetry/sectorSizes.js';
 
@@ -87,7 +97,7 @@ function validateValue(value: unknown, path: string): ScanValue {
   }
   if (typeof value === 'string' || typeof value === 'boolean') return value;
   if (Array.isArray(value) && value.every((v) => typeof v === 'number' && Number.isFinite(v))) return value as number[];
-  if (Array.isArray(value) && value.every((v) => typeof v === 'string')) return value as string[];
+  if (Array.isArray(value) && value.every((v) => typeof v === 'string')) return value;
   throw new SpecError(path, 'expected a number, a string, a boolean, or a list of numbers or of strings');
 }
 
@@ -97,9 +107,13 @@ function validateAxis(value: unknown, path: string): ScanAxis {
     if (!AXIS_KEYS.includes(k)) throw unknownKeyError(path, k, AXIS_KEYS);
   }
   const key = value.key;
-  if (typeof key !== 'string' || key.trim() === '') throw new SpecError(`${path}.key`, 'required: the spec key path this axis sets, e.g. "exchange.strength"');
+  if (typeof key !== 'string' || key.trim() === '')
+    throw new SpecError(`${path}.key`, 'required: the spec key path this axis sets, e.g. "exchange.strength"');
   if (!/^[A-Za-z_][A-Za-z0-9_-]*(\[\d+\])*(\.[A-Za-z_][A-Za-z0-9_-]*(\[\d+\])*)+$/.test(key)) {
-    throw new SpecError(`${path}.key`, `${quoteText(key)} is not a key path of the form section.key (e.g. levels.count, levels.tunnelling[1])`);
+    throw new SpecError(
+      `${path}.key`,
+      `${quoteText(key)} is not a key path of the form section.key (e.g. levels.count, levels.tunnelling[1])`,
+    );
   }
   if (key.split('.')[0] === 'scan') throw new SpecError(`${path}.key`, 'an axis cannot scan the [scan] section itself');
 
@@ -107,33 +121,57 @@ function validateAxis(value: unknown, path: string): ScanAxis {
   if (value.values !== undefined) {
     if (hasRange) throw new SpecError(path, 'give either values or from/to/steps, not both');
     if (value.spacing !== undefined) throw new SpecError(`${path}.spacing`, 'only applies to from/to/steps');
-    if (!Array.isArray(value.values) || value.values.length === 0) throw new SpecError(`${path}.values`, 'expected a non-empty list');
+    if (!Array.isArray(value.values) || value.values.length === 0)
+      throw new SpecError(`${path}.values`, 'expected a non-empty list');
     if (value.values.length > MAX_SCAN_POINTS) {
-      throw new SpecError(`${path}.values`, `at most ${MAX_SCAN_POINTS} values on an axis (a scan has at most ${MAX_SCAN_POINTS} points), got ${value.values.length}`);
+      throw new SpecError(
+        `${path}.values`,
+        `at most ${MAX_SCAN_POINTS} values on an axis (a scan has at most ${MAX_SCAN_POINTS} points), got ${value.values.length}`,
+      );
     }
     return { key, values: value.values.map((v, i) => validateValue(v, `${path}.values[${i}]`)), spacing: 'values' };
   }
   if (!hasRange) throw new SpecError(path, 'needs values = [...] or from, to and steps');
   const number = (k: string): number => {
     const v = value[k];
-    if (typeof v !== 'number' || !Number.isFinite(v)) throw new SpecError(`${path}.${k}`, v === undefined ? 'required with from/to/steps' : `expected a finite number, got ${describeValue(v)}`);
+    if (typeof v !== 'number' || !Number.isFinite(v))
+      throw new SpecError(
+        `${path}.${k}`,
+        v === undefined ? 'required with from/to/steps' : `expected a finite number, got ${describeValue(v)}`,
+      );
     return v;
   };
   const from = number('from');
   const to = number('to');
   const steps = number('steps');
-  if (!Number.isInteger(steps) || steps < 1) throw new SpecError(`${path}.steps`, `expected a positive integer (the number of values, ends included), got ${steps}`);
-  if (steps > MAX_SCAN_POINTS) throw new SpecError(`${path}.steps`, `at most ${MAX_SCAN_POINTS} values on an axis (a scan has at most ${MAX_SCAN_POINTS} points), got ${steps}`);
+  if (!Number.isInteger(steps) || steps < 1)
+    throw new SpecError(
+      `${path}.steps`,
+      `expected a positive integer (the number of values, ends included), got ${steps}`,
+    );
+  if (steps > MAX_SCAN_POINTS)
+    throw new SpecError(
+      `${path}.steps`,
+      `at most ${MAX_SCAN_POINTS} values on an axis (a scan has at most ${MAX_SCAN_POINTS} points), got ${steps}`,
+    );
   const spacing = value.spacing === undefined ? 'linear' : value.spacing;
-  if (spacing !== 'linear' && spacing !== 'log') throw new SpecError(`${path}.spacing`, `expected "linear" or "log", got ${describeValue(spacing)}`);
-  if (steps === 1 && from !== to) throw new SpecError(`${path}.steps`, `one step cannot reach from = ${from} to = ${to}; use steps >= 2 or values = [${from}]`);
+  if (spacing !== 'linear' && spacing !== 'log')
+    throw new SpecError(`${path}.spacing`, `expected "linear" or "log", got ${describeValue(spacing)}`);
+  if (steps === 1 && from !== to)
+    throw new SpecError(
+      `${path}.steps`,
+      `one step cannot reach from = ${from} to = ${to}; use steps >= 2 or values = [${from}]`,
+    );
   const values: number[] = [];
   if (spacing === 'log') {
-    if (from <= 0 || to <= 0) throw new SpecError(`${path}.${from <= 0 ? 'from' : 'to'}`, 'log spacing needs from and to greater than 0');
+    if (from <= 0 || to <= 0)
+      throw new SpecError(`${path}.${from <= 0 ? 'from' : 'to'}`, 'log spacing needs from and to greater than 0');
     const ratio = Math.log(to / from);
-    for (let k = 0; k < steps; k++) values.push(k === 0 ? from : k === steps - 1 ? to : tidy(from * Math.exp((ratio * k) / (steps - 1))));
+    for (let k = 0; k < steps; k++)
+      values.push(k === 0 ? from : k === steps - 1 ? to : tidy(from * Math.exp((ratio * k) / (steps - 1))));
   } else {
-    for (let k = 0; k < steps; k++) values.push(k === 0 ? from : k === steps - 1 ? to : tidy(from + ((to - from) * k) / (steps - 1)));
+    for (let k = 0; k < steps; k++)
+      values.push(k === 0 ? from : k === steps - 1 ? to : tidy(from + ((to - from) * k) / (steps - 1)));
   }
   return { key, values, spacing };
 }
@@ -158,20 +196,30 @@ export function validateScanSection(value: unknown, path: string): ScanSection {
       count *= a.values.length;
       if (count > MAX_SCAN_POINTS) {
         const lengths = axes.map((b) => b.values.length).join(' x ');
-        throw new SpecError(`${path}.axis[${i}]`, `the grid ${lengths} has more than ${MAX_SCAN_POINTS} points (the most one scan may have); split the scan or use zip = true`);
+        throw new SpecError(
+          `${path}.axis[${i}]`,
+          `the grid ${lengths} has more than ${MAX_SCAN_POINTS} points (the most one scan may have); split the scan or use zip = true`,
+        );
       }
     });
   }
   const seen = new Map<string, number>();
   axes.forEach((a, i) => {
-    if (seen.has(a.key)) throw new SpecError(`${path}.axis[${i}].key`, `${quoteText(a.key)} is already scanned by ${path}.axis[${seen.get(a.key)}]`);
+    if (seen.has(a.key))
+      throw new SpecError(
+        `${path}.axis[${i}].key`,
+        `${quoteText(a.key)} is already scanned by ${path}.axis[${seen.get(a.key)}]`,
+      );
     seen.set(a.key, i);
   });
   if (zip) {
     const n = axes[0].values.length;
     axes.forEach((a, i) => {
       if (a.values.length !== n) {
-        throw new SpecError(`${path}.axis[${i}]`, `with zip = true every axis needs the same number of values: axis[0] has ${n}, this one ${a.values.length}`);
+        throw new SpecError(
+          `${path}.axis[${i}]`,
+          `with zip = true every axis needs the same number of values: axis[0] has ${n}, this one ${a.values.length}`,
+        );
       }
     });
   }
@@ -224,7 +272,11 @@ export function linesOf(section: ScanSection): number[][] {
 /** A point's scanned values for people to read: each value cut to a readable length, control characters escaped. */
 export function formatParams(params: ScanParams): string {
   return Object.entries(params)
-    .map(([k, v]) => `${cutText(k)}=${typeof v === 'string' && /^[^\u0000-\u001f\u007f]*$/.test(v) ? cutText(v) : cutText(JSON.stringify(v))}`)
+    .map(
+      ([k, v]) =>
+        // eslint-disable-next-line no-control-regex -- control characters are what must be escaped
+        `${cutText(k)}=${typeof v === 'string' && /^[^\u0000-\u001f\u007f]*$/.test(v) ? cutText(v) : cutText(JSON.stringify(v))}`,
+    )
     .join(' ');
 }
 
@@ -249,7 +301,8 @@ export function expandScan(raw: Record<string, unknown>, spec: Spec): ScanPlan {
 
 function requireScan(spec: Spec): ScanSection {
   const section = scanOf(spec);
-  if (!section) throw new InputError('the spec has no [scan] section (add [[scan.axis]] entries, or use `rungchain solve`)');
+  if (!section)
+    throw new InputError('the spec has no [scan] section (add [[scan.axis]] entries, or use `rungchain solve`)');
   return section;
 }
 
@@ -264,7 +317,8 @@ export function* eachScanPoint(raw: Record<string, unknown>, section: ScanSectio
       tree = pointTree(raw, params);
       pointSpec = validateSpec(tree);
     } catch (e) {
-      if (e instanceof SpecError) throw new SpecError(e.keyPath, `${e.problem} (in scan point ${index}: ${formatParams(params)})`);
+      if (e instanceof SpecError)
+        throw new SpecError(e.keyPath, `${e.problem} (in scan point ${index}: ${formatParams(params)})`);
       throw e;
     }
     yield { index, params, raw: tree, spec: pointSpec };
@@ -273,7 +327,12 @@ export function* eachScanPoint(raw: Record<string, unknown>, section: ScanSectio
 
 /** What determines a scan's records: the spec tree (with overrides) and the expanded axes. */
 export function scanIdentity(raw: Record<string, unknown>, section: ScanSection): string {
-  return runIdentity({ kind: 'scan', spec: raw, axes: section.axes.map((a) => ({ key: a.key, values: a.values })), zip: section.zip });
+  return runIdentity({
+    kind: 'scan',
+    spec: raw,
+    axes: section.axes.map((a) => ({ key: a.key, values: a.values })),
+    zip: section.zip,
+  });
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -287,7 +346,8 @@ export function scanIdentity(raw: Record<string, unknown>, section: ScanSection)
 export function pointCost(plan: PointPlan): number {
   const dim = plan.dimension;
   if (dim <= DEFAULT_DENSE_THRESHOLD) return (dim * dim * dim) / 50 + dim;
-  const termsPerState = plan.model.sites * (plan.model.levels + plan.model.exchangePairs.count / Math.max(1, plan.model.sites) + 1);
+  const termsPerState =
+    plan.model.sites * (plan.model.levels + plan.model.exchangePairs.count / Math.max(1, plan.model.sites) + 1);
   const matvecs = 300;
   return dim * termsPerState * matvecs;
 }
@@ -316,7 +376,9 @@ export function pointSectors(spec: Spec, plan: PointPlan): SectorSize[] | null {
 /** Rough seconds to solve a point: the cost model summed over the sectors it is solved in. */
 export function estimateSeconds(plan: PointPlan, sectors: SectorSize[] | null): number {
   if (!sectors) return pointCost(plan) * SECONDS_PER_COST_UNIT;
-  return sectors.reduce((sum, s) => sum + pointCost({ ...plan, dimension: s.dimension }), 0) * SECONDS_PER_SECTOR_COST_UNIT;
+  return (
+    sectors.reduce((sum, s) => sum + pointCost({ ...plan, dimension: s.dimension }), 0) * SECONDS_PER_SECTOR_COST_UNIT
+  );
 }
 
 /** A rough duration for people: seconds to days, two significant figures at most. */
@@ -344,7 +406,10 @@ export function describeWork(spec: Spec, plan: PointPlan): string[] {
   } else {
     sectorLine = `sectors          1: the full space of ${plan.dimension} states, no symmetry used`;
   }
-  return [sectorLine, `time estimate    ${formatDuration(estimateSeconds(plan, sectors))} (rough: within a factor of 3 on a 2-core machine)`];
+  return [
+    sectorLine,
+    `time estimate    ${formatDuration(estimateSeconds(plan, sectors))} (rough: within a factor of 3 on a 2-core machine)`,
+  ];
 }
 
 export interface ScanSizes {
@@ -397,19 +462,27 @@ export function describeScan(raw: Record<string, unknown>, spec: Spec, limit: nu
   }
   const big = largest as Pick;
   const heavy = largestMemory as Pick;
-  const shape = section.axes.map((a) => `${a.key} (${a.values.length} ${a.spacing === 'values' ? 'values' : `${a.spacing} steps`})`);
+  const shape = section.axes.map(
+    (a) => `${a.key} (${a.values.length} ${a.spacing === 'values' ? 'values' : `${a.spacing} steps`})`,
+  );
   const lines = [
     `scan             ${points} point${points === 1 ? '' : 's'}, ${section.zip ? 'zipped' : 'grid'}: ${shape.join(section.zip ? ' with ' : ' x ')}`,
     `largest point    #${big.index} (${formatParams(big.params)}): basis dimension ${big.plan.dimension}`,
     `memory estimate  ${formatBytes(heavy.plan.memory.totalBytes)} for the largest point (#${heavy.index}), limit ${formatBytes(limit)}`,
   ];
   const atOnce = topMemory.reduce((s, b) => s + b, 0);
-  lines.push(`                 up to ${formatBytes(atOnce)} with ${workers} worker${workers === 1 ? '' : 's'} solving at once`);
+  lines.push(
+    `                 up to ${formatBytes(atOnce)} with ${workers} worker${workers === 1 ? '' : 's'} solving at once`,
+  );
   // Workers share the points; a single large point also spreads over the cores, so this holds either way.
   const perWorker = seconds / Math.max(1, workers);
-  lines.push(`time estimate    ${formatDuration(perWorker)} with ${workers} worker${workers === 1 ? '' : 's'} (rough: within a factor of 3 on a 2-core machine)`);
+  lines.push(
+    `time estimate    ${formatDuration(perWorker)} with ${workers} worker${workers === 1 ? '' : 's'} (rough: within a factor of 3 on a 2-core machine)`,
+  );
   if (overLimit.length > 0) {
-    lines.push(`${overLimit.length} point${overLimit.length === 1 ? ' exceeds' : 's exceed'} the memory limit and would be recorded as failed: #${overLimit.slice(0, 10).join(', #')}${overLimit.length > 10 ? ', ...' : ''}`);
+    lines.push(
+      `${overLimit.length} point${overLimit.length === 1 ? ' exceeds' : 's exceed'} the memory limit and would be recorded as failed: #${overLimit.slice(0, 10).join(', #')}${overLimit.length > 10 ? ', ...' : ''}`,
+    );
   }
   return lines.join('\n');
 }

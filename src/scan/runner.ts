@@ -42,7 +42,10 @@ export function defaultWorkerCount(): number {
  * outweighs all the others together, fewer workers run and each product is split across the
  * spare cores over shared memory. An explicit worker count is kept as asked.
  */
-export function chooseParallelism(pendingCosts: number[], requestedWorkers?: number): { workers: number; threadsPerPoint: number } {
+export function chooseParallelism(
+  pendingCosts: number[],
+  requestedWorkers?: number,
+): { workers: number; threadsPerPoint: number } {
   const cores = defaultWorkerCount();
   let workers = Math.max(1, Math.min(requestedWorkers ?? cores, pendingCosts.length));
   if (requestedWorkers === undefined && pendingCosts.length > 1) {
@@ -73,7 +76,11 @@ export function createPointPool(choice: PoolChoice): Piscina {
  * point at the limit and its JS heap at the ceiling, and never more than 90% of the machine's
  * memory (past that the system's out-of-memory killer would end the whole scan).
  */
-export function workerCeilings(maxMemory: number, workers: number, mainBytes: number): { heapMb: number; processBytes: number } {
+export function workerCeilings(
+  maxMemory: number,
+  workers: number,
+  mainBytes: number,
+): { heapMb: number; processBytes: number } {
   const heapMb = Math.max(64, Math.min(4096, Math.floor(maxMemory / 2 ** 20)));
   return { heapMb, processBytes: Math.min(0.9 * os.totalmem(), mainBytes + workers * (maxMemory + heapMb * 2 ** 20)) };
 }
@@ -84,7 +91,8 @@ const MEMORY_WATCH_MS = 100;
 /** Why a worker stopped, for the failed point's record. */
 function workerStopReason(error: unknown, heapMb: number): string {
   const code = (error as { code?: unknown } | null)?.code;
-  if (code === 'ERR_WORKER_OUT_OF_MEMORY') return `its JS heap went over the worker's ceiling of ${heapMb} MiB (ERR_WORKER_OUT_OF_MEMORY)`;
+  if (code === 'ERR_WORKER_OUT_OF_MEMORY')
+    return `its JS heap went over the worker's ceiling of ${heapMb} MiB (ERR_WORKER_OUT_OF_MEMORY)`;
   const reason = error instanceof Error ? error.message : String(error);
   return `the worker stopped while solving this point (${reason}); out of memory is the usual cause`;
 }
@@ -102,7 +110,11 @@ export interface PlannedTask {
 /** Whether neighbours along a line can share a basis: every axis that moves along a line numeric, none a size. */
 export function linesAreContinuous(plan: ScanPlan): boolean {
   const moving = plan.section.zip ? plan.section.axes : plan.section.axes.slice(-1);
-  return moving.every((a) => a.values.every((v) => typeof v === 'number') && !['chain.sites', 'levels.count', 'particles.number'].includes(a.key));
+  return moving.every(
+    (a) =>
+      a.values.every((v) => typeof v === 'number') &&
+      !['chain.sites', 'levels.count', 'particles.number'].includes(a.key),
+  );
 }
 
 /**
@@ -168,7 +180,15 @@ function formatDuration(seconds: number): string {
   return `${Math.floor(s / 3600)}h${String(Math.floor((s % 3600) / 60)).padStart(2, '0')}m`;
 }
 
-function makeProgress(mode: 'bar' | 'lines' | 'none', total: number, initialDone: number, initialFailed: number, stream: NodeJS.WriteStream, costOf: (index: number) => number, remainingCost: number): Progress {
+function makeProgress(
+  mode: 'bar' | 'lines' | 'none',
+  total: number,
+  initialDone: number,
+  initialFailed: number,
+  stream: NodeJS.WriteStream,
+  costOf: (index: number) => number,
+  remainingCost: number,
+): Progress {
   const started = performance.now();
   let costDone = 0;
   const eta = (): number => {
@@ -205,12 +225,19 @@ function makeProgress(mode: 'bar' | 'lines' | 'none', total: number, initialDone
     cliProgress.Presets.shades_classic,
   );
   bar.start(total, initialDone + initialFailed, { failed: initialFailed, elapsedText: '0s', etaText: '?' });
-  const timer = setInterval(() => bar.update({ elapsedText: formatDuration((performance.now() - started) / 1000) }), 1000);
+  const timer = setInterval(
+    () => bar.update({ elapsedText: formatDuration((performance.now() - started) / 1000) }),
+    1000,
+  );
   timer.unref();
   return {
     record(r, done, failed) {
       costDone += costOf(r.index);
-      bar.update(done + failed, { failed, elapsedText: formatDuration((performance.now() - started) / 1000), etaText: formatDuration(eta()) });
+      bar.update(done + failed, {
+        failed,
+        elapsedText: formatDuration((performance.now() - started) / 1000),
+        etaText: formatDuration(eta()),
+      });
     },
     stop() {
       clearInterval(timer);
@@ -265,7 +292,10 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
   };
   const overrides = options.overrides ?? [];
   const { raw, spec } = loadSpec(options.specPath, overrides);
-  if (!spec.extra.scan) throw new InputError(`${options.specPath} has no [scan] section; add [[scan.axis]] entries, or use \`rungchain solve\``);
+  if (!spec.extra.scan)
+    throw new InputError(
+      `${options.specPath} has no [scan] section; add [[scan.axis]] entries, or use \`rungchain solve\``,
+    );
   const plan = expandScan(raw, spec);
   const maxMemory = options.maxMemory ?? defaultMemoryLimit();
   const sizes = sizeScan(plan, maxMemory);
@@ -306,7 +336,8 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
   const held = writer.manifest.shard as { index: number; count: number } | undefined;
   if ((held?.index ?? null) !== (shard?.index ?? null) || (held?.count ?? null) !== (shard?.count ?? null)) {
     writer.close();
-    const what = (s: { index: number; count: number } | null | undefined) => (s ? `shard ${s.index}/${s.count}` : 'the whole scan');
+    const what = (s: { index: number; count: number } | null | undefined) =>
+      s ? `shard ${s.index}/${s.count}` : 'the whole scan';
     throw new RunFileError(`${dir} holds ${what(held)} of this scan, not ${what(shard)}; choose another --out`);
   }
 
@@ -314,8 +345,12 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
   let watch: ReturnType<typeof setInterval> | null = null;
   const signalHandlers: [NodeJS.Signals, () => void][] = [];
   try {
-    if (writer.cutBytes > 0) say(`dropped a torn last record (${writer.cutBytes} bytes, a write cut short); that point runs again`);
-    if (shard) say(`shard ${shard.index} of ${shard.count} (from ${shard.source}): ${shardPoints!.length} of ${plan.points.length} points`);
+    if (writer.cutBytes > 0)
+      say(`dropped a torn last record (${writer.cutBytes} bytes, a write cut short); that point runs again`);
+    if (shard)
+      say(
+        `shard ${shard.index} of ${shard.count} (from ${shard.source}): ${shardPoints!.length} of ${plan.points.length} points`,
+      );
     const selected = new Set(shardPoints ?? plan.points.map((p) => p.index));
     const latest = latestRecords(writer.existing);
     let done = 0;
@@ -340,28 +375,41 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
       resumeCommand,
     });
     if (pending.size === 0) {
-      say(`nothing to do in ${dir}: ${done} done, ${failed} failed of ${total}${failed > 0 ? ' (rerun failed points with --retry-failed)' : ''}`);
+      say(
+        `nothing to do in ${dir}: ${done} done, ${failed} failed of ${total}${failed > 0 ? ' (rerun failed points with --retry-failed)' : ''}`,
+      );
       return outcome(0, false);
     }
     if (done + failed > 0) say(`resuming ${dir}: ${done} done, ${failed} failed, ${pending.size} to run`);
 
-    const { workers, threadsPerPoint } = chooseParallelism([...pending].map((i) => costs[i]), options.workers);
-    say(`${pending.size} points on ${workers} worker${workers > 1 ? 's' : ''}` + (threadsPerPoint > 1 ? `, each product on up to ${threadsPerPoint} threads` : ''));
+    const { workers, threadsPerPoint } = chooseParallelism(
+      [...pending].map((i) => costs[i]),
+      options.workers,
+    );
+    say(
+      `${pending.size} points on ${workers} worker${workers > 1 ? 's' : ''}` +
+        (threadsPerPoint > 1 ? `, each product on up to ${threadsPerPoint} threads` : ''),
+    );
     const queue = planTasks(plan, pending, costs, workers);
     const remainingCost = [...pending].reduce((s, i) => s + costs[i], 0);
-    const mode = options.progress === undefined || options.progress === 'auto' ? (stream.isTTY ? 'bar' : 'lines') : options.progress;
+    const mode =
+      options.progress === undefined || options.progress === 'auto'
+        ? stream.isTTY
+          ? 'bar'
+          : 'lines'
+        : options.progress;
     const progress = makeProgress(mode, total, done, failed, stream, (i) => costs[i], remainingCost);
     let ran = 0;
     let stopping = false;
 
     // A failed append (disk full, folder removed) stops the scan; it is reported once all is shut.
-    let writeError: unknown = null;
+    let writeError = null as Error | null;
     const write = (record: ScanRecord): void => {
       if (!selected.has(record.index) || writeError) return;
       try {
         writer.append(record as unknown as Record<string, unknown>);
       } catch (e) {
-        writeError = e;
+        writeError = e instanceof Error ? e : new Error(String(e));
         stopping = true;
         void pool?.destroy();
         return;
@@ -392,7 +440,11 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
         if (rss <= ceilings.processBytes) return;
         let heaviest: { index: number; abort: AbortController; overMemory: string | null } | null = null;
         for (const c of current.values()) {
-          if (c.overMemory === null && (!heaviest || sizes.plans[c.index].memory.totalBytes > sizes.plans[heaviest.index].memory.totalBytes)) heaviest = c;
+          if (
+            c.overMemory === null &&
+            (!heaviest || sizes.plans[c.index].memory.totalBytes > sizes.plans[heaviest.index].memory.totalBytes)
+          )
+            heaviest = c;
         }
         if (!heaviest) return;
         heaviest.overMemory =
@@ -415,7 +467,11 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
         const points = busiest.points.slice(cut[0], cut[1]);
         const leadIn = continuous ? busiest.points[cut[0] - 1] : undefined;
         busiest.points = busiest.points.slice(0, cut[0]);
-        return { points, leadIn, cost: [...points, ...(leadIn ? [leadIn] : [])].reduce((sum, p) => sum + costs[p.index], 0) };
+        return {
+          points,
+          leadIn,
+          cost: [...points, ...(leadIn ? [leadIn] : [])].reduce((sum, p) => sum + costs[p.index], 0),
+        };
       };
       const pump = (): void => {
         while (!stopping && inflight < workers) {
@@ -432,7 +488,11 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
         const { port1, port2 } = new MessageChannel();
         const reported = new Set<number>();
         // Before its first point a task solves its lead-in, which the watch counts as that point.
-        const now = { index: (task.leadIn ?? task.points[0]).index, abort: new AbortController(), overMemory: null as string | null };
+        const now = {
+          index: (task.leadIn ?? task.points[0]).index,
+          abort: new AbortController(),
+          overMemory: null as string | null,
+        };
         current.set(task, now);
         port1.on('message', (message: TaskMessage) => {
           if (message.kind === 'start') now.index = message.index;
@@ -473,7 +533,20 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
           pump();
         };
         activePool
-          .run({ points: task.points.map((p) => ({ index: p.index, params: p.params, raw: p.raw })), leadIn: task.leadIn ? { index: task.leadIn.index, params: task.leadIn.params, raw: task.leadIn.raw } : undefined, maxMemory, warmStart: options.warmStart !== false, threads: threadsPerPoint, claims, port: port2 }, { transferList: [port2], signal: now.abort.signal })
+          .run(
+            {
+              points: task.points.map((p) => ({ index: p.index, params: p.params, raw: p.raw })),
+              leadIn: task.leadIn
+                ? { index: task.leadIn.index, params: task.leadIn.params, raw: task.leadIn.raw }
+                : undefined,
+              maxMemory,
+              warmStart: options.warmStart !== false,
+              threads: threadsPerPoint,
+              claims,
+              port: port2,
+            },
+            { transferList: [port2], signal: now.abort.signal },
+          )
           .then(
             () => settle(null),
             (e: unknown) => settle(e),
@@ -497,15 +570,21 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
     if (watch) clearInterval(watch);
     progress.stop();
     if (writeError instanceof FileSystemError) {
-      throw new FileSystemError(`${writeError.message}; every finished point is kept: once that is fixed, resume with: ${resumeCommand}`);
+      throw new FileSystemError(
+        `${writeError.message}; every finished point is kept: once that is fixed, resume with: ${resumeCommand}`,
+      );
     }
     if (writeError) throw writeError;
     const result = outcome(ran, stopping);
     if (stopping) {
-      say(`interrupted: ${result.done} done, ${result.failed} failed, ${result.pending} pending of ${total}; every finished point is saved in ${dir}`);
+      say(
+        `interrupted: ${result.done} done, ${result.failed} failed, ${result.pending} pending of ${total}; every finished point is saved in ${dir}`,
+      );
       say(`resume with: ${resumeCommand}`);
     } else {
-      say(`scan finished: ${result.done} done, ${result.failed} failed of ${total} (${ran} solved now, ${result.seconds.toFixed(1)} s); run folder ${dir}`);
+      say(
+        `scan finished: ${result.done} done, ${result.failed} failed of ${total} (${ran} solved now, ${result.seconds.toFixed(1)} s); run folder ${dir}`,
+      );
       say(`results: ${shellCommand(program, ['summary', dir])}  (--csv, --json, --long)`);
     }
     return result;

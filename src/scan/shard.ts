@@ -44,7 +44,9 @@ export function shardFromEnvironment(env: NodeJS.ProcessEnv = process.env): Shar
   const index = Number(id) - min + 1;
   const source = `SLURM_ARRAY_TASK_ID=${id} (min ${min}, count ${env.SLURM_ARRAY_TASK_COUNT})`;
   if (!Number.isInteger(count) || !Number.isInteger(index) || count < 1 || index < 1 || index > count) {
-    throw new InputError(`${source}: cannot tell the shard; the array must be contiguous (e.g. --array=1-${Number.isInteger(count) ? count : 'N'}), or pass --shard i/n`);
+    throw new InputError(
+      `${source}: cannot tell the shard; the array must be contiguous (e.g. --array=1-${Number.isInteger(count) ? count : 'N'}), or pass --shard i/n`,
+    );
   }
   return { index, count, source };
 }
@@ -106,7 +108,10 @@ export function mergeRuns(dirs: string[], out: string): MergeReport {
   if (dirs.length === 0) throw new InputError('merge: name at least one shard folder');
   const runs = dirs.map((d) => readRun(d));
   const first = runs[0].manifest;
-  if (first.kind !== 'scan') throw new RunFileError(`${dirs[0]} holds ${first.kind === 'evolve' ? 'a time trace' : `a ${first.kind} run`}; merge combines scan runs`);
+  if (first.kind !== 'scan')
+    throw new RunFileError(
+      `${dirs[0]} holds ${first.kind === 'evolve' ? 'a time trace' : `a ${first.kind} run`}; merge combines scan runs`,
+    );
   runs.forEach((r, k) => {
     if (!sameScan(first, r.manifest)) {
       throw new RunFileError(
@@ -125,11 +130,15 @@ export function mergeRuns(dirs: string[], out: string): MergeReport {
       if (!held || (held.status !== 'done' && record.status === 'done')) best.set(index, record);
     }
   }
-  const duplicated = [...doneIn].filter(([, n]) => n > 1).map(([i]) => i).sort((a, b) => a - b);
+  const duplicated = [...doneIn]
+    .filter(([, n]) => n > 1)
+    .map(([i]) => i)
+    .sort((a, b) => a - b);
   const missing: number[] = [];
   for (let i = 0; i < total; i++) if (!best.has(i)) missing.push(i);
 
-  if (dirs.some((d) => path.resolve(d) === path.resolve(out))) throw new InputError(`merge: --out ${out} is one of the shard folders`);
+  if (dirs.some((d) => path.resolve(d) === path.resolve(out)))
+    throw new InputError(`merge: --out ${out} is one of the shard folders`);
   const { shard: _shard, shard_points: _points, ...fields } = first;
   const writer = RunWriter.open(out, {
     kind: 'scan',
@@ -155,13 +164,34 @@ export function mergeRuns(dirs: string[], out: string): MergeReport {
   const merged = latestRecords(readRun(out).records);
   let done = 0;
   let failed = 0;
-  for (const r of merged.values()) r.status === 'done' ? done++ : failed++;
-  return { out, shards: dirs.length, total, written, done, failed, missing: missing.filter((i) => !merged.has(i)), duplicated };
+  for (const r of merged.values()) {
+    if (r.status === 'done') done++;
+    else failed++;
+  }
+  return {
+    out,
+    shards: dirs.length,
+    total,
+    written,
+    done,
+    failed,
+    missing: missing.filter((i) => !merged.has(i)),
+    duplicated,
+  };
 }
 
 /** Manifest fields a new run sets itself. */
 function stripBase(fields: Record<string, unknown>): Record<string, unknown> {
-  const { format: _f, format_version: _v, kind: _k, identity: _i, version: _ver, created: _c, machine: _m, ...rest } = fields;
+  const {
+    format: _f,
+    format_version: _v,
+    kind: _k,
+    identity: _i,
+    version: _ver,
+    created: _c,
+    machine: _m,
+    ...rest
+  } = fields;
   return rest;
 }
 

@@ -100,7 +100,9 @@ function testAllocation(index: number): unknown[] {
 /** A key telling whether two points share a basis (same states in the same order and arithmetic). */
 function basisKey(spec: Spec, isComplex: boolean, dimension: number): string {
   const p = spec.particles;
-  return [p.kind, spec.chain.sites, spec.levels.count, p.number, p.maxPerSite, isComplex ? 'c' : 'r', dimension].join(':');
+  return [p.kind, spec.chain.sites, spec.levels.count, p.number, p.maxPerSite, isComplex ? 'c' : 'r', dimension].join(
+    ':',
+  );
 }
 
 /**
@@ -128,14 +130,21 @@ function errorText(e: unknown): string {
   return e instanceof Error ? `${e.name}: ${e.message}` : String(e);
 }
 
-export function runScanTask(task: ScanTask, post: (message: TaskMessage) => void = (m) => task.port.postMessage(m)): number {
+export function runScanTask(
+  task: ScanTask,
+  post: (message: TaskMessage) => void = (m) => task.port.postMessage(m),
+): number {
   let previous: { key: string; states: Float64Array[]; start: Float64Array | undefined } | null = null;
   if (task.leadIn) {
     try {
       const spec = validateSpec(task.leadIn.raw);
       const plan = planPoint(spec);
       const lead = solvePoint(spec, { maxMemory: task.maxMemory, threads: task.threads ?? 1 });
-      previous = { key: basisKey(spec, plan.model.isComplex, plan.dimension), states: lead.groundStates, start: startVector(lead.eigen?.vectors ?? lead.groundStates) };
+      previous = {
+        key: basisKey(spec, plan.model.isComplex, plan.dimension),
+        states: lead.groundStates,
+        start: startVector(lead.eigen?.vectors ?? lead.groundStates),
+      };
     } catch {
       // The first point then starts cold and has no overlap, as without a lead-in.
       previous = null;
@@ -158,9 +167,14 @@ export function runScanTask(task: ScanTask, post: (message: TaskMessage) => void
       const key = basisKey(spec, plan.model.isComplex, plan.dimension);
       const same = previous !== null && previous.key === key && previous.states.length > 0;
       const warm = task.warmStart && same;
-      const solvedPoint = solvePoint(spec, { maxMemory: task.maxMemory, threads: task.threads ?? 1, initial: warm ? previous!.start : undefined });
+      const solvedPoint = solvePoint(spec, {
+        maxMemory: task.maxMemory,
+        threads: task.threads ?? 1,
+        initial: warm ? previous!.start : undefined,
+      });
       const ground = solvedPoint.groundStates;
-      const overlap = same && ground.length > 0 ? groundSpaceOverlap(previous!.states, ground, plan.model.isComplex) : null;
+      const overlap =
+        same && ground.length > 0 ? groundSpaceOverlap(previous!.states, ground, plan.model.isComplex) : null;
       previous = { key, states: ground, start: startVector(solvedPoint.eigen?.vectors ?? ground) };
       record = {
         index: point.index,

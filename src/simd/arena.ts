@@ -17,7 +17,16 @@ export interface WasmKernels {
   subtractReal(w: number, set: number, count: number, coef: number, start: number, end: number): void;
   subtractComplex(w: number, set: number, count: number, coef: number, start: number, end: number): void;
   normSquared(w: number, start: number, end: number): number;
-  combine(set: number, size: number, y: number, ys: number, keep: number, scratch: number, start: number, end: number): void;
+  combine(
+    set: number,
+    size: number,
+    y: number,
+    ys: number,
+    keep: number,
+    scratch: number,
+    start: number,
+    end: number,
+  ): void;
   /** y[0..count) += h x[0..count), pointers at the first entries. */
   axpy(y: number, x: number, h: number, count: number): void;
   scale(y: number, s: number, count: number): void;
@@ -26,8 +35,29 @@ export interface WasmKernels {
   csrReal(y: number, x: number, rs: number, col: number, val: number, lo: number, hi: number): void;
   csrComplex(y: number, x: number, rs: number, col: number, re: number, im: number, lo: number, hi: number): void;
   /** The pinned operator's block pass over rows [lo, hi) (see vector.wat). */
-  blockPassReal(y: number, x: number, diag: number, rs: number, col: number, val: number, B: number, lo: number, hi: number): void;
-  blockPassComplex(y: number, x: number, diag: number, rs: number, col: number, re: number, im: number, B: number, lo: number, hi: number): void;
+  blockPassReal(
+    y: number,
+    x: number,
+    diag: number,
+    rs: number,
+    col: number,
+    val: number,
+    B: number,
+    lo: number,
+    hi: number,
+  ): void;
+  blockPassComplex(
+    y: number,
+    x: number,
+    diag: number,
+    rs: number,
+    col: number,
+    re: number,
+    im: number,
+    B: number,
+    lo: number,
+    hi: number,
+  ): void;
 }
 
 /** Which arena owns a buffer (every buffer an arena's memory has shown, after each growth). */
@@ -117,6 +147,8 @@ export class VectorArena {
   recycle(): void {
     if (!this.allocates) return;
     this.release(0);
+    // The arena outlives this call on purpose: it is the thread's spare for the next acquire.
+    // eslint-disable-next-line @typescript-eslint/no-this-alias
     if (!idleArena || idleArena.memory.buffer.byteLength < this.memory.buffer.byteLength) idleArena = this;
   }
 
@@ -209,10 +241,12 @@ export class VectorArena {
   copyOf<T extends Float64Array | Int32Array>(source: T): T | null {
     const at = this.reserve(source.byteLength);
     if (at === null) return null;
-    const copy = (source instanceof Float64Array
-      ? new Float64Array(this.memory.buffer, at, source.length)
-      : new Int32Array(this.memory.buffer, at, source.length)) as T;
-    copy.set(source as never);
+    const copy = (
+      source instanceof Float64Array
+        ? new Float64Array(this.memory.buffer, at, source.length)
+        : new Int32Array(this.memory.buffer, at, source.length)
+    ) as T;
+    copy.set(source);
     return copy;
   }
 
@@ -256,5 +290,3 @@ export class VectorArena {
     return table.byteOffset;
   }
 }
-
-

@@ -318,7 +318,10 @@ interface GramSchmidtStep {
 }
 
 /** One Lanczos run: the public result without what only the whole solve knows. */
-type CoreResult = Pick<EigenResult, 'values' | 'vectors' | 'residuals' | 'matvecs' | 'restarts' | 'fullSteps' | 'converged' | 'screened'>;
+type CoreResult = Pick<
+  EigenResult,
+  'values' | 'vectors' | 'residuals' | 'matvecs' | 'restarts' | 'fullSteps' | 'converged' | 'screened'
+>;
 
 /**
  * Thick-restart Lanczos for the nev lowest eigenpairs of P H P, where P projects out `deflation`.
@@ -566,7 +569,15 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
     if (screened || residual <= tolerance) {
       progress?.(matvecs, restarts, residual);
       pool.push(...basis);
-      const result: CoreResult = { values: Float64Array.of(theta), vectors: [y], residuals: Float64Array.of(residual), matvecs, restarts, fullSteps, converged: true };
+      const result: CoreResult = {
+        values: Float64Array.of(theta),
+        vectors: [y],
+        residuals: Float64Array.of(residual),
+        matvecs,
+        restarts,
+        fullSteps,
+        converged: true,
+      };
       return screened ? { ...result, screened: true } : result;
     }
     if (toleranceCheck) cheapFactor = Math.max(cheapFactor * 0.1, 1e-6);
@@ -616,7 +627,11 @@ function thickRestartLanczos(input: CoreInput): CoreResult {
     if (partial && Number.isFinite(alpha) && Number.isFinite(beta)) {
       normEstimate = Math.max(normEstimate, Math.abs(alpha) + beta + (j > 0 ? Math.abs(T[(j - 1) * m + j]) : 0));
       residualOrthogonal = !local;
-      if (local && beta > 0 && estimateOrthogonality(j, alpha, beta) > Math.min(SEMI_ORTHOGONAL, tolerance / (2 * normEstimate))) {
+      if (
+        local &&
+        beta > 0 &&
+        estimateOrthogonality(j, alpha, beta) > Math.min(SEMI_ORTHOGONAL, tolerance / (2 * normEstimate))
+      ) {
         // The new vector drifted toward older ones: orthogonalize it against the whole basis, and
         // the next one too (it inherits the drift through the three-term recurrence).
         beta = gramSchmidt(target, orthoSet, deflationCount + size).beta;
@@ -757,7 +772,12 @@ interface DenseSolution {
  * Deflated directions are lifted to a shift above the whole spectrum so they sort last. With
  * `groundWindow`, the count grows to include every value within it of the lowest.
  */
-function denseSolve(op: HermitianOperator, count: number, deflation: Float64Array[], groundWindow: ((e0: number) => number) | null = null): DenseSolution {
+function denseSolve(
+  op: HermitianOperator,
+  count: number,
+  deflation: Float64Array[],
+  groundWindow: ((e0: number) => number) | null = null,
+): DenseSolution {
   const n = op.dim;
   const { re, im } = buildDense(op, deflation);
   // Hermitian part: cancels rounding asymmetry of the operator.
@@ -796,12 +816,20 @@ function denseSolve(op: HermitianOperator, count: number, deflation: Float64Arra
     }
   }
   const available = n - deflation.length;
-  const solution = b ? complexDenseEigen(a, b, n, count, available, groundWindow) : realDenseEigen(a, n, count, available, groundWindow);
+  const solution = b
+    ? complexDenseEigen(a, b, n, count, available, groundWindow)
+    : realDenseEigen(a, n, count, available, groundWindow);
   solution.residuals = denseResidualNorms(a, b, n, solution.values, solution.vectors);
   return solution;
 }
 
-function realDenseEigen(a: Float64Array, n: number, count: number, available: number, groundWindow: ((e0: number) => number) | null): DenseSolution {
+function realDenseEigen(
+  a: Float64Array,
+  n: number,
+  count: number,
+  available: number,
+  groundWindow: ((e0: number) => number) | null,
+): DenseSolution {
   const { values, vectors: byVector } = symmetricEigen(a, n);
   if (groundWindow) {
     const window = groundWindow(values[0]);
@@ -826,7 +854,14 @@ function realDenseEigen(a: Float64Array, n: number, count: number, available: nu
  * picks p orthonormal ones, taking each time the candidate with the largest remaining norm
  * (at least 1/p in square), so the choice stays well conditioned.
  */
-function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: number, available: number, groundWindow: ((e0: number) => number) | null): DenseSolution {
+function complexDenseEigen(
+  a: Float64Array,
+  b: Float64Array,
+  n: number,
+  count: number,
+  available: number,
+  groundWindow: ((e0: number) => number) | null,
+): DenseSolution {
   const { values, vectors: byVector, size } = realFormEigen(a, b, n);
   if (groundWindow) {
     // Each eigenvalue of H appears twice in S.
@@ -858,7 +893,8 @@ function complexDenseEigen(a: Float64Array, b: Float64Array, n: number, count: n
     // only overlap * gap ~ eps*||H||. Far levels overlap below 1e-12 already.
     const nearby: Float64Array[] = [];
     const here = values[start];
-    for (let k = vectors.length - 1; k >= 0 && here - outValues[k] <= 1e-3 * Math.max(1, radius); k--) nearby.push(vectors[k]);
+    for (let k = vectors.length - 1; k >= 0 && here - outValues[k] <= 1e-3 * Math.max(1, radius); k--)
+      nearby.push(vectors[k]);
     const nearbyCoef = new Float64Array(2 * nearby.length + 2);
     const nearbyCoef2 = new Float64Array(2 * nearby.length + 2);
     const remaining = candidates.map((z) =>
@@ -923,7 +959,12 @@ function orthonormalityDefect(vectors: Float64Array[], isComplex: boolean, kerne
 // Public entry point
 
 /** Orthonormal copies of the deflation vectors (linearly dependent ones dropped). */
-function orthonormalCopies(vectors: Float64Array[], length: number, isComplex: boolean, kernels: VectorKernels): Float64Array[] {
+function orthonormalCopies(
+  vectors: Float64Array[],
+  length: number,
+  isComplex: boolean,
+  kernels: VectorKernels,
+): Float64Array[] {
   const out: Float64Array[] = [];
   const coef = kernels.vector(2 * vectors.length + 2);
   const coef2 = kernels.vector(2 * vectors.length + 2);
@@ -949,7 +990,6 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   if (!(opts.tolerance > 0)) throw new SpecError('tolerance', 'must be a positive number');
   const isComplex = op.isComplex;
   const length = isComplex ? 2 * dim : dim;
-  const tolerance = opts.tolerance;
   const lanczos = dim > (opts.denseThreshold ?? DEFAULT_DENSE_THRESHOLD);
   // One arena per solve: the Lanczos basis lives in it; results are copied out at the end.
   const given = opts.arena && opts.arena.allocates ? opts.arena : null;
@@ -1024,12 +1064,16 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
     throw new SpecError('krylovSize', 'must be a positive integer');
   }
   // Basis size: at least one slot beyond the wanted pairs (else no room to restart), at most the space.
-  const krylovFor = (nev: number, wanted: number, space: number): number =>
-    Math.min(space, Math.max(wanted, nev + 1));
-  const rng = new Prng(startSeed(((opts.seed ?? DEFAULT_SEED) ^ (opts.initial ? WARM_START_SALT : 0)) >>> 0, deflation.length));
+  const krylovFor = (nev: number, wanted: number, space: number): number => Math.min(space, Math.max(wanted, nev + 1));
+  const rng = new Prng(
+    startSeed(((opts.seed ?? DEFAULT_SEED) ^ (opts.initial ? WARM_START_SALT : 0)) >>> 0, deflation.length),
+  );
   const reorthogonalization = opts.reorthogonalization ?? 'auto';
   if (!['full', 'partial', 'auto'].includes(reorthogonalization)) {
-    throw new SpecError('reorthogonalization', `must be "full", "partial" or "auto", got ${JSON.stringify(reorthogonalization)}`);
+    throw new SpecError(
+      'reorthogonalization',
+      `must be "full", "partial" or "auto", got ${JSON.stringify(reorthogonalization)}`,
+    );
   }
   const partial = reorthogonalization === 'partial' || (reorthogonalization === 'auto' && length >= PARTIAL_MIN_LENGTH);
   const pool: Float64Array[] = [];
@@ -1095,7 +1139,8 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
   // the highest value), and a copy they find is added rather than swapped in; they stop when a
   // run finds nothing within the window (the level is complete) or at the cap.
   const inserted = new Set<Float64Array>();
-  const wholeLevel = (): boolean => groundCopies > 0 && values[values.length - 1] - values[0] <= groundWindow(values[0]);
+  const wholeLevel = (): boolean =>
+    groundCopies > 0 && values[values.length - 1] - values[0] <= groundWindow(values[0]);
   let capReached = false;
   let verified = states >= available;
   if (converged && states < available && opts.verifyDegeneracy !== false) {
@@ -1220,9 +1265,22 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
     const left = maxMatvecs - totalMatvecs;
     if (left > 0) {
       const spent = totalMatvecs;
-      const onProgress = opts.onProgress ? (info: { matvecs: number; restarts: number; worstResidual: number }) => opts.onProgress!({ ...info, matvecs: spent + info.matvecs }) : undefined;
-      const redone = solveWith(op, { ...opts, reorthogonalization: 'full', maxMatvecs: left, onProgress }, kernels, lanczos);
-      return { ...redone, matvecs: redone.matvecs + totalMatvecs, restarts: redone.restarts + totalRestarts, fullSteps: redone.fullSteps + totalFullSteps };
+      const onProgress = opts.onProgress
+        ? (info: { matvecs: number; restarts: number; worstResidual: number }) =>
+            opts.onProgress!({ ...info, matvecs: spent + info.matvecs })
+        : undefined;
+      const redone = solveWith(
+        op,
+        { ...opts, reorthogonalization: 'full', maxMatvecs: left, onProgress },
+        kernels,
+        lanczos,
+      );
+      return {
+        ...redone,
+        matvecs: redone.matvecs + totalMatvecs,
+        restarts: redone.restarts + totalRestarts,
+        fullSteps: redone.fullSteps + totalFullSteps,
+      };
     }
     converged = false;
   }

@@ -4,7 +4,13 @@ import type { HermitianOperator } from '../operator/hermitian.js';
 import { plainKernels, type VectorKernels } from '../linalg/vectorKernels.js';
 
 /** Writes H v - e v into `work` (one product). */
-export function residualVector(op: HermitianOperator, v: Float64Array, e: number, work: Float64Array, kernels: VectorKernels = plainKernels): void {
+export function residualVector(
+  op: HermitianOperator,
+  v: Float64Array,
+  e: number,
+  work: Float64Array,
+  kernels: VectorKernels = plainKernels,
+): void {
   op.apply(v, work);
   kernels.axpy(work, v, -e);
 }

@@ -13,7 +13,6 @@ export interface Pulse {
   sites: number[] | null;
 }
 
-
 export interface Ramp {
   /** Where this ramp sits in the spec, for error messages: evolve.ramp or evolve.ramp[k]. */
   path: string;
@@ -26,8 +25,7 @@ export interface Ramp {
 }
 
 export type InitialState =
-  | { kind: 'levels'; levels: number[] | null; pulses: Pulse[] }
-  | { kind: 'ground_state'; changes: [string, unknown][] };
+  { kind: 'levels'; levels: number[] | null; pulses: Pulse[] } | { kind: 'ground_state'; changes: [string, unknown][] };
 
 export interface EvolveSection {
   initial: InitialState;
@@ -53,7 +51,8 @@ function tableAt(value: unknown, path: string): Table {
 }
 
 function finite(value: unknown, path: string): number {
-  if (typeof value !== 'number' || !Number.isFinite(value)) throw new SpecError(path, `expected a finite number, got ${describeValue(value)}`);
+  if (typeof value !== 'number' || !Number.isFinite(value))
+    throw new SpecError(path, `expected a finite number, got ${describeValue(value)}`);
   return value;
 }
 
@@ -87,7 +86,10 @@ function validateInitial(value: unknown, path: string): InitialState {
   // -1 marks an empty site (itinerant kinds).
   if (Array.isArray(value)) return { kind: 'levels', levels: integerList(value, path, -1), pulses: [] };
   if (!isTable(value)) {
-    throw new SpecError(path, `expected a list of levels (one per site), a table with levels/pulses or ground_state, or "ground_state"; got ${describeValue(value)}`);
+    throw new SpecError(
+      path,
+      `expected a list of levels (one per site), a table with levels/pulses or ground_state, or "ground_state"; got ${describeValue(value)}`,
+    );
   }
   if (value.ground_state !== undefined) {
     onlyKeys(value, path, ['ground_state']);
@@ -107,7 +109,11 @@ function validateInitial(value: unknown, path: string): InitialState {
       if (between.length !== 2 || between[0] === between[1]) {
         throw new SpecError(`${at}.between`, `expected two different levels [a, b], got ${describeValue(t.between)}`);
       }
-      if (t.area === undefined) throw new SpecError(`${at}.area`, 'required key is missing (pi for a full transfer, pi/2 for an equal superposition)');
+      if (t.area === undefined)
+        throw new SpecError(
+          `${at}.area`,
+          'required key is missing (pi for a full transfer, pi/2 for an equal superposition)',
+        );
       pulses.push({
         between: [between[0], between[1]],
         area: finite(t.area, `${at}.area`),
@@ -128,13 +134,16 @@ export const MAX_EVOLVE_TIMES = 100_000;
 export const MAX_RAMP_STEPS = 100_000;
 
 function validateTimes(value: unknown, path: string): number[] {
-  if (value === undefined) throw new SpecError(path, 'required key is missing (a list of times, or { from, to, steps })');
+  if (value === undefined)
+    throw new SpecError(path, 'required key is missing (a list of times, or { from, to, steps })');
   if (Array.isArray(value)) {
     if (value.length === 0) throw new SpecError(path, 'expected at least one time');
-    if (value.length > MAX_EVOLVE_TIMES) throw new SpecError(path, `at most ${MAX_EVOLVE_TIMES} recorded times, got ${value.length}`);
+    if (value.length > MAX_EVOLVE_TIMES)
+      throw new SpecError(path, `at most ${MAX_EVOLVE_TIMES} recorded times, got ${value.length}`);
     const times = value.map((v, i) => nonNegative(v, `${path}[${i}]`));
     for (let i = 1; i < times.length; i++) {
-      if (!(times[i] > times[i - 1])) throw new SpecError(`${path}[${i}]`, `times must increase strictly; ${times[i]} follows ${times[i - 1]}`);
+      if (!(times[i] > times[i - 1]))
+        throw new SpecError(`${path}[${i}]`, `times must increase strictly; ${times[i]} follows ${times[i - 1]}`);
     }
     return times;
   }
@@ -144,10 +153,18 @@ function validateTimes(value: unknown, path: string): number[] {
   if (t.to === undefined) throw new SpecError(`${path}.to`, 'required key is missing');
   const to = nonNegative(t.to, `${path}.to`);
   if (!(to > from)) throw new SpecError(`${path}.to`, `must exceed from = ${from}, got ${to}`);
-  if (t.steps === undefined) throw new SpecError(`${path}.steps`, 'required key is missing (the number of intervals; steps+1 times are recorded)');
+  if (t.steps === undefined)
+    throw new SpecError(
+      `${path}.steps`,
+      'required key is missing (the number of intervals; steps+1 times are recorded)',
+    );
   const steps = integerAtLeast(t.steps, `${path}.steps`, 1);
   // steps + 1 times are recorded.
-  if (steps >= MAX_EVOLVE_TIMES) throw new SpecError(`${path}.steps`, `at most ${MAX_EVOLVE_TIMES - 1} (steps + 1 times are recorded, at most ${MAX_EVOLVE_TIMES}), got ${steps}`);
+  if (steps >= MAX_EVOLVE_TIMES)
+    throw new SpecError(
+      `${path}.steps`,
+      `at most ${MAX_EVOLVE_TIMES - 1} (steps + 1 times are recorded, at most ${MAX_EVOLVE_TIMES}), got ${steps}`,
+    );
   return Array.from({ length: steps + 1 }, (_, k) => (k === steps ? to : from + ((to - from) * k) / steps));
 }
 
@@ -155,7 +172,10 @@ function validateRamp(value: unknown, path: string): Ramp {
   const t = tableAt(value, path);
   onlyKeys(t, path, ['key', 'from', 'to', 'duration', 'start', 'steps']);
   if (typeof t.key !== 'string' || t.key.trim() === '') {
-    throw new SpecError(`${path}.key`, `expected a spec key path such as "exchange.strength", got ${describeValue(t.key)}`);
+    throw new SpecError(
+      `${path}.key`,
+      `expected a spec key path such as "exchange.strength", got ${describeValue(t.key)}`,
+    );
   }
   const key = t.key.trim();
   if (key.startsWith('evolve.') || key === 'evolve' || key.startsWith('scan.')) {
@@ -223,17 +243,25 @@ export function resolveEvolveSection(spec: Spec): void {
   if (initial.kind === 'levels') {
     if (initial.levels !== null) {
       const path = 'evolve.initial' + (initial.pulses.length > 0 ? '.levels' : '');
-      if (initial.levels.length !== L) throw new SpecError(path, `expected one level per site (${L}), got ${initial.levels.length}`);
+      if (initial.levels.length !== L)
+        throw new SpecError(path, `expected one level per site (${L}), got ${initial.levels.length}`);
       initial.levels.forEach((n, i) => {
         if (n >= N) throw new SpecError(`${path}[${i}]`, `level ${n} does not exist: levels.count is ${N}`);
-        if (n < 0 && spec.particles.kind === 'pinned') throw new SpecError(`${path}[${i}]`, 'pinned particles fill every site: -1 (empty) is for itinerant kinds');
+        if (n < 0 && spec.particles.kind === 'pinned')
+          throw new SpecError(`${path}[${i}]`, 'pinned particles fill every site: -1 (empty) is for itinerant kinds');
       });
       const placed = initial.levels.filter((n) => n >= 0).length;
       if (placed !== spec.particles.number) {
-        throw new SpecError(path, `places ${placed} particles (one per site not marked -1), but particles.number is ${spec.particles.number}`);
+        throw new SpecError(
+          path,
+          `places ${placed} particles (one per site not marked -1), but particles.number is ${spec.particles.number}`,
+        );
       }
     } else if (spec.particles.number !== L) {
-      throw new SpecError('evolve.initial', `the default start (every site in level 0) needs one particle per site; with particles.number = ${spec.particles.number} give evolve.initial with -1 on empty sites`);
+      throw new SpecError(
+        'evolve.initial',
+        `the default start (every site in level 0) needs one particle per site; with particles.number = ${spec.particles.number} give evolve.initial with -1 on empty sites`,
+      );
     }
     initial.pulses.forEach((p, k) => {
       const at = `evolve.initial.pulses[${k}]`;

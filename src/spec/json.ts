@@ -61,7 +61,8 @@ class Reader {
   here(): string {
     if (this.at >= this.text.length) return 'end of text';
     const code = this.text.codePointAt(this.at) as number;
-    if (code < 0x20 || code === 0x7f || (code >= 0x80 && code < 0xa0)) return `control character U+${code.toString(16).toUpperCase().padStart(4, '0')}`;
+    if (code < 0x20 || code === 0x7f || (code >= 0x80 && code < 0xa0))
+      return `control character U+${code.toString(16).toUpperCase().padStart(4, '0')}`;
     return `"${String.fromCodePoint(code)}"`;
   }
 
@@ -82,7 +83,11 @@ class Reader {
     if (c === '[') return this.array(depth);
     if (c === '"') return this.string();
     if (c === '-' || (c >= '0' && c <= '9')) return this.number();
-    for (const [word, value] of [['true', true], ['false', false], ['null', null]] as const) {
+    for (const [word, value] of [
+      ['true', true],
+      ['false', false],
+      ['null', null],
+    ] as const) {
       if (this.text.startsWith(word, this.at)) {
         this.at += word.length;
         return value;
@@ -105,7 +110,8 @@ class Reader {
       const keyOffset = this.at;
       const key = this.string();
       const first = firstSeen.get(key);
-      if (first !== undefined) throw new JsonReadError(keyOffset, 'duplicate key', { path: [...this.path, key], firstOffset: first });
+      if (first !== undefined)
+        throw new JsonReadError(keyOffset, 'duplicate key', { path: [...this.path, key], firstOffset: first });
       firstSeen.set(key, keyOffset);
       this.skipSpace();
       if (this.text[this.at] !== ':') this.fail(`unexpected ${this.here()}, expected ":" after a key`);
@@ -113,7 +119,12 @@ class Reader {
       this.skipSpace();
       this.path.push(key);
       // defineProperty: a key named __proto__ stays a plain key, as with JSON.parse.
-      Object.defineProperty(result, key, { value: this.value(depth + 1), writable: true, enumerable: true, configurable: true });
+      Object.defineProperty(result, key, {
+        value: this.value(depth + 1),
+        writable: true,
+        enumerable: true,
+        configurable: true,
+      });
       this.path.pop();
       this.skipSpace();
       const next = this.text[this.at];

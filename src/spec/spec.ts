@@ -107,7 +107,11 @@ const CORE_SECTIONS = ['chain', 'levels', 'exchange', 'ising', 'particles', 'sol
 // Reading text and files
 
 /** Parses spec text into a raw tree; syntax errors become InputError with line/column when known. */
-export function parseSpecText(text: string, format: 'toml' | 'json', sourceName = `<${format} text>`): Record<string, unknown> {
+export function parseSpecText(
+  text: string,
+  format: 'toml' | 'json',
+  sourceName = `<${format} text>`,
+): Record<string, unknown> {
   let tree: unknown;
   if (format === 'toml') {
     try {
@@ -118,7 +122,9 @@ export function parseSpecText(text: string, format: 'toml' | 'json', sourceName 
         // line, so the excerpt becomes the offending line quoted after the headline.
         const headline = e.message.replace(/^Invalid TOML document:\s*/, '').split('\n')[0];
         const source = text.split(/\r?\n/)[e.line - 1]?.trim();
-        const quoted = source ? ` (line ${e.line}: ${JSON.stringify(source.length > 80 ? `${source.slice(0, 77)}...` : source)})` : '';
+        const quoted = source
+          ? ` (line ${e.line}: ${JSON.stringify(source.length > 80 ? `${source.slice(0, 77)}...` : source)})`
+          : '';
         throw new InputError(`${sourceName}:${e.line}:${e.column}: invalid TOML: ${headline}${quoted}`);
       }
       throw new InputError(`${sourceName}: invalid TOML: ${errorText(e)}`);
@@ -134,7 +140,9 @@ export function parseSpecText(text: string, format: 'toml' | 'json', sourceName 
       };
       if (e.duplicate) {
         const path = formatPath(e.duplicate.path);
-        throw new InputError(`${sourceName}:${at(e.offset)}: ${path} is given twice (first at ${at(e.duplicate.firstOffset)}); a key may appear once`);
+        throw new InputError(
+          `${sourceName}:${at(e.offset)}: ${path} is given twice (first at ${at(e.duplicate.firstOffset)}); a key may appear once`,
+        );
       }
       throw new InputError(`${sourceName}:${at(e.offset)}: invalid JSON: ${e.problem}`);
     }
@@ -172,7 +180,7 @@ function errorText(e: unknown): string {
 }
 
 function fileErrorText(e: unknown): string {
-  const code = typeof e === 'object' && e !== null && 'code' in e ? (e as { code: unknown }).code : undefined;
+  const code = typeof e === 'object' && e !== null && 'code' in e ? e.code : undefined;
   switch (code) {
     case 'ENOENT':
       return 'no such file';
@@ -219,10 +227,17 @@ export function applyOverride(raw: Record<string, unknown>, assignment: string):
       // container is then an array.
       const list = container as unknown[];
       if (step >= list.length) {
-        throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: index ${step} is past the end of a list of ${list.length}`);
+        throw new SpecError(
+          here,
+          `cannot apply override ${quoteText(assignment)}: index ${step} is past the end of a list of ${list.length}`,
+        );
       }
       if (isLast) {
-        if (value === null) throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: a single list element cannot be removed`);
+        if (value === null)
+          throw new SpecError(
+            here,
+            `cannot apply override ${quoteText(assignment)}: a single list element cannot be removed`,
+          );
         list[step] = value;
         return;
       }
@@ -242,11 +257,17 @@ export function applyOverride(raw: Record<string, unknown>, assignment: string):
 
 function descend(child: unknown, next: PathStep, here: string, assignment: string): Table | unknown[] {
   if (typeof next === 'number') {
-    if (Array.isArray(child)) return child;
-    throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: ${here} is ${describeValue(child)}, not a list; set the whole list instead`);
+    if (Array.isArray(child)) return child as unknown[];
+    throw new SpecError(
+      here,
+      `cannot apply override ${quoteText(assignment)}: ${here} is ${describeValue(child)}, not a list; set the whole list instead`,
+    );
   }
   if (isTable(child)) return child;
-  throw new SpecError(here, `cannot apply override ${quoteText(assignment)}: ${here} is ${describeValue(child)}, not a table`);
+  throw new SpecError(
+    here,
+    `cannot apply override ${quoteText(assignment)}: ${here} is ${describeValue(child)}, not a table`,
+  );
 }
 
 function parseOverridePath(pathText: string, assignment: string): PathStep[] {
@@ -257,7 +278,8 @@ function parseOverridePath(pathText: string, assignment: string): PathStep[] {
   const steps: PathStep[] = [];
   for (const segment of pathText.split('.')) {
     const match = /^([A-Za-z_][A-Za-z0-9_-]*)((?:\[\d+\])*)$/.exec(segment.trim());
-    if (!match) bad(`${quoteText(segment)} is not a valid key (expected e.g. levels.tunnelling or levels.tunnelling[1])`);
+    if (!match)
+      bad(`${quoteText(segment)} is not a valid key (expected e.g. levels.tunnelling or levels.tunnelling[1])`);
     const [, key, indices] = match as RegExpExecArray;
     if (FORBIDDEN_KEYS.has(key)) bad(`"${key}" cannot be used as a key`);
     steps.push(key);
@@ -272,14 +294,18 @@ function parseOverrideValue(text: string, assignment: string): unknown {
   } catch (e) {
     if (e instanceof JsonReadError && e.duplicate) {
       const key = formatPath(e.duplicate.path);
-      throw new InputError(`override ${quoteText(assignment)}: ${key} is given twice in the value; a key may appear once`);
+      throw new InputError(
+        `override ${quoteText(assignment)}: ${key} is given twice in the value; a key may appear once`,
+      );
     }
     return text;
   }
 }
 
 function formatPath(steps: readonly PathStep[]): string {
-  return steps.map((s, i) => (typeof s === 'number' ? `[${s}]` : i === 0 ? keyForPath(s) : `.${keyForPath(s)}`)).join('');
+  return steps
+    .map((s, i) => (typeof s === 'number' ? `[${s}]` : i === 0 ? keyForPath(s) : `.${keyForPath(s)}`))
+    .join('');
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -354,7 +380,9 @@ function validateLevels(table: Table): Spec['levels'] {
   }
   const linkCount = boundary === 'ring' ? count : count - 1;
   const perLink =
-    boundary === 'ring' ? `one per link of a ring of ${count} levels` : `one per link of an open ladder of ${count} levels`;
+    boundary === 'ring'
+      ? `one per link of a ring of ${count} levels`
+      : `one per link of an open ladder of ${count} levels`;
   const perLevel = `one per level of ${count}`;
   return {
     count,
@@ -395,11 +423,15 @@ function validateIsing(table: Table, count: number): Spec['ising'] {
   let moments: number[];
   if (table.moments === undefined) {
     // A nonzero strength with no moments would silently do nothing.
-    if (strength !== 0) throw new SpecError('ising.moments', `required when ising.strength is not 0 (one per level of ${count})`);
+    if (strength !== 0)
+      throw new SpecError('ising.moments', `required when ising.strength is not 0 (one per level of ${count})`);
     moments = new Array<number>(count).fill(0);
   } else {
     if (!Array.isArray(table.moments)) {
-      throw new SpecError('ising.moments', `expected a list of ${count} numbers (one per level), got ${describeValue(table.moments)}`);
+      throw new SpecError(
+        'ising.moments',
+        `expected a list of ${count} numbers (one per level), got ${describeValue(table.moments)}`,
+      );
     }
     moments = numberList(table.moments, 'ising.moments', count, `one per level of ${count}`);
   }
@@ -411,7 +443,8 @@ function rangeAndCutoff(table: Table, section: string): { range: InteractionRang
   if (table.cutoff === undefined) return { range, cutoff: Infinity };
   const path = `${section}.cutoff`;
   // A cutoff on nearest-neighbour coupling would be silently ignored.
-  if (range !== 'dipolar') throw new SpecError(path, `only applies to ${section}.range = "dipolar" (range is "${range}")`);
+  if (range !== 'dipolar')
+    throw new SpecError(path, `only applies to ${section}.range = "dipolar" (range is "${range}")`);
   const cutoff = positiveNumber(table.cutoff, path);
   if (cutoff < 1) throw new SpecError(path, `must be at least 1 lattice spacing, or no pair is coupled; got ${cutoff}`);
   return { range, cutoff };
@@ -464,10 +497,16 @@ function validateParticles(particlesTable: Table, sites: number, count: number):
     if (particlesTable[tableKind] === undefined) continue;
     const path = `particles.${tableKind}`;
     const own = particlesTable[tableKind];
-    if (!isTable(own)) throw new SpecError(path, `expected a table of keys for kind = "${tableKind}", got ${describeValue(own)}`);
-    rejectUnknownKeys(own, path, PARTICLE_KEYS.filter((k) => k !== 'kind'));
+    if (!isTable(own))
+      throw new SpecError(path, `expected a table of keys for kind = "${tableKind}", got ${describeValue(own)}`);
+    rejectUnknownKeys(
+      own,
+      path,
+      PARTICLE_KEYS.filter((k) => k !== 'kind'),
+    );
     for (const [key, why] of Object.entries(unusedKeys(tableKind))) {
-      if (own[key] !== undefined) throw new SpecError(`${path}.${key}`, `not used for kind = "${tableKind}" (${why}); remove it`);
+      if (own[key] !== undefined)
+        throw new SpecError(`${path}.${key}`, `not used for kind = "${tableKind}" (${why}); remove it`);
     }
     // Types are checked for every kind's table, so a mistake is found before a scan reaches that kind.
     for (const [key, value] of Object.entries(own)) {
@@ -485,7 +524,10 @@ function validateParticles(particlesTable: Table, sites: number, count: number):
   for (const [key, why] of Object.entries(unusedKeys(kind))) {
     if (table[key] === undefined) continue;
     const elsewhere = PARTICLE_KINDS.filter((k) => !Object.hasOwn(unusedKeys(k), key)).map((k) => `[particles.${k}]`);
-    throw new SpecError(at(key), `not used for kind = "${kind}" (${why}); remove it, or move it to ${elsewhere.join(' or ')} to apply it to that kind only`);
+    throw new SpecError(
+      at(key),
+      `not used for kind = "${kind}" (${why}); remove it, or move it to ${elsewhere.join(' or ')} to apply it to that kind only`,
+    );
   }
 
   const number = table.number === undefined ? sites : positiveInteger(table.number, at('number'));
@@ -497,7 +539,10 @@ function validateParticles(particlesTable: Table, sites: number, count: number):
   }
 
   if (kind === 'pinned' && number !== sites) {
-    throw new SpecError(at('number'), `pinned particles fill every site exactly once, so number must equal chain.sites = ${sites}, got ${number}`);
+    throw new SpecError(
+      at('number'),
+      `pinned particles fill every site exactly once, so number must equal chain.sites = ${sites}, got ${number}`,
+    );
   }
   if (number > sites * maxPerSite) {
     const capacity =
@@ -515,7 +560,17 @@ function validateParticles(particlesTable: Table, sites: number, count: number):
 }
 
 function validateSolve(table: Table, sites: number): Spec['solve'] {
-  rejectUnknownKeys(table, 'solve', ['states', 'tolerance', 'max_matvecs', 'krylov', 'seed', 'entanglement', 'symmetries', 'sector', 'threads']);
+  rejectUnknownKeys(table, 'solve', [
+    'states',
+    'tolerance',
+    'max_matvecs',
+    'krylov',
+    'seed',
+    'entanglement',
+    'symmetries',
+    'sector',
+    'threads',
+  ]);
   const states = positiveInteger(orDefault(table.states, 4), 'solve.states');
   const tolerance = positiveNumber(orDefault(table.tolerance, 1e-9), 'solve.tolerance');
   const maxMatvecs = table.max_matvecs === undefined ? null : positiveInteger(table.max_matvecs, 'solve.max_matvecs');
@@ -548,7 +603,11 @@ function validateSector(value: unknown): Spec['solve']['sector'] {
   const sector: Spec['solve']['sector'] = {};
   const list = (key: string) => {
     const v = value[key];
-    return v === undefined ? undefined : Array.isArray(v) ? v.map((x, i) => [x, `${path}.${key}[${i}]`] as const) : [[v, `${path}.${key}`] as const];
+    return v === undefined
+      ? undefined
+      : Array.isArray(v)
+        ? v.map((x, i) => [x, `${path}.${key}[${i}]`] as const)
+        : [[v, `${path}.${key}`] as const];
   };
   const momentum = list('momentum');
   if (momentum) sector.momentum = momentum.map(([x, at]) => nonNegativeInteger(x, at));
@@ -559,7 +618,7 @@ function validateSector(value: unknown): Spec['solve']['sector'] {
     if (!entries) continue;
     sector[key] = entries.map(([x, at]) => {
       if (x !== 1 && x !== -1) throw new SpecError(at, `expected +1 or -1, got ${describeValue(x)}`);
-      return x;
+      return x as 1 | -1;
     });
   }
   return sector;
@@ -572,7 +631,10 @@ function validateEntanglement(value: unknown, sites: number): Spec['solve']['ent
     const at = `${path}[${i}]`;
     // A cut l splits sites 0..l-1 from l..L-1, so both sides are non-empty only for 1 <= l <= L-1.
     if (typeof cut !== 'number' || !Number.isSafeInteger(cut) || cut < 1 || cut > sites - 1) {
-      throw new SpecError(at, `expected a cut from 1 to ${sites - 1} (sites left of the cut), got ${describeValue(cut)}`);
+      throw new SpecError(
+        at,
+        `expected a cut from 1 to ${sites - 1} (sites left of the cut), got ${describeValue(cut)}`,
+      );
     }
     return cut;
   });
@@ -580,7 +642,8 @@ function validateEntanglement(value: unknown, sites: number): Spec['solve']['ent
 
 /** Rigid-rotor exchange weights c_n, n = 0..count-2: the squared M=0 dipole matrix element between levels n and n+1, normalised so c_0 = 1. */
 export function rotorWeights(count: number): number[] {
-  if (!Number.isInteger(count) || count < 1) throw new RangeError(`rotorWeights: count must be a positive integer, got ${count}`);
+  if (!Number.isInteger(count) || count < 1)
+    throw new RangeError(`rotorWeights: count must be a positive integer, got ${count}`);
   const weights: number[] = [];
   for (let n = 0; n < count - 1; n++) weights.push((n + 1) ** 2 / ((2 * n + 1) * (2 * n + 3)) / (1 / 3));
   return weights;
@@ -630,7 +693,10 @@ export function unknownKeyError(section: string, key: string, known: readonly st
   const guess = closestName(key, known);
   const path = section ? `${section}.${keyForPath(key)}` : keyForPath(key);
   const what = section ? 'key' : 'section';
-  return new SpecError(path, `unknown ${what}${guess ? ` (did you mean ${guess}?)` : ''}; valid ${what}s: ${known.join(', ')}`);
+  return new SpecError(
+    path,
+    `unknown ${what}${guess ? ` (did you mean ${guess}?)` : ''}; valid ${what}s: ${known.join(', ')}`,
+  );
 }
 
 /** A key (or key path) as an error names it: plain names as they are, anything else quoted and cut. */
@@ -719,7 +785,9 @@ export function cutText(text: string, limit = MESSAGE_TEXT_LIMIT): string {
 
 /** A user-supplied string as an error message shows it: quoted, escaped to one line, cut when long. */
 export function quoteText(text: string, limit = MESSAGE_TEXT_LIMIT): string {
-  return text.length <= limit ? JSON.stringify(text) : `${JSON.stringify(headOf(text, limit))}... (${text.length} characters)`;
+  return text.length <= limit
+    ? JSON.stringify(text)
+    : `${JSON.stringify(headOf(text, limit))}... (${text.length} characters)`;
 }
 
 function headOf(text: string, limit: number): string {
@@ -756,7 +824,8 @@ function editDistance(a: string, b: string): number {
     const current = [i];
     for (let j = 1; j <= b.length; j++) {
       current[j] = Math.min(previous[j] + 1, current[j - 1] + 1, previous[j - 1] + (a[i - 1] === b[j - 1] ? 0 : 1));
-      if (i > 1 && j > 1 && a[i - 1] === b[j - 2] && a[i - 2] === b[j - 1]) current[j] = Math.min(current[j], beforePrevious[j - 2] + 1);
+      if (i > 1 && j > 1 && a[i - 1] === b[j - 2] && a[i - 2] === b[j - 1])
+        current[j] = Math.min(current[j], beforePrevious[j - 2] + 1);
     }
     beforePrevious = previous;
     previous = current;

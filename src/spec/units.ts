@@ -81,7 +81,8 @@ export function wigner3j(j1: number, j2: number, j3: number, m1: number, m2: num
   if (m1 + m2 + m3 !== 0) return 0;
   if (j3 < Math.abs(j1 - j2) || j3 > j1 + j2) return 0;
   if (Math.abs(m1) > j1 || Math.abs(m2) > j2 || Math.abs(m3) > j3) return 0;
-  const triangle = (factorial(j1 + j2 - j3) * factorial(j1 - j2 + j3) * factorial(-j1 + j2 + j3)) / factorial(j1 + j2 + j3 + 1);
+  const triangle =
+    (factorial(j1 + j2 - j3) * factorial(j1 - j2 + j3) * factorial(-j1 + j2 + j3)) / factorial(j1 + j2 + j3 + 1);
   const norm = Math.sqrt(
     triangle *
       factorial(j1 + m1) *
@@ -186,13 +187,15 @@ function positive(value: unknown, path: string): number {
 }
 
 function finite(value: unknown, path: string): number {
-  if (typeof value !== 'number' || !Number.isFinite(value)) throw new SpecError(path, `expected a finite number, got ${describeValue(value)}`);
+  if (typeof value !== 'number' || !Number.isFinite(value))
+    throw new SpecError(path, `expected a finite number, got ${describeValue(value)}`);
   return value;
 }
 
 function numberOrList(value: unknown, path: string): number | number[] {
   if (Array.isArray(value)) return value.map((v, i) => finite(v, `${path}[${i}]`));
-  if (typeof value !== 'number') throw new SpecError(path, `expected a number or a list of numbers, got ${describeValue(value)}`);
+  if (typeof value !== 'number')
+    throw new SpecError(path, `expected a number or a list of numbers, got ${describeValue(value)}`);
   return finite(value, path);
 }
 
@@ -213,10 +216,16 @@ export function validateUnitsSection(value: unknown, keyPath: string): UnitsInpu
     energyUnitHz: opt('energy_unit_hz', positive),
   };
   if (input.dipoleDebye !== null && input.latticeSpacingNm === null) {
-    throw new SpecError(`${keyPath}.lattice_spacing_nm`, 'required with units.dipole_debye (the exchange falls as 1/a^3)');
+    throw new SpecError(
+      `${keyPath}.lattice_spacing_nm`,
+      'required with units.dipole_debye (the exchange falls as 1/a^3)',
+    );
   }
   if (input.latticeSpacingNm !== null && input.dipoleDebye === null) {
-    throw new SpecError(`${keyPath}.dipole_debye`, 'required with units.lattice_spacing_nm (the exchange scales as d^2)');
+    throw new SpecError(
+      `${keyPath}.dipole_debye`,
+      'required with units.lattice_spacing_nm (the exchange scales as d^2)',
+    );
   }
   return input;
 }
@@ -247,10 +256,16 @@ export function resolveUnits(spec: Spec, raw: Record<string, unknown>): void {
   let tunnellingHz: number[] | null = null;
   if (input.rabiKhz !== null) {
     conflict('levels', 'tunnelling', 'units.rabi_khz');
-    const why = spec.levels.boundary === 'ring' ? `one per link of a ring of ${spec.levels.count} levels` : `one per link of ${spec.levels.count} levels`;
+    const why =
+      spec.levels.boundary === 'ring'
+        ? `one per link of a ring of ${spec.levels.count} levels`
+        : `one per link of ${spec.levels.count} levels`;
     tunnellingHz = perSlot(input.rabiKhz, links, 'units.rabi_khz', why).map(tunnellingHzFromRabi);
   }
-  const exchange = input.dipoleDebye !== null ? exchangeHz(input.dipoleDebye, input.latticeSpacingNm as number, input.dipoleAngleDeg) : null;
+  const exchange =
+    input.dipoleDebye !== null
+      ? exchangeHz(input.dipoleDebye, input.latticeSpacingNm as number, input.dipoleAngleDeg)
+      : null;
   if (exchange !== null) conflict('exchange', 'strength', 'units.dipole_debye and units.lattice_spacing_nm');
 
   let energyUnitHz = input.energyUnitHz;
@@ -268,9 +283,12 @@ export function resolveUnits(spec: Spec, raw: Record<string, unknown>): void {
   if (tunnellingHz !== null) spec.levels.tunnelling = tunnellingHz.map((j) => j / energyUnitHz);
   if (input.detuningKhz !== null) {
     conflict('levels', 'detuning', 'units.detuning_khz');
-    spec.levels.detuning = perSlot(input.detuningKhz, spec.levels.count, 'units.detuning_khz', `one per level of ${spec.levels.count}`).map(
-      (khz) => (khz * 1e3) / energyUnitHz,
-    );
+    spec.levels.detuning = perSlot(
+      input.detuningKhz,
+      spec.levels.count,
+      'units.detuning_khz',
+      `one per level of ${spec.levels.count}`,
+    ).map((khz) => (khz * 1e3) / energyUnitHz);
   }
   if (exchange !== null) {
     spec.exchange.strength = exchange / energyUnitHz;
@@ -282,7 +300,9 @@ export function resolveUnits(spec: Spec, raw: Record<string, unknown>): void {
     }
   }
   const linkFrequenciesGhz =
-    input.rotationalConstantGhz === null ? null : Array.from({ length: openLinks }, (_, n) => 2 * (input.rotationalConstantGhz as number) * (n + 1));
+    input.rotationalConstantGhz === null
+      ? null
+      : Array.from({ length: openLinks }, (_, n) => 2 * (input.rotationalConstantGhz as number) * (n + 1));
 
   const resolved: LabUnits = {
     input,
@@ -318,9 +338,12 @@ export function describeUnits(units: LabUnits): string[] {
         `${units.input.dipoleAngleDeg} deg to the chain)`,
     );
   }
-  if (units.tunnellingHz !== null) lines.push(`tunnelling       J = ${units.tunnellingHz.map(formatHz).join(', ')} (half the Rabi frequency)`);
+  if (units.tunnellingHz !== null)
+    lines.push(`tunnelling       J = ${units.tunnellingHz.map(formatHz).join(', ')} (half the Rabi frequency)`);
   if (units.linkFrequenciesGhz !== null) {
-    lines.push(`microwaves       ${units.linkFrequenciesGhz.map((f) => formatHz(f * 1e9)).join(', ')} (rigid rotor, 2B(n+1) per link)`);
+    lines.push(
+      `microwaves       ${units.linkFrequenciesGhz.map((f) => formatHz(f * 1e9)).join(', ')} (rigid rotor, 2B(n+1) per link)`,
+    );
   }
   return lines;
 }
@@ -340,6 +363,10 @@ export function labEnergies(units: LabUnits, energies: number[], gap: number | n
 /** Lines for the readable `solve` output: the unit lines, then the energies in Hz. */
 export function describeLabEnergies(units: LabUnits, energies: number[], gap: number | null): string[] {
   const lines = describeUnits(units);
-  lines.push(`in the lab       E0 = ${formatHz(energies[0] * units.energyUnitHz)}` + (gap === null ? '' : `, gap = ${formatHz(gap * units.energyUnitHz)}`) + ' (times h)');
+  lines.push(
+    `in the lab       E0 = ${formatHz(energies[0] * units.energyUnitHz)}` +
+      (gap === null ? '' : `, gap = ${formatHz(gap * units.energyUnitHz)}`) +
+      ' (times h)',
+  );
   return lines;
 }

@@ -161,7 +161,15 @@ export function detectSymmetries(model: Model, basis: PinnedBasis): SymmetryChec
       }
     }
   }
-  checks.push({ name: 'charge', present: charge, detail: charge ? 'no term changes the total level' : N < 2 ? 'needs 2 levels' : 'synthetic tunnelling changes the total level' });
+  checks.push({
+    name: 'charge',
+    present: charge,
+    detail: charge
+      ? 'no term changes the total level'
+      : N < 2
+        ? 'needs 2 levels'
+        : 'synthetic tunnelling changes the total level',
+  });
   if (N < 2) checks.push({ name: 'level_flip', present: false, detail: 'needs 2 levels' });
   else {
     const ok = commutes((s) => actions.flip(s));
@@ -171,7 +179,11 @@ export function detectSymmetries(model: Model, basis: PinnedBasis): SymmetryChec
 }
 
 /** Is column b (of g s) the image under g of column a (of s)? Order-free, duplicates summed. */
-function sameColumn(a: { count: number; targets: Float64Array; re: Float64Array; im: Float64Array }, b: typeof a, g: (s: number) => number): boolean {
+function sameColumn(
+  a: { count: number; targets: Float64Array; re: Float64Array; im: Float64Array },
+  b: typeof a,
+  g: (s: number) => number,
+): boolean {
   if (a.re[0] !== b.re[0] && Math.abs(a.re[0] - b.re[0]) > 1e-12 * Math.max(1, Math.abs(a.re[0]))) return false;
   const mapped = new Map<number, [number, number]>();
   let scale = 1;
@@ -186,7 +198,8 @@ function sameColumn(a: { count: number; targets: Float64Array; re: Float64Array;
     const prev = mapped.get(t) ?? [0, 0];
     mapped.set(t, [prev[0] - b.re[k], prev[1] - b.im[k]]);
   }
-  for (const [re, im] of mapped.values()) if (Math.abs(re) > 1e-12 * scale || Math.abs(im) > 1e-12 * scale) return false;
+  for (const [re, im] of mapped.values())
+    if (Math.abs(re) > 1e-12 * scale || Math.abs(im) > 1e-12 * scale) return false;
   return true;
 }
 
@@ -246,7 +259,9 @@ export function planSectors(
             copies.push({ ...label, momentum: partner });
           }
           const keep = (l: SectorLabel) =>
-            wanted(selection.momentum, l.momentum) && wanted(selection.parity, l.parity) && wanted(selection.level_flip, l.level_flip);
+            wanted(selection.momentum, l.momentum) &&
+            wanted(selection.parity, l.parity) &&
+            wanted(selection.level_flip, l.level_flip);
           const kept = [label, ...copies].filter(keep);
           if (kept.length === 0) continue;
           plans.push({ label: kept[0], copies: kept.slice(1) });

@@ -91,8 +91,14 @@ export class OrbitMap {
     }
     this.repOf = repOf;
     this.elementOf = elementOf;
-    const place = <T extends Float64Array | Int32Array>(make: (buffer: ArrayBufferLike) => T, values: number[], bytes: number): T => {
-      const array = make(shared ? new SharedArrayBuffer(bytes * values.length) : new ArrayBuffer(bytes * values.length));
+    const place = <T extends Float64Array | Int32Array>(
+      make: (buffer: ArrayBufferLike) => T,
+      values: number[],
+      bytes: number,
+    ): T => {
+      const array = make(
+        shared ? new SharedArrayBuffer(bytes * values.length) : new ArrayBuffer(bytes * values.length),
+      );
       array.set(values);
       return array;
     };
@@ -121,7 +127,10 @@ export class OrbitMap {
   }
 }
 
-export type OrbitMapParts = Pick<OrbitMap, 'group' | 'translations' | 'order' | 'repOf' | 'elementOf' | 'reps' | 'period' | 'jP' | 'jF' | 'jPF' | 'charge'>;
+export type OrbitMapParts = Pick<
+  OrbitMap,
+  'group' | 'translations' | 'order' | 'repOf' | 'elementOf' | 'reps' | 'period' | 'jP' | 'jF' | 'jPF' | 'charge'
+>;
 
 /** One sector: the representatives compatible with its characters, and their norms n_r. */
 export class SectorBasis {

@@ -34,7 +34,14 @@ export function buildSectorOperator(
 }
 
 /** Rows [from, to) of a sector's matrix into `builder` (which then holds to - from rows). */
-export function buildSectorRows(model: Model, basis: PinnedBasis, sector: SectorBasis, from: number, to: number, builder: CsrBuilder): void {
+export function buildSectorRows(
+  model: Model,
+  basis: PinnedBasis,
+  sector: SectorBasis,
+  from: number,
+  to: number,
+  builder: CsrBuilder,
+): void {
   const columns = new PinnedColumns(model, basis);
   const buf = columnBuffer(model);
   const { repOf, elementOf, reps } = sector.orbits;

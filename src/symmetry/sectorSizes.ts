@@ -33,7 +33,11 @@ interface GroupElement {
 }
 
 /** Every sector the solve will use (after `selection`), with its exact dimension. */
-export function sectorSizes(model: Pick<Model, 'sites' | 'levels' | 'isComplex'>, used: Record<SymmetryName, boolean>, selection: SectorSelection = {}): SectorSize[] {
+export function sectorSizes(
+  model: Pick<Model, 'sites' | 'levels' | 'isComplex'>,
+  used: Record<SymmetryName, boolean>,
+  selection: SectorSelection = {},
+): SectorSize[] {
   const L = model.sites;
   const N = model.levels;
   const flipUsed = used.level_flip && !used.charge;
@@ -107,7 +111,8 @@ function fixedConfigurations(g: GroupElement, N: number, q: number | null): numb
     const next = new Float64Array(q + 1);
     for (let total = 0; total <= q; total++) {
       if (ways[total] === 0) continue;
-      for (let level = 0; level < N && total + level * length <= q; level++) next[total + level * length] += ways[total];
+      for (let level = 0; level < N && total + level * length <= q; level++)
+        next[total + level * length] += ways[total];
     }
     ways = next;
   }

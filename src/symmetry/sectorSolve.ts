@@ -12,7 +12,6 @@ import type { PinnedBasis } from '../basis/basis.js';
 import { OrbitMap, SectorBasis, type GroupUse, type OrbitMapParts } from './sectorBasis.js';
 import { errorFromThread, SpecError } from '../errors/errors.js';
 import type { Model } from '../model/model.js';
-import type { HermitianOperator } from '../operator/hermitian.js';
 import { ChunkSpares, CsrBuilder, type BuiltRows } from '../operator/csr.js';
 import { buildSectorOperator, buildSectorRows } from './sectorOperator.js';
 import { ProductTeam, withThreads } from '../operator/threaded.js';
@@ -22,7 +21,14 @@ import { degeneracyWindow, denseThresholdFor, lowestEigenpairs, type EigenOption
 import { residualNorm } from '../solver/residual.js';
 import { KernelTeam } from '../linalg/kernelTeam.js';
 import { sectorSizes } from './sectorSizes.js';
-import { IndexActions, planSectors, type SectorLabel, type SectorPlan, type SectorSelection, type SymmetryName } from './group.js';
+import {
+  IndexActions,
+  planSectors,
+  type SectorLabel,
+  type SectorPlan,
+  type SectorSelection,
+  type SymmetryName,
+} from './group.js';
 
 export interface SectorRun {
   label: SectorLabel;
@@ -71,7 +77,11 @@ function labelKey(l: SectorLabel): string {
   return `${l.momentum},${l.parity},${l.level_flip},${l.charge}`;
 }
 
-function sectorDimensionsByKey(model: Model, use: Record<SymmetryName, boolean>, selection: SectorSelection): Map<string, number> {
+function sectorDimensionsByKey(
+  model: Model,
+  use: Record<SymmetryName, boolean>,
+  selection: SectorSelection,
+): Map<string, number> {
   return new Map(sectorSizes(model, use, selection).map((s) => [labelKey(s.label), s.dimension]));
 }
 
@@ -130,7 +140,11 @@ interface SectorOutcome {
 }
 
 function groupFor(label: SectorLabel): GroupUse {
-  return { translation: label.momentum !== null, reflection: label.parity !== null, levelFlip: label.level_flip !== null };
+  return {
+    translation: label.momentum !== null,
+    reflection: label.parity !== null,
+    levelFlip: label.level_flip !== null,
+  };
 }
 
 /** Charges near the middle first, then momenta 0 and pi, then the rest: ground states usually live there. */
@@ -150,7 +164,6 @@ function sectorOrder(model: Model) {
     return (a.label.momentum ?? 0) - (b.label.momentum ?? 0);
   };
 }
-
 
 // ---------------------------------------------------------------------------------------------
 // State shared by the threads of one solve: the next sector to take, the lowest energies found
@@ -230,7 +243,10 @@ function canMatter(energy: number, bounds: { ground: number; ceiling: number }, 
   // Twice the window: the final filter uses the final ground level and ceiling, which only go down.
   const { ground, ceiling } = bounds;
   if (!Number.isFinite(ceiling)) return true;
-  return energy <= ceiling + 2 * degeneracyWindow(ceiling, tolerance) || energy - ground <= 2 * degeneracyWindow(ground, tolerance);
+  return (
+    energy <= ceiling + 2 * degeneracyWindow(ceiling, tolerance) ||
+    energy - ground <= 2 * degeneracyWindow(ground, tolerance)
+  );
 }
 
 /** The orbit maps of the groups the sectors use, built once (shared between threads when asked). */
@@ -301,7 +317,8 @@ function solveSector(
   const sector = new SectorBasis(maps.for(plan.label), plan.label);
   if (sector.dim === 0) return null;
   const mark = arena?.mark();
-  const split = builds && sector.dim >= (opts.splitBuildRows ?? SPLIT_BUILD_ROWS) ? builds.rowsFrom(index, sector.dim) : null;
+  const split =
+    builds && sector.dim >= (opts.splitBuildRows ?? SPLIT_BUILD_ROWS) ? builds.rowsFrom(index, sector.dim) : null;
   const stored = buildSectorOperator(model, basis, sector, arena, spares, split);
   const threads = threadsFor(stored.nonzeros());
   const op = withThreads(stored, threads, undefined, undefined, productTeamFor?.(threads) ?? null);
@@ -327,7 +344,9 @@ function solveSector(
       krylovSize: opts.krylovSize !== undefined ? Math.min(opts.krylovSize, sector.dim) : undefined,
       seed: opts.seed,
       initial,
-      onProgress: onProgress ? (info) => onProgress({ ...info, matvecs: matvecs + info.matvecs, restarts: restarts + info.restarts }) : undefined,
+      onProgress: onProgress
+        ? (info) => onProgress({ ...info, matvecs: matvecs + info.matvecs, restarts: restarts + info.restarts })
+        : undefined,
     };
     const need = Math.min(states, sector.dim);
     const screenLine = (): number => {
@@ -396,8 +415,24 @@ function solveSector(
         }
       }
       if (energies.length === 0) {
-        const run = { label: plan.label, dimension: sector.dim, method: 'lanczos' as const, iterations: matvecs, lowest: screenedAt, screened: true, copies: plan.copies, nonzeros: stored.nonzeros() };
-        return { run, states: { plan: index, energies: [], residuals: [], vectors: [], complex: isComplex }, matvecs, restarts, converged: true, groundComplete: true };
+        const run = {
+          label: plan.label,
+          dimension: sector.dim,
+          method: 'lanczos' as const,
+          iterations: matvecs,
+          lowest: screenedAt,
+          screened: true,
+          copies: plan.copies,
+          nonzeros: stored.nonzeros(),
+        };
+        return {
+          run,
+          states: { plan: index, energies: [], residuals: [], vectors: [], complex: isComplex },
+          matvecs,
+          restarts,
+          converged: true,
+          groundComplete: true,
+        };
       }
     } else {
       const result = lowestEigenpairs(op, { ...base, states: need, groundCopies });
@@ -412,7 +447,16 @@ function solveSector(
       shared.publish(energies, plan.copies.length);
     }
     const bounds = shared.bounds();
-    const run = { label: plan.label, dimension: sector.dim, method, iterations: matvecs, lowest: energies[0], screened: false, copies: plan.copies, nonzeros: stored.nonzeros() };
+    const run = {
+      label: plan.label,
+      dimension: sector.dim,
+      method,
+      iterations: matvecs,
+      lowest: energies[0],
+      screened: false,
+      copies: plan.copies,
+      nonzeros: stored.nonzeros(),
+    };
     return {
       run,
       states: {
@@ -473,7 +517,9 @@ function expandGroundSpace(ground: Found[], model: Model, basis: PinnedBasis): F
 function prune(outcomes: SectorOutcome[], shared: SharedProgress, tolerance: number): void {
   const bounds = shared.bounds();
   for (const o of outcomes) {
-    o.states.vectors = o.states.vectors.map((v, k) => (v && canMatter(o.states.energies[k], bounds, tolerance) ? v : null));
+    o.states.vectors = o.states.vectors.map((v, k) =>
+      v && canMatter(o.states.energies[k], bounds, tolerance) ? v : null,
+    );
   }
 }
 
@@ -492,7 +538,8 @@ interface BuildHelperData {
 }
 
 type BuildRequest = { plan: number; from: number; to: number };
-type BuildAnswer = { kind: 'rows'; rows: BuiltRows; seconds: number } | { kind: 'error'; name: string; message: string };
+type BuildAnswer =
+  { kind: 'rows'; rows: BuiltRows; seconds: number } | { kind: 'error'; name: string; message: string };
 
 /**
  * A thread that builds the later rows of a large sector while this thread builds the first ones:
@@ -561,7 +608,6 @@ function describe(e: unknown): { name: string; message: string } {
   return e instanceof Error ? { name: e.name, message: e.message } : { name: 'Error', message: String(e) };
 }
 
-
 /** The build helper's side: answer each request with the rows asked for. */
 function serveBuilds(data: BuildHelperData): void {
   const maps = new OrbitMaps(data.basis, false, data.maps);
@@ -599,11 +645,25 @@ export function runSectorHelper(data: HelperData): void {
     const maps = new OrbitMaps(data.basis, false, data.maps);
     const arena = VectorArena.acquire();
     const spares = new ChunkSpares();
-    for (let i; (i = shared.claim()) < data.plans.length; ) {
-      const outcome = solveSector(data.model, data.basis, data.plans, i, maps, data.opts, shared, arena, spares, () => 1, undefined);
+    for (let i; (i = shared.claim()) < data.plans.length;) {
+      const outcome = solveSector(
+        data.model,
+        data.basis,
+        data.plans,
+        i,
+        maps,
+        data.opts,
+        shared,
+        arena,
+        spares,
+        () => 1,
+        undefined,
+      );
       if (!outcome) continue;
       const vectors = outcome.states.vectors.filter((v): v is Float64Array => v !== null);
-      data.port.postMessage({ kind: 'sector', outcome } satisfies HelperMessage, [...new Set(vectors.map((v) => v.buffer as ArrayBuffer))]);
+      data.port.postMessage({ kind: 'sector', outcome } satisfies HelperMessage, [
+        ...new Set(vectors.map((v) => v.buffer as ArrayBuffer)),
+      ]);
     }
     arena?.recycle();
   } catch (e) {
@@ -623,17 +683,24 @@ export function solveInSectors(
   const selection = opts.selection ?? {};
   (selection.momentum ?? []).forEach((m, i) => {
     if (!use.translation) throw new SpecError('solve.sector.momentum', 'this model has no translation symmetry');
-    if (m >= model.sites) throw new SpecError(`solve.sector.momentum[${i}]`, `momentum index must be below ${model.sites}, got ${m}`);
+    if (m >= model.sites)
+      throw new SpecError(`solve.sector.momentum[${i}]`, `momentum index must be below ${model.sites}, got ${m}`);
   });
-  if (selection.parity && !use.reflection) throw new SpecError('solve.sector.parity', 'this model has no reflection symmetry');
-  if (selection.charge && !use.charge) throw new SpecError('solve.sector.charge', 'this model does not conserve the total level');
-  if (selection.level_flip && !use.level_flip) throw new SpecError('solve.sector.level_flip', 'this model has no level-flip symmetry');
+  if (selection.parity && !use.reflection)
+    throw new SpecError('solve.sector.parity', 'this model has no reflection symmetry');
+  if (selection.charge && !use.charge)
+    throw new SpecError('solve.sector.charge', 'this model does not conserve the total level');
+  if (selection.level_flip && !use.level_flip)
+    throw new SpecError('solve.sector.level_flip', 'this model has no level-flip symmetry');
 
   const plans = planSectors(use, model, selection).sort(sectorOrder(model));
   const states = opts.states;
   const helpers = Math.max(0, Math.min(opts.sectorThreads ?? 1, plans.length) - 1);
   // One at a time with threaded products: large sectors get a second thread for their build.
-  const splitBuilds = helpers === 0 && (opts.threadsFor?.(Number.MAX_SAFE_INTEGER) ?? 1) > 1 && basis.dim >= (opts.splitBuildRows ?? SPLIT_BUILD_ROWS);
+  const splitBuilds =
+    helpers === 0 &&
+    (opts.threadsFor?.(Number.MAX_SAFE_INTEGER) ?? 1) > 1 &&
+    basis.dim >= (opts.splitBuildRows ?? SPLIT_BUILD_ROWS);
   const maps = new OrbitMaps(basis, helpers > 0 || splitBuilds);
   let builds: BuildHelper | null = null;
   // One team of kernel helpers and one of product helpers for every sector solved here on more
@@ -648,7 +715,17 @@ export function solveInSectors(
     if (helpers > 0) {
       // Every map the sectors use exists before the helpers start, so they share it.
       for (const plan of plans) maps.for(plan.label);
-      const { initial, initialComplex, states: s, tolerance, maxMatvecs, krylovSize, seed, selection: sel, groundCopies } = opts;
+      const {
+        initial,
+        initialComplex,
+        states: s,
+        tolerance,
+        maxMatvecs,
+        krylovSize,
+        seed,
+        selection: sel,
+        groundCopies,
+      } = opts;
       const script = workerScript('sectors');
       for (let h = 0; h < helpers; h++) {
         const { port1, port2 } = new MessageChannel();
@@ -656,7 +733,17 @@ export function solveInSectors(
           model,
           basis,
           plans,
-          opts: { initial, initialComplex, states: s, tolerance, maxMatvecs, krylovSize, seed, selection: sel, groundCopies },
+          opts: {
+            initial,
+            initialComplex,
+            states: s,
+            tolerance,
+            maxMatvecs,
+            krylovSize,
+            seed,
+            selection: sel,
+            groundCopies,
+          },
           maps: maps.parts(),
           progress: { words: shared.words, lowest: shared.lowest },
           port: port2,
@@ -688,14 +775,30 @@ export function solveInSectors(
         dimension: sizes.get(labelKey(plans[i].label)) ?? 0,
         spaceBefore: totalDimension > 0 ? before / totalDimension : 0,
       });
-      return (info: Parameters<NonNullable<EigenOptions['onProgress']>>[0]) => report({ ...info, matvecs: shared.matvecs() + info.matvecs, sector: sector() });
+      return (info: Parameters<NonNullable<EigenOptions['onProgress']>>[0]) =>
+        report({ ...info, matvecs: shared.matvecs() + info.matvecs, sector: sector() });
     };
     const arena = VectorArena.acquire();
     const spares = new ChunkSpares();
     const kernels = new KeptTeam((threads) => (arena ? KernelTeam.start(arena, threads) : null));
     kernelTeams = kernels;
-    for (let i; (i = shared.claim()) < plans.length; ) {
-      const outcome = solveSector(model, basis, plans, i, maps, opts, shared, arena, spares, threadsFor, onProgressIn(i), builds, (t) => kernels.for(t), (t) => productTeams.for(t));
+    for (let i; (i = shared.claim()) < plans.length;) {
+      const outcome = solveSector(
+        model,
+        basis,
+        plans,
+        i,
+        maps,
+        opts,
+        shared,
+        arena,
+        spares,
+        threadsFor,
+        onProgressIn(i),
+        builds,
+        (t) => kernels.for(t),
+        (t) => productTeams.for(t),
+      );
       if (outcome) outcomes.push(outcome);
       prune(outcomes, shared, opts.tolerance);
     }
@@ -704,7 +807,7 @@ export function solveInSectors(
     if (helpers > 0) {
       shared.waitForHelpers(helpers);
       for (const port of channels) {
-        for (let m; (m = receiveMessageOnPort(port)); ) {
+        for (let m; (m = receiveMessageOnPort(port));) {
           const message = m.message as HelperMessage;
           if (message.kind === 'error') throw errorFromThread(message.name, message.message, 'a sector thread');
           outcomes.push(message.outcome);
@@ -716,7 +819,7 @@ export function solveInSectors(
     for (const port of channels) port.close();
     for (const worker of started) void worker.terminate();
     builds?.close();
-    (kernelTeams as KeptTeam<KernelTeam> | null)?.close();
+    kernelTeams?.close();
     productTeams.close();
   }
 
@@ -750,14 +853,19 @@ export function solveInSectors(
   found = found.filter((f, k) => k < states || f.energy - e0 <= window);
   const ground = found.filter((f) => f.energy - e0 <= window);
   // Only sectors holding the ground level need all its copies.
-  const degeneracyComplete = outcomes.every((o) => o.groundComplete || o.states.energies.length === 0 || o.states.energies[0] - e0 > window);
+  const degeneracyComplete = outcomes.every(
+    (o) => o.groundComplete || o.states.energies.length === 0 || o.states.energies[0] - e0 > window,
+  );
   // Copies (k <-> -k) share their representative's probabilities for these diagonal observables:
   // complex conjugation leaves |psi|^2 unchanged, and a reflected translation-invariant state has
   // the same populations, spreads, pair separations and string width.
   const probabilities = new Float64Array(basis.dim);
   for (const g of ground) g.sector!.accumulateProbabilities(g.vector!, g.complex, 1 / ground.length, probabilities);
   // Full-space vectors of a level with more copies than the cap would not fit in memory.
-  const groundStates = opts.expandGround && ground.length <= Math.max(states, opts.groundCopies ?? states) ? expandGroundSpace(ground, model, basis) : [];
+  const groundStates =
+    opts.expandGround && ground.length <= Math.max(states, opts.groundCopies ?? states)
+      ? expandGroundSpace(ground, model, basis)
+      : [];
   const answer = found.slice(0, states);
   return {
     energies: answer.map((f) => f.energy),

@@ -8,7 +8,10 @@ import { Worker, type TransferListItem } from 'node:worker_threads';
 
 /** A worker entry point in workers/ (from dist/src/threads; tests that load src/*.ts use the built one). */
 export function workerScript(name: string): URL {
-  return new URL(import.meta.url.endsWith('.ts') ? `../../dist/workers/${name}.js` : `../../workers/${name}.js`, import.meta.url);
+  return new URL(
+    import.meta.url.endsWith('.ts') ? `../../dist/workers/${name}.js` : `../../workers/${name}.js`,
+    import.meta.url,
+  );
 }
 
 /** Runs `body` holding the spin lock in words[at] (0 free, 1 held); for critical sections of a few instructions. */

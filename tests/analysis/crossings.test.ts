@@ -26,7 +26,9 @@ type Analysis = ReturnType<typeof analyseScan>;
 /** Lowest energy with charge q at Delta = 0 (free fermions, parity-dependent boundary twist). */
 function closedFormSectorEnergy(L: number, V: number, q: number): number {
   const shift = q % 2 === 1 ? 0 : 0.5;
-  const eps = Array.from({ length: L }, (_, m) => 2 * V * Math.cos((2 * Math.PI * (m + shift)) / L)).sort((a, b) => a - b);
+  const eps = Array.from({ length: L }, (_, m) => 2 * V * Math.cos((2 * Math.PI * (m + shift)) / L)).sort(
+    (a, b) => a - b,
+  );
   return eps.slice(0, q).reduce((s, e) => s + e, 0);
 }
 
@@ -79,13 +81,21 @@ const V = 1;
 describe('the XX ring in closed form', () => {
   it('matches a dense diagonalization of every charge sector', () => {
     for (const size of [3, 4, 5, 6]) {
-      for (let q = 0; q <= size; q++) expect(closedFormSectorEnergy(size, V, q)).toBeCloseTo(denseSectorGround(size, V, q), 10);
+      for (let q = 0; q <= size; q++)
+        expect(closedFormSectorEnergy(size, V, q)).toBeCloseTo(denseSectorGround(size, V, q), 10);
     }
   });
 
   it('has its ground charge step once per unit at L = 6, symmetric about Delta = 0', () => {
     const c = closedFormCrossings(L, V);
-    expect(c.map((x) => [x.from, x.to])).toEqual([[6, 5], [5, 4], [4, 3], [3, 2], [2, 1], [1, 0]]);
+    expect(c.map((x) => [x.from, x.to])).toEqual([
+      [6, 5],
+      [5, 4],
+      [4, 3],
+      [3, 2],
+      [2, 1],
+      [1, 0],
+    ]);
     for (let k = 0; k < c.length; k++) expect(c[k].position).toBeCloseTo(-c[c.length - 1 - k].position, 12);
   });
 });
@@ -137,8 +147,13 @@ describe('crossings reported by summary --analysis --json', () => {
     expect(text.stdout).toContain('q=4 m=0 P=+ -> q=3');
     // The CSV has one row per crossing, with the same positions (plain RFC 4180, no quoted fields here).
     const csv = runCli(['summary', ringRun, '--analysis', '--csv']);
-    const [header, ...rows] = csv.stdout.trim().split('\n').map((l) => l.split(','));
-    const crossingRows = rows.filter((r) => r[0] === 'crossing').map((r) => Object.fromEntries(header.map((h, k) => [h, r[k]])));
+    const [header, ...rows] = csv.stdout
+      .trim()
+      .split('\n')
+      .map((l) => l.split(','));
+    const crossingRows = rows
+      .filter((r) => r[0] === 'crossing')
+      .map((r) => Object.fromEntries(header.map((h, k) => [h, r[k]])));
     expect(crossingRows.map((r) => Number(r.position))).toEqual(ring.lines[0].crossings.map((c) => c.position));
     expect(crossingRows[0].from).toBe('q=6 m=0 P=+');
     const out = path.join(path.dirname(ringRun), 'report.html');
@@ -198,7 +213,9 @@ describe('gap above the ground level', () => {
   it('is the distance to the next level on a 4-fold degenerate XX ring of 3 sites (closed form: 1)', () => {
     // Delta = 0, L = 3: q = 1 and q = 2 both have -V twice (m = 1, 2), q = 0 and q = 3 have 0.
     const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-gap-'));
-    const spec = SPEC(3, 'periodic', 0, 0, 1).replace(/\[\[scan\.axis\]\][\s\S]*$/, '').replace('states = 2', 'states = 6');
+    const spec = SPEC(3, 'periodic', 0, 0, 1)
+      .replace(/\[\[scan\.axis\]\][\s\S]*$/, '')
+      .replace('states = 2', 'states = 6');
     writeFileSync(path.join(dir, 'ring3.toml'), spec);
     const r = runCli(['solve', path.join(dir, 'ring3.toml'), '--json']);
     expect(r.code, r.stderr).toBe(0);
@@ -220,12 +237,33 @@ describe('finite-size fits of peak positions are flagged', () => {
       gap,
       observables: { populations: [], level_mean: [], spread: [], string_width: 0, pair_separation: [] },
       basis: { kind: 'pinned', dimension: 4, sites: 2, levels: 2, operator: 'on-the-fly', nonzeros: 0 },
-      solver: { method: 'dense', iterations: 1, restarts: 0, residuals: [0, 0], converged: true, tolerance: 1e-9, degeneracy: 1, degeneracy_complete: true, seconds: 0, memory_estimate_bytes: 0 },
+      solver: {
+        method: 'dense',
+        iterations: 1,
+        restarts: 0,
+        residuals: [0, 0],
+        converged: true,
+        tolerance: 1e-9,
+        degeneracy: 1,
+        degeneracy_complete: true,
+        seconds: 0,
+        memory_estimate_bytes: 0,
+      },
     });
     return {
-      axes: [{ key: 'chain.sites', values: sizes }, { key: 'exchange.strength', values: xs }],
+      axes: [
+        { key: 'chain.sites', values: sizes },
+        { key: 'exchange.strength', values: xs },
+      ],
       zip: false,
-      points: sizes.flatMap((size, i) => xs.map((x, k) => ({ index: i * xs.length + k, params: { 'chain.sites': size, 'exchange.strength': x }, record: record((x - position(size)) ** 2 + 0.1), overlapPrevious: null }))),
+      points: sizes.flatMap((size, i) =>
+        xs.map((x, k) => ({
+          index: i * xs.length + k,
+          params: { 'chain.sites': size, 'exchange.strength': x },
+          record: record((x - position(size)) ** 2 + 0.1),
+          overlapPrevious: null,
+        })),
+      ),
     };
   }
 
@@ -259,7 +297,10 @@ describe('crossings from sector energies, line by line (elementary algebra)', ()
   it('follows the lower envelope through a sector that is above both ends but lowest in between', () => {
     // A = 2t, B = 2 - 2t, C = 0.5 on t in [0, 1]: C takes over at t = 0.25 and hands over to B at t = 0.75.
     const found = detectCrossings([point(0, [0, 2, 0.5]), point(1, [2, 0, 0.5])]);
-    expect(found.map((c) => [c.from?.charge, c.to?.charge])).toEqual([[0, 2], [2, 1]]);
+    expect(found.map((c) => [c.from?.charge, c.to?.charge])).toEqual([
+      [0, 2],
+      [2, 1],
+    ]);
     expect(found[0].position).toBeCloseTo(0.25, 14);
     expect(found[1].position).toBeCloseTo(0.75, 14);
   });
@@ -273,9 +314,21 @@ describe('crossings from sector energies, line by line (elementary algebra)', ()
   });
 
   it('without sector energies, takes an overlap below CROSSING_OVERLAP as a crossing at the midpoint', () => {
-    const bare = (x: number, overlapPrevious: number | null) => ({ x, sectors: null, tolerance: 1e-9, overlapPrevious });
+    const bare = (x: number, overlapPrevious: number | null) => ({
+      x,
+      sectors: null,
+      tolerance: 1e-9,
+      overlapPrevious,
+    });
     const found = detectCrossings([bare(0, null), bare(1, 0.9), bare(2, CROSSING_OVERLAP / 10), bare(3, 0.99)]);
     expect(found).toHaveLength(1);
-    expect(found[0]).toMatchObject({ position: 1.5, between: [1, 2], interpolated: false, detected_by: 'overlap', from: null, to: null });
+    expect(found[0]).toMatchObject({
+      position: 1.5,
+      between: [1, 2],
+      interpolated: false,
+      detected_by: 'overlap',
+      from: null,
+      to: null,
+    });
   });
 });

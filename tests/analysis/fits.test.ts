@@ -12,7 +12,11 @@ describe('weighted least squares against the textbook straight-line formulas', (
     const fit = finiteSizeFit(sizes, values, { power: 1, sigmas });
     // S = sum 1/s^2, Sx = sum x/s^2, Sy, Sxx, Sxy; D = S Sxx - Sx^2;
     // a = (Sxx Sy - Sx Sxy)/D, b = (S Sxy - Sx Sy)/D, sigma_a^2 = Sxx/D, sigma_b^2 = S/D.
-    let S = 0, Sx = 0, Sy = 0, Sxx = 0, Sxy = 0;
+    let S = 0,
+      Sx = 0,
+      Sy = 0,
+      Sxx = 0,
+      Sxy = 0;
     sizes.forEach((L, i) => {
       const x = 1 / L;
       const w = 1 / sigmas[i] ** 2;
@@ -57,11 +61,19 @@ describe('weighted least squares against the textbook straight-line formulas', (
   it('a gap extrapolated below zero is reported as 0 (a closing gap), with the fitted a0 kept', () => {
     // Points on the line 1/L - 0.01 give a0 = -0.01 exactly (least squares reproduces data on the model).
     const sizes = [4, 6, 8];
-    const fit = finiteSizeFit(sizes, sizes.map((L) => 1 / L - 0.01), { lowerBound: 0 });
+    const fit = finiteSizeFit(
+      sizes,
+      sizes.map((L) => 1 / L - 0.01),
+      { lowerBound: 0 },
+    );
     expect(fit.coefficients[0]).toBeCloseTo(-0.01, 12);
     expect(fit.extrapolated).toBe(0);
     expect(fit.bounded).toBe(true);
-    const open = finiteSizeFit(sizes, sizes.map((L) => 1 / L + 0.01), { lowerBound: 0 });
+    const open = finiteSizeFit(
+      sizes,
+      sizes.map((L) => 1 / L + 0.01),
+      { lowerBound: 0 },
+    );
     expect(open.extrapolated).toBeCloseTo(0.01, 12);
     expect(open.bounded).toBe(false);
   });

@@ -1,7 +1,13 @@
 import { describe, expect, it } from 'vitest';
 import { solvePoint } from '../../src/point/solvePoint.js';
 import { validateSpec } from '../../src/spec/spec.js';
-import { findPeak, fidelitySusceptibility, negativeCurvature, slope, transitionIndicators } from '../../src/analysis/indicators.js';
+import {
+  findPeak,
+  fidelitySusceptibility,
+  negativeCurvature,
+  slope,
+  transitionIndicators,
+} from '../../src/analysis/indicators.js';
 import { finiteSizeFit } from '../../src/analysis/fits.js';
 import { isingFidelity, isingGroundEnergy, isingOddSectorEnergy, isingSpec } from '../support/ising.js';
 
@@ -47,18 +53,25 @@ describe('transverse-field Ising ring through docs/model.md against the free-fer
     const grid = Array.from({ length: 12 }, (_, k) => 0.8 + 0.02 * k);
     const sizes = [6, 8, 10, 12, 14];
     const peaks = sizes.map((L) => {
-      const solved = grid.map((g) => solvePoint(validateSpec(isingSpec(L, g, { states: 1, tolerance: 1e-9, entanglement: 'none' }))));
+      const solved = grid.map((g) =>
+        solvePoint(validateSpec(isingSpec(L, g, { states: 1, tolerance: 1e-9, entanglement: 'none' }))),
+      );
       const indicators = transitionIndicators({
         x: grid,
         sites: L,
         groundEnergy: solved.map((s) => s.record.energies[0]),
-        overlapPrevious: solved.map((s, k) => (k === 0 ? null : overlap(solved[k - 1].groundStates[0], s.groundStates[0]))),
+        overlapPrevious: solved.map((s, k) =>
+          k === 0 ? null : overlap(solved[k - 1].groundStates[0], s.groundStates[0]),
+        ),
         degeneracy: solved.map((s) => s.record.solver.degeneracy),
       });
       const fidelity = indicators.find((i) => i.name === 'fidelity');
       expect(fidelity?.peak?.at_edge).toBe(false);
       // The same peak search on the exact curve (Pfeuty-solution fidelity on the same pairs).
-      const exact = fidelitySusceptibility(grid.slice(1).map((g, k) => ({ from: grid[k], to: g, overlap: isingFidelity(L, grid[k], g) })), L);
+      const exact = fidelitySusceptibility(
+        grid.slice(1).map((g, k) => ({ from: grid[k], to: g, overlap: isingFidelity(L, grid[k], g) })),
+        L,
+      );
       expect(fidelity!.peak!.position).toBeCloseTo(findPeak(exact.x, exact.y, 'max')!.position, 5);
       return fidelity!.peak!;
     });
@@ -69,7 +82,11 @@ describe('transverse-field Ising ring through docs/model.md against the free-fer
     peaks.forEach((p) => expect(p.position).toBeLessThan(1));
     expect(distance[distance.length - 1]).toBeLessThan(0.04);
     // 1 - g_peak falls like 1/L^2 on these rings; the extrapolation lands on g = 1.
-    const fit = finiteSizeFit(sizes.slice(1), peaks.slice(1).map((p) => p.position), { power: 2 });
+    const fit = finiteSizeFit(
+      sizes.slice(1),
+      peaks.slice(1).map((p) => p.position),
+      { power: 2 },
+    );
     expect(Math.abs(fit.extrapolated - 1)).toBeLessThan(0.01);
     expect(fit.extrapolated_error).not.toBeNull();
   });
@@ -78,9 +95,16 @@ describe('transverse-field Ising ring through docs/model.md against the free-fer
     const L = 10;
     const grid = Array.from({ length: 11 }, (_, k) => 0.7 + 0.06 * k);
     const energies = grid.map((g) => isingGroundEnergy(L, g));
-    const solved = grid.map((g) => solvePoint(validateSpec(isingSpec(L, g, { tolerance: 1e-9, entanglement: 'none' }))).record);
+    const solved = grid.map(
+      (g) => solvePoint(validateSpec(isingSpec(L, g, { tolerance: 1e-9, entanglement: 'none' }))).record,
+    );
     solved.forEach((r, k) => expect(r.energies[0]).toBeCloseTo(energies[k], 9));
-    const indicators = transitionIndicators({ x: grid, sites: L, groundEnergy: solved.map((r) => r.energies[0]), gap: solved.map((r) => r.gap) });
+    const indicators = transitionIndicators({
+      x: grid,
+      sites: L,
+      groundEnergy: solved.map((r) => r.energies[0]),
+      gap: solved.map((r) => r.gap),
+    });
     const curvature = indicators.find((i) => i.name === 'curvature')!;
     // Same curve from the exact energies (Pfeuty 1970) through the same differences.
     const exact = negativeCurvature(grid, energies, L);
@@ -102,7 +126,11 @@ describe('peaks and finite differences (textbook formulas)', () => {
     expect(peak.value).toBeCloseTo(3, 12);
     expect(peak.uncertainty).toBeCloseTo((0.5 - 0.25) / 4, 14);
     expect(peak.at_edge).toBe(false);
-    const minimum = findPeak(x, y.map((v) => -v), 'min')!;
+    const minimum = findPeak(
+      x,
+      y.map((v) => -v),
+      'min',
+    )!;
     expect(minimum.position).toBeCloseTo(0.37, 12);
   });
 
@@ -132,9 +160,16 @@ describe('peaks and finite differences (textbook formulas)', () => {
   it('second differences are exact for a quadratic and slopes for a line, also on uneven grids', () => {
     // Expected values by elementary calculus: -(5t^2 - t)''/2 = -5 and (4 - 2.5t)' = -2.5 (textbook).
     const x = [0, 0.3, 0.4, 1.1, 1.5];
-    const curvature = negativeCurvature(x, x.map((t) => 5 * t * t - t), 2);
+    const curvature = negativeCurvature(
+      x,
+      x.map((t) => 5 * t * t - t),
+      2,
+    );
     curvature.y.forEach((v) => expect(v).toBeCloseTo(-10 / 2, 12));
-    const s = slope(x, x.map((t) => 4 - 2.5 * t));
+    const s = slope(
+      x,
+      x.map((t) => 4 - 2.5 * t),
+    );
     s.y.forEach((v) => expect(v).toBeCloseTo(-2.5, 12));
     expect(s.x).toEqual([0.15, 0.35, 0.75, 1.3].map((v) => expect.closeTo(v, 14)));
   });
@@ -142,7 +177,13 @@ describe('peaks and finite differences (textbook formulas)', () => {
   it('skips fidelity where the ground-state degeneracy changes and reads lines scanned backwards', () => {
     const x = [3, 2, 1, 0];
     // The line ran from 3 down to 0; overlapPrevious[k] pairs point k with point k-1.
-    const line = { x, sites: 1, groundEnergy: [0, 0, 0, 0], overlapPrevious: [null, 0.9, 0.8, 0.7], degeneracy: [1, 1, 1, 1] };
+    const line = {
+      x,
+      sites: 1,
+      groundEnergy: [0, 0, 0, 0],
+      overlapPrevious: [null, 0.9, 0.8, 0.7],
+      degeneracy: [1, 1, 1, 1],
+    };
     const fidelity = transitionIndicators(line).find((i) => i.name === 'fidelity')!;
     expect(fidelity.x).toEqual([0.5, 1.5, 2.5]);
     expect(fidelity.y).toEqual([0.7, 0.8, 0.9].map((F) => expect.closeTo(-2 * Math.log(F), 14)));

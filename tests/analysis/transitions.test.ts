@@ -22,13 +22,29 @@ function record(sites: number, e0: number, width: number, extra: Record<string, 
       ...extra,
     },
     basis: { kind: 'pinned', dimension: 2 ** sites, sites, levels: 2, operator: 'on-the-fly', nonzeros: 0 },
-    solver: { method: 'dense', iterations: 1, restarts: 0, residuals: [0, 0], converged: true, tolerance: 1e-9, degeneracy: 1, degeneracy_complete: true, seconds: 0, memory_estimate_bytes: 0 },
+    solver: {
+      method: 'dense',
+      iterations: 1,
+      restarts: 0,
+      residuals: [0, 0],
+      converged: true,
+      tolerance: 1e-9,
+      degeneracy: 1,
+      degeneracy_complete: true,
+      seconds: 0,
+      memory_estimate_bytes: 0,
+    },
   };
 }
 
 describe('analysis of a scan in memory', () => {
   it('reads scalars by name', () => {
-    const r = record(4, -6, 0.3, { entanglement: [{ cut: 1, von_neumann: 0.1, renyi_2: 0.05, spectrum: [] }, { cut: 2, von_neumann: 0.7, renyi_2: 0.6, spectrum: [] }] });
+    const r = record(4, -6, 0.3, {
+      entanglement: [
+        { cut: 1, von_neumann: 0.1, renyi_2: 0.05, spectrum: [] },
+        { cut: 2, von_neumann: 0.7, renyi_2: 0.6, spectrum: [] },
+      ],
+    });
     expect(observableValue(r, 'E0')).toBe(-6);
     expect(observableValue(r, 'E1')).toBe(-5);
     expect(observableValue(r, 'E0/L')).toBe(-1.5);
@@ -45,7 +61,10 @@ describe('analysis of a scan in memory', () => {
   const xs = [0, 0.5, 1, 1.5, 2];
   const law = (x: number, L: number) => ({ a: 1 + x * x, b: 2 - x, value: 1 + x * x + (2 - x) / L ** 2 });
   const input: AnalysisInput = {
-    axes: [{ key: 'chain.sites', values: sizes }, { key: 'exchange.strength', values: xs }],
+    axes: [
+      { key: 'chain.sites', values: sizes },
+      { key: 'exchange.strength', values: xs },
+    ],
     zip: false,
     points: sizes.flatMap((L, i) =>
       xs.map((x, k) => ({
@@ -95,7 +114,13 @@ describe('analysis of a scan in memory', () => {
     expect(() => analyseScan(input, { fit: ['colour'] })).toThrow(InputError);
     expect(() => analyseScan(input, { parameter: 'levels.count' })).toThrow(/not a scanned axis/);
     // Indicators along the outer axis: no overlaps between its neighbours, and sizes are not a parameter.
-    const along = analyseScan({ ...input, axes: [{ key: 'exchange.strength', values: xs }, { key: 'chain.sites', values: sizes }] });
+    const along = analyseScan({
+      ...input,
+      axes: [
+        { key: 'exchange.strength', values: xs },
+        { key: 'chain.sites', values: sizes },
+      ],
+    });
     expect(along.overlaps).toBe(false);
     expect(along.notes.join(' ')).toMatch(/innermost axis/);
   });
@@ -154,7 +179,10 @@ describe('summary of a scan: indicator peaks and finite-size fits', () => {
     SIZES.forEach((L, k) => {
       const fidelity = analysis.lines[k].indicators.find((i: { name: string }) => i.name === 'fidelity');
       // The same peak search on the exact curve: Pfeuty-solution fidelity on the same pairs.
-      const exact = fidelitySusceptibility(FIELDS.slice(1).map((g, j) => ({ from: FIELDS[j], to: g, overlap: isingFidelity(L, FIELDS[j], g) })), L);
+      const exact = fidelitySusceptibility(
+        FIELDS.slice(1).map((g, j) => ({ from: FIELDS[j], to: g, overlap: isingFidelity(L, FIELDS[j], g) })),
+        L,
+      );
       expect(fidelity.peak.position).toBeCloseTo(findPeak(exact.x, exact.y)!.position, 5);
       expect(fidelity.peak.uncertainty).toBeCloseTo(0.025 / 2, 12);
     });
@@ -169,11 +197,16 @@ describe('summary of a scan: indicator peaks and finite-size fits', () => {
     const r = runCli([...args, '--csv']);
     expect(r.code, r.stderr).toBe(0);
     // Plain RFC 4180 without quoted fields here: split on commas (common practice).
-    const [header, ...lines] = r.stdout.trim().split('\n').map((l) => l.split(','));
+    const [header, ...lines] = r.stdout
+      .trim()
+      .split('\n')
+      .map((l) => l.split(','));
     expect(header.slice(0, 4)).toEqual(['kind', 'chain.sites', 'levels.tunnelling', 'name']);
     const rows = lines.map((cells) => Object.fromEntries(header.map((h, k) => [h, cells[k]])));
     const peaks = rows.filter((row) => row.kind === 'peak');
-    const expectedPeaks = analysis.lines.flatMap((l) => l.indicators.flatMap((i) => (i.peak ? [{ sites: l.fixed['chain.sites'], name: i.name, peak: i.peak }] : [])));
+    const expectedPeaks = analysis.lines.flatMap((l) =>
+      l.indicators.flatMap((i) => (i.peak ? [{ sites: l.fixed['chain.sites'], name: i.name, peak: i.peak }] : [])),
+    );
     expect(peaks).toHaveLength(expectedPeaks.length);
     expectedPeaks.forEach((e, k) => {
       expect(Number(peaks[k]['chain.sites'])).toBe(e.sites);
@@ -187,7 +220,9 @@ describe('summary of a scan: indicator peaks and finite-size fits', () => {
     const observableFits = rows.filter((row) => row.kind === 'observable_fit');
     expect(observableFits).toHaveLength(analysis.observable_fits.length);
     expect(observableFits[0].sizes).toBe(SIZES.join(';'));
-    expect(observableFits.map((row) => Number(row['levels.tunnelling']))).toEqual(analysis.observable_fits.map((f) => f.fixed['levels.tunnelling']));
+    expect(observableFits.map((row) => Number(row['levels.tunnelling']))).toEqual(
+      analysis.observable_fits.map((f) => f.fixed['levels.tunnelling']),
+    );
   });
 
   it('prints them after the table', () => {

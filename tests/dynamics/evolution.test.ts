@@ -117,7 +117,14 @@ describe('initial states', () => {
 
   it('a quench from the ground state with changed keys matches dense evolution', () => {
     const base = clean(randomPinnedSpec(5, 3, 2));
-    const raw = clean({ ...base, evolve: { initial: { ground_state: { 'exchange.strength': 0, 'levels.detuning': [0, 2] } }, times: [0, 1, 2.5], tolerance: 1e-9 } });
+    const raw = clean({
+      ...base,
+      evolve: {
+        initial: { ground_state: { 'exchange.strength': 0, 'levels.detuning': [0, 2] } },
+        times: [0, 1, 2.5],
+        tolerance: 1e-9,
+      },
+    });
     const r = trace(raw);
     const quenched = clean(structuredClone(base));
     quenched.exchange.strength = 0;
@@ -142,40 +149,43 @@ describe('Krylov propagation against dense exponentiation (ml-matrix eigendecomp
     [4, 3, 4, 12],
     [5, 5, 2, 30],
   ];
-  it.each(cases)('random spec %i (%i sites x %i levels, every term on, m = %i): error below the tolerance', (seed, sites, levels, krylov) => {
-    const base = clean(randomPinnedSpec(seed, sites, levels));
-    const r01 = rng(seed + 100);
-    const tolerance = 1e-8;
-    const raw = {
-      ...base,
-      evolve: {
-        initial: {
-          levels: Array.from({ length: sites }, () => Math.floor(r01() * levels)),
-          pulses: [
-            { between: [0, 1], area: 3 * r01(), phase: 6 * r01() },
-            { between: [levels - 1, levels - 2], area: 3 * r01(), phase: 6 * r01() },
-          ],
+  it.each(cases)(
+    'random spec %i (%i sites x %i levels, every term on, m = %i): error below the tolerance',
+    (seed, sites, levels, krylov) => {
+      const base = clean(randomPinnedSpec(seed, sites, levels));
+      const r01 = rng(seed + 100);
+      const tolerance = 1e-8;
+      const raw = {
+        ...base,
+        evolve: {
+          initial: {
+            levels: Array.from({ length: sites }, () => Math.floor(r01() * levels)),
+            pulses: [
+              { between: [0, 1], area: 3 * r01(), phase: 6 * r01() },
+              { between: [levels - 1, levels - 2], area: 3 * r01(), phase: 6 * r01() },
+            ],
+          },
+          times: { from: 0, to: 6, steps: 12 },
+          tolerance,
+          krylov,
         },
-        times: { from: 0, to: 6, steps: 12 },
-        tolerance,
-        krylov,
-      },
-    };
-    const r = trace(raw);
-    const dense = denseEvolver(densePinnedHamiltonian(validateSpec(clean(base))));
-    const e0 = dense.energy(r.states[0]);
-    r.frames.forEach((f, k) => {
-      const exact = dense.evolve(r.states[0], f.time);
-      const error = complexDistance(r.states[k], exact);
-      expect(error).toBeLessThan(tolerance);
-      // The a posteriori bound is an upper bound (Hochbruck and Lubich 1997), up to rounding.
-      expect(error).toBeLessThanOrEqual(f.error_bound + 1e-12);
-      // Without a ramp the norm and the energy are conserved (unitary evolution under constant H).
-      expect(Math.abs(f.observables.norm - 1)).toBeLessThan(tolerance);
-      expect(Math.abs(f.observables.energy - e0)).toBeLessThan(2 * dense.normH * tolerance + 1e-12);
-    });
-    if (krylov < 10) expect(r.stats.steps).toBeGreaterThan(12);
-  });
+      };
+      const r = trace(raw);
+      const dense = denseEvolver(densePinnedHamiltonian(validateSpec(clean(base))));
+      const e0 = dense.energy(r.states[0]);
+      r.frames.forEach((f, k) => {
+        const exact = dense.evolve(r.states[0], f.time);
+        const error = complexDistance(r.states[k], exact);
+        expect(error).toBeLessThan(tolerance);
+        // The a posteriori bound is an upper bound (Hochbruck and Lubich 1997), up to rounding.
+        expect(error).toBeLessThanOrEqual(f.error_bound + 1e-12);
+        // Without a ramp the norm and the energy are conserved (unitary evolution under constant H).
+        expect(Math.abs(f.observables.norm - 1)).toBeLessThan(tolerance);
+        expect(Math.abs(f.observables.energy - e0)).toBeLessThan(2 * dense.normH * tolerance + 1e-12);
+      });
+      if (krylov < 10) expect(r.stats.steps).toBeGreaterThan(12);
+    },
+  );
 
   it('a tighter tolerance takes more products and gives a smaller error', () => {
     const base = clean(randomPinnedSpec(9, 6, 2));
@@ -183,7 +193,10 @@ describe('Krylov propagation against dense exponentiation (ml-matrix eigendecomp
     const errors: number[] = [];
     const products: number[] = [];
     for (const tolerance of [1e-3, 1e-10]) {
-      const r = trace({ ...base, evolve: { initial: { pulses: [{ between: [0, 1], area: 1 }] }, times: [0, 8], tolerance, krylov: 6 } });
+      const r = trace({
+        ...base,
+        evolve: { initial: { pulses: [{ between: [0, 1], area: 1 }] }, times: [0, 8], tolerance, krylov: 6 },
+      });
       const error = complexDistance(r.states[1], dense.evolve(r.states[0], 8));
       expect(error).toBeLessThan(tolerance);
       errors.push(error);
@@ -214,7 +227,8 @@ describe('ramps', () => {
       },
     });
     // Pieces: [0, 0.5] at V = 0; four pieces of 0.5 in [0.5, 2.5] at their midpoint values; then V = 3.
-    const at = (V: number) => denseEvolver(densePinnedHamiltonian(validateSpec(clean({ ...twoSite, exchange: { strength: V } }))));
+    const at = (V: number) =>
+      denseEvolver(densePinnedHamiltonian(validateSpec(clean({ ...twoSite, exchange: { strength: V } }))));
     let psi = at(0).evolve(r.states[0], 0.5);
     const mids = Array.from({ length: steps }, (_, k) => (3 * (k + 0.5)) / steps);
     // t = 1.25 lies in the second piece (0.5 + 0.5 .. 1.5), 0.25 into it.
@@ -232,13 +246,24 @@ describe('ramps', () => {
   // Sudden approximation (textbook): a ramp much faster than every energy scale leaves the state
   // unchanged, so its weight in the final ground space is |<g_initial|g_final>|^2.
   it('a sudden ramp: ground overlap is the overlap of the two ground states', () => {
-    const spec = { chain: { sites: 3 }, levels: { count: 2, tunnelling: 1, detuning: [0, 0.3] }, exchange: { strength: 0 } };
+    const spec = {
+      chain: { sites: 3 },
+      levels: { count: 2, tunnelling: 1, detuning: [0, 0.3] },
+      exchange: { strength: 0 },
+    };
     const r = trace({
       ...spec,
-      evolve: { initial: 'ground_state', times: [0, 1e-6], tolerance: 1e-10, ramp: { key: 'exchange.strength', from: 0, to: 2, duration: 1e-6, steps: 1 } },
+      evolve: {
+        initial: 'ground_state',
+        times: [0, 1e-6],
+        tolerance: 1e-10,
+        ramp: { key: 'exchange.strength', from: 0, to: 2, duration: 1e-6, steps: 1 },
+      },
     });
     const gi = denseEvolver(densePinnedHamiltonian(validateSpec(clean(spec)))).groundSpace().vectors;
-    const gf = denseEvolver(densePinnedHamiltonian(validateSpec(clean({ ...spec, exchange: { strength: 2 } })))).groundSpace().vectors;
+    const gf = denseEvolver(
+      densePinnedHamiltonian(validateSpec(clean({ ...spec, exchange: { strength: 2 } }))),
+    ).groundSpace().vectors;
     expect(gi).toHaveLength(1);
     expect(gf).toHaveLength(1);
     expect(r.frames[0].observables.ground_overlap).toBeCloseTo(1, 9);
@@ -248,11 +273,20 @@ describe('ramps', () => {
   // Adiabatic theorem (textbook): a slow ramp through a gapped path keeps the state in the
   // instantaneous ground state; a faster one leaves more behind.
   it('a slow ramp follows the instantaneous ground state, a fast one does not', () => {
-    const spec = { chain: { sites: 3 }, levels: { count: 2, tunnelling: 1, detuning: [0, 0.5] }, exchange: { strength: 0 } };
+    const spec = {
+      chain: { sites: 3 },
+      levels: { count: 2, tunnelling: 1, detuning: [0, 0.5] },
+      exchange: { strength: 0 },
+    };
     const overlapAfter = (duration: number): number => {
       const r = trace({
         ...spec,
-        evolve: { initial: 'ground_state', times: [duration], tolerance: 1e-8, ramp: { key: 'exchange.strength', from: 0, to: 0.5, duration, steps: 200 } },
+        evolve: {
+          initial: 'ground_state',
+          times: [duration],
+          tolerance: 1e-8,
+          ramp: { key: 'exchange.strength', from: 0, to: 0.5, duration, steps: 200 },
+        },
       });
       return r.frames[0].observables.ground_overlap as number;
     };
@@ -283,7 +317,11 @@ describe('itinerant particles', () => {
   // Hard-core bosons at one per site with no hopping are the pinned model (docs/model.md): the same trace.
   it('hard-core bosons, one per site, t = 0: the pinned dynamics', () => {
     const base = clean(randomPinnedSpec(21, 3, 3));
-    const evolve = { initial: { levels: [0, 1, 2], pulses: [{ between: [0, 1], area: 1.1, phase: 0.4 }] }, times: [0, 0.7, 2], tolerance: 1e-10 };
+    const evolve = {
+      initial: { levels: [0, 1, 2], pulses: [{ between: [0, 1], area: 1.1, phase: 0.4 }] },
+      times: [0, 0.7, 2],
+      tolerance: 1e-10,
+    };
     const pinned = trace({ ...base, evolve });
     const hardcore = trace({ ...base, particles: { kind: 'hardcore', number: 3 }, evolve });
     pinned.frames.forEach((f, k) => {
@@ -291,7 +329,9 @@ describe('itinerant particles', () => {
       expect(g.energy).toBeCloseTo(f.observables.energy, 9);
       expect(g.return_probability).toBeCloseTo(f.observables.return_probability, 9);
       expect(g.string_width).toBeCloseTo(f.observables.string_width, 9);
-      f.observables.populations.forEach((row, i) => row.forEach((p, n) => expect(g.populations[i][n]).toBeCloseTo(p, 9)));
+      f.observables.populations.forEach((row, i) =>
+        row.forEach((p, n) => expect(g.populations[i][n]).toBeCloseTo(p, 9)),
+      );
     });
   });
 });
@@ -299,7 +339,8 @@ describe('itinerant particles', () => {
 describe('every recorded observable reaches the time-first JSON (evolve --json, trace --json), against dense evolution', () => {
   // Diagonal observables from the basis-state probabilities of the dense state exp(-i H t) psi(0)
   // (ml-matrix eigendecomposition), by the definitions of docs/model.md and src/observables/itinerant.ts.
-  const probabilities = (psi: Float64Array) => Array.from({ length: psi.length / 2 }, (_, s) => psi[2 * s] ** 2 + psi[2 * s + 1] ** 2);
+  const probabilities = (psi: Float64Array) =>
+    Array.from({ length: psi.length / 2 }, (_, s) => psi[2 * s] ** 2 + psi[2 * s + 1] ** 2);
 
   it('pinned: pair_separation <(n_i - n_j)^2> at every time', () => {
     const L = 3;
@@ -307,7 +348,11 @@ describe('every recorded observable reaches the time-first JSON (evolve --json, 
     const base = clean(randomPinnedSpec(31, L, N));
     const r = trace({
       ...base,
-      evolve: { initial: { levels: [0, 2, 1], pulses: [{ between: [0, 1], area: 1.3, phase: 0.2 }] }, times: { from: 0, to: 3, steps: 6 }, tolerance: 1e-10 },
+      evolve: {
+        initial: { levels: [0, 2, 1], pulses: [{ between: [0, 1], area: 1.3, phase: 0.2 }] },
+        times: { from: 0, to: 3, steps: 6 },
+        tolerance: 1e-10,
+      },
     });
     const json = traceJson(r);
     const dense = denseEvolver(densePinnedHamiltonian(validateSpec(clean(base))));
@@ -345,7 +390,8 @@ describe('every recorded observable reaches the time-first JSON (evolve --json, 
     const psi0 = new Float64Array(2 * ref.dim);
     psi0[2 * ref.indexOf.get(key(start))!] = 1;
     const dense = denseEvolver(ref);
-    for (const name of ['density', 'double_occupancy', 'pair_separation']) expect(json.observables[name]).toHaveLength(r.times.length);
+    for (const name of ['density', 'double_occupancy', 'pair_separation'])
+      expect(json.observables[name]).toHaveLength(r.times.length);
     r.times.forEach((t, k) => {
       const p = probabilities(dense.evolve(psi0, t));
       const count = (occ: number[], i: number) => occ.slice(i * N, (i + 1) * N).reduce((a, b) => a + b, 0);
@@ -367,7 +413,8 @@ describe('every recorded observable reaches the time-first JSON (evolve --json, 
           p.forEach((q, s) => {
             const occ = ref.states[s];
             both += q * count(occ, i) * count(occ, j);
-            for (let a = 0; a < N; a++) for (let b = 0; b < N; b++) weighted += q * (a - b) ** 2 * occ[i * N + a] * occ[j * N + b];
+            for (let a = 0; a < N; a++)
+              for (let b = 0; b < N; b++) weighted += q * (a - b) ** 2 * occ[i * N + a] * occ[j * N + b];
           });
           const expected = both < 1e-12 ? 0 : weighted / both;
           expect((json.observables.pair_separation[k] as number[][])[i][j]).toBeCloseTo(expected, 7);
@@ -397,14 +444,20 @@ describe('the [evolve] section: bad input names the key path', () => {
     [{ times: [1], initial: [0, 1, 2] }, /^evolve\.initial$/],
     [{ times: [1], initial: [0, 3] }, /^evolve\.initial\[1\]$/],
     [{ times: [1], initial: { pulses: [{ between: [0, 0], area: 1 }] } }, /^evolve\.initial\.pulses\[0\]\.between$/],
-    [{ times: [1], initial: { pulses: [{ between: [0, 5], area: 1 }] } }, /^evolve\.initial\.pulses\[0\]\.between\[1\]$/],
+    [
+      { times: [1], initial: { pulses: [{ between: [0, 5], area: 1 }] } },
+      /^evolve\.initial\.pulses\[0\]\.between\[1\]$/,
+    ],
     [{ times: [1], tolerance: 0 }, /^evolve\.tolerance$/],
     [{ times: [1], krylov: 1 }, /^evolve\.krylov$/],
     [{ times: [1], time_unit: 'ms' }, /^evolve\.time_unit$/],
     [{ times: [1], ramp: { key: 'exchange.strenght', from: 0, to: 1, duration: 1 } }, /^evolve\.ramp\.key$/],
     [{ times: [1], ramp: { key: 'levels.count', from: 3, to: 4, duration: 1 } }, /^evolve\.ramp\.key$/],
     [{ times: [1], ramp: [{ key: 'exchange.strength', from: 0, to: 1 }] }, /^evolve\.ramp\[0\]\.duration$/],
-    [{ times: [1], initial: { ground_state: { 'exchange.range': 'sideways' } } }, /^evolve\.initial\.ground_state\.exchange\.range$/],
+    [
+      { times: [1], initial: { ground_state: { 'exchange.range': 'sideways' } } },
+      /^evolve\.initial\.ground_state\.exchange\.range$/,
+    ],
     [{ times: [1], colour: 'red' }, /^evolve\.colour$/],
     [{ times: [1], initial: [0, -1] }, /^evolve\.initial\[1\]$/],
   ])('%j -> %s', (evolve, path) => fails(evolve, path));

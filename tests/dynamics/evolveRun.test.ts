@@ -30,7 +30,12 @@ function sleep(ms: number): Promise<void> {
 }
 
 /** Starts `evolve`, waits until at least `minBytes` of records are on disk, then sends `signal`; resolves with the exit code. */
-async function interrupt(spec: string, dir: string, minBytes: number, signal: NodeJS.Signals): Promise<{ code: number | null; signal: string | null; stderr: string }> {
+async function interrupt(
+  spec: string,
+  dir: string,
+  minBytes: number,
+  signal: NodeJS.Signals,
+): Promise<{ code: number | null; signal: string | null; stderr: string }> {
   const child = spawn(process.execPath, [CLI, 'evolve', spec, '--out', dir, '--checkpoint-every', '0'], { cwd: ROOT });
   let stderr = '';
   child.stderr.on('data', (d) => (stderr += d));
@@ -62,9 +67,13 @@ function compareTraces(a: ReturnType<typeof loadEvolveRun>, b: ReturnType<typeof
       expect(fb.time).toBe(fa.time);
       // A resumed trace takes different steps after the checkpoint; both stay within the tolerance (1e-9) of the exact state.
       expect(Math.abs((fb.observables.energy as number) - (fa.observables.energy as number))).toBeLessThan(1e-8);
-      expect(Math.abs((fb.observables.return_probability as number) - (fa.observables.return_probability as number))).toBeLessThan(1e-8);
+      expect(
+        Math.abs((fb.observables.return_probability as number) - (fa.observables.return_probability as number)),
+      ).toBeLessThan(1e-8);
       (fa.observables.populations as number[][]).forEach((row, i) =>
-        row.forEach((q, n) => expect(Math.abs((fb.observables.populations as number[][])[i][n] - q)).toBeLessThan(1e-8)),
+        row.forEach((q, n) =>
+          expect(Math.abs((fb.observables.populations as number[][])[i][n] - q)).toBeLessThan(1e-8),
+        ),
       );
     });
   });
@@ -141,24 +150,49 @@ tolerance = 1e-10
     const out = JSON.parse(lines[0]);
     expect(Object.keys(out).sort()).toEqual(['observables', 'times']);
     // README, Quench dynamics: the observables of the ground-state output at each time, and the trace's own.
-    expect(Object.keys(out.observables).sort()).toEqual(['energy', 'level_mean', 'norm', 'pair_separation', 'populations', 'return_probability', 'spread', 'string_width']);
-    expect(out.observables.pair_separation[0]).toEqual([[0, 1], [1, 0]]); // levels 0 and 1 at t = 0
+    expect(Object.keys(out.observables).sort()).toEqual([
+      'energy',
+      'level_mean',
+      'norm',
+      'pair_separation',
+      'populations',
+      'return_probability',
+      'spread',
+      'string_width',
+    ]);
+    expect(out.observables.pair_separation[0]).toEqual([
+      [0, 1],
+      [1, 0],
+    ]); // levels 0 and 1 at t = 0
     expect(out.times).toHaveLength(9);
     expect(out.observables.populations).toHaveLength(9);
     expect(out.observables.populations[0]).toHaveLength(2); // [time][site][level]
     expect(out.observables.populations[0][0]).toHaveLength(2);
     // Two independent molecules (no exchange), each Rabi-flopping: P1 of site 0 is sin^2(J t) (textbook).
-    out.times.forEach((t: number, k: number) => expect(out.observables.populations[k][0][1]).toBeCloseTo(Math.sin(0.5 * t) ** 2, 9));
+    out.times.forEach((t: number, k: number) =>
+      expect(out.observables.populations[k][0][1]).toBeCloseTo(Math.sin(0.5 * t) ** 2, 9),
+    );
   });
 
   it('a ramp adds ground_overlap; bad input is one line naming the key, exit 2', () => {
     const dir = tmp();
     const spec = path.join(dir, 'rabi.toml');
     writeFileSync(spec, RABI);
-    const r = runCli(['evolve', spec, '--json', '--set', 'evolve.ramp={"key":"exchange.strength","from":0,"to":1,"duration":2,"steps":10}']);
+    const r = runCli([
+      'evolve',
+      spec,
+      '--json',
+      '--set',
+      'evolve.ramp={"key":"exchange.strength","from":0,"to":1,"duration":2,"steps":10}',
+    ]);
     expect(r.code).toBe(0);
     expect(JSON.parse(r.stdout).observables.ground_overlap).toHaveLength(9);
-    const bad = runCli(['evolve', spec, '--set', 'evolve.ramp={"key":"exchange.strenth","from":0,"to":1,"duration":2}']);
+    const bad = runCli([
+      'evolve',
+      spec,
+      '--set',
+      'evolve.ramp={"key":"exchange.strenth","from":0,"to":1,"duration":2}',
+    ]);
     expect(bad.code).toBe(2);
     expect(bad.stderr.trim().split('\n')).toHaveLength(1);
     expect(bad.stderr).toMatch(/evolve\.ramp\.key/);
@@ -177,7 +211,9 @@ tolerance = 1e-10
     // Rabi's formula at each point's J.
     for (const t of traces) {
       const J = t['levels.tunnelling'];
-      t.times.forEach((time: number, k: number) => expect(t.observables.populations[k][0][1]).toBeCloseTo(Math.sin(J * time) ** 2, 9));
+      t.times.forEach((time: number, k: number) =>
+        expect(t.observables.populations[k][0][1]).toBeCloseTo(Math.sin(J * time) ** 2, 9),
+      );
     }
     const csv = runCli(['trace', out, '--csv']);
     expect(csv.code).toBe(0);
@@ -203,13 +239,22 @@ tolerance = 1e-10
     expect(r.code).toBe(0);
     const [fromRun] = JSON.parse(runCli(['trace', out, '--json']).stdout);
     for (const observables of [direct.observables, fromRun.observables]) {
-      for (const name of ['density', 'double_occupancy', 'pair_separation', 'one_body_density_matrix', 'condensate_fraction']) {
+      for (const name of [
+        'density',
+        'double_occupancy',
+        'pair_separation',
+        'one_body_density_matrix',
+        'condensate_fraction',
+      ]) {
         expect(observables[name]).toHaveLength(3);
       }
       // t = 0: one boson per site, in levels 0 and 1 (the initial state as written).
       expect(observables.density[0]).toEqual([1, 1]);
       expect(observables.double_occupancy[0]).toEqual([0, 0]);
-      expect(observables.pair_separation[0]).toEqual([[0, 1], [1, 0]]);
+      expect(observables.pair_separation[0]).toEqual([
+        [0, 1],
+        [1, 0],
+      ]);
     }
     expect(fromRun.observables.density).toEqual(direct.observables.density);
   });

@@ -41,13 +41,20 @@ describe('finding a browser for the report tests', () => {
   });
 
   it(`says in one line that ${BROWSER_ENV} names no file`, async () => {
-    const message = await oneLineFailure(locateBrowser({ env: { [BROWSER_ENV]: '/nowhere/chrome' }, isFile: noFiles, bundled: nothingBundled }));
+    const message = await oneLineFailure(
+      locateBrowser({ env: { [BROWSER_ENV]: '/nowhere/chrome' }, isFile: noFiles, bundled: nothingBundled }),
+    );
     expect(message).toContain(`${BROWSER_ENV}=/nowhere/chrome`);
   });
 
   it('takes the bundled browser before a system one', async () => {
     const bundled: BrowserChoice = { executablePath: '/bundled/chromium', source: 'bundled' };
-    const choice = await locateBrowser({ env: { PATH: '/usr/bin' }, platform: 'linux', isFile: () => true, bundled: async () => bundled });
+    const choice = await locateBrowser({
+      env: { PATH: '/usr/bin' },
+      platform: 'linux',
+      isFile: () => true,
+      bundled: async () => bundled,
+    });
     expect(choice).toBe(bundled);
   });
 
@@ -55,7 +62,8 @@ describe('finding a browser for the report tests', () => {
   it('looks for chromium, chromium-browser, google-chrome and google-chrome-stable in PATH, /usr/bin and /snap/bin on Linux', () => {
     const candidates = systemBrowserCandidates('linux', { PATH: '/home/u/bin:/usr/local/bin' });
     for (const name of ['chromium', 'chromium-browser', 'google-chrome', 'google-chrome-stable']) {
-      for (const dir of ['/home/u/bin', '/usr/local/bin', '/usr/bin', '/snap/bin']) expect(candidates).toContain(`${dir}/${name}`);
+      for (const dir of ['/home/u/bin', '/usr/local/bin', '/usr/bin', '/snap/bin'])
+        expect(candidates).toContain(`${dir}/${name}`);
     }
     expect(candidates.indexOf('/home/u/bin/google-chrome')).toBeLessThan(candidates.indexOf('/usr/bin/chromium'));
   });
@@ -68,19 +76,28 @@ describe('finding a browser for the report tests', () => {
   });
 
   it('falls back to a system browser when nothing is bundled for this machine', async () => {
-    const choice = await locateBrowser({ env: { PATH: '/usr/local/bin' }, platform: 'linux', isFile: (f) => f === '/usr/bin/google-chrome-stable', bundled: nothingBundled });
+    const choice = await locateBrowser({
+      env: { PATH: '/usr/local/bin' },
+      platform: 'linux',
+      isFile: (f) => f === '/usr/bin/google-chrome-stable',
+      bundled: nothingBundled,
+    });
     expect(choice.executablePath).toBe('/usr/bin/google-chrome-stable');
   });
 
   it('finding none, says in one line how to get one', async () => {
-    const message = await oneLineFailure(locateBrowser({ env: { PATH: '/usr/local/bin' }, platform: 'linux', isFile: noFiles, bundled: nothingBundled }));
+    const message = await oneLineFailure(
+      locateBrowser({ env: { PATH: '/usr/local/bin' }, platform: 'linux', isFile: noFiles, bundled: nothingBundled }),
+    );
     expect(message).toContain('npm install');
     expect(message).toContain('apt-get install chromium');
     expect(message).toContain(`${BROWSER_ENV}=`);
   });
 
   it('a browser that does not start is one line too, naming it', async () => {
-    const message = await oneLineFailure(launchBrowser({ env: { [BROWSER_ENV]: '/bin/false' }, bundled: nothingBundled }));
+    const message = await oneLineFailure(
+      launchBrowser({ env: { [BROWSER_ENV]: '/bin/false' }, bundled: nothingBundled }),
+    );
     expect(message).toContain('/bin/false');
     expect(message).toContain(`${BROWSER_ENV}=`);
   }, 60_000);
@@ -107,7 +124,11 @@ describe.runIf(process.platform === 'linux' && process.arch === 'x64')('the Chro
     const bundled = (await bundledChromium())!;
     // A wrapper, so that this runs on a machine without NSS as well (the bundled libraries stand in).
     const wrapper = path.join(mkdtempSync(path.join(os.tmpdir(), 'rungchain-browser-')), 'chrome');
-    writeFileSync(wrapper, `#!/bin/sh\nLD_LIBRARY_PATH="$LD_LIBRARY_PATH:${bundled.libraryPath}" exec "${bundled.executablePath}" "$@"\n`, { mode: 0o755 });
+    writeFileSync(
+      wrapper,
+      `#!/bin/sh\nLD_LIBRARY_PATH="$LD_LIBRARY_PATH:${bundled.libraryPath}" exec "${bundled.executablePath}" "$@"\n`,
+      { mode: 0o755 },
+    );
     const { browser, choice } = await launchBrowser({ env: { [BROWSER_ENV]: wrapper }, bundled: nothingBundled });
     expect(choice.source).toBe(BROWSER_ENV);
     expect(browser.version()).toMatch(/^\d+\./);

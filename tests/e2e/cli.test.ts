@@ -30,7 +30,10 @@ describe('rungchain command line', () => {
   it('--set overrides a key and the same spec reads from JSON', () => {
     const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-'));
     const json = path.join(dir, 'spec.json');
-    writeFileSync(json, JSON.stringify({ chain: { sites: 8 }, levels: { count: 2, tunnelling: 0 }, exchange: { strength: 1 } }));
+    writeFileSync(
+      json,
+      JSON.stringify({ chain: { sites: 8 }, levels: { count: 2, tunnelling: 0 }, exchange: { strength: 1 } }),
+    );
     const a = JSON.parse(runCli(['solve', json, '--json', '--set', 'exchange.strength=2']).stdout);
     const b = JSON.parse(runCli(['solve', fixture, '--json']).stdout);
     expect(a.energies[0]).toBeCloseTo(2 * b.energies[0], 10);
@@ -67,18 +70,24 @@ describe('rungchain command line', () => {
     expect(refused.stderr).toMatch(/estimated .*MiB/);
   });
 
-  it.skipIf(os.availableParallelism() < 2)('check says how many sectors run at once, and fewer under a tight memory limit', () => {
-    const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-cli-'));
-    const spec = path.join(dir, 'ring.toml');
-    writeFileSync(spec, '[chain]\nsites = 10\nboundary = "periodic"\n[levels]\ncount = 4\ntunnelling = 1.0\n[exchange]\nstrength = 1.5\n');
-    const roomy = runCli(['check', spec]);
-    expect(roomy.stdout).toMatch(/solved sector by sector, 2 at a time\)/);
-    const estimate = (out: string) => Number(/memory estimate\s+([\d.]+) MiB/.exec(out)![1]);
-    // Just under the estimate for two at a time: one at a time still fits.
-    const tight = runCli(['check', spec, '--max-memory', `${Math.floor(estimate(roomy.stdout) - 1)}MiB`]);
-    expect(tight.stdout).toMatch(/solved sector by sector\)/);
-    expect(estimate(tight.stdout)).toBeLessThan(estimate(roomy.stdout));
-  });
+  it.skipIf(os.availableParallelism() < 2)(
+    'check says how many sectors run at once, and fewer under a tight memory limit',
+    () => {
+      const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-cli-'));
+      const spec = path.join(dir, 'ring.toml');
+      writeFileSync(
+        spec,
+        '[chain]\nsites = 10\nboundary = "periodic"\n[levels]\ncount = 4\ntunnelling = 1.0\n[exchange]\nstrength = 1.5\n',
+      );
+      const roomy = runCli(['check', spec]);
+      expect(roomy.stdout).toMatch(/solved sector by sector, 2 at a time\)/);
+      const estimate = (out: string) => Number(/memory estimate\s+([\d.]+) MiB/.exec(out)![1]);
+      // Just under the estimate for two at a time: one at a time still fits.
+      const tight = runCli(['check', spec, '--max-memory', `${Math.floor(estimate(roomy.stdout) - 1)}MiB`]);
+      expect(tight.stdout).toMatch(/solved sector by sector\)/);
+      expect(estimate(tight.stdout)).toBeLessThan(estimate(roomy.stdout));
+    },
+  );
 
   it('demo runs and shows the string width table', () => {
     const r = runCli(['demo'], { timeout: 60_000 });

@@ -94,7 +94,8 @@ describe('a reader that closes the pipe early', () => {
 function expectOneLine(r: { code: number | null; stderr: string }, ...names: (string | RegExp)[]): void {
   expect(r.stderr).not.toMatch(noStack);
   expect(r.stderr.trim().split('\n'), r.stderr).toHaveLength(1);
-  for (const name of names) expect(r.stderr).toMatch(typeof name === 'string' ? new RegExp(name.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')) : name);
+  for (const name of names)
+    expect(r.stderr).toMatch(typeof name === 'string' ? new RegExp(name.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')) : name);
   expect(r.code).toBe(2);
 }
 
@@ -122,7 +123,12 @@ describe('folders that cannot be written', () => {
     writeFileSync(path.join(dir, 'scan.toml'), SCAN);
     writeFileSync(path.join(dir, 'evolve.toml'), EVOLVE);
     writeFileSync(path.join(dir, 'afile'), 'not a folder\n');
-    return { dir, scan: path.join(dir, 'scan.toml'), evolve: path.join(dir, 'evolve.toml'), file: path.join(dir, 'afile') };
+    return {
+      dir,
+      scan: path.join(dir, 'scan.toml'),
+      evolve: path.join(dir, 'evolve.toml'),
+      file: path.join(dir, 'afile'),
+    };
   }
   const commands = (w: ReturnType<typeof workspace>, out: string): [string, string[]][] => [
     ['scan', ['scan', w.scan, '--out', out, '--quiet', '--workers', '1']],
@@ -173,19 +179,27 @@ describe('folders that cannot be written', () => {
 
   // Linux's /proc refuses new entries with ENOENT although the parent exists; Node's recursive
   // mkdir then retries forever. Found by fuzzing --out; spawnSync's timeout turns a hang into a failure.
-  it.skipIf(!existsSync('/proc/self'))('--out under /proc: one line, exit 2, no endless loop (scan, evolve, report)', () => {
-    const w = workspace();
-    for (const [name, args] of commands(w, '/proc/rungchain-nope').slice(0, 3)) {
-      const r = runCli(args, { timeout: 30_000 });
-      expect(r.code, `${name} hung or crashed: ${r.stderr}`).not.toBeNull();
-      expectOneLine(r, '/proc/rungchain-nope', /\/proc does not take new folders/);
-    }
-  });
+  it.skipIf(!existsSync('/proc/self'))(
+    '--out under /proc: one line, exit 2, no endless loop (scan, evolve, report)',
+    () => {
+      const w = workspace();
+      for (const [name, args] of commands(w, '/proc/rungchain-nope').slice(0, 3)) {
+        const r = runCli(args, { timeout: 30_000 });
+        expect(r.code, `${name} hung or crashed: ${r.stderr}`).not.toBeNull();
+        expectOneLine(r, '/proc/rungchain-nope', /\/proc does not take new folders/);
+      }
+    },
+  );
 });
 
 describe('a full disk (simulated through the RUNGCHAIN_TEST_DISK_BYTES hook)', () => {
   const full = (args: string[], bytes: number, cwd = ROOT) => {
-    const r = spawnSync(process.execPath, [CLI, ...args], { cwd, encoding: 'utf8', timeout: 120_000, env: { ...process.env, RUNGCHAIN_TEST_DISK_BYTES: String(bytes) } });
+    const r = spawnSync(process.execPath, [CLI, ...args], {
+      cwd,
+      encoding: 'utf8',
+      timeout: 120_000,
+      env: { ...process.env, RUNGCHAIN_TEST_DISK_BYTES: String(bytes) },
+    });
     return { code: r.status, stdout: r.stdout, stderr: r.stderr };
   };
 
@@ -207,7 +221,10 @@ describe('a full disk (simulated through the RUNGCHAIN_TEST_DISK_BYTES hook)', (
     }
     // A folder that was there before stays, empty.
     mkdirSync(path.join(dir, 'mine'));
-    expectOneLine(full(['scan', 'scan.toml', '--out', 'mine', '--quiet'], 0, dir), /cannot write the lock in mine: no space left/);
+    expectOneLine(
+      full(['scan', 'scan.toml', '--out', 'mine', '--quiet'], 0, dir),
+      /cannot write the lock in mine: no space left/,
+    );
     expect(readdirSync(path.join(dir, 'mine'))).toEqual([]);
   });
 
@@ -265,7 +282,11 @@ describe('partial failure: exit 3 and one closing line, for scan, evolve and mer
     const out = path.join(dir, 'run');
     const r = runCli(['scan', path.join(dir, 'scan.toml'), '--out', out, '--max-memory', '70MB', '--quiet']);
     expect(r.code).toBe(3);
-    expect(r.stderr.trim().split('\n')).toEqual([expect.stringMatching(/^rungchain: 1 of 3 points failed \(the reasons: .*summary .*\); rerun them with --retry-failed$/)]);
+    expect(r.stderr.trim().split('\n')).toEqual([
+      expect.stringMatching(
+        /^rungchain: 1 of 3 points failed \(the reasons: .*summary .*\); rerun them with --retry-failed$/,
+      ),
+    ]);
     const merged = runCli(['merge', out, '--out', path.join(dir, 'merged')]);
     expect(merged.stdout).toMatch(/2 done, 1 failed, 0 missing of 3/);
     expect(merged.code).toBe(3);
@@ -276,9 +297,22 @@ describe('partial failure: exit 3 and one closing line, for scan, evolve and mer
     writeFileSync(path.join(dir, 'evolve.toml'), BASE + TIMES + AXIS);
     const out = path.join(dir, 'run');
     for (let attempt = 0; attempt < 2; attempt++) {
-      const r = runCli(['evolve', path.join(dir, 'evolve.toml'), '--out', out, '--max-memory', '70MB', '--quiet', '--json']);
+      const r = runCli([
+        'evolve',
+        path.join(dir, 'evolve.toml'),
+        '--out',
+        out,
+        '--max-memory',
+        '70MB',
+        '--quiet',
+        '--json',
+      ]);
       expect(JSON.parse(r.stdout)).toHaveLength(3);
-      expect(r.stderr.trim().split('\n')).toEqual([expect.stringMatching(/^rungchain: 1 of 3 traces failed \(the reasons: .*trace .*\); rerun them with --retry-failed$/)]);
+      expect(r.stderr.trim().split('\n')).toEqual([
+        expect.stringMatching(
+          /^rungchain: 1 of 3 traces failed \(the reasons: .*trace .*\); rerun them with --retry-failed$/,
+        ),
+      ]);
       expect(r.code).toBe(3);
     }
   });
@@ -286,11 +320,23 @@ describe('partial failure: exit 3 and one closing line, for scan, evolve and mer
   it('a single trace that failed: the next run says why and exits 3 instead of exiting 2 in silence', () => {
     const dir = tmp();
     writeFileSync(path.join(dir, 'big.toml'), BASE.replace('sites = 3', 'sites = 13') + TIMES);
-    const args = ['evolve', path.join(dir, 'big.toml'), '--out', path.join(dir, 'run'), '--max-memory', '70MB', '--quiet'];
+    const args = [
+      'evolve',
+      path.join(dir, 'big.toml'),
+      '--out',
+      path.join(dir, 'run'),
+      '--max-memory',
+      '70MB',
+      '--quiet',
+    ];
     // The run that meets the error reports it as any error (exit 2) and records the trace as failed.
     expectOneLine(runCli(args), /needs an estimated .* more than the memory limit/);
     const again = runCli(args);
-    expect(again.stderr.trim().split('\n')).toEqual([expect.stringMatching(/^rungchain: the trace failed: ResourceError: .*memory limit.*; run it again with --retry-failed$/)]);
+    expect(again.stderr.trim().split('\n')).toEqual([
+      expect.stringMatching(
+        /^rungchain: the trace failed: ResourceError: .*memory limit.*; run it again with --retry-failed$/,
+      ),
+    ]);
     expect(again.code).toBe(3);
   });
 });
@@ -301,28 +347,44 @@ describe('the commands rungchain prints can be pasted where the user stands', ()
     const dir = tmp();
     writeFileSync(path.join(dir, 'scan.toml'), SCAN);
     const out = path.join(dir, 'my run');
-    const child = spawn(process.execPath, [CLI, 'scan', path.join(dir, 'scan.toml'), '--out', out, '--workers', '1', '--no-warm-start', '--max-memory', '8GB'], {
-      cwd: ROOT,
-      stdio: ['ignore', 'ignore', 'pipe'],
-      env: { ...process.env, RUNGCHAIN_TEST_POINT_DELAY_MS: '100' },
-    });
+    const child = spawn(
+      process.execPath,
+      [
+        CLI,
+        'scan',
+        path.join(dir, 'scan.toml'),
+        '--out',
+        out,
+        '--workers',
+        '1',
+        '--no-warm-start',
+        '--max-memory',
+        '8GB',
+      ],
+      {
+        cwd: ROOT,
+        stdio: ['ignore', 'ignore', 'pipe'],
+        env: { ...process.env, RUNGCHAIN_TEST_POINT_DELAY_MS: '100' },
+      },
+    );
     let stderr = '';
     child.stderr.on('data', (d) => (stderr += d));
     const exit = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));
     const records = path.join(out, 'records.msgpack');
-    for (let i = 0; i < 2000 && !(existsSync(records) && statSync(records).size > 0); i++) await new Promise((r) => setTimeout(r, 10));
+    for (let i = 0; i < 2000 && !(existsSync(records) && statSync(records).size > 0); i++)
+      await new Promise((r) => setTimeout(r, 10));
     child.kill('SIGINT');
     expect(await exit).toBe(130);
     const command = resumeCommandIn(stderr);
-    for (const option of ['--no-warm-start', '--max-memory 8GB', '--workers 1', `--out '${out}'`]) expect(command).toContain(option);
+    for (const option of ['--no-warm-start', '--max-memory 8GB', '--workers 1', `--out '${out}'`])
+      expect(command).toContain(option);
     const resumed = pasted(command);
     expect(resumed.stderr).not.toMatch(/command not found/);
     expect(resumed.status, resumed.stderr).toBe(0);
     expect(resumed.stderr).toMatch(/resuming .*: \d+ done, 0 failed/);
     expect(readRun(out).records).toHaveLength(480);
     // The closing hint works too.
-    const hint = /results: (.*?)  \(--csv/.exec(resumed.stderr)![1];
+    const hint = /results: (.*?) {2}\(--csv/.exec(resumed.stderr)![1];
     expect(JSON.parse(pasted(`${hint} --json`).stdout)).toHaveLength(480);
   });
 });
-

@@ -21,14 +21,28 @@ function record(): PointRecord {
     energies: [e0, e0 + 4.440892098500626e-15, -6.07811602252],
     gap: 4.440892098500626e-15,
     observables: {
-      populations: [[1 - 1e-17, 1e-17], [0.5, 0.5]],
+      populations: [
+        [1 - 1e-17, 1e-17],
+        [0.5, 0.5],
+      ],
       level_mean: [1e-17, 0.5],
       spread: [1e-17, 0.25],
       string_width: 0.125,
       pair_separation: [],
     },
     basis: { kind: 'pinned', dimension: 4, sites: 2, levels: 2, operator: 'stored', nonzeros: 8 },
-    solver: { method: 'lanczos', iterations: 1, restarts: 0, residuals: [0, 5.5e-15, 1.1e-14], converged: true, tolerance: 1e-9, degeneracy: 2, degeneracy_complete: true, seconds: 0.01, memory_estimate_bytes: 0 },
+    solver: {
+      method: 'lanczos',
+      iterations: 1,
+      restarts: 0,
+      residuals: [0, 5.5e-15, 1.1e-14],
+      converged: true,
+      tolerance: 1e-9,
+      degeneracy: 2,
+      degeneracy_complete: true,
+      seconds: 0.01,
+      memory_estimate_bytes: 0,
+    },
     sectors: [
       { momentum: 0, k: 0, parity: 1, level_flip: null, charge: 1 },
       { momentum: 1, k: Math.PI, parity: -1, level_flip: null, charge: 1 },
@@ -75,7 +89,23 @@ describe('readable tables', () => {
       dir: 'run',
       manifest: {},
       section: { axes: [{ key: 'exchange.strength', values: [1] }], zip: false },
-      rows: [{ index: 0, params: { 'exchange.strength': 1 }, status: 'done', record: { index: 0, params: { 'exchange.strength': 1 }, status: 'done', result, iterations: 1, seconds: 0.01, warm_start: false, overlap_previous: null } }],
+      rows: [
+        {
+          index: 0,
+          params: { 'exchange.strength': 1 },
+          status: 'done',
+          record: {
+            index: 0,
+            params: { 'exchange.strength': 1 },
+            status: 'done',
+            result,
+            iterations: 1,
+            seconds: 0.01,
+            warm_start: false,
+            overlap_previous: null,
+          },
+        },
+      ],
       counts: { total: 1, done: 1, failed: 0, pending: 0 },
       records: 1,
       fileBytes: 0,
@@ -83,7 +113,9 @@ describe('readable tables', () => {
     } as unknown as ScanRunSummary;
     const row = summaryText(summary).split('\n')[2].trim().split(/\s+/);
     expect(row.slice(0, 5)).toEqual(['0', '1', 'done', '-3', '0']);
-    const long = longText(summary).split('\n').filter((l) => /\spopulations\s/.test(l));
+    const long = longText(summary)
+      .split('\n')
+      .filter((l) => /\spopulations\s/.test(l));
     expect(long.map((l) => l.trim().split(/\s+/).pop())).toEqual(['1', '0', '0.5', '0.5']);
   });
 
@@ -98,7 +130,10 @@ describe('readable tables', () => {
   it('evolve: "1 step", and an error bound of exactly zero prints as 0', () => {
     // Two molecules with no coupling at all: H = 0, one Krylov step of an invariant subspace, no error.
     const spec = path.join(tmp(), 'still.toml');
-    writeFileSync(spec, '[chain]\nsites = 2\n[levels]\ncount = 2\ntunnelling = 0\n[evolve]\ninitial = [0, 1]\ntimes = [0, 0.5]\n');
+    writeFileSync(
+      spec,
+      '[chain]\nsites = 2\n[levels]\ncount = 2\ntunnelling = 0\n[evolve]\ninitial = [0, 1]\ntimes = [0, 0.5]\n',
+    );
     const r = runCli(['evolve', spec]);
     expect(r.code, r.stderr).toBe(0);
     expect(r.stdout).toMatch(/, 1 step, /);

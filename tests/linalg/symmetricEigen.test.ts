@@ -29,7 +29,12 @@ function maxAbs(a: ArrayLike<number>): number {
 }
 
 /** Largest |A v_k - lambda_k v_k| and |V^T V - 1| entry. */
-function defects(a: Float64Array, n: number, values: Float64Array, vectors: Float64Array): { residual: number; orthogonality: number } {
+function defects(
+  a: Float64Array,
+  n: number,
+  values: Float64Array,
+  vectors: Float64Array,
+): { residual: number; orthogonality: number } {
   let residual = 0;
   let orthogonality = 0;
   for (let k = 0; k < n; k++) {
@@ -52,7 +57,9 @@ describe('symmetricEigen', () => {
     const a = randomSymmetric(n, 100 + n);
     const { values, vectors } = symmetricEigen(a, n);
     const rows = Array.from({ length: n }, (_, i) => Array.from(a.subarray(i * n, (i + 1) * n)));
-    const reference = new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true }).realEigenvalues.sort((p, q) => p - q);
+    const reference = new EigenvalueDecomposition(new Matrix(rows), { assumeSymmetric: true }).realEigenvalues.sort(
+      (p, q) => p - q,
+    );
     const scale = Math.max(1, maxAbs(values));
     for (let k = 0; k < n; k++) expect(Math.abs(values[k] - reference[k])).toBeLessThan(1e-13 * n * scale);
     const { residual, orthogonality } = defects(a, n, values, vectors!);
@@ -69,7 +76,8 @@ describe('symmetricEigen', () => {
       if (i + 1 < n) a[i * n + i + 1] = a[(i + 1) * n + i] = -1;
     }
     const { values, vectors } = symmetricEigen(a, n);
-    for (let k = 1; k <= n; k++) expect(Math.abs(values[k - 1] - (2 - 2 * Math.cos((k * Math.PI) / (n + 1))))).toBeLessThan(1e-13);
+    for (let k = 1; k <= n; k++)
+      expect(Math.abs(values[k - 1] - (2 - 2 * Math.cos((k * Math.PI) / (n + 1))))).toBeLessThan(1e-13);
     // Its eigenvectors are sin(j k pi / (n + 1)) up to sign, normalized by sqrt(2 / (n + 1)).
     const k = 3;
     const sign = Math.sign(vectors![(k - 1) * n]);
@@ -109,7 +117,10 @@ describe('symmetricEigen', () => {
   });
 
   it('handles the empty matrix, and a badly scaled one', () => {
-    expect(symmetricEigen(new Float64Array(0), 0)).toEqual({ values: new Float64Array(0), vectors: new Float64Array(0) });
+    expect(symmetricEigen(new Float64Array(0), 0)).toEqual({
+      values: new Float64Array(0),
+      vectors: new Float64Array(0),
+    });
     // Eigenvalues 1e-150 and 1 in a rotated 2 x 2 block, beside a lone 1e150: squares of such
     // entries under- or overflow unless the reduction scales its rows. The blocks do not mix, so
     // each value must come back to rounding of its own block's norm: 1e150 relatively, the other
@@ -119,7 +130,8 @@ describe('symmetricEigen', () => {
     const q = [c, -sn, 0, sn, c, 0, 0, 0, 1]; // a rotation of the first two coordinates
     const d = [1e-150, 1, 1e150];
     const a = new Float64Array(9);
-    for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) for (let k = 0; k < 3; k++) a[i * 3 + j] += q[i * 3 + k] * d[k] * q[j * 3 + k];
+    for (let i = 0; i < 3; i++)
+      for (let j = 0; j < 3; j++) for (let k = 0; k < 3; k++) a[i * 3 + j] += q[i * 3 + k] * d[k] * q[j * 3 + k];
     const { values } = symmetricEigen(a, 3);
     expect(Math.abs(values[2] - 1e150) / 1e150).toBeLessThan(1e-15);
     expect(Math.abs(values[1] - 1)).toBeLessThan(1e-15);

@@ -23,7 +23,8 @@ function fill(v: Float64Array, seed: number): Float64Array {
  */
 function naiveDot(a: Float64Array, w: Float64Array, isComplex: boolean): [number, number, number] {
   let absSum = 0;
-  for (let t = 0; t < w.length; t++) absSum += Math.abs(a[t]) * (isComplex ? Math.abs(w[t]) + Math.abs(w[t ^ 1]) : Math.abs(w[t]));
+  for (let t = 0; t < w.length; t++)
+    absSum += Math.abs(a[t]) * (isComplex ? Math.abs(w[t]) + Math.abs(w[t ^ 1]) : Math.abs(w[t]));
   const allowance = 64 * Number.EPSILON * absSum;
   if (!isComplex) {
     let s = 0;
@@ -63,57 +64,62 @@ describe('SIMD kernels against written-out sums', () => {
     }
   }
 
-  it.each(cases)('project, subtract with fused dots, norm: length $length, $count vectors, complex $isComplex', ({ length, count, isComplex }) => {
-    const arena = arenaOrSkip();
-    const kernels = new VectorKernels(arena);
-    const set = Array.from({ length: count }, (_, i) => fill(arena.vector(length), 10 + i));
-    const w = fill(arena.vector(length), 99);
-    const w0 = Float64Array.from(w);
-    const coef = arena.vector(2 * count);
-    const next = arena.vector(2 * count);
-    kernels.project(w, set, count, isComplex, coef);
-    for (let i = 0; i < count; i++) {
-      const [re, im, allowance] = naiveDot(set[i], w0, isComplex);
-      expect(Math.abs(coef[isComplex ? 2 * i : i] - re)).toBeLessThan(allowance);
-      if (isComplex) expect(Math.abs(coef[2 * i + 1] - im)).toBeLessThan(allowance);
-    }
-    const normSquared = kernels.subtract(w, set, count, isComplex, coef, next);
-    // w0 - sum_i c_i a_i written out, with complex c_i a_i = (cr ar - ci ai, cr ai + ci ar)
-    // (the allowance per entry: a few eps times the sum of the magnitudes of its terms)
-    const expected = Float64Array.from(w0);
-    const magnitude = w0.map(Math.abs);
-    for (let i = 0; i < count; i++) {
-      const a = set[i];
-      if (isComplex) {
-        const cr = coef[2 * i];
-        const ci = coef[2 * i + 1];
-        for (let t = 0; t < length; t += 2) {
-          expected[t] -= cr * a[t] - ci * a[t + 1];
-          expected[t + 1] -= cr * a[t + 1] + ci * a[t];
-          magnitude[t] += Math.abs(cr * a[t]) + Math.abs(ci * a[t + 1]);
-          magnitude[t + 1] += Math.abs(cr * a[t + 1]) + Math.abs(ci * a[t]);
-        }
-      } else {
-        for (let t = 0; t < length; t++) {
-          expected[t] -= coef[i] * a[t];
-          magnitude[t] += Math.abs(coef[i] * a[t]);
+  it.each(cases)(
+    'project, subtract with fused dots, norm: length $length, $count vectors, complex $isComplex',
+    ({ length, count, isComplex }) => {
+      const arena = arenaOrSkip();
+      const kernels = new VectorKernels(arena);
+      const set = Array.from({ length: count }, (_, i) => fill(arena.vector(length), 10 + i));
+      const w = fill(arena.vector(length), 99);
+      const w0 = Float64Array.from(w);
+      const coef = arena.vector(2 * count);
+      const next = arena.vector(2 * count);
+      kernels.project(w, set, count, isComplex, coef);
+      for (let i = 0; i < count; i++) {
+        const [re, im, allowance] = naiveDot(set[i], w0, isComplex);
+        expect(Math.abs(coef[isComplex ? 2 * i : i] - re)).toBeLessThan(allowance);
+        if (isComplex) expect(Math.abs(coef[2 * i + 1] - im)).toBeLessThan(allowance);
+      }
+      const normSquared = kernels.subtract(w, set, count, isComplex, coef, next);
+      // w0 - sum_i c_i a_i written out, with complex c_i a_i = (cr ar - ci ai, cr ai + ci ar)
+      // (the allowance per entry: a few eps times the sum of the magnitudes of its terms)
+      const expected = Float64Array.from(w0);
+      const magnitude = w0.map(Math.abs);
+      for (let i = 0; i < count; i++) {
+        const a = set[i];
+        if (isComplex) {
+          const cr = coef[2 * i];
+          const ci = coef[2 * i + 1];
+          for (let t = 0; t < length; t += 2) {
+            expected[t] -= cr * a[t] - ci * a[t + 1];
+            expected[t + 1] -= cr * a[t + 1] + ci * a[t];
+            magnitude[t] += Math.abs(cr * a[t]) + Math.abs(ci * a[t + 1]);
+            magnitude[t + 1] += Math.abs(cr * a[t + 1]) + Math.abs(ci * a[t]);
+          }
+        } else {
+          for (let t = 0; t < length; t++) {
+            expected[t] -= coef[i] * a[t];
+            magnitude[t] += Math.abs(coef[i] * a[t]);
+          }
         }
       }
-    }
-    let expectedNormSquared = 0;
-    for (let t = 0; t < length; t++) {
-      expect(Math.abs(w[t] - expected[t])).toBeLessThanOrEqual(8 * Number.EPSILON * magnitude[t]);
-      expectedNormSquared += expected[t] * expected[t];
-    }
-    expect(Math.abs(normSquared - expectedNormSquared)).toBeLessThan(1e-12 * expectedNormSquared);
-    expect(Math.abs(kernels.norm2(w) - Math.sqrt(expectedNormSquared))).toBeLessThan(1e-12 * Math.sqrt(expectedNormSquared));
-    // The fused dot products are those of the updated w (whatever its rounding).
-    for (let i = 0; i < count; i++) {
-      const [re, im, allowance] = naiveDot(set[i], w, isComplex);
-      expect(Math.abs(next[isComplex ? 2 * i : i] - re)).toBeLessThan(allowance);
-      if (isComplex) expect(Math.abs(next[2 * i + 1] - im)).toBeLessThan(allowance);
-    }
-  });
+      let expectedNormSquared = 0;
+      for (let t = 0; t < length; t++) {
+        expect(Math.abs(w[t] - expected[t])).toBeLessThanOrEqual(8 * Number.EPSILON * magnitude[t]);
+        expectedNormSquared += expected[t] * expected[t];
+      }
+      expect(Math.abs(normSquared - expectedNormSquared)).toBeLessThan(1e-12 * expectedNormSquared);
+      expect(Math.abs(kernels.norm2(w) - Math.sqrt(expectedNormSquared))).toBeLessThan(
+        1e-12 * Math.sqrt(expectedNormSquared),
+      );
+      // The fused dot products are those of the updated w (whatever its rounding).
+      for (let i = 0; i < count; i++) {
+        const [re, im, allowance] = naiveDot(set[i], w, isComplex);
+        expect(Math.abs(next[isComplex ? 2 * i : i] - re)).toBeLessThan(allowance);
+        if (isComplex) expect(Math.abs(next[2 * i + 1] - im)).toBeLessThan(allowance);
+      }
+    },
+  );
 
   it.each([
     { length: 301, size: 9, keep: 5 },
@@ -153,7 +159,7 @@ describe('SIMD kernels against written-out sums', () => {
     expect(padding[0]).toBe(0);
   });
 
-  it('scaling in the arena gives the plain loop\'s bits, odd lengths and the padding included', () => {
+  it("scaling in the arena gives the plain loop's bits, odd lengths and the padding included", () => {
     const arena = arenaOrSkip();
     const kernels = new VectorKernels(arena);
     for (const length of [1, 2, 257, 4096]) {
@@ -169,7 +175,7 @@ describe('SIMD kernels against written-out sums', () => {
     }
   });
 
-  it('y += h x in the arena gives the plain loop\'s bits', () => {
+  it("y += h x in the arena gives the plain loop's bits", () => {
     const arena = arenaOrSkip();
     const kernels = new VectorKernels(arena);
     for (const length of [1, 2, 257, 4096]) {

@@ -1,6 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import { EigenvalueDecomposition, Matrix, SingularValueDecomposition } from 'ml-matrix';
-import { entropiesFromWeights, pinnedEntanglement, reducedDensityMatrix, cutsFor } from '../../src/observables/entanglement.js';
+import {
+  entropiesFromWeights,
+  pinnedEntanglement,
+  reducedDensityMatrix,
+  cutsFor,
+} from '../../src/observables/entanglement.js';
 import { solvePoint } from '../../src/point/solvePoint.js';
 import { validateSpec } from '../../src/spec/spec.js';
 import { clean, randomPinnedSpec, rng } from '../support/random.js';
@@ -25,9 +30,12 @@ function peschelBlock(hopping: number, sites: number, block: number) {
   const C = Matrix.zeros(block, block);
   for (let k = 0; k < sites; k++) {
     if (energies[k] >= 0) continue; // ground state: every negative-energy orbital filled
-    for (let i = 0; i < block; i++) for (let j = 0; j < block; j++) C.set(i, j, C.get(i, j) + modes.get(i, k) * modes.get(j, k));
+    for (let i = 0; i < block; i++)
+      for (let j = 0; j < block; j++) C.set(i, j, C.get(i, j) + modes.get(i, k) * modes.get(j, k));
   }
-  const zeta = new EigenvalueDecomposition(C, { assumeSymmetric: true }).realEigenvalues.map((z) => Math.min(Math.max(z, 0), 1));
+  const zeta = new EigenvalueDecomposition(C, { assumeSymmetric: true }).realEigenvalues.map((z) =>
+    Math.min(Math.max(z, 0), 1),
+  );
   let vonNeumann = 0;
   let renyi2 = 0;
   for (const z of zeta) {
@@ -77,7 +85,8 @@ describe('XX chain half-chain entanglement against the free-fermion correlation-
 function svdWeights(psi: Float64Array, L: number, N: number, cut: number, isComplex: boolean): number[] {
   const dL = N ** cut;
   const dR = N ** (L - cut);
-  const amp = (a: number, b: number, part: 0 | 1) => (isComplex ? psi[2 * (a + dL * b) + part] : part === 0 ? psi[a + dL * b] : 0);
+  const amp = (a: number, b: number, part: 0 | 1) =>
+    isComplex ? psi[2 * (a + dL * b) + part] : part === 0 ? psi[a + dL * b] : 0;
   // A complex matrix M = X + iY has the singular values of [[X, -Y], [Y, X]], each twice (common practice).
   const size = isComplex ? 2 : 1;
   const M = Matrix.zeros(size * dL, size * dR);
@@ -90,7 +99,10 @@ function svdWeights(psi: Float64Array, L: number, N: number, cut: number, isComp
         M.set(a + dL, b, amp(a, b, 1));
       }
     }
-  const singular = new SingularValueDecomposition(M, { computeLeftSingularVectors: false, computeRightSingularVectors: false }).diagonal;
+  const singular = new SingularValueDecomposition(M, {
+    computeLeftSingularVectors: false,
+    computeRightSingularVectors: false,
+  }).diagonal;
   const weights = singular.map((s) => s * s).sort((x, y) => y - x);
   return isComplex ? weights.filter((_, k) => k % 2 === 0) : weights;
 }
@@ -146,8 +158,20 @@ describe('textbook states', () => {
 
   it('a product state has no entanglement; a Bell pair has ln 2; so does the even mixture of |00> and |11>', () => {
     // Two sites, two levels; index = n_0 + 2 n_1.
-    const product = state([[0, 0.6], [1, 0.8]], 4); // (0.6|0> + 0.8|1>) x |0>
-    const bell = state([[0, Math.SQRT1_2], [3, Math.SQRT1_2]], 4);
+    const product = state(
+      [
+        [0, 0.6],
+        [1, 0.8],
+      ],
+      4,
+    ); // (0.6|0> + 0.8|1>) x |0>
+    const bell = state(
+      [
+        [0, Math.SQRT1_2],
+        [3, Math.SQRT1_2],
+      ],
+      4,
+    );
     const [p] = pinnedEntanglement([product], 2, 2, false, [1]);
     const [b] = pinnedEntanglement([bell], 2, 2, false, [1]);
     const [m] = pinnedEntanglement([state([[0, 1]], 4), state([[3, 1]], 4)], 2, 2, false, [1]);
@@ -256,10 +280,17 @@ describe('a degenerate ground space (an even mixture): the entropy of the sites 
   });
 
   it.each([
-    ['real, four-fold (periodic XX ring of 5)', { chain: { sites: 5, boundary: 'periodic' }, levels: { count: 2, tunnelling: 0 }, exchange: { strength: 1 } }],
+    [
+      'real, four-fold (periodic XX ring of 5)',
+      { chain: { sites: 5, boundary: 'periodic' }, levels: { count: 2, tunnelling: 0 }, exchange: { strength: 1 } },
+    ],
     [
       'complex, two-fold (Peierls phases, 5 x 3 ring)',
-      { chain: { sites: 5, boundary: 'periodic' }, levels: { count: 3, tunnelling: [0.7, 0.4], phase: [0.9, 0.2], detuning: [0, 0.3, -0.2] }, exchange: { strength: 2.3 } },
+      {
+        chain: { sites: 5, boundary: 'periodic' },
+        levels: { count: 3, tunnelling: [0.7, 0.4], phase: [0.9, 0.2], detuning: [0, 0.3, -0.2] },
+        exchange: { strength: 2.3 },
+      },
     ],
   ])('solved degenerate ground spaces, %s: every cut against the dense partial trace', (_name, raw) => {
     const solved = solvePoint(validateSpec({ ...raw, solve: { states: 6, entanglement: 'all' } }));

@@ -81,7 +81,14 @@ function referenceObservables(spec: Spec, ref: FockReference, re: number[], im: 
     for (let j = 0; j < L; j++)
       for (let n = 0; n < N; n++) {
         ref.states.forEach((occ, s) => {
-          const r = applyLadders(spec, [{ mode: i * N + n, dagger: true }, { mode: j * N + n, dagger: false }], occ);
+          const r = applyLadders(
+            spec,
+            [
+              { mode: i * N + n, dagger: true },
+              { mode: j * N + n, dagger: false },
+            ],
+            occ,
+          );
           if (!r) return;
           const t = ref.indexOf.get(key(r.occ))!;
           // conj(psi_t) amp psi_s
@@ -115,7 +122,14 @@ function expectClose(actual: number[][], expected: number[][], digits: number): 
 // pipeline against the same quantities evaluated on ml-matrix's dense ground state of the plain
 // reference Hamiltonian (tests/support/fockReference.ts).
 describe('itinerant observables against a dense reference ground state', () => {
-  const cases: [number, Kind, number, number, number, { periodic?: boolean; complex?: boolean; maxPerSite?: number }][] = [
+  const cases: [
+    number,
+    Kind,
+    number,
+    number,
+    number,
+    { periodic?: boolean; complex?: boolean; maxPerSite?: number },
+  ][] = [
     [42, 'hardcore', 5, 3, 3, { periodic: true }],
     [47, 'hardcore', 4, 2, 2, { periodic: false, complex: true }],
     [46, 'fermion', 4, 2, 3, { periodic: true }],
@@ -167,7 +181,8 @@ describe('itinerant observables against a dense reference ground state', () => {
           const k = (2 * Math.PI * m) / L;
           let nk = 0;
           for (let i = 0; i < L; i++)
-            for (let j = 0; j < L; j++) nk += Math.cos(k * (i - j)) * expected.rhoRe[i][j] - Math.sin(k * (i - j)) * expected.rhoIm[i][j];
+            for (let j = 0; j < L; j++)
+              nk += Math.cos(k * (i - j)) * expected.rhoRe[i][j] - Math.sin(k * (i - j)) * expected.rhoIm[i][j];
           expect(o.momentum_distribution[m]).toBeCloseTo(nk / L, 8);
         }
       } else {
@@ -177,7 +192,11 @@ describe('itinerant observables against a dense reference ground state', () => {
       if (!options.complex) {
         for (let i = 0; i < L; i++) {
           let d = 0;
-          for (let n = 0; n < N; n++) d += expectation(spec, ref, re, [{ mode: i * N + n, dagger: true }, { mode: i * N + n, dagger: false }]);
+          for (let n = 0; n < N; n++)
+            d += expectation(spec, ref, re, [
+              { mode: i * N + n, dagger: true },
+              { mode: i * N + n, dagger: false },
+            ]);
           expect(d).toBeCloseTo(expected.density[i], 10);
         }
       }
@@ -235,14 +254,19 @@ describe('itinerant observables against textbook limits', () => {
   it.each([0.5, 2, 7])('two-site Bose-Hubbard, U/t = %f: double occupancy = dE0/dU (Hellmann-Feynman)', (U) => {
     const t = 1;
     const o = solvePoint(
-      validateSpec({ chain: { sites: 2 }, levels: { count: 1 }, particles: { kind: 'boson', number: 2, hopping: t, onsite: U } }),
+      validateSpec({
+        chain: { sites: 2 },
+        levels: { count: 1 },
+        particles: { kind: 'boson', number: 2, hopping: t, onsite: U },
+      }),
     ).record.observables as Record<string, any>;
     const expected = (1 - U / Math.sqrt(U * U + 16 * t * t)) / 2;
     expect(o.double_occupancy[0] + o.double_occupancy[1]).toBeCloseTo(expected, 10);
   });
 
   it('hard-core bosons never share a site', () => {
-    const o = solvePoint(validateSpec(randomItinerantSpec(51, 'hardcore', 5, 2, 3, { periodic: true }))).record.observables as Record<string, any>;
+    const o = solvePoint(validateSpec(randomItinerantSpec(51, 'hardcore', 5, 2, 3, { periodic: true }))).record
+      .observables as Record<string, any>;
     for (const x of o.double_occupancy) expect(x).toBe(0);
   });
 });

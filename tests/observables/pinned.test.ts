@@ -39,7 +39,8 @@ describe('ground-state observables', () => {
       for (let n = 0; n < N; n++) expect(r.observables.populations[i][n]).toBeCloseTo(p[n], 10);
       expect(r.observables.level_mean[i]).toBeCloseTo(mean, 10);
       expect(r.observables.spread[i]).toBeCloseTo(variance, 10);
-      for (let j = 0; j < L; j++) expect(r.observables.pair_separation[i][j]).toBeCloseTo(i === j ? 0 : 2 * variance, 10);
+      for (let j = 0; j < L; j++)
+        expect(r.observables.pair_separation[i][j]).toBeCloseTo(i === j ? 0 : 2 * variance, 10);
     }
     expect(r.observables.string_width).toBeCloseTo(((L - 1) / L) * variance, 10);
   });
@@ -49,7 +50,11 @@ describe('ground-state observables', () => {
   // is equally populated whatever basis of the pair the solver returns.
   it('averages over a degenerate ground space and reports its size', () => {
     const r = solvePoint(
-      validateSpec({ chain: { sites: 1 }, levels: { count: 3, boundary: 'ring', tunnelling: -1 }, solve: { states: 3 } }),
+      validateSpec({
+        chain: { sites: 1 },
+        levels: { count: 3, boundary: 'ring', tunnelling: -1 },
+        solve: { states: 3 },
+      }),
     ).record;
     expect(r.solver.degeneracy).toBe(2);
     expect(r.energies[0]).toBeCloseTo(-1, 12);
@@ -69,7 +74,8 @@ describe('ground-state observables', () => {
     // (1/L) sum (n_i - nbar)^2 <= (1/L) sum (n_i - c)^2 for any c, averaged: width <= mean of <(n_i - c)^2>
     const meanSpread = r.observables.spread.reduce((a, b) => a + b, 0) / r.observables.spread.length;
     const meanLevel = r.observables.level_mean.reduce((a, b) => a + b, 0) / r.observables.level_mean.length;
-    const around = r.observables.spread.reduce((acc, s, i) => acc + s + (r.observables.level_mean[i] - meanLevel) ** 2, 0) / 6;
+    const around =
+      r.observables.spread.reduce((acc, s, i) => acc + s + (r.observables.level_mean[i] - meanLevel) ** 2, 0) / 6;
     expect(r.observables.string_width).toBeLessThanOrEqual(around + 1e-12);
     expect(meanSpread).toBeGreaterThan(0);
   });

@@ -28,7 +28,8 @@ describe('stored matrices in an arena', () => {
     const build = () => {
       const builder = new CsrBuilder(n, isComplex);
       for (let i = 0; i < n; i++) {
-        for (let j = 0; j < n; j++) if (re.get(i, j) !== 0 || im.get(i, j) !== 0) builder.add(j, re.get(i, j), im.get(i, j));
+        for (let j = 0; j < n; j++)
+          if (re.get(i, j) !== 0 || im.get(i, j) !== 0) builder.add(j, re.get(i, j), im.get(i, j));
         builder.endRow();
       }
       return builder;

@@ -4,7 +4,13 @@ import { buildModel } from '../../src/model/model.js';
 import { buildFockOperator, planFockOperator } from '../../src/operator/fock.js';
 import { lowestEigenpairs } from '../../src/solver/eigensolver.js';
 import { validateSpec, type Spec } from '../../src/spec/spec.js';
-import { denseFockHamiltonian, denseGround, key, randomItinerantSpec, type FockReference } from '../support/fockReference.js';
+import {
+  denseFockHamiltonian,
+  denseGround,
+  key,
+  randomItinerantSpec,
+  type FockReference,
+} from '../support/fockReference.js';
 import { denseSpectrum } from '../support/reference.js';
 import { VectorArena } from '../../src/simd/arena.js';
 
@@ -32,20 +38,21 @@ function permutation(basis: FockBasis, ref: FockReference): number[] {
 
 // Cases: [seed, kind, sites, levels, particles, options]. Every term is on; periodic chains put the
 // fermion string across the wrap-around bond; complex cases carry random Peierls phases.
-const cases: [number, Kind, number, number, number, { periodic?: boolean; complex?: boolean; maxPerSite?: number }][] = [
-  [1, 'hardcore', 4, 3, 2, { periodic: false }],
-  [2, 'hardcore', 5, 2, 3, { periodic: true, complex: true }],
-  [3, 'hardcore', 4, 4, 3, { periodic: true }],
-  [4, 'fermion', 3, 2, 3, { periodic: true }],
-  [5, 'fermion', 4, 2, 4, { periodic: true, complex: true }],
-  [6, 'fermion', 3, 3, 4, { periodic: false }],
-  [7, 'fermion', 5, 1, 2, { periodic: true }],
-  [8, 'fermion', 4, 2, 3, { periodic: true }],
-  [9, 'boson', 3, 2, 3, { periodic: true }],
-  [10, 'boson', 4, 2, 3, { periodic: false, maxPerSite: 2, complex: true }],
-  [11, 'boson', 3, 3, 4, { periodic: true, maxPerSite: 3 }],
-  [12, 'boson', 5, 1, 4, { periodic: true }],
-];
+const cases: [number, Kind, number, number, number, { periodic?: boolean; complex?: boolean; maxPerSite?: number }][] =
+  [
+    [1, 'hardcore', 4, 3, 2, { periodic: false }],
+    [2, 'hardcore', 5, 2, 3, { periodic: true, complex: true }],
+    [3, 'hardcore', 4, 4, 3, { periodic: true }],
+    [4, 'fermion', 3, 2, 3, { periodic: true }],
+    [5, 'fermion', 4, 2, 4, { periodic: true, complex: true }],
+    [6, 'fermion', 3, 3, 4, { periodic: false }],
+    [7, 'fermion', 5, 1, 2, { periodic: true }],
+    [8, 'fermion', 4, 2, 3, { periodic: true }],
+    [9, 'boson', 3, 2, 3, { periodic: true }],
+    [10, 'boson', 4, 2, 3, { periodic: false, maxPerSite: 2, complex: true }],
+    [11, 'boson', 3, 3, 4, { periodic: true, maxPerSite: 3 }],
+    [12, 'boson', 5, 1, 4, { periodic: true }],
+  ];
 
 // The stored Fock-space matrix against the plain dense construction from second quantization in
 // tests/support/fockReference.ts (element by element, with ml-matrix storage).
@@ -92,7 +99,14 @@ describe('Fock-space operator against the dense second-quantized reference', () 
 // Lanczos (src/solver/eigensolver.ts, dense path disabled) on our operator against ml-matrix's dense
 // eigensolver on the reference matrix: the lowest eigenvalues must agree.
 describe('Lanczos on Fock operators against ml-matrix dense eigenvalues', () => {
-  const spectra: [number, Kind, number, number, number, { periodic?: boolean; complex?: boolean; maxPerSite?: number }][] = [
+  const spectra: [
+    number,
+    Kind,
+    number,
+    number,
+    number,
+    { periodic?: boolean; complex?: boolean; maxPerSite?: number },
+  ][] = [
     [31, 'hardcore', 5, 3, 3, { periodic: true }],
     [32, 'hardcore', 6, 2, 3, { periodic: false, complex: true }],
     [33, 'fermion', 4, 3, 3, { periodic: true }],
@@ -108,7 +122,13 @@ describe('Lanczos on Fock operators against ml-matrix dense eigenvalues', () => 
       // Real matrices straight to the symmetric solver; complex ones through the real embedding.
       const exact = options.complex ? denseSpectrum({ dim: ref.dim, re: ref.re, im: ref.im }) : denseGround(ref).values;
       const states = 4;
-      const result = lowestEigenpairs(op, { states, tolerance: 1e-10, denseThreshold: 0, seed: 7, throwOnFailure: true });
+      const result = lowestEigenpairs(op, {
+        states,
+        tolerance: 1e-10,
+        denseThreshold: 0,
+        seed: 7,
+        throwOnFailure: true,
+      });
       expect(result.method).toBe('lanczos');
       for (let k = 0; k < states; k++) expect(result.values[k]).toBeCloseTo(exact[k], 9);
     });
@@ -118,19 +138,22 @@ describe('Lanczos on Fock operators against ml-matrix dense eigenvalues', () => 
 // Built in an arena, the same matrix multiplies in WebAssembly: the same multiply-adds in the
 // same order as the plain loop, so the same bits (the dense checks above cover the plain loop).
 describe('Fock operators built in an arena', () => {
-  it.each(cases.filter((_, k) => k % 3 === 1))('seed %i %s: arena product = plain product, bit for bit', (seed, kind, L, N, Np, options) => {
-    const spec = validateSpec(randomItinerantSpec(seed, kind, L, N, Np, options));
-    const { model, basis, op } = build(spec);
-    const arena = VectorArena.create()!;
-    const inArena = buildFockOperator(model, basis, arena);
-    expect(inArena.arena).toBe(arena);
-    const c = op.isComplex ? 2 : 1;
-    const x = arena.vector(c * basis.dim);
-    for (let k = 0; k < x.length; k++) x[k] = Math.sin(k + seed);
-    const plain = new Float64Array(c * basis.dim);
-    op.apply(Float64Array.from(x), plain);
-    const y = arena.vector(c * basis.dim);
-    inArena.apply(x, y);
-    expect(Array.from(y)).toEqual(Array.from(plain));
-  });
+  it.each(cases.filter((_, k) => k % 3 === 1))(
+    'seed %i %s: arena product = plain product, bit for bit',
+    (seed, kind, L, N, Np, options) => {
+      const spec = validateSpec(randomItinerantSpec(seed, kind, L, N, Np, options));
+      const { model, basis, op } = build(spec);
+      const arena = VectorArena.create()!;
+      const inArena = buildFockOperator(model, basis, arena);
+      expect(inArena.arena).toBe(arena);
+      const c = op.isComplex ? 2 : 1;
+      const x = arena.vector(c * basis.dim);
+      for (let k = 0; k < x.length; k++) x[k] = Math.sin(k + seed);
+      const plain = new Float64Array(c * basis.dim);
+      op.apply(Float64Array.from(x), plain);
+      const y = arena.vector(c * basis.dim);
+      inArena.apply(x, y);
+      expect(Array.from(y)).toEqual(Array.from(plain));
+    },
+  );
 });

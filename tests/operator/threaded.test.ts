@@ -84,7 +84,7 @@ describe('products split by rows', () => {
     expect(Array.from(two)).toEqual(Array.from(one));
   });
 
-  it('vectors kept in the threads\' arena are multiplied in place, with the same bits', () => {
+  it("vectors kept in the threads' arena are multiplied in place, with the same bits", () => {
     // pinned: the threads' own arena
     const { op, c, x, product: one, model, basis } = pinnedProduct(73, 8, 3);
     const threaded = withThreads(op, 2, model, basis) as ReturnType<typeof withThreads> & { arena: VectorArena | null };
@@ -141,7 +141,11 @@ describe('products split by rows', () => {
       };
       const first = stored(2600, false, 31, arena);
       const pinned = pinnedProduct(74, 7, 3);
-      const operators: { op: Parameters<typeof withThreads>[0]; model?: typeof pinned.model; basis?: typeof pinned.basis }[] = [
+      const operators: {
+        op: Parameters<typeof withThreads>[0];
+        model?: typeof pinned.model;
+        basis?: typeof pinned.basis;
+      }[] = [
         { op: first },
         { op: stored(1900, true, 32, null) },
         { op: pinned.op, model: pinned.model, basis: pinned.basis },
@@ -170,7 +174,10 @@ describe('products split by rows', () => {
 
   it('a threaded solve gives the one-thread energies', async () => {
     const { solvePoint } = await import('../../src/point/solvePoint.js');
-    const raw = clean({ ...randomPinnedSpec(81, 8, 3), solve: { states: 3, tolerance: 1e-10, symmetries: 'none', threads: 2 } });
+    const raw = clean({
+      ...randomPinnedSpec(81, 8, 3),
+      solve: { states: 3, tolerance: 1e-10, symmetries: 'none', threads: 2 },
+    });
     const one = solvePoint(validateSpec(raw), { threads: 1 }).record;
     const two = solvePoint(validateSpec(raw)).record;
     two.energies.forEach((e, k) => expect(e).toBeCloseTo(one.energies[k], 10));

@@ -28,7 +28,11 @@ key = "particles.kind"
 values = ["hardcore", "fermion", "boson"]
 `;
 
-const lowest = (energies: number[], n: number) => [...energies].sort((a, b) => a - b).slice(0, n).reduce((a, b) => a + b, 0);
+const lowest = (energies: number[], n: number) =>
+  [...energies]
+    .sort((a, b) => a - b)
+    .slice(0, n)
+    .reduce((a, b) => a + b, 0);
 // Open chain: orbitals -2t cos(pi k/(L+1)), k = 1..L; ring: -2t cos(2 pi (k + shift)/L) (textbook tight binding).
 const open = Array.from({ length: L }, (_, k) => -2 * T * Math.cos((Math.PI * (k + 1)) / (L + 1)));
 const ring = (shift: number) => Array.from({ length: L }, (_, k) => -2 * T * Math.cos((2 * Math.PI * (k + shift)) / L));
@@ -70,7 +74,10 @@ describe('summary --by particles.kind', () => {
   it('--csv with the shorthand --by kind: the other axes, then quantity[kind] columns', () => {
     const r = runCli(['summary', run, '--by', 'kind', '--csv']);
     expect(r.code).toBe(0);
-    const [header, ...lines] = r.stdout.trim().split('\n').map((l) => l.split(','));
+    const [header, ...lines] = r.stdout
+      .trim()
+      .split('\n')
+      .map((l) => l.split(','));
     expect(header.slice(0, 4)).toEqual(['chain.boundary', 'E0[hardcore]', 'E0[fermion]', 'E0[boson]']);
     expect(lines).toHaveLength(2);
     const periodic = lines.find((l) => l[0] === 'periodic')!;

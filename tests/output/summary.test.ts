@@ -41,13 +41,21 @@ function parseCsv(text: string): string[][] {
   for (let i = 0; i < text.length; i++) {
     const c = text[i];
     if (quoted) {
-      if (c === '"' && text[i + 1] === '"') (cell += '"'), i++;
-      else if (c === '"') quoted = false;
+      if (c === '"' && text[i + 1] === '"') {
+        cell += '"';
+        i++;
+      } else if (c === '"') quoted = false;
       else cell += c;
     } else if (c === '"') quoted = true;
-    else if (c === ',') row.push(cell), (cell = '');
-    else if (c === '\n') row.push(cell), rows.push(row), (row = []), (cell = '');
-    else cell += c;
+    else if (c === ',') {
+      row.push(cell);
+      cell = '';
+    } else if (c === '\n') {
+      row.push(cell);
+      rows.push(row);
+      row = [];
+      cell = '';
+    } else cell += c;
   }
   return rows;
 }
@@ -60,7 +68,17 @@ beforeAll(() => {
   writeFileSync(path.join(dir, 'spec.toml'), SPEC);
   run = path.join(dir, 'run');
   // 14 sites x 3 levels cannot fit in 70 MB: those three points fail with the reason.
-  const r = runCli(['scan', path.join(dir, 'spec.toml'), '--out', run, '--workers', '2', '--max-memory', '70MB', '--quiet']);
+  const r = runCli([
+    'scan',
+    path.join(dir, 'spec.toml'),
+    '--out',
+    run,
+    '--workers',
+    '2',
+    '--max-memory',
+    '70MB',
+    '--quiet',
+  ]);
   // 3: the run holds failed points (on purpose, see above).
   expect(r.code).toBe(3);
 });
@@ -83,7 +101,8 @@ describe('rungchain summary', () => {
       expect(x['chain.sites']).toBe(SITES);
       expect(x.energies).toHaveLength(3);
       expect(x.gap).toBeCloseTo(x.energies[1] - x.energies[0], 14);
-      for (const key of ['populations', 'level_mean', 'spread', 'string_width', 'pair_separation']) expect(x.observables).toHaveProperty(key);
+      for (const key of ['populations', 'level_mean', 'spread', 'string_width', 'pair_separation'])
+        expect(x.observables).toHaveProperty(key);
       expect(x.string_width).toBe(x.observables.string_width);
 
       // Independent: the spectrum of the plain dense Hamiltonian from ml-matrix's eigensolver.
@@ -96,7 +115,10 @@ describe('rungchain summary', () => {
       // Probabilities of each site's level sum to one; the mean level is sum_n n P(n) (textbook).
       x.observables.populations.forEach((p: number[], i: number) => {
         expect(p.reduce((s, q) => s + q, 0)).toBeCloseTo(1, 12);
-        expect(x.observables.level_mean[i]).toBeCloseTo(p.reduce((s, q, n) => s + n * q, 0), 12);
+        expect(x.observables.level_mean[i]).toBeCloseTo(
+          p.reduce((s, q, n) => s + n * q, 0),
+          12,
+        );
       });
     }
   });
@@ -107,7 +129,8 @@ describe('rungchain summary', () => {
     expect(r.code).toBe(0);
     const [header, ...rows] = parseCsv(r.stdout);
     expect(header.slice(0, 4)).toEqual(['index', 'chain.sites', 'exchange.strength', 'status']);
-    for (const name of ['E0', 'E1', 'E2', 'gap', 'string_width', 'iterations', 'seconds', 'error']) expect(header).toContain(name);
+    for (const name of ['E0', 'E1', 'E2', 'gap', 'string_width', 'iterations', 'seconds', 'error'])
+      expect(header).toContain(name);
     expect(rows).toHaveLength(json.length);
     const col = (name: string) => header.indexOf(name);
     rows.forEach((row, k) => {
@@ -145,7 +168,16 @@ describe('rungchain summary', () => {
       }
     }
     const csv = parseCsv(runCli(['summary', run, '--long', '--csv']).stdout);
-    expect(csv[0]).toEqual(['index', 'chain.sites', 'exchange.strength', 'observable', 'site', 'level', 'other_site', 'value']);
+    expect(csv[0]).toEqual([
+      'index',
+      'chain.sites',
+      'exchange.strength',
+      'observable',
+      'site',
+      'level',
+      'other_site',
+      'value',
+    ]);
     expect(csv).toHaveLength(long.length + 1);
   });
 
@@ -188,7 +220,9 @@ describe('rungchain status', () => {
     const r = runCli(['summary', copy, '--json']);
     expect(r.code).toBe(2);
     expect(r.stdout).toBe('');
-    expect(r.stderr).toMatch(/records\.msgpack is damaged in the middle: .* at byte 0, after record 0, with 5 intact records after/);
+    expect(r.stderr).toMatch(
+      /records\.msgpack is damaged in the middle: .* at byte 0, after record 0, with 5 intact records after/,
+    );
   });
 });
 

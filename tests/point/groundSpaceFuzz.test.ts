@@ -79,7 +79,7 @@ interface Case {
 }
 
 function randomCase(id: number, r: () => number): Case | null {
-  const pick = <T,>(xs: readonly T[]): T => xs[Math.floor(r() * xs.length)];
+  const pick = <T>(xs: readonly T[]): T => xs[Math.floor(r() * xs.length)];
   const u = (lo: number, hi: number) => lo + (hi - lo) * r();
   const q = () => pick([0.5, 1, -1, 2, 0.25]);
   const category = ONLY_CATEGORY ?? pick(CATEGORIES);
@@ -213,7 +213,8 @@ function randomCase(id: number, r: () => number): Case | null {
   const tolerance = r() < 0.5 ? 1e-9 : 1e-10;
   // A single named symmetry gives larger sectors than "auto" (more of them solved by Lanczos); one the
   // model lacks is refused, and the case falls back to "auto".
-  const symmetries = r() < 0.4 ? 'auto' : r() < 0.6 ? 'none' : [pick(['charge', 'translation', 'reflection', 'level_flip'])];
+  const symmetries =
+    r() < 0.4 ? 'auto' : r() < 0.6 ? 'none' : [pick(['charge', 'translation', 'reflection', 'level_flip'])];
   const particlesSpec: Record<string, unknown> = { kind };
   if (kind !== 'pinned') {
     particlesSpec.number = particles;
@@ -226,7 +227,12 @@ function randomCase(id: number, r: () => number): Case | null {
   const spec: Record<string, unknown> = {
     chain: { sites: L, boundary: periodic ? 'periodic' : 'open' },
     levels: { count: N, boundary: ring ? 'ring' : 'open', tunnelling, phase, detuning },
-    exchange: { strength: exchange, range: exchangeRange, ...(exchangeCutoff !== null ? { cutoff: exchangeCutoff } : {}), weights: weightsSpec },
+    exchange: {
+      strength: exchange,
+      range: exchangeRange,
+      ...(exchangeCutoff !== null ? { cutoff: exchangeCutoff } : {}),
+      weights: weightsSpec,
+    },
     ising: { strength: ising, moments, range: isingRange, ...(isingCutoff !== null ? { cutoff: isingCutoff } : {}) },
     particles: particlesSpec,
     solve: {
@@ -267,7 +273,10 @@ function checkCase(c: Case, failures: Failure[], tally: Record<string, number>):
   const solve = () => {
     const first = solvePoint(validateSpec(JSON.parse(JSON.stringify(c.spec))), { groundStates: true });
     if (!warm || first.groundStates.length === 0) return first.record;
-    return solvePoint(validateSpec(JSON.parse(JSON.stringify(c.spec))), { groundStates: true, initial: first.groundStates[0] }).record;
+    return solvePoint(validateSpec(JSON.parse(JSON.stringify(c.spec))), {
+      groundStates: true,
+      initial: first.groundStates[0],
+    }).record;
   };
   try {
     try {
@@ -282,7 +291,7 @@ function checkCase(c: Case, failures: Failure[], tally: Record<string, number>):
     fail(`threw: ${(e as Error).message}`);
     return;
   }
-  const key = `${c.category}/${c.model.kind}/${c.symmetries}/${record.solver.method}${warm ? '/warm' : ''}`;
+  const key = `${c.category}/${c.model.kind}/${String(c.symmetries)}/${record.solver.method}${warm ? '/warm' : ''}`;
   tally[key] = (tally[key] ?? 0) + 1;
   if (record.basis.dimension !== h.dim) {
     fail(`dimension ${record.basis.dimension}, dense ${h.dim}`);
@@ -295,11 +304,13 @@ function checkCase(c: Case, failures: Failure[], tally: Record<string, number>):
   const e0 = g.values[0];
   const wanted = Math.min(c.states, h.dim);
   const energyGap = maxDiff(record.energies, g.values.slice(0, wanted));
-  if (!(energyGap <= 1e-8 * Math.max(1, Math.abs(e0)))) fail(`energies ${JSON.stringify(record.energies)} dense ${JSON.stringify(g.values.slice(0, wanted))}`);
+  if (!(energyGap <= 1e-8 * Math.max(1, Math.abs(e0))))
+    fail(`energies ${JSON.stringify(record.energies)} dense ${JSON.stringify(g.values.slice(0, wanted))}`);
   const complete = record.solver.degeneracy_complete;
   if (!complete) {
     tally.incomplete = (tally.incomplete ?? 0) + 1;
-    if (record.solver.degeneracy > g.degeneracy) fail(`incomplete degeneracy ${record.solver.degeneracy} above dense ${g.degeneracy}`);
+    if (record.solver.degeneracy > g.degeneracy)
+      fail(`incomplete degeneracy ${record.solver.degeneracy} above dense ${g.degeneracy}`);
     if (g.degeneracy <= 64) fail(`incomplete at dense degeneracy ${g.degeneracy} (${record.solver.method})`);
     return;
   }
@@ -324,35 +335,55 @@ function checkCase(c: Case, failures: Failure[], tally: Record<string, number>):
       value = (value as number[][]).map((row, i) => row.map((x, j) => (i === j ? 0 : x)));
     }
     const d = maxDiff(value, ref[name]);
-    if (!(d <= tol)) fail(`${name} off by ${d} (tol ${tol}, g ${g.degeneracy}): got ${JSON.stringify(value)} dense ${JSON.stringify(ref[name])}`);
+    if (!(d <= tol))
+      fail(
+        `${name} off by ${d} (tol ${tol}, g ${g.degeneracy}): got ${JSON.stringify(value)} dense ${JSON.stringify(ref[name])}`,
+      );
   }
   if (c.model.kind === 'pinned') {
-    const cuts = (got.entanglement ?? []) as { cut: number; von_neumann: number; renyi_2: number; spectrum: number[] }[];
-    if (cuts.length !== c.model.sites - 1 && g.degeneracy <= 64) fail(`entanglement has ${cuts.length} cuts, wanted ${c.model.sites - 1}`);
+    const cuts = (got.entanglement ?? []) as {
+      cut: number;
+      von_neumann: number;
+      renyi_2: number;
+      spectrum: number[];
+    }[];
+    if (cuts.length !== c.model.sites - 1 && g.degeneracy <= 64)
+      fail(`entanglement has ${cuts.length} cuts, wanted ${c.model.sites - 1}`);
     for (const cut of cuts) {
       const dL = c.model.levels ** cut.cut;
       if (dL * (h.real ? 1 : 2) > 300) continue;
       const e = leftEntanglement(c.model, h, g, cut.cut);
       const ent = 10 * tol;
-      if (!(Math.abs(e.von_neumann - cut.von_neumann) <= ent)) fail(`von_neumann at cut ${cut.cut}: ${cut.von_neumann}, dense ${e.von_neumann} (g ${g.degeneracy})`);
-      if (!(Math.abs(e.renyi_2 - cut.renyi_2) <= ent)) fail(`renyi_2 at cut ${cut.cut}: ${cut.renyi_2}, dense ${e.renyi_2} (g ${g.degeneracy})`);
+      if (!(Math.abs(e.von_neumann - cut.von_neumann) <= ent))
+        fail(`von_neumann at cut ${cut.cut}: ${cut.von_neumann}, dense ${e.von_neumann} (g ${g.degeneracy})`);
+      if (!(Math.abs(e.renyi_2 - cut.renyi_2) <= ent))
+        fail(`renyi_2 at cut ${cut.cut}: ${cut.renyi_2}, dense ${e.renyi_2} (g ${g.degeneracy})`);
       // Entanglement energies: only well-resolved weights (above e^-12) are compared.
       const well = e.spectrum.filter((x) => x < 12);
       const mine = cut.spectrum.filter((x) => x < 12);
-      if (well.length !== mine.length || maxDiff(well, mine) > 1e-5) fail(`spectrum at cut ${cut.cut}: ${JSON.stringify(cut.spectrum)}, dense ${JSON.stringify(e.spectrum)}`);
+      if (well.length !== mine.length || maxDiff(well, mine) > 1e-5)
+        fail(`spectrum at cut ${cut.cut}: ${JSON.stringify(cut.spectrum)}, dense ${JSON.stringify(e.spectrum)}`);
       tally.cuts = (tally.cuts ?? 0) + 1;
     }
   }
   if (c.evolve) checkEvolve(c, h, g, fail, tally);
 }
 
-function checkEvolve(c: Case, h: ReturnType<typeof buildDense>, g: ReturnType<typeof groundMixture>, fail: (w: string) => void, tally: Record<string, number>): void {
+function checkEvolve(
+  c: Case,
+  h: ReturnType<typeof buildDense>,
+  g: ReturnType<typeof groundMixture>,
+  fail: (w: string) => void,
+  tally: Record<string, number>,
+): void {
   const L = c.model.sites;
   const N = c.model.levels;
   const r = rng(c.id * 7919 + 17);
   if (c.model.kind === 'boson' && c.model.particles > L) return;
   if (c.model.kind === 'fermion' && c.model.particles > L) return;
-  const sites = Array.from({ length: L }, (_, i) => i).sort(() => r() - 0.5).slice(0, c.model.particles);
+  const sites = Array.from({ length: L }, (_, i) => i)
+    .sort(() => r() - 0.5)
+    .slice(0, c.model.particles);
   const levels = Array.from({ length: L }, (_, i) => (sites.includes(i) ? Math.floor(r() * N) : -1));
   const times = [0, 0.37, 1.3];
   const raw = JSON.parse(JSON.stringify(c.spec));
@@ -365,7 +396,9 @@ function checkEvolve(c: Case, h: ReturnType<typeof buildDense>, g: ReturnType<ty
     fail(`evolve threw: ${(e as Error).message}`);
     return;
   }
-  const start = h.configs.findIndex((occ) => levels.every((n, i) => (n < 0 ? occ.slice(i * N, i * N + N).every((k) => k === 0) : occ[i * N + n] === 1)));
+  const start = h.configs.findIndex((occ) =>
+    levels.every((n, i) => (n < 0 ? occ.slice(i * N, i * N + N).every((k) => k === 0) : occ[i * N + n] === 1)),
+  );
   const re0 = new Float64Array(h.dim);
   const im0 = new Float64Array(h.dim);
   re0[start] = 1;
@@ -376,7 +409,16 @@ function checkEvolve(c: Case, h: ReturnType<typeof buildDense>, g: ReturnType<ty
     ref.return_probability = psi.re[start] ** 2 + psi.im[start] ** 2;
     ref.energy = energyOf(h, psi.re, psi.im);
     ref.norm = Math.sqrt(p.reduce((a, b) => a + b, 0));
-    const names = ['populations', 'level_mean', 'spread', 'string_width', 'pair_separation', 'return_probability', 'energy', 'norm'];
+    const names = [
+      'populations',
+      'level_mean',
+      'spread',
+      'string_width',
+      'pair_separation',
+      'return_probability',
+      'energy',
+      'norm',
+    ];
     if (c.model.kind !== 'pinned') names.push('density', 'double_occupancy');
     for (const name of names) {
       const series = trace.observables[name];
@@ -385,30 +427,36 @@ function checkEvolve(c: Case, h: ReturnType<typeof buildDense>, g: ReturnType<ty
         continue;
       }
       let value = series[k];
-      if (name === 'pair_separation' && c.model.kind !== 'pinned') value = (value as number[][]).map((row, i) => row.map((x, j) => (i === j ? 0 : x)));
+      if (name === 'pair_separation' && c.model.kind !== 'pinned')
+        value = (value as number[][]).map((row, i) => row.map((x, j) => (i === j ? 0 : x)));
       const d = maxDiff(value, ref[name]);
-      if (!(d <= 1e-7 * Math.max(1, N * N))) fail(`evolve ${name} at t = ${t} off by ${d}: got ${JSON.stringify(value)} dense ${JSON.stringify(ref[name])}`);
+      if (!(d <= 1e-7 * Math.max(1, N * N)))
+        fail(`evolve ${name} at t = ${t} off by ${d}: got ${JSON.stringify(value)} dense ${JSON.stringify(ref[name])}`);
     }
   });
   tally.evolve = (tally.evolve ?? 0) + 1;
 }
 
 describe('ground space differential fuzz against a dense build of docs/model.md', () => {
-  it(`${CASES} random small specs (seed ${SEED})`, () => {
-    const r = rng(SEED);
-    const failures: Failure[] = [];
-    const tally: Record<string, number> = {};
-    let made = 0;
-    let id = 0;
-    while (made < CASES) {
-      const c = randomCase(SEED * 100000 + id++, r);
-      if (!c) continue;
-      made++;
-      checkCase(c, failures, tally);
-    }
-    if (process.env.FUZZ_REPORT) writeFileSync(process.env.FUZZ_REPORT, JSON.stringify({ tally, failures }, null, 1));
-    expect(failures.map((f) => `#${f.id} ${f.category}: ${f.what}\n  ${JSON.stringify(f.spec)}`)).toEqual([]);
-  }, Math.max(120_000, CASES * 5_000));
+  it(
+    `${CASES} random small specs (seed ${SEED})`,
+    () => {
+      const r = rng(SEED);
+      const failures: Failure[] = [];
+      const tally: Record<string, number> = {};
+      let made = 0;
+      let id = 0;
+      while (made < CASES) {
+        const c = randomCase(SEED * 100000 + id++, r);
+        if (!c) continue;
+        made++;
+        checkCase(c, failures, tally);
+      }
+      if (process.env.FUZZ_REPORT) writeFileSync(process.env.FUZZ_REPORT, JSON.stringify({ tally, failures }, null, 1));
+      expect(failures.map((f) => `#${f.id} ${f.category}: ${f.what}\n  ${JSON.stringify(f.spec)}`)).toEqual([]);
+    },
+    Math.max(120_000, CASES * 5_000),
+  );
 });
 
 // Spaces above the dense fallback (1024 vector numbers), where the full-space search for copies is
@@ -422,9 +470,15 @@ describe('ground space differential fuzz against a dense build of docs/model.md'
 const LARGE = Number(process.env.FUZZ_LARGE ?? 8);
 
 function largeCase(r: () => number): { spec: Record<string, any>; L: number; N: number; diagonal: boolean } {
-  const pick = <T,>(xs: readonly T[]): T => xs[Math.floor(r() * xs.length)];
+  const pick = <T>(xs: readonly T[]): T => xs[Math.floor(r() * xs.length)];
   const q = () => pick([0.5, 1, -1, 2, 0.25, 0]);
-  const [L, N] = pick([[11, 2], [7, 3], [6, 4], [5, 5], [12, 2]] as const);
+  const [L, N] = pick([
+    [11, 2],
+    [7, 3],
+    [6, 4],
+    [5, 5],
+    [12, 2],
+  ] as const);
   const diagonal = r() < 0.5;
   const ring = N >= 3 && !diagonal && r() < 0.5;
   const links = ring ? N : N - 1;
@@ -433,14 +487,25 @@ function largeCase(r: () => number): { spec: Record<string, any>; L: number; N: 
   if (diagonal) {
     levels.tunnelling = 0;
     levels.detuning = Array.from({ length: N }, q);
-    spec.ising = { strength: pick([1, -1, 0.5]), moments: Array.from({ length: N }, q), range: r() < 0.5 ? 'nearest' : 'dipolar' };
+    spec.ising = {
+      strength: pick([1, -1, 0.5]),
+      moments: Array.from({ length: N }, q),
+      range: r() < 0.5 ? 'nearest' : 'dipolar',
+    };
   } else {
     const J = pick([1, 0.5, 0]);
     levels.tunnelling = Array.from({ length: links }, () => (r() < 0.8 ? J : q()));
-    levels.phase = ring ? Array.from({ length: links }, () => pick([Math.PI / 3, Math.PI / 2, (2 * Math.PI) / 3, 0])) : 0;
+    levels.phase = ring
+      ? Array.from({ length: links }, () => pick([Math.PI / 3, Math.PI / 2, (2 * Math.PI) / 3, 0]))
+      : 0;
     levels.detuning = Array.from({ length: N }, () => (r() < 0.6 ? 0 : q()));
   }
-  spec.solve = { states: 1 + Math.floor(r() * 4), symmetries: r() < 0.5 ? 'auto' : 'none', entanglement: 'all', seed: Math.floor(r() * 1000) };
+  spec.solve = {
+    states: 1 + Math.floor(r() * 4),
+    symmetries: r() < 0.5 ? 'auto' : 'none',
+    entanglement: 'all',
+    seed: Math.floor(r() * 1000),
+  };
   return { spec, L, N, diagonal };
 }
 
@@ -448,7 +513,8 @@ function siteHamiltonian(spec: Record<string, any>, N: number): { re: number[][]
   const lv = spec.levels;
   const ring = lv.boundary === 'ring';
   const links = ring ? N : N - 1;
-  const per = (x: unknown, n: number) => (Array.isArray(x) ? (x as number[]) : Array.from({ length: n }, () => (x as number) ?? 0));
+  const per = (x: unknown, n: number) =>
+    Array.isArray(x) ? (x as number[]) : Array.from({ length: n }, () => (x as number) ?? 0);
   const J = per(lv.tunnelling, links);
   const phi = per(lv.phase ?? 0, links);
   const delta = per(lv.detuning, N);
@@ -465,125 +531,158 @@ function siteHamiltonian(spec: Record<string, any>, N: number): { re: number[][]
 }
 
 describe('large structured spaces (Lanczos only) against closed forms', () => {
-  it(`${LARGE} diagonal or free-molecule chains above the dense fallback (seed ${SEED})`, () => {
-    const r = rng(SEED + 99);
-    const failures: string[] = [];
-    const tally: Record<string, number> = {};
-    for (let c = 0; c < LARGE; c++) {
-      const { spec, L, N, diagonal } = largeCase(r);
-      const fail = (what: string) => failures.push(`${what}\n  ${JSON.stringify(spec)}`);
-      const record = solvePoint(validateSpec(JSON.parse(JSON.stringify(spec)))).record;
-      const tolerance = 1e-9;
-      const D = N ** L;
-      let g: number;
-      let energies: number[];
-      let ref: ReturnType<typeof observablesFrom> | null = null;
-      let entropy: (cut: number) => { vn: number; r2: number } = () => ({ vn: NaN, r2: NaN });
-      const model = { sites: L, levels: N } as ModelDescription;
-      if (diagonal) {
-        const mu: number[] = spec.ising.moments;
-        const periodic = spec.chain.boundary === 'periodic';
-        const f = (i: number, j: number) => {
-          const d = Math.abs(i - j);
-          const rr = periodic ? Math.min(d, L - d) : d;
-          return spec.ising.range === 'nearest' ? (rr === 1 ? 1 : 0) : 1 / rr ** 3;
-        };
-        const E = new Float64Array(D);
-        const lv = new Int32Array(L);
-        for (let s = 0; s < D; s++) {
-          for (let i = 0, x = s; i < L; i++, x = Math.floor(x / N)) lv[i] = x % N;
-          let e = 0;
-          for (let i = 0; i < L; i++) e += spec.levels.detuning[lv[i]];
-          for (let i = 0; i < L; i++) for (let j = i + 1; j < L; j++) e += spec.ising.strength * f(i, j) * mu[lv[i]] * mu[lv[j]];
-          E[s] = e;
-        }
-        const sorted = Array.from(E).sort((a, b) => a - b);
-        energies = sorted.slice(0, spec.solve.states);
-        const e0 = sorted[0];
-        const window = levelWindow(e0, tolerance);
-        const ground: number[] = [];
-        for (let s = 0; s < D; s++) if (Math.abs(E[s] - e0) <= window) ground.push(s);
-        g = ground.length;
-        const configs: Int32Array[] = ground.map((s) => {
-          const occ = new Int32Array(L * N);
-          for (let i = 0, x = s; i < L; i++, x = Math.floor(x / N)) occ[i * N + (x % N)] = 1;
-          return occ;
-        });
-        ref = observablesFrom({ ...model, kind: 'pinned', particles: L } as ModelDescription, configs, new Array(g).fill(1 / g));
-        entropy = (cut) => {
-          const counts = new Map<number, number>();
-          for (const s of ground) counts.set(s % N ** cut, (counts.get(s % N ** cut) ?? 0) + 1);
-          let vn = 0;
-          let purity = 0;
-          for (const k of counts.values()) {
-            vn -= (k / g) * Math.log(k / g);
-            purity += (k / g) ** 2;
+  it(
+    `${LARGE} diagonal or free-molecule chains above the dense fallback (seed ${SEED})`,
+    () => {
+      const r = rng(SEED + 99);
+      const failures: string[] = [];
+      const tally: Record<string, number> = {};
+      for (let c = 0; c < LARGE; c++) {
+        const { spec, L, N, diagonal } = largeCase(r);
+        const fail = (what: string) => failures.push(`${what}\n  ${JSON.stringify(spec)}`);
+        const record = solvePoint(validateSpec(JSON.parse(JSON.stringify(spec)))).record;
+        const tolerance = 1e-9;
+        const D = N ** L;
+        let g: number;
+        let energies: number[];
+        let ref: ReturnType<typeof observablesFrom> | null;
+        let entropy: (cut: number) => { vn: number; r2: number };
+        const model = { sites: L, levels: N } as ModelDescription;
+        if (diagonal) {
+          const mu: number[] = spec.ising.moments;
+          const periodic = spec.chain.boundary === 'periodic';
+          const f = (i: number, j: number) => {
+            const d = Math.abs(i - j);
+            const rr = periodic ? Math.min(d, L - d) : d;
+            return spec.ising.range === 'nearest' ? (rr === 1 ? 1 : 0) : 1 / rr ** 3;
+          };
+          const E = new Float64Array(D);
+          const lv = new Int32Array(L);
+          for (let s = 0; s < D; s++) {
+            for (let i = 0, x = s; i < L; i++, x = Math.floor(x / N)) lv[i] = x % N;
+            let e = 0;
+            for (let i = 0; i < L; i++) e += spec.levels.detuning[lv[i]];
+            for (let i = 0; i < L; i++)
+              for (let j = i + 1; j < L; j++) e += spec.ising.strength * f(i, j) * mu[lv[i]] * mu[lv[j]];
+            E[s] = e;
           }
-          return { vn, r2: -Math.log(purity) };
-        };
-      } else {
-        const h = siteHamiltonian(spec, N);
-        const site = buildDense({
-          sites: 1, periodic: false, levels: N, ring: false, tunnelling: [], phase: [], detuning: [], exchange: 0, exchangeRange: 'nearest', exchangeCutoff: null,
-          weights: [], ising: 0, moments: new Array(N).fill(0), isingRange: 'nearest', isingCutoff: null, kind: 'pinned', particles: 1, hopping: 0, maxPerSite: 1, onsite: 0,
-        });
-        // Overwrite the single site's matrix with the ladder above (configs are one-hot, in level order).
-        let real = true;
-        for (let a = 0; a < N; a++) for (let b = 0; b < N; b++) {
-          site.re[a * N + b] = h.re[a][b];
-          site.im[a * N + b] = h.im[a][b];
-          if (Math.abs(h.im[a][b]) > 1e-15) real = false;
+          const sorted = Array.from(E).sort((a, b) => a - b);
+          energies = sorted.slice(0, spec.solve.states);
+          const e0 = sorted[0];
+          const window = levelWindow(e0, tolerance);
+          const ground: number[] = [];
+          for (let s = 0; s < D; s++) if (Math.abs(E[s] - e0) <= window) ground.push(s);
+          g = ground.length;
+          const configs: Int32Array[] = ground.map((s) => {
+            const occ = new Int32Array(L * N);
+            for (let i = 0, x = s; i < L; i++, x = Math.floor(x / N)) occ[i * N + (x % N)] = 1;
+            return occ;
+          });
+          ref = observablesFrom({ ...model, kind: 'pinned', particles: L }, configs, new Array(g).fill(1 / g));
+          entropy = (cut) => {
+            const counts = new Map<number, number>();
+            for (const s of ground) counts.set(s % N ** cut, (counts.get(s % N ** cut) ?? 0) + 1);
+            let vn = 0;
+            let purity = 0;
+            for (const k of counts.values()) {
+              vn -= (k / g) * Math.log(k / g);
+              purity += (k / g) ** 2;
+            }
+            return { vn, r2: -Math.log(purity) };
+          };
+        } else {
+          const h = siteHamiltonian(spec, N);
+          const site = buildDense({
+            sites: 1,
+            periodic: false,
+            levels: N,
+            ring: false,
+            tunnelling: [],
+            phase: [],
+            detuning: [],
+            exchange: 0,
+            exchangeRange: 'nearest',
+            exchangeCutoff: null,
+            weights: [],
+            ising: 0,
+            moments: new Array(N).fill(0),
+            isingRange: 'nearest',
+            isingCutoff: null,
+            kind: 'pinned',
+            particles: 1,
+            hopping: 0,
+            maxPerSite: 1,
+            onsite: 0,
+          });
+          // Overwrite the single site's matrix with the ladder above (configs are one-hot, in level order).
+          let real = true;
+          for (let a = 0; a < N; a++)
+            for (let b = 0; b < N; b++) {
+              site.re[a * N + b] = h.re[a][b];
+              site.im[a * N + b] = h.im[a][b];
+              if (Math.abs(h.im[a][b]) > 1e-15) real = false;
+            }
+          site.real = real;
+          const one = groundMixture(site, tolerance);
+          const d = one.degeneracy;
+          g = d ** L;
+          // Lowest energies of the chain: sums of L site energies, the lowest `states` of them.
+          let sums = [0];
+          for (let i = 0; i < L; i++)
+            sums = sums
+              .flatMap((x) => one.values.map((e) => x + e))
+              .sort((a, b) => a - b)
+              .slice(0, 64);
+          energies = sums.slice(0, spec.solve.states);
+          const p1 = Array.from({ length: N }, (_, n) => one.projectorRe[n * N + n] / d);
+          const mean = p1.reduce((s, p, n) => s + n * p, 0);
+          const spread = p1.reduce((s, p, n) => s + n * n * p, 0) - mean * mean;
+          ref = {
+            populations: Array.from({ length: L }, () => p1),
+            level_mean: new Array(L).fill(mean),
+            spread: new Array(L).fill(spread),
+            string_width: (1 - 1 / L) * spread,
+            pair_separation: Array.from({ length: L }, (_, i) =>
+              Array.from({ length: L }, (_, j) => (i === j ? 0 : 2 * spread)),
+            ),
+            density: [],
+            double_occupancy: [],
+          };
+          entropy = (cut) => ({ vn: cut * Math.log(d), r2: cut * Math.log(d) });
         }
-        site.real = real;
-        const one = groundMixture(site, tolerance);
-        const d = one.degeneracy;
-        g = d ** L;
-        // Lowest energies of the chain: sums of L site energies, the lowest `states` of them.
-        let sums = [0];
-        for (let i = 0; i < L; i++) sums = sums.flatMap((x) => one.values.map((e) => x + e)).sort((a, b) => a - b).slice(0, 64);
-        energies = sums.slice(0, spec.solve.states);
-        const p1 = Array.from({ length: N }, (_, n) => one.projectorRe[n * N + n] / d);
-        const mean = p1.reduce((s, p, n) => s + n * p, 0);
-        const spread = p1.reduce((s, p, n) => s + n * n * p, 0) - mean * mean;
-        ref = {
-          populations: Array.from({ length: L }, () => p1),
-          level_mean: new Array(L).fill(mean),
-          spread: new Array(L).fill(spread),
-          string_width: (1 - 1 / L) * spread,
-          pair_separation: Array.from({ length: L }, (_, i) => Array.from({ length: L }, (_, j) => (i === j ? 0 : 2 * spread))),
-          density: [],
-          double_occupancy: [],
-        };
-        entropy = (cut) => ({ vn: cut * Math.log(d), r2: cut * Math.log(d) });
+        const key = `${diagonal ? 'diagonal' : 'free'}/${spec.solve.symmetries}/${g > 64 ? 'g>64' : 'g<=64'}`;
+        tally[key] = (tally[key] ?? 0) + 1;
+        if (!record.solver.converged) {
+          fail('not converged');
+          continue;
+        }
+        if (maxDiff(record.energies, energies) > 1e-8 * Math.max(1, Math.abs(energies[0])))
+          fail(`energies ${JSON.stringify(record.energies)} closed form ${JSON.stringify(energies)}`);
+        if (!record.solver.degeneracy_complete) {
+          if (g <= 64) fail(`incomplete (${record.solver.degeneracy} found) at g = ${g}`);
+          if (record.solver.degeneracy > g) fail(`degeneracy ${record.solver.degeneracy} above g = ${g}`);
+          continue;
+        }
+        if (record.solver.degeneracy !== g) {
+          fail(`degeneracy ${record.solver.degeneracy}, closed form ${g}`);
+          continue;
+        }
+        const got = record.observables as unknown as Record<string, unknown>;
+        for (const name of ['populations', 'level_mean', 'spread', 'string_width', 'pair_separation'] as const) {
+          const dd = maxDiff(got[name], ref[name]);
+          if (!(dd <= 1e-7)) fail(`${name} off by ${dd} (g ${g})`);
+        }
+        const cuts = (got.entanglement ?? []) as { cut: number; von_neumann: number; renyi_2: number }[];
+        for (const cut of cuts) {
+          const e = entropy(cut.cut);
+          if (!(Math.abs(e.vn - cut.von_neumann) <= 1e-7 && Math.abs(e.r2 - cut.renyi_2) <= 1e-7))
+            fail(`cut ${cut.cut}: ${cut.von_neumann}, ${cut.renyi_2}; closed form ${e.vn}, ${e.r2} (g ${g})`);
+        }
       }
-      const key = `${diagonal ? 'diagonal' : 'free'}/${spec.solve.symmetries}/${g > 64 ? 'g>64' : 'g<=64'}`;
-      tally[key] = (tally[key] ?? 0) + 1;
-      if (!record.solver.converged) {
-        fail('not converged');
-        continue;
-      }
-      if (maxDiff(record.energies, energies) > 1e-8 * Math.max(1, Math.abs(energies[0]))) fail(`energies ${JSON.stringify(record.energies)} closed form ${JSON.stringify(energies)}`);
-      if (!record.solver.degeneracy_complete) {
-        if (g <= 64) fail(`incomplete (${record.solver.degeneracy} found) at g = ${g}`);
-        if (record.solver.degeneracy > g) fail(`degeneracy ${record.solver.degeneracy} above g = ${g}`);
-        continue;
-      }
-      if (record.solver.degeneracy !== g) {
-        fail(`degeneracy ${record.solver.degeneracy}, closed form ${g}`);
-        continue;
-      }
-      const got = record.observables as unknown as Record<string, unknown>;
-      for (const name of ['populations', 'level_mean', 'spread', 'string_width', 'pair_separation'] as const) {
-        const dd = maxDiff(got[name], ref[name]);
-        if (!(dd <= 1e-7)) fail(`${name} off by ${dd} (g ${g})`);
-      }
-      const cuts = (got.entanglement ?? []) as { cut: number; von_neumann: number; renyi_2: number }[];
-      for (const cut of cuts) {
-        const e = entropy(cut.cut);
-        if (!(Math.abs(e.vn - cut.von_neumann) <= 1e-7 && Math.abs(e.r2 - cut.renyi_2) <= 1e-7)) fail(`cut ${cut.cut}: ${cut.von_neumann}, ${cut.renyi_2}; closed form ${e.vn}, ${e.r2} (g ${g})`);
-      }
-    }
-    if (process.env.FUZZ_REPORT) writeFileSync(process.env.FUZZ_REPORT + '.large', JSON.stringify({ tally, failures }, null, 1));
-    expect(failures).toEqual([]);
-  }, Math.max(120_000, LARGE * 30_000));
+      if (process.env.FUZZ_REPORT)
+        writeFileSync(process.env.FUZZ_REPORT + '.large', JSON.stringify({ tally, failures }, null, 1));
+      expect(failures).toEqual([]);
+    },
+    Math.max(120_000, LARGE * 30_000),
+  );
 });

@@ -4,7 +4,13 @@ import os from 'node:os';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { planPoint } from '../../src/point/solvePoint.js';
-import { estimateSolveMemory, HELPER_THREAD_BYTES, memoryLimitWarning, parseMemorySize, RUNTIME_BASELINE_BYTES } from '../../src/point/memory.js';
+import {
+  estimateSolveMemory,
+  HELPER_THREAD_BYTES,
+  memoryLimitWarning,
+  parseMemorySize,
+  RUNTIME_BASELINE_BYTES,
+} from '../../src/point/memory.js';
 import { validateSpec } from '../../src/spec/spec.js';
 import { ROOT } from '../support/cli.js';
 
@@ -49,9 +55,16 @@ describe('memory estimates', () => {
   // What the estimate must bound is the peak resident memory of the process that solves (common
   // practice: the kernel's high-water mark, VmHWM in /proc/self/status). Each case is solved as
   // `rungchain solve` does, in a fresh process of the built engine.
-  it.skipIf(!existsSync('/proc/self/status'))('is at least the peak resident memory of a fresh process that solves the problem', () => {
-    const cases = [spec(8), spec(10), spec(9, { solve: { states: 4, entanglement: 'none', symmetries: 'none' } }), spec(8, { particles: { kind: 'hardcore', number: 4, hopping: 1 } })];
-    const child = `
+  it.skipIf(!existsSync('/proc/self/status'))(
+    'is at least the peak resident memory of a fresh process that solves the problem',
+    () => {
+      const cases = [
+        spec(8),
+        spec(10),
+        spec(9, { solve: { states: 4, entanglement: 'none', symmetries: 'none' } }),
+        spec(8, { particles: { kind: 'hardcore', number: 4, hopping: 1 } }),
+      ];
+      const child = `
       import { readFileSync } from 'node:fs';
       const { planPoint, solvePoint } = await import(${JSON.stringify(path.join(ROOT, 'dist/src/point/solvePoint.js'))});
       const { validateSpec } = await import(${JSON.stringify(path.join(ROOT, 'dist/src/spec/spec.js'))});
@@ -60,16 +73,26 @@ describe('memory estimates', () => {
       solvePoint(spec, { groundStates: false });
       const peak = Number(/VmHWM:\\s+(\\d+) kB/.exec(readFileSync('/proc/self/status', 'utf8'))[1]) * 1024;
       console.log(JSON.stringify({ estimate, peak }));`;
-    for (const c of cases) {
-      const r = spawnSync(process.execPath, ['--input-type=module', '-e', child, JSON.stringify(c)], { encoding: 'utf8' });
-      expect(r.status, r.stderr).toBe(0);
-      const { estimate, peak } = JSON.parse(r.stdout);
-      expect(estimate, JSON.stringify(c)).toBeGreaterThanOrEqual(peak);
-    }
-  });
+      for (const c of cases) {
+        const r = spawnSync(process.execPath, ['--input-type=module', '-e', child, JSON.stringify(c)], {
+          encoding: 'utf8',
+        });
+        expect(r.status, r.stderr).toBe(0);
+        const { estimate, peak } = JSON.parse(r.stdout);
+        expect(estimate, JSON.stringify(c)).toBeGreaterThanOrEqual(peak);
+      }
+    },
+  );
 
   it('counts the runtime, each helper thread, and the ground states only when they are handed back', () => {
-    const base = { dim: 1 << 20, isComplex: false, operatorBytes: 0, krylovVectors: 20, states: 4, denseThreshold: 100 };
+    const base = {
+      dim: 1 << 20,
+      isComplex: false,
+      operatorBytes: 0,
+      krylovVectors: 20,
+      states: 4,
+      denseThreshold: 100,
+    };
     const one = estimateSolveMemory(base);
     expect(one.parts.runtime).toBe(RUNTIME_BASELINE_BYTES);
     // a second product thread brings a product helper and a vector-kernel helper, each its own isolate

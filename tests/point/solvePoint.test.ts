@@ -13,7 +13,9 @@ describe('one molecule on its ladder of levels', () => {
   it.each([2, 5, 8])('open ladder of %i levels: E_k = -2J cos(k pi/(N+1))', (N) => {
     const J = 0.7;
     const r = solve({ chain: { sites: 1 }, levels: { count: N, tunnelling: J }, solve: { states: N } });
-    const expected = Array.from({ length: N }, (_, k) => -2 * J * Math.cos(((k + 1) * Math.PI) / (N + 1))).sort((a, b) => a - b);
+    const expected = Array.from({ length: N }, (_, k) => -2 * J * Math.cos(((k + 1) * Math.PI) / (N + 1))).sort(
+      (a, b) => a - b,
+    );
     r.energies.forEach((e, k) => expect(e).toBeCloseTo(expected[k], 12));
   });
 
@@ -29,7 +31,9 @@ describe('one molecule on its ladder of levels', () => {
       levels: { count: N, boundary: 'ring', tunnelling: J, phase: Phi / N },
       solve: { states: N },
     });
-    const expected = Array.from({ length: N }, (_, m) => -2 * J * Math.cos((2 * Math.PI * m + Phi) / N)).sort((a, b) => a - b);
+    const expected = Array.from({ length: N }, (_, m) => -2 * J * Math.cos((2 * Math.PI * m + Phi) / N)).sort(
+      (a, b) => a - b,
+    );
     r.energies.forEach((e, k) => expect(e).toBeCloseTo(expected[k], 12));
   });
 
@@ -56,8 +60,8 @@ describe('one molecule on its ladder of levels', () => {
     }
     for (let k = 1; k < eps.length; k++) {
       const ratio = eps[k] / eps[k - 1];
-      expect(ratio).toBeGreaterThan(0.9 * J1 / J2);
-      expect(ratio).toBeLessThan(1.1 * J1 / J2);
+      expect(ratio).toBeGreaterThan((0.9 * J1) / J2);
+      expect(ratio).toBeLessThan((1.1 * J1) / J2);
     }
   });
 });
@@ -68,7 +72,12 @@ describe('two-level molecules: spin chains', () => {
   // and the ground state fills all negative ones.
   it.each([4, 7, 10, 12])('XX chain of %i sites matches free fermions', (L) => {
     const V = 1.3;
-    const r = solve({ chain: { sites: L }, levels: { count: 2, tunnelling: 0 }, exchange: { strength: V }, solve: { states: 1 } });
+    const r = solve({
+      chain: { sites: L },
+      levels: { count: 2, tunnelling: 0 },
+      exchange: { strength: V },
+      solve: { states: 1 },
+    });
     let e0 = 0;
     for (let k = 1; k <= L; k++) e0 += Math.min(0, 2 * V * Math.cos((k * Math.PI) / (L + 1)));
     expect(r.energies[0]).toBeCloseTo(e0, 10);
@@ -120,7 +129,15 @@ describe('two molecules binding in the synthetic dimension', () => {
     const V = 3;
     const exact = -V - (4 * J * J) / V;
     const levels = [20, 30, 40];
-    const e = levels.map((N) => solve({ chain: { sites: 2 }, levels: { count: N, tunnelling: J }, exchange: { strength: V }, solve: { states: 1 } }).energies[0]);
+    const e = levels.map(
+      (N) =>
+        solve({
+          chain: { sites: 2 },
+          levels: { count: N, tunnelling: J },
+          exchange: { strength: V },
+          solve: { states: 1 },
+        }).energies[0],
+    );
     // finite ladders bind less strongly, and the error shrinks with N
     for (let k = 0; k < e.length; k++) expect(e[k]).toBeGreaterThan(exact);
     expect(Math.abs(e[2] - exact)).toBeLessThan(Math.abs(e[0] - exact));
@@ -142,7 +159,9 @@ describe('Lanczos path against the dense reference', () => {
     [24, 6, 3],
   ])('seed %i, L=%i, N=%i', (seed, L, N) => {
     // full space on purpose: this checks the Lanczos path itself (sectors have tests of their own)
-    const spec = validateSpec(clean({ ...randomPinnedSpec(seed, L, N), solve: { states: 4, tolerance: 1e-10, symmetries: 'none' } }));
+    const spec = validateSpec(
+      clean({ ...randomPinnedSpec(seed, L, N), solve: { states: 4, tolerance: 1e-10, symmetries: 'none' } }),
+    );
     const r = solvePoint(spec).record;
     expect(r.solver.method).toBe('lanczos');
     expect(r.solver.converged).toBe(true);
@@ -162,19 +181,26 @@ describe('how many sectors are solved at once', () => {
     exchange: { strength: 1.5 },
     solve: { states: 2 },
   });
-  it.skipIf(coreCount() < 2)('two at once take more memory than one, and a limit between the two keeps it to one', () => {
-    const two = planPoint(spec, { threads: 2, maxMemory: Number.MAX_SAFE_INTEGER });
-    const one = planPoint(spec, { threads: 1, maxMemory: Number.MAX_SAFE_INTEGER });
-    expect(one.sectorThreads).toBe(1);
-    expect(two.sectorThreads).toBe(2);
-    expect(two.memory.parts.sector_matrix).toBe(2 * one.memory.parts.sector_matrix);
-    const between = (one.memory.totalBytes + two.memory.totalBytes) / 2;
-    const limited = planPoint(spec, { threads: 2, maxMemory: between });
-    expect(limited.sectorThreads).toBe(1);
-    expect(limited.memory.totalBytes).toBe(one.memory.totalBytes);
-  });
+  it.skipIf(coreCount() < 2)(
+    'two at once take more memory than one, and a limit between the two keeps it to one',
+    () => {
+      const two = planPoint(spec, { threads: 2, maxMemory: Number.MAX_SAFE_INTEGER });
+      const one = planPoint(spec, { threads: 1, maxMemory: Number.MAX_SAFE_INTEGER });
+      expect(one.sectorThreads).toBe(1);
+      expect(two.sectorThreads).toBe(2);
+      expect(two.memory.parts.sector_matrix).toBe(2 * one.memory.parts.sector_matrix);
+      const between = (one.memory.totalBytes + two.memory.totalBytes) / 2;
+      const limited = planPoint(spec, { threads: 2, maxMemory: between });
+      expect(limited.sectorThreads).toBe(1);
+      expect(limited.memory.totalBytes).toBe(one.memory.totalBytes);
+    },
+  );
   it('the spec can ask for one thread', () => {
-    const raw = { chain: { sites: 12, boundary: 'periodic' }, levels: { count: 3, tunnelling: 1 }, solve: { threads: 1 } };
+    const raw = {
+      chain: { sites: 12, boundary: 'periodic' },
+      levels: { count: 3, tunnelling: 1 },
+      solve: { threads: 1 },
+    };
     expect(planPoint(validateSpec(raw), { threads: 2, maxMemory: Number.MAX_SAFE_INTEGER }).sectorThreads).toBe(1);
   });
   it('a small point stays on one thread: starting another would cost more than it saves', () => {
@@ -187,7 +213,12 @@ describe('ground states only when the caller uses them', () => {
   // A sector solve builds full-space ground states only if asked (or for entanglement); the record
   // must not depend on it. Periodic 8 x 3 with every symmetry the model has (common practice: the
   // same answer with or without an optional by-product).
-  const raw = { chain: { sites: 8, boundary: 'periodic' }, levels: { count: 3, tunnelling: 1 }, exchange: { strength: 1.5 }, solve: { states: 3, entanglement: 'none' } };
+  const raw = {
+    chain: { sites: 8, boundary: 'periodic' },
+    levels: { count: 3, tunnelling: 1 },
+    exchange: { strength: 1.5 },
+    solve: { states: 3, entanglement: 'none' },
+  };
   it('gives the same record without them, and still computes entanglement', () => {
     const withStates = solvePoint(validateSpec(raw));
     const without = solvePoint(validateSpec(raw), { groundStates: false });
@@ -223,7 +254,8 @@ describe('a sector solve reports the stored elements of its sector matrices', ()
     const dense = densePinnedHamiltonian(spec);
     let nonzero = 0;
     for (let row = 0; row < dense.dim; row++)
-      for (let col = 0; col < dense.dim; col++) if (dense.re.get(row, col) !== 0 || dense.im.get(row, col) !== 0) nonzero++;
+      for (let col = 0; col < dense.dim; col++)
+        if (dense.re.get(row, col) !== 0 || dense.im.get(row, col) !== 0) nonzero++;
     expect(nonzero).toBeGreaterThan(dense.dim);
     expect(r.basis.nonzeros).toBe(nonzero);
   });

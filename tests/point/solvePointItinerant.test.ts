@@ -11,7 +11,10 @@ const solve = (raw: Record<string, unknown>) => solvePoint(validateSpec(raw)).re
 
 /** Sum of the Np lowest of the given single-particle energies (filling a Fermi sea). */
 function fill(energies: number[], Np: number): number {
-  return [...energies].sort((a, b) => a - b).slice(0, Np).reduce((a, b) => a + b, 0);
+  return [...energies]
+    .sort((a, b) => a - b)
+    .slice(0, Np)
+    .reduce((a, b) => a + b, 0);
 }
 
 describe('hard-core bosons at one particle per site reproduce the pinned model', () => {
@@ -51,14 +54,22 @@ describe('soft-core bosons', () => {
     [4, 1],
     [10, 0.5],
   ])('two bosons on two sites, U=%f t=%f: E0 = (U - sqrt(U^2 + 16 t^2))/2', (U, t) => {
-    const r = solve({ chain: { sites: 2 }, levels: { count: 1 }, particles: { kind: 'boson', number: 2, hopping: t, onsite: U } });
+    const r = solve({
+      chain: { sites: 2 },
+      levels: { count: 1 },
+      particles: { kind: 'boson', number: 2, hopping: t, onsite: U },
+    });
     expect(r.basis.dimension).toBe(3);
     expect(r.energies[0]).toBeCloseTo((U - Math.sqrt(U * U + 16 * t * t)) / 2, 12);
   });
 
   // Without interactions bosons all take the lowest orbital: E0 = Np (-2t) on a ring (ideal Bose gas).
   it('free bosons on a ring: E0 = -2 t Np', () => {
-    const r = solve({ chain: { sites: 5, boundary: 'periodic' }, levels: { count: 1 }, particles: { kind: 'boson', number: 4, hopping: 0.9 } });
+    const r = solve({
+      chain: { sites: 5, boundary: 'periodic' },
+      levels: { count: 1 },
+      particles: { kind: 'boson', number: 4, hopping: 0.9 },
+    });
     expect(r.energies[0]).toBeCloseTo(-2 * 0.9 * 4, 11);
   });
 });
@@ -69,7 +80,8 @@ describe('free fermions and hard-core bosons on a ring', () => {
   // Jordan-Wigner, but the string across the periodic bond gives the fermions antiperiodic boundary
   // conditions when Np is even: k shifted by one half (Lieb, Schultz, Mattis, Ann. Phys. 16, 407 (1961)).
   const t = 1.1;
-  const ring = (L: number, shift: number) => Array.from({ length: L }, (_, k) => -2 * t * Math.cos((2 * Math.PI * (k + shift)) / L));
+  const ring = (L: number, shift: number) =>
+    Array.from({ length: L }, (_, k) => -2 * t * Math.cos((2 * Math.PI * (k + shift)) / L));
   const spec = (kind: string, L: number, Np: number) => ({
     chain: { sites: L, boundary: 'periodic' },
     levels: { count: 1 },
@@ -157,7 +169,12 @@ describe('sizing itinerant problems before building them', () => {
   });
 
   it('an explicit entanglement request for an itinerant kind is an error naming the key', () => {
-    const raw = { chain: { sites: 4 }, levels: { count: 2 }, particles: { kind: 'fermion', number: 2, hopping: 1 }, solve: { entanglement: 'half' } };
+    const raw = {
+      chain: { sites: 4 },
+      levels: { count: 2 },
+      particles: { kind: 'fermion', number: 2, hopping: 1 },
+      solve: { entanglement: 'half' },
+    };
     expect(() => planPoint(validateSpec(raw))).toThrow(/^solve\.entanglement: .*pinned chains only/);
     // the default ("auto") quietly computes none
     expect(solve({ ...raw, solve: {} }).observables.entanglement).toBeUndefined();
@@ -168,8 +185,19 @@ describe('sizing itinerant problems before building them', () => {
     const file = path.join(dir, 'hardcore.toml');
     writeFileSync(
       file,
-      ['[chain]', 'sites = 12', 'boundary = "periodic"', '[levels]', 'count = 3', '[exchange]', 'strength = 1',
-        '[particles]', 'kind = "hardcore"', 'number = 6', 'hopping = 1'].join('\n'),
+      [
+        '[chain]',
+        'sites = 12',
+        'boundary = "periodic"',
+        '[levels]',
+        'count = 3',
+        '[exchange]',
+        'strength = 1',
+        '[particles]',
+        'kind = "hardcore"',
+        'number = 6',
+        'hopping = 1',
+      ].join('\n'),
     );
     const r = runCli(['check', file]);
     expect(r.code).toBe(0);
@@ -193,7 +221,13 @@ describe('sizing itinerant problems before building them', () => {
     expect(r.code).toBe(0);
     const out = JSON.parse(r.stdout);
     expect(out.basis.kind).toBe('boson');
-    for (const k of ['density', 'double_occupancy', 'one_body_density_matrix', 'condensate_fraction', 'momentum_distribution']) {
+    for (const k of [
+      'density',
+      'double_occupancy',
+      'one_body_density_matrix',
+      'condensate_fraction',
+      'momentum_distribution',
+    ]) {
       expect(out.observables).toHaveProperty(k);
     }
     expect(out.observables.density.reduce((a: number, b: number) => a + b, 0)).toBeCloseTo(3, 9);
@@ -234,7 +268,13 @@ describe('the verification pass on a degenerate itinerant ground level', () => {
       levels: { count: 3, boundary: 'open' },
       exchange: { strength: 1.535836, weights: [1.7752586221055782, 0.346275] },
       ising: { strength: 1, moments: [-0.42473526841192655, 0, 0.42473526841192655], range: 'dipolar' },
-      particles: { kind: 'boson', number: 2, max_per_site: 3, onsite: 2.5096643411802066, hopping: 0.17725603147115532 },
+      particles: {
+        kind: 'boson',
+        number: 2,
+        max_per_site: 3,
+        onsite: 2.5096643411802066,
+        hopping: 0.17725603147115532,
+      },
       solve: { states: 2, seed: 237, tolerance: 1e-10 },
     };
     const reference = denseGround(denseFockHamiltonian(validateSpec(raw))).values;

@@ -59,7 +59,7 @@ describe('claims on a task', () => {
     }
     const cut: number[] = [];
     let cuts = 0;
-    for (let left = unclaimed(claims); left > 1 && Date.now() < deadline; ) {
+    for (let left = unclaimed(claims); left > 1 && Date.now() < deadline;) {
       const piece = takeTail(claims, 1);
       if (piece) {
         cuts++;

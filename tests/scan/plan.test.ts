@@ -139,9 +139,9 @@ spacing = "log"
     [0.01, 0.1, 1, 10, 100].forEach((v, k) => expect(values[k]).toBeCloseTo(v, 12));
     expect(values[0]).toBe(0.01);
     expect(values[4]).toBe(100);
-    expect(() => expand(`${BASE}\n[[scan.axis]]\nkey = "exchange.strength"\nfrom = 0\nto = 1\nsteps = 3\nspacing = "log"\n`)).toThrow(
-      /scan\.axis\[0\]\.from: log spacing needs from and to greater than 0/,
-    );
+    expect(() =>
+      expand(`${BASE}\n[[scan.axis]]\nkey = "exchange.strength"\nfrom = 0\nto = 1\nsteps = 3\nspacing = "log"\n`),
+    ).toThrow(/scan\.axis\[0\]\.from: log spacing needs from and to greater than 0/);
   });
 
   it('string-valued axes set string keys (rigid-rotor vs uniform exchange weights)', () => {
@@ -155,7 +155,9 @@ values = ["uniform", "rotor"]
     // docs/model.md: c_n = ((n+1)^2 / ((2n+1)(2n+3))) / (1/3), the squared M=0 rotor dipole matrix element.
     expect(plan.points[1].spec.exchange.weights[1]).toBeCloseTo(((2 * 2) / (3 * 5)) * 3, 14);
     // A string that looks like a number stays a string, and is then rejected by the spec.
-    expect(() => expand(`${BASE}\n[[scan.axis]]\nkey = "exchange.strength"\nvalues = ["2"]\n`)).toThrow(/exchange\.strength: expected a finite number, got "2"/);
+    expect(() => expand(`${BASE}\n[[scan.axis]]\nkey = "exchange.strength"\nvalues = ["2"]\n`)).toThrow(
+      /exchange\.strength: expected a finite number, got "2"/,
+    );
   });
 
   it('list indices in key paths set one element', () => {
@@ -181,16 +183,26 @@ key = "levels.boundary"
 values = ["open", "ring"]
 `);
     expect(attempt).toThrow(SpecError);
-    expect(attempt).toThrow(/^levels\.boundary: a ring needs at least 3 levels.*\(in scan point 3: levels\.count=2 levels\.boundary=ring\)/);
+    expect(attempt).toThrow(
+      /^levels\.boundary: a ring needs at least 3 levels.*\(in scan point 3: levels\.count=2 levels\.boundary=ring\)/,
+    );
   });
 
   it('unknown keys in axes and in the section are errors naming the key path', () => {
-    expect(() => expand(`${BASE}\n[[scan.axis]]\nkey = "exchange.strenght"\nvalues = [1]\n`)).toThrow(/exchange\.strenght: unknown key \(did you mean strength\?\)/);
-    expect(() => expand(`${BASE}\n[[scan.axis]]\nkey = "exchange.strength"\nvalue = [1]\n`)).toThrow(/scan\.axis\[0\]\.value: unknown key/);
-    expect(() => expand(`${BASE}\n[scan]\nzipp = true\n[[scan.axis]]\nkey = "exchange.strength"\nvalues = [1]\n`)).toThrow(/scan\.zipp: unknown key/);
-    expect(() => expand(`${BASE}\n[[scan.axis]]\nkey = "exchange.strength"\nvalues = [1]\n[[scan.axis]]\nkey = "exchange.strength"\nvalues = [2]\n`)).toThrow(
-      /scan\.axis\[1\]\.key: "exchange\.strength" is already scanned/,
+    expect(() => expand(`${BASE}\n[[scan.axis]]\nkey = "exchange.strenght"\nvalues = [1]\n`)).toThrow(
+      /exchange\.strenght: unknown key \(did you mean strength\?\)/,
     );
+    expect(() => expand(`${BASE}\n[[scan.axis]]\nkey = "exchange.strength"\nvalue = [1]\n`)).toThrow(
+      /scan\.axis\[0\]\.value: unknown key/,
+    );
+    expect(() =>
+      expand(`${BASE}\n[scan]\nzipp = true\n[[scan.axis]]\nkey = "exchange.strength"\nvalues = [1]\n`),
+    ).toThrow(/scan\.zipp: unknown key/);
+    expect(() =>
+      expand(
+        `${BASE}\n[[scan.axis]]\nkey = "exchange.strength"\nvalues = [1]\n[[scan.axis]]\nkey = "exchange.strength"\nvalues = [2]\n`,
+      ),
+    ).toThrow(/scan\.axis\[1\]\.key: "exchange\.strength" is already scanned/);
   });
 
   it('paramsOf and linesOf agree with the expansion for any index', () => {
@@ -260,7 +272,9 @@ function expectSameResult(a: Rec, b: Rec, exact: boolean): void {
   // Warm starts change the start vector, so agreement is to the solver tolerance (1e-10 residual).
   a.result.energies.forEach((e: number, k: number) => expect(e).toBeCloseTo(b.result.energies[k], 9));
   expect(a.result.observables.string_width).toBeCloseTo(b.result.observables.string_width, 6);
-  a.result.observables.populations.flat().forEach((p: number, k: number) => expect(p).toBeCloseTo(b.result.observables.populations.flat()[k], 6));
+  a.result.observables.populations
+    .flat()
+    .forEach((p: number, k: number) => expect(p).toBeCloseTo(b.result.observables.populations.flat()[k], 6));
 }
 
 /** One uninterrupted cold-start run of SCAN_SPEC, shared by the tests that compare against it. */
@@ -279,12 +293,20 @@ function uninterruptedRun(): { spec: string; dir: string } {
 describe('rungchain scan', () => {
   it('check prints the number of points and the largest dimension and memory estimate', () => {
     const dir = tmp();
-    const spec = writeSpec(dir, SCAN_SPEC.replace('values = [0.6, 1.0]', 'values = [0.6, 1.0]\n[[scan.axis]]\nkey = "levels.count"\nvalues = [2, 4]'));
+    const spec = writeSpec(
+      dir,
+      SCAN_SPEC.replace(
+        'values = [0.6, 1.0]',
+        'values = [0.6, 1.0]\n[[scan.axis]]\nkey = "levels.count"\nvalues = [2, 4]',
+      ),
+    );
     const r = runCli(['check', spec]);
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/scan\s+24 points, grid/);
     // 4 levels on 7 sites: 4^7 states.
-    expect(r.stdout).toMatch(new RegExp(`largest point\\s+#\\d+ \\(.*levels\\.count=4.*\\): basis dimension ${4 ** 7}`));
+    expect(r.stdout).toMatch(
+      new RegExp(`largest point\\s+#\\d+ \\(.*levels\\.count=4.*\\): basis dimension ${4 ** 7}`),
+    );
     expect(r.stdout).toMatch(/memory estimate\s+[\d.]+ MiB for the largest point/);
   });
 
@@ -380,11 +402,15 @@ describe('rungchain scan', () => {
     // chain.sites = 12 needs 3^12 states, far above a 70 MB limit; point 5's worker exits abruptly.
     const spec = writeSpec(dir, `${BASE}\n[[scan.axis]]\nkey = "chain.sites"\nvalues = [3, 4, 12, 5, 4, 5, 3]\n`);
     const out = path.join(dir, 'run');
-    const r = spawnCli(['scan', spec, '--out', out, '--workers', '2', '--max-memory', '70MB'], { RUNGCHAIN_TEST_WORKER_EXIT_AT: '5' });
+    const r = spawnCli(['scan', spec, '--out', out, '--workers', '2', '--max-memory', '70MB'], {
+      RUNGCHAIN_TEST_WORKER_EXIT_AT: '5',
+    });
     // A run left with failed points exits 3 and says so on its last line (the README's rule).
     expect(r.code).toBe(3);
     expect(r.stderr).toMatch(/scan finished: 5 done, 2 failed of 7/);
-    expect(r.stderr.trim().split('\n').pop()).toMatch(/^rungchain: 2 of 7 points failed \(the reasons: .* summary .*\); rerun them with --retry-failed$/);
+    expect(r.stderr.trim().split('\n').pop()).toMatch(
+      /^rungchain: 2 of 7 points failed \(the reasons: .* summary .*\); rerun them with --retry-failed$/,
+    );
     const records = recordsByIndex(out);
     expect(records.size).toBe(7);
     expect(records.get(2)!.status).toBe('failed');
@@ -412,13 +438,18 @@ describe('rungchain scan', () => {
   // than the 100 MB limit; the test hook makes point 2 take 400 MiB on top.
   for (const [kind, reason] of [
     ['heap', /JS heap went over the worker's ceiling of 95 MiB \(ERR_WORKER_OUT_OF_MEMORY\)/],
-    ['buffer', /resident memory .* went over its ceiling .*--max-memory 95\.4 MiB and a JS heap of 95 MiB for each of 1 worker.*worker was stopped/],
+    [
+      'buffer',
+      /resident memory .* went over its ceiling .*--max-memory 95\.4 MiB and a JS heap of 95 MiB for each of 1 worker.*worker was stopped/,
+    ],
   ] as const) {
     it(`a point whose worker goes over its memory ceiling (${kind}) is recorded as failed and the scan goes on`, () => {
       const dir = tmp();
       const spec = writeSpec(dir, `${BASE}\n[[scan.axis]]\nkey = "chain.sites"\nvalues = [3, 4, 5, 4, 3]\n`);
       const out = path.join(dir, 'run');
-      const r = spawnCli(['scan', spec, '--out', out, '--workers', '1', '--max-memory', '100MB'], { RUNGCHAIN_TEST_POINT_ALLOCATE: `${kind}:400@2` });
+      const r = spawnCli(['scan', spec, '--out', out, '--workers', '1', '--max-memory', '100MB'], {
+        RUNGCHAIN_TEST_POINT_ALLOCATE: `${kind}:400@2`,
+      });
       expect(r.code).toBe(3); // the partial-failure rule: a run left with failed points exits 3
       expect(r.stderr).toMatch(/scan finished: 4 done, 1 failed of 5/);
       const records = recordsByIndex(out);
@@ -432,7 +463,10 @@ describe('rungchain scan', () => {
     const dir = tmp();
     const spec = writeSpec(dir, SCAN_SPEC);
     const out = path.join(dir, 'run');
-    const first = spawn(process.execPath, [CLI, 'scan', spec, '--out', out, '--workers', '1', '--quiet'], { stdio: 'ignore', env: SLOW_POINTS });
+    const first = spawn(process.execPath, [CLI, 'scan', spec, '--out', out, '--workers', '1', '--quiet'], {
+      stdio: 'ignore',
+      env: SLOW_POINTS,
+    });
     const firstExit = new Promise<number | null>((resolve) => first.on('exit', (code) => resolve(code)));
     // Wait until the first scan holds the lock.
     for (let i = 0; i < 500 && !existsSync(path.join(out, 'lock')); i++) await new Promise((r) => setTimeout(r, 10));
@@ -449,12 +483,19 @@ describe('rungchain scan', () => {
     const dir = tmp();
     const spec = writeSpec(dir, SCAN_SPEC);
     const out = path.join(dir, 'run');
-    const child = spawn(process.execPath, [CLI, 'scan', spec, '--out', out, '--workers', '1'], { stdio: ['ignore', 'ignore', 'pipe'], env: SLOW_POINTS });
+    const child = spawn(process.execPath, [CLI, 'scan', spec, '--out', out, '--workers', '1'], {
+      stdio: ['ignore', 'ignore', 'pipe'],
+      env: SLOW_POINTS,
+    });
     let stderr = '';
     child.stderr.on('data', (d) => (stderr += d));
     const exit = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));
     const file = path.join(out, RECORDS_FILE);
-    for (let i = 0; i < 1000 && !(existsSync(file) && statSync(file).size > 0 && readRun(out).records.length >= 2); i++) {
+    for (
+      let i = 0;
+      i < 1000 && !(existsSync(file) && statSync(file).size > 0 && readRun(out).records.length >= 2);
+      i++
+    ) {
       await new Promise((r) => setTimeout(r, 10));
     }
     child.kill('SIGINT');
@@ -474,20 +515,25 @@ describe('rungchain scan', () => {
 describe('uneven work along a line', () => {
   it('a worker that runs out of work takes the unstarted half of the busier one: every point once, same results as one worker', () => {
     const dir = tmp();
-    const spec = writeSpec(dir, `${BASE}
+    const spec = writeSpec(
+      dir,
+      `${BASE}
 [[scan.axis]]
 key = "exchange.strength"
 from = 0.5
 to = 3
 steps = 10
-`);
+`,
+    );
     const one = path.join(dir, 'one');
     const two = path.join(dir, 'two');
     expect(runCli(['scan', spec, '--out', one, '--workers', '1', '--quiet']).code).toBe(0);
     // Points 0-4 (the first worker's half) take at least 1 s each; the other half is fast. The
     // margin is for a loaded machine: at 400 ms this failed at least once in about a dozen runs
     // of the whole suite (the slow half was not shared), with other test files solving beside it.
-    const r = spawnCli(['scan', spec, '--out', two, '--workers', '2', '--quiet'], { RUNGCHAIN_TEST_POINT_DELAY_MS: '1000@0-4' });
+    const r = spawnCli(['scan', spec, '--out', two, '--workers', '2', '--quiet'], {
+      RUNGCHAIN_TEST_POINT_DELAY_MS: '1000@0-4',
+    });
     expect(r.code).toBe(0);
     const alone = recordsByIndex(one);
     const shared = recordsByIndex(two); // fails on a point recorded twice
@@ -505,6 +551,10 @@ steps = 10
 
 /** runCli with extra environment variables. */
 function spawnCli(args: string[], env: Record<string, string>) {
-  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8', env: { ...process.env, ...env }, timeout: 120_000 });
+  const r = spawnSync(process.execPath, [CLI, ...args], {
+    encoding: 'utf8',
+    env: { ...process.env, ...env },
+    timeout: 120_000,
+  });
   return { code: r.status, stdout: r.stdout, stderr: r.stderr };
 }

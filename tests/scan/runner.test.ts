@@ -7,7 +7,10 @@ import { chooseParallelism } from '../../src/scan/runner.js';
 describe('point-parallel or product-parallel', () => {
   const cores = Math.max(1, os.availableParallelism());
   it('many similar points: one worker per core, one thread per product', () => {
-    expect(chooseParallelism(Array(40).fill(1000))).toEqual({ workers: Math.min(cores, 40), threadsPerPoint: Math.max(1, Math.floor(cores / Math.min(cores, 40))) });
+    expect(chooseParallelism(Array(40).fill(1000))).toEqual({
+      workers: Math.min(cores, 40),
+      threadsPerPoint: Math.max(1, Math.floor(cores / Math.min(cores, 40))),
+    });
   });
   it('a single point gets every core for its products', () => {
     expect(chooseParallelism([5e7])).toEqual({ workers: 1, threadsPerPoint: cores });

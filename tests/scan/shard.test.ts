@@ -38,7 +38,11 @@ function byIndex(dir: string): Map<number, Rec> {
 }
 
 function cli(args: string[], env: Record<string, string> = {}) {
-  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8', env: { ...process.env, ...env }, timeout: 120_000 });
+  const r = spawnSync(process.execPath, [CLI, ...args], {
+    encoding: 'utf8',
+    env: { ...process.env, ...env },
+    timeout: 120_000,
+  });
   return { code: r.status, stdout: r.stdout, stderr: r.stderr };
 }
 
@@ -76,9 +80,15 @@ describe('shards', () => {
     expect(() => parseShard('6/5')).toThrow(/1 <= i <= n/);
     expect(shardFromEnvironment({})).toBeNull();
     // Slurm's sbatch documentation: array tasks get SLURM_ARRAY_TASK_ID, _MIN, _MAX and _COUNT.
-    expect(shardFromEnvironment({ SLURM_ARRAY_TASK_ID: '7', SLURM_ARRAY_TASK_MIN: '5', SLURM_ARRAY_TASK_COUNT: '4' })).toMatchObject({ index: 3, count: 4 });
-    expect(shardFromEnvironment({ SLURM_ARRAY_TASK_ID: '0', SLURM_ARRAY_TASK_MIN: '0', SLURM_ARRAY_TASK_COUNT: '2' })).toMatchObject({ index: 1, count: 2 });
-    expect(() => shardFromEnvironment({ SLURM_ARRAY_TASK_ID: '9', SLURM_ARRAY_TASK_MIN: '0', SLURM_ARRAY_TASK_COUNT: '2' })).toThrow(/contiguous/);
+    expect(
+      shardFromEnvironment({ SLURM_ARRAY_TASK_ID: '7', SLURM_ARRAY_TASK_MIN: '5', SLURM_ARRAY_TASK_COUNT: '4' }),
+    ).toMatchObject({ index: 3, count: 4 });
+    expect(
+      shardFromEnvironment({ SLURM_ARRAY_TASK_ID: '0', SLURM_ARRAY_TASK_MIN: '0', SLURM_ARRAY_TASK_COUNT: '2' }),
+    ).toMatchObject({ index: 1, count: 2 });
+    expect(() =>
+      shardFromEnvironment({ SLURM_ARRAY_TASK_ID: '9', SLURM_ARRAY_TASK_MIN: '0', SLURM_ARRAY_TASK_COUNT: '2' }),
+    ).toThrow(/contiguous/);
   });
 
   it('shard-and-merge equals an unsharded run of the same spec, record for record, for several n', () => {
@@ -96,11 +106,17 @@ describe('shards', () => {
         // Half the shards take their index from the Slurm array variables, as inside an array task.
         const r =
           i % 2 === 0
-            ? cli(['scan', spec, '--out', out, '--no-warm-start', '--workers', '1'], { SLURM_ARRAY_TASK_ID: String(i), SLURM_ARRAY_TASK_MIN: '1', SLURM_ARRAY_TASK_COUNT: String(n) })
+            ? cli(['scan', spec, '--out', out, '--no-warm-start', '--workers', '1'], {
+                SLURM_ARRAY_TASK_ID: String(i),
+                SLURM_ARRAY_TASK_MIN: '1',
+                SLURM_ARRAY_TASK_COUNT: String(n),
+              })
             : cli(['scan', spec, '--out', out, '--no-warm-start', '--workers', '1', '--shard', `${i}/${n}`]);
         expect(r.code).toBe(0);
         expect(r.stderr).toMatch(new RegExp(`shard ${i} of ${n}`));
-        expect(JSON.parse(readFileSync(path.join(out, 'manifest.json'), 'utf8')).identity).toBe(readRun(whole).manifest.identity);
+        expect(JSON.parse(readFileSync(path.join(out, 'manifest.json'), 'utf8')).identity).toBe(
+          readRun(whole).manifest.identity,
+        );
       }
       const merged = path.join(dir, `n${n}`, 'merged');
       const m = runCli(['merge', ...shardDirs, '--out', merged]);
@@ -121,7 +137,9 @@ describe('shards', () => {
       if (n !== 3) continue;
       // Times and the overlap with the previous point on the same worker depend on scheduling.
       const tidy = (rows: Rec[]) => rows.map(({ seconds: _s, overlap_previous: _o, ...rest }) => rest);
-      expect(tidy(JSON.parse(runCli(['summary', merged, '--json']).stdout))).toEqual(tidy(JSON.parse(runCli(['summary', whole, '--json']).stdout)));
+      expect(tidy(JSON.parse(runCli(['summary', merged, '--json']).stdout))).toEqual(
+        tidy(JSON.parse(runCli(['summary', whole, '--json']).stdout)),
+      );
     }
   });
 
@@ -130,7 +148,9 @@ describe('shards', () => {
     const spec = path.join(dir, 'spec.toml');
     writeFileSync(spec, SPEC);
     const shards = [1, 2].map((i) => path.join(dir, `shard-${i}`));
-    shards.forEach((out, k) => expect(runCli(['scan', spec, '--out', out, '--shard', `${k + 1}/2`, '--quiet', '--no-warm-start']).code).toBe(0));
+    shards.forEach((out, k) =>
+      expect(runCli(['scan', spec, '--out', out, '--shard', `${k + 1}/2`, '--quiet', '--no-warm-start']).code).toBe(0),
+    );
     const file = path.join(shards[0], 'records.msgpack');
     const full = readRun(shards[0]).records as Rec[];
     // Keep the first two records and half of the third, as a task killed while writing leaves it.
@@ -144,7 +164,9 @@ describe('shards', () => {
     expect(resumed.stderr).toMatch(new RegExp(`resuming .*: 2 done, 0 failed, ${full.length - 2} to run`));
     const again = byIndex(shards[0]);
     for (const r of full) expect(again.get(r.index)!.result.energies).toEqual(r.result.energies);
-    expect(runCli(['merge', ...shards, '--out', path.join(dir, 'merged')]).stdout).toMatch(/12 done, 0 failed, 0 missing of 12/);
+    expect(runCli(['merge', ...shards, '--out', path.join(dir, 'merged')]).stdout).toMatch(
+      /12 done, 0 failed, 0 missing of 12/,
+    );
   });
 
   it('merge reports missing and duplicated points and refuses shards of another scan', () => {
@@ -160,7 +182,9 @@ describe('shards', () => {
     expect(missing.code).toBe(3);
     expect(missing.stdout).toMatch(/missing points .*: \d+/);
     // A shard folder resumed as another shard is refused.
-    expect(runCli(['scan', spec, '--out', s1, '--shard', '2/2']).stderr).toMatch(/holds shard 1\/2 of this scan, not shard 2\/2/);
+    expect(runCli(['scan', spec, '--out', s1, '--shard', '2/2']).stderr).toMatch(
+      /holds shard 1\/2 of this scan, not shard 2\/2/,
+    );
     // An unsharded run overlapping the shards: duplicates are reported, one record kept.
     expect(runCli(['scan', spec, '--out', all, '--quiet']).code).toBe(0);
     const dup = runCli(['merge', s1, s2, all, '--out', path.join(dir, 'm2')]);
@@ -169,7 +193,9 @@ describe('shards', () => {
     expect(readRun(path.join(dir, 'm2')).records).toHaveLength(12);
     // Another scan (a different override) cannot be merged in.
     const other = path.join(dir, 'other');
-    expect(runCli(['scan', spec, '--set', 'exchange.range=dipolar', '--out', other, '--shard', '2/2', '--quiet']).code).toBe(0);
+    expect(
+      runCli(['scan', spec, '--set', 'exchange.range=dipolar', '--out', other, '--shard', '2/2', '--quiet']).code,
+    ).toBe(0);
     const refused = runCli(['merge', s1, other, '--out', path.join(dir, 'm3')]);
     expect(refused.code).toBe(2);
     expect(refused.stderr).toMatch(/is a different scan/);
@@ -179,7 +205,22 @@ describe('shards', () => {
     const dir = tmp();
     const spec = path.join(dir, 'spec.toml');
     writeFileSync(spec, SPEC);
-    const r = runCli(['slurm', spec, '--shards', '4', '--cpus', '2', '--partition', 'short', '--account', 'lab42', '--run-dir', path.join(dir, 'run'), '--write', '-']);
+    const r = runCli([
+      'slurm',
+      spec,
+      '--shards',
+      '4',
+      '--cpus',
+      '2',
+      '--partition',
+      'short',
+      '--account',
+      'lab42',
+      '--run-dir',
+      path.join(dir, 'run'),
+      '--write',
+      '-',
+    ]);
     expect(r.code).toBe(0);
     const script = r.stdout;
     expect(script.startsWith('#!/bin/bash\n')).toBe(true);
@@ -192,6 +233,8 @@ describe('shards', () => {
     const largest = Math.max(...sizeScan(plan, Infinity).plans.map((p) => p.memory.totalBytes));
     expect(mem * 2 ** 20).toBeGreaterThan(largest);
     expect(script).toMatch(/^#SBATCH --time=\d\d:\d\d:00$/m);
-    expect(script).toMatch(/scan \S+spec\.toml --out "\S+\/run\/shard-\$\{SLURM_ARRAY_TASK_ID\}" --workers "\$\{SLURM_CPUS_PER_TASK:-1\}"/);
+    expect(script).toMatch(
+      /scan \S+spec\.toml --out "\S+\/run\/shard-\$\{SLURM_ARRAY_TASK_ID\}" --workers "\$\{SLURM_CPUS_PER_TASK:-1\}"/,
+    );
   });
 });

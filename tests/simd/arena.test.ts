@@ -68,7 +68,9 @@ describe('arena reuse between solves (acquire / recycle)', () => {
       [ra, a.dense],
       [rb, b.dense],
     ] as const) {
-      const exact = new EigenvalueDecomposition(new Matrix(dense), { assumeSymmetric: true }).realEigenvalues.sort((x, y) => x - y);
+      const exact = new EigenvalueDecomposition(new Matrix(dense), { assumeSymmetric: true }).realEigenvalues.sort(
+        (x, y) => x - y,
+      );
       expect(result.values[0]).toBeCloseTo(exact[0], 9);
       expect(result.values[1]).toBeCloseTo(exact[1], 9);
     }

@@ -26,7 +26,12 @@ const LEVEL_WINDOW = 1e-8;
 function denseGroundMixture(h: DenseHermitian): { count: number; energy: number; probabilities: number[] } {
   const n = h.dim;
   let real = true;
-  for (let r = 0; r < n && real; r++) for (let c = 0; c < n; c++) if (h.im.get(r, c) !== 0) { real = false; break; }
+  for (let r = 0; r < n && real; r++)
+    for (let c = 0; c < n; c++)
+      if (h.im.get(r, c) !== 0) {
+        real = false;
+        break;
+      }
   const matrix: Matrix = real ? h.re : realEmbedding(h);
   const evd = new EigenvalueDecomposition(matrix, { assumeSymmetric: true });
   const order = evd.realEigenvalues.map((e, k) => [e, k] as const).sort((a, b) => a[0] - b[0]);
@@ -70,7 +75,9 @@ function expectAgreement(record: PointRecord, count: number, energy: number, pop
   expect(record.solver.degeneracy_complete).toBe(true);
   expect(record.solver.degeneracy).toBe(count);
   expect(record.energies[0]).toBeCloseTo(energy, 8);
-  record.observables.populations.forEach((row, i) => row.forEach((q, n) => expect(Math.abs(q - populations[i][n])).toBeLessThan(1e-8)));
+  record.observables.populations.forEach((row, i) =>
+    row.forEach((q, n) => expect(Math.abs(q - populations[i][n])).toBeLessThan(1e-8)),
+  );
 }
 
 /** Solves a pinned spec with every symmetry setting and checks each against the dense mixture. */
@@ -79,7 +86,9 @@ function checkPinned(raw: Record<string, any>, settings: ('auto' | 'none')[] = [
   const reference = denseGroundMixture(densePinnedHamiltonian(spec));
   const populations = pinnedPopulations(spec, reference.probabilities);
   return settings.map((symmetries) => {
-    const record = solvePoint(validateSpec(clean({ ...raw, solve: { ...raw.solve, symmetries } })), { groundStates: false }).record;
+    const record = solvePoint(validateSpec(clean({ ...raw, solve: { ...raw.solve, symmetries } })), {
+      groundStates: false,
+    }).record;
     expectAgreement(record, reference.count, reference.energy, populations);
     expect(record.energies).toHaveLength(Math.min(spec.solve.states, reference.probabilities.length));
     return record;
@@ -91,7 +100,12 @@ function checkItinerant(raw: Record<string, any>): PointRecord {
   const ref = denseFockHamiltonian(spec);
   const reference = denseGroundMixture({ dim: ref.dim, re: ref.re, im: ref.im });
   const record = solvePoint(spec, { groundStates: false }).record;
-  expectAgreement(record, reference.count, reference.energy, itinerantPopulations(spec, ref.states, reference.probabilities));
+  expectAgreement(
+    record,
+    reference.count,
+    reference.energy,
+    itinerantPopulations(spec, ref.states, reference.probabilities),
+  );
   return record;
 }
 
@@ -105,7 +119,8 @@ const free = (sites: number, levels: Record<string, unknown>, states: number, bo
 describe('every copy of the ground level is found, whatever solve.states is', () => {
   it('four free three-level sites (H = 0): 81 copies, populations 1/3, in sectors and in the full space', () => {
     const [auto, none] = checkPinned(free(4, { count: 3, tunnelling: 0 }, 4));
-    for (const r of [auto, none]) r.observables.populations.forEach((row) => row.forEach((q) => expect(q).toBeCloseTo(1 / 3, 12)));
+    for (const r of [auto, none])
+      r.observables.populations.forEach((row) => row.forEach((q) => expect(q).toBeCloseTo(1 / 3, 12)));
     expect(auto.solver.degeneracy).toBe(81);
   });
 
@@ -131,7 +146,12 @@ describe('every copy of the ground level is found, whatever solve.states is', ()
   });
 
   it('a pinned ring with a Peierls phase and a two-fold +-k ground pair, states = 1', () => {
-    checkPinned({ chain: { sites: 5, boundary: 'periodic' }, levels: { count: 2, phase: 0.3 }, exchange: { strength: 1 }, solve: { states: 1, tolerance: 1e-10 } });
+    checkPinned({
+      chain: { sites: 5, boundary: 'periodic' },
+      levels: { count: 2, phase: 0.3 },
+      exchange: { strength: 1 },
+      solve: { states: 1, tolerance: 1e-10 },
+    });
   });
 
   it('a pinned chain whose level flip and translations make the ground level degenerate, states = 1', () => {
@@ -155,7 +175,10 @@ describe('every copy of the ground level is found, whatever solve.states is', ()
 
   it('itinerant kinds: random specs, and free particles whose ground level is degenerate', () => {
     for (const kind of ['hardcore', 'boson', 'fermion'] as const) {
-      checkItinerant({ ...randomItinerantSpec(90 + kind.length, kind, 3, 2, 2, { complex: true }), solve: { states: 1, tolerance: 1e-10 } });
+      checkItinerant({
+        ...randomItinerantSpec(90 + kind.length, kind, 3, 2, 2, { complex: true }),
+        solve: { states: 1, tolerance: 1e-10 },
+      });
       // No hopping, no exchange, a ring of three levels with flux pi/3 on every site: each particle's
       // lowest level is two-fold, and the many-particle ground level more so.
       checkItinerant({
@@ -172,7 +195,9 @@ describe('every copy of the ground level is found, whatever solve.states is', ()
     // Seven free rings with flux: 2^7 = 128 copies, more than the full space's cap of 64, on
     // vectors too long for the dense fallback.
     const raw = free(7, { count: 3, boundary: 'ring', phase: Math.PI / 3 }, 1);
-    const none = solvePoint(validateSpec(clean({ ...raw, solve: { ...raw.solve, symmetries: 'none' } })), { groundStates: false }).record;
+    const none = solvePoint(validateSpec(clean({ ...raw, solve: { ...raw.solve, symmetries: 'none' } })), {
+      groundStates: false,
+    }).record;
     expect(none.solver.degeneracy_complete).toBe(false);
     expect(none.solver.degeneracy).toBeGreaterThanOrEqual(64);
     expect(describeRecord(none)).toMatch(/WARNING: not every copy of the ground level was found/);
@@ -198,7 +223,8 @@ describe('lowestEigenpairs with groundCopies', () => {
       },
     };
   }
-  const solve = (op: HermitianOperator, states: number, groundCopies: number) => lowestEigenpairs(op, { states, tolerance: 1e-10, groundCopies });
+  const solve = (op: HermitianOperator, states: number, groundCopies: number) =>
+    lowestEigenpairs(op, { states, tolerance: 1e-10, groundCopies });
 
   it('a single ground state at a cap of one is shown complete with one screen (no dense fallback at this length)', () => {
     const r = solve(diagonal(2000, 1), 1, 1);
@@ -244,7 +270,12 @@ describe('time evolution: the weight in the ground space counts every copy', () 
       chain: { sites: 3 },
       levels: { count: 2, tunnelling: 1 },
       exchange: { strength: 0 },
-      evolve: { initial: 'ground_state', times: [0, 1e-6], tolerance: 1e-10, ramp: { key: 'levels.tunnelling', from: 1, to: 0, duration: 1e-6, steps: 1 } },
+      evolve: {
+        initial: 'ground_state',
+        times: [0, 1e-6],
+        tolerance: 1e-10,
+        ramp: { key: 'levels.tunnelling', from: 1, to: 0, duration: 1e-6, steps: 1 },
+      },
     });
     const r = runEvolution(planEvolution(tree, validateSpec(tree)));
     expect(r.frames[1].observables.ground_overlap).toBeCloseTo(1, 9);
@@ -260,10 +291,18 @@ describe('sectors on one thread and on two: every copy in every sector', () => {
     const spec = validateSpec(clean(free(7, { count: 3, boundary: 'ring', phase: Math.PI / 3 }, 1, 'periodic')));
     const model = buildModel(spec);
     const basis = buildBasis(model) as PinnedBasis;
-    const used = Object.fromEntries(detectSymmetries(model, basis).map((c) => [c.name, c.present])) as Record<SymmetryName, boolean>;
+    const used = Object.fromEntries(detectSymmetries(model, basis).map((c) => [c.name, c.present])) as Record<
+      SymmetryName,
+      boolean
+    >;
     expect(used.translation).toBe(true);
     for (const sectorThreads of [1, 2]) {
-      const solution = solveInSectors(model, basis, used, { states: 1, tolerance: 1e-10, groundCopies: 64, sectorThreads });
+      const solution = solveInSectors(model, basis, used, {
+        states: 1,
+        tolerance: 1e-10,
+        groundCopies: 64,
+        sectorThreads,
+      });
       expect(solution.degeneracy).toBe(128);
       expect(solution.degeneracyComplete).toBe(true);
       expect(solution.runs.some((r) => r.method === 'lanczos')).toBe(true);

@@ -1,6 +1,13 @@
 import { describe, it, expect } from 'vitest';
 import { Matrix, EigenvalueDecomposition, QrDecomposition } from 'ml-matrix';
-import { lowestEigenpairs, denseEigen, denseMatrixOf, PARTIAL_MIN_LENGTH, STEP_CHECK_MIN_LENGTH, type EigenResult } from '../../src/solver/eigensolver.js';
+import {
+  lowestEigenpairs,
+  denseEigen,
+  denseMatrixOf,
+  PARTIAL_MIN_LENGTH,
+  STEP_CHECK_MIN_LENGTH,
+  type EigenResult,
+} from '../../src/solver/eigensolver.js';
 import { ConvergenceError, SpecError } from '../../src/errors/errors.js';
 import type { HermitianOperator } from '../../src/operator/hermitian.js';
 import { denseSpectrum } from '../support/reference.js';
@@ -299,8 +306,9 @@ describe('degenerate spectra come out with full multiplicity', () => {
   it('two levels of high multiplicity', () => {
     const dim = 100;
     const rand = seeded(31);
-    const q = new QrDecomposition(new Matrix(Array.from({ length: dim }, () => Array.from({ length: dim }, () => rand() - 0.5))))
-      .orthogonalMatrix;
+    const q = new QrDecomposition(
+      new Matrix(Array.from({ length: dim }, () => Array.from({ length: dim }, () => rand() - 0.5))),
+    ).orthogonalMatrix;
     const h = new SparseHermitian(dim, false);
     for (let i = 0; i < dim; i++) {
       for (let j = i; j < dim; j++) {
@@ -399,7 +407,11 @@ describe('dense path', () => {
     let worst = 0;
     for (let i = 0; i < 40; i++) {
       for (let j = 0; j < 40; j++) {
-        worst = Math.max(worst, Math.abs(re[i * 40 + j] - ref.re.get(i, j)), Math.abs(im![i * 40 + j] - ref.im.get(i, j)));
+        worst = Math.max(
+          worst,
+          Math.abs(re[i * 40 + j] - ref.re.get(i, j)),
+          Math.abs(im![i * 40 + j] - ref.im.get(i, j)),
+        );
       }
     }
     expect(worst).toBeLessThan(1e-15);
@@ -475,7 +487,12 @@ describe('partial reorthogonalization (Simon, Math. Comp. 42, 115 (1984))', () =
     const n = 151;
     const op = ring(n);
     const exact = Array.from({ length: n }, (_, k) => -2 * Math.cos((2 * Math.PI * k) / n)).sort((a, b) => a - b);
-    const result = lowestEigenpairs(op, { states: 5, tolerance: 1e-9, denseThreshold: 10, reorthogonalization: 'partial' });
+    const result = lowestEigenpairs(op, {
+      states: 5,
+      tolerance: 1e-9,
+      denseThreshold: 10,
+      reorthogonalization: 'partial',
+    });
     expectEigenpairs(op, result, exact.slice(0, 5), 1e-9);
     expect(result.fullSteps).toBeLessThan(result.matvecs / 2);
     expect(Math.abs(result.values[1] - result.values[2])).toBeLessThan(1e-9);
@@ -486,8 +503,15 @@ describe('partial reorthogonalization (Simon, Math. Comp. 42, 115 (1984))', () =
     const n = 120;
     const flux = Math.PI / n;
     const op = ring(n, flux);
-    const exact = Array.from({ length: n }, (_, m) => -2 * Math.cos((2 * Math.PI * m + n * flux) / n)).sort((a, b) => a - b);
-    const result = lowestEigenpairs(op, { states: 3, tolerance: 1e-9, denseThreshold: 10, reorthogonalization: 'partial' });
+    const exact = Array.from({ length: n }, (_, m) => -2 * Math.cos((2 * Math.PI * m + n * flux) / n)).sort(
+      (a, b) => a - b,
+    );
+    const result = lowestEigenpairs(op, {
+      states: 3,
+      tolerance: 1e-9,
+      denseThreshold: 10,
+      reorthogonalization: 'partial',
+    });
     expectEigenpairs(op, result, exact.slice(0, 3), 1e-9);
     expect(result.degeneracy).toBe(2);
   });
@@ -495,9 +519,19 @@ describe('partial reorthogonalization (Simon, Math. Comp. 42, 115 (1984))', () =
   // Reference: ml-matrix EigenvalueDecomposition, as in the first block.
   it('random real and complex sparse matrices', () => {
     const real = randomSparse(400, false, 4, 11);
-    expectEigenpairs(real, lowestEigenpairs(real, { states: 4, tolerance: 1e-8, denseThreshold: 10, reorthogonalization: 'partial' }), referenceSpectrum(real).slice(0, 4), 1e-8);
+    expectEigenpairs(
+      real,
+      lowestEigenpairs(real, { states: 4, tolerance: 1e-8, denseThreshold: 10, reorthogonalization: 'partial' }),
+      referenceSpectrum(real).slice(0, 4),
+      1e-8,
+    );
     const complex = randomSparse(200, true, 5, 12);
-    expectEigenpairs(complex, lowestEigenpairs(complex, { states: 3, tolerance: 1e-8, denseThreshold: 10, reorthogonalization: 'partial' }), referenceSpectrum(complex).slice(0, 3), 1e-8);
+    expectEigenpairs(
+      complex,
+      lowestEigenpairs(complex, { states: 3, tolerance: 1e-8, denseThreshold: 10, reorthogonalization: 'partial' }),
+      referenceSpectrum(complex).slice(0, 3),
+      1e-8,
+    );
   });
 
   // Deflated runs (the sector solve finds states one at a time this way) keep every step
@@ -507,7 +541,14 @@ describe('partial reorthogonalization (Simon, Math. Comp. 42, 115 (1984))', () =
     const { op, exact } = farLevelsAndCluster(n);
     const lowest = new Float64Array(n);
     lowest[0] = 1;
-    const result = lowestEigenpairs(op, { states: 3, tolerance: 1e-10, denseThreshold: 10, krylovSize: 40, deflate: [lowest], reorthogonalization: 'partial' });
+    const result = lowestEigenpairs(op, {
+      states: 3,
+      tolerance: 1e-10,
+      denseThreshold: 10,
+      krylovSize: 40,
+      deflate: [lowest],
+      reorthogonalization: 'partial',
+    });
     expectEigenpairs(op, result, exact.slice(1, 4), 1e-10);
     expect(Math.abs(result.vectors.reduce((worst, v) => Math.max(worst, Math.abs(v[0])), 0))).toBeLessThan(1e-12);
     expect(result.fullSteps).toBeLessThan(result.matvecs);
@@ -526,10 +567,24 @@ describe('partial reorthogonalization (Simon, Math. Comp. 42, 115 (1984))', () =
   });
 
   it('an unknown mode is refused, naming the option', () => {
-    // @ts-expect-error an invalid mode on purpose: the runtime check is under test
-    expect(() => lowestEigenpairs(ring(500), { states: 1, tolerance: 1e-9, denseThreshold: 10, reorthogonalization: 'some' })).toThrow(SpecError);
-    // @ts-expect-error an invalid mode on purpose: the runtime check is under test
-    expect(() => lowestEigenpairs(ring(500), { states: 1, tolerance: 1e-9, denseThreshold: 10, reorthogonalization: 'some' })).toThrow(/reorthogonalization/);
+    expect(() =>
+      lowestEigenpairs(ring(500), {
+        states: 1,
+        tolerance: 1e-9,
+        denseThreshold: 10,
+        // @ts-expect-error an invalid mode on purpose: the runtime check is under test
+        reorthogonalization: 'some',
+      }),
+    ).toThrow(SpecError);
+    expect(() =>
+      lowestEigenpairs(ring(500), {
+        states: 1,
+        tolerance: 1e-9,
+        denseThreshold: 10,
+        // @ts-expect-error an invalid mode on purpose: the runtime check is under test
+        reorthogonalization: 'some',
+      }),
+    ).toThrow(/reorthogonalization/);
   });
 });
 
@@ -548,7 +603,13 @@ describe('a single wanted pair of a long vector is checked after every step', ()
 
   it('converges to the same pair, with no more products than checks at restarts only', () => {
     const n = STEP_CHECK_MIN_LENGTH;
-    const options = { states: 1, tolerance: 1e-10, denseThreshold: 10, reorthogonalization: 'full' as const, verifyDegeneracy: false };
+    const options = {
+      states: 1,
+      tolerance: 1e-10,
+      denseThreshold: 10,
+      reorthogonalization: 'full' as const,
+      verifyDegeneracy: false,
+    };
     const withChecks = lowestEigenpairs(isolatedBelow(n, -0.05), options);
     expectEigenpairs(isolatedBelow(n, -0.05), withChecks, [-0.05], 1e-10);
     // One double shorter: checks at restarts only, on the same spectrum up to one level at the top.
@@ -561,14 +622,26 @@ describe('a single wanted pair of a long vector is checked after every step', ()
     // The lowest level is isolated at -1, the line at -0.5; a random start's Rayleigh quotient is
     // near 0.5 with a residual near 0.3, so a screen on a small Krylov space would wrongly pass.
     const n = STEP_CHECK_MIN_LENGTH;
-    const result = lowestEigenpairs(isolatedBelow(n, -1), { states: 1, tolerance: 1e-9, denseThreshold: 10, verifyDegeneracy: false, screenAbove: -0.5 });
+    const result = lowestEigenpairs(isolatedBelow(n, -1), {
+      states: 1,
+      tolerance: 1e-9,
+      denseThreshold: 10,
+      verifyDegeneracy: false,
+      screenAbove: -0.5,
+    });
     expect(result.screened ?? false).toBe(false);
     expect(Math.abs(result.values[0] + 1)).toBeLessThan(1e-9);
   });
 
   it('a space far above the line is screened out before a second cycle ends', () => {
     const n = STEP_CHECK_MIN_LENGTH;
-    const result = lowestEigenpairs(isolatedBelow(n, 0.3), { states: 1, tolerance: 1e-12, denseThreshold: 10, verifyDegeneracy: false, screenAbove: -0.5 });
+    const result = lowestEigenpairs(isolatedBelow(n, 0.3), {
+      states: 1,
+      tolerance: 1e-12,
+      denseThreshold: 10,
+      verifyDegeneracy: false,
+      screenAbove: -0.5,
+    });
     expect(result.screened).toBe(true);
     expect(result.values[0] - result.residuals[0]).toBeGreaterThan(-0.5);
   });

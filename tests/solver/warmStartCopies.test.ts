@@ -12,7 +12,11 @@ import { validateSpec } from '../../src/spec/spec.js';
 
 describe('a warm start from a ground state', () => {
   it.each([1, 2, 3, 4, 5])('finds all 16 copies of four flux-pi rings (seed %i)', (seed) => {
-    const raw = { chain: { sites: 4 }, levels: { count: 3, boundary: 'ring', phase: Math.PI / 3 }, solve: { states: 1, symmetries: 'none', seed } };
+    const raw = {
+      chain: { sites: 4 },
+      levels: { count: 3, boundary: 'ring', phase: Math.PI / 3 },
+      solve: { states: 1, symmetries: 'none', seed },
+    };
     const cold = solvePoint(validateSpec(structuredClone(raw)));
     expect(cold.record.solver.method).toBe('lanczos');
     expect(cold.record.solver.degeneracy).toBe(16);

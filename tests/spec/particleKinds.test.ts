@@ -24,27 +24,39 @@ describe('[particles.<kind>] tables', () => {
   const particles = { number: 3, hopping: 1, boson: { onsite: 4, max_per_site: 2 }, fermion: { hopping: 0.5 } };
 
   it('apply only to their kind, over [particles]', () => {
-    const as = (kind: string) => validateSpec({ ...structuredClone(base), particles: { ...structuredClone(particles), kind } }).particles;
+    const as = (kind: string) =>
+      validateSpec({ ...structuredClone(base), particles: { ...structuredClone(particles), kind } }).particles;
     expect(as('boson')).toEqual({ kind: 'boson', number: 3, maxPerSite: 2, hopping: 1, onsite: 4 });
     expect(as('hardcore')).toEqual({ kind: 'hardcore', number: 3, maxPerSite: 1, hopping: 1, onsite: 0 });
     expect(as('fermion')).toEqual({ kind: 'fermion', number: 3, maxPerSite: 2, hopping: 0.5, onsite: 0 });
   });
 
   it('read the same from TOML sub-tables', () => {
-    const raw = parseSpecText('[chain]\nsites = 4\n[levels]\ncount = 2\n[particles]\nkind = "boson"\nhopping = 1\n[particles.boson]\nonsite = 4\n', 'toml');
+    const raw = parseSpecText(
+      '[chain]\nsites = 4\n[levels]\ncount = 2\n[particles]\nkind = "boson"\nhopping = 1\n[particles.boson]\nonsite = 4\n',
+      'toml',
+    );
     expect(validateSpec(raw).particles.onsite).toBe(4);
   });
 
   it('are checked whether their kind is chosen or not, naming the key path', () => {
-    const withTable = (kindTable: string, table: unknown) => ({ ...structuredClone(base), particles: { kind: 'hardcore', [kindTable]: table } });
+    const withTable = (kindTable: string, table: unknown) => ({
+      ...structuredClone(base),
+      particles: { kind: 'hardcore', [kindTable]: table },
+    });
     expect(specErrorOf(withTable('hardcore', { onsite: 4 })).keyPath).toBe('particles.hardcore.onsite');
-    expect(specErrorOf(withTable('boson', { onsit: 4 })).message).toMatch(/^particles\.boson\.onsit: unknown key \(did you mean onsite\?\)/);
+    expect(specErrorOf(withTable('boson', { onsit: 4 })).message).toMatch(
+      /^particles\.boson\.onsit: unknown key \(did you mean onsite\?\)/,
+    );
     expect(specErrorOf(withTable('boson', { onsite: 'four' })).keyPath).toBe('particles.boson.onsite');
     expect(specErrorOf(withTable('boson', { kind: 'fermion' })).keyPath).toBe('particles.boson.kind');
     expect(specErrorOf(withTable('boson', 4)).keyPath).toBe('particles.boson');
     expect(specErrorOf(withTable('pinned', { hopping: 1 })).keyPath).toBe('particles.pinned.hopping');
     // A value that is wrong only for the chosen kind names the table it came from.
-    expect(specErrorOf({ ...structuredClone(base), particles: { kind: 'boson', boson: { number: 9, max_per_site: 2 } } }).keyPath).toBe('particles.boson.number');
+    expect(
+      specErrorOf({ ...structuredClone(base), particles: { kind: 'boson', boson: { number: 9, max_per_site: 2 } } })
+        .keyPath,
+    ).toBe('particles.boson.number');
   });
 
   it('a key of [particles] that the kind cannot use points to the kind tables', () => {

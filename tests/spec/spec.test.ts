@@ -112,7 +112,17 @@ seed = 7
     expect(fromToml.exchange.weights).toEqual(rotorWeights(4));
     expect(fromToml.ising.cutoff).toBe(Infinity);
     expect(fromToml.particles).toEqual({ kind: 'boson', number: 3, maxPerSite: 2, hopping: 0.7, onsite: 4 });
-    expect(fromToml.solve).toEqual({ states: 3, tolerance: 1e-8, maxMatvecs: 5000, krylov: 20, seed: 7, entanglement: 'auto', symmetries: 'auto', sector: {}, threads: 'auto' });
+    expect(fromToml.solve).toEqual({
+      states: 3,
+      tolerance: 1e-8,
+      maxMatvecs: 5000,
+      krylov: 20,
+      seed: 7,
+      entanglement: 'auto',
+      symmetries: 'auto',
+      sector: {},
+      threads: 'auto',
+    });
   });
 
   it('loads .toml and .json files by extension', () => {
@@ -147,27 +157,48 @@ seed = 7
     expect(message('{"chain":{"sites":4,"sites":5},"levels":{"count":2}}', 'json')).toBe(
       'spec:1:21: chain.sites is given twice (first at 1:11); a key may appear once',
     );
-    expect(message('{"chain": {"sites": 4},\n "levels": {"count": 2},\n "chain": {}}', 'json')).toMatch(/^spec:3:2: chain is given twice \(first at 1:2\)/);
-    expect(message('{"scan": {"axis": [{"key": "a.b", "values": [1], "key": "c.d"}]}}', 'json')).toMatch(/^spec:1:\d+: scan\.axis\[0\]\.key is given twice/);
+    expect(message('{"chain": {"sites": 4},\n "levels": {"count": 2},\n "chain": {}}', 'json')).toMatch(
+      /^spec:3:2: chain is given twice \(first at 1:2\)/,
+    );
+    expect(message('{"scan": {"axis": [{"key": "a.b", "values": [1], "key": "c.d"}]}}', 'json')).toMatch(
+      /^spec:1:\d+: scan\.axis\[0\]\.key is given twice/,
+    );
     expect(message('[chain]\nsites = 4\nsites = 5\n', 'toml')).toMatch(/^spec:3:1: .*sites = 5/);
     expect(message('[chain]\nsites = 4\n[chain]\n', 'toml')).toMatch(/^spec:3:\d+: .*\[chain\]/);
     // The same key in different objects is no duplicate.
-    expect(parseSpecText('{"chain":{"sites":4},"levels":{"count":2,"sites":1}}', 'json')).toEqual({ chain: { sites: 4 }, levels: { count: 2, sites: 1 } });
-    expect(() => applyOverride({}, 'solve.sector={"charge":1,"charge":2}')).toThrow(/solve\.sector=.*charge is given twice/);
+    expect(parseSpecText('{"chain":{"sites":4},"levels":{"count":2,"sites":1}}', 'json')).toEqual({
+      chain: { sites: 4 },
+      levels: { count: 2, sites: 1 },
+    });
+    expect(() => applyOverride({}, 'solve.sector={"charge":1,"charge":2}')).toThrow(
+      /solve\.sector=.*charge is given twice/,
+    );
   });
 
   // JSON.parse (ECMA-262, itself following RFC 8259) is the reference for what JSON text means.
   it('reads every JSON text as JSON.parse does, and refuses what it refuses', () => {
     let seed = 7;
-    const random = () => ((seed = (seed * 1103515245 + 12345) % 2 ** 31) / 2 ** 31);
+    const random = () => (seed = (seed * 1103515245 + 12345) % 2 ** 31) / 2 ** 31;
     const make = (depth: number): unknown => {
       const r = random();
       if (depth > 3 || r < 0.3) {
         const pick = Math.floor(random() * 6);
-        return [() => random() * 1e6 - 5e5, () => Math.floor(random() * 100), () => 'a\u00e9\n"\\\t\u0001\ud83d\ude00/' + random(), () => true, () => null, () => -1.5e-300][pick]();
+        return [
+          () => random() * 1e6 - 5e5,
+          () => Math.floor(random() * 100),
+          () => 'a\u00e9\n"\\\t\u0001\ud83d\ude00/' + random(),
+          () => true,
+          () => null,
+          () => -1.5e-300,
+        ][pick]();
       }
       if (r < 0.6) return Array.from({ length: Math.floor(random() * 4) }, () => make(depth + 1));
-      return Object.fromEntries(Array.from({ length: Math.floor(random() * 4) }, (_, k) => [`k${k}_${Math.floor(random() * 9)}`, make(depth + 1)]));
+      return Object.fromEntries(
+        Array.from({ length: Math.floor(random() * 4) }, (_, k) => [
+          `k${k}_${Math.floor(random() * 9)}`,
+          make(depth + 1),
+        ]),
+      );
     };
     for (let trial = 0; trial < 300; trial++) {
       const value = { chain: make(0), levels: make(0) };
@@ -175,9 +206,31 @@ seed = 7
         expect(parseSpecText(text, 'json')).toEqual(JSON.parse(text));
       }
     }
-    expect(parseSpecText('{"x": [1e400, -0, 0.5E-3, "\\u0041\\/"]}', 'json')).toEqual(JSON.parse('{"x": [1e400, -0, 0.5E-3, "\\u0041\\/"]}'));
-    const bad = ['{', '{"a":1,}', '[1,]', '{"a" 1}', "{'a':1}", '{"a":01}', '{"a":.5}', '{"a":1.}', '{"a":+1}', '{"a":NaN}', '{"a":"\\x"}',
-      '{"a":"\\u12"}', '{"a":tru}', '{"a":1} x', '{"a":"b\tc"}', '// c\n{}', '{"a":1 /* c */}', '{"a":[1 2]}', '', ' '];
+    expect(parseSpecText('{"x": [1e400, -0, 0.5E-3, "\\u0041\\/"]}', 'json')).toEqual(
+      JSON.parse('{"x": [1e400, -0, 0.5E-3, "\\u0041\\/"]}'),
+    );
+    const bad = [
+      '{',
+      '{"a":1,}',
+      '[1,]',
+      '{"a" 1}',
+      "{'a':1}",
+      '{"a":01}',
+      '{"a":.5}',
+      '{"a":1.}',
+      '{"a":+1}',
+      '{"a":NaN}',
+      '{"a":"\\x"}',
+      '{"a":"\\u12"}',
+      '{"a":tru}',
+      '{"a":1} x',
+      '{"a":"b\tc"}',
+      '// c\n{}',
+      '{"a":1 /* c */}',
+      '{"a":[1 2]}',
+      '',
+      ' ',
+    ];
     for (const text of bad) {
       expect(() => JSON.parse(text)).toThrow();
       expect(() => parseSpecText(text, 'json', 'spec')).toThrow(/^spec:\d+:\d+: invalid JSON: [^\n]+$/);
@@ -193,9 +246,15 @@ seed = 7
       }
       throw new Error('accepted');
     };
-    expect(err('{"chain": {"sites": 4}\n "levels": {}}')).toBe('spec.json:2:2: invalid JSON: unexpected """, expected "," or "}" after a value in an object');
-    expect(err('{"chain": {"sites": 4,\n "boundary": "open\u0007\nx"}}')).toBe('spec.json:2:19: invalid JSON: control character U+0007 inside a string (write it as an escape such as \\n)');
-    expect(err('{\n  "chain": {"sites": 4}')).toBe('spec.json:2:24: invalid JSON: unexpected end of text, expected "," or "}" after a value in an object');
+    expect(err('{"chain": {"sites": 4}\n "levels": {}}')).toBe(
+      'spec.json:2:2: invalid JSON: unexpected """, expected "," or "}" after a value in an object',
+    );
+    expect(err('{"chain": {"sites": 4,\n "boundary": "open\u0007\nx"}}')).toBe(
+      'spec.json:2:19: invalid JSON: control character U+0007 inside a string (write it as an escape such as \\n)',
+    );
+    expect(err('{\n  "chain": {"sites": 4}')).toBe(
+      'spec.json:2:24: invalid JSON: unexpected end of text, expected "," or "}" after a value in an object',
+    );
     const huge = 'a'.repeat(5_000_000);
     const line = err(`{"chain": {"boundary": "${huge}" "sites": 4}}`);
     expect(line).toMatch(/^spec\.json:1:5000027: invalid JSON: unexpected """/);
@@ -212,12 +271,32 @@ seed = 7
       { chain: { sites: 4 }, levels: { count: 2 }, particles: { kind: huge } },
       { chain: { sites: 4 }, levels: { count: 2 }, scan: { axis: [{ key: 'levels.boundary', values: [huge] }] } },
       { chain: { sites: 4 }, levels: { count: 2 }, scan: { axis: [{ key: huge, values: [1] }] } },
-      { chain: { sites: 4 }, levels: { count: 2 }, scan: { axis: [{ key: 'exchange.strength', from: huge, to: 1, steps: 2 }] } },
-      { chain: { sites: 4 }, levels: { count: 2 }, scan: { axis: [{ key: 'exchange.strength', from: 0, to: 1, steps: 2, spacing: huge }] } },
-      { chain: { sites: 4 }, levels: { count: 2 }, scan: { zip: huge, axis: [{ key: 'exchange.strength', values: [1] }] } },
+      {
+        chain: { sites: 4 },
+        levels: { count: 2 },
+        scan: { axis: [{ key: 'exchange.strength', from: huge, to: 1, steps: 2 }] },
+      },
+      {
+        chain: { sites: 4 },
+        levels: { count: 2 },
+        scan: { axis: [{ key: 'exchange.strength', from: 0, to: 1, steps: 2, spacing: huge }] },
+      },
+      {
+        chain: { sites: 4 },
+        levels: { count: 2 },
+        scan: { zip: huge, axis: [{ key: 'exchange.strength', values: [1] }] },
+      },
       { chain: { sites: 4 }, levels: { count: 2 }, evolve: { times: [1], time_unit: huge } },
-      { chain: { sites: 4 }, levels: { count: 2 }, evolve: { times: [1], initial: { pulses: [{ between: [0, huge], area: 1 }] } } },
-      { chain: { sites: 4 }, levels: { count: 2 }, evolve: { times: [1], ramp: { key: huge, from: 0, to: 1, duration: 1 } } },
+      {
+        chain: { sites: 4 },
+        levels: { count: 2 },
+        evolve: { times: [1], initial: { pulses: [{ between: [0, huge], area: 1 }] } },
+      },
+      {
+        chain: { sites: 4 },
+        levels: { count: 2 },
+        evolve: { times: [1], ramp: { key: huge, from: 0, to: 1, duration: 1 } },
+      },
       { chain: { sites: 4 }, levels: { count: 2 }, units: { dipole_debye: huge } },
     ]) {
       let e: unknown = null;
@@ -230,11 +309,18 @@ seed = 7
       }
       if (!(e instanceof SpecError)) throw new Error(`no SpecError for a spec with ${Object.keys(raw).join(', ')}`);
       expect(e.message.length, e.message.slice(0, 300)).toBeLessThan(400);
+      // eslint-disable-next-line no-control-regex -- no control character may reach the terminal
       expect(e.message).not.toMatch(/[\u0000-\u001f]/);
     }
     const longKey = 'c'.repeat(5_000_000);
-    expect(() => applyOverride({}, `${longKey}[0]=1`)).toThrow(/^"c+"\.\.\. \(5000000 characters\): [^\u0000-\u001f]{1,300}$/);
-    expect(() => applyOverride({}, `chain.sites${huge}=1`)).toThrow(/^override "chain\.sitesb+"\.\.\. \(5000015 characters\): [^\u0000-\u001f]{1,300}$/);
+    /* eslint-disable no-control-regex -- the messages must be free of control characters */
+    expect(() => applyOverride({}, `${longKey}[0]=1`)).toThrow(
+      /^"c+"\.\.\. \(5000000 characters\): [^\u0000-\u001f]{1,300}$/,
+    );
+    expect(() => applyOverride({}, `chain.sites${huge}=1`)).toThrow(
+      /^override "chain\.sitesb+"\.\.\. \(5000015 characters\): [^\u0000-\u001f]{1,300}$/,
+    );
+    /* eslint-enable no-control-regex */
   });
 
   it('reports unreadable files and unknown extensions as InputError', () => {
@@ -250,15 +336,34 @@ describe('defaults and expansion', () => {
     const spec: Spec = validateSpec(tree(minimal));
     expect(spec.chain.boundary).toBe('open');
     expect(spec.levels).toEqual({ count: 3, boundary: 'open', tunnelling: [1, 1], phase: [0, 0], detuning: [0, 0, 0] });
-    expect(spec.exchange).toEqual({ strength: 0, range: 'nearest', cutoff: Infinity, weights: [1, 1], weightsName: 'uniform' });
+    expect(spec.exchange).toEqual({
+      strength: 0,
+      range: 'nearest',
+      cutoff: Infinity,
+      weights: [1, 1],
+      weightsName: 'uniform',
+    });
     expect(spec.ising).toEqual({ strength: 0, moments: [0, 0, 0], range: 'nearest', cutoff: Infinity });
     expect(spec.particles).toEqual({ kind: 'pinned', number: 4, maxPerSite: 1, hopping: 0, onsite: 0 });
-    expect(spec.solve).toEqual({ states: 4, tolerance: 1e-9, maxMatvecs: null, krylov: null, seed: 1, entanglement: 'auto', symmetries: 'auto', sector: {}, threads: 'auto' });
+    expect(spec.solve).toEqual({
+      states: 4,
+      tolerance: 1e-9,
+      maxMatvecs: null,
+      krylov: null,
+      seed: 1,
+      entanglement: 'auto',
+      symmetries: 'auto',
+      sector: {},
+      threads: 'auto',
+    });
     expect(spec.extra).toEqual({});
   });
 
   it('expands scalars per link on an open ladder and on a ring, and per level', () => {
-    const open = validateSpec({ chain: { sites: 2 }, levels: { count: 5, tunnelling: 0.5, phase: 1.25, detuning: -2 } });
+    const open = validateSpec({
+      chain: { sites: 2 },
+      levels: { count: 5, tunnelling: 0.5, phase: 1.25, detuning: -2 },
+    });
     expect(open.levels.tunnelling).toEqual(new Array(4).fill(0.5));
     expect(open.levels.phase).toEqual(new Array(4).fill(1.25));
     expect(open.levels.detuning).toEqual(new Array(5).fill(-2));
@@ -270,7 +375,11 @@ describe('defaults and expansion', () => {
   });
 
   it('takes an explicit weight list, one per open link', () => {
-    const spec = validateSpec({ ...tree(minimal), levels: { count: 3, boundary: 'ring' }, exchange: { weights: [1, 0.25] } });
+    const spec = validateSpec({
+      ...tree(minimal),
+      levels: { count: 3, boundary: 'ring' },
+      exchange: { weights: [1, 0.25] },
+    });
     expect(spec.exchange.weights).toEqual([1, 0.25]);
     expect(spec.exchange.weightsName).toBe('list');
   });
@@ -284,7 +393,13 @@ describe('defaults and expansion', () => {
   it('sets particle defaults per kind', () => {
     const withKind = (particles: Record<string, unknown>) => validateSpec({ ...tree(minimal), particles }).particles;
     expect(withKind({ kind: 'boson', number: 3 }).maxPerSite).toBe(3);
-    expect(withKind({ kind: 'hardcore', number: 2 })).toEqual({ kind: 'hardcore', number: 2, maxPerSite: 1, hopping: 0, onsite: 0 });
+    expect(withKind({ kind: 'hardcore', number: 2 })).toEqual({
+      kind: 'hardcore',
+      number: 2,
+      maxPerSite: 1,
+      hopping: 0,
+      onsite: 0,
+    });
     // Fermions exclude per (site, level), so a site can hold one per level.
     expect(withKind({ kind: 'fermion', number: 5, hopping: 1 }).maxPerSite).toBe(3);
     expect(withKind({ kind: 'hardcore' }).number).toBe(4);
@@ -293,9 +408,17 @@ describe('defaults and expansion', () => {
 
 describe('validation errors name the key path', () => {
   it('rejects unknown keys and sections, suggesting near misses', () => {
-    expectSpecError({ ...tree(minimal), levels: { count: 3, tunelling: 1 } }, 'levels.tunelling', 'unknown key (did you mean tunnelling?)');
+    expectSpecError(
+      { ...tree(minimal), levels: { count: 3, tunelling: 1 } },
+      'levels.tunelling',
+      'unknown key (did you mean tunnelling?)',
+    );
     expectSpecError({ chain: { sites: 4 }, levles: { count: 3 } }, 'levles', 'did you mean levels?');
-    expectSpecError({ ...tree(minimal), particles: { maxPerSite: 2 } }, 'particles.maxPerSite', 'did you mean max_per_site?');
+    expectSpecError(
+      { ...tree(minimal), particles: { maxPerSite: 2 } },
+      'particles.maxPerSite',
+      'did you mean max_per_site?',
+    );
     expectSpecError({ ...tree(minimal), solve: { colour: 'red' } }, 'solve.colour', 'unknown key');
     expect(specErrorOf({ ...tree(minimal), solve: { colour: 'red' } }).message).not.toContain('did you mean');
   });
@@ -305,16 +428,51 @@ describe('validation errors name the key path', () => {
   it('an unknown key in any section lists the valid keys there and the nearest one', () => {
     const cases: [Record<string, unknown>, string, string, string[]][] = [
       [{ ...tree(minimal), chain: { sites: 4, boundry: 'open' } }, 'chain.boundry', 'boundary', ['sites', 'boundary']],
-      [{ ...tree(minimal), exchange: { strenght: 1 } }, 'exchange.strenght', 'strength', ['strength', 'range', 'cutoff', 'weights']],
-      [{ ...tree(minimal), ising: { moment: [0, 0, 0] } }, 'ising.moment', 'moments', ['strength', 'moments', 'range', 'cutoff']],
-      [{ ...tree(minimal), particles: { onsit: 1 } }, 'particles.onsit', 'onsite', ['kind', 'number', 'max_per_site', 'hopping', 'onsite']],
+      [
+        { ...tree(minimal), exchange: { strenght: 1 } },
+        'exchange.strenght',
+        'strength',
+        ['strength', 'range', 'cutoff', 'weights'],
+      ],
+      [
+        { ...tree(minimal), ising: { moment: [0, 0, 0] } },
+        'ising.moment',
+        'moments',
+        ['strength', 'moments', 'range', 'cutoff'],
+      ],
+      [
+        { ...tree(minimal), particles: { onsit: 1 } },
+        'particles.onsit',
+        'onsite',
+        ['kind', 'number', 'max_per_site', 'hopping', 'onsite'],
+      ],
       [{ ...tree(minimal), solve: { state: 2 } }, 'solve.state', 'states', ['states', 'tolerance', 'threads']],
-      [{ ...tree(minimal), solve: { sector: { moment: 0 } } }, 'solve.sector.moment', 'momentum', ['momentum', 'parity', 'level_flip', 'charge']],
-      [{ ...tree(minimal), units: { dipole_debey: 1 } }, 'units.dipole_debey', 'dipole_debye', ['lattice_spacing_nm', 'rabi_khz']],
+      [
+        { ...tree(minimal), solve: { sector: { moment: 0 } } },
+        'solve.sector.moment',
+        'momentum',
+        ['momentum', 'parity', 'level_flip', 'charge'],
+      ],
+      [
+        { ...tree(minimal), units: { dipole_debey: 1 } },
+        'units.dipole_debey',
+        'dipole_debye',
+        ['lattice_spacing_nm', 'rabi_khz'],
+      ],
       [{ ...tree(minimal), evolve: { time: [1] } }, 'evolve.time', 'times', ['initial', 'times', 'ramp']],
-      [{ ...tree(minimal), evolve: { times: { to: 1, step: 2 } } }, 'evolve.times.step', 'steps', ['from', 'to', 'steps']],
+      [
+        { ...tree(minimal), evolve: { times: { to: 1, step: 2 } } },
+        'evolve.times.step',
+        'steps',
+        ['from', 'to', 'steps'],
+      ],
       [{ ...tree(minimal), scan: { zipp: true, axis: [] } }, 'scan.zipp', 'zip', ['axis', 'zip']],
-      [{ ...tree(minimal), scan: { axis: [{ key: 'exchange.strength', value: [1] }] } }, 'scan.axis[0].value', 'values', ['key', 'values', 'from', 'to', 'steps', 'spacing']],
+      [
+        { ...tree(minimal), scan: { axis: [{ key: 'exchange.strength', value: [1] }] } },
+        'scan.axis[0].value',
+        'values',
+        ['key', 'values', 'from', 'to', 'steps', 'spacing'],
+      ],
       [{ ...tree(minimal), scna: {} }, 'scna', 'scan', ['chain', 'levels', 'particles', 'scan', 'evolve', 'units']],
     ];
     for (const [raw, keyPath, nearest, valid] of cases) {
@@ -334,9 +492,21 @@ describe('validation errors name the key path', () => {
   });
 
   it('rejects wrong types', () => {
-    expectSpecError({ chain: { sites: 'ten' }, levels: { count: 3 } }, 'chain.sites', 'expected a positive integer, got "ten"');
-    expectSpecError({ chain: { sites: 2.5 }, levels: { count: 3 } }, 'chain.sites', 'expected a positive integer, got 2.5');
-    expectSpecError({ ...tree(minimal), exchange: { strength: true } }, 'exchange.strength', 'expected a finite number, got true');
+    expectSpecError(
+      { chain: { sites: 'ten' }, levels: { count: 3 } },
+      'chain.sites',
+      'expected a positive integer, got "ten"',
+    );
+    expectSpecError(
+      { chain: { sites: 2.5 }, levels: { count: 3 } },
+      'chain.sites',
+      'expected a positive integer, got 2.5',
+    );
+    expectSpecError(
+      { ...tree(minimal), exchange: { strength: true } },
+      'exchange.strength',
+      'expected a finite number, got true',
+    );
     expectSpecError({ ...tree(minimal), chain: { sites: 4, boundary: 'closed' } }, 'chain.boundary', 'got "closed"');
     expectSpecError({ ...tree(minimal), exchange: { weights: 'rotr' } }, 'exchange.weights', 'did you mean "rotor"?');
     expectSpecError({ ...tree(minimal), levels: { count: 3, detuning: 'flat' } }, 'levels.detuning', 'got "flat"');
@@ -344,8 +514,16 @@ describe('validation errors name the key path', () => {
   });
 
   it('names the element of a list', () => {
-    expectSpecError({ chain: { sites: 4 }, levels: { count: 4, detuning: [0, 1, 'x', 3] } }, 'levels.detuning[2]', 'got "x"');
-    expectSpecError({ ...tree(minimal), exchange: { weights: [1, [2]] } }, 'exchange.weights[1]', 'expected a finite number');
+    expectSpecError(
+      { chain: { sites: 4 }, levels: { count: 4, detuning: [0, 1, 'x', 3] } },
+      'levels.detuning[2]',
+      'got "x"',
+    );
+    expectSpecError(
+      { ...tree(minimal), exchange: { weights: [1, [2]] } },
+      'exchange.weights[1]',
+      'expected a finite number',
+    );
   });
 
   it('rejects wrong list lengths, saying what the list is counted by', () => {
@@ -354,10 +532,26 @@ describe('validation errors name the key path', () => {
       'levels.tunnelling',
       'expected 3 values (one per link of an open ladder of 4 levels), got 2',
     );
-    expectSpecError({ chain: { sites: 4 }, levels: { count: 4, boundary: 'ring', phase: [0, 0, 0] } }, 'levels.phase', 'expected 4 values (one per link of a ring of 4 levels), got 3');
-    expectSpecError({ chain: { sites: 4 }, levels: { count: 4, detuning: [0, 1] } }, 'levels.detuning', 'expected 4 values');
-    expectSpecError({ chain: { sites: 4 }, levels: { count: 4, boundary: 'ring' }, exchange: { weights: [1, 1, 1, 1] } }, 'exchange.weights', 'expected 3 values');
-    expectSpecError({ ...tree(minimal), ising: { strength: 1, moments: [1, 2] } }, 'ising.moments', 'expected 3 values');
+    expectSpecError(
+      { chain: { sites: 4 }, levels: { count: 4, boundary: 'ring', phase: [0, 0, 0] } },
+      'levels.phase',
+      'expected 4 values (one per link of a ring of 4 levels), got 3',
+    );
+    expectSpecError(
+      { chain: { sites: 4 }, levels: { count: 4, detuning: [0, 1] } },
+      'levels.detuning',
+      'expected 4 values',
+    );
+    expectSpecError(
+      { chain: { sites: 4 }, levels: { count: 4, boundary: 'ring' }, exchange: { weights: [1, 1, 1, 1] } },
+      'exchange.weights',
+      'expected 3 values',
+    );
+    expectSpecError(
+      { ...tree(minimal), ising: { strength: 1, moments: [1, 2] } },
+      'ising.moments',
+      'expected 3 values',
+    );
   });
 
   it('rejects impossible sizes and tolerances', () => {
@@ -366,70 +560,152 @@ describe('validation errors name the key path', () => {
     expectSpecError({ ...tree(minimal), solve: { states: 0 } }, 'solve.states', 'positive integer');
     expectSpecError({ ...tree(minimal), solve: { tolerance: 0 } }, 'solve.tolerance', 'positive number');
     expectSpecError({ ...tree(minimal), solve: { tolerance: -1e-9 } }, 'solve.tolerance', 'positive number');
-    expectSpecError({ ...tree(minimal), solve: { states: 4, krylov: 4 } }, 'solve.krylov', 'must exceed solve.states = 4');
+    expectSpecError(
+      { ...tree(minimal), solve: { states: 4, krylov: 4 } },
+      'solve.krylov',
+      'must exceed solve.states = 4',
+    );
     expectSpecError({ ...tree(minimal), solve: { max_matvecs: 0 } }, 'solve.max_matvecs', 'positive integer');
   });
 
   it('checks solve.entanglement: a name or cuts between 1 and sites - 1', () => {
     expect(validateSpec({ ...tree(minimal), solve: { entanglement: [3, 1] } }).solve.entanglement).toEqual([3, 1]);
     expect(validateSpec({ ...tree(minimal), solve: { entanglement: 'half' } }).solve.entanglement).toBe('half');
-    expectSpecError({ ...tree(minimal), solve: { entanglement: 'halff' } }, 'solve.entanglement', 'did you mean "half"');
+    expectSpecError(
+      { ...tree(minimal), solve: { entanglement: 'halff' } },
+      'solve.entanglement',
+      'did you mean "half"',
+    );
     expectSpecError({ ...tree(minimal), solve: { entanglement: [1, 4] } }, 'solve.entanglement[1]', 'from 1 to 3');
     expectSpecError({ ...tree(minimal), solve: { entanglement: [0] } }, 'solve.entanglement[0]', 'from 1 to 3');
   });
 
   it('rejects bad cutoffs', () => {
-    expectSpecError({ ...tree(minimal), exchange: { range: 'dipolar', cutoff: 0 } }, 'exchange.cutoff', 'positive number, got 0');
-    expectSpecError({ ...tree(minimal), ising: { range: 'dipolar', cutoff: -2 } }, 'ising.cutoff', 'positive number, got -2');
+    expectSpecError(
+      { ...tree(minimal), exchange: { range: 'dipolar', cutoff: 0 } },
+      'exchange.cutoff',
+      'positive number, got 0',
+    );
+    expectSpecError(
+      { ...tree(minimal), ising: { range: 'dipolar', cutoff: -2 } },
+      'ising.cutoff',
+      'positive number, got -2',
+    );
     expectSpecError({ ...tree(minimal), exchange: { range: 'dipolar', cutoff: 0.5 } }, 'exchange.cutoff', 'at least 1');
     // On nearest-neighbour coupling a cutoff would be ignored.
-    expectSpecError({ ...tree(minimal), exchange: { cutoff: 3 } }, 'exchange.cutoff', 'only applies to exchange.range = "dipolar"');
+    expectSpecError(
+      { ...tree(minimal), exchange: { cutoff: 3 } },
+      'exchange.cutoff',
+      'only applies to exchange.range = "dipolar"',
+    );
   });
 
   it('rejects non-finite numbers (TOML can write them, JSON cannot)', () => {
     const inf = specErrorOf(parseSpecText('[chain]\nsites = 4\n[levels]\ncount = 3\ntunnelling = [1, inf]\n', 'toml'));
     expect(inf.keyPath).toBe('levels.tunnelling[1]');
     expect(inf.message).toContain('got inf');
-    const nan = specErrorOf(parseSpecText('[chain]\nsites = 4\n[levels]\ncount = 3\n[exchange]\nstrength = nan\n', 'toml'));
+    const nan = specErrorOf(
+      parseSpecText('[chain]\nsites = 4\n[levels]\ncount = 3\n[exchange]\nstrength = nan\n', 'toml'),
+    );
     expect(nan.keyPath).toBe('exchange.strength');
     expect(nan.message).toContain('got nan');
-    const infiniteCutoff = specErrorOf(parseSpecText('[chain]\nsites = 4\n[levels]\ncount = 3\n[exchange]\nrange = "dipolar"\ncutoff = inf\n', 'toml'));
+    const infiniteCutoff = specErrorOf(
+      parseSpecText('[chain]\nsites = 4\n[levels]\ncount = 3\n[exchange]\nrange = "dipolar"\ncutoff = inf\n', 'toml'),
+    );
     expect(infiniteCutoff.keyPath).toBe('exchange.cutoff');
   });
 
   it('rejects boundaries that need more sites or levels', () => {
-    expectSpecError({ chain: { sites: 2, boundary: 'periodic' }, levels: { count: 3 } }, 'chain.boundary', 'at least 3 sites');
-    expectSpecError({ chain: { sites: 4 }, levels: { count: 2, boundary: 'ring' } }, 'levels.boundary', 'at least 3 levels');
+    expectSpecError(
+      { chain: { sites: 2, boundary: 'periodic' }, levels: { count: 3 } },
+      'chain.boundary',
+      'at least 3 sites',
+    );
+    expectSpecError(
+      { chain: { sites: 4 }, levels: { count: 2, boundary: 'ring' } },
+      'levels.boundary',
+      'at least 3 levels',
+    );
   });
 
   it('rejects particle numbers the kind cannot hold', () => {
-    expectSpecError({ ...tree(minimal), particles: { number: 3 } }, 'particles.number', 'must equal chain.sites = 4, got 3');
-    expectSpecError({ ...tree(minimal), particles: { kind: 'hardcore', number: 5 } }, 'particles.number', 'at most 4 hardcore');
-    expectSpecError({ ...tree(minimal), particles: { kind: 'fermion', number: 13 } }, 'particles.number', 'at most 12 fermions');
-    expectSpecError({ ...tree(minimal), particles: { kind: 'boson', number: 9, max_per_site: 2 } }, 'particles.number', 'at most 8 bosons');
-    expectSpecError({ ...tree(minimal), particles: { kind: 'boson', max_per_site: 0 } }, 'particles.max_per_site', 'positive integer, got 0');
-    expectSpecError({ ...tree(minimal), particles: { kind: 'hardcore', number: 0 } }, 'particles.number', 'positive integer');
+    expectSpecError(
+      { ...tree(minimal), particles: { number: 3 } },
+      'particles.number',
+      'must equal chain.sites = 4, got 3',
+    );
+    expectSpecError(
+      { ...tree(minimal), particles: { kind: 'hardcore', number: 5 } },
+      'particles.number',
+      'at most 4 hardcore',
+    );
+    expectSpecError(
+      { ...tree(minimal), particles: { kind: 'fermion', number: 13 } },
+      'particles.number',
+      'at most 12 fermions',
+    );
+    expectSpecError(
+      { ...tree(minimal), particles: { kind: 'boson', number: 9, max_per_site: 2 } },
+      'particles.number',
+      'at most 8 bosons',
+    );
+    expectSpecError(
+      { ...tree(minimal), particles: { kind: 'boson', max_per_site: 0 } },
+      'particles.max_per_site',
+      'positive integer, got 0',
+    );
+    expectSpecError(
+      { ...tree(minimal), particles: { kind: 'hardcore', number: 0 } },
+      'particles.number',
+      'positive integer',
+    );
     // The largest legal numbers pass.
     expect(validateSpec({ ...tree(minimal), particles: { kind: 'fermion', number: 12 } }).particles.number).toBe(12);
-    expect(validateSpec({ ...tree(minimal), particles: { kind: 'boson', number: 8, max_per_site: 2 } }).particles.number).toBe(8);
+    expect(
+      validateSpec({ ...tree(minimal), particles: { kind: 'boson', number: 8, max_per_site: 2 } }).particles.number,
+    ).toBe(8);
   });
 
   it('rejects keys that the particle kind would silently ignore', () => {
     for (const key of ['hopping', 'onsite', 'max_per_site']) {
-      expectSpecError({ ...tree(minimal), particles: { kind: 'pinned', [key]: 1 } }, `particles.${key}`, 'not used for kind = "pinned"');
+      expectSpecError(
+        { ...tree(minimal), particles: { kind: 'pinned', [key]: 1 } },
+        `particles.${key}`,
+        'not used for kind = "pinned"',
+      );
     }
-    expectSpecError({ ...tree(minimal), particles: { kind: 'hardcore', onsite: 2 } }, 'particles.onsite', 'not used for kind = "hardcore"');
-    expectSpecError({ ...tree(minimal), particles: { kind: 'fermion', onsite: 2 } }, 'particles.onsite', 'not used for kind = "fermion"');
-    expectSpecError({ ...tree(minimal), particles: { kind: 'hardcore', max_per_site: 1 } }, 'particles.max_per_site', 'not used');
+    expectSpecError(
+      { ...tree(minimal), particles: { kind: 'hardcore', onsite: 2 } },
+      'particles.onsite',
+      'not used for kind = "hardcore"',
+    );
+    expectSpecError(
+      { ...tree(minimal), particles: { kind: 'fermion', onsite: 2 } },
+      'particles.onsite',
+      'not used for kind = "fermion"',
+    );
+    expectSpecError(
+      { ...tree(minimal), particles: { kind: 'hardcore', max_per_site: 1 } },
+      'particles.max_per_site',
+      'not used',
+    );
   });
 
   it('requires moments when the ising strength is nonzero', () => {
-    expectSpecError({ ...tree(minimal), ising: { strength: 0.5 } }, 'ising.moments', 'required when ising.strength is not 0');
-    expect(validateSpec({ ...tree(minimal), ising: { strength: 0.5, moments: [1, 0, -1] } }).ising.moments).toEqual([1, 0, -1]);
+    expectSpecError(
+      { ...tree(minimal), ising: { strength: 0.5 } },
+      'ising.moments',
+      'required when ising.strength is not 0',
+    );
+    expect(validateSpec({ ...tree(minimal), ising: { strength: 0.5, moments: [1, 0, -1] } }).ising.moments).toEqual([
+      1, 0, -1,
+    ]);
   });
 
   it('treats a JSON null as a wrong value, not as absent', () => {
-    const error = specErrorOf(parseSpecText('{"chain": {"sites": 4, "boundary": null}, "levels": {"count": 3}}', 'json'));
+    const error = specErrorOf(
+      parseSpecText('{"chain": {"sites": 4, "boundary": null}, "levels": {"count": 3}}', 'json'),
+    );
     expect(error.keyPath).toBe('chain.boundary');
     expect(error.message).toContain('got null');
   });
@@ -484,7 +760,14 @@ describe('overrides', () => {
   });
 
   it('rejects bad syntax, naming the assignment', () => {
-    for (const assignment of ['exchange.strength', '=3', 'exchange.strength=', 'exchange..strength=1', 'levels.tunnelling[x]=1', '__proto__.polluted=1']) {
+    for (const assignment of [
+      'exchange.strength',
+      '=3',
+      'exchange.strength=',
+      'exchange..strength=1',
+      'levels.tunnelling[x]=1',
+      '__proto__.polluted=1',
+    ]) {
       const raw = tree(minimal);
       expect(() => applyOverride(raw, assignment)).toThrow(InputError);
       expect(() => applyOverride(raw, assignment)).toThrow(`"${assignment}"`);

@@ -52,11 +52,22 @@ describe('caps on what a spec may ask for (documented in the README)', () => {
     expect(e.keyPath).toBe('scan.axis[1]');
     expect(e.message).toContain('1000 x 1000');
     // Zipped axes advance together: 1000 points.
-    expect(() => validateSpec(parseSpecText(`${BASE}[scan]\nzip = true\n` + axis('exchange.strength', 1000) + axis('levels.tunnelling', 1000), 'toml'))).not.toThrow();
+    expect(() =>
+      validateSpec(
+        parseSpecText(
+          `${BASE}[scan]\nzip = true\n` + axis('exchange.strength', 1000) + axis('levels.tunnelling', 1000),
+          'toml',
+        ),
+      ),
+    ).not.toThrow();
   });
 
   it('a grid exactly at the cap is accepted', () => {
-    expect(() => validateSpec(parseSpecText(BASE + axis('exchange.strength', MAX_SCAN_POINTS / 10) + axis('levels.tunnelling', 10), 'toml'))).not.toThrow();
+    expect(() =>
+      validateSpec(
+        parseSpecText(BASE + axis('exchange.strength', MAX_SCAN_POINTS / 10) + axis('levels.tunnelling', 10), 'toml'),
+      ),
+    ).not.toThrow();
   });
 
   it('evolve.times as { steps } records steps + 1 times, at most the cap', () => {
@@ -69,7 +80,9 @@ describe('caps on what a spec may ask for (documented in the README)', () => {
   });
 
   it('a ramp has at most the cap of pieces', () => {
-    const e = specErrorOf(`${BASE}[evolve]\ntimes = [1]\nramp = { key = "exchange.strength", from = 0, to = 1, duration = 1, steps = ${MAX_RAMP_STEPS + 1} }\n`);
+    const e = specErrorOf(
+      `${BASE}[evolve]\ntimes = [1]\nramp = { key = "exchange.strength", from = 0, to = 1, duration = 1, steps = ${MAX_RAMP_STEPS + 1} }\n`,
+    );
     expect(e.keyPath).toBe('evolve.ramp.steps');
   });
 

@@ -101,7 +101,13 @@ describe('the [units] section', () => {
   it('dipoles set V (dipolar range, rotor weights) in the chosen energy unit', () => {
     const spec = validateSpec({
       ...base,
-      units: { dipole_debye: 1, lattice_spacing_nm: 500, dipole_angle_deg: 90, energy_unit_hz: 100, rotational_constant_ghz: 2 },
+      units: {
+        dipole_debye: 1,
+        lattice_spacing_nm: 500,
+        dipole_angle_deg: 90,
+        energy_unit_hz: 100,
+        rotational_constant_ghz: 2,
+      },
     });
     expect(spec.exchange.strength).toBeCloseTo(exchangeHz(1, 500, 90) / 100, 12);
     expect(spec.exchange.range).toBe('dipolar');
@@ -109,7 +115,11 @@ describe('the [units] section', () => {
     // Rigid rotor: E_J = B J (J+1), so the J -> J+1 line is at 2B(J+1) (textbook).
     expect(labUnits(spec)!.linkFrequenciesGhz).toEqual([4, 8]);
     // Keys the spec sets itself stay.
-    const nearest = validateSpec({ ...base, exchange: { range: 'nearest' }, units: { dipole_debye: 1, lattice_spacing_nm: 500 } });
+    const nearest = validateSpec({
+      ...base,
+      exchange: { range: 'nearest' },
+      units: { dipole_debye: 1, lattice_spacing_nm: 500 },
+    });
     expect(nearest.exchange.range).toBe('nearest');
     expect(nearest.exchange.strength).toBe(1); // the default unit is |V| itself
   });
@@ -124,7 +134,9 @@ describe('the [units] section', () => {
       }
       return 'no error';
     };
-    expect(path({ ...base, exchange: { strength: 1 }, units: { dipole_debye: 1, lattice_spacing_nm: 500 } })).toBe('exchange.strength');
+    expect(path({ ...base, exchange: { strength: 1 }, units: { dipole_debye: 1, lattice_spacing_nm: 500 } })).toBe(
+      'exchange.strength',
+    );
     expect(path({ ...base, levels: { count: 3, tunnelling: 1 }, units: { rabi_khz: 1 } })).toBe('levels.tunnelling');
     expect(path({ ...base, units: { dipole_debye: 1 } })).toBe('units.lattice_spacing_nm');
     expect(path({ ...base, units: { rabi_khz: [1, 2, 3] } })).toBe('units.rabi_khz');
@@ -167,7 +179,13 @@ describe('[units] on every path', () => {
     const rows = JSON.parse(runCli(['summary', out, '--json']).stdout);
     for (const row of rows) {
       const a = row['units.lattice_spacing_nm'];
-      const direct = solvePoint(validateSpec({ chain: { sites: 4 }, levels: { count: 3 }, units: { dipole_debye: 1, lattice_spacing_nm: a, rabi_khz: 1 } }));
+      const direct = solvePoint(
+        validateSpec({
+          chain: { sites: 4 },
+          levels: { count: 3 },
+          units: { dipole_debye: 1, lattice_spacing_nm: a, rabi_khz: 1 },
+        }),
+      );
       expect(row.status).toBe('done');
       expect(row.energies[0]).toBeCloseTo(direct.record.energies[0], 9);
     }
@@ -176,7 +194,10 @@ describe('[units] on every path', () => {
   it('solve --json adds energies in Hz; the table prints them under the model units', () => {
     const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-units-'));
     const spec = path.join(dir, 'lab.toml');
-    writeFileSync(spec, '[chain]\nsites = 3\n[levels]\ncount = 2\n[units]\nrabi_khz = 4\ndipole_debye = 1\nlattice_spacing_nm = 500\n');
+    writeFileSync(
+      spec,
+      '[chain]\nsites = 3\n[levels]\ncount = 2\n[units]\nrabi_khz = 4\ndipole_debye = 1\nlattice_spacing_nm = 500\n',
+    );
     const r = runCli(['solve', spec, '--json']);
     expect(r.code).toBe(0);
     const out = JSON.parse(r.stdout);

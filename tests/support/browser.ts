@@ -15,7 +15,15 @@ export const BROWSER_ENV = 'RUNGCHAIN_BROWSER';
 // For every browser found, the bundled one too (its own serverless flags run it in one process,
 // which ends when the first page closes, and turn web security off): run as root in a container, so
 // no sandbox; no GPU; nothing reaching out (a closed network refuses background connections).
-export const BROWSER_ARGS = ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'];
+export const BROWSER_ARGS = [
+  '--no-sandbox',
+  '--disable-gpu',
+  '--disable-quic',
+  '--no-first-run',
+  '--disable-background-networking',
+  '--disable-component-update',
+  '--disable-sync',
+];
 
 export const HOW_TO_GET_ONE = `run \`npm install\` (it brings a headless Chromium on Linux x64), or install Chromium or Google Chrome (Debian: apt-get install chromium), or set ${BROWSER_ENV}=/path/to/chrome`;
 
@@ -71,7 +79,10 @@ export async function locateBrowser(options: LocateOptions = {}): Promise<Browse
   const isFile = options.isFile ?? isFileOnDisk;
   const chosen = env[BROWSER_ENV];
   if (chosen) {
-    if (!isFile(chosen)) throw new BrowserNotFoundError(`${BROWSER_ENV}=${chosen} is not a file: point it at a Chromium or Chrome executable, or unset it to use the one \`npm install\` brings`);
+    if (!isFile(chosen))
+      throw new BrowserNotFoundError(
+        `${BROWSER_ENV}=${chosen} is not a file: point it at a Chromium or Chrome executable, or unset it to use the one \`npm install\` brings`,
+      );
     return { executablePath: chosen, source: BROWSER_ENV };
   }
   const bundled = await (options.bundled ?? bundledChromium)();
@@ -85,7 +96,9 @@ export async function locateBrowser(options: LocateOptions = {}): Promise<Browse
  * The headless Chromium of @sparticuz/chromium, unpacked once per version into
  * node_modules/.cache. Null where the package is absent or ships no build for this machine.
  */
-export async function bundledChromium(cacheRoot = path.join(ROOT, 'node_modules', '.cache', 'rungchain-browser')): Promise<BrowserChoice | null> {
+export async function bundledChromium(
+  cacheRoot = path.join(ROOT, 'node_modules', '.cache', 'rungchain-browser'),
+): Promise<BrowserChoice | null> {
   if (process.platform !== 'linux' || process.arch !== 'x64') return null;
   let packageDir: string;
   let sparticuz: typeof import('@sparticuz/chromium');
@@ -97,7 +110,8 @@ export async function bundledChromium(cacheRoot = path.join(ROOT, 'node_modules'
   }
   const version = JSON.parse(readFileSync(path.join(packageDir, 'package.json'), 'utf8')).version as string;
   const dir = path.join(cacheRoot, `chromium-${version}`);
-  if (!existsSync(path.join(dir, 'complete'))) await unpackBundled(sparticuz, path.join(packageDir, 'bin'), cacheRoot, dir);
+  if (!existsSync(path.join(dir, 'complete')))
+    await unpackBundled(sparticuz, path.join(packageDir, 'bin'), cacheRoot, dir);
   return {
     executablePath: path.join(dir, 'chromium'),
     source: `@sparticuz/chromium ${version}`,
@@ -105,7 +119,12 @@ export async function bundledChromium(cacheRoot = path.join(ROOT, 'node_modules'
   };
 }
 
-async function unpackBundled(sparticuz: typeof import('@sparticuz/chromium'), binDir: string, cacheRoot: string, dir: string) {
+async function unpackBundled(
+  sparticuz: typeof import('@sparticuz/chromium'),
+  binDir: string,
+  cacheRoot: string,
+  dir: string,
+) {
   // The package unpacks into os.tmpdir(), where it would also take any `chromium` already lying
   // there (another version's, or half written by a parallel run) for its own. So it unpacks into a
   // fresh folder of ours (os.tmpdir() reads TMPDIR), moved into place whole once complete.
@@ -114,7 +133,8 @@ async function unpackBundled(sparticuz: typeof import('@sparticuz/chromium'), bi
   const saved = process.env.TMPDIR;
   process.env.TMPDIR = staging;
   try {
-    if (os.tmpdir() !== staging) throw new Error(`cannot unpack the bundled Chromium: the temporary folder stays ${os.tmpdir()}`);
+    if (os.tmpdir() !== staging)
+      throw new Error(`cannot unpack the bundled Chromium: the temporary folder stays ${os.tmpdir()}`);
     await sparticuz.default.executablePath(binDir);
     // NSS and expat for machines without them (the binary's only libraries beyond libc).
     await sparticuz.inflate(path.join(binDir, 'al2023.tar.br'));
@@ -135,7 +155,9 @@ async function unpackBundled(sparticuz: typeof import('@sparticuz/chromium'), bi
 const firstLine = (e: unknown) => String(e instanceof Error ? e.message : e).split('\n')[0];
 
 async function launch(choice: BrowserChoice, libraryPath?: string): Promise<Browser> {
-  const env = libraryPath ? { ...process.env, LD_LIBRARY_PATH: [libraryPath, process.env.LD_LIBRARY_PATH].filter(Boolean).join(':') } : undefined;
+  const env = libraryPath
+    ? { ...process.env, LD_LIBRARY_PATH: [libraryPath, process.env.LD_LIBRARY_PATH].filter(Boolean).join(':') }
+    : undefined;
   return chromium.launch({ executablePath: choice.executablePath, args: BROWSER_ARGS, headless: true, env });
 }
 
@@ -168,5 +190,7 @@ export async function launchBrowser(options: LocateOptions = {}): Promise<{ brow
       }
     }
   }
-  throw new BrowserNotFoundError(`The browser from ${choice.source} (${choice.executablePath}) did not start: ${firstLine(failure)}${systemFailure}; ${HOW_TO_GET_ONE}`);
+  throw new BrowserNotFoundError(
+    `The browser from ${choice.source} (${choice.executablePath}) did not start: ${firstLine(failure)}${systemFailure}; ${HOW_TO_GET_ONE}`,
+  );
 }

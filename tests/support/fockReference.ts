@@ -166,12 +166,15 @@ export function denseFockHamiltonian(spec: Spec): FockReference {
       diag += (spec.particles.onsite / 2) * count * (count - 1);
     }
     for (let i = 0; i < L; i++)
-      for (let j = i + 1; j < L; j++) diag += spec.ising.strength * pairFactor(i, j, L, periodic, spec.ising.range, spec.ising.cutoff) * mi[i] * mi[j];
+      for (let j = i + 1; j < L; j++)
+        diag +=
+          spec.ising.strength * pairFactor(i, j, L, periodic, spec.ising.range, spec.ising.cutoff) * mi[i] * mi[j];
     re.set(s, s, re.get(s, s) + diag);
     // synthetic tunnelling: sum_{a != b} h_ab a+_{i,a} a_{i,b}
     for (let i = 0; i < L; i++)
       for (let a = 0; a < N; a++)
-        for (let b = 0; b < N; b++) if (a !== b && (hRe[a][b] !== 0 || hIm[a][b] !== 0)) add([cr(i, a), an(i, b)], hRe[a][b], hIm[a][b]);
+        for (let b = 0; b < N; b++)
+          if (a !== b && (hRe[a][b] !== 0 || hIm[a][b] !== 0)) add([cr(i, a), an(i, b)], hRe[a][b], hIm[a][b]);
     // exchange: V_ij c_n (a+_{i,n+1} a_{i,n} a+_{j,n} a_{j,n+1} + h.c.)
     for (let i = 0; i < L; i++)
       for (let j = i + 1; j < L; j++) {

@@ -11,12 +11,18 @@ export function ofKind<T extends { kind: string }, K extends T['kind']>(value: T
 function isCut(x: unknown): x is CutEntanglement {
   if (typeof x !== 'object' || x === null) return false;
   const c = x as Record<string, unknown>;
-  return typeof c.cut === 'number' && typeof c.von_neumann === 'number' && typeof c.renyi_2 === 'number' && Array.isArray(c.spectrum);
+  return (
+    typeof c.cut === 'number' &&
+    typeof c.von_neumann === 'number' &&
+    typeof c.renyi_2 === 'number' &&
+    Array.isArray(c.spectrum)
+  );
 }
 
 /** The entanglement list of a record's observables (an open-ended map in the record type). */
 export function entanglementOf(observables: Record<string, unknown>): CutEntanglement[] {
   const list = observables.entanglement;
-  if (!Array.isArray(list) || !list.every(isCut)) throw new Error(`expected a list of cut entanglements, got ${JSON.stringify(list)}`);
+  if (!Array.isArray(list) || !list.every(isCut))
+    throw new Error(`expected a list of cut entanglements, got ${JSON.stringify(list)}`);
   return list;
 }

@@ -40,7 +40,13 @@ export interface DenseModel {
   real: boolean;
 }
 
-function coupling(i: number, j: number, m: ModelDescription, range: 'nearest' | 'dipolar', cutoff: number | null): number {
+function coupling(
+  i: number,
+  j: number,
+  m: ModelDescription,
+  range: 'nearest' | 'dipolar',
+  cutoff: number | null,
+): number {
   const d = Math.abs(i - j);
   const r = m.periodic ? Math.min(d, m.sites - d) : d;
   if (range === 'nearest') return r === 1 ? 1 : 0;
@@ -76,7 +82,11 @@ function enumerate(m: ModelDescription): Int32Array[] {
 }
 
 /** Applies a product of ladder operators (written left to right, acting right to left). */
-function applyProduct(m: ModelDescription, occ: Int32Array, ops: [number, boolean][]): { coef: number; occ: Int32Array } | null {
+function applyProduct(
+  m: ModelDescription,
+  occ: Int32Array,
+  ops: [number, boolean][],
+): { coef: number; occ: Int32Array } | null {
   const o = occ.slice();
   let coef = 1;
   for (let k = ops.length - 1; k >= 0; k--) {
@@ -122,7 +132,14 @@ export function buildDense(m: ModelDescription): DenseModel {
     for (let l = 0; l < links; l++) {
       const c = -m.tunnelling[l];
       if (c === 0) continue;
-      terms.push([c * Math.cos(m.phase[l]), c * Math.sin(m.phase[l]), [[mode(i, (l + 1) % N), true], [mode(i, l), false]]]);
+      terms.push([
+        c * Math.cos(m.phase[l]),
+        c * Math.sin(m.phase[l]),
+        [
+          [mode(i, (l + 1) % N), true],
+          [mode(i, l), false],
+        ],
+      ]);
     }
   }
   for (let i = 0; i < L; i++) {
@@ -132,7 +149,16 @@ export function buildDense(m: ModelDescription): DenseModel {
       for (let n = 0; n <= N - 2; n++) {
         const c = v * m.weights[n];
         if (c === 0) continue;
-        terms.push([c, 0, [[mode(i, n + 1), true], [mode(i, n), false], [mode(j, n), true], [mode(j, n + 1), false]]]);
+        terms.push([
+          c,
+          0,
+          [
+            [mode(i, n + 1), true],
+            [mode(i, n), false],
+            [mode(j, n), true],
+            [mode(j, n + 1), false],
+          ],
+        ]);
       }
     }
   }
@@ -140,7 +166,16 @@ export function buildDense(m: ModelDescription): DenseModel {
     const bonds: [number, number][] = [];
     for (let i = 0; i + 1 < L; i++) bonds.push([i, i + 1]);
     if (m.periodic) bonds.push([L - 1, 0]);
-    for (const [i, j] of bonds) for (let n = 0; n < N; n++) terms.push([-m.hopping, 0, [[mode(i, n), true], [mode(j, n), false]]]);
+    for (const [i, j] of bonds)
+      for (let n = 0; n < N; n++)
+        terms.push([
+          -m.hopping,
+          0,
+          [
+            [mode(i, n), true],
+            [mode(j, n), false],
+          ],
+        ]);
   }
   for (let s = 0; s < dim; s++) {
     const occ = configs[s];
@@ -155,7 +190,9 @@ export function buildDense(m: ModelDescription): DenseModel {
         moment[i] += m.moments[n] * k;
       }
     }
-    for (let i = 0; i < L; i++) for (let j = i + 1; j < L; j++) diag += m.ising * coupling(i, j, m, m.isingRange, m.isingCutoff) * moment[i] * moment[j];
+    for (let i = 0; i < L; i++)
+      for (let j = i + 1; j < L; j++)
+        diag += m.ising * coupling(i, j, m, m.isingRange, m.isingCutoff) * moment[i] * moment[j];
     if (m.kind === 'boson') for (let i = 0; i < L; i++) diag += (m.onsite / 2) * count[i] * (count[i] - 1);
     re[s * dim + s] += diag;
     for (const [cr, ci, ops] of terms) {
@@ -171,7 +208,11 @@ export function buildDense(m: ModelDescription): DenseModel {
     }
   }
   let real = true;
-  for (let k = 0; k < dim * dim; k++) if (Math.abs(im[k]) > 1e-15) { real = false; break; }
+  for (let k = 0; k < dim * dim; k++)
+    if (Math.abs(im[k]) > 1e-15) {
+      real = false;
+      break;
+    }
   return { dim, configs, re, im, real };
 }
 
@@ -230,7 +271,14 @@ export function groundMixture(h: DenseModel, tolerance: number): GroundMixture {
       }
     }
   }
-  return { values, degeneracy, projectorRe: A, projectorIm: B, embeddedValues: evd.realEigenvalues, embeddedVectors: V };
+  return {
+    values,
+    degeneracy,
+    projectorRe: A,
+    projectorIm: B,
+    embeddedValues: evd.realEigenvalues,
+    embeddedVectors: V,
+  };
 }
 
 export interface ReferenceObservables {
@@ -244,7 +292,11 @@ export interface ReferenceObservables {
 }
 
 /** The diagonal observables of docs/model.md from basis-state probabilities p (sum 1). */
-export function observablesFrom(m: ModelDescription, configs: Int32Array[], p: ArrayLike<number>): ReferenceObservables {
+export function observablesFrom(
+  m: ModelDescription,
+  configs: Int32Array[],
+  p: ArrayLike<number>,
+): ReferenceObservables {
   const L = m.sites;
   const N = m.levels;
   const pop = Array.from({ length: L }, () => new Array<number>(N).fill(0));
@@ -277,7 +329,8 @@ export function observablesFrom(m: ModelDescription, configs: Int32Array[], p: A
         if (i === j) continue;
         pairCount[i][j] += w * count[i] * count[j];
         let sq = 0;
-        for (let a = 0; a < N; a++) for (let b = 0; b < N; b++) sq += (a - b) * (a - b) * occ[i * N + a] * occ[j * N + b];
+        for (let a = 0; a < N; a++)
+          for (let b = 0; b < N; b++) sq += (a - b) * (a - b) * occ[i * N + a] * occ[j * N + b];
         pairSq[i][j] += w * sq;
       }
     }
@@ -286,8 +339,18 @@ export function observablesFrom(m: ModelDescription, configs: Int32Array[], p: A
   });
   const level_mean = s1.map((x, i) => (density[i] < 1e-12 ? 0 : x / density[i]));
   const spread = s2.map((x, i) => (density[i] < 1e-12 ? 0 : x / density[i] - level_mean[i] * level_mean[i]));
-  const pair_separation = pairSq.map((row, i) => row.map((x, j) => (i === j || pairCount[i][j] < 1e-12 ? 0 : x / pairCount[i][j])));
-  return { populations: pop, level_mean, spread, string_width: width, pair_separation, density, double_occupancy: doubles };
+  const pair_separation = pairSq.map((row, i) =>
+    row.map((x, j) => (i === j || pairCount[i][j] < 1e-12 ? 0 : x / pairCount[i][j])),
+  );
+  return {
+    populations: pop,
+    level_mean,
+    spread,
+    string_width: width,
+    pair_separation,
+    density,
+    double_occupancy: doubles,
+  };
 }
 
 export interface ReferenceCut {
@@ -349,7 +412,10 @@ export function leftEntanglement(m: ModelDescription, h: DenseModel, g: GroundMi
     if (q > 0) vn -= q * Math.log(q);
     purity += q * q;
   }
-  const spectrum = weights.filter((w) => w > 1e-13).slice(0, 8).map((w) => -Math.log(w));
+  const spectrum = weights
+    .filter((w) => w > 1e-13)
+    .slice(0, 8)
+    .map((w) => -Math.log(w));
   return { cut, von_neumann: vn, renyi_2: -Math.log(purity), spectrum };
 }
 
@@ -358,7 +424,13 @@ export function leftEntanglement(m: ModelDescription, h: DenseModel, g: GroundMi
  * embedding [[R, -I], [I, R]], which commutes with multiplication by i, J = [[0, -1], [1, 0]]):
  * exp(-i H t) = cos(H t) - i sin(H t).
  */
-export function evolveDense(h: DenseModel, g: GroundMixture, re: Float64Array, im: Float64Array, t: number): { re: Float64Array; im: Float64Array } {
+export function evolveDense(
+  h: DenseModel,
+  g: GroundMixture,
+  re: Float64Array,
+  im: Float64Array,
+  t: number,
+): { re: Float64Array; im: Float64Array } {
   const D = h.dim;
   const size = h.real ? D : 2 * D;
   const V = g.embeddedVectors;

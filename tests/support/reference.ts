@@ -122,7 +122,12 @@ export function realEmbedding(h: DenseHermitian): Matrix {
 export function denseSpectrum(h: DenseHermitian): number[] {
   // A real H needs no embedding (and the embedding costs eight times the time).
   let real = true;
-  for (let r = 0; r < h.dim && real; r++) for (let c = 0; c < h.dim; c++) if (h.im.get(r, c) !== 0) { real = false; break; }
+  for (let r = 0; r < h.dim && real; r++)
+    for (let c = 0; c < h.dim; c++)
+      if (h.im.get(r, c) !== 0) {
+        real = false;
+        break;
+      }
   if (real) return new EigenvalueDecomposition(h.re, { assumeSymmetric: true }).realEigenvalues.sort((a, b) => a - b);
   const big = realEmbedding(h);
   const values = new EigenvalueDecomposition(big, { assumeSymmetric: true }).realEigenvalues.sort((a, b) => a - b);

@@ -10,7 +10,11 @@ export const GENERATED_PATH = new URL('../../src/simd/vectorWasm.ts', import.met
 /** @returns {Promise<string>} the module's bytes in base64 */
 export async function compiledVectorKernels() {
   const wabt = await wabtInit();
-  const parsed = wabt.parseWat('vector.wat', fs.readFileSync(WAT_PATH, 'utf8'), { simd: true, threads: true, bulk_memory: true });
+  const parsed = wabt.parseWat('vector.wat', fs.readFileSync(WAT_PATH, 'utf8'), {
+    simd: true,
+    threads: true,
+    bulk_memory: true,
+  });
   const { buffer } = parsed.toBinary({});
   parsed.destroy();
   return Buffer.from(buffer).toString('base64');

@@ -51,7 +51,13 @@ describe('symmetry detection', () => {
   });
 
   it('finds the conserved total level without tunnelling, and the level flip of mirror-symmetric couplings', () => {
-    const a = usedFrom(validateSpec({ chain: { sites: 4, boundary: 'periodic' }, levels: { count: 3, tunnelling: 0 }, exchange: { strength: 1, weights: 'rotor' } }));
+    const a = usedFrom(
+      validateSpec({
+        chain: { sites: 4, boundary: 'periodic' },
+        levels: { count: 3, tunnelling: 0 },
+        exchange: { strength: 1, weights: 'rotor' },
+      }),
+    );
     expect(a.used.charge).toBe(true);
     expect(a.used.translation).toBe(true);
     const b = usedFrom(validateSpec(clean(flipSymmetricSpec(5, 4, 4))));
@@ -81,10 +87,17 @@ describe('sector spectra against the full dense spectrum', () => {
   const cases: [string, () => Record<string, any>][] = [
     ['random complex, periodic L=5 N=3 (translation, reflection)', () => randomPinnedSpec(41, 5, 3)],
     ['random, periodic L=6 N=2', () => ({ ...randomPinnedSpec(42, 6, 2), chain: { sites: 6, boundary: 'periodic' } })],
-    ['random, open L=5 N=3 (reflection)', () => ({ ...randomPinnedSpec(43, 5, 3), chain: { sites: 5, boundary: 'open' } })],
+    [
+      'random, open L=5 N=3 (reflection)',
+      () => ({ ...randomPinnedSpec(43, 5, 3), chain: { sites: 5, boundary: 'open' } }),
+    ],
     [
       'no tunnelling, periodic L=6 N=3 (charge, translation, reflection)',
-      () => ({ ...randomPinnedSpec(44, 6, 3), levels: { count: 3, tunnelling: 0, detuning: [0.1, -0.3, 0.4] }, chain: { sites: 6, boundary: 'periodic' } }),
+      () => ({
+        ...randomPinnedSpec(44, 6, 3),
+        levels: { count: 3, tunnelling: 0, detuning: [0.1, -0.3, 0.4] },
+        chain: { sites: 6, boundary: 'periodic' },
+      }),
     ],
     ['mirror-symmetric levels, periodic L=4 N=4 (level flip)', () => flipSymmetricSpec(45, 4, 4)],
     ['mirror-symmetric levels, periodic L=5 N=3', () => flipSymmetricSpec(46, 5, 3)],
@@ -110,22 +123,25 @@ describe('sectors solved on two threads at once', () => {
     ['random complex, periodic L=7 N=3', () => randomPinnedSpec(63, 7, 3)],
     ['mirror-symmetric levels, periodic L=7 N=3', () => ({ ...flipSymmetricSpec(64, 7, 3), solve: {} })],
   ];
-  it.each(cases)('%s: same energies, labels and ground-state probabilities as one thread, every sector run once', (_, make) => {
-    const spec = validateSpec(clean(make()));
-    const { model, basis, used } = usedFrom(spec);
-    const options = { states: 4, tolerance: 1e-10 };
-    const one = solveInSectors(model, basis, used, { ...options, sectorThreads: 1 });
-    const two = solveInSectors(model, basis, used, { ...options, sectorThreads: 2 });
-    two.energies.forEach((e, k) => expect(e).toBeCloseTo(one.energies[k], 9));
-    expect(two.degeneracy).toBe(one.degeneracy);
-    // Labels of non-degenerate levels must agree; within a degenerate level the order may differ.
-    const key = (l: object) => JSON.stringify(l);
-    expect(two.labels.map(key).sort()).toEqual(one.labels.map(key).sort());
-    expect(two.runs.map((r) => key(r.label))).toEqual(one.runs.map((r) => key(r.label)));
-    let worst = 0;
-    two.groundProbabilities.forEach((p, t) => (worst = Math.max(worst, Math.abs(p - one.groundProbabilities[t]))));
-    expect(worst).toBeLessThan(1e-8);
-  });
+  it.each(cases)(
+    '%s: same energies, labels and ground-state probabilities as one thread, every sector run once',
+    (_, make) => {
+      const spec = validateSpec(clean(make()));
+      const { model, basis, used } = usedFrom(spec);
+      const options = { states: 4, tolerance: 1e-10 };
+      const one = solveInSectors(model, basis, used, { ...options, sectorThreads: 1 });
+      const two = solveInSectors(model, basis, used, { ...options, sectorThreads: 2 });
+      two.energies.forEach((e, k) => expect(e).toBeCloseTo(one.energies[k], 9));
+      expect(two.degeneracy).toBe(one.degeneracy);
+      // Labels of non-degenerate levels must agree; within a degenerate level the order may differ.
+      const key = (l: object) => JSON.stringify(l);
+      expect(two.labels.map(key).sort()).toEqual(one.labels.map(key).sort());
+      expect(two.runs.map((r) => key(r.label))).toEqual(one.runs.map((r) => key(r.label)));
+      let worst = 0;
+      two.groundProbabilities.forEach((p, t) => (worst = Math.max(worst, Math.abs(p - one.groundProbabilities[t]))));
+      expect(worst).toBeLessThan(1e-8);
+    },
+  );
 });
 
 describe('large sectors built by two threads', () => {
@@ -148,7 +164,11 @@ describe('states found one at a time within a sector', () => {
   // the full-space one (the full-space solve is checked against ml-matrix's dense eigensolver in
   // tests/point/solvePoint.test.ts), with residuals measured against H itself.
   it.each([71, 72, 73])('random periodic L=9 N=3, seed %i: the 5 lowest states equal the full-space solve', (seed) => {
-    const raw = clean({ ...randomPinnedSpec(seed, 9, 3), chain: { sites: 9, boundary: 'periodic' }, solve: { states: 5, tolerance: 1e-10, entanglement: 'none' } });
+    const raw = clean({
+      ...randomPinnedSpec(seed, 9, 3),
+      chain: { sites: 9, boundary: 'periodic' },
+      solve: { states: 5, tolerance: 1e-10, entanglement: 'none' },
+    });
     const inSectors = solvePoint(validateSpec(raw)).record;
     const full = solvePoint(validateSpec({ ...raw, solve: { ...raw.solve, symmetries: 'none' } })).record;
     inSectors.energies.forEach((e, k) => expect(e).toBeCloseTo(full.energies[k], 9));
@@ -164,7 +184,11 @@ describe('degenerate levels found one at a time within a sector', () => {
   // states need three copies from one or two sectors, found one after another with deflation.
   it('nine free two-level sites: -9t, then -7t three times', () => {
     const t = 1.25;
-    const raw = { chain: { sites: 9 }, levels: { count: 2, tunnelling: t }, solve: { states: 4, tolerance: 1e-10, entanglement: 'none' } };
+    const raw = {
+      chain: { sites: 9 },
+      levels: { count: 2, tunnelling: t },
+      solve: { states: 4, tolerance: 1e-10, entanglement: 'none' },
+    };
     const r = solvePoint(validateSpec(raw)).record;
     expect(r.solver.symmetries).toEqual(expect.arrayContaining(['reflection', 'level_flip']));
     expect(r.energies).toHaveLength(4);
@@ -177,7 +201,8 @@ describe('degenerate levels found one at a time within a sector', () => {
 // missed a copy of a degenerate level, both when Lanczos met a level just above the line before
 // one just below it. Reference: the dense spectrum (ml-matrix) of the plain dense build.
 describe('screens and verification against the dense spectrum', () => {
-  const lowestDense = (raw: Record<string, any>, count: number) => denseSpectrum(densePinnedHamiltonian(validateSpec(raw))).slice(0, count);
+  const lowestDense = (raw: Record<string, any>, count: number) =>
+    denseSpectrum(densePinnedHamiltonian(validateSpec(raw))).slice(0, count);
   it('a ring of levels with a weak dipolar exchange: the parity -1 sector is not screened out above its lowest state', () => {
     const raw = {
       chain: { sites: 6 },
@@ -193,7 +218,13 @@ describe('screens and verification against the dense spectrum', () => {
   it('three sites of six levels in the full space: the verification pass finds the second copy of the ground level', () => {
     const raw = {
       chain: { sites: 3, boundary: 'periodic' },
-      levels: { count: 6, boundary: 'ring', tunnelling: [2, 1, 0, 0, 1, 2], phase: Math.PI, detuning: [0.5, 2, -1, -1, 2, 0.5] },
+      levels: {
+        count: 6,
+        boundary: 'ring',
+        tunnelling: [2, 1, 0, 0, 1, 2],
+        phase: Math.PI,
+        detuning: [0.5, 2, -1, -1, 2, 0.5],
+      },
       exchange: { strength: 2, weights: [2, 0.5, 0.5, 0, 2] },
       solve: { states: 3, tolerance: 1e-10, symmetries: 'none', entanglement: 'none' },
     };
@@ -211,13 +242,19 @@ describe('sector solves through solvePoint', () => {
   // plain dense build (tests/point/solvePoint.test.ts); a symmetry-adapted basis must not change physics
   // (common practice).
   it('observables and energies agree with the full-space solve', () => {
-    const raw = clean({ ...randomPinnedSpec(51, 7, 3), chain: { sites: 7, boundary: 'periodic' }, solve: { states: 3, tolerance: 1e-10 } });
+    const raw = clean({
+      ...randomPinnedSpec(51, 7, 3),
+      chain: { sites: 7, boundary: 'periodic' },
+      solve: { states: 3, tolerance: 1e-10 },
+    });
     const inSectors = solvePoint(validateSpec(raw)).record;
     const full = solvePoint(validateSpec({ ...raw, solve: { ...raw.solve, symmetries: 'none' } })).record;
     expect(inSectors.sectors).toHaveLength(3);
     inSectors.energies.forEach((e, k) => expect(e).toBeCloseTo(full.energies[k], 9));
     if (full.solver.degeneracy === inSectors.solver.degeneracy) {
-      inSectors.observables.populations.forEach((row, i) => row.forEach((p, n) => expect(p).toBeCloseTo(full.observables.populations[i][n], 7)));
+      inSectors.observables.populations.forEach((row, i) =>
+        row.forEach((p, n) => expect(p).toBeCloseTo(full.observables.populations[i][n], 7)),
+      );
       expect(inSectors.observables.string_width).toBeCloseTo(full.observables.string_width, 7);
       inSectors.observables.pair_separation.forEach((row, i) =>
         row.forEach((p, j) => expect(p).toBeCloseTo(full.observables.pair_separation[i][j], 7)),
@@ -246,7 +283,11 @@ describe('sector solves through solvePoint', () => {
   });
 
   it('a warm start from the full-space ground state is projected into the sectors', () => {
-    const raw = clean({ ...randomPinnedSpec(52, 8, 3), chain: { sites: 8, boundary: 'periodic' }, solve: { states: 1, tolerance: 1e-10 } });
+    const raw = clean({
+      ...randomPinnedSpec(52, 8, 3),
+      chain: { sites: 8, boundary: 'periodic' },
+      solve: { states: 1, tolerance: 1e-10 },
+    });
     const cold = solvePoint(validateSpec(raw));
     const warm = solvePoint(validateSpec(raw), { initial: cold.groundStates[0] });
     expect(warm.record.energies[0]).toBeCloseTo(cold.record.energies[0], 10);
@@ -260,20 +301,31 @@ describe('sector solves through solvePoint', () => {
 // small-ring tables (from memory, as in tests/point/solvePoint.test.ts).
 describe('Heisenberg rings in sectors', () => {
   // L = 16: E0/L = -0.4463935, also from memory.
-  const table: Record<number, number> = { 4: -2, 6: -2.8027756, 8: -3.6510934, 10: -4.5154463, 12: -5.3873909, 16: -7.1422963 };
-  it.each([4, 6, 8, 10, 12, 14, 16, 18, 20])('L = %i: ground-state momentum from Marshall sign rule', (L) => {
-    const r = solvePoint(
-      validateSpec({
-        chain: { sites: L, boundary: 'periodic' },
-        levels: { count: 2, tunnelling: 0 },
-        exchange: { strength: 0.5 },
-        ising: { strength: 1, moments: [-0.5, 0.5] },
-        solve: { states: 1, tolerance: 1e-9, entanglement: 'none' },
-      }),
-    ).record;
-    const ground = r.sectors![0];
-    expect(ground.momentum).toBe((L / 2) % 2 === 0 ? 0 : L / 2);
-    expect(ground.charge).toBe(L / 2); // S^z_total = 0: half the molecules in the upper level
-    if (table[L] !== undefined) expect(r.energies[0]).toBeCloseTo(table[L], 6);
-  }, 300_000);
+  const table: Record<number, number> = {
+    4: -2,
+    6: -2.8027756,
+    8: -3.6510934,
+    10: -4.5154463,
+    12: -5.3873909,
+    16: -7.1422963,
+  };
+  it.each([4, 6, 8, 10, 12, 14, 16, 18, 20])(
+    'L = %i: ground-state momentum from Marshall sign rule',
+    (L) => {
+      const r = solvePoint(
+        validateSpec({
+          chain: { sites: L, boundary: 'periodic' },
+          levels: { count: 2, tunnelling: 0 },
+          exchange: { strength: 0.5 },
+          ising: { strength: 1, moments: [-0.5, 0.5] },
+          solve: { states: 1, tolerance: 1e-9, entanglement: 'none' },
+        }),
+      ).record;
+      const ground = r.sectors![0];
+      expect(ground.momentum).toBe((L / 2) % 2 === 0 ? 0 : L / 2);
+      expect(ground.charge).toBe(L / 2); // S^z_total = 0: half the molecules in the upper level
+      if (table[L] !== undefined) expect(r.energies[0]).toBeCloseTo(table[L], 6);
+    },
+    300_000,
+  );
 });

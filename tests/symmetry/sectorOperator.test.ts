@@ -11,8 +11,18 @@ import { clean, randomPinnedSpec } from '../support/random.js';
 // in a single pass, entry for entry (a property of the build; no outside source needed).
 describe('sector matrix built in two parts', () => {
   it.each([
-    [0, 'k = 0, parity +1', { momentum: 0, parity: 1 as const, level_flip: null, charge: null }, { translation: true, reflection: true, levelFlip: false }],
-    [1, 'k = 2 pi / 7 (complex)', { momentum: 1, parity: null, level_flip: null, charge: null }, { translation: true, reflection: false, levelFlip: false }],
+    [
+      0,
+      'k = 0, parity +1',
+      { momentum: 0, parity: 1 as const, level_flip: null, charge: null },
+      { translation: true, reflection: true, levelFlip: false },
+    ],
+    [
+      1,
+      'k = 2 pi / 7 (complex)',
+      { momentum: 1, parity: null, level_flip: null, charge: null },
+      { translation: true, reflection: false, levelFlip: false },
+    ],
   ])('%i: %s', (_, __, label, group) => {
     const spec = validateSpec(clean({ ...randomPinnedSpec(91, 7, 3), chain: { sites: 7, boundary: 'periodic' } }));
     const model = buildModel(spec);
@@ -32,6 +42,8 @@ describe('sector matrix built in two parts', () => {
     expect(Array.from(split.rowStart)).toEqual(Array.from(whole.rowStart));
     expect(Array.from(split.columns)).toEqual(Array.from(whole.columns));
     expect(Array.from(split.valuesRe)).toEqual(Array.from(whole.valuesRe));
-    expect(split.valuesIm === null ? null : Array.from(split.valuesIm)).toEqual(whole.valuesIm === null ? null : Array.from(whole.valuesIm));
+    expect(split.valuesIm === null ? null : Array.from(split.valuesIm)).toEqual(
+      whole.valuesIm === null ? null : Array.from(whole.valuesIm),
+    );
   });
 });

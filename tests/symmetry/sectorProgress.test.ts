@@ -15,7 +15,10 @@ describe('progress of a sector-by-sector solve', () => {
       solve: { states: 2 },
     });
     const seen: SectorProgress[] = [];
-    const { record } = solvePoint(spec, { groundStates: false, onProgress: (info) => info.sector && seen.push(info.sector) });
+    const { record } = solvePoint(spec, {
+      groundStates: false,
+      onProgress: (info) => info.sector && seen.push(info.sector),
+    });
     const runs = record.solver.sector_runs!;
     expect(runs.length).toBeGreaterThan(1);
     expect(seen.length).toBeGreaterThan(0);

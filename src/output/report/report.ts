@@ -47,7 +47,16 @@ export const MAX_TABLE_ROWS = 200;
 const DERIVED_NAMES = new Set(['renyi_2', 'spread']);
 
 /** Line colours (see the header): navy, amber, wine, green, violet, lavender, brown, mauve. */
-export const PALETTE = ['#1d367e', '#e99a00', '#94134c', '#00be72', '#7703cc', '#8a88f1', '#694300', '#bb8eb7'] as const;
+export const PALETTE = [
+  '#1d367e',
+  '#e99a00',
+  '#94134c',
+  '#00be72',
+  '#7703cc',
+  '#8a88f1',
+  '#694300',
+  '#bb8eb7',
+] as const;
 const DASHES = ['', '7 3', '2 3', '9 3 2 3', '4 4', '1 2', '12 4', '6 2 2 2 2 2'];
 const MARKERS = ['circle', 'square', 'triangle', 'diamond', 'down', 'cross', 'plus', 'star'] as const;
 /** Anchors of the sequential map, lightness L* = 11.5, 34.1, 53.2, 72.3, 93.0: indigo, blue, teal, green, cream. */
@@ -80,7 +89,16 @@ export function hexToRgb(hex: string): [number, number, number] {
 }
 
 function rgbToHex(rgb: number[]): string {
-  return '#' + rgb.map((c) => Math.round(Math.min(1, Math.max(0, c)) * 255).toString(16).padStart(2, '0')).join('');
+  return (
+    '#' +
+    rgb
+      .map((c) =>
+        Math.round(Math.min(1, Math.max(0, c)) * 255)
+          .toString(16)
+          .padStart(2, '0'),
+      )
+      .join('')
+  );
 }
 
 /** CIELAB of a linear-light RGB triple (sRGB primaries, D65 white). */
@@ -139,13 +157,18 @@ function num(x: number): string {
 function tickText(x: number, step: number): string {
   if (x === 0) return '0';
   const abs = Math.abs(x);
-  if (abs >= 1e5 || abs < 1e-3) return x.toExponential(Math.max(0, Math.min(3, -Math.floor(Math.log10(step)) + Math.floor(Math.log10(abs)))));
+  if (abs >= 1e5 || abs < 1e-3)
+    return x.toExponential(Math.max(0, Math.min(3, -Math.floor(Math.log10(step)) + Math.floor(Math.log10(abs)))));
   const decimals = Math.max(0, Math.min(8, -Math.floor(Math.log10(step) + 1e-9)));
   return x.toFixed(decimals);
 }
 
 /** About `count` round tick values covering [lo, hi] (steps of 1, 2 or 5 times a power of ten; common practice). */
-export function niceTicks(lo: number, hi: number, count = 5): { ticks: number[]; step: number; lo: number; hi: number } {
+export function niceTicks(
+  lo: number,
+  hi: number,
+  count = 5,
+): { ticks: number[]; step: number; lo: number; hi: number } {
   if (!(hi > lo)) {
     const pad = lo === 0 ? 1 : Math.abs(lo) * 0.1;
     lo -= pad;
@@ -175,7 +198,11 @@ export function decimate(x: number[], y: number[], maxPoints = MAX_POINTS): { x:
       if (y[k] < y[lo]) lo = k;
       if (y[k] > y[hi]) hi = k;
     }
-    keep.add(start).add(lo).add(hi).add(end - 1);
+    keep
+      .add(start)
+      .add(lo)
+      .add(hi)
+      .add(end - 1);
   }
   const order = [...keep].sort((a, b) => a - b);
   return { x: order.map((k) => x[k]), y: order.map((k) => y[k]) };
@@ -268,7 +295,8 @@ function showParams(params: ScanParams, units: Units): string {
   const parts = Object.entries(params).map(([k, v]) => {
     const info = keyInfo(k);
     const scaled = typeof v === 'number' && info.kind === 'energy' ? v * units.energyScale : v;
-    const value = typeof scaled === 'number' ? fmt(scaled, 5) : Array.isArray(scaled) ? `[${scaled.join(', ')}]` : String(scaled);
+    const value =
+      typeof scaled === 'number' ? fmt(scaled, 5) : Array.isArray(scaled) ? `[${scaled.join(', ')}]` : String(scaled);
     return `${info.kind === 'other' ? k : info.symbol} = ${value}${info.kind === 'energy' && units.lab ? ' h·kHz' : info.unit ? ` ${info.unit}` : ''}`;
   });
   return parts.length > 0 ? parts.join(', ') : 'all points';
@@ -286,7 +314,13 @@ function observableInfo(name: string): ObservableInfo {
   const energyUnit = (u: Units) => u.energy;
   const fixed = (unit: string) => () => unit;
   const energy = /^E(\d+)$/.exec(name);
-  if (energy) return { title: `E${subscript(energy[1])}, energy of state ${energy[1]}`, short: `E${subscript(energy[1])}`, unit: energyUnit, energy: true };
+  if (energy)
+    return {
+      title: `E${subscript(energy[1])}, energy of state ${energy[1]}`,
+      short: `E${subscript(energy[1])}`,
+      unit: energyUnit,
+      energy: true,
+    };
   switch (name) {
     case 'E0/L':
       return { title: 'E₀/L, ground energy per site', short: 'E₀/L', unit: energyUnit, energy: true };
@@ -295,13 +329,23 @@ function observableInfo(name: string): ObservableInfo {
     case 'string_width':
       return { title: 'string width', short: 'string width', unit: fixed('levels²'), energy: false };
     case 'entropy':
-      return { title: 'half-chain entanglement entropy (von Neumann)', short: 'S, half chain', unit: fixed('nats'), energy: false };
+      return {
+        title: 'half-chain entanglement entropy (von Neumann)',
+        short: 'S, half chain',
+        unit: fixed('nats'),
+        energy: false,
+      };
     case 'renyi_2':
       return { title: 'half-chain Rényi-2 entropy', short: 'S₂, half chain', unit: fixed('nats'), energy: false };
     case 'level_mean':
       return { title: 'mean level ⟨n⟩, averaged over sites', short: '⟨n⟩', unit: fixed('levels'), energy: false };
     case 'spread':
-      return { title: 'level spread ⟨n²⟩ − ⟨n⟩², averaged over sites', short: '⟨n²⟩ − ⟨n⟩²', unit: fixed('levels²'), energy: false };
+      return {
+        title: 'level spread ⟨n²⟩ − ⟨n⟩², averaged over sites',
+        short: '⟨n²⟩ − ⟨n⟩²',
+        unit: fixed('levels²'),
+        energy: false,
+      };
   }
   const words = name.replace(/_/g, ' ');
   return { title: words, short: words, unit: fixed(''), energy: false };
@@ -375,12 +419,19 @@ function markerPath(shape: (typeof MARKERS)[number], x: number, y: number, r: nu
 function styleOf(slot: number): { colour: string; dash: string; marker: (typeof MARKERS)[number]; filled: boolean } {
   const k = ((slot % PALETTE.length) + PALETTE.length) % PALETTE.length;
   const marker = MARKERS[k];
-  return { colour: PALETTE[k], dash: DASHES[k], marker, filled: marker !== 'cross' && marker !== 'plus' && marker !== 'star' };
+  return {
+    colour: PALETTE[k],
+    dash: DASHES[k],
+    marker,
+    filled: marker !== 'cross' && marker !== 'plus' && marker !== 'star',
+  };
 }
 
 function legendSwatch(slot: number, pointsOnly = false): string {
   const s = styleOf(slot);
-  const line = pointsOnly ? '' : `<line x1="2" y1="6" x2="30" y2="6" stroke="${s.colour}" stroke-width="2"${s.dash ? ` stroke-dasharray="${s.dash}"` : ''}/>`;
+  const line = pointsOnly
+    ? ''
+    : `<line x1="2" y1="6" x2="30" y2="6" stroke="${s.colour}" stroke-width="2"${s.dash ? ` stroke-dasharray="${s.dash}"` : ''}/>`;
   return `<svg class="swatch" width="32" height="12" aria-hidden="true">${line}<path d="${markerPath(s.marker, 16, 6, 3.5)}" fill="${s.filled ? s.colour : 'none'}" stroke="${s.colour}" stroke-width="1.4"/></svg>`;
 }
 
@@ -402,12 +453,14 @@ export function renderLinePlot(plot: LinePlot): string {
   const thinned = drawn.filter((s) => s.x.length < s.total);
   if (thinned.length > 0) {
     const most = Math.max(...thinned.map((s) => s.total));
-    notes.push(`${thinned.length === drawn.length ? 'every line' : `${thinned.length} lines`} thinned to at most ${MAX_POINTS} of up to ${most} points, keeping the extremes of each stretch`);
+    notes.push(
+      `${thinned.length === drawn.length ? 'every line' : `${thinned.length} lines`} thinned to at most ${MAX_POINTS} of up to ${most} points, keeping the extremes of each stretch`,
+    );
   }
   const marks = plot.marks ?? [];
   const xs = [...drawn.flatMap((s) => s.x), ...marks.flatMap((m) => [m.x - (m.xErr ?? 0), m.x + (m.xErr ?? 0)])];
   const ys = [
-    ...drawn.flatMap((s) => s.y.flatMap((v, i) => (s.yErr?.[i] != null ? [v - s.yErr[i]!, v + s.yErr[i]!] : [v]))),
+    ...drawn.flatMap((s) => s.y.flatMap((v, i) => (s.yErr?.[i] != null ? [v - s.yErr[i], v + s.yErr[i]] : [v]))),
     ...marks.flatMap((m) => [m.y - (m.yErr ?? 0), m.y + (m.yErr ?? 0)]),
   ].filter(Number.isFinite);
   if (plot.includeZeroX) xs.push(0);
@@ -427,19 +480,29 @@ export function renderLinePlot(plot: LinePlot): string {
   const py = (y: number) => H - M.bottom - ((y - y0) / (y1 - y0 || 1)) * (H - M.top - M.bottom);
 
   const parts: string[] = [];
-  parts.push(`<rect x="${M.left}" y="${M.top}" width="${W - M.left - M.right}" height="${H - M.top - M.bottom}" class="frame"/>`);
+  parts.push(
+    `<rect x="${M.left}" y="${M.top}" width="${W - M.left - M.right}" height="${H - M.top - M.bottom}" class="frame"/>`,
+  );
   for (const t of xt.ticks) {
     const X = num(px(t));
     parts.push(`<line x1="${X}" y1="${M.top}" x2="${X}" y2="${H - M.bottom}" class="grid"/>`);
-    parts.push(`<text x="${X}" y="${H - M.bottom + 16}" class="tick" text-anchor="middle">${esc(tickText(t, xt.step))}</text>`);
+    parts.push(
+      `<text x="${X}" y="${H - M.bottom + 16}" class="tick" text-anchor="middle">${esc(tickText(t, xt.step))}</text>`,
+    );
   }
   for (const t of yt.ticks) {
     const Y = num(py(t));
     parts.push(`<line x1="${M.left}" y1="${Y}" x2="${W - M.right}" y2="${Y}" class="grid"/>`);
-    parts.push(`<text x="${M.left - 6}" y="${Y}" class="tick" text-anchor="end" dominant-baseline="middle">${esc(tickText(t, yt.step))}</text>`);
+    parts.push(
+      `<text x="${M.left - 6}" y="${Y}" class="tick" text-anchor="end" dominant-baseline="middle">${esc(tickText(t, yt.step))}</text>`,
+    );
   }
-  parts.push(`<text x="${num((M.left + W - M.right) / 2)}" y="${H - 8}" class="axis-label" text-anchor="middle">${esc(plot.xLabel)}</text>`);
-  parts.push(`<text transform="translate(14 ${num((M.top + H - M.bottom) / 2)}) rotate(-90)" class="axis-label" text-anchor="middle">${esc(plot.yLabel)}</text>`);
+  parts.push(
+    `<text x="${num((M.left + W - M.right) / 2)}" y="${H - 8}" class="axis-label" text-anchor="middle">${esc(plot.xLabel)}</text>`,
+  );
+  parts.push(
+    `<text transform="translate(14 ${num((M.top + H - M.bottom) / 2)}) rotate(-90)" class="axis-label" text-anchor="middle">${esc(plot.yLabel)}</text>`,
+  );
 
   drawn.forEach((s) => {
     const st = styleOf(s.slot);
@@ -452,7 +515,9 @@ export function renderLinePlot(plot: LinePlot): string {
       s.x.forEach((x, i) => {
         const e = s.yErr![i];
         if (e == null || !(e > 0)) return;
-        g.push(`<path class="errorbar" d="M${num(px(x))},${num(py(s.y[i] - e))}V${num(py(s.y[i] + e))}" stroke="${st.colour}"/>`);
+        g.push(
+          `<path class="errorbar" d="M${num(px(x))},${num(py(s.y[i] - e))}V${num(py(s.y[i] + e))}" stroke="${st.colour}"/>`,
+        );
       });
     }
     // Markers only where they stay readable; a long line is better seen as a line.
@@ -468,8 +533,12 @@ export function renderLinePlot(plot: LinePlot): string {
     const st = styleOf(m.style);
     const X = px(m.x);
     const Y = py(m.y);
-    const bar = m.xErr ? `<path class="errorbar" d="M${num(px(m.x - m.xErr))},${num(Y)}H${num(px(m.x + m.xErr))}" stroke="${st.colour}"/>` : '';
-    const vbar = m.yErr ? `<path class="errorbar" d="M${num(X)},${num(py(m.y - m.yErr))}V${num(py(m.y + m.yErr))}" stroke="${st.colour}"/>` : '';
+    const bar = m.xErr
+      ? `<path class="errorbar" d="M${num(px(m.x - m.xErr))},${num(Y)}H${num(px(m.x + m.xErr))}" stroke="${st.colour}"/>`
+      : '';
+    const vbar = m.yErr
+      ? `<path class="errorbar" d="M${num(X)},${num(py(m.y - m.yErr))}V${num(py(m.y + m.yErr))}" stroke="${st.colour}"/>`
+      : '';
     parts.push(
       `<g class="mark" data-x="${m.x}"><title>${esc(m.label)}</title>${bar}${vbar}<path d="${markerPath('diamond', X, Y, 5.5)}" fill="${m.hollow ? '#ffffff' : st.colour}" stroke="#000000" stroke-width="1.2"/></g>`,
     );
@@ -549,12 +618,16 @@ export function renderHeatMap(map: HeatMap): string {
       // Row 0 at the bottom, as on a y axis.
       const Y = num(top + plotH - (r + 1) * ch);
       const fill = Number.isFinite(v) ? sequentialColour((v - lo) / (hi - lo || 1)) : '#ffffff';
-      const title = titles ? `<title>${esc(`${fmt(xv, 5)}, ${fmt(yv, 5)}: ${Number.isFinite(v) ? fmt(v, 6) : 'no value'}`)}</title>` : '';
+      const title = titles
+        ? `<title>${esc(`${fmt(xv, 5)}, ${fmt(yv, 5)}: ${Number.isFinite(v) ? fmt(v, 6) : 'no value'}`)}</title>`
+        : '';
       const text =
         map.annotate && Number.isFinite(v)
           ? `<text x="${num(left + (c + 0.5) * cw)}" y="${num(top + plotH - (r + 0.5) * ch)}" class="cell-text" text-anchor="middle" dominant-baseline="middle" fill="${(v - lo) / (hi - lo || 1) > 0.55 ? '#000000' : '#ffffff'}">${esc(fmt(v, 2))}</text>`
           : '';
-      cells.push(`<rect class="cell" x="${X}" y="${Y}" width="${num(cw + 0.3)}" height="${num(ch + 0.3)}" fill="${fill}">${title}</rect>${text}`);
+      cells.push(
+        `<rect class="cell" x="${X}" y="${Y}" width="${num(cw + 0.3)}" height="${num(ch + 0.3)}" fill="${fill}">${title}</rect>${text}`,
+      );
     });
   });
   const labelsEvery = (n: number, room: number) => Math.max(1, Math.ceil(n / Math.max(1, Math.floor(room))));
@@ -562,16 +635,25 @@ export function renderHeatMap(map: HeatMap): string {
   const yEvery = labelsEvery(yValues.length, plotH / 16);
   const ticks: string[] = [];
   xValues.forEach((v, c) => {
-    if (c % xEvery === 0) ticks.push(`<text x="${num(left + (c + 0.5) * cw)}" y="${H - bottom + 16}" class="tick" text-anchor="middle">${esc(fmt(v, 4))}</text>`);
+    if (c % xEvery === 0)
+      ticks.push(
+        `<text x="${num(left + (c + 0.5) * cw)}" y="${H - bottom + 16}" class="tick" text-anchor="middle">${esc(fmt(v, 4))}</text>`,
+      );
   });
   yValues.forEach((v, r) => {
-    if (r % yEvery === 0) ticks.push(`<text x="${left - 6}" y="${num(top + plotH - (r + 0.5) * ch)}" class="tick" text-anchor="end" dominant-baseline="middle">${esc(fmt(v, 4))}</text>`);
+    if (r % yEvery === 0)
+      ticks.push(
+        `<text x="${left - 6}" y="${num(top + plotH - (r + 0.5) * ch)}" class="tick" text-anchor="end" dominant-baseline="middle">${esc(fmt(v, 4))}</text>`,
+      );
   });
   // Colour bar with its own ticks.
   const barX = W - right + 14;
   const barW = 14;
   const gradientId = `grad-${map.id}`;
-  const stops = Array.from({ length: 11 }, (_, k) => `<stop offset="${k * 10}%" stop-color="${sequentialColour(k / 10)}"/>`).join('');
+  const stops = Array.from(
+    { length: 11 },
+    (_, k) => `<stop offset="${k * 10}%" stop-color="${sequentialColour(k / 10)}"/>`,
+  ).join('');
   const bt = niceTicks(lo, hi, 4);
   const barTicks = bt.ticks
     .filter((t) => t >= lo - 1e-12 && t <= hi + 1e-12)
@@ -629,10 +711,16 @@ function section(id: string, title: string, body: string[], intro?: string): str
 
 /** A note under a table cut to MAX_TABLE_ROWS rows. */
 function cutNote(shown: number, total: number): string {
-  return total > shown ? `<p class="note">first ${shown} of ${total} rows; \`rungchain summary RUN --analysis --json\` has them all</p>` : '';
+  return total > shown
+    ? `<p class="note">first ${shown} of ${total} rows; \`rungchain summary RUN --analysis --json\` has them all</p>`
+    : '';
 }
 
-function fitTable(allRows: { label: string; fit: FitResult; warnings?: string }[], variable: string, valueUnit: string): string {
+function fitTable(
+  allRows: { label: string; fit: FitResult; warnings?: string }[],
+  variable: string,
+  valueUnit: string,
+): string {
   const rows = allRows.slice(0, MAX_TABLE_ROWS);
   const warned = rows.some((r) => r.warnings !== undefined);
   const head = `<tr><th>what</th><th>sizes ${esc(variable)}</th><th>extrapolated ${esc(variable)} → ∞${valueUnit ? ` [${esc(valueUnit)}]` : ''}</th><th>coefficients a₁…</th><th>residuals</th><th>χ²/dof</th>${warned ? '<th>warnings</th>' : ''}</tr>`;
@@ -641,14 +729,21 @@ function fitTable(allRows: { label: string; fit: FitResult; warnings?: string }[
       ({ label, fit, warnings }) =>
         `<tr><td>${esc(label)}</td><td>${fit.sizes.join(', ')}</td><td>${esc(fmt(fit.extrapolated, 7))} ± ${fit.extrapolated_error === null ? '?' : esc(fmt(fit.extrapolated_error, 2))}</td><td>${fit.coefficients
           .slice(1)
-          .map((c, k) => `${esc(fmt(c, 5))}${fit.errors[k + 1] !== null ? ` ± ${esc(fmt(fit.errors[k + 1]!, 2))}` : ''}`)
-          .join('; ')}</td><td>${fit.residuals.map((r) => esc(fmt(r, 2))).join(', ')}</td><td>${fit.dof > 0 ? esc(fmt(fit.chi2 / fit.dof, 3)) : '-'}</td>${warned ? `<td class="warn">${esc(warnings || '-')}</td>` : ''}</tr>`,
+          .map((c, k) => `${esc(fmt(c, 5))}${fit.errors[k + 1] !== null ? ` ± ${esc(fmt(fit.errors[k + 1], 2))}` : ''}`)
+          .join(
+            '; ',
+          )}</td><td>${fit.residuals.map((r) => esc(fmt(r, 2))).join(', ')}</td><td>${fit.dof > 0 ? esc(fmt(fit.chi2 / fit.dof, 3)) : '-'}</td>${warned ? `<td class="warn">${esc(warnings || '-')}</td>` : ''}</tr>`,
     )
     .join('');
   return `<table class="fits">${head}${body}</table>${cutNote(rows.length, allRows.length)}`;
 }
 
-const INDICATOR_SHORT: Record<string, string> = { gap: 'E₁ − E₀', fidelity: 'χ_F per site', curvature: '−∂²E₀/∂x² per site', width_slope: '∂(string width)/∂x' };
+const INDICATOR_SHORT: Record<string, string> = {
+  gap: 'E₁ − E₀',
+  fidelity: 'χ_F per site',
+  curvature: '−∂²E₀/∂x² per site',
+  width_slope: '∂(string width)/∂x',
+};
 
 const INDICATOR_UNITS: Record<string, (x: AxisUnit, u: Units) => string> = {
   gap: (_x, u) => u.energy,
@@ -661,7 +756,8 @@ const INDICATOR_UNITS: Record<string, (x: AxisUnit, u: Units) => string> = {
 function choosePoint(input: ReportInput): { index: number; why: string } | null {
   const done = input.points.filter((p) => p.record !== null);
   if (done.length === 0) return null;
-  if (input.chosenPoint !== undefined) return done.some((p) => p.index === input.chosenPoint) ? { index: input.chosenPoint, why: 'as requested' } : null;
+  if (input.chosenPoint !== undefined)
+    return done.some((p) => p.index === input.chosenPoint) ? { index: input.chosenPoint, why: 'as requested' } : null;
   const { analysis } = input;
   const param = analysis.parameter;
   if (param !== null) {
@@ -671,11 +767,21 @@ function choosePoint(input: ReportInput): { index: number; why: string } | null 
       const size = (line.sites ?? 0) * 1000 + (line.levels ?? 0);
       if (!best || size > best.size) best = { line, size };
     }
-    const peak = best && ['fidelity', 'gap', 'curvature', 'width_slope'].map((n) => best!.line.indicators.find((i) => i.name === n)?.peak).find((p) => p && !p.at_edge);
+    const peak =
+      best &&
+      ['fidelity', 'gap', 'curvature', 'width_slope']
+        .map((n) => best.line.indicators.find((i) => i.name === n)?.peak)
+        .find((p) => p && !p.at_edge);
     if (best && peak) {
-      const onLine = done.filter((p) => Object.entries(best!.line.fixed).every(([k, v]) => JSON.stringify(p.params[k]) === JSON.stringify(v)));
+      const onLine = done.filter((p) =>
+        Object.entries(best.line.fixed).every(([k, v]) => JSON.stringify(p.params[k]) === JSON.stringify(v)),
+      );
       if (onLine.length > 0) {
-        onLine.sort((a, b) => Math.abs((a.params[param] as number) - peak.position) - Math.abs((b.params[param] as number) - peak.position));
+        onLine.sort(
+          (a, b) =>
+            Math.abs((a.params[param] as number) - peak.position) -
+            Math.abs((b.params[param] as number) - peak.position),
+        );
         return { index: onLine[0].index, why: 'near the main transition indicator of the largest system' };
       }
     }
@@ -715,7 +821,14 @@ export function renderReport(input: ReportInput): string {
         })),
       });
     });
-    sections.push(section('observables', 'Observables', plots, `One line per value of the other scanned ${input.axes.length > 2 ? 'axes' : 'axis'}.`));
+    sections.push(
+      section(
+        'observables',
+        'Observables',
+        plots,
+        `One line per value of the other scanned ${input.axes.length > 2 ? 'axes' : 'axis'}.`,
+      ),
+    );
   }
 
   // Heat maps of two-parameter scans.
@@ -731,7 +844,7 @@ export function renderReport(input: ReportInput): string {
     const cell = new Map<string, PointRecord>();
     for (const p of done) {
       if (rest.some((a) => JSON.stringify(p.params[a.key]) !== JSON.stringify(fixed[a.key]))) continue;
-      cell.set(`${p.params[parameter]}|${p.params[other.key]}`, p.record!);
+      cell.set(`${String(p.params[parameter])}|${String(p.params[other.key])}`, p.record!);
     }
     const heatNames = ['string_width', 'gap', 'entropy', 'E0/L'].filter((n) => names.includes(n));
     const maps = heatNames.map((name) => {
@@ -745,10 +858,12 @@ export function renderReport(input: ReportInput): string {
         yLabel: axisTitle(yAxis),
         xValues: xValues.map(scaleX),
         yValues: yValues.map((v) => v * yAxis.scale),
-        z: yValues.map((yv) => xValues.map((xv) => {
-          const r = cell.get(`${xv}|${yv}`);
-          return r ? (observableValue(r, name) ?? NaN) * scale : NaN;
-        })),
+        z: yValues.map((yv) =>
+          xValues.map((xv) => {
+            const r = cell.get(`${xv}|${yv}`);
+            return r ? (observableValue(r, name) ?? NaN) * scale : NaN;
+          }),
+        ),
         zLabel: unit ? `${info.short} [${unit}]` : info.short,
         notes: rest.length > 0 ? [`other axes held at ${showParams(fixed, units)}`] : [],
       });
@@ -774,19 +889,33 @@ export function renderReport(input: ReportInput): string {
         notes: lines.length > chosen.length && k === 0 ? [`${chosen.length} of ${lines.length} lines shown`] : [],
       });
     });
-    sections.push(section('spectrum', 'Low spectrum', plots, 'Excitation energies of the lowest states; level crossings and a closing gap show where the ground state changes character.'));
+    sections.push(
+      section(
+        'spectrum',
+        'Low spectrum',
+        plots,
+        'Excitation energies of the lowest states; level crossings and a closing gap show where the ground state changes character.',
+      ),
+    );
   }
 
   // Lowest level of each symmetry sector: a crossing of the ground state shows as two sectors' lines meeting.
   if (parameter && xAxis) {
-    const chosen = evenlyChosen(lines.filter((l) => l.points.some((p) => p.record.solver.sector_runs)), 4);
+    const chosen = evenlyChosen(
+      lines.filter((l) => l.points.some((p) => p.record.solver.sector_runs)),
+      4,
+    );
     const plots = chosen.map((line, k) => {
       const levels = new Map<string, { label: SectorLabel; y: number[]; above: number }>();
       line.points.forEach((p, i) => {
         for (const run of p.record.solver.sector_runs ?? []) {
           const key = sectorKey(run.label);
           let level = levels.get(key);
-          if (!level) levels.set(key, (level = { label: run.label, y: new Array<number>(line.points.length).fill(NaN), above: Infinity }));
+          if (!level)
+            levels.set(
+              key,
+              (level = { label: run.label, y: new Array<number>(line.points.length).fill(NaN), above: Infinity }),
+            );
           level.y[i] = run.lowest;
           level.above = Math.min(level.above, run.lowest - p.record.energies[0]);
         }
@@ -811,7 +940,11 @@ export function renderReport(input: ReportInput): string {
         title: `lowest level of each sector against ${xAxis.label}${lines.length > 1 ? ` (${lineName(line.fixed)})` : ''}`,
         xLabel: axisTitle(xAxis),
         yLabel: `E [${units.energy}]`,
-        series: shown.map((level) => ({ name: sectorText(level.label), x: line.points.map((p) => scaleX(p.x)), y: level.y.map((v) => v * units.energyScale) })),
+        series: shown.map((level) => ({
+          name: sectorText(level.label),
+          x: line.points.map((p) => scaleX(p.x)),
+          y: level.y.map((v) => v * units.energyScale),
+        })),
         marks: (analysed?.crossings ?? []).map((c) => ({
           x: scaleX(c.position),
           y: e0At(c.position) * units.energyScale,
@@ -820,10 +953,20 @@ export function renderReport(input: ReportInput): string {
           style: 0,
           hollow: false,
         })),
-        notes: levels.size > shown.length ? [`the ${shown.length} of ${levels.size} sectors that come nearest the ground level`] : [],
+        notes:
+          levels.size > shown.length
+            ? [`the ${shown.length} of ${levels.size} sectors that come nearest the ground level`]
+            : [],
       });
     });
-    sections.push(section('sectors', 'Sector levels', plots, 'The lowest energy of each symmetry sector (q: level charge, m: momentum 2πm/L, P: reflection, F: level flip); where the ground state changes sector the lines cross, and diamonds mark the crossings, placed where the two lines meet between grid points.'));
+    sections.push(
+      section(
+        'sectors',
+        'Sector levels',
+        plots,
+        'The lowest energy of each symmetry sector (q: level charge, m: momentum 2πm/L, P: reflection, F: level flip); where the ground state changes sector the lines cross, and diamonds mark the crossings, placed where the two lines meet between grid points.',
+      ),
+    );
   }
 
   // Transition indicators.
@@ -834,7 +977,14 @@ export function renderReport(input: ReportInput): string {
       if (withIt.length === 0) return '';
       const first = withIt[0].indicators.find((i) => i.name === name)!;
       const unit = INDICATOR_UNITS[name](xAxis, units);
-      const yScale = name === 'gap' ? units.energyScale : name === 'fidelity' ? 1 / xAxis.scale ** 2 : name === 'curvature' ? units.energyScale / xAxis.scale ** 2 : 1 / xAxis.scale;
+      const yScale =
+        name === 'gap'
+          ? units.energyScale
+          : name === 'fidelity'
+            ? 1 / xAxis.scale ** 2
+            : name === 'curvature'
+              ? units.energyScale / xAxis.scale ** 2
+              : 1 / xAxis.scale;
       const shownLines = evenlyChosen(withIt, MAX_SERIES);
       const series = shownLines.map((l, k) => {
         const ind = l.indicators.find((i) => i.name === name)!;
@@ -846,48 +996,69 @@ export function renderReport(input: ReportInput): string {
         if (ind.kind === 'crossing' && ind.crossing) {
           const c = ind.crossing;
           // On the curve's sample nearest the crossing (a curve across a crossing has no value at it).
-          const nearest = ind.x.reduce((best, v, i) => (Math.abs(v - c.position) < Math.abs(ind.x[best] - c.position) ? i : best), 0);
-          return [{
-            x: scaleX(c.position),
-            y: (ind.y[nearest] ?? 0) * yScale,
-            xErr: 0,
-            label: `${lineName(l.fixed)}: level crossing at ${fmt(scaleX(c.position), 7)} (${sectorText(c.from)} → ${sectorText(c.to)}), not a smooth ${first.extremum === 'min' ? 'minimum' : 'peak'}`,
-            style: k,
-            hollow: false,
-          }];
+          const nearest = ind.x.reduce(
+            (best, v, i) => (Math.abs(v - c.position) < Math.abs(ind.x[best] - c.position) ? i : best),
+            0,
+          );
+          return [
+            {
+              x: scaleX(c.position),
+              y: (ind.y[nearest] ?? 0) * yScale,
+              xErr: 0,
+              label: `${lineName(l.fixed)}: level crossing at ${fmt(scaleX(c.position), 7)} (${sectorText(c.from)} → ${sectorText(c.to)}), not a smooth ${first.extremum === 'min' ? 'minimum' : 'peak'}`,
+              style: k,
+              hollow: false,
+            },
+          ];
         }
         if (!peak) return [];
-        return [{
-          x: scaleX(peak.position),
-          y: peak.value * yScale,
-          xErr: peak.uncertainty * (xAxis.scale),
-          label: `${lineName(l.fixed)}: ${first.extremum === 'min' ? 'minimum' : 'peak'} at ${fmt(scaleX(peak.position), 5)} ± ${fmt(peak.uncertainty * xAxis.scale, 2)}${peak.at_edge ? ' (at the end of the scan)' : peak.refined ? '' : ' (the grid point: no parabola fits there)'}`,
-          style: k,
-          hollow: peak.at_edge,
-        }];
+        return [
+          {
+            x: scaleX(peak.position),
+            y: peak.value * yScale,
+            xErr: peak.uncertainty * xAxis.scale,
+            label: `${lineName(l.fixed)}: ${first.extremum === 'min' ? 'minimum' : 'peak'} at ${fmt(scaleX(peak.position), 5)} ± ${fmt(peak.uncertainty * xAxis.scale, 2)}${peak.at_edge ? ' (at the end of the scan)' : peak.refined ? '' : ' (the grid point: no parabola fits there)'}`,
+            style: k,
+            hollow: peak.at_edge,
+          },
+        ];
       });
       return renderLinePlot({
         id: `indicator-${name}`,
         title: `${first.label} against ${xAxis.label}`,
         xLabel: axisTitle(xAxis),
-        yLabel: (name === 'gap' && first.uses === 'gap_above_ground' ? 'E(next level) − E₀' : INDICATOR_SHORT[name]) + (unit ? ` [${unit}]` : ''),
+        yLabel:
+          (name === 'gap' && first.uses === 'gap_above_ground' ? 'E(next level) − E₀' : INDICATOR_SHORT[name]) +
+          (unit ? ` [${unit}]` : ''),
         series,
         marks,
-        notes: marks.some((m) => m.hollow) ? ['hollow diamonds: the extremum is at the end of the scan, the peak may lie beyond it'] : [],
+        notes: marks.some((m) => m.hollow)
+          ? ['hollow diamonds: the extremum is at the end of the scan, the peak may lie beyond it']
+          : [],
       });
     });
     const table = `<table class="peaks"><tr><th>line</th>${kinds.map((k) => `<th>${esc(k === 'gap' ? 'gap minimum' : k === 'fidelity' ? 'fidelity peak' : k === 'curvature' ? '−d²E₀/dx² peak' : 'steepest string width')}</th>`).join('')}</tr>${analysis.lines
       .slice(0, MAX_TABLE_ROWS)
-      .map((l) => `<tr><td>${esc(lineName(l.fixed))}</td>${kinds.map((k) => {
-        const ind = l.indicators.find((i) => i.name === k);
-        const p = ind?.peak;
-        if (ind?.kind === 'crossing' && ind.crossing) return `<td>crossing at ${esc(fmt(scaleX(ind.crossing.position), 7))} (${esc(sectorText(ind.crossing.from))} → ${esc(sectorText(ind.crossing.to))})</td>`;
-        return `<td>${p ? `${esc(fmt(scaleX(p.position), 5))} ± ${esc(fmt(p.uncertainty * xAxis.scale, 2))}${p.at_edge ? ' (edge)' : p.refined ? '' : ' (grid)'}` : '-'}</td>`;
-      }).join('')}</tr>`)
+      .map(
+        (l) =>
+          `<tr><td>${esc(lineName(l.fixed))}</td>${kinds
+            .map((k) => {
+              const ind = l.indicators.find((i) => i.name === k);
+              const p = ind?.peak;
+              if (ind?.kind === 'crossing' && ind.crossing)
+                return `<td>crossing at ${esc(fmt(scaleX(ind.crossing.position), 7))} (${esc(sectorText(ind.crossing.from))} → ${esc(sectorText(ind.crossing.to))})</td>`;
+              return `<td>${p ? `${esc(fmt(scaleX(p.position), 5))} ± ${esc(fmt(p.uncertainty * xAxis.scale, 2))}${p.at_edge ? ' (edge)' : p.refined ? '' : ' (grid)'}` : '-'}</td>`;
+            })
+            .join('')}</tr>`,
+      )
       .join('')}</table>${cutNote(Math.min(MAX_TABLE_ROWS, analysis.lines.length), analysis.lines.length)}`;
     sections.push(
-      section('indicators', 'Transition indicators', [...plots, `<div class="table-wrap">${table}</div>`],
-        `Diamonds mark each line's extremum (parabola through the extremal grid point and its neighbours), with a bar of ± half the grid spacing. Fidelity susceptibility per site χ_F = −2 ln F/(δ² L) from overlaps F of neighbouring ground states, except across a level crossing, where the extremum is the crossing itself (marked and named in the table). The gap is the distance from the (possibly degenerate) ground level to the next level.`),
+      section(
+        'indicators',
+        'Transition indicators',
+        [...plots, `<div class="table-wrap">${table}</div>`],
+        `Diamonds mark each line's extremum (parabola through the extremal grid point and its neighbours), with a bar of ± half the grid spacing. Fidelity susceptibility per site χ_F = −2 ln F/(δ² L) from overlaps F of neighbouring ground states, except across a level crossing, where the extremum is the crossing itself (marked and named in the table). The gap is the distance from the (possibly degenerate) ground level to the next level.`,
+      ),
     );
   }
 
@@ -913,8 +1084,20 @@ export function renderReport(input: ReportInput): string {
             const fitX = Array.from({ length: 21 }, (_, i) => (Math.max(...xs) * i) / 20);
             const label = `${f.label}${Object.keys(f.fixed).length ? ` (${lineName(f.fixed)})` : ''}`;
             return [
-              { name: label, x: xs, y: f.fit.values.map(scaleX), yErr: (f.fit.sigmas ?? []).map((s) => s * xAxis.scale), pointsOnly: true, style: k },
-              { name: `${label}: fit`, x: fitX, y: fitX.map((x) => scaleX(f.fit.coefficients.reduce((sum, a, i) => sum + a * x ** i, 0))), style: k },
+              {
+                name: label,
+                x: xs,
+                y: f.fit.values.map(scaleX),
+                yErr: (f.fit.sigmas ?? []).map((s) => s * xAxis.scale),
+                pointsOnly: true,
+                style: k,
+              },
+              {
+                name: `${label}: fit`,
+                x: fitX,
+                y: fitX.map((x) => scaleX(f.fit.coefficients.reduce((sum, a, i) => sum + a * x ** i, 0))),
+                style: k,
+              },
             ];
           }),
           marks: shown.map((f, k) => ({
@@ -924,17 +1107,31 @@ export function renderReport(input: ReportInput): string {
             label: `${f.label}: extrapolated ${fmt(scaleX(f.fit.extrapolated), 6)} ± ${f.fit.extrapolated_error === null ? '?' : fmt(f.fit.extrapolated_error * xAxis.scale, 2)}`,
             style: k,
           })),
-          notes: fits.length > shown.length ? [`${shown.length} of ${fits.length} fits drawn; all are in the table`] : [],
+          notes:
+            fits.length > shown.length ? [`${shown.length} of ${fits.length} fits drawn; all are in the table`] : [],
         }),
       );
       fitParts.push(
-        `<div class="table-wrap">${fitTable(fits.map((f) => ({ label: `${f.label}${Object.keys(f.fixed).length ? ` (${lineName(f.fixed)})` : ''}`, fit: f.fit, warnings: f.flags.map((w) => (w === 'outside_scan' ? 'extrapolated outside the scanned range' : `χ²/dof above ${PEAK_FIT_CHI2_LIMIT}`)).join(', ') })), v, xAxis.unit)}</div>`,
+        `<div class="table-wrap">${fitTable(
+          fits.map((f) => ({
+            label: `${f.label}${Object.keys(f.fixed).length ? ` (${lineName(f.fixed)})` : ''}`,
+            fit: f.fit,
+            warnings: f.flags
+              .map((w) =>
+                w === 'outside_scan' ? 'extrapolated outside the scanned range' : `χ²/dof above ${PEAK_FIT_CHI2_LIMIT}`,
+              )
+              .join(', '),
+          })),
+          v,
+          xAxis.unit,
+        )}</div>`,
       );
     }
   }
   if (analysis.observable_fits.length > 0) {
     const groups = new Map<string, typeof analysis.observable_fits>();
-    for (const f of analysis.observable_fits) groups.set(`${f.observable}|${f.size}`, [...(groups.get(`${f.observable}|${f.size}`) ?? []), f]);
+    for (const f of analysis.observable_fits)
+      groups.set(`${f.observable}|${f.size}`, [...(groups.get(`${f.observable}|${f.size}`) ?? []), f]);
     for (const fits of groups.values()) {
       const { observable, size } = fits[0];
       const v = SIZE_AXES[size];
@@ -985,19 +1182,37 @@ export function renderReport(input: ReportInput): string {
               const name = Object.keys(f.fixed).length ? lineName(f.fixed) : observable;
               return [
                 { name, x: xs, y: f.fit.values.map((y) => y * scale), pointsOnly: true, style: k },
-                { name: `${name}: fit`, x: fitX, y: fitX.map((x) => f.fit.coefficients.reduce((sum, a, i) => sum + a * x ** i, 0) * scale), style: k },
+                {
+                  name: `${name}: fit`,
+                  x: fitX,
+                  y: fitX.map((x) => f.fit.coefficients.reduce((sum, a, i) => sum + a * x ** i, 0) * scale),
+                  style: k,
+                },
               ];
             }),
           }),
         );
       }
-      fitParts.push(`<div class="table-wrap">${fitTable(fits.map((f) => ({ label: `${observable}${Object.keys(f.fixed).length ? ` (${lineName(f.fixed)})` : ''}`, fit: f.fit })), v, unit)}</div>`);
+      fitParts.push(
+        `<div class="table-wrap">${fitTable(
+          fits.map((f) => ({
+            label: `${observable}${Object.keys(f.fixed).length ? ` (${lineName(f.fixed)})` : ''}`,
+            fit: f.fit,
+          })),
+          v,
+          unit,
+        )}</div>`,
+      );
     }
   }
   if (fitParts.length > 0) {
     sections.push(
-      section('fits', 'Finite-size trends', fitParts,
-        `Weighted least squares y = a₀ + a₁ x${analysis.terms > 2 ? ' + a₂ x² …' : ''} with x = 1/size${powerText}; a₀ is the value extrapolated to infinite size. Peak positions are weighted by their grid uncertainty; observables equally, with errors from the residual scatter.`),
+      section(
+        'fits',
+        'Finite-size trends',
+        fitParts,
+        `Weighted least squares y = a₀ + a₁ x${analysis.terms > 2 ? ' + a₂ x² …' : ''} with x = 1/size${powerText}; a₀ is the value extrapolated to infinite size. Peak positions are weighted by their grid uncertainty; observables equally, with errors from the residual scatter.`,
+      ),
     );
   }
 
@@ -1021,8 +1236,15 @@ export function renderReport(input: ReportInput): string {
         return `<tr><td>${p.index}</td>${input.axes.map((a) => `<td>${esc(String(p.params[a.key]))}</td>`).join('')}${cells.join('')}</tr>`;
       })
       .join('');
-    const more = done.length > shown.length ? `<p class="note">first ${shown.length} of ${done.length} points; \`rungchain summary RUN --csv\` has them all</p>` : '';
-    sections.push(section('values', 'Values per point', [`<div class="table-wrap"><table class="values">${head}${rows}</table>${more}</div>`]));
+    const more =
+      done.length > shown.length
+        ? `<p class="note">first ${shown.length} of ${done.length} points; \`rungchain summary RUN --csv\` has them all</p>`
+        : '';
+    sections.push(
+      section('values', 'Values per point', [
+        `<div class="table-wrap"><table class="values">${head}${rows}</table>${more}</div>`,
+      ]),
+    );
   }
 
   // Populations of one point.
@@ -1047,15 +1269,28 @@ export function renderReport(input: ReportInput): string {
       annotate: sites * levels <= 96,
       notes: pops.length > sites ? [`first ${sites} of ${pops.length} sites`] : [],
     });
-    sections.push(section('populations', 'Level populations of one point', [map], `Chosen ${choice.why}; \`rungchain report RUN --point INDEX\` picks another.`));
+    sections.push(
+      section(
+        'populations',
+        'Level populations of one point',
+        [map],
+        `Chosen ${choice.why}; \`rungchain report RUN --point INDEX\` picks another.`,
+      ),
+    );
   }
 
-  const axesText = input.axes.map((a) => `${keyInfo(a.key).kind === 'other' ? a.key : `${keyInfo(a.key).symbol} (${a.key})`}: ${a.values.length} value${a.values.length === 1 ? '' : 's'}`).join(input.zip ? ' with ' : ' × ');
+  const axesText = input.axes
+    .map(
+      (a) =>
+        `${keyInfo(a.key).kind === 'other' ? a.key : `${keyInfo(a.key).symbol} (${a.key})`}: ${a.values.length} value${a.values.length === 1 ? '' : 's'}`,
+    )
+    .join(input.zip ? ' with ' : ' × ');
   const unitText = units.lab
-    ? `Energies in h·kHz (the model's energy unit is h × ${fmt(input.energyUnitHz!, 6)} Hz, from the run's [units]).`
-    : 'Energies in ε, the model\'s energy unit: the unit of the spec\'s couplings (usually the tunnelling J).';
+    ? `Energies in h·kHz (the model's energy unit is h × ${fmt(input.energyUnitHz, 6)} Hz, from the run's [units]).`
+    : "Energies in ε, the model's energy unit: the unit of the spec's couplings (usually the tunnelling J).";
   const notes = [...analysis.notes];
-  if (failed > 0) notes.push(`${failed} of ${input.points.length} points have no result (failed or not yet run); they are left out.`);
+  if (failed > 0)
+    notes.push(`${failed} of ${input.points.length} points have no result (failed or not yet run); they are left out.`);
   const toc = sections
     .map((s) => /<section id="([^"]+)"><h2>([^<]+)<\/h2>/.exec(s))
     .filter((m): m is RegExpExecArray => m !== null)
@@ -1138,13 +1373,17 @@ function runEnergyUnitHz(summary: ScanRunSummary): { hz: number | null; note: st
     if (row.record?.status !== 'done') continue;
     let value: number | undefined;
     try {
-      value = labUnits(validateSpec(pointTree(raw as Record<string, unknown>, row.params)))?.energyUnitHz;
+      value = labUnits(validateSpec(pointTree(raw, row.params)))?.energyUnitHz;
     } catch {
       value = undefined;
     }
-    if (value === undefined) return { hz: null, note: 'laboratory units could not be read back from the run; energies are in model units' };
+    if (value === undefined)
+      return { hz: null, note: 'laboratory units could not be read back from the run; energies are in model units' };
     if (hz !== null && Math.abs(value - hz) > 1e-9 * Math.abs(hz)) {
-      return { hz: null, note: 'the energy unit in Hz changes across the scan (it follows a scanned coupling); energies are in model units' };
+      return {
+        hz: null,
+        note: 'the energy unit in Hz changes across the scan (it follows a scanned coupling); energies are in model units',
+      };
     }
     hz = value;
   }
@@ -1158,7 +1397,9 @@ export function reportInputFromRun(summary: ScanRunSummary, options: RunReportOp
   const { hz, note } = runEnergyUnitHz(summary);
   if (note) analysis.notes.push(note);
   if (options.point !== undefined && !input.points.some((p) => p.index === options.point && p.record !== null)) {
-    throw new InputError(`--point ${options.point}: no solved point with that index in ${summary.dir} (points 0 to ${input.points.length - 1})`);
+    throw new InputError(
+      `--point ${options.point}: no solved point with that index in ${summary.dir} (points 0 to ${input.points.length - 1})`,
+    );
   }
   const specName = typeof summary.manifest.spec_path === 'string' ? path.basename(summary.manifest.spec_path) : 'scan';
   return {

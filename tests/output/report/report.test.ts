@@ -156,7 +156,12 @@ describe('the report of a scan in headless Chromium', () => {
       p.series.forEach((s) => expect(s.lineVertices).toBe(FIELDS));
     }
     // Indicators: gap on the grid, fidelity at the midpoints of neighbours, -d2E0/dg2 at interior points.
-    const expectedPoints: Record<string, number> = { gap: FIELDS, fidelity: FIELDS - 1, curvature: FIELDS - 2, width_slope: FIELDS - 1 };
+    const expectedPoints: Record<string, number> = {
+      gap: FIELDS,
+      fidelity: FIELDS - 1,
+      curvature: FIELDS - 2,
+      width_slope: FIELDS - 1,
+    };
     for (const [name, points] of Object.entries(expectedPoints)) {
       const p = plot(`indicator-${name}`);
       expect(p.series).toHaveLength(SIZES.length);
@@ -208,7 +213,18 @@ function syntheticRecord(x: number, a: number, sites: number): PointRecord {
       pair_separation: Array.from({ length: sites }, () => Array.from({ length: sites }, () => 0.5)),
     },
     basis: { kind: 'pinned', dimension: 2 ** sites, sites, levels: 2, operator: 'on-the-fly', nonzeros: 0 },
-    solver: { method: 'lanczos', iterations: 10, restarts: 0, residuals: [0, 0], converged: true, tolerance: 1e-9, degeneracy: 1, degeneracy_complete: true, seconds: 0, memory_estimate_bytes: 0 },
+    solver: {
+      method: 'lanczos',
+      iterations: 10,
+      restarts: 0,
+      residuals: [0, 0],
+      converged: true,
+      tolerance: 1e-9,
+      degeneracy: 1,
+      degeneracy_complete: true,
+      seconds: 0,
+      memory_estimate_bytes: 0,
+    },
   };
 }
 
@@ -216,8 +232,22 @@ function largeInput(): ReportInput {
   const as = Array.from({ length: 24 }, (_, k) => 0.5 + k * 0.1);
   const xs = Array.from({ length: 1000 }, (_, k) => k * 0.006);
   const points: AnalysisPoint[] = [];
-  for (const a of as) for (const x of xs) points.push({ index: points.length, params: { 'ising.strength': a, 'exchange.strength': x }, record: syntheticRecord(x, a, 4), overlapPrevious: 0.99999 });
-  const input = { axes: [{ key: 'ising.strength', values: as }, { key: 'exchange.strength', values: xs }], zip: false, points };
+  for (const a of as)
+    for (const x of xs)
+      points.push({
+        index: points.length,
+        params: { 'ising.strength': a, 'exchange.strength': x },
+        record: syntheticRecord(x, a, 4),
+        overlapPrevious: 0.99999,
+      });
+  const input = {
+    axes: [
+      { key: 'ising.strength', values: as },
+      { key: 'exchange.strength', values: xs },
+    ],
+    zip: false,
+    points,
+  };
   return { ...input, title: 'large synthetic scan', about: [], analysis: analyseScan(input), energyUnitHz: null };
 }
 
@@ -231,7 +261,15 @@ describe('the demo report', () => {
     expect(complaints).toEqual([]);
     expect(requests).toEqual([]);
     const ids = plots.map((p) => p.id);
-    for (const id of ['obs-string-width', 'heat-string-width', 'spectrum-0', 'indicator-fidelity', 'fit-string-width-N', 'populations']) expect(ids).toContain(id);
+    for (const id of [
+      'obs-string-width',
+      'heat-string-width',
+      'spectrum-0',
+      'indicator-fidelity',
+      'fit-string-width-N',
+      'populations',
+    ])
+      expect(ids).toContain(id);
     // Three ladder lengths: a line each in every plot against V.
     expect(plots.find((p) => p.id === 'obs-string-width')!.series).toHaveLength(3);
   }, 120_000);
@@ -251,9 +289,20 @@ describe('the demo on the command line', () => {
 describe('scans without a numeric parameter', () => {
   it('get a table of values per point instead of plots against it', () => {
     const kinds = ['hardcore', 'boson', 'fermion'];
-    const points: AnalysisPoint[] = kinds.map((kind, k) => ({ index: k, params: { 'particles.kind': kind }, record: syntheticRecord(k, 0, 4), overlapPrevious: null }));
+    const points: AnalysisPoint[] = kinds.map((kind, k) => ({
+      index: k,
+      params: { 'particles.kind': kind },
+      record: syntheticRecord(k, 0, 4),
+      overlapPrevious: null,
+    }));
     const input = { axes: [{ key: 'particles.kind', values: kinds }], zip: false, points };
-    const html = renderReport({ ...input, title: 'kinds', about: [], analysis: analyseScan(input), energyUnitHz: null });
+    const html = renderReport({
+      ...input,
+      title: 'kinds',
+      about: [],
+      analysis: analyseScan(input),
+      energyUnitHz: null,
+    });
     const table = /<table class="values">([\s\S]*?)<\/table>/.exec(html)![1];
     expect(table.match(/<tr>/g)).toHaveLength(1 + kinds.length);
     kinds.forEach((kind) => expect(table).toContain(`<td>${kind}</td>`));
@@ -298,10 +347,26 @@ describe('large scans stay light', () => {
 // after Vienot, Brettel and Mollon, Color Res. Appl. 24, 243 (1999); tritanopia after Machado,
 // Oliveira and Fernandes, IEEE TVCG 15, 1291 (2009), severity 1.
 const SIMULATIONS: Record<string, number[][]> = {
-  normal: [[1, 0, 0], [0, 1, 0], [0, 0, 1]],
-  protan: [[0.11238, 0.88762, 0], [0.11238, 0.88762, 0], [0.00401, -0.00401, 1]],
-  deutan: [[0.29275, 0.70725, 0], [0.29275, 0.70725, 0], [-0.02234, 0.02234, 1]],
-  tritan: [[1.255528, -0.076749, -0.178779], [-0.078411, 0.930809, 0.147602], [0.004733, 0.691367, 0.3039]],
+  normal: [
+    [1, 0, 0],
+    [0, 1, 0],
+    [0, 0, 1],
+  ],
+  protan: [
+    [0.11238, 0.88762, 0],
+    [0.11238, 0.88762, 0],
+    [0.00401, -0.00401, 1],
+  ],
+  deutan: [
+    [0.29275, 0.70725, 0],
+    [0.29275, 0.70725, 0],
+    [-0.02234, 0.02234, 1],
+  ],
+  tritan: [
+    [1.255528, -0.076749, -0.178779],
+    [-0.078411, 0.930809, 0.147602],
+    [0.004733, 0.691367, 0.3039],
+  ],
 };
 
 function seenAs(hex: string, matrix: number[][]): [number, number, number] {
@@ -315,7 +380,8 @@ const deltaE = (a: number[], b: number[]) => Math.hypot(a[0] - b[0], a[1] - b[1]
 describe('colours readable for colour-blind readers', () => {
   it.each(Object.keys(SIMULATIONS))('line colours stay at least 30 CIELAB units apart (%s vision)', (name) => {
     const labs = PALETTE.map((c) => seenAs(c, SIMULATIONS[name]));
-    for (let i = 0; i < labs.length; i++) for (let j = i + 1; j < labs.length; j++) expect(deltaE(labs[i], labs[j])).toBeGreaterThan(30);
+    for (let i = 0; i < labs.length; i++)
+      for (let j = i + 1; j < labs.length; j++) expect(deltaE(labs[i], labs[j])).toBeGreaterThan(30);
     // Dark enough to read as thin lines on white (L* of white is 100).
     labs.forEach((lab) => expect(lab[0]).toBeLessThan(72));
   });

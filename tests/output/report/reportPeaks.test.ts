@@ -11,9 +11,32 @@ function record(gap: number): PointRecord {
   return {
     energies: [-1, -1 + gap],
     gap,
-    observables: { populations: [[1, 0], [1, 0]], level_mean: [0, 0], spread: [0, 0], string_width: 0, pair_separation: [[0, 0], [0, 0]] },
+    observables: {
+      populations: [
+        [1, 0],
+        [1, 0],
+      ],
+      level_mean: [0, 0],
+      spread: [0, 0],
+      string_width: 0,
+      pair_separation: [
+        [0, 0],
+        [0, 0],
+      ],
+    },
     basis: { kind: 'pinned', dimension: 4, sites: 2, levels: 2, operator: 'on-the-fly', nonzeros: 0 },
-    solver: { method: 'dense', iterations: 1, restarts: 0, residuals: [0, 0], converged: true, tolerance: 1e-9, degeneracy: 1, degeneracy_complete: true, seconds: 0, memory_estimate_bytes: 0 },
+    solver: {
+      method: 'dense',
+      iterations: 1,
+      restarts: 0,
+      residuals: [0, 0],
+      converged: true,
+      tolerance: 1e-9,
+      degeneracy: 1,
+      degeneracy_complete: true,
+      seconds: 0,
+      memory_estimate_bytes: 0,
+    },
   };
 }
 
@@ -24,7 +47,12 @@ describe('the report marks a peak that is the grid point', () => {
     const input: AnalysisInput = {
       axes: [{ key: 'exchange.strength', values: x }],
       zip: false,
-      points: x.map((v, k) => ({ index: k, params: { 'exchange.strength': v }, record: record(gaps[k]), overlapPrevious: null })),
+      points: x.map((v, k) => ({
+        index: k,
+        params: { 'exchange.strength': v },
+        record: record(gaps[k]),
+        overlapPrevious: null,
+      })),
     };
     const analysis = analyseScan(input);
     const peak = analysis.lines[0].indicators.find((i) => i.name === 'gap')!.peak!;
