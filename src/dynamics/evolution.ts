@@ -42,8 +42,9 @@ import {
 } from '../point/memory.js';
 import { defaultKrylovSize, GROUND_COPIES_CAP, lowestEigenpairs } from '../solver/eigensolver.js';
 import { solveSettings } from '../solver/specSettings.js';
-import { applyOverride, cutText, isTable, keyForPath, validateSpec, type Spec } from '../spec/spec.js';
+import { applyOverride, validateSpec, type Spec } from '../spec/spec.js';
 import { labUnits } from '../spec/units.js';
+import { cutText, isTable, keyForPath } from '../spec/validate.js';
 import {
   complexDot,
   complexView,

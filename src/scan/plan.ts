@@ -24,17 +24,17 @@ import { InputError, SpecError } from '../errors/errors.js';
 import { planPoint, type PointPlan } from '../point/solvePoint.js';
 import { formatBytes } from '../format/bytes.js';
 import { DEFAULT_DENSE_THRESHOLD } from '../solver/eigensolver.js';
+import { applyOverride, registerSection, validateSpec, type Spec } from '../spec/spec.js';
 import {
-  applyOverride,
   cutText,
   describeValue,
+  eitherOf,
+  finiteNumber,
   isTable,
+  orDefault,
   quoteText,
-  registerSection,
-  unknownKeyError,
-  validateSpec,
-  type Spec,
-} from '../spec/spec.js';
+  rejectUnknownKeys,
+} from '../spec/validate.js';
 import { runIdentity } from '../runs/runFiles.js';
 import { sectorSizes, type SectorSize } from '../symmetry/sectorSizes.js';
 
@@ -103,9 +103,7 @@ function validateValue(value: unknown, path: string): ScanValue {
 
 function validateAxis(value: unknown, path: string): ScanAxis {
   if (!isTable(value)) throw new SpecError(path, 'expected a table with key and values (or from/to/steps)');
-  for (const k of Object.keys(value)) {
-    if (!AXIS_KEYS.includes(k)) throw unknownKeyError(path, k, AXIS_KEYS);
-  }
+  rejectUnknownKeys(value, path, AXIS_KEYS);
   const key = value.key;
   if (typeof key !== 'string' || key.trim() === '')
     throw new SpecError(`${path}.key`, 'required: the spec key path this axis sets, e.g. "exchange.strength"');
@@ -133,13 +131,8 @@ function validateAxis(value: unknown, path: string): ScanAxis {
   }
   if (!hasRange) throw new SpecError(path, 'needs values = [...] or from, to and steps');
   const number = (k: string): number => {
-    const v = value[k];
-    if (typeof v !== 'number' || !Number.isFinite(v))
-      throw new SpecError(
-        `${path}.${k}`,
-        v === undefined ? 'required with from/to/steps' : `expected a finite number, got ${describeValue(v)}`,
-      );
-    return v;
+    if (value[k] === undefined) throw new SpecError(`${path}.${k}`, 'required with from/to/steps');
+    return finiteNumber(value[k], `${path}.${k}`);
   };
   const from = number('from');
   const to = number('to');
@@ -154,9 +147,7 @@ function validateAxis(value: unknown, path: string): ScanAxis {
       `${path}.steps`,
       `at most ${MAX_SCAN_POINTS} values on an axis (a scan has at most ${MAX_SCAN_POINTS} points), got ${steps}`,
     );
-  const spacing = value.spacing === undefined ? 'linear' : value.spacing;
-  if (spacing !== 'linear' && spacing !== 'log')
-    throw new SpecError(`${path}.spacing`, `expected "linear" or "log", got ${describeValue(spacing)}`);
+  const spacing = eitherOf(orDefault(value.spacing, 'linear'), `${path}.spacing`, 'linear', 'log');
   if (steps === 1 && from !== to)
     throw new SpecError(
       `${path}.steps`,
@@ -179,9 +170,7 @@ function validateAxis(value: unknown, path: string): ScanAxis {
 /** Validator of the [scan] section, registered with the spec module. */
 export function validateScanSection(value: unknown, path: string): ScanSection {
   if (!isTable(value)) throw new SpecError(path, 'expected a table with [[scan.axis]] entries');
-  for (const k of Object.keys(value)) {
-    if (k !== 'axis' && k !== 'zip') throw unknownKeyError(path, k, ['axis', 'zip']);
-  }
+  rejectUnknownKeys(value, path, ['axis', 'zip']);
   const zip = value.zip === undefined ? false : value.zip;
   if (typeof zip !== 'boolean') throw new SpecError(`${path}.zip`, `expected true or false, got ${describeValue(zip)}`);
   const rawAxes = value.axis;

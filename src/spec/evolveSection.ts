@@ -2,7 +2,22 @@
 // the spec (before anything is solved), so a worker that only reads specs never loads the evolution.
 
 import { SpecError } from '../errors/errors.js';
-import { describeValue, isTable, quoteText, registerSection, unknownKeyError, type Spec } from './spec.js';
+import { registerSection, type Spec } from './spec.js';
+import {
+  describeValue,
+  eitherOf,
+  expectTable,
+  finiteNumber,
+  integerAtLeast,
+  integerList,
+  isTable,
+  nonNegativeNumber,
+  orDefault,
+  positiveNumber,
+  quoteText,
+  rejectUnknownKeys,
+  requiredKey,
+} from './validate.js';
 
 /** A resonant pulse of area `area` (= Omega * duration) and phase `phase` between two levels. */
 export interface Pulse {
@@ -37,49 +52,6 @@ export interface EvolveSection {
   ramps: Ramp[];
 }
 
-type Table = Record<string, unknown>;
-
-function onlyKeys(table: Table, path: string, known: readonly string[]): void {
-  for (const key of Object.keys(table)) {
-    if (!known.includes(key)) throw unknownKeyError(path, key, known);
-  }
-}
-
-function tableAt(value: unknown, path: string): Table {
-  if (!isTable(value)) throw new SpecError(path, `expected a table, got ${describeValue(value)}`);
-  return value;
-}
-
-function finite(value: unknown, path: string): number {
-  if (typeof value !== 'number' || !Number.isFinite(value))
-    throw new SpecError(path, `expected a finite number, got ${describeValue(value)}`);
-  return value;
-}
-
-function positive(value: unknown, path: string): number {
-  const x = finite(value, path);
-  if (x <= 0) throw new SpecError(path, `expected a positive number, got ${x}`);
-  return x;
-}
-
-function nonNegative(value: unknown, path: string): number {
-  const x = finite(value, path);
-  if (x < 0) throw new SpecError(path, `expected a number >= 0, got ${x}`);
-  return x;
-}
-
-function integerAtLeast(value: unknown, path: string, least: number): number {
-  if (typeof value !== 'number' || !Number.isSafeInteger(value) || value < least) {
-    throw new SpecError(path, `expected an integer >= ${least}, got ${describeValue(value)}`);
-  }
-  return value;
-}
-
-function integerList(value: unknown, path: string, least = 0): number[] {
-  if (!Array.isArray(value)) throw new SpecError(path, `expected a list of integers, got ${describeValue(value)}`);
-  return value.map((v, i) => integerAtLeast(v, `${path}[${i}]`, least));
-}
-
 function validateInitial(value: unknown, path: string): InitialState {
   if (value === undefined) return { kind: 'levels', levels: null, pulses: [] };
   if (value === 'ground_state') return { kind: 'ground_state', changes: [] };
@@ -92,32 +64,28 @@ function validateInitial(value: unknown, path: string): InitialState {
     );
   }
   if (value.ground_state !== undefined) {
-    onlyKeys(value, path, ['ground_state']);
-    const changes = tableAt(value.ground_state, `${path}.ground_state`);
+    rejectUnknownKeys(value, path, ['ground_state']);
+    const changes = expectTable(value.ground_state, `${path}.ground_state`);
     return { kind: 'ground_state', changes: Object.entries(changes) };
   }
-  onlyKeys(value, path, ['levels', 'pulses', 'ground_state']);
+  rejectUnknownKeys(value, path, ['levels', 'pulses', 'ground_state']);
   const levels = value.levels === undefined ? null : integerList(value.levels, `${path}.levels`, -1);
   const pulses: Pulse[] = [];
   if (value.pulses !== undefined) {
     const list = Array.isArray(value.pulses) ? value.pulses : [value.pulses];
     list.forEach((p, k) => {
       const at = Array.isArray(value.pulses) ? `${path}.pulses[${k}]` : `${path}.pulses`;
-      const t = tableAt(p, at);
-      onlyKeys(t, at, ['between', 'area', 'phase', 'sites']);
+      const t = expectTable(p, at);
+      rejectUnknownKeys(t, at, ['between', 'area', 'phase', 'sites']);
       const between = integerList(t.between, `${at}.between`);
       if (between.length !== 2 || between[0] === between[1]) {
         throw new SpecError(`${at}.between`, `expected two different levels [a, b], got ${describeValue(t.between)}`);
       }
-      if (t.area === undefined)
-        throw new SpecError(
-          `${at}.area`,
-          'required key is missing (pi for a full transfer, pi/2 for an equal superposition)',
-        );
+      const area = requiredKey(t, at, 'area', 'pi for a full transfer, pi/2 for an equal superposition');
       pulses.push({
         between: [between[0], between[1]],
-        area: finite(t.area, `${at}.area`),
-        phase: t.phase === undefined ? 0 : finite(t.phase, `${at}.phase`),
+        area: finiteNumber(area, `${at}.area`),
+        phase: t.phase === undefined ? 0 : finiteNumber(t.phase, `${at}.phase`),
         sites: t.sites === undefined ? null : integerList(t.sites, `${at}.sites`),
       });
     });
@@ -140,25 +108,20 @@ function validateTimes(value: unknown, path: string): number[] {
     if (value.length === 0) throw new SpecError(path, 'expected at least one time');
     if (value.length > MAX_EVOLVE_TIMES)
       throw new SpecError(path, `at most ${MAX_EVOLVE_TIMES} recorded times, got ${value.length}`);
-    const times = value.map((v, i) => nonNegative(v, `${path}[${i}]`));
+    const times = value.map((v, i) => nonNegativeNumber(v, `${path}[${i}]`));
     for (let i = 1; i < times.length; i++) {
       if (!(times[i] > times[i - 1]))
         throw new SpecError(`${path}[${i}]`, `times must increase strictly; ${times[i]} follows ${times[i - 1]}`);
     }
     return times;
   }
-  const t = tableAt(value, path);
-  onlyKeys(t, path, ['from', 'to', 'steps']);
-  const from = t.from === undefined ? 0 : nonNegative(t.from, `${path}.from`);
-  if (t.to === undefined) throw new SpecError(`${path}.to`, 'required key is missing');
-  const to = nonNegative(t.to, `${path}.to`);
+  const t = expectTable(value, path);
+  rejectUnknownKeys(t, path, ['from', 'to', 'steps']);
+  const from = t.from === undefined ? 0 : nonNegativeNumber(t.from, `${path}.from`);
+  const to = nonNegativeNumber(requiredKey(t, path, 'to'), `${path}.to`);
   if (!(to > from)) throw new SpecError(`${path}.to`, `must exceed from = ${from}, got ${to}`);
-  if (t.steps === undefined)
-    throw new SpecError(
-      `${path}.steps`,
-      'required key is missing (the number of intervals; steps+1 times are recorded)',
-    );
-  const steps = integerAtLeast(t.steps, `${path}.steps`, 1);
+  const stepsValue = requiredKey(t, path, 'steps', 'the number of intervals; steps+1 times are recorded');
+  const steps = integerAtLeast(stepsValue, `${path}.steps`, 1);
   // steps + 1 times are recorded.
   if (steps >= MAX_EVOLVE_TIMES)
     throw new SpecError(
@@ -169,8 +132,8 @@ function validateTimes(value: unknown, path: string): number[] {
 }
 
 function validateRamp(value: unknown, path: string): Ramp {
-  const t = tableAt(value, path);
-  onlyKeys(t, path, ['key', 'from', 'to', 'duration', 'start', 'steps']);
+  const t = expectTable(value, path);
+  rejectUnknownKeys(t, path, ['key', 'from', 'to', 'duration', 'start', 'steps']);
   if (typeof t.key !== 'string' || t.key.trim() === '') {
     throw new SpecError(
       `${path}.key`,
@@ -181,16 +144,14 @@ function validateRamp(value: unknown, path: string): Ramp {
   if (key.startsWith('evolve.') || key === 'evolve' || key.startsWith('scan.')) {
     throw new SpecError(`${path}.key`, `a ramp moves a model key, not ${quoteText(key)}`);
   }
-  for (const required of ['from', 'to', 'duration']) {
-    if (t[required] === undefined) throw new SpecError(`${path}.${required}`, 'required key is missing');
-  }
+  for (const required of ['from', 'to', 'duration']) requiredKey(t, path, required);
   return {
     path,
     key,
-    from: finite(t.from, `${path}.from`),
-    to: finite(t.to, `${path}.to`),
-    duration: positive(t.duration, `${path}.duration`),
-    start: t.start === undefined ? 0 : nonNegative(t.start, `${path}.start`),
+    from: finiteNumber(t.from, `${path}.from`),
+    to: finiteNumber(t.to, `${path}.to`),
+    duration: positiveNumber(finiteNumber(t.duration, `${path}.duration`), `${path}.duration`),
+    start: t.start === undefined ? 0 : nonNegativeNumber(t.start, `${path}.start`),
     steps: t.steps === undefined ? 100 : rampSteps(t.steps, `${path}.steps`),
   };
 }
@@ -202,13 +163,14 @@ function rampSteps(value: unknown, path: string): number {
 }
 
 export function validateEvolveSection(value: unknown, keyPath: string): EvolveSection {
-  const t = tableAt(value, keyPath);
-  onlyKeys(t, keyPath, ['initial', 'times', 'time_unit', 'tolerance', 'krylov', 'ramp']);
-  const timeUnit = t.time_unit === undefined ? 'model' : t.time_unit;
-  if (timeUnit !== 'model' && timeUnit !== 'ms') {
-    throw new SpecError(`${keyPath}.time_unit`, `expected "model" or "ms", got ${describeValue(timeUnit)}`);
-  }
-  const tolerance = t.tolerance === undefined ? 1e-8 : positive(t.tolerance, `${keyPath}.tolerance`);
+  const t = expectTable(value, keyPath);
+  rejectUnknownKeys(t, keyPath, ['initial', 'times', 'time_unit', 'tolerance', 'krylov', 'ramp']);
+  const timeUnit = eitherOf(orDefault(t.time_unit, 'model'), `${keyPath}.time_unit`, 'model', 'ms');
+  // A value that is no number is named as not finite before its sign is checked.
+  const tolerance =
+    t.tolerance === undefined
+      ? 1e-8
+      : positiveNumber(finiteNumber(t.tolerance, `${keyPath}.tolerance`), `${keyPath}.tolerance`);
   // Below ~1e-13 the bound is lost in the rounding of the state itself.
   if (tolerance < 1e-13 || tolerance >= 1) {
     throw new SpecError(`${keyPath}.tolerance`, `expected a value between 1e-13 and 1, got ${tolerance}`);

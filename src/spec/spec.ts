@@ -50,6 +50,24 @@ import { extname } from 'node:path';
 import { parse as parseToml, TomlError } from 'smol-toml';
 import { InputError, SpecError } from '../errors/errors.js';
 import { JsonReadError, lineAndColumn, parseJsonStrict } from './json.js';
+import {
+  describeValue,
+  expectTable,
+  finiteNumber,
+  isTable,
+  keyForPath,
+  nonNegativeInteger,
+  numberList,
+  numberOrList,
+  oneOf,
+  orDefault,
+  positiveInteger,
+  positiveNumber,
+  quoteText,
+  rejectUnknownKeys,
+  requiredKey,
+  type Table,
+} from './validate.js';
 
 export type ParticleKind = 'pinned' | 'hardcore' | 'boson' | 'fermion';
 export type ChainBoundary = 'open' | 'periodic';
@@ -98,8 +116,6 @@ export interface Spec {
   /** Validated values of registered sections, keyed by section name. */
   extra: Record<string, unknown>;
 }
-
-type Table = Record<string, unknown>;
 
 const CORE_SECTIONS = ['chain', 'levels', 'exchange', 'ising', 'particles', 'solve'] as const;
 
@@ -596,9 +612,9 @@ function validateSymmetries(value: unknown): Spec['solve']['symmetries'] {
   return value.map((name, i) => oneOf(name, `${path}[${i}]`, SYMMETRY_CHOICES));
 }
 
-function validateSector(value: unknown): Spec['solve']['sector'] {
+function validateSector(raw: unknown): Spec['solve']['sector'] {
   const path = 'solve.sector';
-  if (!isTable(value)) throw new SpecError(path, `expected a table, got ${describeValue(value)}`);
+  const value = expectTable(raw, path);
   rejectUnknownKeys(value, path, ['momentum', 'parity', 'level_flip', 'charge']);
   const sector: Spec['solve']['sector'] = {};
   const list = (key: string) => {
@@ -650,16 +666,7 @@ export function rotorWeights(count: number): number[] {
 }
 
 // ---------------------------------------------------------------------------------------------
-// Small typed readers; each names the key path it reads
-
-export function isTable(value: unknown): value is Table {
-  return typeof value === 'object' && value !== null && !Array.isArray(value) && !(value instanceof Date);
-}
-
-// Only a missing key takes the default: JSON null is a wrong value, as it has no TOML counterpart.
-function orDefault(value: unknown, fallback: unknown): unknown {
-  return value === undefined ? fallback : value;
-}
+// Top-level sections
 
 function requiredSection(raw: Table, name: string): Table {
   if (raw[name] === undefined) throw new SpecError(name, 'required section is missing');
@@ -669,166 +676,5 @@ function requiredSection(raw: Table, name: string): Table {
 function optionalSection(raw: Table, name: string): Table {
   const value = raw[name];
   if (value === undefined) return {};
-  if (!isTable(value)) throw new SpecError(name, `expected a table, got ${describeValue(value)}`);
-  return value;
-}
-
-function requiredKey(table: Table, section: string, key: string): unknown {
-  if (table[key] === undefined) throw new SpecError(`${section}.${key}`, 'required key is missing');
-  return table[key];
-}
-
-function rejectUnknownKeys(table: Table, section: string, known: readonly string[]): void {
-  for (const key of Object.keys(table)) {
-    if (!known.includes(key)) throw unknownKeyError(section, key, known);
-  }
-}
-
-/**
- * The error for a key no section knows, in every section alike: the key path, the nearest known
- * key when one is close, and the valid keys. `section` is the table's key path ('' for the top
- * level, whose keys are sections).
- */
-export function unknownKeyError(section: string, key: string, known: readonly string[]): SpecError {
-  const guess = closestName(key, known);
-  const path = section ? `${section}.${keyForPath(key)}` : keyForPath(key);
-  const what = section ? 'key' : 'section';
-  return new SpecError(
-    path,
-    `unknown ${what}${guess ? ` (did you mean ${guess}?)` : ''}; valid ${what}s: ${known.join(', ')}`,
-  );
-}
-
-/** A key (or key path) as an error names it: plain names as they are, anything else quoted and cut. */
-export function keyForPath(key: string): string {
-  return /^[A-Za-z0-9_.[\]-]{1,60}$/.test(key) ? key : quoteText(key);
-}
-
-function finiteNumber(value: unknown, path: string): number {
-  if (typeof value !== 'number' || !Number.isFinite(value)) {
-    throw new SpecError(path, `expected a finite number, got ${describeValue(value)}`);
-  }
-  return value;
-}
-
-function positiveNumber(value: unknown, path: string): number {
-  if (typeof value !== 'number' || !Number.isFinite(value) || value <= 0) {
-    throw new SpecError(path, `expected a positive number, got ${describeValue(value)}`);
-  }
-  return value;
-}
-
-function positiveInteger(value: unknown, path: string): number {
-  if (typeof value !== 'number' || !Number.isSafeInteger(value) || value < 1) {
-    throw new SpecError(path, `expected a positive integer, got ${describeValue(value)}`);
-  }
-  return value;
-}
-
-function nonNegativeInteger(value: unknown, path: string): number {
-  if (typeof value !== 'number' || !Number.isSafeInteger(value) || value < 0) {
-    throw new SpecError(path, `expected a non-negative integer, got ${describeValue(value)}`);
-  }
-  return value;
-}
-
-function oneOf<const T extends string>(value: unknown, path: string, options: readonly T[], alternative?: string): T {
-  if (typeof value === 'string' && (options as readonly string[]).includes(value)) return value as T;
-  const listed = options.map((o) => `"${o}"`).join(', ');
-  const guess = typeof value === 'string' ? closestName(value, options) : undefined;
-  throw new SpecError(
-    path,
-    `expected one of ${listed}${alternative ? ` ${alternative}` : ''}, got ${describeValue(value)}${guess ? ` (did you mean "${guess}"?)` : ''}`,
-  );
-}
-
-/** A scalar applied to every slot, or a list of exactly `length` finite numbers. */
-function numberOrList(value: unknown, path: string, length: number, why: string): number[] {
-  if (Array.isArray(value)) return numberList(value, path, length, why);
-  if (typeof value !== 'number') {
-    throw new SpecError(path, `expected a number or a list of ${length} numbers (${why}), got ${describeValue(value)}`);
-  }
-  return new Array<number>(length).fill(finiteNumber(value, path));
-}
-
-function numberList(values: unknown[], path: string, length: number, why: string): number[] {
-  if (values.length !== length) {
-    throw new SpecError(path, `expected ${length} ${length === 1 ? 'value' : 'values'} (${why}), got ${values.length}`);
-  }
-  return values.map((v, i) => finiteNumber(v, `${path}[${i}]`));
-}
-
-/** How a value looks in an error message. */
-export function describeValue(value: unknown): string {
-  if (value === undefined) return 'nothing';
-  if (value === null) return 'null';
-  if (typeof value === 'string') return quoteText(value);
-  if (typeof value === 'number') {
-    if (Number.isNaN(value)) return 'nan';
-    if (!Number.isFinite(value)) return value > 0 ? 'inf' : '-inf';
-    return String(value);
-  }
-  if (typeof value === 'boolean') return String(value);
-  if (value instanceof Date) return 'a date';
-  if (Array.isArray(value)) return `a list of ${value.length}`;
-  if (isTable(value)) return 'a table';
-  return typeof value;
-}
-
-/** Longest user text an error message repeats: enough to recognise it, short enough for one line. */
-export const MESSAGE_TEXT_LIMIT = 60;
-
-/** A user-supplied text cut for an error message, saying how long it was when cut. */
-export function cutText(text: string, limit = MESSAGE_TEXT_LIMIT): string {
-  return text.length <= limit ? text : `${headOf(text, limit)}... (${text.length} characters)`;
-}
-
-/** A user-supplied string as an error message shows it: quoted, escaped to one line, cut when long. */
-export function quoteText(text: string, limit = MESSAGE_TEXT_LIMIT): string {
-  return text.length <= limit
-    ? JSON.stringify(text)
-    : `${JSON.stringify(headOf(text, limit))}... (${text.length} characters)`;
-}
-
-function headOf(text: string, limit: number): string {
-  const head = text.slice(0, limit - 3);
-  // Never leave half of a surrogate pair at the cut.
-  return /[\uD800-\uDBFF]$/.test(head) ? head.slice(0, -1) : head;
-}
-
-/** The known name a typo most likely meant, if any is close enough. */
-function closestName(word: string, known: readonly string[]): string | undefined {
-  // A word this long is no typo of a key, and the edit distance would cost its length times each key's.
-  if (word.length > 100) return undefined;
-  const squash = (s: string): string => s.toLowerCase().replace(/[_\-\s]/g, '');
-  // maxPerSite, max-per-site, MAX_PER_SITE all mean max_per_site.
-  const sameWord = known.find((k) => squash(k) === squash(word));
-  if (sameWord) return sameWord;
-  let best: string | undefined;
-  let bestDistance = Infinity;
-  for (const candidate of known) {
-    const distance = editDistance(word.toLowerCase(), candidate.toLowerCase());
-    if (distance < bestDistance && distance <= Math.max(1, Math.floor(candidate.length / 3))) {
-      best = candidate;
-      bestDistance = distance;
-    }
-  }
-  return best;
-}
-
-// Optimal string alignment distance: Levenshtein plus the swap of two neighbours, the commonest typo.
-function editDistance(a: string, b: string): number {
-  let beforePrevious: number[] = [];
-  let previous = Array.from({ length: b.length + 1 }, (_, j) => j);
-  for (let i = 1; i <= a.length; i++) {
-    const current = [i];
-    for (let j = 1; j <= b.length; j++) {
-      current[j] = Math.min(previous[j] + 1, current[j - 1] + 1, previous[j - 1] + (a[i - 1] === b[j - 1] ? 0 : 1));
-      if (i > 1 && j > 1 && a[i - 1] === b[j - 2] && a[i - 2] === b[j - 1])
-        current[j] = Math.min(current[j], beforePrevious[j - 2] + 1);
-    }
-    beforePrevious = previous;
-    previous = current;
-  }
-  return previous[b.length];
+  return expectTable(value, name);
 }

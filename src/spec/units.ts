@@ -25,7 +25,16 @@
 // Constants: CODATA 2018 (c and h exact in the SI since 2019; eps0 measured).
 
 import { SpecError } from '../errors/errors.js';
-import { describeValue, isTable, registerSection, unknownKeyError, type Spec } from './spec.js';
+import { registerSection, type Spec } from './spec.js';
+import {
+  describeValue,
+  expectTable,
+  finiteNumber,
+  isTable,
+  positiveNumber,
+  rejectUnknownKeys,
+  type Table,
+} from './validate.js';
 
 export const CODATA_2018 = {
   /** Speed of light in vacuum, m/s (exact). */
@@ -177,43 +186,27 @@ const UNIT_KEYS = [
   'energy_unit_hz',
 ] as const;
 
-type Table = Record<string, unknown>;
-
-function positive(value: unknown, path: string): number {
-  if (typeof value !== 'number' || !Number.isFinite(value) || value <= 0) {
-    throw new SpecError(path, `expected a positive number, got ${describeValue(value)}`);
-  }
-  return value;
-}
-
-function finite(value: unknown, path: string): number {
-  if (typeof value !== 'number' || !Number.isFinite(value))
-    throw new SpecError(path, `expected a finite number, got ${describeValue(value)}`);
-  return value;
-}
-
+// Its length is checked once the rest of the spec says how many links or levels there are.
 function numberOrList(value: unknown, path: string): number | number[] {
-  if (Array.isArray(value)) return value.map((v, i) => finite(v, `${path}[${i}]`));
+  if (Array.isArray(value)) return value.map((v, i) => finiteNumber(v, `${path}[${i}]`));
   if (typeof value !== 'number')
     throw new SpecError(path, `expected a number or a list of numbers, got ${describeValue(value)}`);
-  return finite(value, path);
+  return finiteNumber(value, path);
 }
 
-export function validateUnitsSection(value: unknown, keyPath: string): UnitsInput {
-  if (!isTable(value)) throw new SpecError(keyPath, `expected a table, got ${describeValue(value)}`);
-  for (const key of Object.keys(value)) {
-    if (!(UNIT_KEYS as readonly string[]).includes(key)) throw unknownKeyError(keyPath, key, UNIT_KEYS);
-  }
+export function validateUnitsSection(raw: unknown, keyPath: string): UnitsInput {
+  const value = expectTable(raw, keyPath);
+  rejectUnknownKeys(value, keyPath, UNIT_KEYS);
   const opt = <T>(key: string, read: (v: unknown, p: string) => T): T | null =>
     value[key] === undefined ? null : read(value[key], `${keyPath}.${key}`);
   const input: UnitsInput = {
-    dipoleDebye: opt('dipole_debye', positive),
-    latticeSpacingNm: opt('lattice_spacing_nm', positive),
-    dipoleAngleDeg: opt('dipole_angle_deg', finite) ?? 90,
-    rotationalConstantGhz: opt('rotational_constant_ghz', positive),
+    dipoleDebye: opt('dipole_debye', positiveNumber),
+    latticeSpacingNm: opt('lattice_spacing_nm', positiveNumber),
+    dipoleAngleDeg: opt('dipole_angle_deg', finiteNumber) ?? 90,
+    rotationalConstantGhz: opt('rotational_constant_ghz', positiveNumber),
     rabiKhz: opt('rabi_khz', numberOrList),
     detuningKhz: opt('detuning_khz', numberOrList),
-    energyUnitHz: opt('energy_unit_hz', positive),
+    energyUnitHz: opt('energy_unit_hz', positiveNumber),
   };
   if (input.dipoleDebye !== null && input.latticeSpacingNm === null) {
     throw new SpecError(
