@@ -2,8 +2,6 @@
 // neighbouring points and a port to report each finished point on). The work lives in src/.
 // The main thread closes the port once the task settles, after every message has arrived.
 import { runScanTask, type ScanTask } from '../src/scan/task.js';
-// Points may carry [units] (it sets couplings) or [evolve]; their validators must be registered here too.
-import '../src/spec/sections.js';
 
 export default function scanWorker(task: ScanTask): number {
   return runScanTask(task);

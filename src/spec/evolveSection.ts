@@ -2,7 +2,7 @@
 // the spec (before anything is solved), so a worker that only reads specs never loads the evolution.
 
 import { SpecError } from '../errors/errors.js';
-import { registerSection, type Spec } from './spec.js';
+import type { Spec } from './specTypes.js';
 import {
   describeValue,
   eitherOf,
@@ -236,5 +236,3 @@ export function resolveEvolveSection(spec: Spec): void {
     });
   }
 }
-
-registerSection('evolve', validateEvolveSection, (spec) => resolveEvolveSection(spec));

@@ -1,5 +1,24 @@
-// The optional spec sections [units] and [evolve] are validated in spec/ and register themselves
-// when their module loads. A process that validates specs without loading the features behind them
-// (a scan worker) imports this module, so every section a user may write is known everywhere.
-import './units.js';
-import './evolveSection.js';
+// The optional top-level sections of a spec, besides the core ones validateSpec checks itself.
+// validateSpec reads this list, so every process that validates specs knows every section a user
+// may write, whatever else it has loaded. A new section is one more entry here.
+
+import type { Spec } from './specTypes.js';
+import { resolveEvolveSection, validateEvolveSection } from './evolveSection.js';
+import { validateScanSection } from './scanSection.js';
+import { resolveUnits, validateUnitsSection } from './units.js';
+
+export interface OptionalSection {
+  /** The top-level key; never the name of a core section. */
+  name: string;
+  /** Checks the raw value, naming key paths below `keyPath` in its SpecErrors; the result lands in spec.extra[name]. */
+  validate: (value: unknown, keyPath: string) => unknown;
+  /** Runs after every section is validated, so a section can derive core values ([units] sets couplings). */
+  resolve?: (spec: Spec, raw: Record<string, unknown>) => void;
+}
+
+/** In this order their validators run, then their resolvers, and an unknown section's error lists them. */
+export const OPTIONAL_SECTIONS: readonly OptionalSection[] = [
+  { name: 'units', validate: validateUnitsSection, resolve: resolveUnits },
+  { name: 'evolve', validate: validateEvolveSection, resolve: resolveEvolveSection },
+  { name: 'scan', validate: validateScanSection },
+];

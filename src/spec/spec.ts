@@ -42,8 +42,8 @@
 //                                                           is the half chain when its smaller side has at
 //                                                           most 256 states; see src/observables/entanglement.ts)
 //
-// Further top-level sections ([scan], [evolve], [units], ...) are validated by whoever registers
-// them with registerSection; their validated values land in spec.extra.
+// The optional top-level sections ([units], [evolve], [scan]) are listed in src/spec/sections.ts;
+// their validated values land in spec.extra.
 
 import { readFileSync } from 'node:fs';
 import { extname } from 'node:path';
@@ -68,56 +68,21 @@ import {
   requiredKey,
   type Table,
 } from './validate.js';
+import { OPTIONAL_SECTIONS } from './sections.js';
+import type { ExchangeWeightsName, InteractionRange, ParticleKind, Spec } from './specTypes.js';
 
-export type ParticleKind = 'pinned' | 'hardcore' | 'boson' | 'fermion';
-export type ChainBoundary = 'open' | 'periodic';
-export type LevelBoundary = 'open' | 'ring';
-export type InteractionRange = 'nearest' | 'dipolar';
-export type ExchangeWeightsName = 'uniform' | 'rotor' | 'list';
-export type SymmetryChoice = 'translation' | 'reflection' | 'level_flip' | 'charge';
+export type {
+  ChainBoundary,
+  ExchangeWeightsName,
+  InteractionRange,
+  LevelBoundary,
+  ParticleKind,
+  Spec,
+  SymmetryChoice,
+} from './specTypes.js';
 
-export interface Spec {
-  chain: { sites: number; boundary: ChainBoundary };
-  levels: {
-    count: number;
-    boundary: LevelBoundary;
-    /** One per link: length count-1 (open) or count (ring). Link l joins level l to l+1; a ring's last link joins count-1 to 0. */
-    tunnelling: number[];
-    /** Peierls phase per link, radians; same length as tunnelling. */
-    phase: number[];
-    /** One per level, length count. */
-    detuning: number[];
-  };
-  exchange: {
-    strength: number;
-    range: InteractionRange;
-    /** Largest separation (lattice spacings) still coupled; Infinity when absent. */
-    cutoff: number;
-    /** c_n per open link, length count-1 (exchange never crosses a ring's closing link). */
-    weights: number[];
-    weightsName: ExchangeWeightsName;
-  };
-  ising: { strength: number; moments: number[]; range: InteractionRange; cutoff: number };
-  particles: { kind: ParticleKind; number: number; maxPerSite: number; hopping: number; onsite: number };
-  solve: {
-    states: number;
-    tolerance: number;
-    maxMatvecs: number | null;
-    krylov: number | null;
-    seed: number;
-    entanglement: 'none' | 'auto' | 'half' | 'all' | number[];
-    /** Symmetries to use: all detected ("auto"), none, or the named ones (each still checked). */
-    symmetries: 'auto' | 'none' | SymmetryChoice[];
-    /** Restrict the solve to these sectors; absent keys mean every value. */
-    sector: { momentum?: number[]; parity?: (1 | -1)[]; level_flip?: (1 | -1)[]; charge?: number[] };
-    /** Threads for one product: "auto" (by size) or a count. */
-    threads: 'auto' | number;
-  };
-  /** Validated values of registered sections, keyed by section name. */
-  extra: Record<string, unknown>;
-}
-
-const CORE_SECTIONS = ['chain', 'levels', 'exchange', 'ising', 'particles', 'solve'] as const;
+/** Sections validated here; the optional ones come from src/spec/sections.ts. */
+export const CORE_SECTIONS = ['chain', 'levels', 'exchange', 'ising', 'particles', 'solve'] as const;
 
 // ---------------------------------------------------------------------------------------------
 // Reading text and files
@@ -325,36 +290,11 @@ function formatPath(steps: readonly PathStep[]): string {
 }
 
 // ---------------------------------------------------------------------------------------------
-// Registered sections
-
-type SectionValidator = (value: unknown, keyPath: string) => unknown;
-/** Runs after every section is validated, so a section can derive core values (e.g. [units] sets couplings). */
-export type SectionResolver = (spec: Spec, raw: Record<string, unknown>) => void;
-const registeredSections = new Map<string, SectionValidator>();
-const sectionResolvers = new Map<string, SectionResolver>();
-
-/**
- * Lets a feature own a top-level section. The validator receives the raw value and the key path
- * to name in its SpecErrors; what it returns is stored in spec.extra[name]. It is only called
- * when the section is present.
- */
-export function registerSection(name: string, validate: SectionValidator, resolve?: SectionResolver): void {
-  if ((CORE_SECTIONS as readonly string[]).includes(name)) {
-    throw new Error(`section "${name}" is built in and cannot be registered`);
-  }
-  const existing = registeredSections.get(name);
-  // Re-registering the same validator is harmless (a module loaded twice); two different ones is a clash.
-  if (existing && existing !== validate) throw new Error(`section "${name}" is already registered`);
-  registeredSections.set(name, validate);
-  if (resolve) sectionResolvers.set(name, resolve);
-}
-
-// ---------------------------------------------------------------------------------------------
 // Validation
 
 /** Checks a raw tree and fills in defaults; every problem is a SpecError naming its key path. */
 export function validateSpec(raw: Record<string, unknown>): Spec {
-  const sectionNames = [...CORE_SECTIONS, ...registeredSections.keys()];
+  const sectionNames = [...CORE_SECTIONS, ...OPTIONAL_SECTIONS.map((section) => section.name)];
   rejectUnknownKeys(raw, '', sectionNames);
 
   const chain = validateChain(requiredSection(raw, 'chain'));
@@ -364,14 +304,11 @@ export function validateSpec(raw: Record<string, unknown>): Spec {
   const particles = validateParticles(optionalSection(raw, 'particles'), chain.sites, levels.count);
   const solve = validateSolve(optionalSection(raw, 'solve'), chain.sites);
 
+  const present = OPTIONAL_SECTIONS.filter((section) => Object.hasOwn(raw, section.name));
   const extra: Record<string, unknown> = {};
-  for (const [name, validate] of registeredSections) {
-    if (Object.hasOwn(raw, name)) extra[name] = validate(raw[name], name);
-  }
+  for (const { name, validate } of present) extra[name] = validate(raw[name], name);
   const spec: Spec = { chain, levels, exchange, ising, particles, solve, extra };
-  for (const [name, resolve] of sectionResolvers) {
-    if (Object.hasOwn(raw, name)) resolve(spec, raw);
-  }
+  for (const { resolve } of present) resolve?.(spec, raw);
   return spec;
 }
 

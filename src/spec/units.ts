@@ -25,7 +25,7 @@
 // Constants: CODATA 2018 (c and h exact in the SI since 2019; eps0 measured).
 
 import { SpecError } from '../errors/errors.js';
-import { registerSection, type Spec } from './spec.js';
+import type { Spec } from './specTypes.js';
 import {
   describeValue,
   expectTable,
@@ -307,8 +307,6 @@ export function resolveUnits(spec: Spec, raw: Record<string, unknown>): void {
   };
   spec.extra.units = resolved;
 }
-
-registerSection('units', validateUnitsSection, resolveUnits);
 
 // ---------------------------------------------------------------------------------------------
 // Text

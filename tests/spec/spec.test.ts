@@ -8,13 +8,13 @@ import {
   applyOverride,
   loadSpec,
   loadSpecFile,
+  CORE_SECTIONS,
   parseSpecText,
-  registerSection,
   rotorWeights,
   validateSpec,
   type Spec,
 } from '../../src/spec/spec.js';
-import '../../src/spec/sections.js';
+import { OPTIONAL_SECTIONS } from '../../src/spec/sections.js';
 import { expandScan } from '../../src/scan/plan.js';
 import { planEvolution } from '../../src/dynamics/evolution.js';
 
@@ -820,31 +820,27 @@ describe('rotorWeights', () => {
   });
 });
 
-describe('registered sections', () => {
-  const validateUnits = (value: unknown, keyPath: string): { energy: string } => {
-    const table = value as Record<string, unknown>;
-    if (typeof table.energy !== 'string') throw new SpecError(`${keyPath}.energy`, 'expected a string');
-    return { energy: table.energy };
-  };
-  registerSection('units_test', validateUnits);
+describe('optional sections', () => {
+  const names = OPTIONAL_SECTIONS.map((section) => section.name);
 
-  it('puts the validated value into spec.extra', () => {
-    const spec = validateSpec({ ...tree(minimal), units_test: { energy: 'kHz' } });
-    expect(spec.extra).toEqual({ units_test: { energy: 'kHz' } });
+  it('never take the name of a core section, nor of each other', () => {
+    for (const name of names) expect(CORE_SECTIONS).not.toContain(name);
+    expect(new Set(names).size).toBe(names.length);
+  });
+
+  it('put their validated value into spec.extra, and only when present', () => {
+    const spec = validateSpec({ ...tree(minimal), units: { energy_unit_hz: 1000 } });
+    expect(Object.keys(spec.extra)).toEqual(['units']);
     expect(validateSpec(tree(minimal)).extra).toEqual({});
   });
 
-  it('lets the section validator name its own key paths', () => {
-    expectSpecError({ ...tree(minimal), units_test: { energy: 3 } }, 'units_test.energy', 'expected a string');
+  it.each(names)('[%s] names an unknown key in its error', (name) => {
+    expectSpecError({ ...tree(minimal), [name]: { colour: 'red' } }, `${name}.colour`, 'unknown key');
   });
 
-  it('still rejects unregistered sections, suggesting registered ones', () => {
-    expectSpecError({ ...tree(minimal), unit_test: {} }, 'unit_test', 'did you mean units_test?');
-  });
-
-  it('refuses to take over a built-in section or an already registered name', () => {
-    expect(() => registerSection('levels', validateUnits)).toThrow();
-    expect(() => registerSection('units_test', (v) => v)).toThrow();
-    expect(() => registerSection('units_test', validateUnits)).not.toThrow();
+  it('are offered, after the core sections, for an unknown section', () => {
+    expect(specErrorOf({ ...tree(minimal), unit: {} }).message).toBe(
+      'unit: unknown section (did you mean units?); valid sections: chain, levels, exchange, ising, particles, solve, units, evolve, scan',
+    );
   });
 });

@@ -6,7 +6,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { SpecError } from '../../src/errors/errors.js';
 import { MAX_EVOLVE_TIMES, MAX_RAMP_STEPS } from '../../src/spec/evolveSection.js';
-import { MAX_SCAN_POINTS } from '../../src/scan/plan.js';
+import { MAX_SCAN_POINTS } from '../../src/spec/scanSection.js';
 import { parseSpecText, validateSpec } from '../../src/spec/spec.js';
 import { runCli } from '../support/cli.js';
 
