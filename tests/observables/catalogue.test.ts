@@ -1,5 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import { availableObservables, type AnalysisInput, analyseScan } from '../../src/analysis/transitions.js';
+import {
+  availableObservables,
+  observableValue,
+  type AnalysisInput,
+  analyseScan,
+} from '../../src/analysis/transitions.js';
 import {
   planEvolution,
   runEvolution,
@@ -13,6 +18,16 @@ import { longRows, summaryCsv, summaryJson } from '../../src/output/summary.js';
 import { solvePoint, type PointRecord } from '../../src/point/solvePoint.js';
 import type { ScanRunSummary } from '../../src/scan/scanRun.js';
 import { validateSpec } from '../../src/spec/spec.js';
+import {
+  HEAT_MAP_SCALARS,
+  OBSERVABLES,
+  POINT_SCALARS,
+  TRACE_CSV_SCALARS,
+  TRACE_OBSERVABLES,
+  observableEntry,
+  pointScalar,
+  type ObservableShape,
+} from '../../src/observables/catalogue.js';
 
 // Small solved records and traces of every kind of content: a pinned chain with its entanglement
 // cuts, a complex itinerant state on a periodic chain (imaginary one-body density matrix, momentum
@@ -301,5 +316,89 @@ describe('readers write observables in a fixed order', () => {
       '⟨n⟩ [levels]',
       'condensate fraction',
     ]);
+  });
+});
+
+/** Whether `value` has the catalogue's shape on a chain of `sites` sites with `levels` levels. */
+function hasShape(shape: ObservableShape, value: unknown, sites: number, levels: number): boolean {
+  const numbers = (v: unknown, n: number) =>
+    Array.isArray(v) && v.length === n && v.every((x) => typeof x === 'number');
+  switch (shape) {
+    case 'scalar':
+      return typeof value === 'number';
+    case 'per site':
+      return numbers(value, sites);
+    case 'per site and level':
+      return Array.isArray(value) && value.length === sites && value.every((row) => numbers(row, levels));
+    case 'per site pair':
+      return Array.isArray(value) && value.length === sites && value.every((row) => numbers(row, sites));
+    case 'per momentum':
+      return value === null || numbers(value, sites);
+    case 'per cut':
+      return (
+        Array.isArray(value) &&
+        value.every((c: Record<string, unknown>) =>
+          ['cut', 'von_neumann', 'renyi_2'].every((k) => typeof c[k] === 'number'),
+        )
+      );
+  }
+}
+
+// A new observable cannot be half-added: whatever a record or a trace holds is in the catalogue,
+// with the shape the catalogue gives, and whatever the catalogue says every point holds is there.
+describe('the catalogue lists every observable a solved point or a trace holds', () => {
+  const records = { pinned, itinerant, openFermions };
+
+  it.each(Object.entries(records))('%s record', (_, record) => {
+    const { sites, levels } = record.basis;
+    for (const [name, value] of Object.entries(record.observables)) {
+      const entry = observableEntry(name);
+      expect(entry?.record, `${name} in the catalogue as a record observable`).toBeDefined();
+      expect(hasShape(entry!.shape, value, sites, levels), `${name} is ${entry!.shape}`).toBe(true);
+    }
+    for (const o of OBSERVABLES.filter((e) => e.record === 'every kind'))
+      expect(record.observables).toHaveProperty(o.name);
+  });
+
+  it('itinerant records hold the itinerant observables; the complex one its imaginary part; cuts their entanglement', () => {
+    for (const o of OBSERVABLES.filter((e) => e.record === 'itinerant kinds')) {
+      expect(itinerant.observables).toHaveProperty(o.name);
+      expect(openFermions.observables).toHaveProperty(o.name);
+    }
+    expect(itinerant.observables).toHaveProperty('one_body_density_matrix_imag');
+    expect(pinned.observables).toHaveProperty('entanglement');
+  });
+
+  it('traces, with and without a ramp', () => {
+    for (const [raw, sites] of [
+      [PINNED_TRACE, 2],
+      [ITINERANT_RAMP, 3],
+    ] as const) {
+      for (const frame of frames(raw)) {
+        for (const [name, value] of Object.entries(frame.observables)) {
+          const entry = observableEntry(name);
+          expect(entry?.trace, `${name} in the catalogue as a trace observable`).toBeDefined();
+          expect(hasShape(entry!.shape, value, sites, 2), `${name} is ${entry!.shape}`).toBe(true);
+        }
+        for (const name of TRACE_OBSERVABLES.always) expect(frame.observables).toHaveProperty(name);
+      }
+    }
+    const ramped = frames(ITINERANT_RAMP)[0].observables;
+    for (const name of TRACE_OBSERVABLES.sometimes) expect(ramped).toHaveProperty(name);
+  });
+
+  it('every scalar it names has a value on some point, and a title', () => {
+    for (const s of POINT_SCALARS) {
+      const values = [pinned, itinerant].map((r) => observableValue(r, s.name));
+      expect(
+        values.some((v) => typeof v === 'number'),
+        s.name,
+      ).toBe(true);
+      expect(pointScalar(s.name)).toEqual(s);
+    }
+    for (const name of [...HEAT_MAP_SCALARS, ...TRACE_CSV_SCALARS])
+      expect(pointScalar(name) ?? observableEntry(name)).toBeDefined();
+    expect(pointScalar('E12')?.title).toBe('E₁₂, energy of state 12');
+    expect(pointScalar('nonsense')).toBeUndefined();
   });
 });
