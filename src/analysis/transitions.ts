@@ -10,6 +10,7 @@ import { detectCrossings, sectorText, type Crossing, type CrossingPoint } from '
 import { finiteSizeFit, type FitResult } from './fits.js';
 import { transitionIndicators, type Indicator, type IndicatorName, type Peak } from './indicators.js';
 import { gapAboveGround, type PointRecord } from '../point/solvePoint.js';
+import { energyIndex, observableEntry, POINT_SCALARS } from '../observables/catalogue.js';
 import type { ScanParams, ScanValue } from '../scan/plan.js';
 import type { ScanRunSummary } from '../scan/scanRun.js';
 import { columnScale, csv, fmt, fmtNoise, table } from '../format/tables.js';
@@ -138,17 +139,15 @@ function halfChainEntry(record: PointRecord): { von_neumann: number; renyi_2: nu
   return list.find((c) => c.cut === half) ?? list[0];
 }
 
-/** Names observableValue understands besides the numeric observables a record carries. */
-export const DERIVED_OBSERVABLES = ['E0', 'E0/L', 'gap', 'entropy', 'renyi_2', 'level_mean', 'spread'] as const;
-
 /**
- * A scalar of a record by name: E0, E1, ... (energies), E0/L (ground energy per site), gap,
- * entropy and renyi_2 (half-chain entanglement), level_mean and spread (averaged over sites), or
- * any numeric observable (string_width, ...). Undefined when the record does not have it.
+ * A scalar of a record by name (the catalogue's POINT_SCALARS): E0, E1, ... (energies), E0/L
+ * (ground energy per site), gap, entropy and renyi_2 (half-chain entanglement), per-site
+ * observables as their mean over sites (level_mean, spread), or a scalar observable
+ * (string_width, ...). Undefined when the record does not have it.
  */
 export function observableValue(record: PointRecord, name: string): number | undefined {
-  const energy = /^E(\d+)$/.exec(name);
-  if (energy) return record.energies[Number(energy[1])];
+  const energy = energyIndex(name);
+  if (energy !== null) return record.energies[energy];
   switch (name) {
     case 'E0/L':
       return record.energies[0] / record.basis.sites;
@@ -158,29 +157,21 @@ export function observableValue(record: PointRecord, name: string): number | und
       return halfChainEntry(record)?.von_neumann;
     case 'renyi_2':
       return halfChainEntry(record)?.renyi_2;
-    case 'level_mean':
-    case 'spread': {
-      const values = record.observables[name];
-      return Array.isArray(values) && values.length > 0 ? values.reduce((s, v) => s + v, 0) / values.length : undefined;
-    }
   }
   const value = record.observables[name];
+  if (observableEntry(name)?.siteMean) {
+    const values = value as number[] | undefined;
+    return Array.isArray(values) && values.length > 0 ? values.reduce((s, v) => s + v, 0) / values.length : undefined;
+  }
   return typeof value === 'number' ? value : undefined;
 }
 
-/** Every scalar name observableValue gives for these records, in a stable order. */
+/** Every scalar name observableValue gives for these records, in catalogue order as each record adds its own. */
 export function availableObservables(records: PointRecord[]): string[] {
-  const names = new Set<string>(['E0', 'E0/L']);
-  for (const r of records) {
-    if (r.gap !== null) names.add('gap');
-    if (halfChainEntry(r)) {
-      names.add('entropy');
-      names.add('renyi_2');
-    }
-    for (const [k, v] of Object.entries(r.observables)) if (typeof v === 'number') names.add(k);
-    names.add('level_mean');
-    names.add('spread');
-  }
+  const names = new Set<string>(POINT_SCALARS.filter((s) => s.offered === 'always').map((s) => s.name));
+  for (const r of records)
+    for (const s of POINT_SCALARS)
+      if (s.offered !== 'with a value' || observableValue(r, s.name) !== undefined) names.add(s.name);
   return [...names];
 }
 
@@ -327,7 +318,7 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
     const fixedKeys = keys.filter((k) => k !== size);
     for (const name of options.fit ?? []) {
       const known = availableObservables(done.map((p) => p.record!));
-      if (!known.includes(name) && !/^E\d+$/.test(name)) {
+      if (!known.includes(name) && energyIndex(name) === null) {
         throw new InputError(
           `--fit ${name}: not an observable of this run (choose from ${known.join(', ')}, or E1, E2, ...)`,
         );

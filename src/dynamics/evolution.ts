@@ -34,6 +34,7 @@ import type { HermitianOperator } from '../operator/hermitian.js';
 import { planFockOperator } from '../operator/fock.js';
 import { basisProbabilities, pinnedObservables, type Observables } from '../observables/pinned.js';
 import { itinerantObservables } from '../observables/itinerant.js';
+import { TRACE_OBSERVABLES } from '../observables/catalogue.js';
 import {
   assertWithinMemory,
   defaultMemoryLimit,
@@ -568,34 +569,12 @@ export function runEvolution(plan: EvolutionPlan, options: EvolveOptions = {}): 
 // ---------------------------------------------------------------------------------------------
 // Output
 
-/** The names `evolve --json` prints for every kind, in order; itinerant kinds add ITINERANT_TRACE_KEYS, ramps ground_overlap. */
-export const TRACE_KEYS = [
-  'populations',
-  'level_mean',
-  'spread',
-  'string_width',
-  'pair_separation',
-  'return_probability',
-  'energy',
-  'norm',
-] as const;
-
-/** The observables itinerant kinds add to every recorded time (src/observables/itinerant.ts). */
-export const ITINERANT_TRACE_KEYS = [
-  'density',
-  'double_occupancy',
-  'one_body_density_matrix',
-  'one_body_density_matrix_imag',
-  'condensate_fraction',
-  'momentum_distribution',
-] as const;
-
-/** `{ name: [time]... }` over the frames: the TRACE_KEYS, the itinerant ones and ground_overlap when the frames have them. */
+/** `{ name: [time]... }` over the frames: the observables of every trace, then those of some traces when the frames have them. */
 export function timeFirstObservables(frames: readonly { observables: object }[]): Record<string, unknown[]> {
   const rows = frames.map((f) => f.observables as Record<string, unknown>);
   const observables: Record<string, unknown[]> = {};
-  for (const key of TRACE_KEYS) observables[key] = rows.map((o) => o[key]);
-  for (const key of [...ITINERANT_TRACE_KEYS, 'ground_overlap']) {
+  for (const key of TRACE_OBSERVABLES.always) observables[key] = rows.map((o) => o[key]);
+  for (const key of TRACE_OBSERVABLES.sometimes) {
     if (rows.some((o) => o[key] !== undefined)) observables[key] = rows.map((o) => o[key]);
   }
   return observables;

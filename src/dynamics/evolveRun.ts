@@ -39,6 +39,7 @@ import { rungchainVersion } from '../runs/version.js';
 import { loadSpec, type Spec } from '../spec/spec.js';
 import { labUnits, describeUnits } from '../spec/units.js';
 import { columnScale, csv, fmt, fmtNoise, fmtSmall, plural, shellCommand, table } from '../format/tables.js';
+import { longObservables, TRACE_CSV_SCALARS } from '../observables/catalogue.js';
 
 export interface FrameRecord {
   kind: 'frame';
@@ -221,8 +222,6 @@ export function tracesJson(contents: EvolveRunContents): Record<string, unknown>
   });
 }
 
-const SCALARS = ['energy', 'norm', 'return_probability', 'string_width', 'ground_overlap'] as const;
-
 /** Tidy CSV: one row per (point, recorded time) with the scalar observables and the mean level over sites. */
 export function tracesCsv(contents: EvolveRunContents): string {
   const rows: unknown[][] = [];
@@ -236,13 +235,16 @@ export function tracesCsv(contents: EvolveRunContents): string {
         f.index,
         f.time,
         f.time_ms,
-        ...SCALARS.map((s) => o[s]),
+        ...TRACE_CSV_SCALARS.map((s) => o[s]),
         mean,
         f.error_bound,
       ]);
     }
   }
-  return csv(['point', ...contents.keys, 'frame', 'time', 'time_ms', ...SCALARS, 'mean_level', 'error_bound'], rows);
+  return csv(
+    ['point', ...contents.keys, 'frame', 'time', 'time_ms', ...TRACE_CSV_SCALARS, 'mean_level', 'error_bound'],
+    rows,
+  );
 }
 
 /** Long CSV: per-site and per-level observables, one value per row. */
@@ -252,11 +254,13 @@ export function tracesLongCsv(contents: EvolveRunContents): string {
     const lead = [t.point, ...contents.keys.map((k) => t.params[k])];
     for (const f of t.frames) {
       const o = f.observables;
-      (o.populations as number[][]).forEach((p, i) =>
-        p.forEach((v, n) => rows.push([...lead, f.time, f.time_ms, 'populations', i, n, v])),
-      );
-      (o.level_mean as number[]).forEach((v, i) => rows.push([...lead, f.time, f.time_ms, 'level_mean', i, null, v]));
-      (o.spread as number[]).forEach((v, i) => rows.push([...lead, f.time, f.time_ms, 'spread', i, null, v]));
+      for (const { name, shape } of longObservables('trace')) {
+        if (shape === 'per site and level')
+          (o[name] as number[][]).forEach((p, i) =>
+            p.forEach((v, n) => rows.push([...lead, f.time, f.time_ms, name, i, n, v])),
+          );
+        else (o[name] as number[]).forEach((v, i) => rows.push([...lead, f.time, f.time_ms, name, i, null, v]));
+      }
     }
   }
   return csv(['point', ...contents.keys, 'time', 'time_ms', 'observable', 'site', 'level', 'value'], rows);

@@ -9,6 +9,7 @@ import { InputError } from '../errors/errors.js';
 import type { ScanParams, ScanValue } from '../scan/plan.js';
 import type { ScanRunSummary } from '../scan/scanRun.js';
 import { columnScale, csvCell, fmt, fmtNoise, table } from '../format/tables.js';
+import { scalarObservablesIn } from '../observables/catalogue.js';
 
 export interface SideBySide {
   /** The axis spread into columns. */
@@ -69,11 +70,7 @@ export function sideBySide(summary: ScanRunSummary, by: string): SideBySide {
     throw new InputError(`--by ${by}: a zipped scan has no rows that share the other axes; use a grid scan`);
   const keys = axes.filter((a) => a.key !== key).map((a) => a.key);
 
-  const scalars = new Set<string>();
-  for (const row of summary.rows) {
-    const obs = row.record?.result?.observables;
-    if (obs) for (const [name, v] of Object.entries(obs)) if (typeof v === 'number') scalars.add(name);
-  }
+  const scalars = scalarObservablesIn(summary.rows.map((row) => row.record?.result?.observables));
   const quantities = ['E0', 'gap', ...scalars];
   const labels = axisLabels(axis.values);
   const labelOf = new Map(axis.values.map((v, k) => [JSON.stringify(v), labels[k]]));

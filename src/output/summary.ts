@@ -7,19 +7,15 @@ import type { ScanParams, ScanValue } from '../scan/plan.js';
 import type { ScanRunSummary, SummaryRow } from '../scan/scanRun.js';
 import { columnScale, csv, fmt, fmtNoise, shellCommand, table } from '../format/tables.js';
 import { formatBytes } from '../format/bytes.js';
+import { longObservables, pointScalar, scalarObservablesIn } from '../observables/catalogue.js';
 
 function finished(summary: ScanRunSummary): SummaryRow[] {
   return summary.rows.filter((r) => r.record !== null);
 }
 
-/** Scalar observables present in any record (string_width, and whatever later issues add). */
+/** Scalar observables present in any record, in catalogue order. */
 function scalarObservables(rows: SummaryRow[]): string[] {
-  const names = new Set<string>();
-  for (const r of rows) {
-    const obs = r.record?.result?.observables;
-    if (obs) for (const [k, v] of Object.entries(obs)) if (typeof v === 'number') names.add(k);
-  }
-  return [...names];
+  return scalarObservablesIn(rows.map((r) => r.record?.result?.observables));
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -125,30 +121,25 @@ export function longRows(summary: ScanRunSummary): LongRow[] {
     const obs = row.record?.result?.observables;
     if (!obs) continue;
     const base = { index: row.index, params: row.params };
-    obs.populations.forEach((p, i) =>
-      p.forEach((value, n) =>
-        out.push({ ...base, observable: 'populations', site: i, level: n, other_site: null, value }),
-      ),
-    );
-    obs.level_mean.forEach((value, i) =>
-      out.push({ ...base, observable: 'level_mean', site: i, level: null, other_site: null, value }),
-    );
-    obs.spread.forEach((value, i) =>
-      out.push({ ...base, observable: 'spread', site: i, level: null, other_site: null, value }),
-    );
-    // Per-site observables of itinerant kinds (src/observables/itinerant.ts), when present.
-    for (const name of ['density', 'double_occupancy']) {
+    for (const { name, shape } of longObservables('scan')) {
       const values = obs[name];
-      if (Array.isArray(values))
-        values.forEach((value: number, i: number) =>
+      if (!Array.isArray(values)) continue;
+      if (shape === 'per site and level')
+        (values as number[][]).forEach((p, i) =>
+          p.forEach((value, n) => out.push({ ...base, observable: name, site: i, level: n, other_site: null, value })),
+        );
+      else if (shape === 'per site pair')
+        // Symmetric with a zero diagonal: each pair once.
+        (values as number[][]).forEach((p, i) =>
+          p.forEach((value, j) => {
+            if (j > i) out.push({ ...base, observable: name, site: i, level: null, other_site: j, value });
+          }),
+        );
+      else
+        (values as number[]).forEach((value, i) =>
           out.push({ ...base, observable: name, site: i, level: null, other_site: null, value }),
         );
     }
-    obs.pair_separation.forEach((p, i) =>
-      p.forEach((value, j) => {
-        if (j > i) out.push({ ...base, observable: 'pair_separation', site: i, level: null, other_site: j, value });
-      }),
-    );
   }
   return out;
 }
@@ -234,7 +225,12 @@ export function summaryText(summary: ScanRunSummary): string {
       r ? fmt(r.seconds, 3) : '',
     ];
   });
-  const out = [table(['point', ...keys, 'status', 'E0', 'gap', 'string width', 'dim', 'products', 'seconds'], rows)];
+  const out = [
+    table(
+      ['point', ...keys, 'status', 'E0', 'gap', pointScalar('string_width')!.short, 'dim', 'products', 'seconds'],
+      rows,
+    ),
+  ];
   const c = summary.counts;
   out.push('');
   out.push(

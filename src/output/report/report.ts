@@ -35,6 +35,7 @@ import type { Indicator } from '../../analysis/indicators.js';
 import { sectorKey, sectorText } from '../../analysis/crossings.js';
 import type { SectorLabel } from '../../symmetry/group.js';
 import type { FitResult } from '../../analysis/fits.js';
+import { HEAT_MAP_SCALARS, POINT_SCALARS, pointScalar } from '../../observables/catalogue.js';
 
 export const MAX_SERIES = 10;
 export const MAX_POINTS = 400;
@@ -44,7 +45,7 @@ export const MAX_POPULATION_SITES = 64;
 /** Rows of any table (values, peaks, fits); the rest are in `summary --csv` or `--analysis --json`. */
 export const MAX_TABLE_ROWS = 200;
 /** Columns the table leaves out to stay narrow (they follow the ones it keeps). */
-const DERIVED_NAMES = new Set(['renyi_2', 'spread']);
+const DERIVED_NAMES = new Set(POINT_SCALARS.filter((s) => s.secondary).map((s) => s.name));
 
 /** Line colours (see the header): navy, amber, wine, green, violet, lavender, brown, mauve. */
 export const PALETTE = [
@@ -311,44 +312,9 @@ interface ObservableInfo {
 }
 
 function observableInfo(name: string): ObservableInfo {
-  const energyUnit = (u: Units) => u.energy;
-  const fixed = (unit: string) => () => unit;
-  const energy = /^E(\d+)$/.exec(name);
-  if (energy)
-    return {
-      title: `E${subscript(energy[1])}, energy of state ${energy[1]}`,
-      short: `E${subscript(energy[1])}`,
-      unit: energyUnit,
-      energy: true,
-    };
-  switch (name) {
-    case 'E0/L':
-      return { title: 'E₀/L, ground energy per site', short: 'E₀/L', unit: energyUnit, energy: true };
-    case 'gap':
-      return { title: 'gap E₁ − E₀', short: 'E₁ − E₀', unit: energyUnit, energy: true };
-    case 'string_width':
-      return { title: 'string width', short: 'string width', unit: fixed('levels²'), energy: false };
-    case 'entropy':
-      return {
-        title: 'half-chain entanglement entropy (von Neumann)',
-        short: 'S, half chain',
-        unit: fixed('nats'),
-        energy: false,
-      };
-    case 'renyi_2':
-      return { title: 'half-chain Rényi-2 entropy', short: 'S₂, half chain', unit: fixed('nats'), energy: false };
-    case 'level_mean':
-      return { title: 'mean level ⟨n⟩, averaged over sites', short: '⟨n⟩', unit: fixed('levels'), energy: false };
-    case 'spread':
-      return {
-        title: 'level spread ⟨n²⟩ − ⟨n⟩², averaged over sites',
-        short: '⟨n²⟩ − ⟨n⟩²',
-        unit: fixed('levels²'),
-        energy: false,
-      };
-  }
   const words = name.replace(/_/g, ' ');
-  return { title: words, short: words, unit: fixed(''), energy: false };
+  const { title, short, energy, unit } = pointScalar(name) ?? { title: words, short: words, energy: false, unit: '' };
+  return { title, short, unit: energy ? (u: Units) => u.energy : () => unit, energy };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -846,7 +812,7 @@ export function renderReport(input: ReportInput): string {
       if (rest.some((a) => JSON.stringify(p.params[a.key]) !== JSON.stringify(fixed[a.key]))) continue;
       cell.set(`${String(p.params[parameter])}|${String(p.params[other.key])}`, p.record!);
     }
-    const heatNames = ['string_width', 'gap', 'entropy', 'E0/L'].filter((n) => names.includes(n));
+    const heatNames = HEAT_MAP_SCALARS.filter((n) => names.includes(n));
     const maps = heatNames.map((name) => {
       const info = observableInfo(name);
       const scale = info.energy ? units.energyScale : 1;
