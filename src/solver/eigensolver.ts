@@ -1198,60 +1198,64 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   }
 }
 
-function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKernels, lanczos: boolean): EigenResult {
-  const dim = op.dim;
+/** What every path of one solve works from: the operator, its options and the checked deflation set. */
+interface Solve {
+  op: HermitianOperator;
+  opts: EigenOptions;
+  kernels: VectorKernels;
+  isComplex: boolean;
+  /** Doubles per vector. */
+  length: number;
+  tolerance: number;
+  /** Orthonormal copies of `opts.deflate`. */
+  deflation: Float64Array[];
+  /** Dimension left to search beside the deflation vectors. */
+  available: number;
+  /** Pairs wanted: `opts.states`, at most `available`. */
+  states: number;
+  groundCopies: number;
+}
+
+function prepareSolve(op: HermitianOperator, opts: EigenOptions, kernels: VectorKernels): Solve {
   const isComplex = op.isComplex;
-  const length = isComplex ? 2 * dim : dim;
-  const tolerance = opts.tolerance;
-  const copyOut = (vectors: Float64Array[]): Float64Array[] =>
-    kernels.arena ? vectors.map((v) => Float64Array.from(v)) : vectors;
+  const length = isComplex ? 2 * op.dim : op.dim;
   const deflation = orthonormalCopies(opts.deflate ?? [], length, isComplex, kernels);
-  const available = dim - deflation.length;
+  const available = op.dim - deflation.length;
   if (available < 1) throw new SpecError('deflate', 'the deflation vectors leave no space to search');
   const states = Math.min(opts.states, available);
   if (opts.initial) checkVectorLength(opts.initial, length, 'initial');
-
-  const fail = (result: EigenResult): EigenResult => {
-    if (!result.converged && opts.throwOnFailure) {
-      let worst = 0;
-      for (const r of result.residuals) worst = Math.max(worst, r);
-      throw new ConvergenceError(
-        `eigensolver did not converge: worst residual ${worst.toExponential(3)} > tolerance ${tolerance} after ${result.matvecs} matrix-vector products`,
-      );
-    }
-    return result;
-  };
-
   const groundCopies = Math.max(0, opts.groundCopies ?? 0);
-  const groundWindow = (e0: number): number => degeneracyWindow(e0, tolerance);
-  const dense = (spent: number): EigenResult => {
-    const solution = denseSolve(op, states, deflation, groundCopies > 0 ? groundWindow : null);
-    const converged = solution.residuals.every((r) => r <= tolerance);
-    opts.onProgress?.({ matvecs: spent + dim, restarts: 0, worstResidual: Math.max(0, ...solution.residuals) });
-    return fail({
-      values: solution.values,
-      vectors: solution.vectors,
-      residuals: solution.residuals,
-      matvecs: spent + dim,
-      restarts: 0,
-      fullSteps: 0,
-      converged,
-      method: 'dense',
-      degeneracy: degeneracyOf(solution.values, tolerance),
-      // The whole spectrum was computed: every copy is among the values.
-      ...(groundCopies > 0 ? { degeneracyComplete: true } : {}),
-    });
+  return {
+    op,
+    opts,
+    kernels,
+    isComplex,
+    length,
+    tolerance: opts.tolerance,
+    deflation,
+    available,
+    states,
+    groundCopies,
   };
-  if (!lanczos) return dense(0);
+}
 
+/** What the Lanczos runs of one solve share, checked from the options. */
+interface LanczosSettings {
+  maxMatvecs: number;
+  requestedKrylov: number;
+  rng: Prng;
+  /** Partial reorthogonalization (see EigenOptions.reorthogonalization). */
+  partial: boolean;
+}
+
+function lanczosSettings(solve: Solve): LanczosSettings {
+  const { opts, states, groundCopies, deflation, length } = solve;
   const maxMatvecs = opts.maxMatvecs ?? Math.max(5000, 50 * states) + 100 * groundCopies;
   if (!(maxMatvecs >= 1)) throw new SpecError('maxMatvecs', 'must be at least 1');
   const requestedKrylov = opts.krylovSize ?? defaultKrylovSize(states);
   if (!Number.isInteger(requestedKrylov) || requestedKrylov < 1) {
     throw new SpecError('krylovSize', 'must be a positive integer');
   }
-  // Basis size: at least one slot beyond the wanted pairs (else no room to restart), at most the space.
-  const krylovFor = (nev: number, wanted: number, space: number): number => Math.min(space, Math.max(wanted, nev + 1));
   const rng = new Prng(
     startSeed(((opts.seed ?? DEFAULT_SEED) ^ (opts.initial ? WARM_START_SALT : 0)) >>> 0, deflation.length),
   );
@@ -1263,227 +1267,367 @@ function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKer
     );
   }
   const partial = reorthogonalization === 'partial' || (reorthogonalization === 'auto' && length >= PARTIAL_MIN_LENGTH);
-  const pool: Float64Array[] = [];
-  let totalMatvecs = 0;
-  let totalRestarts = 0;
-  let totalFullSteps = 0;
-  const progress = opts.onProgress
-    ? (matvecs: number, restarts: number, worst: number): void =>
-        opts.onProgress?.({ matvecs: totalMatvecs + matvecs, restarts: totalRestarts + restarts, worstResidual: worst })
-    : null;
+  return { maxMatvecs, requestedKrylov, rng, partial };
+}
 
-  const main = thickRestartLanczos({
-    op,
+/** Basis size: at least one slot beyond the wanted pairs (else no room to restart), at most the space. */
+function krylovSizeFor(nev: number, wanted: number, space: number): number {
+  return Math.min(space, Math.max(wanted, nev + 1));
+}
+
+/** The Lanczos runs of one solve: what they share (random stream, spare vectors) and their totals. */
+class LanczosRuns {
+  matvecs = 0;
+  restarts = 0;
+  fullSteps = 0;
+  /** Spare vectors of the right length, reused by the next run. */
+  readonly pool: Float64Array[] = [];
+  private readonly progress: CoreInput['progress'];
+
+  constructor(
+    private readonly solve: Solve,
+    private readonly settings: LanczosSettings,
+  ) {
+    const onProgress = solve.opts.onProgress;
+    this.progress = onProgress
+      ? (matvecs, restarts, worst) =>
+          onProgress({ matvecs: this.matvecs + matvecs, restarts: this.restarts + restarts, worstResidual: worst })
+      : null;
+  }
+
+  run(input: Pick<CoreInput, 'nev' | 'krylovSize' | 'maxMatvecs' | 'start' | 'deflation' | 'screenAbove'>): CoreResult {
+    const { op, tolerance, kernels } = this.solve;
+    const { rng, partial } = this.settings;
+    const result = thickRestartLanczos({
+      ...input,
+      op,
+      tolerance,
+      rng,
+      pool: this.pool,
+      progress: this.progress,
+      kernels,
+      partial,
+    });
+    this.matvecs += result.matvecs;
+    this.restarts += result.restarts;
+    this.fullSteps += result.fullSteps;
+    return result;
+  }
+}
+
+/** Results leave the solve's arena as plain arrays. */
+function copyOut(vectors: Float64Array[], kernels: VectorKernels): Float64Array[] {
+  return kernels.arena ? vectors.map((v) => Float64Array.from(v)) : vectors;
+}
+
+/** The result, unless it did not converge and the caller asked for an error instead. */
+function throwIfUnconverged(result: EigenResult, solve: Solve): EigenResult {
+  if (!result.converged && solve.opts.throwOnFailure) {
+    let worst = 0;
+    for (const r of result.residuals) worst = Math.max(worst, r);
+    throw new ConvergenceError(
+      `eigensolver did not converge: worst residual ${worst.toExponential(3)} > tolerance ${solve.tolerance} after ${result.matvecs} matrix-vector products`,
+    );
+  }
+  return result;
+}
+
+/** The dense path, after `spent` products elsewhere. */
+function denseResult(solve: Solve, spent: number): EigenResult {
+  const { op, opts, states, deflation, groundCopies, tolerance } = solve;
+  const dim = op.dim;
+  const groundWindow = (e0: number): number => degeneracyWindow(e0, tolerance);
+  const solution = denseSolve(op, states, deflation, groundCopies > 0 ? groundWindow : null);
+  const converged = solution.residuals.every((r) => r <= tolerance);
+  opts.onProgress?.({ matvecs: spent + dim, restarts: 0, worstResidual: Math.max(0, ...solution.residuals) });
+  return throwIfUnconverged(
+    {
+      values: solution.values,
+      vectors: solution.vectors,
+      residuals: solution.residuals,
+      matvecs: spent + dim,
+      restarts: 0,
+      fullSteps: 0,
+      converged,
+      method: 'dense',
+      degeneracy: degeneracyOf(solution.values, tolerance),
+      // The whole spectrum was computed: every copy is among the values.
+      ...(groundCopies > 0 ? { degeneracyComplete: true } : {}),
+    },
+    solve,
+  );
+}
+
+function solveWith(op: HermitianOperator, opts: EigenOptions, kernels: VectorKernels, lanczos: boolean): EigenResult {
+  const solve = prepareSolve(op, opts, kernels);
+  if (!lanczos) return denseResult(solve, 0);
+  const { states, available, deflation, groundCopies, tolerance } = solve;
+  const settings = lanczosSettings(solve);
+  const runs = new LanczosRuns(solve, settings);
+
+  const main = runs.run({
     nev: states,
-    tolerance,
-    krylovSize: krylovFor(states, requestedKrylov, available),
-    maxMatvecs,
+    krylovSize: krylovSizeFor(states, settings.requestedKrylov, available),
+    maxMatvecs: settings.maxMatvecs,
     start: opts.initial ?? null,
     deflation,
-    rng,
-    pool,
-    progress,
-    kernels,
     screenAbove: opts.screenAbove,
-    partial,
   });
-  totalMatvecs += main.matvecs;
-  totalRestarts += main.restarts;
-  totalFullSteps += main.fullSteps;
   if (main.screened) {
-    pool.length = 0;
+    runs.pool.length = 0;
     return {
       values: main.values,
-      vectors: copyOut(main.vectors),
+      vectors: copyOut(main.vectors, kernels),
       residuals: main.residuals,
-      matvecs: totalMatvecs,
-      restarts: totalRestarts,
-      fullSteps: totalFullSteps,
+      matvecs: runs.matvecs,
+      restarts: runs.restarts,
+      fullSteps: runs.fullSteps,
       converged: false,
       method: 'lanczos',
       degeneracy: degeneracyOf(main.values, tolerance),
       screened: true,
     };
   }
-  const values = Array.from(main.values);
-  const vectors = main.vectors.slice();
-  const residuals = Array.from(main.residuals);
-  let converged = main.converged;
+  const found = new FoundPairs(main, runs.pool);
+  const verification = verifyFound(solve, settings, runs, found, main.converged);
+  const { verified, capReached } = verification;
+  let converged = verification.converged;
+  if (groundCopies > 0 && converged && (capReached || !verified) && solve.length <= DENSE_FALLBACK_LENGTH) {
+    runs.pool.length = 0;
+    return denseResult(solve, runs.matvecs);
+  }
+  if (found.inserted.size > 0 && !remeasureInserted(solve, runs, found)) converged = false;
+  // Partial reorthogonalization keeps the basis orthogonal by estimate; the pairs it returns are
+  // measured. Should the estimate ever have missed a loss (a returned pair leaning on another),
+  // the solve is redone with full reorthogonalization on the budget left.
+  if (settings.partial && orthonormalityDefect(found.vectors, solve.isComplex, kernels) > ORTHONORMALITY_LIMIT) {
+    runs.pool.length = 0;
+    if (settings.maxMatvecs - runs.matvecs > 0) return redoWithFullReorthogonalization(solve, settings, runs);
+    converged = false;
+  }
+  runs.pool.length = 0;
 
-  // Verification pass. Lanczos from one start vector sees a single direction of each degenerate
-  // eigenspace, so missing copies (and, rarely, a level the main run skipped) are looked for by
-  // a fresh random start deflated against everything found: if the lowest eigenvalue of that
-  // deflated problem lies below the highest value found, it belongs in the answer. The lowest
-  // eigenvalue is what a random-start Lanczos finds, whatever its multiplicity, once its lowest
-  // pair is converged well enough (see SCREEN_RESIDUAL_FRACTION), so a run that inserts nothing
-  // leaves the set complete but for a vanishingly unlucky start. Runs look for one pair (double degeneracy is
-  // the common case, and the closing run that inserts nothing is cheapest with one); after two
-  // runs in a row that insert all they looked for, the next looks for twice as many (large
-  // multiplicities).
-  //
-  // With `groundCopies`, while every value found is a copy of the lowest level, the same runs
-  // look for one more copy instead (screening at the top of the level's window rather than below
-  // the highest value), and a copy they find is added rather than swapped in; they stop when a
-  // run finds nothing within the window (the level is complete) or at the cap.
-  const inserted = new Set<Float64Array>();
+  const outValues = Float64Array.from(found.values);
+  return throwIfUnconverged(
+    {
+      values: outValues,
+      vectors: copyOut(found.vectors, kernels),
+      residuals: Float64Array.from(found.residuals),
+      matvecs: runs.matvecs,
+      restarts: runs.restarts,
+      fullSteps: runs.fullSteps,
+      converged: converged && found.vectors.length >= states,
+      method: 'lanczos',
+      degeneracy: degeneracyOf(outValues, tolerance),
+      ...(groundCopies > 0 ? { degeneracyComplete: converged && verified && !capReached } : {}),
+    },
+    solve,
+  );
+}
+
+/** The pairs found so far, ascending, and which of them verification runs brought in. */
+class FoundPairs {
+  readonly values: number[];
+  readonly vectors: Float64Array[];
+  readonly residuals: number[];
+  readonly inserted = new Set<Float64Array>();
+
+  /** Dropped vectors go to `pool`. */
+  constructor(
+    main: CoreResult,
+    private readonly pool: Float64Array[],
+  ) {
+    this.values = Array.from(main.values);
+    this.vectors = main.vectors.slice();
+    this.residuals = Array.from(main.residuals);
+  }
+
+  highest(): number {
+    return this.values[this.values.length - 1];
+  }
+
+  dropHighest(): void {
+    this.pool.push(this.vectors.pop() as Float64Array);
+    this.values.pop();
+    this.residuals.pop();
+  }
+
+  /** Adds a pair from a verification run in its place by value. */
+  insert(value: number, vector: Float64Array, residual: number): void {
+    const values = this.values;
+    let at = values.length;
+    while (at > 0 && values[at - 1] > value) at--;
+    values.splice(at, 0, value);
+    this.vectors.splice(at, 0, vector);
+    this.residuals.splice(at, 0, residual);
+    this.inserted.add(vector);
+  }
+}
+
+/** A value must lie below this to replace `highest` (rounding differences are no new level). */
+function replacementLine(highest: number, tolerance: number): number {
+  return highest - Math.max(2 * tolerance, 1e-11 * Math.max(1, Math.abs(highest)));
+}
+
+interface Verification {
+  converged: boolean;
+  /** No pair is missing (a run found nothing more, or the space is exhausted). */
+  verified: boolean;
+  /** The ground level reached `groundCopies` copies and the screen after found one more. */
+  capReached: boolean;
+}
+
+/**
+ * Verification pass. Lanczos from one start vector sees a single direction of each degenerate
+ * eigenspace, so missing copies (and, rarely, a level the main run skipped) are looked for by
+ * a fresh random start deflated against everything found: if the lowest eigenvalue of that
+ * deflated problem lies below the highest value found, it belongs in the answer. The lowest
+ * eigenvalue is what a random-start Lanczos finds, whatever its multiplicity, once its lowest
+ * pair is converged well enough (see SCREEN_RESIDUAL_FRACTION), so a run that inserts nothing
+ * leaves the set complete but for a vanishingly unlucky start. Runs look for one pair (double degeneracy is
+ * the common case, and the closing run that inserts nothing is cheapest with one); after two
+ * runs in a row that insert all they looked for, the next looks for twice as many (large
+ * multiplicities).
+ *
+ * With `groundCopies`, while every value found is a copy of the lowest level, the same runs
+ * look for one more copy instead (screening at the top of the level's window rather than below
+ * the highest value), and a copy they find is added rather than swapped in; they stop when a
+ * run finds nothing within the window (the level is complete) or at the cap.
+ */
+function verifyFound(
+  solve: Solve,
+  settings: LanczosSettings,
+  runs: LanczosRuns,
+  found: FoundPairs,
+  converged: boolean,
+): Verification {
+  const { states, available, groundCopies, tolerance, deflation, opts } = solve;
+  const groundWindow = (e0: number): number => degeneracyWindow(e0, tolerance);
+  const values = found.values;
   const wholeLevel = (): boolean =>
     groundCopies > 0 && values[values.length - 1] - values[0] <= groundWindow(values[0]);
   let capReached = false;
   let verified = states >= available;
-  if (converged && states < available && opts.verifyDegeneracy !== false) {
-    let searchFor = 1;
-    let fullRounds = 0;
-    const rounds = 4 * Math.max(states, groundCopies) + 4;
-    for (let round = 0; round < rounds; round++) {
-      const extending = wholeLevel();
-      // At the cap, one more screen still tells a complete level from one with more copies.
-      const atCap = extending && values.length >= groundCopies;
-      const space = available - values.length;
-      if (space <= 0) {
-        verified = true;
-        break;
-      }
-      const nev = atCap ? 1 : Math.min(searchFor, space, extending ? groundCopies - values.length : states);
-      const highestBefore = values[values.length - 1];
-      const line = extending
-        ? values[0] + groundWindow(values[0])
-        : highestBefore - Math.max(2 * tolerance, 1e-11 * Math.max(1, Math.abs(highestBefore)));
-      const remainingBudget = maxMatvecs - totalMatvecs;
-      // Running out while looking for further copies leaves the level incomplete, the pairs found converged.
-      if (remainingBudget <= 0) {
-        if (!extending) converged = false;
-        break;
-      }
-      const run = thickRestartLanczos({
-        op,
-        nev,
-        tolerance,
-        krylovSize: krylovFor(nev, Math.min(requestedKrylov, defaultKrylovSize(nev)), space),
-        maxMatvecs: remainingBudget,
-        start: null,
-        deflation: deflation.concat(vectors),
-        rng,
-        pool,
-        progress,
-        kernels,
-        // Only "is anything below the line?" needs answering, not the value itself.
-        screenAbove: line,
-        partial,
-      });
-      totalMatvecs += run.matvecs;
-      totalRestarts += run.restarts;
-      totalFullSteps += run.fullSteps;
-      if (!run.converged) {
-        pool.push(...run.vectors);
-        if (!extending) converged = false;
-        break;
-      }
-      let insertedNow = 0;
-      for (let c = 0; c < run.values.length; c++) {
-        const candidate = run.values[c];
-        const highest = values[values.length - 1];
-        const margin = Math.max(2 * tolerance, 1e-11 * Math.max(1, Math.abs(highest)));
-        const copy = extending && candidate <= line;
-        if (copy || candidate < highest - margin) {
-          if (!copy) {
-            pool.push(vectors.pop() as Float64Array);
-            values.pop();
-            residuals.pop();
-          }
-          let at = values.length;
-          while (at > 0 && values[at - 1] > candidate) at--;
-          values.splice(at, 0, candidate);
-          vectors.splice(at, 0, run.vectors[c]);
-          residuals.splice(at, 0, run.residuals[c]);
-          inserted.add(run.vectors[c]);
-          insertedNow++;
-        } else {
-          pool.push(run.vectors[c]);
-        }
-      }
-      // A lower level found while extending makes the copies above its window surplus.
-      while (values.length > states && values[values.length - 1] - values[0] > groundWindow(values[0])) {
-        pool.push(vectors.pop() as Float64Array);
-        values.pop();
-        residuals.pop();
-      }
-      if (insertedNow === 0) {
-        verified = true;
-        break;
-      }
-      if (atCap) {
-        capReached = true;
-        break;
-      }
-      fullRounds = insertedNow === nev ? fullRounds + 1 : 0;
-      searchFor = fullRounds >= 2 ? Math.min(2 * nev, Math.max(states, groundCopies)) : 1;
+  if (!converged || states >= available || opts.verifyDegeneracy === false) return { converged, verified, capReached };
+  let searchFor = 1;
+  let fullRounds = 0;
+  const rounds = 4 * Math.max(states, groundCopies) + 4;
+  for (let round = 0; round < rounds; round++) {
+    const extending = wholeLevel();
+    // At the cap, one more screen still tells a complete level from one with more copies.
+    const atCap = extending && values.length >= groundCopies;
+    const space = available - values.length;
+    if (space <= 0) {
+      verified = true;
+      break;
     }
+    const nev = atCap ? 1 : Math.min(searchFor, space, extending ? groundCopies - values.length : states);
+    const line = extending ? values[0] + groundWindow(values[0]) : replacementLine(found.highest(), tolerance);
+    const remainingBudget = settings.maxMatvecs - runs.matvecs;
+    // Running out while looking for further copies leaves the level incomplete, the pairs found converged.
+    if (remainingBudget <= 0) {
+      if (!extending) converged = false;
+      break;
+    }
+    const run = runs.run({
+      nev,
+      krylovSize: krylovSizeFor(nev, Math.min(settings.requestedKrylov, defaultKrylovSize(nev)), space),
+      maxMatvecs: remainingBudget,
+      start: null,
+      deflation: deflation.concat(found.vectors),
+      // Only "is anything below the line?" needs answering, not the value itself.
+      screenAbove: line,
+    });
+    if (!run.converged) {
+      runs.pool.push(...run.vectors);
+      if (!extending) converged = false;
+      break;
+    }
+    const insertedNow = takeLowerPairs(found, run, extending ? line : null, tolerance, runs.pool);
+    // A lower level found while extending makes the copies above its window surplus.
+    while (values.length > states && found.highest() - values[0] > groundWindow(values[0])) found.dropHighest();
+    if (insertedNow === 0) {
+      verified = true;
+      break;
+    }
+    if (atCap) {
+      capReached = true;
+      break;
+    }
+    fullRounds = insertedNow === nev ? fullRounds + 1 : 0;
+    searchFor = fullRounds >= 2 ? Math.min(2 * nev, Math.max(states, groundCopies)) : 1;
   }
-  if (groundCopies > 0 && converged && (capReached || !verified) && length <= DENSE_FALLBACK_LENGTH) {
-    pool.length = 0;
-    return dense(totalMatvecs);
-  }
+  return { converged, verified, capReached };
+}
 
-  // Pairs from verification runs were checked against a larger deflation set; measure them
-  // again against the operator itself (one matvec each).
-  if (inserted.size > 0) {
-    const work = pool.pop() ?? kernels.vector(length);
-    const coef = kernels.vector(2 * deflation.length + 2);
-    for (let k = 0; k < vectors.length; k++) {
-      if (!inserted.has(vectors[k])) continue;
-      op.apply(vectors[k], work);
-      totalMatvecs++;
-      const v = vectors[k];
-      const e = values[k];
-      for (let t = 0; t < length; t++) work[t] -= e * v[t];
-      if (deflation.length > 0) kernels.project(work, deflation, deflation.length, isComplex, coef);
-      residuals[k] =
-        deflation.length > 0
-          ? Math.sqrt(kernels.subtract(work, deflation, deflation.length, isComplex, coef, null))
-          : kernels.norm2(work);
-      if (residuals[k] > tolerance) converged = false;
+/**
+ * Takes a verification run's pairs that belong in the answer: one below the highest found replaces
+ * it; with `copyLine` (extending the ground level), one at most that high is added as a further
+ * copy. The rest go to `pool`. Returns how many were taken.
+ */
+function takeLowerPairs(
+  found: FoundPairs,
+  run: CoreResult,
+  copyLine: number | null,
+  tolerance: number,
+  pool: Float64Array[],
+): number {
+  let taken = 0;
+  for (let c = 0; c < run.values.length; c++) {
+    const candidate = run.values[c];
+    const copy = copyLine !== null && candidate <= copyLine;
+    if (copy || candidate < replacementLine(found.highest(), tolerance)) {
+      if (!copy) found.dropHighest();
+      found.insert(candidate, run.vectors[c], run.residuals[c]);
+      taken++;
+    } else {
+      pool.push(run.vectors[c]);
     }
   }
-  // Partial reorthogonalization keeps the basis orthogonal by estimate; the pairs it returns are
-  // measured. Should the estimate ever have missed a loss (a returned pair leaning on another),
-  // the solve is redone with full reorthogonalization on the budget left.
-  if (partial && orthonormalityDefect(vectors, isComplex, kernels) > ORTHONORMALITY_LIMIT) {
-    pool.length = 0;
-    const left = maxMatvecs - totalMatvecs;
-    if (left > 0) {
-      const spent = totalMatvecs;
-      const onProgress = opts.onProgress
-        ? (info: { matvecs: number; restarts: number; worstResidual: number }) =>
-            opts.onProgress!({ ...info, matvecs: spent + info.matvecs })
-        : undefined;
-      const redone = solveWith(
-        op,
-        { ...opts, reorthogonalization: 'full', maxMatvecs: left, onProgress },
-        kernels,
-        lanczos,
-      );
-      return {
-        ...redone,
-        matvecs: redone.matvecs + totalMatvecs,
-        restarts: redone.restarts + totalRestarts,
-        fullSteps: redone.fullSteps + totalFullSteps,
-      };
-    }
-    converged = false;
-  }
-  pool.length = 0;
+  return taken;
+}
 
-  const outValues = Float64Array.from(values);
-  return fail({
-    values: outValues,
-    vectors: copyOut(vectors),
-    residuals: Float64Array.from(residuals),
-    matvecs: totalMatvecs,
-    restarts: totalRestarts,
-    fullSteps: totalFullSteps,
-    converged: converged && vectors.length >= states,
-    method: 'lanczos',
-    degeneracy: degeneracyOf(outValues, tolerance),
-    ...(groundCopies > 0 ? { degeneracyComplete: converged && verified && !capReached } : {}),
-  });
+/**
+ * Pairs from verification runs were checked against a larger deflation set; measures them again
+ * against the operator itself (one matvec each). False when one misses the tolerance.
+ */
+function remeasureInserted(solve: Solve, runs: LanczosRuns, found: FoundPairs): boolean {
+  const { op, kernels, length, deflation, isComplex, tolerance } = solve;
+  const { values, vectors, residuals } = found;
+  const work = runs.pool.pop() ?? kernels.vector(length);
+  const coef = kernels.vector(2 * deflation.length + 2);
+  let withinTolerance = true;
+  for (let k = 0; k < vectors.length; k++) {
+    if (!found.inserted.has(vectors[k])) continue;
+    op.apply(vectors[k], work);
+    runs.matvecs++;
+    const v = vectors[k];
+    const e = values[k];
+    for (let t = 0; t < length; t++) work[t] -= e * v[t];
+    if (deflation.length > 0) kernels.project(work, deflation, deflation.length, isComplex, coef);
+    residuals[k] =
+      deflation.length > 0
+        ? Math.sqrt(kernels.subtract(work, deflation, deflation.length, isComplex, coef, null))
+        : kernels.norm2(work);
+    if (residuals[k] > tolerance) withinTolerance = false;
+  }
+  return withinTolerance;
+}
+
+/** The whole solve again with full reorthogonalization, on the budget `runs` left; counts include both. */
+function redoWithFullReorthogonalization(solve: Solve, settings: LanczosSettings, runs: LanczosRuns): EigenResult {
+  const { op, opts, kernels } = solve;
+  const left = settings.maxMatvecs - runs.matvecs;
+  const spent = runs.matvecs;
+  const onProgress = opts.onProgress
+    ? (info: { matvecs: number; restarts: number; worstResidual: number }) =>
+        opts.onProgress!({ ...info, matvecs: spent + info.matvecs })
+    : undefined;
+  const redone = solveWith(op, { ...opts, reorthogonalization: 'full', maxMatvecs: left, onProgress }, kernels, true);
+  return {
+    ...redone,
+    matvecs: redone.matvecs + runs.matvecs,
+    restarts: redone.restarts + runs.restarts,
+    fullSteps: redone.fullSteps + runs.fullSteps,
+  };
 }
