@@ -292,26 +292,37 @@ interface HelperData {
 
 type HelperMessage = { kind: 'sector'; outcome: SectorOutcome } | { kind: 'error'; name: string; message: string };
 
+/** What a thread solves its sectors with: the same for every sector it takes. */
+interface SectorContext {
+  model: Model;
+  basis: PinnedBasis;
+  plans: SectorPlan[];
+  maps: OrbitMaps;
+  opts: SectorSolveOptions;
+  shared: SharedProgress;
+  /** Where each sector's matrix and Lanczos vectors live; released after each sector. */
+  arena: VectorArena | null;
+  spares: ChunkSpares;
+  /** Threads for one product of a sector whose stored matrix has `work` nonzeros. */
+  threadsFor: (work: number) => number;
+  /** Progress of the solve of sector `index` (none when nobody listens). */
+  progressFor?: (index: number) => EigenOptions['onProgress'] | undefined;
+  /** A thread that builds the later rows of large sectors. */
+  builds?: BuildHelper | null;
+  /** Kernel helper threads kept for the sectors' solves on `threads` threads. */
+  teamFor?: ((threads: number) => KernelTeam | null) | null;
+  /** Product helper threads kept for the sectors' products on `threads` threads. */
+  productTeamFor?: ((threads: number) => ProductTeam | null) | null;
+}
+
 /**
  * Solves one sector: screened out against the current ceiling when it cannot contribute, else its
  * lowest `states` (or fewer, if it is smaller) to the tolerance.
  */
-function solveSector(
-  model: Model,
-  basis: PinnedBasis,
-  plans: SectorPlan[],
-  index: number,
-  maps: OrbitMaps,
-  opts: SectorSolveOptions,
-  shared: SharedProgress,
-  arena: VectorArena | null,
-  spares: ChunkSpares,
-  threadsFor: (work: number) => number,
-  onProgress: EigenOptions['onProgress'] | undefined,
-  builds: BuildHelper | null = null,
-  teamFor: ((threads: number) => KernelTeam | null) | null = null,
-  productTeamFor: ((threads: number) => ProductTeam | null) | null = null,
-): SectorOutcome | null {
+function solveSector(context: SectorContext, index: number): SectorOutcome | null {
+  const { model, basis, plans, maps, opts, shared, arena, spares, threadsFor, builds, teamFor, productTeamFor } =
+    context;
+  const onProgress = context.progressFor?.(index);
   const plan = plans[index];
   const states = opts.states;
   const sector = new SectorBasis(maps.for(plan.label), plan.label);
@@ -644,21 +655,19 @@ export function runSectorHelper(data: HelperData): void {
   try {
     const maps = new OrbitMaps(data.basis, false, data.maps);
     const arena = VectorArena.acquire();
-    const spares = new ChunkSpares();
+    const context: SectorContext = {
+      model: data.model,
+      basis: data.basis,
+      plans: data.plans,
+      maps,
+      opts: data.opts,
+      shared,
+      arena,
+      spares: new ChunkSpares(),
+      threadsFor: () => 1,
+    };
     for (let i; (i = shared.claim()) < data.plans.length;) {
-      const outcome = solveSector(
-        data.model,
-        data.basis,
-        data.plans,
-        i,
-        maps,
-        data.opts,
-        shared,
-        arena,
-        spares,
-        () => 1,
-        undefined,
-      );
+      const outcome = solveSector(context, i);
       if (!outcome) continue;
       const vectors = outcome.states.vectors.filter((v): v is Float64Array => v !== null);
       data.port.postMessage({ kind: 'sector', outcome } satisfies HelperMessage, [
@@ -779,26 +788,25 @@ export function solveInSectors(
         report({ ...info, matvecs: shared.matvecs() + info.matvecs, sector: sector() });
     };
     const arena = VectorArena.acquire();
-    const spares = new ChunkSpares();
     const kernels = new KeptTeam((threads) => (arena ? KernelTeam.start(arena, threads) : null));
     kernelTeams = kernels;
+    const context: SectorContext = {
+      model,
+      basis,
+      plans,
+      maps,
+      opts,
+      shared,
+      arena,
+      spares: new ChunkSpares(),
+      threadsFor,
+      progressFor: onProgressIn,
+      builds,
+      teamFor: (t) => kernels.for(t),
+      productTeamFor: (t) => productTeams.for(t),
+    };
     for (let i; (i = shared.claim()) < plans.length;) {
-      const outcome = solveSector(
-        model,
-        basis,
-        plans,
-        i,
-        maps,
-        opts,
-        shared,
-        arena,
-        spares,
-        threadsFor,
-        onProgressIn(i),
-        builds,
-        (t) => kernels.for(t),
-        (t) => productTeams.for(t),
-      );
+      const outcome = solveSector(context, i);
       if (outcome) outcomes.push(outcome);
       prune(outcomes, shared, opts.tolerance);
     }
