@@ -13,6 +13,7 @@ import { OrbitMap, SectorBasis, type GroupUse, type OrbitMapParts } from './sect
 import { errorFromThread, SpecError } from '../errors/errors.js';
 import type { Model } from '../model/model.js';
 import { ChunkSpares, CsrBuilder, type BuiltRows } from '../operator/csr.js';
+import type { HermitianOperator } from '../operator/hermitian.js';
 import { buildSectorOperator, buildSectorRows } from './sectorOperator.js';
 import { ProductTeam, withThreads } from '../operator/threaded.js';
 import { VectorArena } from '../simd/arena.js';
@@ -292,26 +293,37 @@ interface HelperData {
 
 type HelperMessage = { kind: 'sector'; outcome: SectorOutcome } | { kind: 'error'; name: string; message: string };
 
+/** What a thread solves its sectors with: the same for every sector it takes. */
+interface SectorContext {
+  model: Model;
+  basis: PinnedBasis;
+  plans: SectorPlan[];
+  maps: OrbitMaps;
+  opts: SectorSolveOptions;
+  shared: SharedProgress;
+  /** Where each sector's matrix and Lanczos vectors live; released after each sector. */
+  arena: VectorArena | null;
+  spares: ChunkSpares;
+  /** Threads for one product of a sector whose stored matrix has `work` nonzeros. */
+  threadsFor: (work: number) => number;
+  /** Progress of the solve of sector `index` (none when nobody listens). */
+  progressFor?: (index: number) => EigenOptions['onProgress'] | undefined;
+  /** A thread that builds the later rows of large sectors. */
+  builds?: BuildHelper | null;
+  /** Kernel helper threads kept for the sectors' solves on `threads` threads. */
+  teamFor?: ((threads: number) => KernelTeam | null) | null;
+  /** Product helper threads kept for the sectors' products on `threads` threads. */
+  productTeamFor?: ((threads: number) => ProductTeam | null) | null;
+}
+
 /**
  * Solves one sector: screened out against the current ceiling when it cannot contribute, else its
  * lowest `states` (or fewer, if it is smaller) to the tolerance.
  */
-function solveSector(
-  model: Model,
-  basis: PinnedBasis,
-  plans: SectorPlan[],
-  index: number,
-  maps: OrbitMaps,
-  opts: SectorSolveOptions,
-  shared: SharedProgress,
-  arena: VectorArena | null,
-  spares: ChunkSpares,
-  threadsFor: (work: number) => number,
-  onProgress: EigenOptions['onProgress'] | undefined,
-  builds: BuildHelper | null = null,
-  teamFor: ((threads: number) => KernelTeam | null) | null = null,
-  productTeamFor: ((threads: number) => ProductTeam | null) | null = null,
-): SectorOutcome | null {
+function solveSector(context: SectorContext, index: number): SectorOutcome | null {
+  const { model, basis, plans, maps, opts, shared, arena, spares, threadsFor, builds, teamFor, productTeamFor } =
+    context;
+  const onProgress = context.progressFor?.(index);
   const plan = plans[index];
   const states = opts.states;
   const sector = new SectorBasis(maps.for(plan.label), plan.label);
@@ -322,17 +334,10 @@ function solveSector(
   const stored = buildSectorOperator(model, basis, sector, arena, spares, split);
   const threads = threadsFor(stored.nonzeros());
   const op = withThreads(stored, threads, undefined, undefined, productTeamFor?.(threads) ?? null);
-  let matvecs = 0;
-  let restarts = 0;
+  const tally: SectorTally = { matvecs: 0, restarts: 0 };
   try {
     const isComplex = op.isComplex;
-    let initial: Float64Array | undefined;
-    if (opts.initial) {
-      const c = sector.project(opts.initial, opts.initialComplex ?? false, isComplex);
-      let n2 = 0;
-      for (let k = 0; k < c.length; k++) n2 += c[k] * c[k];
-      if (n2 > 1e-12) initial = c;
-    }
+    const initial = sectorStart(sector, opts, isComplex);
     const base: EigenOptions = {
       states: 1,
       threads,
@@ -345,106 +350,47 @@ function solveSector(
       seed: opts.seed,
       initial,
       onProgress: onProgress
-        ? (info) => onProgress({ ...info, matvecs: matvecs + info.matvecs, restarts: restarts + info.restarts })
+        ? (info) =>
+            onProgress({ ...info, matvecs: tally.matvecs + info.matvecs, restarts: tally.restarts + info.restarts })
         : undefined,
     };
     const need = Math.min(states, sector.dim);
-    const screenLine = (): number => {
-      const { ceiling } = shared.bounds();
-      return ceiling + degeneracyWindow(ceiling, opts.tolerance);
+    const search: SectorSearch = {
+      op,
+      base,
+      need,
+      groundCopies: Math.max(need, Math.min(opts.groundCopies ?? states, sector.dim)),
+      dimension: sector.dim,
+      shared,
+      tolerance: opts.tolerance,
+      copies: plan.copies.length,
+      tally,
     };
-    let energies: number[];
-    let residuals: number[];
-    let vectors: Float64Array[];
-    let converged: boolean;
-    let method: 'dense' | 'lanczos';
-    let groundComplete = true;
-    const groundCopies = Math.max(need, Math.min(opts.groundCopies ?? states, sector.dim));
-    if (Number.isFinite(screenLine()) && sector.dim > denseThresholdFor(need)) {
-      // Screen with the sector's lowest state, converged only as far as the decision needs
-      // (see EigenOptions.screenAbove). A state not screened out is converged to the tolerance,
-      // and the next one is looked for the same way, deflated against those found, so a sector
-      // costs only as many states as can enter the answer.
-      energies = [];
-      residuals = [];
-      vectors = [];
-      converged = true;
-      method = 'lanczos';
-      let screenedAt = NaN;
-      // Past `need`, copies of the sector's lowest level are looked for while it may be the
-      // ground level: the answer's degeneracy and averages need every copy.
-      const levelTop = (): number => energies[0] + degeneracyWindow(energies[0], opts.tolerance);
-      const extending = (): boolean => {
-        if (energies.length < need || energies[energies.length - 1] > levelTop()) return false;
-        const { ground } = shared.bounds();
-        return energies[0] <= ground + degeneracyWindow(ground, opts.tolerance);
+    const found =
+      Number.isFinite(screenLine(shared, opts.tolerance)) && sector.dim > denseThresholdFor(need)
+        ? screenSectorStates(search)
+        : allSectorStates(search);
+    const { energies, residuals, vectors, converged, method, groundComplete } = found;
+    const { matvecs, restarts } = tally;
+    if (found.screenedOut) {
+      const run = {
+        label: plan.label,
+        dimension: sector.dim,
+        method: 'lanczos' as const,
+        iterations: matvecs,
+        lowest: found.screenedAt,
+        screened: true,
+        copies: plan.copies,
+        nonzeros: stored.nonzeros(),
       };
-      while ((energies.length < need || extending()) && energies.length < sector.dim) {
-        // At the cap, one more screen still tells a complete level from one with more copies.
-        const atCap = energies.length >= groundCopies;
-        const next = lowestEigenpairs(op, {
-          ...base,
-          initial: energies.length === 0 ? base.initial : undefined,
-          deflate: vectors,
-          verifyDegeneracy: false,
-          screenAbove: energies.length < need ? screenLine() : levelTop(),
-        });
-        matvecs += next.matvecs;
-        restarts += next.restarts;
-        screenedAt = next.values[0];
-        if (next.screened) break;
-        // A further copy not converged leaves the level incomplete, the states found converged.
-        if (energies.length >= need && !next.converged) {
-          groundComplete = false;
-          break;
-        }
-        if (next.method === 'dense') method = 'dense';
-        converged &&= next.converged;
-        const v = next.vectors[0];
-        energies.push(next.values[0]);
-        // Measured against H itself: the run's own residual is that of H with the found states
-        // projected out, which those states' small residuals perturb.
-        residuals.push(vectors.length === 0 ? next.residuals[0] : residualNorm(op, v, next.values[0]));
-        if (vectors.length > 0) matvecs++;
-        converged &&= residuals[residuals.length - 1] <= opts.tolerance;
-        vectors.push(v);
-        shared.publish([next.values[0]], plan.copies.length);
-        if (atCap) {
-          groundComplete = next.values[0] > levelTop();
-          break;
-        }
-      }
-      if (energies.length === 0) {
-        const run = {
-          label: plan.label,
-          dimension: sector.dim,
-          method: 'lanczos' as const,
-          iterations: matvecs,
-          lowest: screenedAt,
-          screened: true,
-          copies: plan.copies,
-          nonzeros: stored.nonzeros(),
-        };
-        return {
-          run,
-          states: { plan: index, energies: [], residuals: [], vectors: [], complex: isComplex },
-          matvecs,
-          restarts,
-          converged: true,
-          groundComplete: true,
-        };
-      }
-    } else {
-      const result = lowestEigenpairs(op, { ...base, states: need, groundCopies });
-      groundComplete = result.degeneracyComplete ?? false;
-      matvecs += result.matvecs;
-      restarts += result.restarts;
-      energies = Array.from(result.values);
-      residuals = Array.from(result.residuals);
-      vectors = result.vectors;
-      converged = result.converged;
-      method = result.method;
-      shared.publish(energies, plan.copies.length);
+      return {
+        run,
+        states: { plan: index, energies: [], residuals: [], vectors: [], complex: isComplex },
+        matvecs,
+        restarts,
+        converged: true,
+        groundComplete: true,
+      };
     }
     const bounds = shared.bounds();
     const run = {
@@ -473,10 +419,144 @@ function solveSector(
       groundComplete,
     };
   } finally {
-    shared.addMatvecs(matvecs);
+    shared.addMatvecs(tally.matvecs);
     op.close();
     if (arena && mark !== undefined) arena.release(mark);
   }
+}
+
+/** The warm start projected into the sector, unless it has (next to) no component there. */
+function sectorStart(sector: SectorBasis, opts: SectorSolveOptions, isComplex: boolean): Float64Array | undefined {
+  if (!opts.initial) return undefined;
+  const c = sector.project(opts.initial, opts.initialComplex ?? false, isComplex);
+  let n2 = 0;
+  for (let k = 0; k < c.length; k++) n2 += c[k] * c[k];
+  return n2 > 1e-12 ? c : undefined;
+}
+
+/** A new state must lie below this line to enter the answer (+Infinity while fewer than `states` are known). */
+function screenLine(shared: SharedProgress, tolerance: number): number {
+  const { ceiling } = shared.bounds();
+  return ceiling + degeneracyWindow(ceiling, tolerance);
+}
+
+/** Products and restarts spent on one sector so far (its progress reports add them). */
+interface SectorTally {
+  matvecs: number;
+  restarts: number;
+}
+
+/** What finding a sector's states works with. */
+interface SectorSearch {
+  op: HermitianOperator;
+  /** The sector's eigensolver options (one state, its start vector, threads, progress). */
+  base: EigenOptions;
+  /** States wanted from the sector: `states`, at most its dimension. */
+  need: number;
+  /** Most copies of the sector's lowest level looked for while it may be the ground level. */
+  groundCopies: number;
+  dimension: number;
+  shared: SharedProgress;
+  tolerance: number;
+  /** The sector's k <-> -k copies: each energy found counts this many times more. */
+  copies: number;
+  tally: SectorTally;
+}
+
+/** A sector's states as found, before the ones that cannot matter lose their vectors. */
+interface SectorStatesFound {
+  energies: number[];
+  residuals: number[];
+  vectors: Float64Array[];
+  converged: boolean;
+  method: 'dense' | 'lanczos';
+  groundComplete: boolean;
+  /** Nothing in the sector lies below the line: only its lowest value's upper bound was computed. */
+  screenedOut: boolean;
+  /** That upper bound (NaN otherwise). */
+  screenedAt: number;
+}
+
+/**
+ * Screens with the sector's lowest state, converged only as far as the decision needs (see
+ * EigenOptions.screenAbove). A state not screened out is converged to the tolerance, and the next
+ * one is looked for the same way, deflated against those found, so a sector costs only as many
+ * states as can enter the answer.
+ */
+function screenSectorStates(search: SectorSearch): SectorStatesFound {
+  const { op, base, need, groundCopies, dimension, shared, tolerance, copies, tally } = search;
+  const energies: number[] = [];
+  const residuals: number[] = [];
+  const vectors: Float64Array[] = [];
+  let converged = true;
+  let method: 'dense' | 'lanczos' = 'lanczos';
+  let groundComplete = true;
+  let screenedAt = NaN;
+  // Past `need`, copies of the sector's lowest level are looked for while it may be the
+  // ground level: the answer's degeneracy and averages need every copy.
+  const levelTop = (): number => energies[0] + degeneracyWindow(energies[0], tolerance);
+  const extending = (): boolean => {
+    if (energies.length < need || energies[energies.length - 1] > levelTop()) return false;
+    const { ground } = shared.bounds();
+    return energies[0] <= ground + degeneracyWindow(ground, tolerance);
+  };
+  while ((energies.length < need || extending()) && energies.length < dimension) {
+    // At the cap, one more screen still tells a complete level from one with more copies.
+    const atCap = energies.length >= groundCopies;
+    const next = lowestEigenpairs(op, {
+      ...base,
+      initial: energies.length === 0 ? base.initial : undefined,
+      deflate: vectors,
+      verifyDegeneracy: false,
+      screenAbove: energies.length < need ? screenLine(shared, tolerance) : levelTop(),
+    });
+    tally.matvecs += next.matvecs;
+    tally.restarts += next.restarts;
+    screenedAt = next.values[0];
+    if (next.screened) break;
+    // A further copy not converged leaves the level incomplete, the states found converged.
+    if (energies.length >= need && !next.converged) {
+      groundComplete = false;
+      break;
+    }
+    if (next.method === 'dense') method = 'dense';
+    converged &&= next.converged;
+    const v = next.vectors[0];
+    energies.push(next.values[0]);
+    // Measured against H itself: the run's own residual is that of H with the found states
+    // projected out, which those states' small residuals perturb.
+    residuals.push(vectors.length === 0 ? next.residuals[0] : residualNorm(op, v, next.values[0]));
+    if (vectors.length > 0) tally.matvecs++;
+    converged &&= residuals[residuals.length - 1] <= tolerance;
+    vectors.push(v);
+    shared.publish([next.values[0]], copies);
+    if (atCap) {
+      groundComplete = next.values[0] > levelTop();
+      break;
+    }
+  }
+  const screenedOut = energies.length === 0;
+  return { energies, residuals, vectors, converged, method, groundComplete, screenedOut, screenedAt };
+}
+
+/** The sector's lowest `need` states (and every copy of its lowest level, up to the cap) in one solve. */
+function allSectorStates(search: SectorSearch): SectorStatesFound {
+  const { op, base, need, groundCopies, shared, copies, tally } = search;
+  const result = lowestEigenpairs(op, { ...base, states: need, groundCopies });
+  tally.matvecs += result.matvecs;
+  tally.restarts += result.restarts;
+  const energies = Array.from(result.values);
+  shared.publish(energies, copies);
+  return {
+    energies,
+    residuals: Array.from(result.residuals),
+    vectors: result.vectors,
+    converged: result.converged,
+    method: result.method,
+    groundComplete: result.degeneracyComplete ?? false,
+    screenedOut: false,
+    screenedAt: NaN,
+  };
 }
 
 /**
@@ -644,21 +724,19 @@ export function runSectorHelper(data: HelperData): void {
   try {
     const maps = new OrbitMaps(data.basis, false, data.maps);
     const arena = VectorArena.acquire();
-    const spares = new ChunkSpares();
+    const context: SectorContext = {
+      model: data.model,
+      basis: data.basis,
+      plans: data.plans,
+      maps,
+      opts: data.opts,
+      shared,
+      arena,
+      spares: new ChunkSpares(),
+      threadsFor: () => 1,
+    };
     for (let i; (i = shared.claim()) < data.plans.length;) {
-      const outcome = solveSector(
-        data.model,
-        data.basis,
-        data.plans,
-        i,
-        maps,
-        data.opts,
-        shared,
-        arena,
-        spares,
-        () => 1,
-        undefined,
-      );
+      const outcome = solveSector(context, i);
       if (!outcome) continue;
       const vectors = outcome.states.vectors.filter((v): v is Float64Array => v !== null);
       data.port.postMessage({ kind: 'sector', outcome } satisfies HelperMessage, [
@@ -779,26 +857,25 @@ export function solveInSectors(
         report({ ...info, matvecs: shared.matvecs() + info.matvecs, sector: sector() });
     };
     const arena = VectorArena.acquire();
-    const spares = new ChunkSpares();
     const kernels = new KeptTeam((threads) => (arena ? KernelTeam.start(arena, threads) : null));
     kernelTeams = kernels;
+    const context: SectorContext = {
+      model,
+      basis,
+      plans,
+      maps,
+      opts,
+      shared,
+      arena,
+      spares: new ChunkSpares(),
+      threadsFor,
+      progressFor: onProgressIn,
+      builds,
+      teamFor: (t) => kernels.for(t),
+      productTeamFor: (t) => productTeams.for(t),
+    };
     for (let i; (i = shared.claim()) < plans.length;) {
-      const outcome = solveSector(
-        model,
-        basis,
-        plans,
-        i,
-        maps,
-        opts,
-        shared,
-        arena,
-        spares,
-        threadsFor,
-        onProgressIn(i),
-        builds,
-        (t) => kernels.for(t),
-        (t) => productTeams.for(t),
-      );
+      const outcome = solveSector(context, i);
       if (outcome) outcomes.push(outcome);
       prune(outcomes, shared, opts.tolerance);
     }
