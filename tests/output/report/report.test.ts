@@ -3,18 +3,11 @@ import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import type { Browser } from 'playwright-core';
-import {
-  MAX_CELLS,
-  MAX_POINTS,
-  MAX_SERIES,
-  PALETTE,
-  decimate,
-  hexToRgb,
-  linearRgbToLab,
-  renderReport,
-  sequentialColour,
-  type ReportInput,
-} from '../../../src/output/report/report.js';
+import { renderReport, type ReportInput } from '../../../src/output/report/report.js';
+import { MAX_SERIES } from '../../../src/output/report/linePlot.js';
+import { MAX_CELLS } from '../../../src/output/report/heatMap.js';
+import { MAX_POINTS, decimate } from '../../../src/output/report/thinning.js';
+import { PALETTE, hexToRgb, linearRgbToLab, sequentialColour } from '../../../src/output/report/colours.js';
 import { analyseScan, type AnalysisPoint } from '../../../src/analysis/transitions.js';
 import type { PointRecord } from '../../../src/point/solvePoint.js';
 import { ROOT, runCli } from '../../support/cli.js';
