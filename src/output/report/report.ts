@@ -292,21 +292,42 @@ function choosePoint(input: ReportInput): { index: number; why: string } | null 
   return { index: done[Math.floor(done.length / 2)].index, why: 'in the middle of the scan' };
 }
 
-export function renderReport(input: ReportInput): string {
+/** What the sections of the report draw from: the input, its units and the lines along the parameter. */
+interface ReportContext {
+  input: ReportInput;
+  analysis: ScanAnalysis;
+  units: Units;
+  /** The axis the plots run along; null when no numeric axis is scanned. */
+  parameter: string | null;
+  xAxis: AxisUnit | null;
+  /** The solved points. */
+  done: ReportInput['points'];
+  lines: Line[];
+  /** The observables the solved points have, in the order they are drawn. */
+  names: string[];
+  lineName: (fixed: ScanParams) => string;
+  scaleX: (x: number) => number;
+}
+
+function reportContext(input: ReportInput): ReportContext {
   const units = unitsOf(input.energyUnitHz);
   const { analysis } = input;
   const parameter = analysis.parameter;
   const done = input.points.filter((p) => p.record !== null);
   const records = done.map((p) => p.record!);
-  const failed = input.points.length - done.length;
-  const sections: string[] = [];
   const xAxis = parameter ? parameterAxis(parameter, units) : null;
   const lines = parameter ? linesAlong(input, parameter) : [];
   const lineName = (fixed: ScanParams) => showParams(fixed, units);
   const scaleX = (x: number) => x * (xAxis?.scale ?? 1);
-
-  // Observables against the parameter.
   const names = availableObservables(records).filter((n) => n !== 'E0');
+  return { input, analysis, units, parameter, xAxis, done, lines, names, lineName, scaleX };
+}
+
+// Each section below returns its HTML, or null when the scan has nothing for it.
+
+/** Each observable against the parameter, a line per value of the other axes. */
+function observablesSection(context: ReportContext): string | null {
+  const { input, units, parameter, xAxis, lines, names, lineName, scaleX } = context;
   if (parameter && xAxis) {
     const plots = names.map((name) => {
       const info = observableInfo(name);
@@ -324,17 +345,19 @@ export function renderReport(input: ReportInput): string {
         })),
       });
     });
-    sections.push(
-      section(
-        'observables',
-        'Observables',
-        plots,
-        `One line per value of the other scanned ${input.axes.length > 2 ? 'axes' : 'axis'}.`,
-      ),
+    return section(
+      'observables',
+      'Observables',
+      plots,
+      `One line per value of the other scanned ${input.axes.length > 2 ? 'axes' : 'axis'}.`,
     );
   }
+  return null;
+}
 
-  // Heat maps of two-parameter scans.
+/** Heat maps of two-parameter scans. */
+function heatMapsSection(context: ReportContext): string | null {
+  const { input, units, parameter, xAxis, done, names, scaleX } = context;
   const numericAxes = input.axes.filter((a) => a.values.every((v) => typeof v === 'number'));
   if (parameter && xAxis && !input.zip && numericAxes.length >= 2) {
     const other = [...numericAxes].reverse().find((a) => a.key !== parameter)!;
@@ -371,10 +394,14 @@ export function renderReport(input: ReportInput): string {
         notes: rest.length > 0 ? [`other axes held at ${showParams(fixed, units)}`] : [],
       });
     });
-    sections.push(section('heatmaps', 'Two-parameter maps', maps));
+    return section('heatmaps', 'Two-parameter maps', maps);
   }
+  return null;
+}
 
-  // Low spectrum flowing with the parameter.
+/** Low spectrum flowing with the parameter. */
+function spectrumSection(context: ReportContext): string | null {
+  const { units, parameter, xAxis, lines, lineName, scaleX } = context;
   if (parameter && xAxis) {
     const chosen = evenlyChosen(lines, 4);
     const plots = chosen.map((line, k) => {
@@ -392,17 +419,19 @@ export function renderReport(input: ReportInput): string {
         notes: lines.length > chosen.length && k === 0 ? [`${chosen.length} of ${lines.length} lines shown`] : [],
       });
     });
-    sections.push(
-      section(
-        'spectrum',
-        'Low spectrum',
-        plots,
-        'Excitation energies of the lowest states; level crossings and a closing gap show where the ground state changes character.',
-      ),
+    return section(
+      'spectrum',
+      'Low spectrum',
+      plots,
+      'Excitation energies of the lowest states; level crossings and a closing gap show where the ground state changes character.',
     );
   }
+  return null;
+}
 
-  // Lowest level of each symmetry sector: a crossing of the ground state shows as two sectors' lines meeting.
+/** Lowest level of each symmetry sector: a crossing of the ground state shows as two sectors' lines meeting. */
+function sectorLevelsSection(context: ReportContext): string | null {
+  const { analysis, units, parameter, xAxis, lines, lineName, scaleX } = context;
   if (parameter && xAxis) {
     const chosen = evenlyChosen(
       lines.filter((l) => l.points.some((p) => p.record.solver.sector_runs)),
@@ -462,17 +491,19 @@ export function renderReport(input: ReportInput): string {
             : [],
       });
     });
-    sections.push(
-      section(
-        'sectors',
-        'Sector levels',
-        plots,
-        'The lowest energy of each symmetry sector (q: level charge, m: momentum 2πm/L, P: reflection, F: level flip); where the ground state changes sector the lines cross, and diamonds mark the crossings, placed where the two lines meet between grid points.',
-      ),
+    return section(
+      'sectors',
+      'Sector levels',
+      plots,
+      'The lowest energy of each symmetry sector (q: level charge, m: momentum 2πm/L, P: reflection, F: level flip); where the ground state changes sector the lines cross, and diamonds mark the crossings, placed where the two lines meet between grid points.',
     );
   }
+  return null;
+}
 
-  // Transition indicators.
+/** The transition indicators against the parameter with each line's extremum marked, and a table of the extrema. */
+function indicatorsSection(context: ReportContext): string | null {
+  const { analysis, units, parameter, xAxis, lineName, scaleX } = context;
   if (parameter && xAxis && analysis.lines.length > 0) {
     const kinds: Indicator['name'][] = ['gap', 'fidelity', 'curvature', 'width_slope'];
     const plots = kinds.map((name) => {
@@ -555,20 +586,20 @@ export function renderReport(input: ReportInput): string {
             .join('')}</tr>`,
       )
       .join('')}</table>${cutNote(Math.min(MAX_TABLE_ROWS, analysis.lines.length), analysis.lines.length)}`;
-    sections.push(
-      section(
-        'indicators',
-        'Transition indicators',
-        [...plots, `<div class="table-wrap">${table}</div>`],
-        `Diamonds mark each line's extremum (parabola through the extremal grid point and its neighbours), with a bar of ± half the grid spacing. Fidelity susceptibility per site χ_F = −2 ln F/(δ² L) from overlaps F of neighbouring ground states, except across a level crossing, where the extremum is the crossing itself (marked and named in the table). The gap is the distance from the (possibly degenerate) ground level to the next level.`,
-      ),
+    return section(
+      'indicators',
+      'Transition indicators',
+      [...plots, `<div class="table-wrap">${table}</div>`],
+      `Diamonds mark each line's extremum (parabola through the extremal grid point and its neighbours), with a bar of ± half the grid spacing. Fidelity susceptibility per site χ_F = −2 ln F/(δ² L) from overlaps F of neighbouring ground states, except across a level crossing, where the extremum is the crossing itself (marked and named in the table). The gap is the distance from the (possibly degenerate) ground level to the next level.`,
     );
   }
+  return null;
+}
 
-  // Finite-size fits.
+/** Peak positions against 1/size^p with their fits: a plot and a table per size axis. */
+function peakFitFigures(context: ReportContext, power: number, powerText: string): string[] {
+  const { analysis, xAxis, lineName, scaleX } = context;
   const fitParts: string[] = [];
-  const power = analysis.power;
-  const powerText = power === 1 ? '' : `^${fmt(power, 3)}`;
   if (analysis.peak_fits.length > 0 && xAxis) {
     const bySize = new Map<string, typeof analysis.peak_fits>();
     for (const f of analysis.peak_fits) bySize.set(f.size, [...(bySize.get(f.size) ?? []), f]);
@@ -631,6 +662,13 @@ export function renderReport(input: ReportInput): string {
       );
     }
   }
+  return fitParts;
+}
+
+/** Each fitted observable against 1/size^p (or its extrapolation against the parameter), with a table. */
+function observableFitFigures(context: ReportContext, power: number, powerText: string): string[] {
+  const { analysis, units, parameter, xAxis, lineName, scaleX } = context;
+  const fitParts: string[] = [];
   if (analysis.observable_fits.length > 0) {
     const groups = new Map<string, typeof analysis.observable_fits>();
     for (const f of analysis.observable_fits)
@@ -708,18 +746,29 @@ export function renderReport(input: ReportInput): string {
       );
     }
   }
+  return fitParts;
+}
+
+/** Finite-size trends: the fits of peak positions and observables against 1/size^p. */
+function fitsSection(context: ReportContext): string | null {
+  const { analysis } = context;
+  const power = analysis.power;
+  const powerText = power === 1 ? '' : `^${fmt(power, 3)}`;
+  const fitParts = [...peakFitFigures(context, power, powerText), ...observableFitFigures(context, power, powerText)];
   if (fitParts.length > 0) {
-    sections.push(
-      section(
-        'fits',
-        'Finite-size trends',
-        fitParts,
-        `Weighted least squares y = a₀ + a₁ x${analysis.terms > 2 ? ' + a₂ x² …' : ''} with x = 1/size${powerText}; a₀ is the value extrapolated to infinite size. Peak positions are weighted by their grid uncertainty; observables equally, with errors from the residual scatter.`,
-      ),
+    return section(
+      'fits',
+      'Finite-size trends',
+      fitParts,
+      `Weighted least squares y = a₀ + a₁ x${analysis.terms > 2 ? ' + a₂ x² …' : ''} with x = 1/size${powerText}; a₀ is the value extrapolated to infinite size. Peak positions are weighted by their grid uncertainty; observables equally, with errors from the residual scatter.`,
     );
   }
+  return null;
+}
 
-  // Without a numeric parameter (e.g. only particle kinds scanned) there is nothing to draw against: a table.
+/** Without a numeric parameter (e.g. only particle kinds scanned) there is nothing to draw against: a table. */
+function valuesSection(context: ReportContext): string | null {
+  const { input, units, parameter, done, names } = context;
   if (!parameter && done.length > 0) {
     const shown = done.slice(0, MAX_TABLE_ROWS);
     const columns = names.filter((n) => !DERIVED_NAMES.has(n));
@@ -743,14 +792,16 @@ export function renderReport(input: ReportInput): string {
       done.length > shown.length
         ? `<p class="note">first ${shown.length} of ${done.length} points; \`rungchain summary RUN --csv\` has them all</p>`
         : '';
-    sections.push(
-      section('values', 'Values per point', [
-        `<div class="table-wrap"><table class="values">${head}${rows}</table>${more}</div>`,
-      ]),
-    );
+    return section('values', 'Values per point', [
+      `<div class="table-wrap"><table class="values">${head}${rows}</table>${more}</div>`,
+    ]);
   }
+  return null;
+}
 
-  // Populations of one point.
+/** The per-site level populations of one point. */
+function populationsSection(context: ReportContext): string | null {
+  const { input, units } = context;
   const choice = choosePoint(input);
   if (choice !== null) {
     const chosen = choice.index;
@@ -772,16 +823,20 @@ export function renderReport(input: ReportInput): string {
       annotate: sites * levels <= 96,
       notes: pops.length > sites ? [`first ${sites} of ${pops.length} sites`] : [],
     });
-    sections.push(
-      section(
-        'populations',
-        'Level populations of one point',
-        [map],
-        `Chosen ${choice.why}; \`rungchain report RUN --point INDEX\` picks another.`,
-      ),
+    return section(
+      'populations',
+      'Level populations of one point',
+      [map],
+      `Chosen ${choice.why}; \`rungchain report RUN --point INDEX\` picks another.`,
     );
   }
+  return null;
+}
 
+/** The page around the sections: title, what was scanned, notes, a table of contents. */
+function reportPage(context: ReportContext, sections: string[]): string {
+  const { input, analysis, units, done } = context;
+  const failed = input.points.length - done.length;
   const axesText = input.axes
     .map(
       (a) =>
@@ -822,6 +877,21 @@ ${sections.join('\n')}
 </body>
 </html>
 `;
+}
+
+export function renderReport(input: ReportInput): string {
+  const context = reportContext(input);
+  const sections = [
+    observablesSection(context),
+    heatMapsSection(context),
+    spectrumSection(context),
+    sectorLevelsSection(context),
+    indicatorsSection(context),
+    fitsSection(context),
+    valuesSection(context),
+    populationsSection(context),
+  ].filter((html): html is string => html !== null);
+  return reportPage(context, sections);
 }
 
 const STYLE = `
