@@ -4,25 +4,17 @@
 // per-site level populations of one chosen point. Each section has its function here; the plots,
 // their colours and line styles are drawn by the modules beside this one.
 
-import path from 'node:path';
-import { InputError } from '../../errors/errors.js';
 import type { PointRecord } from '../../point/solvePoint.js';
-import { pointTree, type ScanParams } from '../../scan/plan.js';
-import { validateSpec } from '../../spec/spec.js';
-import type { ScanRunSummary } from '../../scan/scanRun.js';
+import type { ScanParams } from '../../scan/plan.js';
 import { fmt } from '../../format/tables.js';
 import {
   PEAK_FIT_CHI2_LIMIT,
   SIZE_AXES,
-  analyseScan,
-  analysisInputOf,
   availableObservables,
   observableValue,
   type AnalysisInput,
-  type AnalysisOptions,
   type ScanAnalysis,
 } from '../../analysis/transitions.js';
-import { labUnits } from '../../spec/units.js';
 import type { Indicator } from '../../analysis/indicators.js';
 import { sectorKey, sectorText } from '../../analysis/crossings.js';
 import type { SectorLabel } from '../../symmetry/group.js';
@@ -31,6 +23,7 @@ import { esc, section } from './html.js';
 import { MAX_SERIES, renderLinePlot } from './linePlot.js';
 import { renderHeatMap } from './heatMap.js';
 import { evenlyChosen } from './thinning.js';
+import { REPORT_STYLE } from './style.js';
 
 /** Populations drawn for a chosen point: larger chains are cut to this many sites. */
 export const MAX_POPULATION_SITES = 64;
@@ -860,7 +853,7 @@ function reportPage(context: ReportContext, sections: string[]): string {
 <meta charset="utf-8">
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>${esc(input.title)}</title>
-<style>${STYLE}</style>
+<style>${REPORT_STYLE}</style>
 </head>
 <body>
 <header>
@@ -892,95 +885,4 @@ export function renderReport(input: ReportInput): string {
     populationsSection(context),
   ].filter((html): html is string => html !== null);
   return reportPage(context, sections);
-}
-
-const STYLE = `
-:root { color-scheme: light; }
-body { font-family: system-ui, -apple-system, "Segoe UI", sans-serif; margin: 0 auto; max-width: 1240px; padding: 16px 24px 40px; color: #1a1a1a; background: #ffffff; }
-h1 { font-size: 1.45rem; margin: 0.2em 0; }
-h2 { font-size: 1.15rem; margin: 1.6em 0 0.4em; border-bottom: 1px solid #d0d0d0; padding-bottom: 4px; }
-p.about, p.intro { margin: 0.25em 0; color: #333333; max-width: 70em; }
-p.note { margin: 0.2em 0; font-size: 0.85rem; color: #555555; }
-nav { margin: 0.8em 0; font-size: 0.95rem; }
-nav a { color: #1d367e; }
-.figures { display: flex; flex-wrap: wrap; gap: 18px; }
-figure.plot-figure { margin: 0; flex: 1 1 520px; max-width: 600px; }
-figcaption { font-weight: 600; font-size: 0.92rem; margin-bottom: 4px; }
-svg.plot, svg.heatmap { width: 100%; height: auto; display: block; }
-svg .frame { fill: none; stroke: #444444; stroke-width: 1; }
-svg .colour-bar { stroke: #444444; stroke-width: 1; }
-svg .grid { stroke: #e3e3e3; stroke-width: 1; }
-svg .axis { stroke: #444444; stroke-width: 1; }
-svg .tick { font-size: 11px; fill: #333333; }
-svg .axis-label { font-size: 12.5px; fill: #1a1a1a; }
-svg .cell-text { font-size: 10px; }
-svg .line { fill: none; stroke-width: 2; stroke-linejoin: round; }
-svg .markers { stroke-width: 1.3; }
-svg .errorbar { fill: none; stroke-width: 1.4; }
-ul.legend { list-style: none; padding: 0; margin: 4px 0 0; display: flex; flex-wrap: wrap; gap: 2px 14px; font-size: 0.82rem; }
-ul.legend li { display: flex; align-items: center; gap: 4px; }
-.table-wrap { flex: 1 1 100%; overflow-x: auto; }
-table { border-collapse: collapse; font-size: 0.85rem; margin: 6px 0; }
-th, td { border: 1px solid #d0d0d0; padding: 3px 8px; text-align: left; vertical-align: top; }
-th { background: #f3f3f3; }
-footer { margin-top: 2em; font-size: 0.8rem; color: #666666; }
-@media print { figure.plot-figure { break-inside: avoid; } }
-`;
-
-// ---------------------------------------------------------------------------------------------
-// From a run folder
-
-export interface RunReportOptions extends AnalysisOptions {
-  point?: number;
-}
-
-/**
- * The model's energy unit in Hz when every solved point of the run has the same laboratory units,
- * else null (model units); a run without [units] gives null.
- */
-function runEnergyUnitHz(summary: ScanRunSummary): { hz: number | null; note: string | null } {
-  const raw = summary.manifest.spec;
-  if (typeof raw !== 'object' || raw === null || !('units' in raw)) return { hz: null, note: null };
-  let hz: number | null = null;
-  for (const row of summary.rows) {
-    if (row.record?.status !== 'done') continue;
-    let value: number | undefined;
-    try {
-      value = labUnits(validateSpec(pointTree(raw, row.params)))?.energyUnitHz;
-    } catch {
-      value = undefined;
-    }
-    if (value === undefined)
-      return { hz: null, note: 'laboratory units could not be read back from the run; energies are in model units' };
-    if (hz !== null && Math.abs(value - hz) > 1e-9 * Math.abs(hz)) {
-      return {
-        hz: null,
-        note: 'the energy unit in Hz changes across the scan (it follows a scanned coupling); energies are in model units',
-      };
-    }
-    hz = value;
-  }
-  return { hz, note: null };
-}
-
-/** Everything the report of a scan run folder needs, with the analysis done. */
-export function reportInputFromRun(summary: ScanRunSummary, options: RunReportOptions = {}): ReportInput {
-  const input = analysisInputOf(summary);
-  const analysis = analyseScan(input, options);
-  const { hz, note } = runEnergyUnitHz(summary);
-  if (note) analysis.notes.push(note);
-  if (options.point !== undefined && !input.points.some((p) => p.index === options.point && p.record !== null)) {
-    throw new InputError(
-      `--point ${options.point}: no solved point with that index in ${summary.dir} (points 0 to ${input.points.length - 1})`,
-    );
-  }
-  const specName = typeof summary.manifest.spec_path === 'string' ? path.basename(summary.manifest.spec_path) : 'scan';
-  return {
-    ...input,
-    title: `rungchain report: ${specName}`,
-    about: [`Run folder ${summary.dir}, started ${summary.manifest.created} (rungchain ${summary.manifest.version}).`],
-    analysis,
-    energyUnitHz: hz,
-    chosenPoint: options.point,
-  };
 }
