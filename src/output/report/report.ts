@@ -872,6 +872,7 @@ ${sections.join('\n')}
 `;
 }
 
+/** The report page: every section the scan has something for, in this order. */
 export function renderReport(input: ReportInput): string {
   const context = reportContext(input);
   const sections = [
