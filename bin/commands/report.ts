@@ -3,7 +3,8 @@
 import path from 'node:path';
 import type { Command } from 'commander';
 import { InputError } from '../../src/errors/errors.js';
-import { renderReport, reportInputFromRun } from '../../src/output/report/report.js';
+import { renderReport } from '../../src/output/report/report.js';
+import { reportInputFromRun } from '../../src/output/report/reportInputFromRun.js';
 import { makeFolderFor, writeFileAtomic } from '../../src/runs/runFiles.js';
 import { loadScanRun } from '../../src/scan/scanRun.js';
 import { addAnalysisOptions, analysisOptions, checkOutOption, type AnalysisFlags } from './shared.js';
