@@ -16,11 +16,11 @@ import { expandScan, formatParams, pointCost, sizeScan, type ScanPlan, type Scan
 import { RunWriter } from '../runs/runFiles.js';
 import { assignShards, type Shard } from './shard.js';
 import { newClaims, takeTail, unclaimed } from './claims.js';
-import { latestRecords } from './scanRun.js';
+import { latestRecords, type ScanRecord } from './record.js';
 import { workerScript } from '../threads/team.js';
 import { defaultRunDir } from '../runs/folders.js';
 import { rungchainVersion } from '../runs/version.js';
-import type { ScanRecord, TaskMessage } from './task.js';
+import type { TaskMessage } from './task.js';
 
 // ---------------------------------------------------------------------------------------------
 // The worker pool: built here and only here, so the choice between point-parallel and
