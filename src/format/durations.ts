@@ -1,5 +1,5 @@
-// Durations as text: a rough estimate for people, a compact clock for progress lines, and the
-// time limit a batch scheduler reads.
+// Durations as text: a rough estimate for people, a compact clock for progress lines, whole
+// units for a live status line, and the time limit a batch scheduler reads.
 
 /** A rough duration for people: seconds to days, two significant figures at most. */
 export function roughDuration(seconds: number): string {
@@ -18,6 +18,13 @@ export function compactDuration(seconds: number): string {
   if (s < 60) return `${s}s`;
   if (s < 3600) return `${Math.floor(s / 60)}m${String(s % 60).padStart(2, '0')}s`;
   return `${Math.floor(s / 3600)}h${String(Math.floor((s % 3600) / 60)).padStart(2, '0')}m`;
+}
+
+/** Seconds, minutes or hours with the unit spelled: 42 s, 17 min, 2.5 h. */
+export function secondsMinutesHours(seconds: number): string {
+  if (seconds < 90) return `${seconds.toFixed(0)} s`;
+  if (seconds < 5400) return `${(seconds / 60).toFixed(0)} min`;
+  return `${(seconds / 3600).toFixed(1)} h`;
 }
 
 /** A time limit in Slurm's form, HH:MM:00 or D-HH:MM:00, rounded up to whole minutes (at least one). */

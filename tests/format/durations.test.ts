@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { compactDuration, roughDuration, slurmTimeLimit } from '../../src/format/durations.js';
+import { compactDuration, roughDuration, secondsMinutesHours, slurmTimeLimit } from '../../src/format/durations.js';
 
 describe('durations as text', () => {
   // Slurm's --time forms "hours:minutes:seconds" and "days-hours:minutes:seconds" (sbatch manual).
@@ -24,5 +24,12 @@ describe('durations as text', () => {
     expect(roughDuration(90)).toBe('about 90 s');
     expect(roughDuration(150)).toBe('about 2.5 min');
     expect(roughDuration(3 * 86400)).toBe('about 3 days');
+  });
+
+  it('writes a live status duration in whole seconds or minutes, then tenths of hours', () => {
+    expect(secondsMinutesHours(42.4)).toBe('42 s');
+    expect(secondsMinutesHours(89)).toBe('89 s');
+    expect(secondsMinutesHours(1000)).toBe('17 min');
+    expect(secondsMinutesHours(9000)).toBe('2.5 h');
   });
 });
