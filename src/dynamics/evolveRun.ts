@@ -11,33 +11,27 @@
 //         with a ramp, ground_overlap; time in model units, time_ms with [units] (else null)
 //     { kind: "trace", point, params, status: "done" | "failed", error?, stats, notes, finished }
 //         when a point's trace ends
-//   checkpoint-<point>.bin   the state of an unfinished trace (deleted when the trace is done):
-//     bytes 0..3 "RCK1", 4..7 uint32 header length h (LE), then h bytes of JSON header
-//     { identity, point, dim, next_frame, time, error_bound, matvecs, steps, crc32 }, then psi(time)
-//     and psi(0) as little-endian float64, interleaved re,im, 2*dim each. Written atomically.
+//   checkpoint-<point>.bin   the state of an unfinished trace (deleted when the trace is done; see checkpoint.ts)
 // A frame already in the records is never written twice: a resume from an older checkpoint
 // recomputes those frames and skips them.
 
-import { existsSync, readdirSync, readFileSync, unlinkSync } from 'node:fs';
-import path from 'node:path';
-import { crc32 } from 'node:zlib';
 import { FileSystemError, InputError, RunFileError, SpecError, isRungchainError } from '../errors/errors.js';
 import {
   Evolution,
   planEvolution,
   timeFirstObservables,
-  type EvolutionCheckpoint,
   type EvolutionFrame,
   type EvolutionPlan,
   type EvolutionResult,
 } from './evolution.js';
-import { readRun, runIdentity, writeFileAtomic, type RunWriter } from '../runs/runFiles.js';
+import { readRun, runIdentity, type RunWriter } from '../runs/runFiles.js';
+import { readCheckpoint, removeCheckpoint, removeTemporaryCheckpoints, writeCheckpoint } from './checkpoint.js';
 import { failedWriteError, onStopSignals, openRunFolder, tornRecordNote } from '../runs/openRun.js';
 import { defaultMemoryLimit } from '../point/memory.js';
 import { expandScan, formatParams, type ScanParams } from '../scan/plan.js';
 import { defaultRunDir } from '../runs/folders.js';
 import { loadSpec, type Spec } from '../spec/spec.js';
-import { labUnits, describeUnits } from '../spec/units.js';
+import { labUnits, describeUnits, type LabUnits } from '../spec/units.js';
 import { columnScale, csv, fmt, fmtNoise, plural, table } from '../format/tables.js';
 
 export interface FrameRecord {
@@ -72,88 +66,6 @@ export interface Trace {
   frames: FrameRecord[];
   stats?: Record<string, number>;
   notes: string[];
-}
-
-// ---------------------------------------------------------------------------------------------
-// Checkpoints
-
-const CHECKPOINT_MAGIC = Buffer.from('RCK1', 'latin1');
-
-export function checkpointPath(dir: string, point: number): string {
-  return path.join(dir, `checkpoint-${point}.bin`);
-}
-
-/** Deletes a point's checkpoint and any temporary copy a killed writer left half written. */
-export function removeCheckpoint(dir: string, point: number): void {
-  const name = path.basename(checkpointPath(dir, point));
-  for (const file of readdirSync(dir)) {
-    if (file === name || file.startsWith(`${name}.tmp.`)) unlinkSync(path.join(dir, file));
-  }
-}
-
-export function writeCheckpoint(dir: string, identity: string, point: number, c: EvolutionCheckpoint): void {
-  const dim = c.psi.length / 2;
-  const data = Buffer.alloc(2 * c.psi.length * 8);
-  for (let k = 0; k < c.psi.length; k++) {
-    data.writeDoubleLE(c.psi[k], 8 * k);
-    data.writeDoubleLE(c.psi0[k], 8 * (c.psi.length + k));
-  }
-  const header = Buffer.from(
-    JSON.stringify({
-      identity,
-      point,
-      dim,
-      next_frame: c.nextFrame,
-      time: c.time,
-      error_bound: c.errorBound,
-      matvecs: c.matvecs,
-      steps: c.steps,
-      crc32: crc32(data),
-    }),
-  );
-  const length = Buffer.alloc(4);
-  length.writeUInt32LE(header.length, 0);
-  writeFileAtomic(checkpointPath(dir, point), Buffer.concat([CHECKPOINT_MAGIC, length, header, data]));
-}
-
-/** The checkpoint of a point, or null when there is none or it does not belong to this run (then it is ignored, not trusted). */
-export function readCheckpoint(dir: string, identity: string, point: number, dim: number): EvolutionCheckpoint | null {
-  const file = checkpointPath(dir, point);
-  if (!existsSync(file)) return null;
-  const buffer = readFileSync(file);
-  if (buffer.length < 8 || buffer.compare(CHECKPOINT_MAGIC, 0, 4, 0, 4) !== 0) return null;
-  const headerLength = buffer.readUInt32LE(4);
-  let header: Record<string, number | string>;
-  try {
-    header = JSON.parse(buffer.subarray(8, 8 + headerLength).toString('utf8')) as Record<string, number | string>;
-  } catch {
-    return null;
-  }
-  const data = buffer.subarray(8 + headerLength);
-  if (
-    header.identity !== identity ||
-    header.point !== point ||
-    header.dim !== dim ||
-    data.length !== 32 * dim ||
-    crc32(data) !== header.crc32
-  ) {
-    return null;
-  }
-  const psi = new Float64Array(2 * dim);
-  const psi0 = new Float64Array(2 * dim);
-  for (let k = 0; k < 2 * dim; k++) {
-    psi[k] = data.readDoubleLE(8 * k);
-    psi0[k] = data.readDoubleLE(8 * (2 * dim + k));
-  }
-  return {
-    nextFrame: Number(header.next_frame),
-    time: Number(header.time),
-    psi,
-    psi0,
-    errorBound: Number(header.error_bound),
-    matvecs: Number(header.matvecs),
-    steps: Number(header.steps),
-  };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -441,6 +353,37 @@ function planTraces(options: EvolveRunOptions): PlannedTraces {
   return { raw, spec, isScan, jobs, axes, identity, plans };
 }
 
+/** Opens (or resumes) the run folder of the traces. */
+function openTraceFolder(
+  dir: string,
+  options: EvolveRunOptions,
+  traces: PlannedTraces,
+  units: LabUnits | null,
+): RunWriter {
+  return openRunFolder({
+    kind: 'evolve',
+    dir,
+    identity: traces.identity,
+    specPath: options.specPath,
+    overrides: options.overrides ?? [],
+    spec: traces.raw,
+    fields: {
+      axes: traces.axes,
+      points: traces.jobs.map((j) => ({ point: j.point, params: j.params })),
+      energy_unit_hz: units?.energyUnitHz ?? null,
+      time_unit_ms: units?.timeUnitMs ?? null,
+    },
+  });
+}
+
+/** Times to record over every trace that can run. */
+function timesToRecord(traces: PlannedTraces): number {
+  return traces.jobs.reduce((n, j) => {
+    const p = traces.plans.get(j.point);
+    return n + (p instanceof Error || p === undefined ? 0 : p.times.length);
+  }, 0);
+}
+
 /** An evolve run under way: where it writes, how it reports, and whether a signal asked it to stop. */
 interface TraceRun {
   options: EvolveRunOptions;
@@ -604,28 +547,12 @@ async function runTraces(run: TraceRun, traces: PlannedTraces, byPoint: Map<numb
 export async function runEvolveCommand(options: EvolveRunOptions): Promise<EvolveRunOutcome> {
   const report = options.report ?? SILENT;
   const traces = planTraces(options);
-  const { raw, spec, isScan, jobs, axes, identity, plans } = traces;
+  const { spec, isScan, jobs, axes, identity } = traces;
   const dir = options.out === undefined ? (isScan ? defaultRunDir(options.specPath, identity) : null) : options.out;
   const resumeCommand = dir !== null && options.resumeCommand ? options.resumeCommand(dir) : null;
   const units = labUnits(spec);
   const energyUnitHz = units?.energyUnitHz ?? null;
-  const writer =
-    dir === null
-      ? null
-      : openRunFolder({
-          kind: 'evolve',
-          dir,
-          identity,
-          specPath: options.specPath,
-          overrides: options.overrides ?? [],
-          spec: raw,
-          fields: {
-            axes,
-            points: jobs.map((j) => ({ point: j.point, params: j.params })),
-            energy_unit_hz: energyUnitHz,
-            time_unit_ms: units?.timeUnitMs ?? null,
-          },
-        });
+  const writer = dir === null ? null : openTraceFolder(dir, options, traces, units);
 
   const existing = writer
     ? tracesOf(writer.existing, jobs)
@@ -640,13 +567,7 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
     maxMemory: options.maxMemory ?? defaultMemoryLimit(),
     checkpointSeconds: options.checkpointSeconds ?? 30,
     notes: [],
-    frames: {
-      done: existing.reduce((n, t) => n + t.frames.length, 0),
-      total: jobs.reduce((n, j) => {
-        const p = plans.get(j.point);
-        return n + (p instanceof Error || p === undefined ? 0 : p.times.length);
-      }, 0),
-    },
+    frames: { done: existing.reduce((n, t) => n + t.frames.length, 0), total: timesToRecord(traces) },
     stopping: false,
   };
   // Without a run folder there is nothing to save: Ctrl-C simply stops the process.
@@ -657,10 +578,8 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
         })
       : () => undefined;
   report.start(run.frames.done, run.frames.total);
-  if (writer && dir !== null) {
-    // We hold the lock: temporary checkpoint files are left from a writer that was killed mid-write.
-    for (const file of readdirSync(dir)) if (/^checkpoint-\d+\.bin\.tmp\./.test(file)) unlinkSync(path.join(dir, file));
-  }
+  // We hold the lock: temporary checkpoint files are left from a writer that was killed mid-write.
+  if (writer && dir !== null) removeTemporaryCheckpoints(dir);
   const torn = writer && tornRecordNote(writer, 'it is computed again');
   if (torn) report.note(torn);
 

@@ -216,6 +216,107 @@ function tallyRecords(
   return { done, failed, pending };
 }
 
+/** A scan's worker pool, its dispatch and the signal handlers, shut down together once the closing notes are out. */
+class ScanWorkers {
+  pool: Piscina | null = null;
+  dispatch: TaskDispatch | null = null;
+  removeSignalHandlers = (): void => undefined;
+
+  async shutDown(): Promise<void> {
+    this.dispatch?.endMemoryWatch();
+    this.removeSignalHandlers();
+    if (this.pool) await this.pool.destroy().catch(() => undefined);
+  }
+}
+
+/** The points this run covers, and their counts by latest record (`counts` grows as records are written). */
+interface Selection {
+  selected: Set<number>;
+  pending: Set<number>;
+  counts: { done: number; failed: number };
+  total: number;
+}
+
+/**
+ * Solves the pending points on the workers, appending each record as it arrives; returns how many
+ * were solved and whether a signal stopped the scan. A failed append stops it and is thrown.
+ */
+async function solvePending(
+  scan: PreparedScan,
+  writer: RunWriter,
+  { selected, pending, counts, total }: Selection,
+  options: ScanOptions,
+  report: ScanReporter,
+  workers: ScanWorkers,
+): Promise<{ ran: number; interrupted: boolean }> {
+  const { plan, costs } = scan;
+  const parallelism = chooseParallelism(
+    [...pending].map((i) => costs[i]),
+    options.workers,
+  );
+  const { threadsPerPoint } = parallelism;
+  report.note(
+    `${pending.size} points on ${parallelism.workers} worker${parallelism.workers > 1 ? 's' : ''}` +
+      (threadsPerPoint > 1 ? `, each product on up to ${threadsPerPoint} threads` : ''),
+  );
+  const queue = planTasks(plan, pending, costs, parallelism.workers);
+  report.start(
+    { total, ...counts },
+    [...pending].reduce((s, i) => s + costs[i], 0),
+  );
+  let ran = 0;
+
+  // A failed append (disk full, folder removed) stops the scan; it is reported once all is shut.
+  let writeError = null as Error | null;
+  const write = (record: ScanRecord): void => {
+    if (!selected.has(record.index) || writeError) return;
+    try {
+      writer.append(record as unknown as Record<string, unknown>);
+    } catch (e) {
+      writeError = e instanceof Error ? e : new Error(String(e));
+      workers.dispatch?.stop();
+      return;
+    }
+    ran++;
+    if (record.status === 'done') counts.done++;
+    else counts.failed++;
+    report.recorded(record, { total, ...counts }, costs[record.index]);
+  };
+
+  const ceilings = workerCeilings(scan.maxMemory, parallelism.workers, process.memoryUsage.rss());
+  const pool = createPointPool({ workers: parallelism.workers, heapMb: ceilings.heapMb });
+  workers.pool = pool;
+  // A task's own failures reach its promise. Piscina emits the others: a worker's heap running
+  // out as it is being stopped by the memory watch, its task already settled. Unheard, that
+  // event would end the whole scan.
+  pool.on('error', () => undefined);
+  const dispatch = new TaskDispatch({
+    pool,
+    queue,
+    workers: parallelism.workers,
+    threadsPerPoint,
+    continuous: linesAreContinuous(plan),
+    costs,
+    pointBytes: scan.sizes.plans.map((p) => p.memory.totalBytes),
+    maxMemory: scan.maxMemory,
+    ceilings,
+    warmStart: options.warmStart !== false,
+    write,
+  });
+  workers.dispatch = dispatch;
+  if (options.handleSignals)
+    workers.removeSignalHandlers = onStopSignals(() => {
+      if (!dispatch.stopping) dispatch.stop();
+    });
+  await dispatch.run();
+  dispatch.endMemoryWatch();
+  report.stop();
+  if (writeError instanceof FileSystemError && options.resumeCommand)
+    throw failedWriteError(writeError, 'every finished point is kept', options.resumeCommand(scan.dir));
+  if (writeError) throw writeError;
+  return { ran, interrupted: dispatch.stopping };
+}
+
 /**
  * Runs a scan: plans it, opens (or resumes) its run folder, solves the pending points on a pool of
  * worker threads and appends each record the moment it arrives.
@@ -224,12 +325,9 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
   const started = performance.now();
   const report = options.report ?? SILENT;
   const scan = prepareScan(options);
-  const { plan, costs, shard, dir } = scan;
+  const { plan, shard, dir } = scan;
   const writer = openScanFolder(scan, options);
-
-  let pool: Piscina | null = null;
-  let dispatch: TaskDispatch | null = null;
-  let removeSignalHandlers = (): void => undefined;
+  const workers = new ScanWorkers();
   try {
     const torn = tornRecordNote(writer, 'that point runs again');
     if (torn) report.note(torn);
@@ -259,70 +357,16 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
     if (counts.done + counts.failed > 0)
       report.note(`resuming ${dir}: ${counts.done} done, ${counts.failed} failed, ${pending.size} to run`);
 
-    const { workers, threadsPerPoint } = chooseParallelism(
-      [...pending].map((i) => costs[i]),
-      options.workers,
-    );
-    report.note(
-      `${pending.size} points on ${workers} worker${workers > 1 ? 's' : ''}` +
-        (threadsPerPoint > 1 ? `, each product on up to ${threadsPerPoint} threads` : ''),
-    );
-    const queue = planTasks(plan, pending, costs, workers);
-    report.start(
-      { total, ...counts },
-      [...pending].reduce((s, i) => s + costs[i], 0),
-    );
-    let ran = 0;
-
-    // A failed append (disk full, folder removed) stops the scan; it is reported once all is shut.
-    let writeError = null as Error | null;
-    const write = (record: ScanRecord): void => {
-      if (!selected.has(record.index) || writeError) return;
-      try {
-        writer.append(record as unknown as Record<string, unknown>);
-      } catch (e) {
-        writeError = e instanceof Error ? e : new Error(String(e));
-        dispatch?.stop();
-        return;
-      }
-      ran++;
-      if (record.status === 'done') counts.done++;
-      else counts.failed++;
-      report.recorded(record, { total, ...counts }, costs[record.index]);
-    };
-
-    const ceilings = workerCeilings(scan.maxMemory, workers, process.memoryUsage.rss());
-    pool = createPointPool({ workers, heapMb: ceilings.heapMb });
-    // A task's own failures reach its promise. Piscina emits the others: a worker's heap running
-    // out as it is being stopped by the memory watch, its task already settled. Unheard, that
-    // event would end the whole scan.
-    pool.on('error', () => undefined);
-    const running = new TaskDispatch({
-      pool,
-      queue,
+    const { ran, interrupted } = await solvePending(
+      scan,
+      writer,
+      { selected, pending, counts, total },
+      options,
+      report,
       workers,
-      threadsPerPoint,
-      continuous: linesAreContinuous(plan),
-      costs,
-      pointBytes: scan.sizes.plans.map((p) => p.memory.totalBytes),
-      maxMemory: scan.maxMemory,
-      ceilings,
-      warmStart: options.warmStart !== false,
-      write,
-    });
-    dispatch = running;
-    if (options.handleSignals)
-      removeSignalHandlers = onStopSignals(() => {
-        if (!running.stopping) running.stop();
-      });
-    await running.run();
-    running.endMemoryWatch();
-    report.stop();
-    if (writeError instanceof FileSystemError && options.resumeCommand)
-      throw failedWriteError(writeError, 'every finished point is kept', options.resumeCommand(dir));
-    if (writeError) throw writeError;
-    const result = outcome(ran, running.stopping);
-    if (running.stopping) {
+    );
+    const result = outcome(ran, interrupted);
+    if (interrupted) {
       report.note(
         `interrupted: ${result.done} done, ${result.failed} failed, ${result.pending} pending of ${total}; every finished point is saved in ${dir}`,
       );
@@ -334,9 +378,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
     }
     return result;
   } finally {
-    dispatch?.endMemoryWatch();
-    removeSignalHandlers();
-    if (pool) await pool.destroy().catch(() => undefined);
+    await workers.shutDown();
     writer.close();
   }
 }
