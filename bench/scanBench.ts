@@ -75,7 +75,7 @@ interface BenchRecord {
 
 async function measure(dir: string, name: string, workers: number, warmStart: boolean): Promise<Figures> {
   const out = path.join(dir, name);
-  const outcome = await runScan({ specPath: path.join(dir, 'line.toml'), out, workers, warmStart, progress: 'none' });
+  const outcome = await runScan({ specPath: path.join(dir, 'line.toml'), out, workers, warmStart });
   const records = readRun(out).records as unknown as BenchRecord[];
   if (outcome.failed > 0)
     throw new Error(`${name}: ${outcome.failed} points failed: ${records.find((r) => r.status === 'failed')?.error}`);

@@ -15,7 +15,8 @@ import {
 } from '../../src/dynamics/evolveRun.js';
 import { fmt, fmtSmall, plural } from '../../src/format/tables.js';
 import { checkOutOption, collect, memoryLimit, PARTIAL_FAILURE } from './shared.js';
-import { commandLine, invocation } from '../invocation.js';
+import { commandLine } from '../invocation.js';
+import { evolveReporter } from '../progress.js';
 
 function nonNegativeNumber(text: string, what: string): number {
   const n = Number(text);
@@ -60,20 +61,32 @@ export function registerEvolveCommands(program: Command): void {
       ) => {
         checkEvolveOptions(opts);
         checkOutOption(opts.out);
+        const maxMemory = memoryLimit(opts);
+        const checkpointSeconds =
+          opts.checkpointEvery === undefined
+            ? undefined
+            : nonNegativeNumber(opts.checkpointEvery, '--checkpoint-every');
+        const resumeCommand = (dir: string): string =>
+          commandLine([
+            'evolve',
+            specPath,
+            ...opts.set.flatMap((o) => ['--set', o]),
+            ...(checkpointSeconds !== undefined ? ['--checkpoint-every', String(checkpointSeconds)] : []),
+            ...(opts.maxMemory !== undefined ? ['--max-memory', opts.maxMemory] : []),
+            ...(opts.retryFailed ? ['--retry-failed'] : []),
+            '--out',
+            dir,
+          ]);
         const outcome = await runEvolveCommand({
           specPath,
           overrides: opts.set,
           out: opts.out,
-          maxMemory: memoryLimit(opts),
-          maxMemoryText: opts.maxMemory,
-          progress: opts.quiet ? 'none' : 'auto',
-          checkpointSeconds:
-            opts.checkpointEvery === undefined
-              ? undefined
-              : nonNegativeNumber(opts.checkpointEvery, '--checkpoint-every'),
+          maxMemory,
+          report: evolveReporter(opts.quiet),
+          resumeCommand,
+          checkpointSeconds,
           retryFailed: Boolean(opts.retryFailed),
           handleSignals: true,
-          program: invocation(),
         });
         if (outcome.interrupted) {
           // 130 is the shell's code for a run stopped by Ctrl-C.

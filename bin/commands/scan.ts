@@ -4,7 +4,8 @@ import { InputError } from '../../src/errors/errors.js';
 import { runScan } from '../../src/scan/runner.js';
 import { checkOutOption, collect, memoryLimit, PARTIAL_FAILURE } from './shared.js';
 import { parseShard, shardFromEnvironment } from '../../src/scan/shard.js';
-import { commandLine, invocation } from '../invocation.js';
+import { commandLine } from '../invocation.js';
+import { scanReporter } from '../progress.js';
 
 function positiveInteger(text: string, what: string): number {
   const n = Number(text);
@@ -48,20 +49,37 @@ export function registerScanCommands(program: Command): void {
         },
       ) => {
         checkOutOption(opts.out);
+        const shard = opts.shard !== undefined ? parseShard(opts.shard) : shardFromEnvironment();
+        const workers = opts.workers === undefined ? undefined : positiveInteger(opts.workers, '--workers');
+        const resumeCommand = (dir: string): string =>
+          commandLine([
+            'scan',
+            specPath,
+            ...opts.set.flatMap((o) => ['--set', o]),
+            ...(shard && shard.source === '--shard' ? ['--shard', `${shard.index}/${shard.count}`] : []),
+            ...(opts.warmStart === false ? ['--no-warm-start'] : []),
+            ...(opts.maxMemory !== undefined ? ['--max-memory', opts.maxMemory] : []),
+            ...(workers !== undefined ? ['--workers', String(workers)] : []),
+            ...(opts.retryFailed ? ['--retry-failed'] : []),
+            '--out',
+            dir,
+          ]);
         const outcome = await runScan({
-          shard: opts.shard !== undefined ? parseShard(opts.shard) : shardFromEnvironment(),
+          shard,
           specPath,
           overrides: opts.set,
           out: opts.out,
-          workers: opts.workers === undefined ? undefined : positiveInteger(opts.workers, '--workers'),
+          workers,
           retryFailed: Boolean(opts.retryFailed),
           warmStart: opts.warmStart,
           maxMemory: memoryLimit(opts),
-          maxMemoryText: opts.maxMemory,
-          progress: opts.quiet ? 'none' : 'auto',
+          report: scanReporter(opts.quiet),
+          resumeCommand,
           handleSignals: true,
-          program: invocation(),
         });
+        // After a scan that solved its points (not one with nothing left to do, nor an interrupted one).
+        if (!opts.quiet && !outcome.interrupted && outcome.ran > 0)
+          process.stderr.write(`results: ${commandLine(['summary', outcome.dir])}  (--csv, --json, --long)\n`);
         // 130 is the shell's code for a run stopped by Ctrl-C.
         if (outcome.interrupted) process.exitCode = 130;
         else if (outcome.failed > 0) {

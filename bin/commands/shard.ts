@@ -5,7 +5,7 @@ import path from 'node:path';
 import { InputError } from '../../src/errors/errors.js';
 import { formatBytes } from '../../src/format/bytes.js';
 import { parseMemorySize } from '../../src/point/memory.js';
-import { mergeRuns } from '../../src/scan/shard.js';
+import { mergeRuns } from '../../src/scan/merge.js';
 import { planBatch } from '../../src/scan/batch.js';
 import { checkOutOption, collect, PARTIAL_FAILURE } from './shared.js';
 import { makeFolderFor } from '../../src/runs/runFiles.js';

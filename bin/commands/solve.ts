@@ -11,6 +11,7 @@ import { invocation } from '../invocation.js';
 import { describeLabEnergies, labEnergies, labUnits } from '../../src/spec/units.js';
 import { describeScan, describeWork } from '../../src/scan/plan.js';
 import { defaultWorkerCount } from '../../src/scan/runner.js';
+import { secondsMinutesHours } from '../../src/format/durations.js';
 
 export function registerSolveCommands(program: Command): void {
   program
@@ -97,9 +98,9 @@ function solveProgress() {
         : '';
       const left =
         info.sector && info.sector.spaceBefore > 0
-          ? `, about ${durationText((elapsed * (1 - info.sector.spaceBefore)) / info.sector.spaceBefore)} left`
+          ? `, about ${secondsMinutesHours((elapsed * (1 - info.sector.spaceBefore)) / info.sector.spaceBefore)} left`
           : '';
-      const line = `solving: ${where}${info.matvecs} products, residual ${info.worstResidual.toExponential(1)}, ${durationText(elapsed)}${left}`;
+      const line = `solving: ${where}${info.matvecs} products, residual ${info.worstResidual.toExponential(1)}, ${secondsMinutesHours(elapsed)}${left}`;
       process.stderr.write(`\r${line.padEnd(100)}`);
     },
     done(): void {
@@ -116,10 +117,4 @@ export function sectorName(l: SectorLabel): string {
   if (l.level_flip !== null) parts.push(`F${l.level_flip > 0 ? '+' : '-'}`);
   if (l.charge !== null) parts.push(`q=${l.charge}`);
   return parts.join(' ') || 'whole space';
-}
-
-function durationText(seconds: number): string {
-  if (seconds < 90) return `${seconds.toFixed(0)} s`;
-  if (seconds < 5400) return `${(seconds / 60).toFixed(0)} min`;
-  return `${(seconds / 3600).toFixed(1)} h`;
 }

@@ -11,34 +11,28 @@
 //         with a ramp, ground_overlap; time in model units, time_ms with [units] (else null)
 //     { kind: "trace", point, params, status: "done" | "failed", error?, stats, notes, finished }
 //         when a point's trace ends
-//   checkpoint-<point>.bin   the state of an unfinished trace (deleted when the trace is done):
-//     bytes 0..3 "RCK1", 4..7 uint32 header length h (LE), then h bytes of JSON header
-//     { identity, point, dim, next_frame, time, error_bound, matvecs, steps, crc32 }, then psi(time)
-//     and psi(0) as little-endian float64, interleaved re,im, 2*dim each. Written atomically.
+//   checkpoint-<point>.bin   the state of an unfinished trace (deleted when the trace is done; see checkpoint.ts)
 // A frame already in the records is never written twice: a resume from an older checkpoint
 // recomputes those frames and skips them.
 
-import { existsSync, readdirSync, readFileSync, unlinkSync } from 'node:fs';
-import path from 'node:path';
-import { crc32 } from 'node:zlib';
-import cliProgress from 'cli-progress';
 import { FileSystemError, InputError, RunFileError, SpecError, isRungchainError } from '../errors/errors.js';
 import {
   Evolution,
   planEvolution,
   timeFirstObservables,
-  type EvolutionCheckpoint,
   type EvolutionFrame,
   type EvolutionPlan,
+  type EvolutionResult,
 } from './evolution.js';
-import { readRun, runIdentity, RunWriter, writeFileAtomic } from '../runs/runFiles.js';
+import { readRun, runIdentity, type RunWriter } from '../runs/runFiles.js';
+import { readCheckpoint, removeCheckpoint, removeTemporaryCheckpoints, writeCheckpoint } from './checkpoint.js';
+import { failedWriteError, onStopSignals, openRunFolder, tornRecordNote } from '../runs/openRun.js';
 import { defaultMemoryLimit } from '../point/memory.js';
 import { expandScan, formatParams, type ScanParams } from '../scan/plan.js';
 import { defaultRunDir } from '../runs/folders.js';
-import { rungchainVersion } from '../runs/version.js';
 import { loadSpec, type Spec } from '../spec/spec.js';
-import { labUnits, describeUnits } from '../spec/units.js';
-import { columnScale, csv, fmt, fmtNoise, fmtSmall, plural, shellCommand, table } from '../format/tables.js';
+import { labUnits, describeUnits, type LabUnits } from '../spec/units.js';
+import { columnScale, csv, fmt, fmtNoise, plural, table } from '../format/tables.js';
 import { longObservables, TRACE_CSV_SCALARS } from '../observables/catalogue.js';
 
 export interface FrameRecord {
@@ -73,88 +67,6 @@ export interface Trace {
   frames: FrameRecord[];
   stats?: Record<string, number>;
   notes: string[];
-}
-
-// ---------------------------------------------------------------------------------------------
-// Checkpoints
-
-const CHECKPOINT_MAGIC = Buffer.from('RCK1', 'latin1');
-
-export function checkpointPath(dir: string, point: number): string {
-  return path.join(dir, `checkpoint-${point}.bin`);
-}
-
-/** Deletes a point's checkpoint and any temporary copy a killed writer left half written. */
-export function removeCheckpoint(dir: string, point: number): void {
-  const name = path.basename(checkpointPath(dir, point));
-  for (const file of readdirSync(dir)) {
-    if (file === name || file.startsWith(`${name}.tmp.`)) unlinkSync(path.join(dir, file));
-  }
-}
-
-export function writeCheckpoint(dir: string, identity: string, point: number, c: EvolutionCheckpoint): void {
-  const dim = c.psi.length / 2;
-  const data = Buffer.alloc(2 * c.psi.length * 8);
-  for (let k = 0; k < c.psi.length; k++) {
-    data.writeDoubleLE(c.psi[k], 8 * k);
-    data.writeDoubleLE(c.psi0[k], 8 * (c.psi.length + k));
-  }
-  const header = Buffer.from(
-    JSON.stringify({
-      identity,
-      point,
-      dim,
-      next_frame: c.nextFrame,
-      time: c.time,
-      error_bound: c.errorBound,
-      matvecs: c.matvecs,
-      steps: c.steps,
-      crc32: crc32(data),
-    }),
-  );
-  const length = Buffer.alloc(4);
-  length.writeUInt32LE(header.length, 0);
-  writeFileAtomic(checkpointPath(dir, point), Buffer.concat([CHECKPOINT_MAGIC, length, header, data]));
-}
-
-/** The checkpoint of a point, or null when there is none or it does not belong to this run (then it is ignored, not trusted). */
-export function readCheckpoint(dir: string, identity: string, point: number, dim: number): EvolutionCheckpoint | null {
-  const file = checkpointPath(dir, point);
-  if (!existsSync(file)) return null;
-  const buffer = readFileSync(file);
-  if (buffer.length < 8 || buffer.compare(CHECKPOINT_MAGIC, 0, 4, 0, 4) !== 0) return null;
-  const headerLength = buffer.readUInt32LE(4);
-  let header: Record<string, number | string>;
-  try {
-    header = JSON.parse(buffer.subarray(8, 8 + headerLength).toString('utf8')) as Record<string, number | string>;
-  } catch {
-    return null;
-  }
-  const data = buffer.subarray(8 + headerLength);
-  if (
-    header.identity !== identity ||
-    header.point !== point ||
-    header.dim !== dim ||
-    data.length !== 32 * dim ||
-    crc32(data) !== header.crc32
-  ) {
-    return null;
-  }
-  const psi = new Float64Array(2 * dim);
-  const psi0 = new Float64Array(2 * dim);
-  for (let k = 0; k < 2 * dim; k++) {
-    psi[k] = data.readDoubleLE(8 * k);
-    psi0[k] = data.readDoubleLE(8 * (2 * dim + k));
-  }
-  return {
-    nextFrame: Number(header.next_frame),
-    time: Number(header.time),
-    psi,
-    psi0,
-    errorBound: Number(header.error_bound),
-    matvecs: Number(header.matvecs),
-    steps: Number(header.steps),
-  };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -325,18 +237,44 @@ export function tracesText(contents: EvolveRunContents): string {
 // ---------------------------------------------------------------------------------------------
 // Running into a folder
 
+/** What an evolve run tells as it goes; the command line shows it (a bar, lines, or nothing). */
+export interface EvolveReporter {
+  /** A line for the user: resuming, failed traces, interrupted. */
+  note(line: string): void;
+  /** Tracing begins: `total` times to record over every trace, `done` of them saved before. */
+  start(done: number, total: number): void;
+  /** A time was recorded: `done` of `total` now; the trace is at model time `time` of its last, `end`. */
+  recorded(done: number, total: number, time: number, end: number): void;
+  /** Every 10 s of a running trace: at `time` of `end`, `recorded` of its `count` times recorded. */
+  running(label: string, time: number, end: number, recorded: number, count: number): void;
+  /** A trace finished, in a scan or into a run folder. */
+  traceDone(label: string, stats: EvolutionResult['stats']): void;
+  /** Tracing has ended (before the closing notes). */
+  stop(): void;
+}
+
+const SILENT: EvolveReporter = {
+  note: () => undefined,
+  start: () => undefined,
+  recorded: () => undefined,
+  running: () => undefined,
+  traceDone: () => undefined,
+  stop: () => undefined,
+};
+
+/** How often a running trace reports where it is. */
+const RUNNING_REPORT_MS = 10_000;
+
 export interface EvolveRunOptions {
   specPath: string;
-  /** How the printed commands start the program (the command line passes its own invocation). */
-  program?: string;
   overrides?: string[];
   /** Run folder; null writes nothing (single spec only). Default for scans: runs/<spec name>-<identity>. */
   out?: string | null;
   maxMemory?: number;
-  /** --max-memory as the user wrote it, repeated in the command that resumes. */
-  maxMemoryText?: string;
-  progress?: 'auto' | 'bar' | 'lines' | 'none';
-  stream?: NodeJS.WriteStream;
+  /** Where messages and progress go (default: nowhere). */
+  report?: EvolveReporter;
+  /** The command that resumes this run in `dir`, printed after an interruption or a failed write (the command line builds it). */
+  resumeCommand?: (dir: string) => string;
   /** Seconds between checkpoints of the state (0: after every recorded time). */
   checkpointSeconds?: number;
   /** Catch SIGINT/SIGTERM: save a checkpoint, keep every record, print how to resume. */
@@ -350,7 +288,6 @@ export interface EvolveRunOutcome {
   traces: Trace[];
   keys: string[];
   interrupted: boolean;
-  resumeCommand: string | null;
   /** The model's energy unit in Hz when the spec has [units]. */
   energyUnitHz: number | null;
   unitLines: string[];
@@ -371,10 +308,20 @@ function errorText(e: unknown): string {
 
 const yieldToEventLoop = (): Promise<void> => new Promise((resolve) => setImmediate(resolve));
 
-export async function runEvolveCommand(options: EvolveRunOptions): Promise<EvolveRunOutcome> {
-  const stream = options.stream ?? process.stderr;
-  const overrides = options.overrides ?? [];
-  const { raw, spec } = loadSpec(options.specPath, overrides);
+/** The traces to run, planned before anything is written, so bad input leaves no folder behind. */
+interface PlannedTraces {
+  raw: Record<string, unknown>;
+  spec: Spec;
+  isScan: boolean;
+  jobs: PointJob[];
+  axes: { key: string; values: unknown[] }[];
+  identity: string;
+  /** Each point's evolution plan, or why it cannot run (scan points only: a single spec throws). */
+  plans: Map<number, EvolutionPlan | Error>;
+}
+
+function planTraces(options: EvolveRunOptions): PlannedTraces {
+  const { raw, spec } = loadSpec(options.specPath, options.overrides ?? []);
   const isScan = spec.extra.scan !== undefined;
   if (spec.extra.evolve === undefined)
     throw new SpecError('evolve', 'required section is missing: rungchain evolve needs at least evolve.times');
@@ -396,8 +343,6 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
     jobs = [{ point: 0, params: {}, raw, spec }];
     identity = runIdentity({ kind: 'evolve', spec: raw });
   }
-  const maxMemory = options.maxMemory ?? defaultMemoryLimit();
-  // Plan every point before writing anything, so bad input leaves no folder behind.
   const plans = new Map<number, EvolutionPlan | Error>();
   for (const job of jobs) {
     try {
@@ -409,255 +354,262 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
       plans.set(job.point, e as Error);
     }
   }
+  return { raw, spec, isScan, jobs, axes, identity, plans };
+}
 
+/** Opens (or resumes) the run folder of the traces. */
+function openTraceFolder(
+  dir: string,
+  options: EvolveRunOptions,
+  traces: PlannedTraces,
+  units: LabUnits | null,
+): RunWriter {
+  return openRunFolder({
+    kind: 'evolve',
+    dir,
+    identity: traces.identity,
+    specPath: options.specPath,
+    overrides: options.overrides ?? [],
+    spec: traces.raw,
+    fields: {
+      axes: traces.axes,
+      points: traces.jobs.map((j) => ({ point: j.point, params: j.params })),
+      energy_unit_hz: units?.energyUnitHz ?? null,
+      time_unit_ms: units?.timeUnitMs ?? null,
+    },
+  });
+}
+
+/** Times to record over every trace that can run. */
+function timesToRecord(traces: PlannedTraces): number {
+  return traces.jobs.reduce((n, j) => {
+    const p = traces.plans.get(j.point);
+    return n + (p instanceof Error || p === undefined ? 0 : p.times.length);
+  }, 0);
+}
+
+/** An evolve run under way: where it writes, how it reports, and whether a signal asked it to stop. */
+interface TraceRun {
+  options: EvolveRunOptions;
+  report: EvolveReporter;
+  isScan: boolean;
+  identity: string;
+  dir: string | null;
+  writer: RunWriter | null;
+  maxMemory: number;
+  checkpointSeconds: number;
+  notes: string[];
+  frames: { done: number; total: number };
+  stopping: boolean;
+}
+
+/** Appends a trace's closing record, updates the trace, and deletes its checkpoint. */
+function finishTrace(run: TraceRun, trace: Trace, record: TraceRecord): void {
+  run.writer?.append(record as unknown as Record<string, unknown>);
+  trace.status = record.status;
+  trace.error = record.error;
+  trace.stats = record.stats;
+  trace.notes = record.notes ?? [];
+  if (run.dir !== null) removeCheckpoint(run.dir, trace.point);
+}
+
+function failedTrace(job: PointJob, error: unknown): TraceRecord {
+  return {
+    kind: 'trace',
+    point: job.point,
+    params: job.params,
+    status: 'failed',
+    error: errorText(error),
+    finished: new Date().toISOString(),
+  };
+}
+
+/**
+ * Evolves one point from its checkpoint (or from t = 0), recording each time and saving the
+ * state every checkpointSeconds; false when a signal stopped it (its state then saved).
+ */
+async function evolveTrace(
+  run: TraceRun,
+  job: PointJob,
+  trace: Trace,
+  plan: EvolutionPlan,
+  label: string,
+): Promise<boolean> {
+  const { dir, writer, report, identity } = run;
+  const end = plan.times[plan.times.length - 1];
+  let resume = dir === null ? null : readCheckpoint(dir, identity, job.point, plan.dimension);
+  // Frames already on disk are not written again; a resume from an older checkpoint recomputes them.
+  const saved = trace.frames.length;
+  // Records are synced before each checkpoint, so a checkpoint ahead of them was not written by this run: ignore it.
+  if (resume && resume.nextFrame > saved) resume = null;
+  if (resume)
+    report.note(`resuming ${label} at t = ${fmt(resume.time, 6)} (${saved} of ${plan.times.length} times saved)`);
+  else if (saved > 0)
+    report.note(`restarting ${label} from t = 0 (${saved} of ${plan.times.length} times saved, no checkpoint)`);
+  let lastCheckpoint = performance.now();
+  let lastYield = performance.now();
+  let lastReport = performance.now();
+  const evolution = new Evolution(plan, {
+    maxMemory: run.maxMemory,
+    resume: resume ?? undefined,
+    onFrame: (frame: EvolutionFrame) => {
+      if (frame.index < trace.frames.length) return;
+      const record: FrameRecord = {
+        kind: 'frame',
+        point: job.point,
+        params: job.params,
+        index: frame.index,
+        time: frame.time,
+        time_ms: plan.timesMs ? plan.timesMs[frame.index] : null,
+        observables: frame.observables,
+        error_bound: frame.error_bound,
+        matvecs: frame.matvecs,
+      };
+      writer?.append(record as unknown as Record<string, unknown>);
+      trace.frames.push(record);
+      run.frames.done++;
+      report.recorded(run.frames.done, run.frames.total, frame.time, end);
+    },
+  });
+  for (const note of evolution.notes) run.notes.push(run.isScan ? `${label}: ${note}` : note);
+  while (!evolution.done) {
+    evolution.advance();
+    const now = performance.now();
+    if (
+      writer &&
+      dir !== null &&
+      now - lastCheckpoint >= run.checkpointSeconds * 1000 &&
+      evolution.nextFrame > 0 &&
+      !evolution.done
+    ) {
+      writeCheckpoint(dir, identity, job.point, evolution.checkpoint());
+      lastCheckpoint = performance.now();
+    }
+    if (now - lastReport >= RUNNING_REPORT_MS) {
+      report.running(label, evolution.time, end, evolution.nextFrame, plan.times.length);
+      lastReport = now;
+    }
+    // Let signals in every so often; the propagation itself is synchronous.
+    if (now - lastYield >= 50) {
+      await yieldToEventLoop();
+      lastYield = performance.now();
+    }
+    if (run.stopping && !evolution.done) {
+      if (writer && dir !== null) writeCheckpoint(dir, identity, job.point, evolution.checkpoint());
+      return false;
+    }
+  }
+  const result = evolution.result();
+  finishTrace(run, trace, {
+    kind: 'trace',
+    point: job.point,
+    params: job.params,
+    status: 'done',
+    stats: result.stats,
+    notes: result.notes,
+    finished: new Date().toISOString(),
+  });
+  if (run.isScan || dir !== null) report.traceDone(label, result.stats);
+  return true;
+}
+
+/** Runs every trace not yet done (failed ones too with retryFailed), in point order, until done or stopped. */
+async function runTraces(run: TraceRun, traces: PlannedTraces, byPoint: Map<number, Trace>): Promise<void> {
+  for (const job of traces.jobs) {
+    if (run.stopping) break;
+    const trace = byPoint.get(job.point) as Trace;
+    if (trace.status === 'done' || (trace.status === 'failed' && !run.options.retryFailed)) continue;
+    const plan = traces.plans.get(job.point) as EvolutionPlan | Error;
+    const label = run.isScan ? `point ${job.point} (${formatParams(job.params)})` : 'trace';
+    if (plan instanceof Error) {
+      finishTrace(run, trace, failedTrace(job, plan));
+      run.report.note(`${label}: FAILED ${errorText(plan)}`);
+      continue;
+    }
+    // A failed trace run again keeps the times it recorded before failing: they are never written twice.
+    try {
+      if (!(await evolveTrace(run, job, trace, plan, label))) break;
+    } catch (e) {
+      // The run folder could not be written (disk full, ...): that is no property of the trace.
+      // It stays pending with its checkpoint, and the same command continues it.
+      if (e instanceof FileSystemError) throw e;
+      if (!run.isScan && !isRungchainError(e)) throw e;
+      if (!run.isScan) {
+        if (run.writer) finishTrace(run, trace, failedTrace(job, e));
+        throw e;
+      }
+      finishTrace(run, trace, failedTrace(job, e));
+      run.report.note(`${label}: FAILED ${errorText(e)}`);
+    }
+  }
+}
+
+/**
+ * `rungchain evolve`: one trace, or one per scan point, into a run folder when there is one
+ * (resuming what it holds) and back to the caller.
+ */
+export async function runEvolveCommand(options: EvolveRunOptions): Promise<EvolveRunOutcome> {
+  const report = options.report ?? SILENT;
+  const traces = planTraces(options);
+  const { spec, isScan, jobs, axes, identity } = traces;
   const dir = options.out === undefined ? (isScan ? defaultRunDir(options.specPath, identity) : null) : options.out;
-  const resumeCommand =
-    dir === null
-      ? null
-      : shellCommand(options.program ?? 'rungchain', [
-          'evolve',
-          options.specPath,
-          ...overrides.flatMap((o) => ['--set', o]),
-          ...(options.checkpointSeconds !== undefined ? ['--checkpoint-every', String(options.checkpointSeconds)] : []),
-          ...(options.maxMemoryText !== undefined ? ['--max-memory', options.maxMemoryText] : []),
-          ...(options.retryFailed ? ['--retry-failed'] : []),
-          '--out',
-          dir,
-        ]);
+  const resumeCommand = dir !== null && options.resumeCommand ? options.resumeCommand(dir) : null;
   const units = labUnits(spec);
   const energyUnitHz = units?.energyUnitHz ?? null;
-  const writer =
-    dir === null
-      ? null
-      : RunWriter.open(dir, {
-          kind: 'evolve',
-          identity,
-          version: rungchainVersion(),
-          mismatchHint: `choose another --out, or delete ${dir} to start over`,
-          fields: {
-            spec_path: options.specPath,
-            overrides,
-            spec: raw,
-            axes,
-            points: jobs.map((j) => ({ point: j.point, params: j.params })),
-            energy_unit_hz: energyUnitHz,
-            time_unit_ms: units?.timeUnitMs ?? null,
-          },
-        });
+  const writer = dir === null ? null : openTraceFolder(dir, options, traces, units);
 
-  const say = (line: string): void => {
-    if (options.progress !== 'none') stream.write(line + '\n');
-  };
   const existing = writer
     ? tracesOf(writer.existing, jobs)
     : jobs.map((j): Trace => ({ point: j.point, params: j.params, status: 'pending', frames: [], notes: [] }));
-  const byPoint = new Map(existing.map((t) => [t.point, t]));
-  const notes: string[] = [];
-  let stopping = false;
-  const handlers: [NodeJS.Signals, () => void][] = [];
+  const run: TraceRun = {
+    options,
+    report,
+    isScan,
+    identity,
+    dir,
+    writer,
+    maxMemory: options.maxMemory ?? defaultMemoryLimit(),
+    checkpointSeconds: options.checkpointSeconds ?? 30,
+    notes: [],
+    frames: { done: existing.reduce((n, t) => n + t.frames.length, 0), total: timesToRecord(traces) },
+    stopping: false,
+  };
   // Without a run folder there is nothing to save: Ctrl-C simply stops the process.
-  if (options.handleSignals && writer !== null) {
-    for (const signal of ['SIGINT', 'SIGTERM'] as NodeJS.Signals[]) {
-      const handler = (): void => {
-        stopping = true;
-      };
-      process.on(signal, handler);
-      handlers.push([signal, handler]);
-    }
-  }
-  const checkpointSeconds = options.checkpointSeconds ?? 30;
-  const mode =
-    options.progress === undefined || options.progress === 'auto' ? (stream.isTTY ? 'bar' : 'lines') : options.progress;
-  const totalFrames = jobs.reduce((n, j) => {
-    const p = plans.get(j.point);
-    return n + (p instanceof Error || p === undefined ? 0 : p.times.length);
-  }, 0);
-  let framesDone = existing.reduce((n, t) => n + t.frames.length, 0);
-  const bar =
-    mode === 'bar'
-      ? new cliProgress.SingleBar(
-          {
-            stream,
-            format: ' {bar} {value}/{total} times | t = {t} of {end}',
-            hideCursor: true,
-            clearOnComplete: false,
-            fps: 5,
-          },
-          cliProgress.Presets.shades_classic,
-        )
-      : null;
-  bar?.start(Math.max(1, totalFrames), Math.min(framesDone, totalFrames), { t: '0', end: '?' });
-  if (writer && dir !== null) {
-    // We hold the lock: temporary checkpoint files are left from a writer that was killed mid-write.
-    for (const file of readdirSync(dir)) if (/^checkpoint-\d+\.bin\.tmp\./.test(file)) unlinkSync(path.join(dir, file));
-  }
-  if (writer && writer.cutBytes > 0)
-    say(`dropped a torn last record (${writer.cutBytes} bytes, a write cut short); it is computed again`);
+  const removeSignalHandlers =
+    options.handleSignals && writer !== null
+      ? onStopSignals(() => {
+          run.stopping = true;
+        })
+      : () => undefined;
+  report.start(run.frames.done, run.frames.total);
+  // We hold the lock: temporary checkpoint files are left from a writer that was killed mid-write.
+  if (writer && dir !== null) removeTemporaryCheckpoints(dir);
+  const torn = writer && tornRecordNote(writer, 'it is computed again');
+  if (torn) report.note(torn);
 
   try {
-    for (const job of jobs) {
-      if (stopping) break;
-      const trace = byPoint.get(job.point) as Trace;
-      if (trace.status === 'done' || (trace.status === 'failed' && !options.retryFailed)) continue;
-      const plan = plans.get(job.point) as EvolutionPlan | Error;
-      const label = isScan ? `point ${job.point} (${formatParams(job.params)})` : 'trace';
-      const finish = (record: TraceRecord): void => {
-        writer?.append(record as unknown as Record<string, unknown>);
-        trace.status = record.status;
-        trace.error = record.error;
-        trace.stats = record.stats;
-        trace.notes = record.notes ?? [];
-        if (dir !== null) removeCheckpoint(dir, job.point);
-      };
-      if (plan instanceof Error) {
-        finish({
-          kind: 'trace',
-          point: job.point,
-          params: job.params,
-          status: 'failed',
-          error: errorText(plan),
-          finished: new Date().toISOString(),
-        });
-        say(`${label}: FAILED ${errorText(plan)}`);
-        continue;
-      }
-      // A failed trace run again keeps the times it recorded before failing: they are never written twice.
-      try {
-        let resume = dir === null ? null : readCheckpoint(dir, identity, job.point, plan.dimension);
-        // Frames already on disk are not written again; a resume from an older checkpoint recomputes them.
-        const saved = trace.frames.length;
-        // Records are synced before each checkpoint, so a checkpoint ahead of them was not written by this run: ignore it.
-        if (resume && resume.nextFrame > saved) resume = null;
-        if (resume)
-          say(`resuming ${label} at t = ${fmt(resume.time, 6)} (${saved} of ${plan.times.length} times saved)`);
-        else if (saved > 0)
-          say(`restarting ${label} from t = 0 (${saved} of ${plan.times.length} times saved, no checkpoint)`);
-        let lastCheckpoint = performance.now();
-        let lastYield = performance.now();
-        let lastLine = performance.now();
-        const evolution = new Evolution(plan, {
-          maxMemory,
-          resume: resume ?? undefined,
-          onFrame: (frame: EvolutionFrame) => {
-            if (frame.index < trace.frames.length) return;
-            const record: FrameRecord = {
-              kind: 'frame',
-              point: job.point,
-              params: job.params,
-              index: frame.index,
-              time: frame.time,
-              time_ms: plan.timesMs ? plan.timesMs[frame.index] : null,
-              observables: frame.observables,
-              error_bound: frame.error_bound,
-              matvecs: frame.matvecs,
-            };
-            writer?.append(record as unknown as Record<string, unknown>);
-            trace.frames.push(record);
-            framesDone++;
-            bar?.update(Math.min(framesDone, totalFrames), {
-              t: fmt(frame.time, 5),
-              end: fmt(plan.times[plan.times.length - 1], 5),
-            });
-          },
-        });
-        for (const note of evolution.notes) notes.push(isScan ? `${label}: ${note}` : note);
-        while (!evolution.done) {
-          evolution.advance();
-          const now = performance.now();
-          if (
-            writer &&
-            dir !== null &&
-            now - lastCheckpoint >= checkpointSeconds * 1000 &&
-            evolution.nextFrame > 0 &&
-            !evolution.done
-          ) {
-            writeCheckpoint(dir, identity, job.point, evolution.checkpoint());
-            lastCheckpoint = performance.now();
-          }
-          if (mode === 'lines' && now - lastLine >= 10_000) {
-            say(
-              `${label}: t = ${fmt(evolution.time, 6)} of ${fmt(plan.times[plan.times.length - 1], 6)}, ${evolution.nextFrame}/${plan.times.length} times`,
-            );
-            lastLine = now;
-          }
-          // Let signals in every so often; the propagation itself is synchronous.
-          if (now - lastYield >= 50) {
-            await yieldToEventLoop();
-            lastYield = performance.now();
-          }
-          if (stopping && !evolution.done) {
-            if (writer && dir !== null) writeCheckpoint(dir, identity, job.point, evolution.checkpoint());
-            break;
-          }
-        }
-        if (!evolution.done) break;
-        const result = evolution.result();
-        finish({
-          kind: 'trace',
-          point: job.point,
-          params: job.params,
-          status: 'done',
-          stats: result.stats,
-          notes: result.notes,
-          finished: new Date().toISOString(),
-        });
-        if (mode === 'lines' && (isScan || dir !== null))
-          say(
-            `${label}: done, ${plural(result.stats.steps, 'step')}, ${plural(result.stats.matvecs, 'product')}, error bound ${fmtSmall(result.stats.error_bound, 1)}`,
-          );
-      } catch (e) {
-        // The run folder could not be written (disk full, ...): that is no property of the trace.
-        // It stays pending with its checkpoint, and the same command continues it.
-        if (e instanceof FileSystemError) throw e;
-        if (!isScan && !isRungchainError(e)) throw e;
-        if (!isScan) {
-          if (writer)
-            finish({
-              kind: 'trace',
-              point: job.point,
-              params: job.params,
-              status: 'failed',
-              error: errorText(e),
-              finished: new Date().toISOString(),
-            });
-          throw e;
-        }
-        finish({
-          kind: 'trace',
-          point: job.point,
-          params: job.params,
-          status: 'failed',
-          error: errorText(e),
-          finished: new Date().toISOString(),
-        });
-        say(`${label}: FAILED ${errorText(e)}`);
-      }
-    }
+    await runTraces(run, traces, new Map(existing.map((t) => [t.point, t])));
   } catch (e) {
-    if (e instanceof FileSystemError && resumeCommand) {
-      throw new FileSystemError(
-        `${e.message}; every time recorded so far is kept: once that is fixed, resume with: ${resumeCommand}`,
-      );
-    }
+    if (e instanceof FileSystemError && resumeCommand)
+      throw failedWriteError(e, 'every time recorded so far is kept', resumeCommand);
     throw e;
   } finally {
-    bar?.stop();
-    for (const [signal, handler] of handlers) process.off(signal, handler);
+    report.stop();
+    removeSignalHandlers();
     writer?.close();
   }
-  if (stopping) {
-    say(`interrupted: every recorded time is saved${dir ? ` in ${dir}, with the state to continue from` : ''}`);
-    if (resumeCommand) say(`resume with: ${resumeCommand}`);
+  if (run.stopping) {
+    report.note(`interrupted: every recorded time is saved${dir ? ` in ${dir}, with the state to continue from` : ''}`);
+    if (resumeCommand) report.note(`resume with: ${resumeCommand}`);
   }
   return {
     dir,
     traces: existing,
     keys: axes.map((a) => a.key),
-    interrupted: stopping,
-    resumeCommand,
+    interrupted: run.stopping,
     energyUnitHz,
     unitLines: units ? describeUnits(units) : [],
-    notes,
+    notes: run.notes,
   };
 }
 

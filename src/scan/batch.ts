@@ -1,12 +1,14 @@
 // Planning a Slurm job array for a scan: shard sizes, per-task memory and time from rungchain's
-// own estimates, and the batch script (see src/scan/shard.ts for the shards and the script text).
+// own estimates, and the batch script itself (see src/scan/shard.ts for the shards).
 
 import { RUNTIME_BASELINE_BYTES } from '../point/memory.js';
 import { expandScan, pointCost, sizeScan } from './plan.js';
 import { defaultRunDir } from '../runs/folders.js';
-import { assignShards, batchScript, formatMinutes } from './shard.js';
+import { assignShards } from './shard.js';
 import { loadSpec } from '../spec/spec.js';
 import { InputError } from '../errors/errors.js';
+import { slurmTimeLimit } from '../format/durations.js';
+import { shellQuote } from '../format/tables.js';
 import path from 'node:path';
 
 /**
@@ -93,7 +95,65 @@ export function planBatch(request: BatchRequest): BatchPlan {
     cpusPerTask: request.cpusPerTask,
     memoryBytes,
     minutes,
-    timeText: formatMinutes(minutes),
+    timeText: slurmTimeLimit(minutes),
     heaviestPoints,
   };
+}
+
+// ---------------------------------------------------------------------------------------------
+// The job-array batch script
+
+export interface BatchOptions {
+  specPath: string;
+  overrides: string[];
+  shards: number;
+  /** Folder holding one shard folder per task (shard-<i>) and the merged run. */
+  runDir: string;
+  cpusPerTask: number;
+  /** Per-task memory in MiB. */
+  memoryMiB: number;
+  /** Per-task time limit in minutes. */
+  minutes: number;
+  partition?: string;
+  account?: string;
+  jobName: string;
+  /** The command that runs rungchain on the cluster (default: this node and this script's path). */
+  rungchain: string;
+  extra: string[];
+}
+
+export function batchScript(o: BatchOptions): string {
+  const abs = (p: string) => path.resolve(p);
+  const lines = [
+    '#!/bin/bash',
+    `# Job array for the scan ${o.specPath}: ${o.shards} shards balanced by estimated cost.`,
+    `# Each task runs one shard into ${o.runDir}/shard-<i>; resubmitting resumes unfinished shards.`,
+    `# When all are done: ${o.rungchain} merge ${o.runDir}/shard-* --out ${o.runDir}/merged`,
+    `#SBATCH --job-name=${o.jobName}`,
+    `#SBATCH --array=1-${o.shards}`,
+    `#SBATCH --ntasks=1`,
+    `#SBATCH --cpus-per-task=${o.cpusPerTask}`,
+    `#SBATCH --mem=${Math.ceil(o.memoryMiB)}M`,
+    `#SBATCH --time=${slurmTimeLimit(o.minutes)}`,
+    `#SBATCH --output=${abs(o.runDir)}/slurm-%A_%a.out`,
+    `#SBATCH --signal=B:TERM@60`,
+  ];
+  if (o.partition) lines.push(`#SBATCH --partition=${o.partition}`);
+  if (o.account) lines.push(`#SBATCH --account=${o.account}`);
+  for (const e of o.extra) lines.push(`#SBATCH ${e}`);
+  const command = [
+    ...o.rungchain.split(' '),
+    'scan',
+    abs(o.specPath),
+    ...o.overrides.flatMap((s) => ['--set', s]),
+    '--out',
+    `${abs(o.runDir)}/shard-\${SLURM_ARRAY_TASK_ID}`,
+    '--workers',
+    '${SLURM_CPUS_PER_TASK:-1}',
+  ];
+  lines.push('', 'set -euo pipefail', `mkdir -p ${shellQuote(abs(o.runDir))}`);
+  // The shard comes from SLURM_ARRAY_TASK_ID/COUNT/MIN; exec so the scan receives the scheduler's
+  // TERM before the time limit and saves its work.
+  lines.push(`exec ${command.map((w) => (w.includes('${') ? `"${w}"` : shellQuote(w))).join(' ')}`);
+  return lines.join('\n') + '\n';
 }

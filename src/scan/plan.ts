@@ -11,6 +11,7 @@
 import { InputError, SpecError } from '../errors/errors.js';
 import { planPoint, type PointPlan } from '../point/solvePoint.js';
 import { formatBytes } from '../format/bytes.js';
+import { roughDuration } from '../format/durations.js';
 import { DEFAULT_DENSE_THRESHOLD } from '../solver/eigensolver.js';
 import { applyOverride, validateSpec, type Spec } from '../spec/spec.js';
 import type { ScanSection, ScanValue } from '../spec/scanSection.js';
@@ -193,20 +194,6 @@ export function estimateSeconds(plan: PointPlan, sectors: SectorSize[] | null): 
   );
 }
 
-/** A rough duration for people: seconds to days, two significant figures at most. */
-export function formatDuration(seconds: number): string {
-  if (seconds < 1) return 'under a second';
-  return `about ${roughDuration(seconds)}`;
-}
-
-function roughDuration(seconds: number): string {
-  const round = (x: number) => (x < 10 ? x.toFixed(1).replace(/\.0$/, '') : String(Math.round(x)));
-  if (seconds < 120) return `${round(seconds)} s`;
-  if (seconds < 7200) return `${round(seconds / 60)} min`;
-  if (seconds < 172800) return `${round(seconds / 3600)} h`;
-  return `${round(seconds / 86400)} days`;
-}
-
 /** The lines `check` prints after the sizes of one point: its sectors and a rough time. */
 export function describeWork(spec: Spec, plan: PointPlan): string[] {
   const sectors = pointSectors(spec, plan);
@@ -220,7 +207,7 @@ export function describeWork(spec: Spec, plan: PointPlan): string[] {
   }
   return [
     sectorLine,
-    `time estimate    ${formatDuration(estimateSeconds(plan, sectors))} (rough: within a factor of 3 on a 2-core machine)`,
+    `time estimate    ${roughDuration(estimateSeconds(plan, sectors))} (rough: within a factor of 3 on a 2-core machine)`,
   ];
 }
 
@@ -289,7 +276,7 @@ export function describeScan(raw: Record<string, unknown>, spec: Spec, limit: nu
   // Workers share the points; a single large point also spreads over the cores, so this holds either way.
   const perWorker = seconds / Math.max(1, workers);
   lines.push(
-    `time estimate    ${formatDuration(perWorker)} with ${workers} worker${workers === 1 ? '' : 's'} (rough: within a factor of 3 on a 2-core machine)`,
+    `time estimate    ${roughDuration(perWorker)} with ${workers} worker${workers === 1 ? '' : 's'} (rough: within a factor of 3 on a 2-core machine)`,
   );
   if (overLimit.length > 0) {
     lines.push(

@@ -3,7 +3,7 @@
 import { RunFileError } from '../errors/errors.js';
 import { readRun, type RunManifest } from '../runs/runFiles.js';
 import { paramsOf, type ScanParams, type ScanSection } from './plan.js';
-import type { ScanRecord } from './task.js';
+import { latestRecords, type ScanRecord } from './record.js';
 
 export interface SummaryRow {
   index: number;
@@ -22,15 +22,6 @@ export interface ScanRunSummary {
   records: number;
   fileBytes: number;
   tornBytes: number;
-}
-
-/** The latest record of each point (a retried point has several; the last one counts). */
-export function latestRecords(records: Record<string, unknown>[]): Map<number, ScanRecord> {
-  const latest = new Map<number, ScanRecord>();
-  for (const r of records) {
-    if (typeof r.index === 'number') latest.set(r.index, r as unknown as ScanRecord);
-  }
-  return latest;
 }
 
 /** Reads a scan's run folder; damage in the middle of its records is a RunFileError, never skipped. */

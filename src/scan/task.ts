@@ -7,9 +7,10 @@ import type { MessagePort } from 'node:worker_threads';
 import { threadId } from 'node:worker_threads';
 import { isRungchainError } from '../errors/errors.js';
 import { claimNext } from './claims.js';
-import { planPoint, solvePoint, type PointRecord } from '../point/solvePoint.js';
+import { planPoint, solvePoint } from '../point/solvePoint.js';
 import { validateSpec, type Spec } from '../spec/spec.js';
 import type { ScanParams } from './plan.js';
+import type { ScanRecord } from './record.js';
 import { groundSpaceOverlap } from '../observables/overlap.js';
 
 export interface TaskPoint {
@@ -33,32 +34,6 @@ export interface ScanTask {
   /** Shared claims (see newClaims): the worker takes points through them, so the main thread can hand the unstarted tail to an idle worker. */
   claims?: Int32Array;
   port: MessagePort;
-}
-
-/** One record per point, as written to records.msgpack. */
-export interface ScanRecord {
-  index: number;
-  params: ScanParams;
-  status: 'done' | 'failed';
-  /** Why a point failed: the error's class and message. */
-  error?: string;
-  result?: PointRecord;
-  /** Matrix-vector products used (0 when failed before solving). */
-  iterations: number;
-  /** Wall time of this point, seconds. */
-  seconds: number;
-  /** Whether Lanczos started from the previous point's ground state. */
-  warm_start: boolean;
-  /**
-   * Fidelity between this ground state and the previous point's on the same line, when both
-   * live in the same basis: |<psi_prev|psi>|; for degenerate ground spaces P (g1 vectors) and
-   * Q (g2 vectors), sqrt(sum_ab |<p_a|q_b>|^2 / max(g1, g2)), which is 1 exactly when the spaces
-   * coincide. null for the first point of a line, after a change of basis, or when the previous point failed.
-   */
-  overlap_previous: number | null;
-  /** Worker thread id that solved it (0: the main thread). */
-  worker: number;
-  finished: string;
 }
 
 export type TaskMessage = { kind: 'start'; index: number } | { kind: 'record'; record: ScanRecord };
