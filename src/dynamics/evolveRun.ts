@@ -22,7 +22,7 @@ import { existsSync, readdirSync, readFileSync, unlinkSync } from 'node:fs';
 import path from 'node:path';
 import { crc32 } from 'node:zlib';
 import cliProgress from 'cli-progress';
-import { FileSystemError, InputError, RunFileError, SpecError, isRungchainError } from '../errors/errors.js';
+import { FileSystemError, RunFileError, SpecError, isRungchainError } from '../errors/errors.js';
 import {
   Evolution,
   planEvolution,
@@ -655,9 +655,4 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
     unitLines: units ? describeUnits(units) : [],
     notes,
   };
-}
-
-/** Refuses options that make no sense together, before any work. */
-export function checkEvolveOptions(opts: { json?: boolean; csv?: boolean }): void {
-  if (opts.json && opts.csv) throw new InputError('choose one of --csv and --json');
 }

@@ -13,7 +13,7 @@
 // lightness rises monotonically (readable in grey too).
 
 import path from 'node:path';
-import { InputError } from '../../errors/errors.js';
+import { OptionValueError } from '../../errors/errors.js';
 import type { PointRecord } from '../../point/solvePoint.js';
 import { pointTree, type ScanParams } from '../../scan/plan.js';
 import { validateSpec } from '../../spec/spec.js';
@@ -1397,8 +1397,10 @@ export function reportInputFromRun(summary: ScanRunSummary, options: RunReportOp
   const { hz, note } = runEnergyUnitHz(summary);
   if (note) analysis.notes.push(note);
   if (options.point !== undefined && !input.points.some((p) => p.index === options.point && p.record !== null)) {
-    throw new InputError(
-      `--point ${options.point}: no solved point with that index in ${summary.dir} (points 0 to ${input.points.length - 1})`,
+    throw new OptionValueError(
+      'point',
+      String(options.point),
+      `no solved point with that index in ${summary.dir} (points 0 to ${input.points.length - 1})`,
     );
   }
   const specName = typeof summary.manifest.spec_path === 'string' ? path.basename(summary.manifest.spec_path) : 'scan';
