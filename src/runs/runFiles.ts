@@ -30,6 +30,7 @@ import path from 'node:path';
 import { crc32 } from 'node:zlib';
 import { Packr, Unpackr } from 'msgpackr';
 import { FileSystemError, RunFileError, isSystemError, systemErrorCause } from '../errors/errors.js';
+import { coreCount } from '../threads/cores.js';
 
 export const MANIFEST_FILE = 'manifest.json';
 export const RECORDS_FILE = 'records.msgpack';
@@ -75,7 +76,7 @@ export function machineInfo(): MachineInfo {
     hostname: os.hostname(),
     platform: os.platform(),
     arch: os.arch(),
-    cpus: os.availableParallelism(),
+    cpus: coreCount(),
     cpu_model: cpus[0]?.model ?? 'unknown',
     memory_bytes: os.totalmem(),
     node: process.version,

@@ -23,7 +23,7 @@
 import { InputError, SpecError } from '../errors/errors.js';
 import { planPoint, type PointPlan } from '../point/solvePoint.js';
 import { formatBytes } from '../format/bytes.js';
-import { DEFAULT_DENSE_THRESHOLD } from '../solver/eigensolver.js';
+import { denseThresholdFor } from '../solver/eigensolver.js';
 import {
   applyOverride,
   cutText,
@@ -345,7 +345,7 @@ export function scanIdentity(raw: Record<string, unknown>, section: ScanSection)
  */
 export function pointCost(plan: PointPlan): number {
   const dim = plan.dimension;
-  if (dim <= DEFAULT_DENSE_THRESHOLD) return (dim * dim * dim) / 50 + dim;
+  if (dim <= denseThresholdFor()) return (dim * dim * dim) / 50 + dim;
   const termsPerState =
     plan.model.sites * (plan.model.levels + plan.model.exchangePairs.count / Math.max(1, plan.model.sites) + 1);
   const matvecs = 300;

@@ -17,6 +17,7 @@ import { RunWriter } from '../runs/runFiles.js';
 import { assignShards, type Shard } from './shard.js';
 import { newClaims, takeTail, unclaimed } from './claims.js';
 import { latestRecords } from './scanRun.js';
+import { coreCount } from '../threads/cores.js';
 import { workerScript } from '../threads/team.js';
 import { defaultRunDir } from '../runs/folders.js';
 import { rungchainVersion } from '../runs/version.js';
@@ -33,7 +34,7 @@ export interface PoolChoice {
 }
 
 export function defaultWorkerCount(): number {
-  return Math.max(1, os.availableParallelism());
+  return coreCount();
 }
 
 /**
