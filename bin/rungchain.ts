@@ -2,7 +2,7 @@
 // The command line: each command family registers itself from bin/commands/; errors become one line.
 
 import { Command, CommanderError } from 'commander';
-import { isRungchainError, isSystemError, systemErrorCause } from '../src/errors/errors.js';
+import { isRungchainError, isSystemError, OptionValueError, systemErrorCause } from '../src/errors/errors.js';
 import { rungchainVersion } from '../src/runs/version.js';
 import { registerSolveCommands } from './commands/solve.js';
 import { registerScanCommands } from './commands/scan.js';
@@ -35,6 +35,12 @@ process.stdout.on('error', (e: NodeJS.ErrnoException) => {
 // Messages on a closed stderr are lost; the work itself goes on.
 process.stderr.on('error', () => undefined);
 
+/** A refused option value under the flag that set it: commander reads `--max-memory` into `maxMemory`. */
+function optionValueMessage(e: OptionValueError): string {
+  const flag = `--${e.option.replace(/[A-Z]/g, (c) => `-${c.toLowerCase()}`)}`;
+  return `${flag} ${e.value}: ${e.problem}`;
+}
+
 async function main(): Promise<void> {
   try {
     await program.parseAsync(process.argv);
@@ -44,7 +50,7 @@ async function main(): Promise<void> {
       process.exit(e.exitCode === 0 ? 0 : 2);
     }
     if (isRungchainError(e)) {
-      process.stderr.write(`rungchain: ${e.message}\n`);
+      process.stderr.write(`rungchain: ${e instanceof OptionValueError ? optionValueMessage(e) : e.message}\n`);
       process.exit(2);
     }
     // A file-system call that failed where no module expected it: still the path and the cause.

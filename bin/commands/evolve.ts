@@ -3,7 +3,6 @@
 import type { Command } from 'commander';
 import { InputError } from '../../src/errors/errors.js';
 import {
-  checkEvolveOptions,
   loadEvolveRun,
   runEvolveCommand,
   traceContract,
@@ -17,6 +16,11 @@ import { fmt, fmtSmall, plural } from '../../src/format/tables.js';
 import { checkOutOption, collect, memoryLimit, PARTIAL_FAILURE } from './shared.js';
 import { commandLine } from '../invocation.js';
 import { evolveReporter } from '../progress.js';
+
+/** Refuses options that make no sense together, before any work. */
+function checkEvolveOptions(opts: { json?: boolean; csv?: boolean }): void {
+  if (opts.json && opts.csv) throw new InputError('choose one of --csv and --json');
+}
 
 function nonNegativeNumber(text: string, what: string): number {
   const n = Number(text);

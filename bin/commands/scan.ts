@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import { InputError } from '../../src/errors/errors.js';
 import { runScan } from '../../src/scan/runner.js';
 import { checkOutOption, collect, memoryLimit, PARTIAL_FAILURE } from './shared.js';
-import { parseShard, shardFromEnvironment } from '../../src/scan/shard.js';
+import type { Shard } from '../../src/scan/shard.js';
 import { commandLine } from '../invocation.js';
 import { scanReporter } from '../progress.js';
 
@@ -11,6 +11,36 @@ function positiveInteger(text: string, what: string): number {
   const n = Number(text);
   if (!Number.isInteger(n) || n < 1) throw new InputError(`${what}: expected a positive integer, got "${text}"`);
   return n;
+}
+
+export function parseShard(text: string, source = '--shard'): Shard {
+  const m = /^\s*(\d+)\s*\/\s*(\d+)\s*$/.exec(text);
+  const index = m ? Number(m[1]) : NaN;
+  const count = m ? Number(m[2]) : NaN;
+  if (!m || count < 1 || index < 1 || index > count) {
+    throw new InputError(`${source}: expected i/n with 1 <= i <= n (shard i of n), got "${text}"`);
+  }
+  return { index, count, source };
+}
+
+/**
+ * The shard of a job-array task, from the batch scheduler's environment: Slurm sets
+ * SLURM_ARRAY_TASK_ID, SLURM_ARRAY_TASK_MIN and SLURM_ARRAY_TASK_COUNT in each array task.
+ * Null outside an array task.
+ */
+export function shardFromEnvironment(env: NodeJS.ProcessEnv = process.env): Shard | null {
+  const id = env.SLURM_ARRAY_TASK_ID;
+  if (id === undefined || id === '') return null;
+  const count = Number(env.SLURM_ARRAY_TASK_COUNT);
+  const min = env.SLURM_ARRAY_TASK_MIN === undefined ? 0 : Number(env.SLURM_ARRAY_TASK_MIN);
+  const index = Number(id) - min + 1;
+  const source = `SLURM_ARRAY_TASK_ID=${id} (min ${min}, count ${env.SLURM_ARRAY_TASK_COUNT})`;
+  if (!Number.isInteger(count) || !Number.isInteger(index) || count < 1 || index < 1 || index > count) {
+    throw new InputError(
+      `${source}: cannot tell the shard; the array must be contiguous (e.g. --array=1-${Number.isInteger(count) ? count : 'N'}), or pass --shard i/n`,
+    );
+  }
+  return { index, count, source };
 }
 
 export function registerScanCommands(program: Command): void {

@@ -1,10 +1,35 @@
 // Option helpers shared by the commands.
 import type { Command } from 'commander';
 import type { AnalysisOptions } from '../../src/analysis/transitions.js';
-import { InputError } from '../../src/errors/errors.js';
-import { defaultMemoryLimit, memoryLimitWarning, parseMemorySize } from '../../src/point/memory.js';
+import os from 'node:os';
+import { InputError, ResourceError } from '../../src/errors/errors.js';
+import { formatBytes } from '../../src/format/bytes.js';
+import { defaultMemoryLimit } from '../../src/point/memory.js';
 
 export const collect = (value: string, previous: string[]) => previous.concat([value]);
+
+/**
+ * Parses a memory size as written: SI units are powers of 1000 ("500MB" is 500e6 bytes, also kB,
+ * GB, TB), binary units powers of 1024 ("500MiB" is 500 * 2^20, also KiB, GiB, TiB, or "8Gi"), a
+ * bare letter ("8G", "512M", as Slurm and ulimit write them) binary too, a plain number bytes.
+ */
+export function parseMemorySize(text: string, what = '--max-memory'): number {
+  const m = /^\s*([0-9]*\.?[0-9]+)\s*(?:([kKmMgGtT])(i?)([bB]?)|([bB]?))\s*$/.exec(text);
+  if (!m)
+    throw new ResourceError(
+      `${what}: cannot read "${text}" as a memory size (e.g. 8GB = 8e9 bytes, 8GiB = 8 * 2^30 bytes)`,
+    );
+  const power = m[2] ? 'kmgt'.indexOf(m[2].toLowerCase()) + 1 : 0;
+  const si = m[2] !== undefined && m[3] === '' && m[4] !== '';
+  return Math.floor(parseFloat(m[1]) * (si ? 1000 : 1024) ** power);
+}
+
+/** A warning to print when a memory limit is more than this machine has, or null. */
+export function memoryLimitWarning(limit: number, what = '--max-memory'): string | null {
+  const total = os.totalmem();
+  if (limit <= total) return null;
+  return `${what} ${formatBytes(limit)} is more than this machine's memory (${formatBytes(total)}); a problem that big would be stopped by the system, not refused here`;
+}
 
 export function memoryLimit(opts: { maxMemory?: string }): number {
   if (!opts.maxMemory) return defaultMemoryLimit();

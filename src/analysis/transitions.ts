@@ -5,7 +5,7 @@
 // The input is the scan's points in memory (parameters and records), so summaries, reports and
 // tests share it whatever the points were read from.
 
-import { InputError } from '../errors/errors.js';
+import { OptionValueError } from '../errors/errors.js';
 import { detectCrossings, sectorText, type Crossing, type CrossingPoint } from './crossings.js';
 import { finiteSizeFit, type FitResult } from './fits.js';
 import { transitionIndicators, type Indicator, type IndicatorName, type Peak } from './indicators.js';
@@ -211,8 +211,10 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
   const parameter = options.parameter ?? defaultParameter(input.axes);
   if (options.parameter !== undefined) {
     const axis = input.axes.find((a) => a.key === options.parameter);
-    if (!axis) throw new InputError(`--parameter ${options.parameter}: not a scanned axis (axes: ${keys.join(', ')})`);
-    if (!isNumericAxis(axis)) throw new InputError(`--parameter ${options.parameter}: its values are not all numbers`);
+    if (!axis)
+      throw new OptionValueError('parameter', options.parameter, `not a scanned axis (axes: ${keys.join(', ')})`);
+    if (!isNumericAxis(axis))
+      throw new OptionValueError('parameter', options.parameter, 'its values are not all numbers');
   }
   if (parameter === null) notes.push('no numeric parameter axis (other than sizes): no transition indicators');
 
@@ -319,8 +321,10 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
     for (const name of options.fit ?? []) {
       const known = availableObservables(done.map((p) => p.record!));
       if (!known.includes(name) && energyIndex(name) === null) {
-        throw new InputError(
-          `--fit ${name}: not an observable of this run (choose from ${known.join(', ')}, or E1, E2, ...)`,
+        throw new OptionValueError(
+          'fit',
+          name,
+          `not an observable of this run (choose from ${known.join(', ')}, or E1, E2, ...)`,
         );
       }
       const groups = groupByKeys(done, (p) => p.params, fixedKeys);

@@ -5,6 +5,7 @@
 import { validateSpec } from '../spec/spec.js';
 import { solvePoint } from '../point/solvePoint.js';
 import { fmt, table } from '../format/tables.js';
+import { observableValue } from '../analysis/transitions.js';
 import { runDynamicsDemo } from './dynamics.js';
 import { DEMO_REPORT_FILE, writeDemoReport } from './report.js';
 import path from 'node:path';
@@ -26,8 +27,8 @@ export function runDemo(print: (line: string) => void, program = 'rungchain'): v
       raw.exchange.strength = V;
       raw.levels.count = N;
       const { record } = solvePoint(validateSpec(raw), { groundStates: false });
-      if (N === 4) cells.push(fmt(record.energies[0] / 6, 7), fmt(record.gap, 5));
-      cells.push(fmt(record.observables.string_width, 4));
+      if (N === 4) cells.push(fmt(observableValue(record, 'E0/L'), 7), fmt(observableValue(record, 'gap'), 5));
+      cells.push(fmt(observableValue(record, 'string_width'), 4));
     }
     rows.push(cells);
   }

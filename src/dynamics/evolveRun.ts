@@ -15,7 +15,7 @@
 // A frame already in the records is never written twice: a resume from an older checkpoint
 // recomputes those frames and skips them.
 
-import { FileSystemError, InputError, RunFileError, SpecError, isRungchainError } from '../errors/errors.js';
+import { FileSystemError, RunFileError, SpecError, isRungchainError } from '../errors/errors.js';
 import {
   Evolution,
   planEvolution,
@@ -611,9 +611,4 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
     unitLines: units ? describeUnits(units) : [],
     notes: run.notes,
   };
-}
-
-/** Refuses options that make no sense together, before any work. */
-export function checkEvolveOptions(opts: { json?: boolean; csv?: boolean }): void {
-  if (opts.json && opts.csv) throw new InputError('choose one of --csv and --json');
 }

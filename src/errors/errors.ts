@@ -21,6 +21,21 @@ export class SpecError extends RungchainError {
 /** A spec file that cannot be read or parsed at all. */
 export class InputError extends RungchainError {}
 
+/**
+ * An option value the data cannot take (an axis the scan does not have, a point it did not solve).
+ * `option` is the option's name as the library takes it (`parameter`, `by`, ...), `value` the value
+ * as given, `problem` what is wrong; the command line shows `option` as its flag.
+ */
+export class OptionValueError extends InputError {
+  constructor(
+    readonly option: string,
+    readonly value: string,
+    readonly problem: string,
+  ) {
+    super(`${option} ${value}: ${problem}`);
+  }
+}
+
 /** The problem would need more memory than allowed. */
 export class ResourceError extends RungchainError {}
 

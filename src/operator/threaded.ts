@@ -6,7 +6,6 @@
 // Each row is summed by one thread, start to end: the result has the same bits however the
 // chunks fall.
 
-import os from 'node:os';
 import { MessageChannel, receiveMessageOnPort, type MessagePort } from 'node:worker_threads';
 import type { PinnedBasis } from '../basis/basis.js';
 import type { Model } from '../model/model.js';
@@ -14,6 +13,7 @@ import type { HermitianOperator } from './hermitian.js';
 import { CsrOperator } from './csr.js';
 import { PinnedOperator, type BlockPlacement } from './pinned.js';
 import { arenaHolding, VectorArena } from '../simd/arena.js';
+import { coreCount } from '../threads/cores.js';
 import { serveTeam, SyncTeam, TEAM_WORDS, workerScript } from '../threads/team.js';
 
 /** An operator that can write any slice [lo, hi) of its product on its own. */
@@ -78,11 +78,6 @@ function takeChunks(control: Int32Array, chunks: Int32Array, rows: (lo: number, 
   const count = chunks.length - 1;
   for (let c = Atomics.add(control, NEXT_CHUNK, 1); c < count; c = Atomics.add(control, NEXT_CHUNK, 1))
     rows(chunks[c], chunks[c + 1]);
-}
-
-/** Cores this process may use. */
-export function coreCount(): number {
-  return Math.max(1, typeof os.availableParallelism === 'function' ? os.availableParallelism() : os.cpus().length);
 }
 
 /** Threads to use for one product: all cores when the work is large enough to pay for the hand-offs. */

@@ -5,7 +5,7 @@
 // condensate_fraction, ...) for every value of the axis. A point that failed or is pending leaves
 // its cells empty.
 
-import { InputError } from '../errors/errors.js';
+import { OptionValueError } from '../errors/errors.js';
 import type { ScanParams, ScanValue } from '../scan/plan.js';
 import type { ScanRunSummary } from '../scan/scanRun.js';
 import { columnScale, csvCell, fmt, fmtNoise, table } from '../format/tables.js';
@@ -64,10 +64,10 @@ export function sideBySide(summary: ScanRunSummary, by: string): SideBySide {
   const axis = axes.find((a) => a.key === key);
   if (!axis) {
     const scanned = axes.map((a) => a.key).join(', ');
-    throw new InputError(`--by ${by}: the scan has no axis ${key} (its axes: ${scanned})`);
+    throw new OptionValueError('by', by, `the scan has no axis ${key} (its axes: ${scanned})`);
   }
   if (summary.section.zip)
-    throw new InputError(`--by ${by}: a zipped scan has no rows that share the other axes; use a grid scan`);
+    throw new OptionValueError('by', by, 'a zipped scan has no rows that share the other axes; use a grid scan');
   const keys = axes.filter((a) => a.key !== key).map((a) => a.key);
 
   const scalars = scalarObservablesIn(summary.rows.map((row) => row.record?.result?.observables));

@@ -28,7 +28,8 @@ import {
 import type { Spec } from '../spec/spec.js';
 import { detectSymmetries, planSectors, type SymmetryCheck, type SymmetryName } from '../symmetry/group.js';
 import { solveInSectors, type SectorSolveOptions } from '../symmetry/sectorSolve.js';
-import { coreCount, defaultProductThreads, ThreadedOperator, withThreads } from '../operator/threaded.js';
+import { defaultProductThreads, ThreadedOperator, withThreads } from '../operator/threaded.js';
+import { coreCount } from '../threads/cores.js';
 import { VectorArena } from '../simd/arena.js';
 import { solveSettings } from '../solver/specSettings.js';
 import { buildPointRecord, type PointRecord } from './record.js';

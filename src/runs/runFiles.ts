@@ -30,6 +30,7 @@ import path from 'node:path';
 import { crc32 } from 'node:zlib';
 import { Packr, Unpackr } from 'msgpackr';
 import { FileSystemError, RunFileError, isSystemError, systemErrorCause } from '../errors/errors.js';
+import { coreCount } from '../threads/cores.js';
 
 export const MANIFEST_FILE = 'manifest.json';
 export const RECORDS_FILE = 'records.msgpack';
@@ -75,7 +76,7 @@ export function machineInfo(): MachineInfo {
     hostname: os.hostname(),
     platform: os.platform(),
     arch: os.arch(),
-    cpus: os.availableParallelism(),
+    cpus: coreCount(),
     cpu_model: cpus[0]?.model ?? 'unknown',
     memory_bytes: os.totalmem(),
     node: process.version,
@@ -86,12 +87,17 @@ export function machineInfo(): MachineInfo {
 // Writing bytes and making folders
 
 /**
- * Test hook: the run files of this process may take this many bytes in all; past that a write
- * fails with ENOSPC as on a full disk (after a last short write of what still fits), so tests can
- * fill the disk without mounting a small file system. As on a disk, bytes cut off again or
- * replaced by a rename are free again.
+ * The bytes the run files of this process may still take: unlimited, except in tests, where past
+ * the limit a write fails with ENOSPC as on a full disk (after a last short write of what still
+ * fits), so tests can fill the disk without mounting a small file system. As on a disk, bytes cut
+ * off again or replaced by a rename are free again.
  */
-let testDiskBytesLeft = process.env.RUNGCHAIN_TEST_DISK_BYTES === undefined ? Infinity : Number(process.env.RUNGCHAIN_TEST_DISK_BYTES);
+let testDiskBytesLeft = Infinity;
+
+/** Fault injection, for tests only (tests/support/faults.mjs): the run files of this process may take this many bytes in all. */
+export function limitRunFileBytes(bytes: number): void {
+  testDiskBytesLeft = bytes;
+}
 
 function writeSome(fd: number, buffer: Buffer, offset: number, length: number): number {
   if (testDiskBytesLeft <= 0) {

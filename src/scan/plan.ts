@@ -12,7 +12,7 @@ import { InputError, SpecError } from '../errors/errors.js';
 import { planPoint, type PointPlan } from '../point/solvePoint.js';
 import { formatBytes } from '../format/bytes.js';
 import { roughDuration } from '../format/durations.js';
-import { DEFAULT_DENSE_THRESHOLD } from '../solver/eigensolver.js';
+import { denseThresholdFor } from '../solver/eigensolver.js';
 import { applyOverride, validateSpec, type Spec } from '../spec/spec.js';
 import type { ScanSection, ScanValue } from '../spec/scanSection.js';
 import { cutText } from '../spec/validate.js';
@@ -158,7 +158,7 @@ export function scanIdentity(raw: Record<string, unknown>, section: ScanSection)
  */
 export function pointCost(plan: PointPlan): number {
   const dim = plan.dimension;
-  if (dim <= DEFAULT_DENSE_THRESHOLD) return (dim * dim * dim) / 50 + dim;
+  if (dim <= denseThresholdFor()) return (dim * dim * dim) / 50 + dim;
   const termsPerState =
     plan.model.sites * (plan.model.levels + plan.model.exchangePairs.count / Math.max(1, plan.model.sites) + 1);
   const matvecs = 300;

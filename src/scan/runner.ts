@@ -15,6 +15,7 @@ import { assignShards, type Shard } from './shard.js';
 import { latestRecords, type ScanRecord } from './record.js';
 import { linesAreContinuous, planTasks } from './taskPlan.js';
 import { TaskDispatch } from './dispatch.js';
+import { coreCount } from '../threads/cores.js';
 import { workerScript } from '../threads/team.js';
 import { defaultRunDir } from '../runs/folders.js';
 
@@ -29,7 +30,7 @@ export interface PoolChoice {
 }
 
 export function defaultWorkerCount(): number {
-  return Math.max(1, os.availableParallelism());
+  return coreCount();
 }
 
 /**

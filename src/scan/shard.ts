@@ -1,12 +1,11 @@
-// Scans that outgrow one machine: deterministic shards balanced by estimated cost, and the batch
-// scheduler's array environment (the job-array script is written in batch.ts, shard folders are
-// merged in merge.ts).
+// Scans that outgrow one machine: deterministic shards balanced by estimated cost (the job-array
+// script is written in batch.ts, shard folders are merged in merge.ts, and the command line reads
+// the scheduler's array environment).
 //
 // A shard is a set of whole line pieces (so warm starts still chain), chosen by the greedy
 // longest-processing-time rule over the estimated cost of each piece: every shard computes the
 // same assignment from the spec alone, with no coordination.
 
-import { InputError } from '../errors/errors.js';
 import type { ScanPlan } from './plan.js';
 
 export interface Shard {
@@ -15,36 +14,6 @@ export interface Shard {
   count: number;
   /** Where the shard came from, for messages: "--shard" or the scheduler's variables. */
   source: string;
-}
-
-export function parseShard(text: string, source = '--shard'): Shard {
-  const m = /^\s*(\d+)\s*\/\s*(\d+)\s*$/.exec(text);
-  const index = m ? Number(m[1]) : NaN;
-  const count = m ? Number(m[2]) : NaN;
-  if (!m || count < 1 || index < 1 || index > count) {
-    throw new InputError(`${source}: expected i/n with 1 <= i <= n (shard i of n), got "${text}"`);
-  }
-  return { index, count, source };
-}
-
-/**
- * The shard of a job-array task, from the batch scheduler's environment: Slurm sets
- * SLURM_ARRAY_TASK_ID, SLURM_ARRAY_TASK_MIN and SLURM_ARRAY_TASK_COUNT in each array task.
- * Null outside an array task.
- */
-export function shardFromEnvironment(env: NodeJS.ProcessEnv = process.env): Shard | null {
-  const id = env.SLURM_ARRAY_TASK_ID;
-  if (id === undefined || id === '') return null;
-  const count = Number(env.SLURM_ARRAY_TASK_COUNT);
-  const min = env.SLURM_ARRAY_TASK_MIN === undefined ? 0 : Number(env.SLURM_ARRAY_TASK_MIN);
-  const index = Number(id) - min + 1;
-  const source = `SLURM_ARRAY_TASK_ID=${id} (min ${min}, count ${env.SLURM_ARRAY_TASK_COUNT})`;
-  if (!Number.isInteger(count) || !Number.isInteger(index) || count < 1 || index < 1 || index > count) {
-    throw new InputError(
-      `${source}: cannot tell the shard; the array must be contiguous (e.g. --array=1-${Number.isInteger(count) ? count : 'N'}), or pass --shard i/n`,
-    );
-  }
-  return { index, count, source };
 }
 
 /** Line pieces: at least three per shard where lines allow, so costs can be balanced. */

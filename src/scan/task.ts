@@ -38,38 +38,23 @@ export interface ScanTask {
 
 export type TaskMessage = { kind: 'start'; index: number } | { kind: 'record'; record: ScanRecord };
 
-/** Test hook: a worker exits abruptly (as on running out of memory) when it reaches this point index. */
-const EXIT_AT = process.env.RUNGCHAIN_TEST_WORKER_EXIT_AT;
 /**
- * Test hook: each point first waits this many milliseconds ("150"), or only the points with an
- * index in a range ("150@0-4"), so tests that interrupt a scan part way (kill, Ctrl-C, a second
- * writer) do not race a scan that finishes too fast, and tests of uneven work can make some slow.
+ * Fault injection, for tests only: tests/support/faults.mjs installs hooks through setScanTaskHooks
+ * so tests can make a worker exit abruptly, a point slow, or a point outgrow its memory ceiling.
+ * Nothing else sets them.
  */
-const POINT_DELAY = /^(\d+)(?:@(\d+)-(\d+))?$/.exec(process.env.RUNGCHAIN_TEST_POINT_DELAY_MS ?? '');
-function testDelayFor(index: number): number {
-  if (!POINT_DELAY) return 0;
-  const [, ms, from, to] = POINT_DELAY;
-  return from === undefined || (index >= Number(from) && index <= Number(to)) ? Number(ms) : 0;
+export interface ScanTaskHooks {
+  /** Called once the point's start is posted, before its clock starts. */
+  pointStarting?(index: number): void;
+  /** Called once the point's record is made, before it is posted. */
+  pointFinished?(index: number): void;
 }
 
-/**
- * Test hook: at one point ("heap:300@5": point 5) the worker first takes this many MiB of JS heap
- * ("heap") or of typed arrays ("buffer", held for up to 10 s so the scan's memory watch sees it),
- * then solves the point as usual, so tests can make a point exceed its worker's memory ceiling.
- */
-const ALLOCATE_AT = /^(heap|buffer):(\d+)@(\d+)$/.exec(process.env.RUNGCHAIN_TEST_POINT_ALLOCATE ?? '');
-function testAllocation(index: number): unknown[] {
-  if (!ALLOCATE_AT || Number(ALLOCATE_AT[3]) !== index) return [];
-  const held: unknown[] = [];
-  const mib = Number(ALLOCATE_AT[2]);
-  if (ALLOCATE_AT[1] === 'heap') {
-    // A JS array of doubles holds them unboxed: 2^17 of them are 1 MiB of heap.
-    for (let m = 0; m < mib; m++) held.push(new Array(1 << 17).fill(m + 0.5));
-  } else {
-    for (let m = 0; m < mib; m += 16) held.push(new Uint8Array(16 << 20).fill(1));
-    Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, 10_000);
-  }
-  return held;
+let hooks: ScanTaskHooks = {};
+
+/** Installs the fault-injection hooks of this thread's scan tasks (tests only). */
+export function setScanTaskHooks(next: ScanTaskHooks): void {
+  hooks = next;
 }
 
 /** A key telling whether two points share a basis (same states in the same order and arithmetic). */
@@ -130,10 +115,7 @@ export function runScanTask(
     if (task.claims && claimNext(task.claims) !== k) break;
     const point = task.points[k];
     post({ kind: 'start', index: point.index });
-    if (EXIT_AT !== undefined && Number(EXIT_AT) === point.index) process.exit(70);
-    const delay = testDelayFor(point.index);
-    if (delay > 0) Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, delay);
-    const held = testAllocation(point.index);
+    hooks.pointStarting?.(point.index);
     const started = performance.now();
     let record: ScanRecord;
     try {
@@ -179,7 +161,7 @@ export function runScanTask(
         finished: new Date().toISOString(),
       };
     }
-    held.length = 0;
+    hooks.pointFinished?.(point.index);
     post({ kind: 'record', record });
     solved++;
   }

@@ -29,7 +29,7 @@ export interface EigenOptions {
    * vectors of the dimension (the verification pass reuses them, keeping the results aside).
    */
   krylovSize?: number;
-  /** dim <= this -> dense path (default 400). */
+  /** dim <= this -> dense path (default: denseThresholdFor() without a number of states, 400). */
   denseThreshold?: number;
   /** Optional start vector (warm start from a previous ground state). */
   initial?: Float64Array;
@@ -124,7 +124,6 @@ export interface EigenResult {
   threads?: number;
 }
 
-export const DEFAULT_DENSE_THRESHOLD = 400;
 /**
  * Most copies of the lowest level a solve looks for (callers also bound it by memory: each copy
  * is a vector of the dimension). A level with more copies is reported as incomplete.
@@ -202,12 +201,14 @@ const SEMI_ORTHOGONAL = Math.sqrt(Number.EPSILON);
 const ROUNDING_LEVEL = 8 * Number.EPSILON;
 
 /**
- * Largest dimension solved densely when `states` pairs are wanted: the dense path costs O(dim^3)
- * (eight times more for a complex matrix's real embedding) while Lanczos on a small space needs only
- * a few hundred cheap products, so dense pays only when a good share of the spectrum is wanted.
+ * Largest dimension solved densely, the one place that decides it. When `states` pairs are wanted:
+ * the dense path costs O(dim^3) (eight times more for a complex matrix's real embedding) while
+ * Lanczos on a small space needs only a few hundred cheap products, so dense pays only when a good
+ * share of the spectrum is wanted. Without a number of states (a solve that does not size its
+ * threshold, and the cost estimates of scan points), a fixed 400.
  */
-export function denseThresholdFor(states: number): number {
-  return Math.max(64, 3 * states);
+export function denseThresholdFor(states?: number): number {
+  return states === undefined ? 400 : Math.max(64, 3 * states);
 }
 
 /** Two levels closer than this count as one degenerate level (relative 1e-8, or ten tolerances). */
@@ -1177,7 +1178,7 @@ export function lowestEigenpairs(op: HermitianOperator, opts: EigenOptions): Eig
   if (!(opts.tolerance > 0)) throw new SpecError('tolerance', 'must be a positive number');
   const isComplex = op.isComplex;
   const length = isComplex ? 2 * dim : dim;
-  const lanczos = dim > (opts.denseThreshold ?? DEFAULT_DENSE_THRESHOLD);
+  const lanczos = dim > (opts.denseThreshold ?? denseThresholdFor());
   // One arena per solve: the Lanczos basis lives in it; results are copied out at the end.
   const given = opts.arena && opts.arena.allocates ? opts.arena : null;
   const arena = lanczos && length >= ARENA_MIN_LENGTH ? (given ?? VectorArena.acquire()) : null;

@@ -6,7 +6,7 @@ import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { CLI, ROOT, runCli } from '../support/cli.js';
+import { CLI, FAULTS, ROOT, runCli } from '../support/cli.js';
 import { loadEvolveRun } from '../../src/dynamics/evolveRun.js';
 import { readRun } from '../../src/runs/runFiles.js';
 
@@ -192,9 +192,9 @@ describe('folders that cannot be written', () => {
   );
 });
 
-describe('a full disk (simulated through the RUNGCHAIN_TEST_DISK_BYTES hook)', () => {
+describe('a full disk (simulated through the RUNGCHAIN_TEST_DISK_BYTES fault, tests/support/faults.mjs)', () => {
   const full = (args: string[], bytes: number, cwd = ROOT) => {
-    const r = spawnSync(process.execPath, [CLI, ...args], {
+    const r = spawnSync(process.execPath, [...FAULTS, CLI, ...args], {
       cwd,
       encoding: 'utf8',
       timeout: 120_000,
@@ -350,6 +350,7 @@ describe('the commands rungchain prints can be pasted where the user stands', ()
     const child = spawn(
       process.execPath,
       [
+        ...FAULTS,
         CLI,
         'scan',
         path.join(dir, 'scan.toml'),

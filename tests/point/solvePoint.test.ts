@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { coreCount } from '../../src/operator/threaded.js';
+import { coreCount } from '../../src/threads/cores.js';
 import { planPoint, solvePoint } from '../../src/point/solvePoint.js';
 import { validateSpec } from '../../src/spec/spec.js';
 import { densePinnedHamiltonian, denseSpectrum } from '../support/reference.js';

@@ -8,7 +8,7 @@ import { SpecError } from '../../src/errors/errors.js';
 import { readRun, RECORDS_FILE } from '../../src/runs/runFiles.js';
 import { expandScan, linesOf, paramsOf } from '../../src/scan/plan.js';
 import { parseSpecText, rotorWeights, validateSpec } from '../../src/spec/spec.js';
-import { CLI, runCli } from '../support/cli.js';
+import { CLI, FAULTS, runCli } from '../support/cli.js';
 import { densePinnedHamiltonian } from '../support/reference.js';
 
 const tmp = () => mkdtempSync(path.join(os.tmpdir(), 'rungchain-scan-'));
@@ -242,7 +242,7 @@ const SLOW_POINTS = { ...process.env, RUNGCHAIN_TEST_POINT_DELAY_MS: '150' };
 /** Starts a scan, SIGKILLs it once `atLeast` records are on disk, and returns when it is dead. */
 function scanAndKill(args: string[], recordsFile: string, atLeast: number): Promise<void> {
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [CLI, ...args], { stdio: 'ignore', env: SLOW_POINTS });
+    const child = spawn(process.execPath, [...FAULTS, CLI, ...args], { stdio: 'ignore', env: SLOW_POINTS });
     let killed = false;
     const poll = setInterval(() => {
       if (!existsSync(recordsFile) || killed) return;
@@ -463,7 +463,7 @@ describe('rungchain scan', () => {
     const dir = tmp();
     const spec = writeSpec(dir, SCAN_SPEC);
     const out = path.join(dir, 'run');
-    const first = spawn(process.execPath, [CLI, 'scan', spec, '--out', out, '--workers', '1', '--quiet'], {
+    const first = spawn(process.execPath, [...FAULTS, CLI, 'scan', spec, '--out', out, '--workers', '1', '--quiet'], {
       stdio: 'ignore',
       env: SLOW_POINTS,
     });
@@ -483,7 +483,7 @@ describe('rungchain scan', () => {
     const dir = tmp();
     const spec = writeSpec(dir, SCAN_SPEC);
     const out = path.join(dir, 'run');
-    const child = spawn(process.execPath, [CLI, 'scan', spec, '--out', out, '--workers', '1'], {
+    const child = spawn(process.execPath, [...FAULTS, CLI, 'scan', spec, '--out', out, '--workers', '1'], {
       stdio: ['ignore', 'ignore', 'pipe'],
       env: SLOW_POINTS,
     });
@@ -549,9 +549,9 @@ steps = 10
   });
 });
 
-/** runCli with extra environment variables. */
+/** runCli with test faults named by extra environment variables (tests/support/faults.mjs). */
 function spawnCli(args: string[], env: Record<string, string>) {
-  const r = spawnSync(process.execPath, [CLI, ...args], {
+  const r = spawnSync(process.execPath, [...FAULTS, CLI, ...args], {
     encoding: 'utf8',
     env: { ...process.env, ...env },
     timeout: 120_000,

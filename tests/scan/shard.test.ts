@@ -5,7 +5,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { readRun } from '../../src/runs/runFiles.js';
 import { expandScan, pointCost, sizeScan } from '../../src/scan/plan.js';
-import { assignShards, parseShard, shardFromEnvironment } from '../../src/scan/shard.js';
+import { assignShards } from '../../src/scan/shard.js';
 import { parseSpecText, validateSpec } from '../../src/spec/spec.js';
 import { CLI, runCli } from '../support/cli.js';
 
@@ -72,23 +72,6 @@ describe('shards', () => {
     // The expensive 4-level points are spread out, so counts differ between shards.
     const counts = shards.map((s) => s.length);
     expect(Math.max(...counts)).toBeGreaterThan(Math.min(...counts));
-  });
-
-  it('i/n parsing and the Slurm array variables', () => {
-    expect(parseShard('2/5')).toMatchObject({ index: 2, count: 5 });
-    expect(() => parseShard('0/5')).toThrow(/1 <= i <= n/);
-    expect(() => parseShard('6/5')).toThrow(/1 <= i <= n/);
-    expect(shardFromEnvironment({})).toBeNull();
-    // Slurm's sbatch documentation: array tasks get SLURM_ARRAY_TASK_ID, _MIN, _MAX and _COUNT.
-    expect(
-      shardFromEnvironment({ SLURM_ARRAY_TASK_ID: '7', SLURM_ARRAY_TASK_MIN: '5', SLURM_ARRAY_TASK_COUNT: '4' }),
-    ).toMatchObject({ index: 3, count: 4 });
-    expect(
-      shardFromEnvironment({ SLURM_ARRAY_TASK_ID: '0', SLURM_ARRAY_TASK_MIN: '0', SLURM_ARRAY_TASK_COUNT: '2' }),
-    ).toMatchObject({ index: 1, count: 2 });
-    expect(() =>
-      shardFromEnvironment({ SLURM_ARRAY_TASK_ID: '9', SLURM_ARRAY_TASK_MIN: '0', SLURM_ARRAY_TASK_COUNT: '2' }),
-    ).toThrow(/contiguous/);
   });
 
   it('shard-and-merge equals an unsharded run of the same spec, record for record, for several n', () => {

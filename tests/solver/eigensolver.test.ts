@@ -3,6 +3,7 @@ import { Matrix, EigenvalueDecomposition, QrDecomposition } from 'ml-matrix';
 import {
   lowestEigenpairs,
   denseEigen,
+  denseThresholdFor,
   denseMatrixOf,
   PARTIAL_MIN_LENGTH,
   STEP_CHECK_MIN_LENGTH,
@@ -726,6 +727,28 @@ describe('warm start, memory and determinism', () => {
 });
 
 describe('edge cases', () => {
+  it('the dense path: a fixed 400 states unless sized by the states wanted, max(64, 3 states); the solver defaults to the fixed one', () => {
+    expect(denseThresholdFor()).toBe(400);
+    expect(denseThresholdFor(2)).toBe(64);
+    expect(denseThresholdFor(30)).toBe(90);
+    // A diagonal operator: its lowest eigenvalue is its smallest entry (by definition).
+    const diagonal = (dim: number): HermitianOperator => ({
+      dim,
+      isComplex: false,
+      apply: (x, y) => {
+        for (let k = 0; k < dim; k++) y[k] = (k + 1) * x[k];
+      },
+    });
+    for (const [dim, method] of [
+      [400, 'dense'],
+      [401, 'lanczos'],
+    ] as const) {
+      const r = lowestEigenpairs(diagonal(dim), { states: 1, tolerance: 1e-9 });
+      expect(r.method).toBe(method);
+      expect(r.values[0]).toBeCloseTo(1, 9);
+    }
+  });
+
   it('dim 1, on both paths', () => {
     // A 1x1 matrix [3.5] has the eigenvalue 3.5 and a unit eigenvector (by definition).
     const op: HermitianOperator = { dim: 1, isComplex: false, apply: (x, y) => void (y[0] = 3.5 * x[0]) };

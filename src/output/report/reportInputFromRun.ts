@@ -2,7 +2,7 @@
 // read back from the run's spec when every solved point has the same one.
 
 import path from 'node:path';
-import { InputError } from '../../errors/errors.js';
+import { OptionValueError } from '../../errors/errors.js';
 import { pointTree } from '../../scan/plan.js';
 import { validateSpec } from '../../spec/spec.js';
 import type { ScanRunSummary } from '../../scan/scanRun.js';
@@ -50,8 +50,10 @@ export function reportInputFromRun(summary: ScanRunSummary, options: RunReportOp
   const { hz, note } = runEnergyUnitHz(summary);
   if (note) analysis.notes.push(note);
   if (options.point !== undefined && !input.points.some((p) => p.index === options.point && p.record !== null)) {
-    throw new InputError(
-      `--point ${options.point}: no solved point with that index in ${summary.dir} (points 0 to ${input.points.length - 1})`,
+    throw new OptionValueError(
+      'point',
+      String(options.point),
+      `no solved point with that index in ${summary.dir} (points 0 to ${input.points.length - 1})`,
     );
   }
   const specName = typeof summary.manifest.spec_path === 'string' ? path.basename(summary.manifest.spec_path) : 'scan';
