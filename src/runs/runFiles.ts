@@ -23,7 +23,24 @@
 // Records are plain objects; this layer knows nothing of what is in them, so scans, time traces
 // and shard merges all use it.
 
-import { closeSync, constants, existsSync, fstatSync, fsyncSync, ftruncateSync, linkSync, lstatSync, mkdirSync, openSync, readFileSync, renameSync, rmdirSync, statSync, unlinkSync, writeSync } from 'node:fs';
+import {
+  closeSync,
+  constants,
+  existsSync,
+  fstatSync,
+  fsyncSync,
+  ftruncateSync,
+  linkSync,
+  lstatSync,
+  mkdirSync,
+  openSync,
+  readFileSync,
+  renameSync,
+  rmdirSync,
+  statSync,
+  unlinkSync,
+  writeSync,
+} from 'node:fs';
 import { createHash, randomBytes } from 'node:crypto';
 import os from 'node:os';
 import path from 'node:path';
@@ -101,7 +118,11 @@ export function limitRunFileBytes(bytes: number): void {
 
 function writeSome(fd: number, buffer: Buffer, offset: number, length: number): number {
   if (testDiskBytesLeft <= 0) {
-    throw Object.assign(new Error('ENOSPC: no space left on device, write'), { code: 'ENOSPC', errno: -28, syscall: 'write' });
+    throw Object.assign(new Error('ENOSPC: no space left on device, write'), {
+      code: 'ENOSPC',
+      errno: -28,
+      syscall: 'write',
+    });
   }
   const written = writeSync(fd, buffer, offset, Math.min(length, testDiskBytesLeft));
   testDiskBytesLeft -= written;
@@ -114,7 +135,7 @@ function testDiskGiveBack(bytes: number): void {
 
 /** Writes the whole buffer (a write may take only part of it). */
 function writeAll(fd: number, buffer: Buffer): void {
-  for (let written = 0; written < buffer.length; ) written += writeSome(fd, buffer, written, buffer.length - written);
+  for (let written = 0; written < buffer.length;) written += writeSome(fd, buffer, written, buffer.length - written);
 }
 
 /** How to show a path the user did not type (an ancestor of one they did): relative when theirs was. */
@@ -136,7 +157,11 @@ export function makeFolder(dir: string): string[] {
   for (;;) {
     try {
       if (!statSync(existing).isDirectory()) {
-        throw new FileSystemError(existing === target ? `${dir} is a file, not a folder` : `cannot create folder ${dir}: ${shownLike(dir, existing)} is a file, not a folder`);
+        throw new FileSystemError(
+          existing === target
+            ? `${dir} is a file, not a folder`
+            : `cannot create folder ${dir}: ${shownLike(dir, existing)} is a file, not a folder`,
+        );
       }
       break;
     } catch (e) {
@@ -160,7 +185,9 @@ export function makeFolder(dir: string): string[] {
         if (isSystemError(e) && e.code === 'EEXIST' && statSync(folder).isDirectory()) continue;
         if (isSystemError(e) && e.code === 'ENOENT') {
           // The parent exists (we just found or made it) yet the entry cannot be made: a virtual file system.
-          throw new FileSystemError(`cannot create folder ${dir}: ${shownLike(dir, path.dirname(folder))} does not take new folders (ENOENT)`);
+          throw new FileSystemError(
+            `cannot create folder ${dir}: ${shownLike(dir, path.dirname(folder))} does not take new folders (ENOENT)`,
+          );
         }
         throw isSystemError(e) ? new FileSystemError(`cannot create folder ${dir}: ${systemErrorCause(e)}`) : e;
       }
@@ -282,7 +309,7 @@ export function parseFrames(buffer: Buffer): ParsedFrames {
     };
   }
   let after = 0;
-  for (let at = next; at < buffer.length; ) {
+  for (let at = next; at < buffer.length;) {
     const length = intactFrameAt(buffer, at);
     if (length === 0) break;
     after++;
@@ -334,7 +361,9 @@ export function readManifest(dir: string): RunManifest {
   } catch (e) {
     const code = (e as NodeJS.ErrnoException).code;
     if (code === 'ENOENT') {
-      throw new RunFileError(existsSync(dir) ? `${dir} is not a run folder (no ${MANIFEST_FILE})` : `no run folder ${dir}`);
+      throw new RunFileError(
+        existsSync(dir) ? `${dir} is not a run folder (no ${MANIFEST_FILE})` : `no run folder ${dir}`,
+      );
     }
     if (code === 'ENOTDIR') throw new RunFileError(`${dir} is a file, not a run folder`);
     throw new RunFileError(`cannot read ${file}: ${(e as Error).message}`);
@@ -350,7 +379,9 @@ export function readManifest(dir: string): RunManifest {
     throw new RunFileError(`${file} is not a rungchain run manifest`);
   }
   if (typeof m.format_version !== 'number' || m.format_version > RUN_FORMAT_VERSION) {
-    throw new RunFileError(`${file} has run format version ${m.format_version}; this rungchain reads up to ${RUN_FORMAT_VERSION}`);
+    throw new RunFileError(
+      `${file} has run format version ${m.format_version}; this rungchain reads up to ${RUN_FORMAT_VERSION}`,
+    );
   }
   return m as RunManifest;
 }
@@ -424,7 +455,13 @@ function describeLock(lock: LockInfo): string {
 /** Takes the folder's lock or throws RunFileError naming the holder; stale locks of dead processes are broken. */
 export function acquireLock(dir: string, command = process.argv.slice(1).join(' ')): () => void {
   const lockPath = path.join(dir, LOCK_FILE);
-  const mine: LockInfo = { pid: process.pid, hostname: os.hostname(), boot_id: bootId(), started: new Date().toISOString(), command };
+  const mine: LockInfo = {
+    pid: process.pid,
+    hostname: os.hostname(),
+    boot_id: bootId(),
+    started: new Date().toISOString(),
+    command,
+  };
   const text = JSON.stringify(mine);
   // Write the whole lock under a private name, then link it into place: link fails if a lock exists,
   // so taking the lock is atomic and a lock file is never seen half written.
@@ -456,7 +493,9 @@ export function acquireLock(dir: string, command = process.argv.slice(1).join(' 
       // Only a file can be a lock we broke: anything else at that name is not ours to move.
       const found = lstatSync(lockPath, { throwIfNoEntry: false });
       if (found && !found.isFile()) {
-        throw new FileSystemError(`${lockPath} is not a lock file (it is a folder or a link); remove it if no scan is writing ${dir}`);
+        throw new FileSystemError(
+          `${lockPath} is not a lock file (it is a folder or a link); remove it if no scan is writing ${dir}`,
+        );
       }
       const holder = readLock(dir);
       if (attempt >= 3 || !lockIsStale(holder)) {
@@ -580,7 +619,15 @@ export class RunWriter {
   private readonly release: () => void;
   appended = 0;
 
-  private constructor(dir: string, manifest: RunManifest, existing: Record<string, unknown>[], cutBytes: number, fd: number, size: number, release: () => void) {
+  private constructor(
+    dir: string,
+    manifest: RunManifest,
+    existing: Record<string, unknown>[],
+    cutBytes: number,
+    fd: number,
+    size: number,
+    release: () => void,
+  ) {
     this.dir = dir;
     this.manifest = manifest;
     this.existing = existing;
@@ -618,7 +665,9 @@ export class RunWriter {
         }
       } else {
         if (existsSync(recordsPath) && fstatSyncSafe(recordsPath) > 0) {
-          throw new RunFileError(`${dir} has ${RECORDS_FILE} but no ${MANIFEST_FILE}; it is not a run folder this program wrote`);
+          throw new RunFileError(
+            `${dir} has ${RECORDS_FILE} but no ${MANIFEST_FILE}; it is not a run folder this program wrote`,
+          );
         }
         manifest = {
           format: RUN_FORMAT,
@@ -646,7 +695,15 @@ export class RunWriter {
         fsyncSync(fd);
         cutBytes = parsed.damage.bytes;
       }
-      return new RunWriter(dir, manifest, parsed.records as Record<string, unknown>[], cutBytes, fd, parsed.intactEnd, release);
+      return new RunWriter(
+        dir,
+        manifest,
+        parsed.records as Record<string, unknown>[],
+        cutBytes,
+        fd,
+        parsed.intactEnd,
+        release,
+      );
     } catch (e) {
       if (fd !== null) closeSync(fd);
       for (const file of createdFiles) {

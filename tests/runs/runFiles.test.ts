@@ -5,12 +5,28 @@ import os from 'node:os';
 import path from 'node:path';
 import { crc32 } from 'node:zlib';
 import { FileSystemError, RunFileError } from '../../src/errors/errors.js';
-import { encodeFrame, makeFolder, parseFrames, readRun, removeFolders, RunWriter, runIdentity, LOCK_FILE, RECORDS_FILE } from '../../src/runs/runFiles.js';
+import {
+  encodeFrame,
+  makeFolder,
+  parseFrames,
+  readRun,
+  removeFolders,
+  RunWriter,
+  runIdentity,
+  LOCK_FILE,
+  RECORDS_FILE,
+} from '../../src/runs/runFiles.js';
 
 const tmp = () => mkdtempSync(path.join(os.tmpdir(), 'rungchain-runfiles-'));
 
 function recordOf(k: number) {
-  return { index: k, params: { 'exchange.strength': 0.5 * k }, status: 'done', energies: [-1.25 * (k + 1), 0.5 + k], note: `point ${k}` };
+  return {
+    index: k,
+    params: { 'exchange.strength': 0.5 * k },
+    status: 'done',
+    energies: [-1.25 * (k + 1), 0.5 + k],
+    note: `point ${k}`,
+  };
 }
 
 /** A run folder holding `n` records, closed. */
@@ -99,7 +115,7 @@ describe('run folders', () => {
     for (let byte = lastStart; byte < full.length; byte += 5) {
       const dir = runWith(4);
       const damaged = Buffer.from(full);
-      damaged[byte] ^= 1 << byte % 8;
+      damaged[byte] ^= 1 << (byte % 8);
       writeFileSync(recordsPath(dir), damaged);
       const w = RunWriter.open(dir, { kind: 'test', identity: 'abc' });
       expect(w.existing).toEqual([0, 1, 2].map(recordOf));
@@ -151,7 +167,9 @@ describe('the lock against two writers', () => {
   it('a second writer is refused while the first holds the folder, and admitted after it closes', () => {
     const dir = tmp();
     const first = RunWriter.open(dir, { kind: 'test', identity: 'abc' });
-    expect(() => RunWriter.open(dir, { kind: 'test', identity: 'abc' })).toThrow(new RegExp(`in use by another writer \\(pid ${process.pid}`));
+    expect(() => RunWriter.open(dir, { kind: 'test', identity: 'abc' })).toThrow(
+      new RegExp(`in use by another writer \\(pid ${process.pid}`),
+    );
     first.close();
     expect(existsSync(path.join(dir, LOCK_FILE))).toBe(false);
     RunWriter.open(dir, { kind: 'test', identity: 'abc' }).close();
@@ -160,9 +178,14 @@ describe('the lock against two writers', () => {
   it('a lock left by a process that no longer exists is taken over', () => {
     const dir = runWith(1);
     // A real pid that has certainly exited: a child we ran to completion.
-    const child = spawnSync(process.execPath, ['-e', 'process.stdout.write(String(process.pid))'], { encoding: 'utf8' });
+    const child = spawnSync(process.execPath, ['-e', 'process.stdout.write(String(process.pid))'], {
+      encoding: 'utf8',
+    });
     const deadPid = Number(child.stdout);
-    writeFileSync(path.join(dir, LOCK_FILE), JSON.stringify({ pid: deadPid, hostname: os.hostname(), boot_id: null, started: 'earlier', command: 'x' }));
+    writeFileSync(
+      path.join(dir, LOCK_FILE),
+      JSON.stringify({ pid: deadPid, hostname: os.hostname(), boot_id: null, started: 'earlier', command: 'x' }),
+    );
     const w = RunWriter.open(dir, { kind: 'test', identity: 'abc' });
     expect(JSON.parse(readFileSync(path.join(dir, LOCK_FILE), 'utf8')).pid).toBe(process.pid);
     w.close();
@@ -171,7 +194,16 @@ describe('the lock against two writers', () => {
   it('a lock from before a reboot is stale even if its pid now belongs to a live process', () => {
     const dir = runWith(1);
     // Our own (live) pid, but another boot id: the machine restarted since the lock was written.
-    writeFileSync(path.join(dir, LOCK_FILE), JSON.stringify({ pid: process.pid, hostname: os.hostname(), boot_id: 'another-boot', started: 'earlier', command: 'x' }));
+    writeFileSync(
+      path.join(dir, LOCK_FILE),
+      JSON.stringify({
+        pid: process.pid,
+        hostname: os.hostname(),
+        boot_id: 'another-boot',
+        started: 'earlier',
+        command: 'x',
+      }),
+    );
     const hasBootId = existsSync('/proc/sys/kernel/random/boot_id');
     if (hasBootId) RunWriter.open(dir, { kind: 'test', identity: 'abc' }).close();
     else expect(() => RunWriter.open(dir, { kind: 'test', identity: 'abc' })).toThrow(/in use/);
@@ -179,8 +211,13 @@ describe('the lock against two writers', () => {
 
   it('a lock held on another machine is never broken from here', () => {
     const dir = runWith(1);
-    writeFileSync(path.join(dir, LOCK_FILE), JSON.stringify({ pid: 1, hostname: 'some-other-node', boot_id: 'b', started: 'earlier', command: 'x' }));
-    expect(() => RunWriter.open(dir, { kind: 'test', identity: 'abc' })).toThrow(/in use by another writer \(pid 1 on some-other-node/);
+    writeFileSync(
+      path.join(dir, LOCK_FILE),
+      JSON.stringify({ pid: 1, hostname: 'some-other-node', boot_id: 'b', started: 'earlier', command: 'x' }),
+    );
+    expect(() => RunWriter.open(dir, { kind: 'test', identity: 'abc' })).toThrow(
+      /in use by another writer \(pid 1 on some-other-node/,
+    );
   });
 });
 
@@ -197,7 +234,9 @@ describe('making folders', () => {
   it('a file on the way is named, and nothing is created', () => {
     const base = tmp();
     writeFileSync(path.join(base, 'f'), 'x');
-    expect(() => makeFolder(path.join(base, 'f'))).toThrow(new RegExp(`^${path.join(base, 'f')} is a file, not a folder$`));
+    expect(() => makeFolder(path.join(base, 'f'))).toThrow(
+      new RegExp(`^${path.join(base, 'f')} is a file, not a folder$`),
+    );
     expect(() => makeFolder(path.join(base, 'f', 'g', 'h'))).toThrow(FileSystemError);
     expect(() => makeFolder(path.join(base, 'f', 'g', 'h'))).toThrow(/f is a file, not a folder/);
     expect(() => makeFolder('')).toThrow(FileSystemError);
@@ -206,6 +245,8 @@ describe('making folders', () => {
   // Linux's /proc exists but refuses new entries with ENOENT, where Node's recursive mkdir loops
   // forever (found by fuzzing --out; it also hung `rungchain demo` started inside /proc).
   it.skipIf(!existsSync('/proc/self'))('a parent that refuses new entries is an error, not an endless loop', () => {
-    expect(() => makeFolder('/proc/rungchain-nope/deeper')).toThrow(/cannot create folder \/proc\/rungchain-nope\/deeper: \/proc does not take new folders \(ENOENT\)/);
+    expect(() => makeFolder('/proc/rungchain-nope/deeper')).toThrow(
+      /cannot create folder \/proc\/rungchain-nope\/deeper: \/proc does not take new folders \(ENOENT\)/,
+    );
   });
 });
