@@ -1,7 +1,8 @@
 // Reading a scan's run folder: the summary table (with transition indicators and fits) and the status.
 import type { Command } from 'commander';
 import { InputError } from '../../src/errors/errors.js';
-import { loadScanRun } from '../../src/scan/scanRun.js';
+import { loadScanRun, type ScanRunSummary } from '../../src/scan/scanRun.js';
+import { shellCommand } from '../../src/format/tables.js';
 import {
   longCsv,
   longJson,
@@ -96,6 +97,24 @@ export function registerSummaryCommands(program: Command): void {
     .action((dir: string, opts: { json?: boolean }) => {
       const summary = loadScanRun(dir);
       if (opts.json) process.stdout.write(JSON.stringify(statusJson(summary)) + '\n');
-      else console.log(statusText(summary, invocation()));
+      else console.log(statusText(summary, scanResumeCommand));
     });
+}
+
+/** The scan command that continues a run folder, as the user can paste it here. */
+function scanResumeCommand(summary: ScanRunSummary): string {
+  const { manifest } = summary;
+  const overrides = Array.isArray(manifest.overrides)
+    ? (manifest.overrides as string[]).flatMap((o) => ['--set', o])
+    : [];
+  const shard = manifest.shard as { index: number; count: number } | undefined;
+  const shardArgs = shard ? ['--shard', `${shard.index}/${shard.count}`] : [];
+  return shellCommand(invocation(), [
+    'scan',
+    String(manifest.spec_path),
+    ...overrides,
+    ...shardArgs,
+    '--out',
+    summary.dir,
+  ]);
 }

@@ -5,7 +5,7 @@ import os from 'node:os';
 import { lockIsStale, readLock, type LockInfo } from '../runs/runFiles.js';
 import type { ScanParams, ScanValue } from '../scan/plan.js';
 import type { ScanRunSummary, SummaryRow } from '../scan/scanRun.js';
-import { columnScale, csv, fmt, fmtNoise, shellCommand, table } from '../format/tables.js';
+import { columnScale, csv, fmt, fmtNoise, table } from '../format/tables.js';
 import { formatBytes } from '../format/bytes.js';
 import { longObservables, pointScalar, scalarObservablesIn } from '../observables/catalogue.js';
 
@@ -262,8 +262,11 @@ function writerState(dir: string): { lock: LockInfo | null; running: boolean } {
   return { lock, running: !lockIsStale(lock) };
 }
 
-/** `program`: how the printed resume command starts rungchain (the command line passes its own invocation). */
-export function statusText(summary: ScanRunSummary, program = 'rungchain'): string {
+/**
+ * `resumeCommand`: the command line's text for continuing this run (it knows how rungchain was
+ * started and its flags); shown when points are left and no writer is running.
+ */
+export function statusText(summary: ScanRunSummary, resumeCommand?: (summary: ScanRunSummary) => string): string {
   const { manifest, counts } = summary;
   const { lock, running } = writerState(summary.dir);
   const axes = summary.section.axes
@@ -284,16 +287,8 @@ export function statusText(summary: ScanRunSummary, program = 'rungchain'): stri
   ];
   if (lock && lock.hostname !== os.hostname())
     lines.push(`             (the lock is from another machine; it cannot be checked from here)`);
-  if (!running && counts.pending + counts.failed > 0 && typeof manifest.spec_path === 'string') {
-    const overrides = Array.isArray(manifest.overrides)
-      ? (manifest.overrides as string[]).flatMap((o) => ['--set', o])
-      : [];
-    const shard = manifest.shard as { index: number; count: number } | undefined;
-    const shardArgs = shard ? ['--shard', `${shard.index}/${shard.count}`] : [];
-    lines.push(
-      `resume with  ${shellCommand(program, ['scan', manifest.spec_path, ...overrides, ...shardArgs, '--out', summary.dir])}`,
-    );
-  }
+  if (resumeCommand && !running && counts.pending + counts.failed > 0 && typeof manifest.spec_path === 'string')
+    lines.push(`resume with  ${resumeCommand(summary)}`);
   return lines.join('\n');
 }
 
