@@ -13,7 +13,7 @@ import {
   tracesText,
 } from '../../src/dynamics/evolveRun.js';
 import { fmt, fmtSmall, plural } from '../../src/format/tables.js';
-import { checkOutOption, collect, memoryLimit, PARTIAL_FAILURE } from './shared.js';
+import { checkOutOption, collect, memoryLimit, otherRunHint, PARTIAL_FAILURE } from './shared.js';
 import { commandLine } from '../invocation.js';
 import { evolveReporter } from '../progress.js';
 
@@ -88,6 +88,7 @@ export function registerEvolveCommands(program: Command): void {
           maxMemory,
           report: evolveReporter(opts.quiet),
           resumeCommand,
+          otherRunHint,
           checkpointSeconds,
           retryFailed: Boolean(opts.retryFailed),
           handleSignals: true,

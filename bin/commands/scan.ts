@@ -2,7 +2,7 @@
 import type { Command } from 'commander';
 import { InputError } from '../../src/errors/errors.js';
 import { runScan } from '../../src/scan/runner.js';
-import { checkOutOption, collect, memoryLimit, PARTIAL_FAILURE } from './shared.js';
+import { checkOutOption, collect, memoryLimit, otherRunHint, PARTIAL_FAILURE } from './shared.js';
 import type { Shard } from '../../src/scan/shard.js';
 import { commandLine } from '../invocation.js';
 import { scanReporter } from '../progress.js';
@@ -106,6 +106,7 @@ export function registerScanCommands(program: Command): void {
           report: scanReporter(opts.quiet),
           resumeCommand,
           handleSignals: true,
+          folderHints: { otherRun: otherRunHint, otherShard: 'choose another --out' },
         });
         // After a scan that solved its points (not one with nothing left to do, nor an interrupted one).
         if (!opts.quiet && !outcome.interrupted && outcome.ran > 0)

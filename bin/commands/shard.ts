@@ -27,7 +27,9 @@ export function registerShardCommands(program: Command): void {
     .requiredOption('--out <dir>', 'merged run folder')
     .action((dirs: string[], opts: { out: string }) => {
       checkOutOption(opts.out);
-      const r = mergeRuns(dirs, opts.out);
+      if (dirs.some((d) => path.resolve(d) === path.resolve(opts.out)))
+        throw new InputError(`merge: --out ${opts.out} is one of the shard folders`);
+      const r = mergeRuns(dirs, opts.out, `${opts.out} already holds another run; choose another --out`);
       console.log(
         `merged ${r.shards} folder${r.shards === 1 ? '' : 's'} into ${r.out}: ${r.done} done, ${r.failed} failed, ${r.missing.length} missing of ${r.total} (${r.written} records written now)`,
       );

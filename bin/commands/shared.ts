@@ -87,3 +87,8 @@ export function analysisOptions(flags: AnalysisFlags): AnalysisOptions {
   }
   return options;
 }
+
+/** What to do when the `--out` folder holds another run. */
+export function otherRunHint(dir: string): string {
+  return `choose another --out, or delete ${dir} to start over`;
+}

@@ -274,6 +274,8 @@ export interface EvolveRunOptions {
   /** Where messages and progress go (default: nowhere). */
   report?: EvolveReporter;
   /** The command that resumes this run in `dir`, printed after an interruption or a failed write (the command line builds it). */
+  /** What the user can do when the folder holds another run (the command line words it). */
+  otherRunHint?: (dir: string) => string;
   resumeCommand?: (dir: string) => string;
   /** Seconds between checkpoints of the state (0: after every recorded time). */
   checkpointSeconds?: number;
@@ -371,6 +373,7 @@ function openTraceFolder(
     specPath: options.specPath,
     overrides: options.overrides ?? [],
     spec: traces.raw,
+    otherRunHint: options.otherRunHint?.(dir),
     fields: {
       axes: traces.axes,
       points: traces.jobs.map((j) => ({ point: j.point, params: j.params })),

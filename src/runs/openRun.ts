@@ -12,6 +12,8 @@ export interface RunFolderRequest {
   identity: string;
   specPath: string;
   overrides: string[];
+  /** What the user can do when the folder holds another run (the command line words it). */
+  otherRunHint?: string;
   /** The spec tree after the overrides. */
   spec: Record<string, unknown>;
   /** Manifest fields of this kind of run, written after the spec's. */
@@ -25,7 +27,7 @@ export function openRunFolder(request: RunFolderRequest): RunWriter {
     kind: request.kind,
     identity: request.identity,
     version: rungchainVersion(),
-    mismatchHint: `choose another --out, or delete ${dir} to start over`,
+    mismatchHint: request.otherRunHint,
     fields: { spec_path: request.specPath, overrides: request.overrides, spec: request.spec, ...request.fields },
   });
 }

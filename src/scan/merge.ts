@@ -1,7 +1,7 @@
 // Merging shard folders (or any run folders of one scan) into one run folder.
 
 import path from 'node:path';
-import { InputError, RunFileError } from '../errors/errors.js';
+import { InputError, OptionValueError, RunFileError } from '../errors/errors.js';
 import { readRun, RunWriter, type RunManifest } from '../runs/runFiles.js';
 import { latestRecords, type ScanRecord } from './record.js';
 
@@ -29,7 +29,8 @@ function sameScan(a: RunManifest, b: RunManifest): boolean {
  * latest). Merging again, or merging into a folder that already has some points, only adds
  * what is new.
  */
-export function mergeRuns(dirs: string[], out: string): MergeReport {
+/** `otherRunHint`: what the user can do when `out` holds another run (the command line words it). */
+export function mergeRuns(dirs: string[], out: string, otherRunHint?: string): MergeReport {
   if (dirs.length === 0) throw new InputError('merge: name at least one shard folder');
   const runs = dirs.map((d) => readRun(d));
   const first = runs[0].manifest;
@@ -63,14 +64,14 @@ export function mergeRuns(dirs: string[], out: string): MergeReport {
   for (let i = 0; i < total; i++) if (!best.has(i)) missing.push(i);
 
   if (dirs.some((d) => path.resolve(d) === path.resolve(out)))
-    throw new InputError(`merge: --out ${out} is one of the shard folders`);
+    throw new OptionValueError('out', out, 'is one of the shard folders');
   const { shard: _shard, shard_points: _points, ...fields } = first;
   const writer = RunWriter.open(out, {
     kind: 'scan',
     identity: first.identity,
     version: first.version,
     fields: { ...stripBase(fields), merged_from: dirs.map((d) => path.resolve(d)) },
-    mismatchHint: `${out} already holds another run; choose another --out`,
+    mismatchHint: otherRunHint,
   });
   let written = 0;
   try {

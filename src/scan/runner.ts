@@ -119,8 +119,15 @@ export interface ScanOptions {
   resumeCommand?: (dir: string) => string;
   /** Catch SIGINT/SIGTERM: stop handing out work, keep every finished record, print how to resume. */
   handleSignals?: boolean;
+  /** What the user can do when `dir` holds another run, or another part of this scan (the command line words it). */
+  folderHints?: FolderHints;
   /** Run only this shard's points (balanced by estimated cost; see src/scan/shard.ts). */
   shard?: Shard | null;
+}
+
+export interface FolderHints {
+  otherRun: (dir: string) => string;
+  otherShard: string;
 }
 
 export interface ScanOutcome {
@@ -181,6 +188,7 @@ function openScanFolder(scan: PreparedScan, options: ScanOptions): RunWriter {
     specPath: options.specPath,
     overrides: options.overrides ?? [],
     spec: scan.raw,
+    otherRunHint: options.folderHints?.otherRun(dir),
     fields: {
       axes: plan.section.axes,
       zip: plan.section.zip,
@@ -193,7 +201,8 @@ function openScanFolder(scan: PreparedScan, options: ScanOptions): RunWriter {
     writer.close();
     const what = (s: { index: number; count: number } | null | undefined) =>
       s ? `shard ${s.index}/${s.count}` : 'the whole scan';
-    throw new RunFileError(`${dir} holds ${what(held)} of this scan, not ${what(shard)}; choose another --out`);
+    const hint = options.folderHints ? `; ${options.folderHints.otherShard}` : '';
+    throw new RunFileError(`${dir} holds ${what(held)} of this scan, not ${what(shard)}${hint}`);
   }
   return writer;
 }

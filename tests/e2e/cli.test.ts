@@ -104,3 +104,37 @@ describe('rungchain command line', () => {
     expect(r.stdout).not.toMatch(/`rungchain solve/);
   });
 });
+
+describe('a run folder that belongs to another run', () => {
+  const scanSpec = (dir: string, name: string, strengths: number[]) => {
+    const file = path.join(dir, name);
+    writeFileSync(
+      file,
+      [
+        '[chain]\nsites = 4\n[levels]\ncount = 2\ntunnelling = 1\n[exchange]\nstrength = 1.0',
+        `[[scan.axis]]\nkey = "exchange.strength"\nvalues = [${strengths.join(', ')}]`,
+      ].join('\n'),
+    );
+    return file;
+  };
+
+  it('scan and merge say which flag chooses another folder', () => {
+    const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-'));
+    const first = scanSpec(dir, 'first.toml', [1, 2]);
+    const second = scanSpec(dir, 'second.toml', [3, 4]);
+    const out = path.join(dir, 'run');
+    expect(runCli(['scan', first, '--out', out, '--quiet']).code).toBe(0);
+
+    const other = runCli(['scan', second, '--out', out, '--quiet']);
+    expect(other.code).toBe(2);
+    expect(other.stderr).toContain(`choose another --out, or delete ${out} to start over`);
+
+    const shard = runCli(['scan', first, '--out', out, '--shard', '1/2', '--quiet']);
+    expect(shard.code).toBe(2);
+    expect(shard.stderr).toMatch(/holds the whole scan of this scan, not shard 1\/2; choose another --out\n$/);
+
+    const merge = runCli(['merge', out, '--out', out]);
+    expect(merge.code).toBe(2);
+    expect(merge.stderr).toBe(`rungchain: merge: --out ${out} is one of the shard folders\n`);
+  });
+});
