@@ -108,6 +108,12 @@ export function registerScanCommands(program: Command): void {
           handleSignals: true,
           folderHints: { otherRun: otherRunHint, otherShard: 'choose another --out' },
         });
+        if (!opts.quiet && outcome.nothingToDo) {
+          const retry = outcome.failed > 0 ? ' (rerun failed points with --retry-failed)' : '';
+          process.stderr.write(
+            `nothing to do in ${outcome.dir}: ${outcome.done} done, ${outcome.failed} failed of ${outcome.total}${retry}\n`,
+          );
+        }
         // After a scan that solved its points (not one with nothing left to do, nor an interrupted one).
         if (!opts.quiet && !outcome.interrupted && outcome.ran > 0)
           process.stderr.write(`results: ${commandLine(['summary', outcome.dir])}  (--csv, --json, --long)\n`);

@@ -97,7 +97,10 @@ export function registerSummaryCommands(program: Command): void {
     .action((dir: string, opts: { json?: boolean }) => {
       const summary = loadScanRun(dir);
       if (opts.json) process.stdout.write(JSON.stringify(statusJson(summary)) + '\n');
-      else console.log(statusText(summary, scanResumeCommand));
+      else
+        console.log(
+          statusText(summary, { resumeCommand: scanResumeCommand, retryFailed: 'rerun with --retry-failed' }),
+        );
     });
 }
 

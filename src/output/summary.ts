@@ -262,11 +262,15 @@ function writerState(dir: string): { lock: LockInfo | null; running: boolean } {
   return { lock, running: !lockIsStale(lock) };
 }
 
-/**
- * `resumeCommand`: the command line's text for continuing this run (it knows how rungchain was
- * started and its flags); shown when points are left and no writer is running.
- */
-export function statusText(summary: ScanRunSummary, resumeCommand?: (summary: ScanRunSummary) => string): string {
+/** What the status text says about going on, in the command line's words (it knows how rungchain was started and its flags). */
+export interface StatusAdvice {
+  /** The command that continues this run; shown when points are left and no writer is running. */
+  resumeCommand: (summary: ScanRunSummary) => string;
+  /** Shown beside a count of failed points. */
+  retryFailed: string;
+}
+
+export function statusText(summary: ScanRunSummary, advice?: StatusAdvice): string {
   const { manifest, counts } = summary;
   const { lock, running } = writerState(summary.dir);
   const axes = summary.section.axes
@@ -277,7 +281,7 @@ export function statusText(summary: ScanRunSummary, resumeCommand?: (summary: Sc
     `scan         ${counts.total} points, ${summary.section.zip ? 'zipped' : 'grid'}: ${axes}`,
     `started      ${manifest.created} on ${manifest.machine?.hostname ?? '?'} (rungchain ${manifest.version})`,
     `done         ${counts.done}`,
-    `failed       ${counts.failed}${counts.failed > 0 ? '   (rerun with --retry-failed)' : ''}`,
+    `failed       ${counts.failed}${counts.failed > 0 && advice ? `   (${advice.retryFailed})` : ''}`,
     `pending      ${counts.pending}`,
     `records      ${summary.records} in ${formatBytes(summary.fileBytes)}` +
       (summary.tornBytes > 0
@@ -287,8 +291,8 @@ export function statusText(summary: ScanRunSummary, resumeCommand?: (summary: Sc
   ];
   if (lock && lock.hostname !== os.hostname())
     lines.push(`             (the lock is from another machine; it cannot be checked from here)`);
-  if (resumeCommand && !running && counts.pending + counts.failed > 0 && typeof manifest.spec_path === 'string')
-    lines.push(`resume with  ${resumeCommand(summary)}`);
+  if (advice && !running && counts.pending + counts.failed > 0 && typeof manifest.spec_path === 'string')
+    lines.push(`resume with  ${advice.resumeCommand(summary)}`);
   return lines.join('\n');
 }
 

@@ -140,6 +140,8 @@ export interface ScanOutcome {
   ran: number;
   seconds: number;
   interrupted: boolean;
+  /** Every selected point already had its record (failed ones too, unless retried): nothing was solved. */
+  nothingToDo: boolean;
 }
 
 /** The scan as planned from its spec, before anything is written. */
@@ -348,7 +350,7 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
     const selected = new Set(scan.shardPoints ?? plan.points.map((p) => p.index));
     const { pending, ...counts } = tallyRecords(selected, writer.existing, Boolean(options.retryFailed));
     const total = selected.size;
-    const outcome = (ran: number, interrupted: boolean): ScanOutcome => ({
+    const outcome = (ran: number, interrupted: boolean, nothingToDo = false): ScanOutcome => ({
       dir,
       total,
       done: counts.done,
@@ -357,13 +359,9 @@ export async function runScan(options: ScanOptions): Promise<ScanOutcome> {
       ran,
       seconds: (performance.now() - started) / 1000,
       interrupted,
+      nothingToDo,
     });
-    if (pending.size === 0) {
-      report.note(
-        `nothing to do in ${dir}: ${counts.done} done, ${counts.failed} failed of ${total}${counts.failed > 0 ? ' (rerun failed points with --retry-failed)' : ''}`,
-      );
-      return outcome(0, false);
-    }
+    if (pending.size === 0) return outcome(0, false, true);
     if (counts.done + counts.failed > 0)
       report.note(`resuming ${dir}: ${counts.done} done, ${counts.failed} failed, ${pending.size} to run`);
 
