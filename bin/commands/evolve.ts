@@ -86,6 +86,7 @@ export function registerEvolveCommands(program: Command): void {
           overrides: opts.set,
           out: opts.out,
           maxMemory,
+          memoryLimitName: '--max-memory',
           report: evolveReporter(opts.quiet),
           resumeCommand,
           otherRunHint,

@@ -103,6 +103,7 @@ export function registerScanCommands(program: Command): void {
           retryFailed: Boolean(opts.retryFailed),
           warmStart: opts.warmStart,
           maxMemory: memoryLimit(opts),
+          memoryLimitName: '--max-memory',
           report: scanReporter(opts.quiet),
           resumeCommand,
           handleSignals: true,

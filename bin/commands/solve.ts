@@ -47,6 +47,7 @@ export function registerSolveCommands(program: Command): void {
       const progress = opts.quiet || !process.stderr.isTTY ? undefined : solveProgress();
       const { record } = solvePoint(spec, {
         maxMemory: memoryLimit(opts),
+        memoryLimitName: '--max-memory',
         onProgress: progress ? (info) => progress.update(info) : undefined,
         groundStates: false,
       });

@@ -271,6 +271,8 @@ export interface EvolutionCheckpoint {
 
 export interface EvolveOptions {
   maxMemory?: number;
+  /** How the user sets `maxMemory` (the command line's flag), named when the evolution is over it. */
+  memoryLimitName?: string;
   /** Called for every recorded frame, in order; `state` is psi at that time (do not keep a reference). */
   onFrame?: (frame: EvolutionFrame, state: Float64Array) => void;
   /** Called after every Krylov step with how far the trace has come. */
@@ -381,7 +383,12 @@ export class Evolution {
   private propagator: KrylovPropagator | null = null;
 
   constructor(plan: EvolutionPlan, options: EvolveOptions = {}) {
-    assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this time evolution');
+    assertWithinMemory(
+      plan.memory,
+      options.maxMemory ?? defaultMemoryLimit(),
+      'this time evolution',
+      options.memoryLimitName,
+    );
     this.plan = plan;
     this.options = options;
     this.basis = buildBasis(plan.model);

@@ -271,6 +271,8 @@ export interface EvolveRunOptions {
   /** Run folder; null writes nothing (single spec only). Default for scans: runs/<spec name>-<identity>. */
   out?: string | null;
   maxMemory?: number;
+  /** How the user sets `maxMemory` (the command line's flag), named when a trace is over it. */
+  memoryLimitName?: string;
   /** Where messages and progress go (default: nowhere). */
   report?: EvolveReporter;
   /** The command that resumes this run in `dir`, printed after an interruption or a failed write (the command line builds it). */
@@ -400,6 +402,7 @@ interface TraceRun {
   dir: string | null;
   writer: RunWriter | null;
   maxMemory: number;
+  memoryLimitName: string | undefined;
   checkpointSeconds: number;
   notes: string[];
   frames: { done: number; total: number };
@@ -454,6 +457,7 @@ async function evolveTrace(
   let lastReport = performance.now();
   const evolution = new Evolution(plan, {
     maxMemory: run.maxMemory,
+    memoryLimitName: run.memoryLimitName,
     resume: resume ?? undefined,
     onFrame: (frame: EvolutionFrame) => {
       if (frame.index < trace.frames.length) return;
@@ -572,6 +576,7 @@ export async function runEvolveCommand(options: EvolveRunOptions): Promise<Evolv
     dir,
     writer,
     maxMemory: options.maxMemory ?? defaultMemoryLimit(),
+    memoryLimitName: options.memoryLimitName,
     checkpointSeconds: options.checkpointSeconds ?? 30,
     notes: [],
     frames: { done: existing.reduce((n, t) => n + t.frames.length, 0), total: timesToRecord(traces) },

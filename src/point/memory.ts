@@ -67,11 +67,13 @@ export function estimateSolveMemory(opts: {
   return { totalBytes, parts };
 }
 
-export function assertWithinMemory(estimate: MemoryEstimate, limit: number, what: string): void {
+/** `limitName`: how the user sets the limit (the command line passes its flag), named in the advice. */
+export function assertWithinMemory(estimate: MemoryEstimate, limit: number, what: string, limitName?: string): void {
   if (estimate.totalBytes > limit) {
+    const raise = limitName ? `raise it with ${limitName}` : 'raise it';
     throw new ResourceError(
       `${what} needs an estimated ${formatBytes(estimate.totalBytes)}, more than the memory limit ${formatBytes(limit)}` +
-        ` (raise it with --max-memory, or use symmetry sectors / fewer states)`,
+        ` (${raise}, or use symmetry sectors / fewer states)`,
     );
   }
 }

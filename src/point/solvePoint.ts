@@ -52,6 +52,8 @@ export interface PointPlan {
 
 export interface SolveOptions {
   maxMemory?: number;
+  /** How the user sets `maxMemory` (the command line's flag), named when a problem is over it. */
+  memoryLimitName?: string;
   /** Start vector for the eigensolver (warm start from a neighbouring point). */
   initial?: Float64Array;
   /** Most threads one matrix-vector product may use (a scan running points in parallel passes its share). */
@@ -217,7 +219,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     threads: options.threads,
     groundStates: options.groundStates,
   });
-  assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this problem');
+  assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this problem', options.memoryLimitName);
   const basis = buildBasis(plan.model);
   if (plan.used && basis.kind === 'pinned') return solvePinnedInSectors(spec, plan, basis, options, started);
   // A stored matrix is built in an arena, beside the solver's vectors, so its products run in WebAssembly.

@@ -26,6 +26,8 @@ export interface DispatchSetup {
   /** Each point's memory estimate, bytes: over the ceiling the largest running one is stopped. */
   pointBytes: number[];
   maxMemory: number;
+  /** How the user sets `maxMemory` (the command line's flag), named in messages about it. */
+  memoryLimitName?: string;
   /** See workerCeilings. */
   ceilings: { heapMb: number; processBytes: number };
   warmStart: boolean;
@@ -88,7 +90,7 @@ export class TaskDispatch {
 
   /** Over the ceiling, the worker on the point with the largest estimate is stopped (with one worker, exactly the point that went over); its point is recorded as failed, the rest goes on. */
   private watchMemory(): void {
-    const { ceilings, pointBytes, maxMemory, workers } = this.setup;
+    const { ceilings, pointBytes, maxMemory, memoryLimitName, workers } = this.setup;
     const rss = process.memoryUsage.rss();
     if (rss <= ceilings.processBytes) return;
     let heaviest: RunningPoint | null = null;
@@ -97,7 +99,7 @@ export class TaskDispatch {
     }
     if (!heaviest) return;
     heaviest.overMemory =
-      `the scan's resident memory (${formatBytes(rss)}) went over its ceiling (${formatBytes(ceilings.processBytes)}: --max-memory ${formatBytes(maxMemory)} and a JS heap of ${ceilings.heapMb} MiB` +
+      `the scan's resident memory (${formatBytes(rss)}) went over its ceiling (${formatBytes(ceilings.processBytes)}: ${memoryLimitName ?? 'memory limit'} ${formatBytes(maxMemory)} and a JS heap of ${ceilings.heapMb} MiB` +
       ` for each of ${workers} worker${workers === 1 ? '' : 's'}, beside the main thread); of the points being solved this one had the largest estimate (${formatBytes(pointBytes[heaviest.index])}), and its worker was stopped`;
     heaviest.abort.abort();
   }
@@ -133,7 +135,7 @@ export class TaskDispatch {
   }
 
   private start(task: PlannedTask): void {
-    const { pool, maxMemory, warmStart, threadsPerPoint } = this.setup;
+    const { pool, maxMemory, memoryLimitName, warmStart, threadsPerPoint } = this.setup;
     this.inflight++;
     const claims = newClaims(task.points.length);
     this.claimsOf.set(task, claims);
@@ -159,6 +161,7 @@ export class TaskDispatch {
           points: task.points.map(taskPoint),
           leadIn: task.leadIn ? taskPoint(task.leadIn) : undefined,
           maxMemory,
+          memoryLimitName,
           warmStart,
           threads: threadsPerPoint,
           claims,

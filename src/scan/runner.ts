@@ -113,6 +113,8 @@ export interface ScanOptions {
   retryFailed?: boolean;
   warmStart?: boolean;
   maxMemory?: number;
+  /** How the user sets `maxMemory` (the command line's flag), named in messages and failed points' errors. */
+  memoryLimitName?: string;
   /** Where messages and progress go (default: nowhere). */
   report?: ScanReporter;
   /** The command that resumes this scan in `dir`, printed after an interruption or a failed write (the command line builds it). */
@@ -311,6 +313,7 @@ async function solvePending(
     costs,
     pointBytes: scan.sizes.plans.map((p) => p.memory.totalBytes),
     maxMemory: scan.maxMemory,
+    memoryLimitName: options.memoryLimitName,
     ceilings,
     warmStart: options.warmStart !== false,
     write,

@@ -28,6 +28,8 @@ export interface ScanTask {
    */
   leadIn?: TaskPoint;
   maxMemory: number;
+  /** How the user sets `maxMemory` (the command line's flag), named in a failed point's error. */
+  memoryLimitName?: string;
   warmStart: boolean;
   /** Most threads one product may use: the cores this worker's share allows (see chooseParallelism). */
   threads?: number;
@@ -99,7 +101,11 @@ export function runScanTask(
     try {
       const spec = validateSpec(task.leadIn.raw);
       const plan = planPoint(spec);
-      const lead = solvePoint(spec, { maxMemory: task.maxMemory, threads: task.threads ?? 1 });
+      const lead = solvePoint(spec, {
+        maxMemory: task.maxMemory,
+        memoryLimitName: task.memoryLimitName,
+        threads: task.threads ?? 1,
+      });
       previous = {
         key: basisKey(spec, plan.model.isComplex, plan.dimension),
         states: lead.groundStates,
@@ -126,6 +132,7 @@ export function runScanTask(
       const warm = task.warmStart && same;
       const solvedPoint = solvePoint(spec, {
         maxMemory: task.maxMemory,
+        memoryLimitName: task.memoryLimitName,
         threads: task.threads ?? 1,
         initial: warm ? previous!.start : undefined,
       });

@@ -138,3 +138,24 @@ describe('a run folder that belongs to another run', () => {
     expect(merge.stderr).toBe(`rungchain: merge: --out ${out} is one of the shard folders\n`);
   });
 });
+
+describe('the memory limit is named as the command line sets it', () => {
+  it('solve and a scan point over the limit say to raise it with --max-memory', () => {
+    const refused = runCli(['solve', fixture, '--set', 'chain.sites=20', '--max-memory', '20MB']);
+    expect(refused.code).toBe(2);
+    expect(refused.stderr).toMatch(/raise it with --max-memory, or use symmetry sectors/);
+
+    const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-'));
+    const spec = path.join(dir, 'scan.toml');
+    writeFileSync(
+      spec,
+      '[chain]\nsites = 20\n[levels]\ncount = 2\ntunnelling = 0\n[exchange]\nstrength = 1.0\n[solve]\nsymmetries = "none"\n' +
+        '[[scan.axis]]\nkey = "exchange.strength"\nvalues = [1]\n',
+    );
+    const out = path.join(dir, 'run');
+    const scan = runCli(['scan', spec, '--out', out, '--max-memory', '20MB', '--quiet']);
+    expect(scan.code).toBe(3);
+    const status = runCli(['summary', out, '--json']);
+    expect(status.stdout).toMatch(/raise it with --max-memory, or use symmetry sectors/);
+  });
+});

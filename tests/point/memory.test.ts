@@ -3,7 +3,12 @@ import { existsSync } from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { planPoint } from '../../src/point/solvePoint.js';
-import { estimateSolveMemory, HELPER_THREAD_BYTES, RUNTIME_BASELINE_BYTES } from '../../src/point/memory.js';
+import {
+  assertWithinMemory,
+  estimateSolveMemory,
+  HELPER_THREAD_BYTES,
+  RUNTIME_BASELINE_BYTES,
+} from '../../src/point/memory.js';
 import { validateSpec } from '../../src/spec/spec.js';
 import { ROOT } from '../support/cli.js';
 
@@ -64,5 +69,19 @@ describe('memory estimates', () => {
     const s = validateSpec(spec(10));
     expect(planPoint(s).memory.parts.ground_states).toBe(2 * 3 ** 10 * 16);
     expect(planPoint(s, { groundStates: false }).memory.parts.ground_states).toBeUndefined();
+  });
+});
+
+describe('a problem over the memory limit', () => {
+  const estimate = { totalBytes: 3 * 2 ** 20, parts: {} };
+
+  it('names how the limit is raised only when the caller says how', () => {
+    expect(() => assertWithinMemory(estimate, 2 ** 20, 'this problem', '--max-memory')).toThrow(
+      /^this problem needs an estimated 3\.00 MiB, more than the memory limit 1\.00 MiB \(raise it with --max-memory, or use symmetry sectors \/ fewer states\)$/,
+    );
+    expect(() => assertWithinMemory(estimate, 2 ** 20, 'this problem')).toThrow(
+      /\(raise it, or use symmetry sectors \/ fewer states\)$/,
+    );
+    expect(() => assertWithinMemory(estimate, 4 * 2 ** 20, 'this problem')).not.toThrow();
   });
 });
