@@ -2,9 +2,9 @@
 import type { Command } from 'commander';
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
-import { InputError } from '../../src/errors/errors.js';
+import { InputError, OptionValueError } from '../../src/errors/errors.js';
 import { formatBytes } from '../../src/format/bytes.js';
-import { mergeRuns } from '../../src/scan/merge.js';
+import { mergeRuns, type MergeReport } from '../../src/scan/merge.js';
 import { planBatch } from '../../src/scan/batch.js';
 import { checkOutOption, collect, parseMemorySize, PARTIAL_FAILURE } from './shared.js';
 import { makeFolderFor } from '../../src/runs/runFiles.js';
@@ -27,9 +27,7 @@ export function registerShardCommands(program: Command): void {
     .requiredOption('--out <dir>', 'merged run folder')
     .action((dirs: string[], opts: { out: string }) => {
       checkOutOption(opts.out);
-      if (dirs.some((d) => path.resolve(d) === path.resolve(opts.out)))
-        throw new InputError(`merge: --out ${opts.out} is one of the shard folders`);
-      const r = mergeRuns(dirs, opts.out, `${opts.out} already holds another run; choose another --out`);
+      const r = mergeInto(dirs, opts.out);
       console.log(
         `merged ${r.shards} folder${r.shards === 1 ? '' : 's'} into ${r.out}: ${r.done} done, ${r.failed} failed, ${r.missing.length} missing of ${r.total} (${r.written} records written now)`,
       );
@@ -120,4 +118,15 @@ export function registerShardCommands(program: Command): void {
         );
       },
     );
+}
+
+/** Merges, in the command line's words for a taken or clashing `--out`. */
+function mergeInto(dirs: string[], out: string): MergeReport {
+  try {
+    return mergeRuns(dirs, out, `${out} already holds another run; choose another --out`);
+  } catch (e) {
+    if (e instanceof OptionValueError && e.option === 'out')
+      throw new InputError(`merge: --out ${e.value} ${e.problem}`);
+    throw e;
+  }
 }

@@ -56,8 +56,6 @@ import {
   type ComplexOperator,
 } from './krylov.js';
 import { productState, siteAmplitudes } from './initialState.js';
-// Loading the evolution registers the [evolve] section, so every spec validated beside it may have one.
-import '../spec/evolveSection.js';
 import type { EvolveSection, Ramp } from '../spec/evolveSection.js';
 
 // ---------------------------------------------------------------------------------------------

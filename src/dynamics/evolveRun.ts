@@ -275,9 +275,9 @@ export interface EvolveRunOptions {
   memoryLimitName?: string;
   /** Where messages and progress go (default: nowhere). */
   report?: EvolveReporter;
-  /** The command that resumes this run in `dir`, printed after an interruption or a failed write (the command line builds it). */
   /** What the user can do when the folder holds another run (the command line words it). */
   otherRunHint?: (dir: string) => string;
+  /** The command that resumes this run in `dir`, printed after an interruption or a failed write (the command line builds it). */
   resumeCommand?: (dir: string) => string;
   /** Seconds between checkpoints of the state (0: after every recorded time). */
   checkpointSeconds?: number;

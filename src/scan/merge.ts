@@ -27,9 +27,9 @@ function sameScan(a: RunManifest, b: RunManifest): boolean {
  * Merges shard folders (or any run folders of the same scan) into one run folder. Manifests must
  * match; the merged run holds each point's best record (done over failed; among equals, the
  * latest). Merging again, or merging into a folder that already has some points, only adds
- * what is new.
+ * what is new. `otherRunHint`: what the user can do when `out` holds another run (the command line
+ * words it).
  */
-/** `otherRunHint`: what the user can do when `out` holds another run (the command line words it). */
 export function mergeRuns(dirs: string[], out: string, otherRunHint?: string): MergeReport {
   if (dirs.length === 0) throw new InputError('merge: name at least one shard folder');
   const runs = dirs.map((d) => readRun(d));
