@@ -50,6 +50,8 @@ export interface Observable {
   siteMean?: boolean;
   /** Left out of narrow tables (it follows one that is kept). */
   secondary?: boolean;
+  /** A per-site-pair observable whose diagonal is not zero: long rows include it. */
+  diagonal?: boolean;
 }
 
 export const OBSERVABLES: readonly Observable[] = [
@@ -131,6 +133,26 @@ export const OBSERVABLES: readonly Observable[] = [
     record: 'every kind',
     trace: 'every kind',
     long: ['scan'],
+  },
+  {
+    name: 'level_correlation',
+    shape: 'per site pair',
+    title: 'connected level correlation ⟨n_i n_j⟩ − ⟨n_i⟩⟨n_j⟩',
+    short: '⟨n_i n_j⟩_c',
+    energy: false,
+    unit: 'levels²',
+    record: 'every kind',
+    long: ['scan'],
+    diagonal: true,
+  },
+  {
+    name: 'level_structure_factor',
+    shape: 'per momentum',
+    title: 'level structure factor S(q)',
+    short: 'S(q)',
+    energy: false,
+    unit: 'levels²',
+    record: 'every kind',
   },
   {
     name: 'return_probability',

@@ -23,12 +23,16 @@
 //                                (Penrose and Onsager, Phys. Rev. 104, 576 (1956))
 //   momentum_distribution[m]     n(k) = (1/L) sum_{ij} e^{i k (i - j)} rho[i][j] at k = 2 pi m / L,
 //                                m = 0..L-1, on periodic chains; null on open chains
+//   level_correlation[i][j]      <n_i n_j> - <n_i><n_j> with n_i = sum_a a n_{i,a}, the level index
+//                                summed over site i's particles (0 on an empty site); when asked for
+//   level_structure_factor[m]    its Fourier transform at q = 2 pi m / L on periodic chains, as for
+//                                pinned chains; null on open chains
 // For a degenerate ground space every quantity is the average over the space (the condensate
-// fraction is that of the averaged rho).
+// fraction is that of the averaged rho; the connected correlation is that of the mixture).
 
 import { realFormEigen } from '../linalg/hermitianEigen.js';
 import type { FockBasis } from '../basis/fock.js';
-import type { Observables } from './pinned.js';
+import { levelStructureFactor, type CorrelationRequest, type Observables } from './pinned.js';
 
 /** Expected counts below this are "never occupied". */
 const EMPTY = 1e-12;
@@ -48,6 +52,7 @@ export function itinerantObservables(
   states: Float64Array[],
   isComplex: boolean,
   periodic: boolean,
+  correlations?: CorrelationRequest,
 ): ItinerantObservables {
   const L = basis.sites;
   const N = basis.levels;
@@ -71,6 +76,7 @@ export function itinerantObservables(
   const pairsOnSite = new Float64Array(L);
   const bothOccupied = new Float64Array(L * L); // <N_i N_j>, i < j
   const squaredDifference = new Float64Array(L * L); // <sum_ab (a-b)^2 n_ia n_jb>, i < j
+  const levelMoment = new Float64Array(L * L); // <n_i n_j>, n_i = sum_a a n_ia, i <= j
   let width = 0;
 
   const cursor = basis.cursor();
@@ -94,11 +100,13 @@ export function itinerantObservables(
       pairsOnSite[i] += (p * c * (c - 1)) / 2;
       total1 += s1[s];
       total2 += s2[s];
+      levelMoment[i * L + i] += p * s1[s] * s1[s];
       for (let j = i + 1; j < L; j++) {
         const t = state[j];
         const cj = count[t];
         if (cj === 0) continue;
         bothOccupied[i * L + j] += p * c * cj;
+        levelMoment[i * L + j] += p * s1[s] * s1[t];
         squaredDifference[i * L + j] += p * (s2[s] * cj + s2[t] * c - 2 * s1[s] * s1[t]);
       }
     }
@@ -109,6 +117,7 @@ export function itinerantObservables(
   const populations: number[][] = [];
   const levelMean: number[] = [];
   const spread: number[] = [];
+  const levelCharge: number[] = []; // <n_i>, unnormalized by the density
   for (let i = 0; i < L; i++) {
     const row = Array.from(pop.subarray(i * N, (i + 1) * N));
     populations.push(row);
@@ -118,6 +127,7 @@ export function itinerantObservables(
       m1 += n * q;
       m2 += n * n * q;
     });
+    levelCharge.push(m1);
     if (density[i] < EMPTY) {
       levelMean.push(0);
       spread.push(0);
@@ -170,6 +180,17 @@ export function itinerantObservables(
     momentum_distribution: momentum,
   };
   if (isComplex) result.one_body_density_matrix_imag = matrix(im);
+  if (correlations) {
+    const correlation = Array.from({ length: L }, (_, i) =>
+      Array.from({ length: L }, (_, j) => {
+        const a = Math.min(i, j);
+        const b = Math.max(i, j);
+        return levelMoment[a * L + b] - levelCharge[i] * levelCharge[j];
+      }),
+    );
+    result.level_correlation = correlation;
+    result.level_structure_factor = levelStructureFactor(correlation, correlations.periodic);
+  }
   return result;
 }
 

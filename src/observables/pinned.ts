@@ -10,7 +10,16 @@ export interface Observables {
   spread: number[];
   string_width: number;
   pair_separation: number[][];
+  /** <n_i n_j> - <n_i><n_j>; only when asked for (solved points, not time traces). */
+  level_correlation?: number[][];
+  /** (1/L) sum_{ij} e^{i q (i-j)} level_correlation[i][j] at q = 2 pi m / L; null on open chains. */
+  level_structure_factor?: number[] | null;
   [extra: string]: unknown;
+}
+
+/** Asks for the connected level correlations and, on a periodic chain, their structure factor. */
+export interface CorrelationRequest {
+  periodic: boolean;
 }
 
 /** p(s) = (1/g) sum_k |psi_k(s)|^2 over the given normalized states (real or interleaved complex). */
@@ -35,7 +44,11 @@ export function basisProbabilities(states: Float64Array[], dim: number, isComple
  * (h dot products a block). Pairs within a half then come from its marginal; pairs across the
  * halves from those moments. That is about (h+1) operations a state instead of L^2/2.
  */
-export function pinnedObservables(basis: PinnedBasis, probabilities: Float64Array): Observables {
+export function pinnedObservables(
+  basis: PinnedBasis,
+  probabilities: Float64Array,
+  correlations?: CorrelationRequest,
+): Observables {
   const L = basis.sites;
   const N = basis.levels;
   const h = Math.floor(L / 2);
@@ -95,7 +108,45 @@ export function pinnedObservables(basis: PinnedBasis, probabilities: Float64Arra
     }
     pairSeparation.push(row);
   }
-  return { populations, level_mean: levelMean, spread, string_width: width, pair_separation: pairSeparation };
+  const result: Observables = {
+    populations,
+    level_mean: levelMean,
+    spread,
+    string_width: width,
+    pair_separation: pairSeparation,
+  };
+  if (correlations) {
+    const correlation: number[][] = [];
+    for (let i = 0; i < L; i++) {
+      const row: number[] = [];
+      for (let j = 0; j < L; j++) {
+        const a = Math.min(i, j);
+        const b = Math.max(i, j);
+        row.push(i === j ? spread[i] : pairMoment[a * L + b] - levelMean[i] * levelMean[j]);
+      }
+      correlation.push(row);
+    }
+    result.level_correlation = correlation;
+    result.level_structure_factor = levelStructureFactor(correlation, correlations.periodic);
+  }
+  return result;
+}
+
+/**
+ * S(q) = (1/L) sum_{ij} cos(q (i - j)) C[i][j] at q = 2 pi m / L, m = 0..L-1: real because C is
+ * real and symmetric. Null on open chains, where q is not a good quantum number.
+ */
+export function levelStructureFactor(correlation: number[][], periodic: boolean): number[] | null {
+  if (!periodic) return null;
+  const L = correlation.length;
+  const out: number[] = [];
+  for (let m = 0; m < L; m++) {
+    const q = (2 * Math.PI * m) / L;
+    let s = 0;
+    for (let i = 0; i < L; i++) for (let j = 0; j < L; j++) s += Math.cos(q * (i - j)) * correlation[i][j];
+    out.push(s / L);
+  }
+  return out;
 }
 
 /** One half of the chain: its number of states, sites and digit table (table[x * width + i]). */

@@ -121,7 +121,7 @@ export function longRows(summary: ScanRunSummary): LongRow[] {
     const obs = row.record?.result?.observables;
     if (!obs) continue;
     const base = { index: row.index, params: row.params };
-    for (const { name, shape } of longObservables('scan')) {
+    for (const { name, shape, diagonal } of longObservables('scan')) {
       const values = obs[name];
       if (!Array.isArray(values)) continue;
       if (shape === 'per site and level')
@@ -129,10 +129,11 @@ export function longRows(summary: ScanRunSummary): LongRow[] {
           p.forEach((value, n) => out.push({ ...base, observable: name, site: i, level: n, other_site: null, value })),
         );
       else if (shape === 'per site pair')
-        // Symmetric with a zero diagonal: each pair once.
+        // Symmetric: each pair once, and the diagonal where it is not zero by definition.
         (values as number[][]).forEach((p, i) =>
           p.forEach((value, j) => {
-            if (j > i) out.push({ ...base, observable: name, site: i, level: null, other_site: j, value });
+            if (j > i || (diagonal && j === i))
+              out.push({ ...base, observable: name, site: i, level: null, other_site: j, value });
           }),
         );
       else

@@ -253,10 +253,11 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   // The solver's results are copies, and the operator is done with: the next point may reuse the memory.
   arena?.recycle();
   const ground = eigen.vectors.slice(0, eigen.degeneracy);
+  const correlations = { periodic: plan.model.chainPeriodic };
   const observables =
     basis.kind === 'pinned'
-      ? pinnedObservables(basis, basisProbabilities(ground, basis.dim, op.isComplex))
-      : itinerantObservables(basis, ground, op.isComplex, plan.model.chainPeriodic);
+      ? pinnedObservables(basis, basisProbabilities(ground, basis.dim, op.isComplex), correlations)
+      : itinerantObservables(basis, ground, op.isComplex, plan.model.chainPeriodic, correlations);
   // Entanglement needs the state itself, so it is computed here; solve.entanglement keeps it cheap by default.
   const cuts = basis.kind === 'pinned' ? cutsFor(spec.solve.entanglement, basis.sites, basis.levels) : [];
   if (cuts.length > 0)
@@ -339,7 +340,7 @@ function solvePinnedInSectors(
   // Callers get ground states in the model's own arithmetic: a real H has a real ground space,
   // spanned by the real and imaginary parts of its complex sector states.
   const groundStates = model.isComplex ? solution.groundStates : realSpan(solution.groundStates, basis.dim);
-  const observables = pinnedObservables(basis, solution.groundProbabilities);
+  const observables = pinnedObservables(basis, solution.groundProbabilities, { periodic: model.chainPeriodic });
   // A ground level with more copies than the cap is not expanded (see solveInSectors).
   if (cuts.length > 0 && groundStates.length > 0)
     observables.entanglement = pinnedEntanglement(groundStates, basis.sites, basis.levels, model.isComplex, cuts);

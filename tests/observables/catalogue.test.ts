@@ -154,6 +154,7 @@ describe('readers write observables in a fixed order', () => {
       'level_mean',
       'spread',
       'pair_separation',
+      'level_correlation',
       'density',
       'double_occupancy',
     ]);
@@ -164,6 +165,7 @@ describe('readers write observables in a fixed order', () => {
       'density',
       'double_occupancy',
       'pair_separation',
+      'level_correlation',
     ]);
     expect(sideBySide(scanOf([itinerant, pinned], ['hardcore', 'pinned']), 'kind').quantities).toEqual([
       'E0',

@@ -152,8 +152,11 @@ describe('rungchain summary', () => {
     const json: Row[] = JSON.parse(runCli(['summary', run, '--json']).stdout);
     const long: Row[] = JSON.parse(runCli(['summary', run, '--long', '--json']).stdout);
     const done = json.filter((x) => x.status === 'done');
-    // L*N populations, L level means, L spreads, L(L-1)/2 pair separations per point.
-    expect(long).toHaveLength(done.length * (SITES * LEVELS + 2 * SITES + (SITES * (SITES - 1)) / 2));
+    // L*N populations, L level means, L spreads, L(L-1)/2 pair separations and L(L+1)/2 level
+    // correlations (diagonal included) per point.
+    expect(long).toHaveLength(
+      done.length * (SITES * LEVELS + 2 * SITES + (SITES * (SITES - 1)) / 2 + (SITES * (SITES + 1)) / 2),
+    );
     for (const x of done) {
       const mine = long.filter((r) => r.index === x.index);
       for (const r of mine) {
@@ -161,8 +164,8 @@ describe('rungchain summary', () => {
         const expected =
           r.observable === 'populations'
             ? x.observables.populations[r.site][r.level]
-            : r.observable === 'pair_separation'
-              ? x.observables.pair_separation[r.site][r.other_site]
+            : r.observable === 'pair_separation' || r.observable === 'level_correlation'
+              ? x.observables[r.observable][r.site][r.other_site]
               : x.observables[r.observable][r.site];
         expect(r.value).toBe(expected);
       }

@@ -19,7 +19,7 @@ import type { Indicator } from '../../analysis/indicators.js';
 import { sectorKey, sectorText } from '../../analysis/crossings.js';
 import type { SectorLabel } from '../../symmetry/group.js';
 import type { FitResult } from '../../analysis/fits.js';
-import { HEAT_MAP_SCALARS, POINT_SCALARS, pointScalar } from '../../observables/catalogue.js';
+import { HEAT_MAP_SCALARS, POINT_SCALARS, observableEntry, pointScalar } from '../../observables/catalogue.js';
 import { esc, section } from './html.js';
 import { MAX_SERIES, renderLinePlot } from './linePlot.js';
 import { renderHeatMap } from './heatMap.js';
@@ -792,6 +792,57 @@ function populationsSection(context: ReportContext): string | null {
   return null;
 }
 
+/** The connected level correlations and pair separations of the point whose populations are drawn. */
+function correlationsSection(context: ReportContext): string | null {
+  const { input, units } = context;
+  const choice = choosePoint(input);
+  if (choice === null) return null;
+  const point = input.points.find((p) => p.index === choice.index)!;
+  const observables = point.record!.observables;
+  const where = `at point ${choice.index} (${showParams(point.params, units)})`;
+  const siteMap = (id: string, title: string, values: number[][], zLabel: string, range: [number, number]) => {
+    const sites = Math.min(values.length, MAX_POPULATION_SITES);
+    const axis = Array.from({ length: sites }, (_, i) => i);
+    return renderHeatMap({
+      id,
+      title: `${title} ${where}`,
+      xLabel: 'site j',
+      yLabel: 'site i',
+      xValues: axis,
+      yValues: axis,
+      z: values.slice(0, sites).map((row) => row.slice(0, sites)),
+      zLabel,
+      range,
+      annotate: sites <= 10,
+      notes: values.length > sites ? [`first ${sites} of ${values.length} sites`] : [],
+    });
+  };
+  const maps: string[] = [];
+  // Records written before level_correlation existed lack it.
+  const correlation = observables.level_correlation;
+  if (Array.isArray(correlation) && correlation.length > 0) {
+    // Symmetric about zero, so anticorrelation and correlation of equal size read alike.
+    const largest = Math.max(1e-12, ...correlation.flat().map(Math.abs));
+    const info = observableEntry('level_correlation')!;
+    maps.push(
+      siteMap('level-correlation', info.title, correlation, `${info.short} [${info.unit}]`, [-largest, largest]),
+    );
+  }
+  const separation = observables.pair_separation;
+  if (Array.isArray(separation) && separation.length > 0) {
+    const info = observableEntry('pair_separation')!;
+    const largest = Math.max(1e-12, ...separation.flat());
+    maps.push(siteMap('pair-separation', info.title, separation, `${info.short} [${info.unit}]`, [0, largest]));
+  }
+  if (maps.length === 0) return null;
+  return section(
+    'correlations',
+    'Level correlations of one point',
+    maps,
+    `The point of the populations above, chosen ${choice.why}.`,
+  );
+}
+
 /** The page around the sections: title, what was scanned, notes, a table of contents. */
 function reportPage(context: ReportContext, sections: string[]): string {
   const { input, analysis, units, done } = context;
@@ -850,6 +901,7 @@ export function renderReport(input: ReportInput): string {
     fitsSection(context),
     valuesSection(context),
     populationsSection(context),
+    correlationsSection(context),
   ].filter((html): html is string => html !== null);
   return reportPage(context, sections);
 }
