@@ -301,7 +301,10 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
         which: options.keepStates,
         vectors: options.keepStates === 'ground' ? ground : eigen.vectors,
         interleaved: op.isComplex,
-        energies: Array.from(eigen.values).slice(0, options.keepStates === 'ground' ? eigen.degeneracy : undefined),
+        energies: Array.from(eigen.values).slice(
+          0,
+          options.keepStates === 'ground' ? eigen.degeneracy : eigen.vectors.length,
+        ),
         labels: null,
       }
     : undefined;

@@ -184,6 +184,10 @@ describe('solve --save-states: pinned chains against ml-matrix dense eigenvector
       solve: { states: 2, tolerance: 1e-11, symmetries },
     });
     const h = densePinnedHamiltonian(spec);
+    // Every solved state: the two asked for and the ground level's two further copies.
+    const all = saveAndRead(spec, 'all');
+    expect(all.array.shape).toEqual([4, 8]);
+    all.array.rows.forEach((row) => expect(residual(h, row, -V)).toBeLessThan(1e-8));
     const { array, sidecar, record } = saveAndRead(spec, 'ground');
     expect(record.energies[0]).toBeCloseTo(-V, 10);
     expect(record.solver.degeneracy).toBe(4);
