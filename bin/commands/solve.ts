@@ -1,7 +1,11 @@
 // `check`, `solve` and `demo`: one model spec at a time.
 import type { Command } from 'commander';
 import { loadSpec } from '../../src/spec/spec.js';
-import { planPoint, solvePoint } from '../../src/point/solvePoint.js';
+import { planPoint, solvePoint, type PointPlan } from '../../src/point/solvePoint.js';
+import { assertWritableFile, plannedStatesFileBytes, writeStatesFile } from '../../src/point/stateFile.js';
+import { buildModel } from '../../src/model/model.js';
+import { InputError } from '../../src/errors/errors.js';
+import { formatBytes } from '../../src/format/bytes.js';
 import type { SectorProgress } from '../../src/symmetry/sectorSolve.js';
 import type { SectorLabel } from '../../src/symmetry/group.js';
 import { describePlan, describeRecord } from '../../src/point/describe.js';
@@ -20,7 +24,9 @@ export function registerSolveCommands(program: Command): void {
     .argument('<spec>', 'model spec, .toml or .json')
     .option('--set <key=value>', 'override a spec key (repeatable)', collect, [])
     .option('--max-memory <size>', 'memory limit to check against, e.g. 8GB')
-    .action((specPath: string, opts: { set: string[]; maxMemory?: string }) => {
+    .option('--save-states <file>', 'also say how large the states file of `solve --save-states` will be')
+    .option('--save-states-all', 'size it for every solved state, not only the ground level')
+    .action((specPath: string, opts: CheckFlags) => {
       const { raw, spec } = loadSpec(specPath, opts.set);
       const limit = memoryLimit(opts);
       if (spec.extra.scan) {
@@ -32,6 +38,7 @@ export function registerSolveCommands(program: Command): void {
       console.log(describeWork(spec, plan).join('\n'));
       if (plan.memory.totalBytes > limit)
         console.log('solve would refuse this problem: the estimate exceeds the limit');
+      if (opts.saveStates || opts.saveStatesAll) console.log(describeStatesFile(plan, spec.solve.states, opts));
     });
 
   program
@@ -42,16 +49,26 @@ export function registerSolveCommands(program: Command): void {
     .option('--json', 'print the result as one JSON object on stdout')
     .option('--max-memory <size>', 'refuse problems whose estimate exceeds this (default: 60% of RAM)')
     .option('--quiet', 'no progress line on the terminal')
-    .action((specPath: string, opts: { set: string[]; json?: boolean; maxMemory?: string; quiet?: boolean }) => {
+    .option(
+      '--save-states <file>',
+      "write the ground level's states to this .npy file (and what they are to <file>.json)",
+    )
+    .option('--save-states-all', 'with --save-states: every solved state, not only the ground level')
+    .action((specPath: string, opts: SolveFlags) => {
       const { spec } = loadSpec(specPath, opts.set);
+      if (opts.saveStatesAll && !opts.saveStates)
+        throw new InputError('--save-states-all needs --save-states FILE to name the file');
+      if (opts.saveStates) assertWritableFile(opts.saveStates);
       const progress = opts.quiet || !process.stderr.isTTY ? undefined : solveProgress();
-      const { record } = solvePoint(spec, {
+      const { record, kept } = solvePoint(spec, {
         maxMemory: memoryLimit(opts),
         memoryLimitName: '--max-memory',
         onProgress: progress ? (info) => progress.update(info) : undefined,
         groundStates: false,
+        keepStates: opts.saveStates ? (opts.saveStatesAll ? 'all' : 'ground') : undefined,
       });
       progress?.done();
+      if (opts.saveStates && kept) writeStatesFile(opts.saveStates, kept, record, buildModel(spec));
       // With [units], energies also in Hz (a `units` block in JSON, lines under the table).
       const units = labUnits(spec);
       if (opts.json)
@@ -75,6 +92,37 @@ export function registerSolveCommands(program: Command): void {
     .action(() => {
       runDemo((line) => console.log(line), invocation());
     });
+}
+
+interface CheckFlags {
+  set: string[];
+  maxMemory?: string;
+  saveStates?: string;
+  saveStatesAll?: boolean;
+}
+
+interface SolveFlags {
+  set: string[];
+  json?: boolean;
+  maxMemory?: string;
+  quiet?: boolean;
+  saveStates?: string;
+  saveStatesAll?: boolean;
+}
+
+/** The states file's size: rows x dimension x 8 (float64) or 16 (complex128) bytes, plus the header. */
+function describeStatesFile(plan: PointPlan, states: number, opts: { saveStatesAll?: boolean }): string {
+  const which = opts.saveStatesAll ? 'all' : 'ground';
+  const rows = which === 'all' ? Math.min(states, plan.dimension) : 1;
+  const bytes = plannedStatesFileBytes(plan, which, rows);
+  const perState = plannedStatesFileBytes(plan, which, rows + 1) - bytes;
+  const what = which === 'all' ? `${rows} solved states` : 'the ground state';
+  // Momentum states of a real Hamiltonian are sized as complex; those that are real are saved at half the size.
+  const bound = which === 'all' && !plan.model.isComplex && plan.used?.translation ? 'at most ' : '';
+  return (
+    `states file (--save-states${which === 'all' ? ' --save-states-all' : ''}): ${bound}${formatBytes(bytes)} (${bytes} bytes) ` +
+    `for ${what}, ${formatBytes(perState)} more for each further copy of the ground level`
+  );
 }
 
 /**

@@ -2,7 +2,7 @@
 // `planPoint` sizes the problem without allocating it; `solvePoint` runs it.
 
 import { basisDimension, buildBasis, MAX_DIMENSION, type PinnedBasis } from '../basis/basis.js';
-import { SpecError } from '../errors/errors.js';
+import { ResourceError, SpecError } from '../errors/errors.js';
 import { buildModel, type Model } from '../model/model.js';
 import { buildOperator, operatorStorage } from '../operator/build.js';
 import { basisProbabilities, pinnedObservables } from '../observables/pinned.js';
@@ -27,7 +27,8 @@ import {
 } from '../solver/eigensolver.js';
 import type { Spec } from '../spec/spec.js';
 import { detectSymmetries, planSectors, type SymmetryCheck, type SymmetryName } from '../symmetry/group.js';
-import { solveInSectors, type SectorSolveOptions } from '../symmetry/sectorSolve.js';
+import { solveInSectors, type SectorSolution, type SectorSolveOptions } from '../symmetry/sectorSolve.js';
+import type { SectorLabel } from '../symmetry/group.js';
 import { defaultProductThreads, ThreadedOperator, withThreads } from '../operator/threaded.js';
 import { coreCount } from '../threads/cores.js';
 import { VectorArena } from '../simd/arena.js';
@@ -66,6 +67,8 @@ export interface SolveOptions {
    * state (about 6% of a 10x4 solve) and the full-space vectors' memory.
    */
   groundStates?: boolean;
+  /** Keep states for saving: the ground level's copies, or every solved state (on the full space). */
+  keepStates?: 'ground' | 'all';
 }
 
 /**
@@ -210,6 +213,18 @@ export interface SolvedPoint {
   groundStates: Float64Array[];
   /** The full-space eigensolver result (absent when solved in symmetry sectors). */
   eigen?: EigenResult;
+  /** The states asked for by `keepStates`, on the full basis. */
+  kept?: KeptStates;
+}
+
+/** States on the full basis, lowest first: real rows of `dim`, or interleaved complex rows of 2 `dim`. */
+export interface KeptStates {
+  which: 'ground' | 'all';
+  vectors: Float64Array[];
+  interleaved: boolean;
+  energies: number[];
+  /** Each row's sector (every solved state from a sector solve only). */
+  labels: SectorLabel[] | null;
 }
 
 export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint {
@@ -217,7 +232,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   const plan = planPoint(spec, {
     maxMemory: options.maxMemory,
     threads: options.threads,
-    groundStates: options.groundStates,
+    groundStates: options.keepStates ? true : options.groundStates,
   });
   assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this problem', options.memoryLimitName);
   const basis = buildBasis(plan.model);
@@ -284,7 +299,19 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     started,
     memoryBytes: plan.memory.totalBytes,
   });
-  return { record, groundStates: ground, eigen };
+  const kept: KeptStates | undefined = options.keepStates
+    ? {
+        which: options.keepStates,
+        vectors: options.keepStates === 'ground' ? ground : eigen.vectors,
+        interleaved: op.isComplex,
+        energies: Array.from(eigen.values).slice(
+          0,
+          options.keepStates === 'ground' ? eigen.degeneracy : eigen.vectors.length,
+        ),
+        labels: null,
+      }
+    : undefined;
+  return { record, groundStates: ground, eigen, kept };
 }
 
 /**
@@ -326,7 +353,9 @@ function solvePinnedInSectors(
     selection: spec.solve.sector,
     initial: options.initial,
     initialComplex: options.initial ? options.initial.length === 2 * basis.dim : false,
-    expandGround: (options.groundStates !== false && basis.dim <= EXPAND_LIMIT) || cuts.length > 0,
+    expandGround:
+      (options.groundStates !== false && basis.dim <= EXPAND_LIMIT) || cuts.length > 0 || !!options.keepStates,
+    expandAll: options.keepStates === 'all',
     threadsFor: (work: number) => productThreads(spec, options, work),
     sectorThreads: plan.sectorThreads,
     onProgress: options.onProgress,
@@ -362,7 +391,33 @@ function solvePinnedInSectors(
     sectorRuns: solution.runs,
     sectors: solution.labels.map((l) => ({ ...l, k: l.momentum === null ? null : (2 * Math.PI * l.momentum) / L })),
   });
-  return { record, groundStates };
+  return { record, groundStates, kept: keptFromSectors(options.keepStates, model, solution, groundStates) };
+}
+
+function keptFromSectors(
+  which: 'ground' | 'all' | undefined,
+  model: Model,
+  solution: SectorSolution,
+  groundStates: Float64Array[],
+): KeptStates | undefined {
+  if (!which) return undefined;
+  if (which === 'all') {
+    const all = solution.allStates!;
+    return { which, vectors: all.vectors, interleaved: true, energies: all.energies, labels: all.labels };
+  }
+  if (groundStates.length === 0)
+    throw new ResourceError(
+      `the ground level has ${solution.degeneracy} copies, more than fit in memory on the full space; its states cannot be saved`,
+    );
+  // The ground space's basis may mix sectors (a real basis of a k, -k pair), so rows carry no sector.
+  const e0 = solution.energies[0];
+  return {
+    which,
+    vectors: groundStates,
+    interleaved: model.isComplex,
+    energies: groundStates.map((_, k) => solution.energies[k] ?? e0),
+    labels: null,
+  };
 }
 
 /** An orthonormal real basis of the span of the real and imaginary parts of complex vectors. */

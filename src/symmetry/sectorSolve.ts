@@ -59,6 +59,11 @@ export interface SectorSolution {
   groundProbabilities: Float64Array;
   /** Full-space ground states (interleaved complex), only when `expandGround` was asked. */
   groundStates: Float64Array[];
+  /**
+   * Every kept state (the lowest `states` and every copy of the ground level) on the full basis,
+   * interleaved complex, with its energy and sector, lowest first; only when `expandAll` was asked.
+   */
+  allStates?: { vectors: Float64Array[]; energies: number[]; labels: SectorLabel[] };
   method: 'dense' | 'lanczos';
 }
 
@@ -97,6 +102,8 @@ export interface SectorSolveOptions {
   initial?: Float64Array;
   initialComplex?: boolean;
   expandGround?: boolean;
+  /** Also expand every kept state, not only the ground level (for saving the states). */
+  expandAll?: boolean;
   /** Threads for one product of a sector whose stored matrix has `work` nonzeros (default 1), when sectors are solved one at a time. */
   threadsFor?: (work: number) => number;
   /** Sectors solved at once, each on its own thread (default 1); products then use one thread each. */
@@ -560,7 +567,8 @@ function allSectorStates(search: SectorSearch): SectorStatesFound {
 }
 
 /**
- * The ground space on the full basis (interleaved complex), one vector per state. A k <-> -k copy
+ * States on the full basis (interleaved complex), one vector per state: the ground space, or every
+ * kept state (a copy follows its representative, as they share one energy). A k <-> -k copy
  * is its representative's state carried to -k by what pairs the two sectors (see planSectors):
  * complex conjugation for a real H, the chain reflection for a complex one. (Without the copy, the
  * entanglement of a complex H's degenerate +-k pair was that of one momentum state alone.)
@@ -570,7 +578,8 @@ function expandGroundSpace(ground: Found[], model: Model, basis: PinnedBasis): F
   let actions: IndexActions | null = null;
   ground.forEach((g, k) => {
     if (k === 0 || g.vector !== ground[k - 1].vector) {
-      out.push(g.sector!.expand(g.vector!, g.complex));
+      if (!g.vector) throw new Error(`the vector of the state at energy ${g.energy} was dropped before expansion`);
+      out.push(g.sector!.expand(g.vector, g.complex));
       return;
     }
     const psi = out[out.length - 1];
@@ -944,6 +953,13 @@ export function solveInSectors(
       ? expandGroundSpace(ground, model, basis)
       : [];
   const answer = found.slice(0, states);
+  const allStates = opts.expandAll
+    ? {
+        vectors: expandGroundSpace(found, model, basis),
+        energies: found.map((f) => f.energy),
+        labels: found.map((f) => f.label),
+      }
+    : undefined;
   return {
     energies: answer.map((f) => f.energy),
     labels: answer.map((f) => f.label),
@@ -956,6 +972,7 @@ export function solveInSectors(
     runs,
     groundProbabilities: probabilities,
     groundStates,
+    allStates,
     method: anyLanczos ? 'lanczos' : 'dense',
   };
 }
