@@ -109,8 +109,9 @@ export interface LongRow {
   params: ScanParams;
   observable: string;
   site: number;
-  /** Level n for populations; the second site j for pair_separation; null otherwise. */
+  /** Level n for per-site-and-level observables (populations); null otherwise. */
   level: number | null;
+  /** The second site j for per-site-pair observables (pair_separation, level_correlation); null otherwise. */
   other_site: number | null;
   value: number;
 }
