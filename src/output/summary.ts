@@ -8,6 +8,7 @@ import type { ScanRunSummary, SummaryRow } from '../scan/scanRun.js';
 import { columnScale, csv, fmt, fmtNoise, table } from '../format/tables.js';
 import { formatBytes } from '../format/bytes.js';
 import { longObservables, pointScalar, scalarObservablesIn } from '../observables/catalogue.js';
+import { observableValue } from '../analysis/transitions.js';
 
 function finished(summary: ScanRunSummary): SummaryRow[] {
   return summary.rows.filter((r) => r.record !== null);
@@ -54,11 +55,20 @@ function paramKeys(summary: ScanRunSummary): string[] {
   return summary.section.axes.map((a) => a.key);
 }
 
-/** Tidy CSV: one row per finished point; energies as E0, E1, ...; failed points keep their reason. */
+/** Scalars the JSON holds only inside nested values: the half-chain entropies (from observables.entanglement). */
+const ENTANGLEMENT_SCALARS = ['entropy', 'renyi_2'] as const;
+
+/**
+ * Tidy CSV: one row per finished point; energies as E0, E1, ...; failed points keep their reason.
+ * Every scalar of the JSON is a column, the half-chain entropies too (when any point has them).
+ */
 export function summaryCsv(summary: ScanRunSummary): string {
   const rows = finished(summary);
   const keys = paramKeys(summary);
   const scalars = scalarObservables(rows);
+  const entropies = rows.some((r) => r.record!.result?.observables.entanglement !== undefined)
+    ? ENTANGLEMENT_SCALARS
+    : [];
   const states = Math.max(0, ...rows.map((r) => r.record!.result?.energies.length ?? 0));
   const header = [
     'index',
@@ -66,7 +76,9 @@ export function summaryCsv(summary: ScanRunSummary): string {
     'status',
     ...Array.from({ length: states }, (_, k) => `E${k}`),
     'gap',
+    'gap_above_ground',
     ...scalars,
+    ...entropies,
     'dimension',
     'converged',
     'degeneracy',
@@ -86,7 +98,9 @@ export function summaryCsv(summary: ScanRunSummary): string {
       r.status,
       ...Array.from({ length: states }, (_, k) => res?.energies[k]),
       res?.gap,
+      res?.gap_above_ground,
       ...scalars.map((s) => res?.observables[s]),
+      ...entropies.map((s) => (res ? observableValue(res, s) : undefined)),
       res?.basis.dimension,
       res?.solver.converged,
       res?.solver.degeneracy,

@@ -119,6 +119,35 @@ function traceRun(traced: EvolutionFrame[][]): EvolveRunContents {
 
 // The orders readers write observables in (columns, JSON keys, long rows, report sections). The
 // README and docs/model.md name these lists; nothing else fixes their order, so it is pinned here.
+describe('summary --csv holds every scalar of the JSON', () => {
+  const parse = (text: string) => {
+    const [head, ...lines] = text.trim().split('\n');
+    const names = head.split(',');
+    return lines.map((l) => Object.fromEntries(l.split(',').map((v, k) => [names[k], v])));
+  };
+
+  it('the gap above the ground level and the half-chain entropies, equal to the JSON values', () => {
+    const scan = scanOf([pinned, itinerant], ['pinned', 'hardcore']);
+    const rows = parse(summaryCsv(scan));
+    const json = summaryJson(scan);
+    const half = (
+      json[0].observables as { entanglement: { cut: number; von_neumann: number; renyi_2: number }[] }
+    ).entanglement.find((c) => c.cut === Math.floor(3 / 2))!;
+    expect(Number(rows[0].entropy)).toBe(half.von_neumann);
+    expect(Number(rows[0].renyi_2)).toBe(half.renyi_2);
+    expect(rows[1].entropy).toBe('');
+    for (let i = 0; i < 2; i++) expect(Number(rows[i].gap_above_ground)).toBe(json[i].gap_above_ground);
+  });
+
+  it('no entropy columns when no point has entanglement cuts', () => {
+    const header = summaryCsv(scanOf([itinerant], ['hardcore']))
+      .split('\n')[0]
+      .split(',');
+    expect(header).not.toContain('entropy');
+    expect(header).toContain('gap_above_ground');
+  });
+});
+
 describe('readers write observables in a fixed order', () => {
   const scan = scanOf([pinned, itinerant, openFermions], ['pinned', 'hardcore', 'fermion']);
 
@@ -126,8 +155,11 @@ describe('readers write observables in a fixed order', () => {
     const header = summaryCsv(scan).split('\n')[0].split(',');
     expect(header.slice(header.indexOf('gap'), header.indexOf('dimension'))).toEqual([
       'gap',
+      'gap_above_ground',
       'string_width',
       'condensate_fraction',
+      'entropy',
+      'renyi_2',
     ]);
     expect(Object.keys(summaryJson(scan)[1])).toEqual([
       'index',
