@@ -42,6 +42,8 @@ export interface ReportInput extends AnalysisInput {
   energyUnitHz: number | null;
   /** Index of the point whose populations are drawn (default: near the main indicator peak). */
   chosenPoint?: number;
+  /** `exchange.range` when every solved point has the same one: nearest-neighbour exchange is not called dipolar. */
+  exchangeRange?: 'nearest' | 'dipolar' | null;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -75,9 +77,12 @@ const KEYS: Record<string, KeyInfo> = {
   'units.energy_unit_hz': { symbol: 'ε/h', name: 'model energy unit', kind: 'lab', unit: 'Hz' },
 };
 
-function keyInfo(key: string): KeyInfo {
+function keyInfo(key: string, units?: Units): KeyInfo {
   const base = key.replace(/\[\d+\]/g, '');
-  const known = KEYS[base];
+  const known =
+    base === 'exchange.strength' && units?.exchangeRange === 'nearest'
+      ? { ...KEYS[base], name: 'exchange' }
+      : KEYS[base];
   const index = /\[(\d+)\]/.exec(key);
   if (known) return index ? { ...known, symbol: `${known.symbol}${subscript(index[1])}` } : known;
   return { symbol: key, name: key, kind: 'other' };
@@ -93,11 +98,13 @@ interface Units {
   /** Factor from model energy units to the shown unit. */
   energyScale: number;
   lab: boolean;
+  /** Names `V` "exchange" rather than "dipolar exchange" when the run's exchange is nearest-neighbour. */
+  exchangeRange: 'nearest' | 'dipolar' | null;
 }
 
-function unitsOf(energyUnitHz: number | null): Units {
-  if (energyUnitHz === null) return { energy: 'ε', energyScale: 1, lab: false };
-  return { energy: 'h·kHz', energyScale: energyUnitHz / 1e3, lab: true };
+function unitsOf(energyUnitHz: number | null, exchangeRange: Units['exchangeRange'] = null): Units {
+  if (energyUnitHz === null) return { energy: 'ε', energyScale: 1, lab: false, exchangeRange };
+  return { energy: 'h·kHz', energyScale: energyUnitHz / 1e3, lab: true, exchangeRange };
 }
 
 interface AxisUnit {
@@ -107,7 +114,7 @@ interface AxisUnit {
 }
 
 function parameterAxis(key: string, units: Units): AxisUnit {
-  const info = keyInfo(key);
+  const info = keyInfo(key, units);
   const text = info.kind === 'other' ? key : `${info.symbol}, ${info.name}`;
   if (info.kind === 'energy') return { label: text, unit: units.energy, scale: units.energyScale };
   if (info.kind === 'angle') return { label: text, unit: 'rad', scale: 1 };
@@ -121,7 +128,7 @@ function axisTitle(a: AxisUnit): string {
 
 function showParams(params: ScanParams, units: Units): string {
   const parts = Object.entries(params).map(([k, v]) => {
-    const info = keyInfo(k);
+    const info = keyInfo(k, units);
     const scaled = typeof v === 'number' && info.kind === 'energy' ? v * units.energyScale : v;
     const value =
       typeof scaled === 'number' ? fmt(scaled, 5) : Array.isArray(scaled) ? `[${scaled.join(', ')}]` : String(scaled);
@@ -269,7 +276,7 @@ interface ReportContext {
 }
 
 function reportContext(input: ReportInput): ReportContext {
-  const units = unitsOf(input.energyUnitHz);
+  const units = unitsOf(input.energyUnitHz, input.exchangeRange ?? null);
   const { analysis } = input;
   const parameter = analysis.parameter;
   const done = input.points.filter((p) => p.record !== null);
@@ -367,11 +374,12 @@ function spectrumSection(context: ReportContext): string | null {
       const states = Math.max(...line.points.map((p) => p.record.energies.length));
       return renderLinePlot({
         id: `spectrum-${k}`,
-        title: `low spectrum E_k − E₀ against ${xAxis.label}${lines.length > 1 ? ` (${lineName(line.fixed)})` : ''}`,
+        title: `low spectrum E_n − E₀ against ${xAxis.label}${lines.length > 1 ? ` (${lineName(line.fixed)})` : ''}`,
         xLabel: axisTitle(xAxis),
-        yLabel: `E_k − E₀ [${units.energy}]`,
+        yLabel: `E_n − E₀ [${units.energy}]`,
+        // States are counted by n: on a ring "k" would read as a momentum.
         series: Array.from({ length: states }, (_, s) => ({
-          name: `k = ${s}`,
+          name: `state ${s}`,
           x: line.points.map((p) => scaleX(p.x)),
           y: line.points.map((p) => ((p.record.energies[s] ?? NaN) - p.record.energies[0]) * units.energyScale),
         })),

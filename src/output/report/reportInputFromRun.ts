@@ -43,6 +43,25 @@ function runEnergyUnitHz(summary: ScanRunSummary): { hz: number | null; note: st
   return { hz, note: null };
 }
 
+/** `exchange.range` of every solved point when they agree, else null. */
+function runExchangeRange(summary: ScanRunSummary): 'nearest' | 'dipolar' | null {
+  const raw = summary.manifest.spec;
+  if (typeof raw !== 'object' || raw === null) return null;
+  let range: 'nearest' | 'dipolar' | null = null;
+  for (const row of summary.rows) {
+    if (row.record?.status !== 'done') continue;
+    let value: 'nearest' | 'dipolar';
+    try {
+      value = validateSpec(pointTree(raw as Record<string, unknown>, row.params)).exchange.range;
+    } catch {
+      return null;
+    }
+    if (range !== null && value !== range) return null;
+    range = value;
+  }
+  return range;
+}
+
 /** Everything the report of a scan run folder needs, with the analysis done. */
 export function reportInputFromRun(summary: ScanRunSummary, options: RunReportOptions = {}): ReportInput {
   const input = analysisInputOf(summary);
@@ -64,5 +83,6 @@ export function reportInputFromRun(summary: ScanRunSummary, options: RunReportOp
     analysis,
     energyUnitHz: hz,
     chosenPoint: options.point,
+    exchangeRange: runExchangeRange(summary),
   };
 }
