@@ -222,7 +222,40 @@ const INDICATOR_UNITS: Record<string, (x: AxisUnit, u: Units) => string> = {
 };
 
 /** Which point's populations to draw: the requested one, else the done point nearest the main peak of the largest system. */
+/** Every site has the same level populations (to within rounding): a translation or other symmetry makes them equivalent. */
+function sitesAlike(record: PointRecord): boolean {
+  const pops = record.observables.populations;
+  return pops.every((row) => row.every((v, n) => Math.abs(v - pops[0][n]) <= SAME_POPULATION));
+}
+
+/** Populations closer than this are the same (well above the solver's rounding, well below any physics). */
+const SAME_POPULATION = 1e-8;
+
+/**
+ * The point whose populations are drawn: as requested, else by the analysis; a point where every
+ * site is alike shows nothing per site, so the nearest point where sites differ is taken instead,
+ * or the reason says that no point has such sites.
+ */
 function choosePoint(input: ReportInput): { index: number; why: string } | null {
+  const chosen = analysisChoice(input);
+  if (chosen === null || input.chosenPoint !== undefined) return chosen;
+  const done = input.points.filter((p) => p.record !== null);
+  const at = done.find((p) => p.index === chosen.index)!;
+  if (!sitesAlike(at.record!)) return chosen;
+  const differing = done.filter((p) => !sitesAlike(p.record!));
+  if (differing.length === 0)
+    return {
+      index: chosen.index,
+      why: `${chosen.why}; every site has the same populations at every point (equivalent by symmetry)`,
+    };
+  differing.sort((a, b) => Math.abs(a.index - chosen.index) - Math.abs(b.index - chosen.index));
+  return {
+    index: differing[0].index,
+    why: `as the point nearest to point ${chosen.index} (${chosen.why}) where sites differ; there every site was alike`,
+  };
+}
+
+function analysisChoice(input: ReportInput): { index: number; why: string } | null {
   const done = input.points.filter((p) => p.record !== null);
   if (done.length === 0) return null;
   if (input.chosenPoint !== undefined)
