@@ -5,7 +5,7 @@
 
 import { esc, num } from './html.js';
 import { legendSwatch, markerPath, styleOf } from './lineStyles.js';
-import { PLOT_HEIGHT, PLOT_WIDTH, niceTicks, tickText } from './plotAxes.js';
+import { PLOT_HEIGHT, PLOT_WIDTH, logTicks, niceTicks, tickText } from './plotAxes.js';
 import { MAX_POINTS, decimate, evenlyChosen } from './thinning.js';
 
 /** Lines drawn in one plot at most. */
@@ -45,10 +45,19 @@ export interface LinePlot {
   notes?: string[];
   /** Include x = 0 in the range (fits extrapolate there). */
   includeZeroX?: boolean;
+  /** Draw x on a log scale (a log-spaced scan axis); ignored when some x is not positive. */
+  logX?: boolean;
 }
 
 /** Margins around the plot area: room for the tick labels and the axis titles. */
 const M = { left: 70, right: 16, top: 14, bottom: 46 };
+
+/** A log x axis over the data's range, with its ticks (the step is unused: each tick's text follows its own size). */
+function logAxis(lo: number, hi: number): { ticks: number[]; step: number; lo: number; hi: number } {
+  // A single x value still needs a range: a factor of 1.25 either side.
+  if (!(hi > lo)) return logAxis(lo / 1.25, hi * 1.25);
+  return { ticks: logTicks(lo, hi), step: 1, lo, hi };
+}
 
 export function renderLinePlot(plot: LinePlot): string {
   const notes = [...(plot.notes ?? [])];
@@ -81,7 +90,16 @@ export function renderLinePlot(plot: LinePlot): string {
   if (plot.includeZeroX) xs.push(0);
   const finiteXs = xs.filter(Number.isFinite);
   if (finiteXs.length === 0 || ys.length === 0) return '';
-  const xt = niceTicks(Math.min(...finiteXs), Math.max(...finiteXs));
+  // A log axis spans the points and marks; an error bar reaching 0 or below does not widen it.
+  const logX =
+    plot.logX === true &&
+    !plot.includeZeroX &&
+    drawn.every((s) => s.x.every((x) => x > 0)) &&
+    marks.every((m) => m.x > 0);
+  const rangeXs = logX ? finiteXs.filter((x) => x > 0) : finiteXs;
+  const xt = logX
+    ? logAxis(Math.min(...rangeXs), Math.max(...rangeXs))
+    : niceTicks(Math.min(...rangeXs), Math.max(...rangeXs));
   // A curve flat to rounding (a symmetric model's mean level, say) is drawn flat, not as magnified noise.
   const yMagnitude = Math.max(...ys.map(Math.abs));
   const ySpan = Math.max(...ys) - Math.min(...ys);
@@ -91,7 +109,11 @@ export function renderLinePlot(plot: LinePlot): string {
   const x1 = Math.max(xt.hi, xt.ticks[xt.ticks.length - 1] ?? xt.hi);
   const y0 = Math.min(yt.lo, yt.ticks[0] ?? yt.lo);
   const y1 = Math.max(yt.hi, yt.ticks[yt.ticks.length - 1] ?? yt.hi);
-  const px = (x: number) => M.left + ((x - x0) / (x1 - x0 || 1)) * (PLOT_WIDTH - M.left - M.right);
+  // On a log axis positions go by log10 x; an error bar reaching below the axis is cut at its end.
+  const toAxis = logX ? (x: number) => Math.log10(Math.max(x, x0)) : (x: number) => x;
+  const a0 = toAxis(x0);
+  const a1 = toAxis(x1);
+  const px = (x: number) => M.left + ((toAxis(x) - a0) / (a1 - a0 || 1)) * (PLOT_WIDTH - M.left - M.right);
   const py = (y: number) => PLOT_HEIGHT - M.bottom - ((y - y0) / (y1 - y0 || 1)) * (PLOT_HEIGHT - M.top - M.bottom);
 
   const parts: string[] = [];
@@ -102,7 +124,7 @@ export function renderLinePlot(plot: LinePlot): string {
     const X = num(px(t));
     parts.push(`<line x1="${X}" y1="${M.top}" x2="${X}" y2="${PLOT_HEIGHT - M.bottom}" class="grid"/>`);
     parts.push(
-      `<text x="${X}" y="${PLOT_HEIGHT - M.bottom + 16}" class="tick" text-anchor="middle">${esc(tickText(t, xt.step))}</text>`,
+      `<text x="${X}" y="${PLOT_HEIGHT - M.bottom + 16}" class="tick" text-anchor="middle">${esc(tickText(t, logX ? t : xt.step))}</text>`,
     );
   }
   for (const t of yt.ticks) {
@@ -164,7 +186,7 @@ export function renderLinePlot(plot: LinePlot): string {
       : '';
   return `<figure class="plot-figure" id="${esc(plot.id)}">
 <figcaption>${esc(plot.title)}</figcaption>
-<svg class="plot" data-plot="${esc(plot.id)}" data-series="${drawn.length}" viewBox="0 0 ${PLOT_WIDTH} ${PLOT_HEIGHT}" role="img" aria-label="${esc(plot.title)}">${parts.join('')}</svg>
+<svg class="plot" data-plot="${esc(plot.id)}" data-series="${drawn.length}" data-x-scale="${logX ? 'log' : 'linear'}" viewBox="0 0 ${PLOT_WIDTH} ${PLOT_HEIGHT}" role="img" aria-label="${esc(plot.title)}">${parts.join('')}</svg>
 ${legend}${notes.map((n) => `<p class="note">${esc(n)}</p>`).join('')}
 </figure>`;
 }

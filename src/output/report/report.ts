@@ -44,6 +44,8 @@ export interface ReportInput extends AnalysisInput {
   chosenPoint?: number;
   /** `exchange.range` when every solved point has the same one: nearest-neighbour exchange is not called dipolar. */
   exchangeRange?: 'nearest' | 'dipolar' | null;
+  /** Keys of the axes drawn on a log scale (log-spaced scans; see `logScaleAxes`); none when absent. */
+  logAxes?: string[];
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -306,6 +308,8 @@ interface ReportContext {
   names: string[];
   lineName: (fixed: ScanParams) => string;
   scaleX: (x: number) => number;
+  /** The parameter is drawn on a log axis. */
+  logX: boolean;
 }
 
 function reportContext(input: ReportInput): ReportContext {
@@ -319,20 +323,22 @@ function reportContext(input: ReportInput): ReportContext {
   const lineName = (fixed: ScanParams) => showParams(fixed, units);
   const scaleX = (x: number) => x * (xAxis?.scale ?? 1);
   const names = availableObservables(records).filter((n) => n !== 'E0');
-  return { input, analysis, units, parameter, xAxis, done, lines, names, lineName, scaleX };
+  const logX = parameter !== null && (input.logAxes ?? []).includes(parameter);
+  return { input, analysis, units, parameter, xAxis, done, lines, names, lineName, scaleX, logX };
 }
 
 // Each section below returns its HTML, or null when the scan has nothing for it.
 
 /** Each observable against the parameter, a line per value of the other axes. */
 function observablesSection(context: ReportContext): string | null {
-  const { input, units, parameter, xAxis, lines, names, lineName, scaleX } = context;
+  const { input, units, parameter, xAxis, lines, names, lineName, scaleX, logX } = context;
   if (parameter && xAxis) {
     const plots = names.map((name) => {
       const info = observableInfo(name);
       const scale = info.energy ? units.energyScale : 1;
       const unit = info.unit(units);
       return renderLinePlot({
+        logX,
         id: `obs-${name.replace(/[^A-Za-z0-9]+/g, '-')}`,
         title: `${info.title} against ${xAxis.label}`,
         xLabel: axisTitle(xAxis),
@@ -348,7 +354,7 @@ function observablesSection(context: ReportContext): string | null {
       'observables',
       'Observables',
       plots,
-      `One line per value of the other scanned ${input.axes.length > 2 ? 'axes' : 'axis'}.`,
+      `One line per value of the other scanned ${input.axes.length > 2 ? 'axes' : 'axis'}.${logX ? ` ${xAxis.label} is log-spaced and drawn on a log axis here and in every plot against it.` : ''}`,
     );
   }
   return null;
@@ -356,7 +362,7 @@ function observablesSection(context: ReportContext): string | null {
 
 /** Heat maps of two-parameter scans. */
 function heatMapsSection(context: ReportContext): string | null {
-  const { input, units, parameter, xAxis, done, names, scaleX } = context;
+  const { input, units, parameter, xAxis, done, names, scaleX, logX } = context;
   const numericAxes = input.axes.filter((a) => a.values.every((v) => typeof v === 'number'));
   if (parameter && xAxis && !input.zip && numericAxes.length >= 2) {
     const other = [...numericAxes].reverse().find((a) => a.key !== parameter)!;
@@ -390,6 +396,8 @@ function heatMapsSection(context: ReportContext): string | null {
           }),
         ),
         zLabel: unit ? `${info.short} [${unit}]` : info.short,
+        logX,
+        logY: (input.logAxes ?? []).includes(other.key),
         notes: rest.length > 0 ? [`other axes held at ${showParams(fixed, units)}`] : [],
       });
     });
@@ -400,12 +408,13 @@ function heatMapsSection(context: ReportContext): string | null {
 
 /** Low spectrum flowing with the parameter. */
 function spectrumSection(context: ReportContext): string | null {
-  const { units, parameter, xAxis, lines, lineName, scaleX } = context;
+  const { units, parameter, xAxis, lines, lineName, scaleX, logX } = context;
   if (parameter && xAxis) {
     const chosen = evenlyChosen(lines, 4);
     const plots = chosen.map((line, k) => {
       const states = Math.max(...line.points.map((p) => p.record.energies.length));
       return renderLinePlot({
+        logX,
         id: `spectrum-${k}`,
         title: `low spectrum E_n − E₀ against ${xAxis.label}${lines.length > 1 ? ` (${lineName(line.fixed)})` : ''}`,
         xLabel: axisTitle(xAxis),
@@ -431,7 +440,7 @@ function spectrumSection(context: ReportContext): string | null {
 
 /** Lowest level of each symmetry sector: a crossing of the ground state shows as two sectors' lines meeting. */
 function sectorLevelsSection(context: ReportContext): string | null {
-  const { analysis, units, parameter, xAxis, lines, lineName, scaleX } = context;
+  const { analysis, units, parameter, xAxis, lines, lineName, scaleX, logX } = context;
   if (parameter && xAxis) {
     const chosen = evenlyChosen(
       lines.filter((l) => l.points.some((p) => p.record.solver.sector_runs)),
@@ -468,6 +477,7 @@ function sectorLevelsSection(context: ReportContext): string | null {
         return ya + ((x - a.x) / (b.x - a.x)) * (yb - ya);
       };
       return renderLinePlot({
+        logX,
         id: `sectors-${k}`,
         title: `lowest level of each sector against ${xAxis.label}${lines.length > 1 ? ` (${lineName(line.fixed)})` : ''}`,
         xLabel: axisTitle(xAxis),
@@ -503,7 +513,7 @@ function sectorLevelsSection(context: ReportContext): string | null {
 
 /** The transition indicators against the parameter with each line's extremum marked, and a table of the extrema. */
 function indicatorsSection(context: ReportContext): string | null {
-  const { analysis, units, parameter, xAxis, lineName, scaleX } = context;
+  const { analysis, units, parameter, xAxis, lineName, scaleX, logX } = context;
   if (parameter && xAxis && analysis.lines.length > 0) {
     const kinds: Indicator['name'][] = ['gap', 'fidelity', 'curvature', 'width_slope'];
     const plots = kinds.map((name) => {
@@ -558,6 +568,7 @@ function indicatorsSection(context: ReportContext): string | null {
         ];
       });
       return renderLinePlot({
+        logX,
         id: `indicator-${name}`,
         title: `${first.label} against ${xAxis.label}`,
         xLabel: axisTitle(xAxis),
@@ -667,7 +678,7 @@ function peakFitFigures(context: ReportContext, power: number, powerText: string
 
 /** Each fitted observable against 1/size^p (or its extrapolation against the parameter), with a table. */
 function observableFitFigures(context: ReportContext, power: number, powerText: string): string[] {
-  const { analysis, units, parameter, xAxis, lineName, scaleX } = context;
+  const { analysis, units, parameter, xAxis, lineName, scaleX, logX } = context;
   const fitParts: string[] = [];
   if (analysis.observable_fits.length > 0) {
     const groups = new Map<string, typeof analysis.observable_fits>();
@@ -691,6 +702,7 @@ function observableFitFigures(context: ReportContext, power: number, powerText: 
         }
         fitParts.push(
           renderLinePlot({
+            logX,
             id: `fit-${observable.replace(/[^A-Za-z0-9]+/g, '-')}-${v}`,
             title: `${info.title} extrapolated to ${v} → ∞ (fit against 1/${v}${powerText}), against ${xAxis.label}`,
             xLabel: axisTitle(xAxis),

@@ -9,6 +9,7 @@ import type { ScanRunSummary } from '../../scan/scanRun.js';
 import { analyseScan, analysisInputOf, type AnalysisOptions } from '../../analysis/transitions.js';
 import { labUnits } from '../../spec/units.js';
 import type { ReportInput } from './report.js';
+import { logScaleAxes } from './plotAxes.js';
 
 export interface RunReportOptions extends AnalysisOptions {
   point?: number;
@@ -84,5 +85,6 @@ export function reportInputFromRun(summary: ScanRunSummary, options: RunReportOp
     energyUnitHz: hz,
     chosenPoint: options.point,
     exchangeRange: runExchangeRange(summary),
+    logAxes: logScaleAxes(summary.section.axes),
   };
 }
