@@ -2,20 +2,26 @@
 // Everything here is small (O(N^2 + L^2)); the large objects live in basis and operator.
 
 import type { ParticleKind, Spec } from '../spec/spec.js';
+import { latticeOf } from '../spec/lattice.js';
+import {
+  chainGeometry,
+  geometryBonds,
+  geometryCouplings,
+  latticeGeometry,
+  type Geometry,
+  type PairList,
+} from './lattice.js';
 
-/** Pairs (i, j), i < j, with a coupling value; typed arrays so kernels can loop over them. */
-export interface PairList {
-  readonly count: number;
-  readonly i: Int32Array;
-  readonly j: Int32Array;
-  readonly value: Float64Array;
-}
+export type { Geometry, PairList } from './lattice.js';
 
 export interface Model {
   readonly kind: ParticleKind;
   readonly sites: number;
   readonly levels: number;
+  /** A ring: a periodic chain (never true off a chain, where momenta and structure factors do not apply). */
   readonly chainPeriodic: boolean;
+  /** Where the sites are: positions, minimum-image separations, the field (src/model/lattice.ts). */
+  readonly geometry: Geometry;
   /**
    * One particle's synthetic-dimension Hamiltonian h (levels x levels, row-major):
    * h[a*N+b] = <a|h|b>, tunnelling off the diagonal and detuning on it. Hermitian.
@@ -36,6 +42,9 @@ export interface Model {
   readonly maxPerSite: number;
   readonly onsite: number;
 }
+
+// The chain formulas as they were before [lattice]: the lattice code must reproduce them bit for bit
+// on chains (tests/model/lattice.test.ts compares the arrays).
 
 /** Separation of sites i and j in lattice spacings; the shorter way round on a periodic chain. */
 export function siteDistance(i: number, j: number, sites: number, periodic: boolean): number {
@@ -72,7 +81,8 @@ export function pairCouplings(
   return { count: vs.length, i: Int32Array.from(is), j: Int32Array.from(js), value: Float64Array.from(vs) };
 }
 
-function nearestNeighbourBonds(sites: number, periodic: boolean, amplitude: number): PairList {
+/** Nearest-neighbour bonds of a chain; a ring's (0, L-1) last. */
+export function nearestNeighbourBonds(sites: number, periodic: boolean, amplitude: number): PairList {
   const is: number[] = [];
   const js: number[] = [];
   if (amplitude !== 0) {
@@ -81,7 +91,7 @@ function nearestNeighbourBonds(sites: number, periodic: boolean, amplitude: numb
       js.push(i + 1);
     }
     if (periodic && sites > 2) {
-      // Stored as (0, L-1) with i < j; kernels that need the hop direction (fermion signs) know this bond wraps.
+      // Stored as (0, L-1) with i < j: fermion signs are worked out for any i < j (src/operator/fock.ts).
       is.push(0);
       js.push(sites - 1);
     }
@@ -94,10 +104,16 @@ function nearestNeighbourBonds(sites: number, periodic: boolean, amplitude: numb
   };
 }
 
+/** The spec's geometry: its [lattice], else its [chain] as a lattice of shape "chain". */
+export function geometryOf(spec: Spec): Geometry {
+  const lattice = latticeOf(spec);
+  return lattice ? latticeGeometry(lattice) : chainGeometry(spec.chain.sites, spec.chain.boundary === 'periodic');
+}
+
 export function buildModel(spec: Spec): Model {
   const N = spec.levels.count;
-  const L = spec.chain.sites;
-  const periodic = spec.chain.boundary === 'periodic';
+  const geometry = geometryOf(spec);
+  const L = geometry.sites;
   const localRe = new Float64Array(N * N);
   const localIm = new Float64Array(N * N);
   for (let n = 0; n < N; n++) localRe[n * N + n] = spec.levels.detuning[n];
@@ -128,18 +144,16 @@ export function buildModel(spec: Spec): Model {
     kind,
     sites: L,
     levels: N,
-    chainPeriodic: periodic,
+    chainPeriodic: geometry.isRing,
+    geometry,
     localRe,
     localIm,
     isComplex,
     exchangeWeights: Float64Array.from(ex.weights),
-    exchangePairs: pairCouplings(L, periodic, ex.strength, ex.range, ex.cutoff),
+    exchangePairs: geometryCouplings(geometry, ex.strength, ex.range, ex.cutoff),
     moments: Float64Array.from(is.moments),
-    isingPairs: pairCouplings(L, periodic, is.strength, is.range, is.cutoff),
-    hoppingBonds:
-      kind === 'pinned'
-        ? nearestNeighbourBonds(L, false, 0)
-        : nearestNeighbourBonds(L, periodic, spec.particles.hopping),
+    isingPairs: geometryCouplings(geometry, is.strength, is.range, is.cutoff),
+    hoppingBonds: geometryBonds(geometry, kind === 'pinned' ? 0 : spec.particles.hopping),
     particleNumber: spec.particles.number,
     maxPerSite: spec.particles.maxPerSite,
     onsite: spec.particles.onsite,

@@ -4,6 +4,7 @@
 
 import type { Spec } from './specTypes.js';
 import { resolveEvolveSection, validateEvolveSection } from './evolveSection.js';
+import { resolveLattice, validateLatticeSection } from './lattice.js';
 import { validateScanSection } from './scanSection.js';
 import { resolveUnits, validateUnitsSection } from './units.js';
 
@@ -18,6 +19,8 @@ export interface OptionalSection {
 
 /** In this order their validators run, then their resolvers, and an unknown section's error lists them. */
 export const OPTIONAL_SECTIONS: readonly OptionalSection[] = [
+  // First, so [units] and [evolve] see the lattice's checks done.
+  { name: 'lattice', validate: validateLatticeSection, resolve: resolveLattice },
   { name: 'units', validate: validateUnitsSection, resolve: resolveUnits },
   { name: 'evolve', validate: validateEvolveSection, resolve: resolveEvolveSection },
   { name: 'scan', validate: validateScanSection },

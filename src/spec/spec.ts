@@ -42,7 +42,7 @@
 //                                                           is the half chain when its smaller side has at
 //                                                           most 256 states; see src/observables/entanglement.ts)
 //
-// The optional top-level sections ([units], [evolve], [scan]) are listed in src/spec/sections.ts;
+// The optional top-level sections ([lattice], [units], [evolve], [scan]) are listed in src/spec/sections.ts;
 // their validated values land in spec.extra.
 
 import { readFileSync } from 'node:fs';
@@ -68,6 +68,7 @@ import {
   requiredKey,
   type Table,
 } from './validate.js';
+import { chainFromSections, validateLatticeSection } from './lattice.js';
 import { OPTIONAL_SECTIONS } from './sections.js';
 import type { ExchangeWeightsName, InteractionRange, ParticleKind, Spec } from './specTypes.js';
 
@@ -297,7 +298,11 @@ export function validateSpec(raw: Record<string, unknown>): Spec {
   const sectionNames = [...CORE_SECTIONS, ...OPTIONAL_SECTIONS.map((section) => section.name)];
   rejectUnknownKeys(raw, '', sectionNames);
 
-  const chain = validateChain(requiredSection(raw, 'chain'));
+  // [lattice] stands for [chain] (its molecules as the model's sites); both only when they agree.
+  const lattice = raw.lattice === undefined ? null : validateLatticeSection(raw.lattice, 'lattice');
+  const chainValue =
+    raw.chain === undefined && lattice !== null ? null : validateChain(requiredSection(raw, 'chain', lattice === null));
+  const chain = lattice === null ? (chainValue as Spec['chain']) : chainFromSections(chainValue, lattice);
   const levels = validateLevels(requiredSection(raw, 'levels'));
   const exchange = validateExchange(optionalSection(raw, 'exchange'), levels);
   const ising = validateIsing(optionalSection(raw, 'ising'), levels.count);
@@ -605,8 +610,12 @@ export function rotorWeights(count: number): number[] {
 // ---------------------------------------------------------------------------------------------
 // Top-level sections
 
-function requiredSection(raw: Table, name: string): Table {
-  if (raw[name] === undefined) throw new SpecError(name, 'required section is missing');
+function requiredSection(raw: Table, name: string, orLattice = false): Table {
+  if (raw[name] === undefined)
+    throw new SpecError(
+      name,
+      `required section is missing${orLattice ? ' (or describe the sites with [lattice])' : ''}`,
+    );
   return optionalSection(raw, name);
 }
 

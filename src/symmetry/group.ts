@@ -137,13 +137,22 @@ export function detectSymmetries(model: Model, basis: PinnedBasis): SymmetryChec
 
   const L = model.sites;
   const N = model.levels;
-  if (L < 3 || !model.chainPeriodic) {
+  // Site i -> i+1 and i -> L-1-i are a chain's translation and reflection only when the sites are a chain.
+  const offChain = model.geometry.isChain
+    ? null
+    : `acts on chains only, and the lattice (shape "${model.geometry.shape}") is not one`;
+  if (offChain !== null) {
+    checks.push({ name: 'translation', present: false, detail: offChain });
+    checks.push({ name: 'reflection', present: false, detail: offChain });
+  } else if (L < 3 || !model.chainPeriodic) {
     checks.push({ name: 'translation', present: false, detail: 'needs a periodic chain of at least 3 sites' });
   } else {
     const ok = commutes((s) => actions.translate(s));
     checks.push({ name: 'translation', present: ok, detail: ok ? 'commutes with H' : 'does not commute with H' });
   }
-  if (L < 2) checks.push({ name: 'reflection', present: false, detail: 'needs at least 2 sites' });
+  if (offChain !== null) {
+    // listed above
+  } else if (L < 2) checks.push({ name: 'reflection', present: false, detail: 'needs at least 2 sites' });
   else {
     const ok = commutes((s) => actions.reflect(s));
     checks.push({ name: 'reflection', present: ok, detail: ok ? 'commutes with H' : 'does not commute with H' });
