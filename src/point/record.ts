@@ -33,6 +33,23 @@ export interface PointRecord {
   };
   /** Quantum numbers of each state of `energies`, when solved in symmetry sectors. */
   sectors?: (SectorLabel & { k: number | null })[];
+  /** With solve.observables = "each": every solved state with its own observables. */
+  states?: StateRecord[];
+}
+
+/** One solved state and its observables (solve.observables = "each"). */
+export interface StateRecord {
+  /** Position in the solved spectrum (`energies`, then any further copies of the ground level). */
+  index: number;
+  energy: number;
+  /** The sector it was found in; null when the whole space was solved as one. */
+  sector: (SectorLabel & { k: number | null }) | null;
+  /** Its own observables, or, for copies of a level found in one sector, their equal mixture's (no entanglement). */
+  observables: Observables;
+  /** The states (indices) whose equal mixture `observables` are, this one included; absent for a state on its own. */
+  mixture_of?: number[];
+  /** Present (true) when its level may have copies that were not found: `observables` then cover only the copies found. */
+  level_incomplete?: true;
 }
 
 /** What the record keeps of an eigensolver run (full space or sector by sector). */
@@ -63,6 +80,7 @@ export interface PointRecordParts {
   symmetries?: SymmetryName[];
   sectorRuns?: SectorRun[];
   sectors?: (SectorLabel & { k: number | null })[];
+  states?: StateRecord[];
 }
 
 export function buildPointRecord(parts: PointRecordParts): PointRecord {
@@ -95,6 +113,7 @@ export function buildPointRecord(parts: PointRecordParts): PointRecord {
       ...(parts.sectorRuns ? { sector_runs: parts.sectorRuns } : {}),
     },
     ...(parts.sectors ? { sectors: parts.sectors } : {}),
+    ...(parts.states ? { states: parts.states } : {}),
   };
 }
 

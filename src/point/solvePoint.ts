@@ -33,7 +33,9 @@ import { defaultProductThreads, ThreadedOperator, withThreads } from '../operato
 import { coreCount } from '../threads/cores.js';
 import { VectorArena } from '../simd/arena.js';
 import { solveSettings } from '../solver/specSettings.js';
-import { buildPointRecord, type PointRecord } from './record.js';
+import { buildPointRecord, type PointRecord, type StateRecord } from './record.js';
+import { groupLevels, type StateGroup } from '../solver/levels.js';
+import type { Observables } from '../observables/pinned.js';
 
 export { gapAboveGround, type PointRecord } from './record.js';
 
@@ -279,6 +281,27 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     observables.entanglement = pinnedEntanglement(ground, basis.sites, basis.levels, op.isComplex, cuts);
   // `values` also holds copies of the ground level beyond `states`.
   const energies = Array.from(eigen.values).slice(0, states);
+  const each =
+    spec.solve.observables === 'each'
+      ? stateRecords(
+          Array.from(eigen.values),
+          null,
+          groupLevels({
+            energies: eigen.values,
+            sectors: null,
+            tolerance: spec.solve.tolerance,
+            dimension: basis.dim,
+            converged: eigen.converged,
+            groundComplete: eigen.degeneracyComplete ?? false,
+          }),
+          (members) => {
+            const vectors = members.map((m) => eigen.vectors[m]);
+            return basis.kind === 'pinned'
+              ? pinnedObservables(basis, basisProbabilities(vectors, basis.dim, op.isComplex), correlations)
+              : itinerantObservables(basis, vectors, op.isComplex, plan.model.chainPeriodic, correlations);
+          },
+        )
+      : undefined;
   const record = buildPointRecord({
     energies,
     observables,
@@ -298,6 +321,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     tolerance: spec.solve.tolerance,
     started,
     memoryBytes: plan.memory.totalBytes,
+    states: each,
   });
   const kept: KeptStates | undefined = options.keepStates
     ? {
@@ -356,6 +380,7 @@ function solvePinnedInSectors(
     expandGround:
       (options.groundStates !== false && basis.dim <= EXPAND_LIMIT) || cuts.length > 0 || !!options.keepStates,
     expandAll: options.keepStates === 'all',
+    eachState: spec.solve.observables === 'each',
     threadsFor: (work: number) => productThreads(spec, options, work),
     sectorThreads: plan.sectorThreads,
     onProgress: options.onProgress,
@@ -375,6 +400,30 @@ function solvePinnedInSectors(
     observables.entanglement = pinnedEntanglement(groundStates, basis.sites, basis.levels, model.isComplex, cuts);
   const energies = solution.energies;
   const L = model.sites;
+  const labelled = (l: SectorLabel) => ({ ...l, k: l.momentum === null ? null : (2 * Math.PI * l.momentum) / L });
+  const found = solution.eachState;
+  let each: StateRecord[] | undefined;
+  if (found) {
+    // One full-space buffer, refilled for each group: the probabilities of one mixture at a time.
+    const probabilities = new Float64Array(basis.dim);
+    each = stateRecords(
+      found.energies,
+      found.labels.map(labelled),
+      groupLevels({
+        energies: found.energies,
+        sectors: found.labels.map((l) => `${l.momentum},${l.parity},${l.level_flip},${l.charge}`),
+        tolerance: spec.solve.tolerance,
+        dimension: basis.dim,
+        converged: solution.converged,
+        groundComplete: solution.degeneracyComplete,
+      }),
+      (members) => {
+        probabilities.fill(0);
+        found.accumulateProbabilities(members, probabilities);
+        return pinnedObservables(basis, probabilities, { periodic: model.chainPeriodic });
+      },
+    );
+  }
   const record = buildPointRecord({
     energies,
     observables,
@@ -389,9 +438,37 @@ function solvePinnedInSectors(
     memoryBytes: plan.memory.totalBytes,
     symmetries: (Object.keys(plan.used!) as SymmetryName[]).filter((k) => plan.used![k]),
     sectorRuns: solution.runs,
-    sectors: solution.labels.map((l) => ({ ...l, k: l.momentum === null ? null : (2 * Math.PI * l.momentum) / L })),
+    sectors: solution.labels.map(labelled),
+    states: each,
   });
   return { record, groundStates, kept: keptFromSectors(options.keepStates, model, solution, groundStates) };
+}
+
+/**
+ * The record's `states`: one entry per found state, each group's observables computed once and
+ * shared by its members (an equal mixture of copies of a level in one sector).
+ */
+function stateRecords(
+  energies: number[],
+  sectors: StateRecord['sector'][] | null,
+  groups: StateGroup[],
+  observablesOf: (members: number[]) => Observables,
+): StateRecord[] {
+  const out = new Array<StateRecord>(energies.length);
+  for (const group of groups) {
+    const observables = observablesOf(group.members);
+    for (const index of group.members) {
+      out[index] = {
+        index,
+        energy: energies[index],
+        sector: sectors ? sectors[index] : null,
+        observables,
+        ...(group.members.length > 1 ? { mixture_of: group.members } : {}),
+        ...(group.incomplete ? { level_incomplete: true as const } : {}),
+      };
+    }
+  }
+  return out;
 }
 
 function keptFromSectors(

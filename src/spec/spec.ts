@@ -41,6 +41,8 @@
 //                                                           a cut l splits sites 0..l-1 from l..L-1; "auto"
 //                                                           is the half chain when its smaller side has at
 //                                                           most 256 states; see src/observables/entanglement.ts)
+//   solve.observables                  "ground"            ("ground": observables of the ground level; "each": also
+//                                                           every solved state's own, in its sector; see src/solver/levels.ts)
 //
 // The optional top-level sections ([lattice], [units], [evolve], [scan]) are listed in src/spec/sections.ts;
 // their validated values land in spec.extra.
@@ -528,6 +530,7 @@ function validateSolve(table: Table, sites: number): Spec['solve'] {
     'symmetries',
     'sector',
     'threads',
+    'observables',
   ]);
   const states = positiveInteger(orDefault(table.states, 4), 'solve.states');
   const tolerance = positiveNumber(orDefault(table.tolerance, 1e-9), 'solve.tolerance');
@@ -543,7 +546,8 @@ function validateSolve(table: Table, sites: number): Spec['solve'] {
   const sector = validateSector(orDefault(table.sector, {}));
   const threadsRaw = orDefault(table.threads, 'auto');
   const threads = threadsRaw === 'auto' ? 'auto' : positiveInteger(threadsRaw, 'solve.threads');
-  return { states, tolerance, maxMatvecs, krylov, seed, entanglement, symmetries, sector, threads };
+  const observables = oneOf(orDefault(table.observables, 'ground'), 'solve.observables', ['ground', 'each'] as const);
+  return { states, tolerance, maxMatvecs, krylov, seed, entanglement, symmetries, sector, threads, observables };
 }
 
 const SYMMETRY_CHOICES = ['translation', 'reflection', 'level_flip', 'charge'] as const;

@@ -45,6 +45,8 @@ export interface Spec {
     sector: { momentum?: number[]; parity?: (1 | -1)[]; level_flip?: (1 | -1)[]; charge?: number[] };
     /** Threads for one product: "auto" (by size) or a count. */
     threads: 'auto' | number;
+    /** Whose observables: the ground level's only ("ground"), or also every solved state's ("each"). */
+    observables: 'ground' | 'each';
   };
   /** Validated values of the optional sections (src/spec/sections.ts), keyed by section name. */
   extra: Record<string, unknown>;

@@ -64,7 +64,24 @@ export interface SectorSolution {
    * interleaved complex, with its energy and sector, lowest first; only when `expandAll` was asked.
    */
   allStates?: { vectors: Float64Array[]; energies: number[]; labels: SectorLabel[] };
+  /** Every kept state in its own sector (as `allStates`, without expansion); only when `eachState` was asked. */
+  eachState?: KeptSectorStates;
   method: 'dense' | 'lanczos';
+}
+
+/**
+ * Every kept state (the lowest `states` and every copy of the ground level), lowest first, with its
+ * energy and sector, and its probabilities computed from its sector vector on request.
+ */
+export interface KeptSectorStates {
+  energies: number[];
+  labels: SectorLabel[];
+  /**
+   * Adds the equal mixture of the given states' |psi(s)|^2 into `out` (full basis; `out` is not
+   * cleared). A k <-> -k copy counts with its representative's probabilities: the same for these
+   * diagonal observables (see solveInSectors).
+   */
+  accumulateProbabilities(members: number[], out: Float64Array): void;
 }
 
 /** Where a sector-by-sector solve stands, for a progress line. */
@@ -104,6 +121,8 @@ export interface SectorSolveOptions {
   expandGround?: boolean;
   /** Also expand every kept state, not only the ground level (for saving the states). */
   expandAll?: boolean;
+  /** Hand back every kept state in its sector, for its own observables (solve.observables = "each"). */
+  eachState?: boolean;
   /** Threads for one product of a sector whose stored matrix has `work` nonzeros (default 1), when sectors are solved one at a time. */
   threadsFor?: (work: number) => number;
   /** Sectors solved at once, each on its own thread (default 1); products then use one thread each. */
@@ -292,7 +311,7 @@ interface HelperData {
   model: Model;
   basis: PinnedBasis;
   plans: SectorPlan[];
-  opts: Omit<SectorSolveOptions, 'threadsFor' | 'onProgress' | 'sectorThreads' | 'expandGround'>;
+  opts: Omit<SectorSolveOptions, 'threadsFor' | 'onProgress' | 'sectorThreads' | 'expandGround' | 'eachState'>;
   maps: Record<string, OrbitMapParts>;
   progress: { words: Int32Array; lowest: Float64Array };
   port: MessagePort;
@@ -960,6 +979,21 @@ export function solveInSectors(
         labels: found.map((f) => f.label),
       }
     : undefined;
+  const kept = found;
+  const eachState: KeptSectorStates | undefined = opts.eachState
+    ? {
+        energies: kept.map((f) => f.energy),
+        labels: kept.map((f) => f.label),
+        accumulateProbabilities(members: number[], out: Float64Array): void {
+          for (const m of members) {
+            const f = kept[m];
+            if (!f.vector)
+              throw new Error(`the vector of the state at energy ${f.energy} was dropped before its observables`);
+            f.sector!.accumulateProbabilities(f.vector, f.complex, 1 / members.length, out);
+          }
+        },
+      }
+    : undefined;
   return {
     energies: answer.map((f) => f.energy),
     labels: answer.map((f) => f.label),
@@ -973,6 +1007,7 @@ export function solveInSectors(
     groundProbabilities: probabilities,
     groundStates,
     allStates,
+    eachState,
     method: anyLanczos ? 'lanczos' : 'dense',
   };
 }

@@ -122,6 +122,7 @@ seed = 7
       symmetries: 'auto',
       sector: {},
       threads: 'auto',
+      observables: 'ground',
     });
   });
 
@@ -355,6 +356,7 @@ describe('defaults and expansion', () => {
       symmetries: 'auto',
       sector: {},
       threads: 'auto',
+      observables: 'ground',
     });
     expect(spec.extra).toEqual({});
   });
