@@ -147,4 +147,11 @@ describe('summaries of a scan with solve.observables = "each"', () => {
     expect(runCli(['summary', ground, '--long', '--csv']).stdout.split('\n')[0].split(',')).not.toContain('state');
     expect(JSON.parse(runCli(['summary', ground, '--long', '--json']).stdout)[0]).not.toHaveProperty('state');
   });
+
+  it('a wrong solve.observables stops solve with one line naming the key, exit code 2', () => {
+    const r = runCli(['solve', path.join(dir, 'each.toml'), '--set', 'solve.observables=all', '--set', 'scan=null']);
+    expect(r.code).toBe(2);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toMatch(/^rungchain: solve\.observables: expected one of "ground", "each", got "all"/);
+  });
 });

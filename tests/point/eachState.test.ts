@@ -378,6 +378,32 @@ describe('solve.observables = "each" with degenerate levels', () => {
   });
 });
 
+describe('solve.observables = "each" with a ground level larger than solve.states', () => {
+  it('lists every copy found, mixed per sector, and the copies average to the whole space', () => {
+    // H = 0 on three two-level molecules: all 8 states are one level (common practice), and the
+    // solve finds every copy of the ground level whatever solve.states says.
+    const model = { ...freeModel(3), tunnelling: [0] };
+    const h = buildDense(model);
+    const levels = denseLevels(h, TOLERANCE);
+    expect(levels.map((l) => l.copies)).toEqual([8]);
+    for (const symmetries of ['auto', 'none']) {
+      const record = solveEach(rawSpec(model, 2, symmetries, TOLERANCE));
+      expect(record.energies).toHaveLength(2);
+      const states = record.states!;
+      expect(states.map((s) => s.index)).toEqual([0, 1, 2, 3, 4, 5, 6, 7]);
+      expect(states.every((s) => s.level_incomplete === undefined)).toBe(true);
+      if (symmetries === 'none') expect(states.every((s) => s.mixture_of?.length === 8)).toBe(true);
+      // Each entry counted once: the average over the 8 copies is the level's mixture (ml-matrix).
+      const reference = referenceObservables(model, h, levels[0].probabilities);
+      for (let i = 0; i < model.sites; i++)
+        for (let n = 0; n < 2; n++) {
+          const mean = states.reduce((a, s) => a + s.observables.populations[i][n], 0) / states.length;
+          expect(Math.abs(mean - (reference.populations as number[][])[i][n])).toBeLessThan(1e-12);
+        }
+    }
+  });
+});
+
 describe('solve.observables = "each" and a level cut by solve.states', () => {
   it('marks the copies of a level the count cuts, and none when the whole space is solved', () => {
     const model = freeModel(3);
