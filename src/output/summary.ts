@@ -38,6 +38,8 @@ export function summaryJson(summary: ScanRunSummary): Record<string, unknown>[] 
     out.gap = result ? result.gap : null;
     out.gap_above_ground = result ? (result.gap_above_ground ?? null) : null;
     out.observables = result ? result.observables : null;
+    // solve.observables = "each": every state's own observables, as the record holds them.
+    if (result?.states) out.states = result.states;
     for (const name of scalars) out[name] = result ? (result.observables[name] ?? null) : null;
     out.dimension = result ? result.basis.dimension : null;
     out.converged = result ? result.solver.converged : null;
@@ -70,6 +72,7 @@ export function summaryCsv(summary: ScanRunSummary): string {
     ? ENTANGLEMENT_SCALARS
     : [];
   const states = Math.max(0, ...rows.map((r) => r.record!.result?.energies.length ?? 0));
+  const each = eachStateScalars(rows);
   const header = [
     'index',
     ...keys,
@@ -79,6 +82,7 @@ export function summaryCsv(summary: ScanRunSummary): string {
     'gap_above_ground',
     ...scalars,
     ...entropies,
+    ...each.map(({ state, name }) => `states.${state}.${name}`),
     'dimension',
     'converged',
     'degeneracy',
@@ -101,6 +105,7 @@ export function summaryCsv(summary: ScanRunSummary): string {
       res?.gap_above_ground,
       ...scalars.map((s) => res?.observables[s]),
       ...entropies.map((s) => (res ? observableValue(res, s) : undefined)),
+      ...each.map(({ state, name }) => res?.states?.[state]?.observables[name]),
       res?.basis.dimension,
       res?.solver.converged,
       res?.solver.degeneracy,
@@ -115,12 +120,25 @@ export function summaryCsv(summary: ScanRunSummary): string {
   return csv(header, body);
 }
 
+/**
+ * solve.observables = "each": the scalar observables of each state, as columns `states.<k>.<name>`
+ * (the JSON path), state by state, for every state index and scalar any point holds.
+ */
+function eachStateScalars(rows: SummaryRow[]): { state: number; name: string }[] {
+  const lists = rows.map((r) => r.record!.result?.states ?? []);
+  const count = Math.max(0, ...lists.map((l) => l.length));
+  const names = scalarObservablesIn(lists.flatMap((l) => l.map((s) => s.observables)));
+  return Array.from({ length: count }, (_, state) => names.map((name) => ({ state, name }))).flat();
+}
+
 // ---------------------------------------------------------------------------------------------
 // Long format: per-site and per-level observables
 
 export interface LongRow {
   index: number;
   params: ScanParams;
+  /** The state whose own observables these are (solve.observables = "each"); null for the ground level's. */
+  state: number | null;
   observable: string;
   site: number;
   /** Level n for per-site-and-level observables (populations); null otherwise. */
@@ -130,40 +148,58 @@ export interface LongRow {
   value: number;
 }
 
+/** Rows of the ground level's observables, then (solve.observables = "each") those of each state in turn. */
 export function longRows(summary: ScanRunSummary): LongRow[] {
   const out: LongRow[] = [];
   for (const row of summary.rows) {
-    const obs = row.record?.result?.observables;
-    if (!obs) continue;
+    const result = row.record?.result;
+    if (!result?.observables) continue;
     const base = { index: row.index, params: row.params };
-    for (const { name, shape, diagonal } of longObservables('scan')) {
-      const values = obs[name];
-      if (!Array.isArray(values)) continue;
-      if (shape === 'per site and level')
-        (values as number[][]).forEach((p, i) =>
-          p.forEach((value, n) => out.push({ ...base, observable: name, site: i, level: n, other_site: null, value })),
-        );
-      else if (shape === 'per site pair')
-        // Symmetric: each pair once, and the diagonal where it is not zero by definition.
-        (values as number[][]).forEach((p, i) =>
-          p.forEach((value, j) => {
-            if (j > i || (diagonal && j === i))
-              out.push({ ...base, observable: name, site: i, level: null, other_site: j, value });
-          }),
-        );
-      else
-        (values as number[]).forEach((value, i) =>
-          out.push({ ...base, observable: name, site: i, level: null, other_site: null, value }),
-        );
-    }
+    pushLongRows(out, { ...base, state: null }, result.observables);
+    for (const s of result.states ?? []) pushLongRows(out, { ...base, state: s.index }, s.observables);
   }
   return out;
 }
 
+function pushLongRows(
+  out: LongRow[],
+  base: Pick<LongRow, 'index' | 'params' | 'state'>,
+  obs: Record<string, unknown>,
+): void {
+  for (const { name, shape, diagonal } of longObservables('scan')) {
+    const values = obs[name];
+    if (!Array.isArray(values)) continue;
+    if (shape === 'per site and level')
+      (values as number[][]).forEach((p, i) =>
+        p.forEach((value, n) => out.push({ ...base, observable: name, site: i, level: n, other_site: null, value })),
+      );
+    else if (shape === 'per site pair')
+      // Symmetric: each pair once, and the diagonal where it is not zero by definition.
+      (values as number[][]).forEach((p, i) =>
+        p.forEach((value, j) => {
+          if (j > i || (diagonal && j === i))
+            out.push({ ...base, observable: name, site: i, level: null, other_site: j, value });
+        }),
+      );
+    else
+      (values as number[]).forEach((value, i) =>
+        out.push({ ...base, observable: name, site: i, level: null, other_site: null, value }),
+      );
+  }
+}
+
+/** Whether any row is a state's own (the long outputs then gain a `state` column). */
+function hasStates(rows: LongRow[]): boolean {
+  return rows.some((r) => r.state !== null);
+}
+
 export function longJson(summary: ScanRunSummary): Record<string, unknown>[] {
-  return longRows(summary).map((r) => ({
+  const rows = longRows(summary);
+  const states = hasStates(rows);
+  return rows.map((r) => ({
     index: r.index,
     ...r.params,
+    ...(states ? { state: r.state } : {}),
     observable: r.observable,
     site: r.site,
     level: r.level,
@@ -174,11 +210,14 @@ export function longJson(summary: ScanRunSummary): Record<string, unknown>[] {
 
 export function longCsv(summary: ScanRunSummary): string {
   const keys = paramKeys(summary);
+  const rows = longRows(summary);
+  const states = hasStates(rows);
   return csv(
-    ['index', ...keys, 'observable', 'site', 'level', 'other_site', 'value'],
-    longRows(summary).map((r) => [
+    ['index', ...keys, ...(states ? ['state'] : []), 'observable', 'site', 'level', 'other_site', 'value'],
+    rows.map((r) => [
       r.index,
       ...keys.map((k) => r.params[k]),
+      ...(states ? [r.state] : []),
       r.observable,
       r.site,
       r.level,
@@ -191,14 +230,17 @@ export function longCsv(summary: ScanRunSummary): string {
 export function longText(summary: ScanRunSummary): string {
   const keys = paramKeys(summary);
   const rows = longRows(summary);
+  const states = hasStates(rows);
   // Each observable's rounding noise is measured against 1 (probabilities, levels) or its largest value.
   const scales = new Map<string, number>();
   for (const r of rows) scales.set(r.observable, Math.max(scales.get(r.observable) ?? 1, Math.abs(r.value)));
   return table(
-    ['point', ...keys, 'observable', 'site', 'level', 'other site', 'value'],
+    ['point', ...keys, ...(states ? ['state'] : []), 'observable', 'site', 'level', 'other site', 'value'],
     rows.map((r) => [
       String(r.index),
       ...keys.map((k) => showValue(r.params[k])),
+      // The ground level's rows (state empty), then each state's.
+      ...(states ? [r.state === null ? '' : String(r.state)] : []),
       r.observable,
       String(r.site),
       r.level === null ? '' : String(r.level),

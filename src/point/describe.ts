@@ -3,6 +3,8 @@
 import { formatBytes } from '../format/bytes.js';
 import { columnScale, describeDimension, fmt, fmtNoise, fmtSmall, plural, table } from '../format/tables.js';
 import type { PointPlan, PointRecord } from './solvePoint.js';
+import type { StateRecord } from './record.js';
+import { OBSERVABLES } from '../observables/catalogue.js';
 
 export function describePlan(plan: PointPlan, limit: number): string {
   const lines = [
@@ -127,5 +129,52 @@ export function describeRecord(r: PointRecord): string {
       );
     }
   }
+  if (r.states) out.push('', ...describeStates(r.states, r.energies[0], energyScale));
   return out.join('\n');
+}
+
+/**
+ * solve.observables = "each": one row per state with its scalar observables and the site means of
+ * the per-site ones (names, order and heads from the catalogue); the full values are in the JSON.
+ */
+function describeStates(states: StateRecord[], e0: number, energyScale: number): string[] {
+  const shown = OBSERVABLES.filter(
+    (o) =>
+      o.record !== undefined &&
+      ((o.shape === 'scalar' && typeof states[0].observables[o.name] === 'number') ||
+        (o.siteMean === true && Array.isArray(states[0].observables[o.name]))),
+  );
+  const valueOf = (s: StateRecord, name: string): number => {
+    const v = s.observables[name];
+    return Array.isArray(v) ? (v as number[]).reduce((a, b) => a + b, 0) / v.length : (v as number);
+  };
+  const scales = shown.map((o) =>
+    columnScale(
+      states.map((s) => valueOf(s, o.name)),
+      1,
+    ),
+  );
+  const note = (s: StateRecord): string =>
+    [s.mixture_of ? `mixture of ${s.mixture_of.join(', ')}` : '', s.level_incomplete ? 'level incomplete' : '']
+      .filter(Boolean)
+      .join('; ');
+  const lines = [
+    'each state\'s observables (solve.observables = "each"; per-site ones as their mean over sites):',
+    table(
+      ['state', 'E - E0', ...shown.map((o) => (o.siteMean ? `${o.short} mean` : o.short)), 'note'],
+      states.map((s) => [
+        String(s.index),
+        fmtNoise(s.energy - e0, energyScale, 8),
+        ...shown.map((o, c) => fmtNoise(valueOf(s, o.name), scales[c], 6)),
+        note(s),
+      ]),
+    ),
+  ];
+  if (states.some((s) => s.mixture_of))
+    lines.push('(mixture of: copies of one level found in one sector, reported as their equal mixture)');
+  if (states.some((s) => s.level_incomplete))
+    lines.push(
+      '(level incomplete: the level may have copies that were not found, beyond the states asked for; its values cover only those found)',
+    );
+  return lines;
 }

@@ -48,6 +48,8 @@ export function estimateSolveMemory(opts: {
   denseThreshold: number;
   /** Threads for one product: each beyond the first means a product helper and a vector-kernel helper. */
   threads?: number;
+  /** Observables of each state of a pinned chain (solve.observables = "each"): one more probability array, for one state's mixture at a time. */
+  eachState?: boolean;
 }): MemoryEstimate {
   const vector = opts.dim * (opts.isComplex ? 2 : 1) * BYTES_PER_DOUBLE;
   const parts: Record<string, number> = { runtime: RUNTIME_BASELINE_BYTES, operator: opts.operatorBytes };
@@ -62,6 +64,7 @@ export function estimateSolveMemory(opts: {
   }
   parts.eigenvectors = 2 * opts.states * vector;
   parts.observables = opts.dim * BYTES_PER_DOUBLE;
+  if (opts.eachState) parts.state_observables = opts.dim * BYTES_PER_DOUBLE;
   let totalBytes = 0;
   for (const v of Object.values(parts)) totalBytes += v;
   return { totalBytes, parts };
@@ -140,6 +143,8 @@ export function estimateSectorMemory(opts: {
   productThreads?: number;
   /** Whether full-space ground states are built (default: when the space has at most 2^22 states). */
   expandGround?: boolean;
+  /** Observables of each state (solve.observables = "each"): one full-space probability array, refilled for each state's mixture. */
+  eachState?: boolean;
 }): MemoryEstimate {
   const { dim, model, used } = opts;
   const concurrent = opts.concurrent ?? 1;
@@ -160,6 +165,7 @@ export function estimateSectorMemory(opts: {
     kept_states: concurrent * 2 * opts.states * sectorDim * scalar,
   };
   if (opts.expandGround ?? dim <= 1 << 22) parts.ground_states = 2 * dim * 16;
+  if (opts.eachState) parts.state_observables = dim * BYTES_PER_DOUBLE;
   let data = 0;
   for (const [k, v] of Object.entries(parts)) if (k !== 'runtime' && k !== 'helper_threads') data += v;
   parts.awaiting_gc = Math.min(SECTOR_GARBAGE_BYTES, 4 * data);

@@ -128,6 +128,7 @@ export function planPoint(
         concurrent,
         productThreads: threadsFor(nnz),
         expandGround,
+        eachState: spec.solve.observables === 'each',
       });
     let sectorThreads = Math.max(1, allowed);
     let memory = estimate(sectorThreads);
@@ -152,6 +153,8 @@ export function planPoint(
     states,
     denseThreshold: denseThresholdFor(states),
     threads: threadsFor(work),
+    // Itinerant observables read the states row by row, allocating nothing of the dimension.
+    eachState: spec.solve.observables === 'each' && model.kind === 'pinned',
   });
   return {
     model,

@@ -6,7 +6,8 @@
 
 import { describe, expect, it } from 'vitest';
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
-import { solvePoint, type PointRecord } from '../../src/point/solvePoint.js';
+import { planPoint, solvePoint, type PointRecord } from '../../src/point/solvePoint.js';
+import { describeRecord } from '../../src/point/describe.js';
 import type { StateRecord } from '../../src/point/record.js';
 import { SpecError } from '../../src/errors/errors.js';
 import { validateSpec } from '../../src/spec/spec.js';
@@ -377,6 +378,32 @@ describe('solve.observables = "each" with degenerate levels', () => {
   });
 });
 
+describe('solve.observables = "each" with a ground level larger than solve.states', () => {
+  it('lists every copy found, mixed per sector, and the copies average to the whole space', () => {
+    // H = 0 on three two-level molecules: all 8 states are one level (common practice), and the
+    // solve finds every copy of the ground level whatever solve.states says.
+    const model = { ...freeModel(3), tunnelling: [0] };
+    const h = buildDense(model);
+    const levels = denseLevels(h, TOLERANCE);
+    expect(levels.map((l) => l.copies)).toEqual([8]);
+    for (const symmetries of ['auto', 'none']) {
+      const record = solveEach(rawSpec(model, 2, symmetries, TOLERANCE));
+      expect(record.energies).toHaveLength(2);
+      const states = record.states!;
+      expect(states.map((s) => s.index)).toEqual([0, 1, 2, 3, 4, 5, 6, 7]);
+      expect(states.every((s) => s.level_incomplete === undefined)).toBe(true);
+      if (symmetries === 'none') expect(states.every((s) => s.mixture_of?.length === 8)).toBe(true);
+      // Each entry counted once: the average over the 8 copies is the level's mixture (ml-matrix).
+      const reference = referenceObservables(model, h, levels[0].probabilities);
+      for (let i = 0; i < model.sites; i++)
+        for (let n = 0; n < 2; n++) {
+          const mean = states.reduce((a, s) => a + s.observables.populations[i][n], 0) / states.length;
+          expect(Math.abs(mean - (reference.populations as number[][])[i][n])).toBeLessThan(1e-12);
+        }
+    }
+  });
+});
+
 describe('solve.observables = "each" and a level cut by solve.states', () => {
   it('marks the copies of a level the count cuts, and none when the whole space is solved', () => {
     const model = freeModel(3);
@@ -413,5 +440,33 @@ describe('solve.observables validation', () => {
       expect(error).toBeInstanceOf(SpecError);
       expect((error as SpecError).keyPath).toBe('solve.observables');
     }
+  });
+});
+
+describe('solve.observables = "each" in the memory estimate and the text', () => {
+  it('counts the one extra probability array of a pinned chain, in sectors or not', () => {
+    for (const symmetries of ['auto', 'none']) {
+      const raw = rawSpec(freeModel(4), 3, symmetries, TOLERANCE);
+      const each = planPoint(validateSpec(raw));
+      raw.solve.observables = 'ground';
+      const ground = planPoint(validateSpec(raw));
+      // One float64 per basis state (2^4 of them), refilled for each state's mixture.
+      expect(each.memory.parts.state_observables).toBe(8 * 16);
+      expect(ground.memory.parts.state_observables).toBeUndefined();
+      expect(each.memory.totalBytes - ground.memory.totalBytes).toBeGreaterThanOrEqual(8 * 16);
+    }
+  });
+
+  it('lists each state with its scalars and says which are mixtures and which levels are incomplete', () => {
+    const record = solveEach(rawSpec(freeModel(3), 5, 'none', TOLERANCE));
+    const text = describeRecord(record);
+    const head = text.split('\n').findIndex((l) => l.startsWith("each state's observables"));
+    expect(head).toBeGreaterThan(0);
+    const rows = text.split('\n').slice(head + 3, head + 8);
+    expect(rows.map((l) => l.trim().split(/\s+/)[0])).toEqual(['0', '1', '2', '3', '4']);
+    // Without sectors the 3-fold level (states 1..3) is one mixture; state 4 starts a level the count cuts.
+    for (const k of [1, 2, 3]) expect(rows[k]).toMatch(/mixture of 1, 2, 3$/);
+    expect(rows[4]).toMatch(/level incomplete$/);
+    expect(text).toMatch(/string width/);
   });
 });
