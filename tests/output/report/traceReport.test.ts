@@ -1,0 +1,272 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import type { Browser } from 'playwright-core';
+import { loadEvolveRun } from '../../../src/dynamics/evolveRun.js';
+import { renderTraceReport, type TraceReportInput } from '../../../src/output/report/traceReport.js';
+import { traceReportInputFromRun } from '../../../src/output/report/traceReportInputFromRun.js';
+import { writeDemoTraceReport } from '../../../src/demo/report.js';
+import { runCli } from '../../support/cli.js';
+import { launchBrowser } from '../../support/browser.js';
+
+// A single excitation on an XX chain: two levels per site, no microwave tunnelling, nearest-neighbour
+// exchange V only. By docs/model.md the exchange moves the one excited molecule to a neighbour with
+// amplitude V, so it is a free particle hopping on the chain (tight binding), and the population of
+// level 1 at site j is the textbook propagator |<j|exp(-iHt)|i>|^2 = J_{j-i}(2Vt)^2 (Bessel functions
+// of the first kind) until the front reaches the ends; with the ends, the method of images (the
+// chain's standing waves sin(k(j+1)), k = pi m/(L+1), summed by Poisson's formula) adds mirror
+// sources at -(i+2) and 2L-i, and repeats them with period 2(L+1).
+const SITES = 14;
+const START = 6;
+const V = 1;
+const STEPS = 40;
+const END = 4;
+
+const XX_SPEC = `
+[chain]
+sites = ${SITES}
+boundary = "open"
+[levels]
+count = 2
+tunnelling = 0
+[exchange]
+strength = ${V}
+range = "nearest"
+[evolve]
+initial = [${Array.from({ length: SITES }, (_, j) => (j === START ? 1 : 0)).join(', ')}]
+times = { from = 0, to = ${END}, steps = ${STEPS} }
+tolerance = 1e-10
+`;
+
+/** J_n(x) from its power series sum_k (-1)^k (x/2)^(2k+n) / (k! (k+n)!) (Abramowitz and Stegun 9.1.10). */
+function besselJ(n: number, x: number): number {
+  const order = Math.abs(n);
+  let term = 1;
+  for (let k = 1; k <= order; k++) term *= x / 2 / k;
+  let sum = term;
+  for (let k = 0; k < 200; k++) {
+    term *= -((x / 2) ** 2) / ((k + 1) * (k + 1 + order));
+    sum += term;
+    if (Math.abs(term) < 1e-18 * Math.max(1, Math.abs(sum))) break;
+  }
+  // J_{-n} = (-1)^n J_n (A&S 9.1.5).
+  return n < 0 && order % 2 === 1 ? -sum : sum;
+}
+
+/** <j|exp(-iHt)|i> = (-i)^d J_d(2Vt) on the infinite chain, d = j - i, as [re, im]. */
+function freeAmplitude(d: number, x: number): [number, number] {
+  const j = besselJ(d, x);
+  const phase = [
+    [1, 0],
+    [0, -1],
+    [-1, 0],
+    [0, 1],
+  ][((d % 4) + 4) % 4];
+  return [phase[0] * j, phase[1] * j];
+}
+
+/** The open chain's propagator by the method of images (see the header). */
+function openChainProbability(i: number, j: number, x: number, sites: number): number {
+  let re = 0;
+  let im = 0;
+  const period = 2 * (sites + 1);
+  for (let p = -3; p <= 3; p++) {
+    const direct = freeAmplitude(j - i + p * period, x);
+    const mirror = freeAmplitude(j + i + 2 + p * period, x);
+    re += direct[0] - mirror[0];
+    im += direct[1] - mirror[1];
+  }
+  return re * re + im * im;
+}
+
+const tmp = () => mkdtempSync(path.join(os.tmpdir(), 'rungchain-trace-report-'));
+
+let dir: string;
+let run: string;
+let input: TraceReportInput;
+let html: string;
+let evolveStderr: string;
+let browser: Browser;
+
+beforeAll(async () => {
+  // First, so that a missing browser is the one line that says how to get one.
+  browser = (await launchBrowser()).browser;
+  dir = tmp();
+  writeFileSync(path.join(dir, 'xx.toml'), XX_SPEC);
+  run = path.join(dir, 'run');
+  const evolved = runCli(['evolve', path.join(dir, 'xx.toml'), '--out', run]);
+  expect(evolved.code, evolved.stderr).toBe(0);
+  evolveStderr = evolved.stderr;
+  input = traceReportInputFromRun(loadEvolveRun(run));
+  html = renderTraceReport(input);
+});
+
+afterAll(async () => {
+  await browser?.close();
+});
+
+function svgOf(page: string, id: string): string {
+  const m = new RegExp(`<svg[^>]*data-plot="${id}"[\\s\\S]*?</svg>`).exec(page);
+  expect(m, `plot ${id}`).not.toBeNull();
+  return m![0];
+}
+
+describe('the report of a real trace run folder', () => {
+  it('draws the light cone with one row per recorded time and one column per site', () => {
+    const trace = input.traces[0];
+    expect(trace.times).toHaveLength(STEPS + 1);
+    expect(trace.levelMap).toHaveLength(STEPS + 1);
+    for (const row of trace.levelMap) expect(row).toHaveLength(SITES);
+    const map = svgOf(html, 'light-cone-0');
+    expect(map).toContain(`data-rows="${STEPS + 1}"`);
+    expect(map).toContain(`data-cols="${SITES}"`);
+    expect(map.match(/<rect class="cell"/g)).toHaveLength((STEPS + 1) * SITES);
+    // Pinned chains have no density map.
+    expect(html).not.toContain('data-plot="density-cone-0"');
+  });
+
+  it('carries site populations that follow J_{j-i}(2Vt)^2, and the open chain’s mirror images later', () => {
+    const trace = input.traces[0];
+    trace.times.forEach((t, k) => {
+      const x = 2 * V * t;
+      trace.levelMap[k].forEach((p, j) => {
+        // Two levels: the mean level is the population of level 1. The propagation is exact to its
+        // tolerance (1e-10 in the state, so at most about 2e-10 in a probability).
+        expect(Math.abs(p - openChainProbability(START, j, x, SITES)), `t = ${t}, site ${j}`).toBeLessThan(1e-9);
+        // Before the front reaches the ends (2Vt <= 1.5) the nearest mirror source is 8 sites away
+        // and J_8(1.5) < 3e-6 (series above): the infinite chain's formula holds to 1e-6.
+        if (x <= 1.5) expect(Math.abs(p - besselJ(j - START, x) ** 2), `t = ${t}, site ${j}`).toBeLessThan(1e-6);
+      });
+      // The return probability is the j = i case: J_0(2Vt)^2 on the infinite chain, with images here.
+      expect(Math.abs(trace.returnProbability[k] - openChainProbability(START, START, x, SITES))).toBeLessThan(1e-9);
+      // One excitation: string width (1/L) sum n_i^2 - (1/L^2)(sum n_i)^2 = 1/L - 1/L^2 (docs/model.md);
+      // the exchange has no diagonal, so the energy of a state with one excited site is 0 throughout.
+      expect(trace.stringWidth[k]).toBeCloseTo(1 / SITES - 1 / SITES ** 2, 12);
+      expect(Math.abs(trace.energy[k])).toBeLessThan(1e-9);
+    });
+    // The cone really opens: at 2Vt = 2 the starting site keeps J_0(2)^2 = 0.0501 (J_0(2) = 0.2239,
+    // from memory of the handbook's table), the rest has moved out.
+    expect(trace.levelMap[10][START]).toBeCloseTo(0.0501, 4);
+  });
+
+  it('plots the return probability, string width and energy against time, and the error bounds', () => {
+    for (const id of ['trace-return-probability', 'trace-string-width', 'trace-energy', 'trace-error-bound']) {
+      const svg = svgOf(html, id);
+      expect(svg).toContain('data-series="1"');
+      expect(svg).toContain(`data-points="${STEPS + 1}"`);
+    }
+    expect(html).toContain('<table class="trace-stats">');
+    // The spec summary: the sentence and the keys as run.
+    expect(html).toContain(`${SITES} sites (open chain) × 2 levels`);
+    expect(html).toContain('<code>exchange.strength</code>');
+    expect(html).not.toMatch(/<script|<link|<img|<iframe|@import|url\((?!#)/i);
+  });
+
+  it('opens in headless Chromium without console errors or requests, every cell drawn', async () => {
+    const file = path.join(dir, 'trace-report.html');
+    writeFileSync(file, html);
+    const page = await browser.newPage({ viewport: { width: 1280, height: 900 } });
+    const complaints: string[] = [];
+    const requests: string[] = [];
+    page.on('console', (m) => {
+      if (m.type() === 'error' || m.type() === 'warning') complaints.push(`${m.type()}: ${m.text()}`);
+    });
+    page.on('pageerror', (e) => complaints.push(`page error: ${e.message}`));
+    page.on('request', (r) => {
+      if (!r.url().startsWith('file://')) requests.push(r.url());
+    });
+    await page.goto(`file://${file}`, { waitUntil: 'load' });
+    const cells = await page.$$eval('svg[data-plot="light-cone-0"] rect.cell', (r) => r.length);
+    await page.close();
+    expect(complaints).toEqual([]);
+    expect(requests).toEqual([]);
+    expect(cells).toBe((STEPS + 1) * SITES);
+  }, 60_000);
+});
+
+describe('a run of several traces', () => {
+  it('draws a line per trace, a light cone per trace, and one trace with --point', () => {
+    const scanDir = tmp();
+    const spec = path.join(scanDir, 'scan.toml');
+    writeFileSync(
+      spec,
+      XX_SPEC.replace(`sites = ${SITES}`, 'sites = 6')
+        .replace(/initial = \[[^\]]*\]/, 'initial = [0, 0, 1, 0, 0, 0]')
+        .replace(`steps = ${STEPS}`, 'steps = 8') + '[[scan.axis]]\nkey = "exchange.strength"\nvalues = [0.5, 1]\n',
+    );
+    const out = path.join(scanDir, 'run');
+    expect(runCli(['evolve', spec, '--out', out, '--quiet']).code).toBe(0);
+    const contents = loadEvolveRun(out);
+    const both = renderTraceReport(traceReportInputFromRun(contents));
+    expect(svgOf(both, 'trace-return-probability')).toContain('data-series="2"');
+    expect(both).toContain('data-plot="light-cone-0"');
+    expect(both).toContain('data-plot="light-cone-1"');
+    const one = runCli(['report', out, '--point', '1', '--out', path.join(scanDir, 'one.html')]);
+    expect(one.code, one.stderr).toBe(0);
+    const page = readFileSync(path.join(scanDir, 'one.html'), 'utf8');
+    expect(page).toContain('data-plot="light-cone-1"');
+    expect(page).not.toContain('data-plot="light-cone-0"');
+  });
+});
+
+describe('report RUN on the command line', () => {
+  it('evolve --out ends by naming the report command', () => {
+    expect(evolveStderr).toMatch(new RegExp(`HTML report: .*report ${run.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}\\n`));
+  });
+
+  it('detects a trace folder and writes its report', () => {
+    const r = runCli(['report', run]);
+    expect(r.code, r.stderr).toBe(0);
+    expect(r.stdout).toContain(`report written to ${path.join(run, 'report.html')} (1 of 1 traces finished)`);
+    const page = readFileSync(path.join(run, 'report.html'), 'utf8');
+    expect(page).toContain('data-plot="light-cone-0"');
+    expect(page).not.toContain('id="indicators"');
+  });
+
+  it('refuses the flags of scan reports on a trace with one line naming the flag (exit 2)', () => {
+    for (const [flag, ...value] of [
+      ['--parameter', 'exchange.strength'],
+      ['--fit', 'E0'],
+      ['--power', '2'],
+      ['--terms', '3'],
+    ]) {
+      const r = runCli(['report', run, flag, ...value, '--out', path.join(dir, 'refused.html')]);
+      expect(r.code, flag).toBe(2);
+      expect(r.stderr.trim().split('\n'), flag).toHaveLength(1);
+      expect(r.stderr).toMatch(new RegExp(`^rungchain: ${flag}: applies to the report of a scan`));
+    }
+    const point = runCli(['report', run, '--point', '3', '--out', path.join(dir, 'refused.html')]);
+    expect(point.code).toBe(2);
+    expect(point.stderr).toMatch(/^rungchain: --point 3: no trace with recorded times has that index/);
+  });
+
+  it('still writes the scan report for a scan folder', () => {
+    const scanDir = tmp();
+    const spec = path.join(scanDir, 'scan.toml');
+    writeFileSync(
+      spec,
+      '[chain]\nsites = 4\n[levels]\ncount = 2\ntunnelling = 1\n[exchange]\nstrength = 1\n[[scan.axis]]\nkey = "exchange.strength"\nvalues = [0.5, 1, 2]\n',
+    );
+    const out = path.join(scanDir, 'run');
+    expect(runCli(['scan', spec, '--out', out, '--quiet']).code).toBe(0);
+    const r = runCli(['report', out, '--fit', 'E0']);
+    expect(r.code, r.stderr).toBe(0);
+    expect(r.stdout).toContain('(3 of 3 points)');
+    const page = readFileSync(path.join(out, 'report.html'), 'utf8');
+    expect(page).toContain('id="indicators"');
+    expect(page).not.toContain('light-cone');
+  });
+});
+
+describe('the demo trace report', () => {
+  it('is written for the invented quench and carries a light cone', () => {
+    const file = path.join(tmp(), 'demo-trace-report.html');
+    const lines: string[] = [];
+    writeDemoTraceReport((line) => lines.push(line), file);
+    expect(lines.join('\n')).toContain(path.resolve(file));
+    const page = readFileSync(file, 'utf8');
+    expect(page).toContain('data-plot="light-cone-0"');
+    expect(page).toContain('time t [ms]');
+  });
+});
