@@ -7,6 +7,7 @@ import { loadEvolveRun } from '../../../src/dynamics/evolveRun.js';
 import { renderTraceReport, type TraceReportInput } from '../../../src/output/report/traceReport.js';
 import { traceReportInputFromRun } from '../../../src/output/report/traceReportInputFromRun.js';
 import { writeDemoTraceReport } from '../../../src/demo/report.js';
+import { MAX_CELLS } from '../../../src/output/report/heatMap.js';
 import { runCli } from '../../support/cli.js';
 import { launchBrowser } from '../../support/browser.js';
 
@@ -183,6 +184,60 @@ describe('the report of a real trace run folder', () => {
     expect(requests).toEqual([]);
     expect(cells).toBe((STEPS + 1) * SITES);
   }, 60_000);
+});
+
+describe('an itinerant particle', () => {
+  it('draws the density against time, which follows the same propagator (hopping t in real space)', () => {
+    // One hard-core boson in level 0, no tunnelling: it hops between neighbouring sites with
+    // amplitude -t (docs/model.md), a free particle again, so <N_j>(t) = |<j|exp(-iHt)|i>|^2 with
+    // x = 2 t time (the sign of the hopping drops out of the probabilities).
+    const hopDir = tmp();
+    const sites = 10;
+    const start = 4;
+    const spec = path.join(hopDir, 'hop.toml');
+    writeFileSync(
+      spec,
+      `[chain]\nsites = ${sites}\nboundary = "open"\n[levels]\ncount = 2\ntunnelling = 0\n` +
+        '[particles]\nkind = "hardcore"\nnumber = 1\nhopping = 1\n' +
+        `[evolve]\ninitial = [${Array.from({ length: sites }, (_, j) => (j === start ? 0 : -1)).join(', ')}]\n` +
+        'times = { from = 0, to = 3, steps = 12 }\ntolerance = 1e-10\n',
+    );
+    const out = path.join(hopDir, 'run');
+    expect(runCli(['evolve', spec, '--out', out, '--quiet']).code).toBe(0);
+    const hop = traceReportInputFromRun(loadEvolveRun(out));
+    const trace = hop.traces[0];
+    expect(trace.densityMap).not.toBeNull();
+    trace.times.forEach((t, k) =>
+      trace.densityMap![k].forEach((n, j) =>
+        expect(Math.abs(n - openChainProbability(start, j, 2 * t, sites)), `t = ${t}, site ${j}`).toBeLessThan(1e-9),
+      ),
+    );
+    // The particle stays in level 0: no level to climb, only the density map is drawn.
+    const page = renderTraceReport(hop);
+    const map = svgOf(page, 'density-cone-0');
+    expect(map).toContain('data-rows="13"');
+    expect(map).toContain(`data-cols="${sites}"`);
+    expect(page).not.toContain('data-plot="light-cone-0"');
+  });
+});
+
+describe('long traces', () => {
+  it('average neighbouring times into at most MAX_CELLS rows, and say so', () => {
+    // The heat map's documented thinning: more than MAX_CELLS times are averaged in blocks.
+    const times = Array.from({ length: 3 * MAX_CELLS + 1 }, (_, k) => k * 0.01);
+    const long = {
+      ...input,
+      traces: [{ ...input.traces[0], times, timesMs: null, levelMap: times.map(() => Array<number>(SITES).fill(0.5)) }],
+    };
+    const map = svgOf(renderTraceReport(long), 'light-cone-0');
+    const rows = Number(/data-rows="(\d+)"/.exec(map)![1]);
+    expect(rows).toBeLessThanOrEqual(MAX_CELLS);
+    expect(rows).toBeGreaterThan(MAX_CELLS / 2);
+    expect(map).toContain(`data-cols="${SITES}"`);
+    expect(renderTraceReport(long)).toContain(
+      `${times.length} x ${SITES} grid averaged into at most ${MAX_CELLS} cells per side`,
+    );
+  });
 });
 
 describe('a run of several traces', () => {
