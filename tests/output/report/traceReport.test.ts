@@ -5,10 +5,22 @@ import path from 'node:path';
 import type { Browser } from 'playwright-core';
 import { loadEvolveRun } from '../../../src/dynamics/evolveRun.js';
 import { renderTraceReport, type TraceReportInput } from '../../../src/output/report/traceReport.js';
-import { traceReportInputFromRun } from '../../../src/output/report/traceReportInputFromRun.js';
+import { traceReportInput, traceReportInputFromRun } from '../../../src/output/report/traceReportInputFromRun.js';
 import { writeDemoTraceReport } from '../../../src/demo/report.js';
 import { MAX_CELLS } from '../../../src/output/report/heatMap.js';
 import { runCli } from '../../support/cli.js';
+import { clean, randomPinnedSpec } from '../../support/random.js';
+import { randomItinerantSpec } from '../../support/fockReference.js';
+import {
+  buildDense,
+  energyOf,
+  evolveDense,
+  groundMixture,
+  observablesFrom,
+  type ModelDescription,
+} from '../../support/occupationReference.js';
+import { planEvolution, runEvolution } from '../../../src/dynamics/evolution.js';
+import { validateSpec, type Spec } from '../../../src/spec/spec.js';
 import { launchBrowser } from '../../support/browser.js';
 
 // A single excitation on an XX chain: two levels per site, no microwave tunnelling, nearest-neighbour
@@ -218,6 +230,125 @@ describe('an itinerant particle', () => {
     expect(map).toContain('data-rows="13"');
     expect(map).toContain(`data-cols="${sites}"`);
     expect(page).not.toContain('data-plot="light-cone-0"');
+  });
+});
+
+// ---------------------------------------------------------------------------------------------
+// Differential: what the report draws per site, against the dense build of docs/model.md
+
+/** The dense reference's description of a validated spec (tests/support/occupationReference.ts). */
+function modelOf(spec: Spec): ModelDescription {
+  return {
+    sites: spec.chain.sites,
+    periodic: spec.chain.boundary === 'periodic',
+    levels: spec.levels.count,
+    ring: spec.levels.boundary === 'ring',
+    tunnelling: spec.levels.tunnelling,
+    phase: spec.levels.phase,
+    detuning: spec.levels.detuning,
+    exchange: spec.exchange.strength,
+    exchangeRange: spec.exchange.range,
+    exchangeCutoff: Number.isFinite(spec.exchange.cutoff) ? spec.exchange.cutoff : null,
+    weights: spec.exchange.weights,
+    ising: spec.ising.strength,
+    moments: spec.ising.moments,
+    isingRange: spec.ising.range,
+    isingCutoff: Number.isFinite(spec.ising.cutoff) ? spec.ising.cutoff : null,
+    kind: spec.particles.kind,
+    particles: spec.particles.kind === 'pinned' ? spec.chain.sites : spec.particles.number,
+    hopping: spec.particles.hopping,
+    maxPerSite: spec.particles.maxPerSite,
+    onsite: spec.particles.onsite,
+  };
+}
+
+const DIFFERENTIAL_CASES: { name: string; raw: () => Record<string, unknown>; initial: number[] }[] = [
+  { name: 'pinned, 3 sites x 3 levels', raw: () => clean(randomPinnedSpec(71, 3, 3)), initial: [0, 2, 1] },
+  { name: 'pinned, 4 sites x 2 levels', raw: () => clean(randomPinnedSpec(72, 4, 2)), initial: [1, 0, 0, 1] },
+  {
+    name: 'hard-core bosons, 4 sites x 2 levels, 2 particles',
+    raw: () => randomItinerantSpec(73, 'hardcore', 4, 2, 2, { complex: true }),
+    initial: [-1, 1, 0, -1],
+  },
+  {
+    name: 'soft-core bosons, 3 sites x 2 levels, 2 particles',
+    raw: () => randomItinerantSpec(74, 'boson', 3, 2, 2, { maxPerSite: 2 }),
+    initial: [0, -1, 1],
+  },
+  {
+    name: 'fermions, 3 sites x 3 levels, 2 particles',
+    raw: () => randomItinerantSpec(75, 'fermion', 3, 3, 2, { complex: true }),
+    initial: [2, -1, 0],
+  },
+  {
+    // Degenerate: nothing moves the particles, every level of the product state stays put.
+    name: 'pinned, no coupling at all',
+    raw: () => ({
+      chain: { sites: 3 },
+      levels: { count: 3, tunnelling: 0 },
+      exchange: { strength: 0 },
+    }),
+    initial: [2, 0, 1],
+  },
+];
+
+describe('the report’s per-site maps against a dense build of docs/model.md', () => {
+  it.each(DIFFERENTIAL_CASES)('$name', ({ raw: make, initial }) => {
+    const raw = make();
+    delete (raw.solve as Record<string, unknown> | undefined)?.entanglement;
+    const times = [0, 0.4, 1.1];
+    raw.evolve = { initial, times, tolerance: 1e-11 };
+    const spec = validateSpec(structuredClone(raw));
+    const result = runEvolution(planEvolution(raw, spec));
+    const report = traceReportInput({
+      title: 'differential',
+      about: [],
+      spec: raw,
+      traces: [
+        {
+          point: 0,
+          params: {},
+          status: 'done',
+          frames: result.frames.map((f) => ({ ...f, time_ms: null })),
+          stats: result.stats,
+          notes: [],
+        },
+      ],
+      keys: [],
+      energyUnitHz: null,
+    });
+    const view = report.traces[0];
+    const model = modelOf(spec);
+    const h = buildDense(model);
+    const g = groundMixture(h, 1e-10);
+    const N = model.levels;
+    const start = h.configs.findIndex((occ) =>
+      initial.every((n, i) => (n < 0 ? occ.slice(i * N, i * N + N).every((k) => k === 0) : occ[i * N + n] === 1)),
+    );
+    expect(start).toBeGreaterThanOrEqual(0);
+    const re0 = new Float64Array(h.dim);
+    const im0 = new Float64Array(h.dim);
+    re0[start] = 1;
+    times.forEach((t, k) => {
+      const psi = evolveDense(h, g, re0, im0, t);
+      const p = psi.re.map((x, s) => x * x + psi.im[s] * psi.im[s]);
+      const ref = observablesFrom(model, h.configs, p);
+      // The map's quantity by its definition: the level summed over the particles at each site.
+      const summed = ref.populations.map((row) => row.reduce((sum, q, n) => sum + n * q, 0));
+      view.levelMap[k].forEach((v, i) => expect(Math.abs(v - summed[i]), `t = ${t}, site ${i}`).toBeLessThan(1e-8));
+      if (model.kind === 'pinned') {
+        expect(view.densityMap).toBeNull();
+        // For pinned chains it is the mean level.
+        view.levelMap[k].forEach((v, i) => expect(Math.abs(v - ref.level_mean[i])).toBeLessThan(1e-8));
+      } else {
+        view.densityMap![k].forEach((v, i) => expect(Math.abs(v - ref.density[i])).toBeLessThan(1e-8));
+      }
+      expect(Math.abs(view.returnProbability[k] - (psi.re[start] ** 2 + psi.im[start] ** 2))).toBeLessThan(1e-8);
+      expect(Math.abs(view.stringWidth[k] - ref.string_width)).toBeLessThan(1e-8);
+      expect(Math.abs(view.energy[k] - energyOf(h, psi.re, psi.im))).toBeLessThan(1e-8);
+    });
+    expect(view.times).toEqual(times);
+    expect(view.errorBound).toHaveLength(times.length);
   });
 });
 
