@@ -128,10 +128,12 @@ export function registerEvolveCommands(program: Command): void {
           }
         }
         for (const note of outcome.notes) process.stderr.write(`rungchain: note: ${note}\n`);
-        if (outcome.dir && !opts.quiet)
+        if (outcome.dir && !opts.quiet) {
           process.stderr.write(
             `run folder ${outcome.dir} (${commandLine(['trace', outcome.dir])} --csv | --json | --long)\n`,
           );
+          process.stderr.write(`HTML report: ${commandLine(['report', outcome.dir])}\n`);
+        }
         const failed = outcome.traces.filter((t) => t.status === 'failed');
         if (failed.length > 0) {
           const what =

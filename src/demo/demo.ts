@@ -7,7 +7,7 @@ import { solvePoint } from '../point/solvePoint.js';
 import { fmt, table } from '../format/tables.js';
 import { observableValue } from '../analysis/transitions.js';
 import { runDynamicsDemo } from './dynamics.js';
-import { DEMO_REPORT_FILE, writeDemoReport } from './report.js';
+import { DEMO_REPORT_FILE, DEMO_TRACE_REPORT_FILE, writeDemoReport, writeDemoTraceReport } from './report.js';
 import path from 'node:path';
 import { DEMO_SPEC } from './spec.js';
 
@@ -17,7 +17,9 @@ export function runDemo(print: (line: string) => void, program = 'rungchain'): v
   print('between its rotational levels, dipolar exchange V between neighbours (rigid-rotor weights).');
   print('As V/J grows the molecules bind into one string in the synthetic dimension: its width stays');
   print('small and stops growing with the number of levels N.');
-  print(`It writes one file, an HTML report, under the current folder: ${path.resolve(DEMO_REPORT_FILE)}`);
+  print(
+    `It writes two HTML reports under the current folder: ${path.resolve(DEMO_REPORT_FILE)} and ${path.resolve(DEMO_TRACE_REPORT_FILE)}`,
+  );
   print('');
   const rows: string[][] = [];
   for (const V of [0.5, 1, 2, 3, 4, 6]) {
@@ -36,6 +38,7 @@ export function runDemo(print: (line: string) => void, program = 'rungchain'): v
   print('');
   print('');
   runDynamicsDemo(print);
+  writeDemoTraceReport(print);
   print('');
   writeDemoReport(print);
   print('');

@@ -47,6 +47,8 @@ export interface LinePlot {
   includeZeroX?: boolean;
   /** Draw x on a log scale (a log-spaced scan axis); ignored when some x is not positive. */
   logX?: boolean;
+  /** Rounding of the y values in absolute terms: a curve that varies less is drawn flat (a conserved energy of 0). */
+  yNoise?: number;
 }
 
 /** Margins around the plot area: room for the tick labels and the axis titles. */
@@ -103,7 +105,9 @@ export function renderLinePlot(plot: LinePlot): string {
   // A curve flat to rounding (a symmetric model's mean level, say) is drawn flat, not as magnified noise.
   const yMagnitude = Math.max(...ys.map(Math.abs));
   const ySpan = Math.max(...ys) - Math.min(...ys);
-  const yPad = ySpan > 1e-6 * yMagnitude ? ySpan * 0.04 : Math.max(1e-3 * yMagnitude, 1e-12);
+  const noise = plot.yNoise ?? 0;
+  const yPad =
+    ySpan > Math.max(1e-6 * yMagnitude, noise) ? ySpan * 0.04 : Math.max(1e-3 * yMagnitude, 1e6 * noise, 1e-12);
   const yt = niceTicks(Math.min(...ys) - yPad, Math.max(...ys) + yPad);
   const x0 = Math.min(xt.lo, xt.ticks[0] ?? xt.lo);
   const x1 = Math.max(xt.hi, xt.ticks[xt.ticks.length - 1] ?? xt.hi);

@@ -20,11 +20,10 @@ import { sectorKey, sectorText } from '../../analysis/crossings.js';
 import type { SectorLabel } from '../../symmetry/group.js';
 import type { FitResult } from '../../analysis/fits.js';
 import { HEAT_MAP_SCALARS, POINT_SCALARS, observableEntry, pointScalar } from '../../observables/catalogue.js';
-import { esc, section } from './html.js';
+import { esc, reportDocument, section } from './html.js';
 import { MAX_SERIES, renderLinePlot } from './linePlot.js';
 import { renderHeatMap } from './heatMap.js';
 import { evenlyChosen } from './thinning.js';
-import { REPORT_STYLE } from './style.js';
 
 /** Populations drawn for a chosen point: larger chains are cut to this many sites. */
 export const MAX_POPULATION_SITES = 64;
@@ -94,7 +93,7 @@ function subscript(digits: string): string {
   return [...digits].map((d) => '₀₁₂₃₄₅₆₇₈₉'[Number(d)]).join('');
 }
 
-interface Units {
+export interface Units {
   /** Label of an energy: "model units" or "h·kHz". */
   energy: string;
   /** Factor from model energy units to the shown unit. */
@@ -104,7 +103,8 @@ interface Units {
   exchangeRange: 'nearest' | 'dipolar' | null;
 }
 
-function unitsOf(energyUnitHz: number | null, exchangeRange: Units['exchangeRange'] = null): Units {
+/** How energies are shown: in model units, or in h·kHz when the run has one laboratory energy unit. */
+export function unitsOf(energyUnitHz: number | null, exchangeRange: Units['exchangeRange'] = null): Units {
   if (energyUnitHz === null) return { energy: 'ε', energyScale: 1, lab: false, exchangeRange };
   return { energy: 'h·kHz', energyScale: energyUnitHz / 1e3, lab: true, exchangeRange };
 }
@@ -128,7 +128,8 @@ function axisTitle(a: AxisUnit): string {
   return a.unit ? `${a.label} [${a.unit}]` : a.label;
 }
 
-function showParams(params: ScanParams, units: Units): string {
+/** Scanned parameters as a reader writes them: symbols, values in the shown units. */
+export function showParams(params: ScanParams, units: Units): string {
   const parts = Object.entries(params).map(([k, v]) => {
     const info = keyInfo(k, units);
     const scaled = typeof v === 'number' && info.kind === 'energy' ? v * units.energyScale : v;
@@ -912,34 +913,12 @@ function reportPage(context: ReportContext, sections: string[]): string {
   const notes = [...analysis.notes];
   if (failed > 0)
     notes.push(`${failed} of ${input.points.length} points have no result (failed or not yet run); they are left out.`);
-  const toc = sections
-    .map((s) => /<section id="([^"]+)"><h2>([^<]+)<\/h2>/.exec(s))
-    .filter((m): m is RegExpExecArray => m !== null)
-    .map((m) => `<a href="#${m[1]}">${m[2]}</a>`)
-    .join(' · ');
-  return `<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="utf-8">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<title>${esc(input.title)}</title>
-<style>${REPORT_STYLE}</style>
-</head>
-<body>
-<header>
-<h1>${esc(input.title)}</h1>
-${input.about.map((a) => `<p class="about">${esc(a)}</p>`).join('\n')}
-<p class="about">Scan: ${esc(axesText)}; ${done.length} of ${input.points.length} points solved. ${esc(unitText)}</p>
-${notes.map((n) => `<p class="note">${esc(n)}</p>`).join('\n')}
-<nav>${toc}</nav>
-</header>
-<main>
-${sections.join('\n')}
-</main>
-<footer><p>Written by rungchain. Self-contained: no scripts, nothing fetched.</p></footer>
-</body>
-</html>
-`;
+  return reportDocument({
+    title: input.title,
+    about: [...input.about, `Scan: ${axesText}; ${done.length} of ${input.points.length} points solved. ${unitText}`],
+    notes,
+    sections,
+  });
 }
 
 /** The report page: every section the scan has something for, in this order. */

@@ -268,13 +268,15 @@ describe('the demo report', () => {
 });
 
 describe('the demo on the command line', () => {
-  it('says in its first lines where it writes its report, and writes it there', () => {
+  it('says in its first lines where it writes its reports, and writes them there', () => {
     const cwd = mkdtempSync(path.join(os.tmpdir(), 'rungchain-demo-'));
     const r = runCli(['demo'], { cwd });
     expect(r.code, r.stderr).toBe(0);
-    const expected = path.join(cwd, 'runs', 'demo-report.html');
-    expect(r.stdout.split('\n').slice(0, 6).join('\n')).toContain(expected);
-    expect(readFileSync(expected, 'utf8')).toMatch(/^<!DOCTYPE html>/i);
+    for (const name of ['demo-report.html', 'demo-trace-report.html']) {
+      const expected = path.join(cwd, 'runs', name);
+      expect(r.stdout.split('\n').slice(0, 6).join('\n')).toContain(expected);
+      expect(readFileSync(expected, 'utf8')).toMatch(/^<!DOCTYPE html>/i);
+    }
   }, 120_000);
 });
 
