@@ -4,6 +4,7 @@ import { loadSpec } from '../../src/spec/spec.js';
 import { planPoint, solvePoint, type PointPlan } from '../../src/point/solvePoint.js';
 import { assertWritableFile, plannedStatesFileBytes, writeStatesFile } from '../../src/point/stateFile.js';
 import { buildModel } from '../../src/model/model.js';
+import { describeGeometry } from '../../src/model/geometryText.js';
 import { InputError } from '../../src/errors/errors.js';
 import { formatBytes } from '../../src/format/bytes.js';
 import type { SectorProgress } from '../../src/symmetry/sectorSolve.js';
@@ -36,6 +37,8 @@ export function registerSolveCommands(program: Command): void {
       const plan = planPoint(spec, { maxMemory: limit, groundStates: false });
       console.log(describePlan(plan, limit));
       console.log(describeWork(spec, plan).join('\n'));
+      // Where the molecules sit and what couples them, for a spec that describes its sites with [lattice].
+      if (spec.extra.lattice) console.log(describeGeometry(plan.model).join('\n'));
       if (plan.memory.totalBytes > limit)
         console.log('solve would refuse this problem: the estimate exceeds the limit');
       if (opts.saveStates || opts.saveStatesAll) console.log(describeStatesFile(plan, spec.solve.states, opts));

@@ -4,7 +4,7 @@
 //
 //   key                      required  default
 //   -----------------------  --------  -------------------------------------------------
-//   chain.sites              yes       -
+//   chain.sites              yes       -                   (unless [lattice] describes the sites: src/spec/lattice.ts)
 //   chain.boundary                     "open"              ("open" | "periodic")
 //   levels.count             yes       -
 //   levels.boundary                    "open"              ("open" | "ring")

@@ -57,6 +57,25 @@ describe('rungchain command line', () => {
     expect(missing.stderr.trim().split('\n')).toHaveLength(1);
   });
 
+  it('a [lattice] spec: check prints the geometry, solve runs, a bad lattice key is one line naming it', () => {
+    const square = 'tests/fixtures/tilted-square.toml';
+    const c = runCli(['check', square]);
+    expect(c.code).toBe(0);
+    expect(c.stdout).toMatch(/geometry: square, 6 sites, field \[0\.707107, 0, 0\.707107\]/);
+    expect(c.stdout).toMatch(/^5 +2 +1 +0$/m);
+    // 15 pairs: along x at 1 and 2 (factor 1 - 3/2), along y at 1 (factor 1), diagonals at sqrt 2 and sqrt 5.
+    expect(c.stdout).toMatch(/exchange V_ij: 15 coupled pairs, 5 distinct values/);
+    const r = runCli(['solve', square, '--json']);
+    expect(r.code).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.basis.dimension).toBe(64);
+    expect(out.observables.level_structure_factor).toBeNull();
+    const bad = runCli(['check', square, '--set', 'lattice.size=[3]']);
+    expect(bad.code).toBe(2);
+    expect(bad.stderr.trim().split('\n')).toHaveLength(1);
+    expect(bad.stderr).toMatch(/^rungchain: lattice\.size: /);
+  });
+
   it('check sizes the problem, and solve refuses what exceeds the memory limit', () => {
     const c = runCli(['check', fixture, '--set', 'chain.sites=20', '--set', 'solve.symmetries="none"']);
     expect(c.code).toBe(0);

@@ -4,6 +4,7 @@
 import { describe, expect, it } from 'vitest';
 import { buildModel, nearestNeighbourBonds, pairCouplings, type PairList } from '../../src/model/model.js';
 import { pairIndex } from '../../src/model/lattice.js';
+import { describeGeometry, distinctCouplings } from '../../src/model/geometryText.js';
 import { validateSpec } from '../../src/spec/spec.js';
 import { rng } from '../support/random.js';
 
@@ -196,5 +197,30 @@ describe('geometry', () => {
     );
     expect(Array.from(model.hoppingBonds.i)).toEqual([0]);
     expect(Array.from(model.hoppingBonds.j)).toEqual([2]);
+  });
+});
+
+describe('the geometry as check prints it', () => {
+  it('lists sites with positions, bonds, and the distinct coupling values with their pair counts', () => {
+    // 2x2 open square, field along z: four sides at distance 1 (1 - 0 = 1) and two diagonals at
+    // sqrt 2 (1 / 2^(3/2)), by V (1 - 3 cos^2 theta) / r^3 with theta = 90 degrees.
+    const model = buildModel(
+      validateSpec({
+        lattice: { shape: 'square', size: [2, 2] },
+        levels: { count: 2 },
+        exchange: { strength: 2, range: 'dipolar' },
+        particles: { kind: 'hardcore', number: 2, hopping: 1 },
+      }),
+    );
+    const groups = distinctCouplings(model.exchangePairs);
+    expect(groups.map((g) => g.pairs)).toEqual([4, 2]);
+    expect(groups[0].value).toBe(2);
+    expect(groups[1].value).toBeCloseTo(2 / 2 ** 1.5, 14);
+    const text = describeGeometry(model).join('\n');
+    expect(text).toContain('geometry: square, 4 sites, field [0, 0, 1]');
+    expect(text).toMatch(/^3 +1 +1 +0$/m);
+    expect(text).toContain('hopping bonds (nearest neighbours): 4: 0-1 0-2 1-3 2-3');
+    expect(text).toContain('exchange V_ij: 6 coupled pairs, 2 distinct values');
+    expect(text).toContain('diagonal term W_ij: no coupled pair');
   });
 });

@@ -30,6 +30,13 @@ export interface ModelDescription {
   hopping: number;
   maxPerSite: number;
   onsite: number;
+  /**
+   * Sites anywhere (issue 19): the pair factor f_ij (i < j, read as factors[i][j]) of the exchange
+   * and of the diagonal term, and the hopping bonds, replacing the chain's f(r) and bonds when given.
+   */
+  exchangeFactors?: number[][];
+  isingFactors?: number[][];
+  bonds?: [number, number][];
 }
 
 export interface DenseModel {
@@ -46,7 +53,9 @@ function coupling(
   m: ModelDescription,
   range: 'nearest' | 'dipolar',
   cutoff: number | null,
+  factors?: number[][],
 ): number {
+  if (factors) return factors[i][j];
   const d = Math.abs(i - j);
   const r = m.periodic ? Math.min(d, m.sites - d) : d;
   if (range === 'nearest') return r === 1 ? 1 : 0;
@@ -144,7 +153,7 @@ export function buildDense(m: ModelDescription): DenseModel {
   }
   for (let i = 0; i < L; i++) {
     for (let j = i + 1; j < L; j++) {
-      const v = m.exchange * coupling(i, j, m, m.exchangeRange, m.exchangeCutoff);
+      const v = m.exchange * coupling(i, j, m, m.exchangeRange, m.exchangeCutoff, m.exchangeFactors);
       if (v === 0) continue;
       for (let n = 0; n <= N - 2; n++) {
         const c = v * m.weights[n];
@@ -163,9 +172,9 @@ export function buildDense(m: ModelDescription): DenseModel {
     }
   }
   if (m.kind !== 'pinned' && m.hopping !== 0) {
-    const bonds: [number, number][] = [];
-    for (let i = 0; i + 1 < L; i++) bonds.push([i, i + 1]);
-    if (m.periodic) bonds.push([L - 1, 0]);
+    const bonds: [number, number][] = m.bonds ? [...m.bonds] : [];
+    if (!m.bonds) for (let i = 0; i + 1 < L; i++) bonds.push([i, i + 1]);
+    if (m.periodic && !m.bonds) bonds.push([L - 1, 0]);
     for (const [i, j] of bonds)
       for (let n = 0; n < N; n++)
         terms.push([
@@ -192,7 +201,7 @@ export function buildDense(m: ModelDescription): DenseModel {
     }
     for (let i = 0; i < L; i++)
       for (let j = i + 1; j < L; j++)
-        diag += m.ising * coupling(i, j, m, m.isingRange, m.isingCutoff) * moment[i] * moment[j];
+        diag += m.ising * coupling(i, j, m, m.isingRange, m.isingCutoff, m.isingFactors) * moment[i] * moment[j];
     if (m.kind === 'boson') for (let i = 0; i < L; i++) diag += (m.onsite / 2) * count[i] * (count[i] - 1);
     re[s * dim + s] += diag;
     for (const [cr, ci, ops] of terms) {

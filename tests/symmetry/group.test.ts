@@ -75,6 +75,20 @@ describe('symmetry detection', () => {
     expect(intact.used.level_flip).toBe(true);
   });
 
+  it('off a chain: no translation or reflection (site i -> i+1 is no lattice symmetry), charge and level flip still found', () => {
+    // A 3x2 open square of two-level molecules with exchange and a level-antisymmetric
+    // diagonal term: the total level is conserved and n -> 1-n maps H to itself (common practice).
+    const { used } = usedFrom(
+      validateSpec({
+        lattice: { shape: 'square', size: [3, 2] },
+        levels: { count: 2, tunnelling: 0 },
+        exchange: { strength: 1, range: 'dipolar' },
+        ising: { strength: 0.4, moments: [-0.5, 0.5] },
+      }),
+    );
+    expect(used).toEqual({ translation: false, reflection: false, charge: true, level_flip: true });
+  });
+
   it('a symmetry named by the user that the model lacks is an error naming solve.symmetries', () => {
     const spec = validateSpec({ chain: { sites: 4 }, levels: { count: 3 }, solve: { symmetries: ['translation'] } });
     expect(() => solvePoint(spec)).toThrow(/solve\.symmetries/);
