@@ -344,19 +344,6 @@ describe('random small 2D specs against the dense reference (ml-matrix)', () => 
     const tolerance = 1e-10;
     const g = groundMixture(h, tolerance);
     const record = solve(spec);
-    console.log(
-      'DIAG',
-      spec.lattice.shape,
-      model.kind,
-      h.dim,
-      g.degeneracy,
-      record.solver.method,
-      JSON.stringify(record.solver.symmetries ?? null),
-      JSON.stringify(model.exchangeFactors).length,
-      spec.lattice.field,
-      spec.lattice.vacancies ?? '',
-      spec.lattice.boundary ?? '',
-    );
     expect(record.basis.dimension).toBe(h.dim);
     expect(record.solver.converged).toBe(true);
     const wanted = Math.min(spec.solve.states as number, h.dim);
