@@ -44,7 +44,7 @@ export interface Observable {
   record?: Presence;
   /** In every recorded time of a trace. */
   trace?: Presence;
-  /** Written one value per row by the long summaries of scans and of traces. */
+  /** Written one value per row by the long summaries of scans and of traces (a per-momentum one with m in `site`). */
   long?: readonly ('scan' | 'trace')[];
   /** A per-site observable that summaries, reports and fits read as its mean over sites. */
   siteMean?: boolean;
@@ -153,6 +153,7 @@ export const OBSERVABLES: readonly Observable[] = [
     energy: false,
     unit: 'levels²',
     record: 'every kind',
+    long: ['scan'],
   },
   {
     name: 'return_probability',

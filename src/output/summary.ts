@@ -116,12 +116,13 @@ export function summaryCsv(summary: ScanRunSummary): string {
 }
 
 // ---------------------------------------------------------------------------------------------
-// Long format: per-site and per-level observables
+// Long format: per-site, per-level, per-site-pair and per-momentum observables
 
 export interface LongRow {
   index: number;
   params: ScanParams;
   observable: string;
+  /** Site i; for per-momentum observables (level_structure_factor) the momentum index m, q = 2 pi m / L. */
   site: number;
   /** Level n for per-site-and-level observables (populations); null otherwise. */
   level: number | null;
@@ -152,6 +153,7 @@ export function longRows(summary: ScanRunSummary): LongRow[] {
           }),
         );
       else
+        // Per site, or per momentum with m where the site goes (absent, null, on open chains).
         (values as number[]).forEach((value, i) =>
           out.push({ ...base, observable: name, site: i, level: null, other_site: null, value }),
         );
