@@ -34,7 +34,9 @@ export function registerSolveCommands(program: Command): void {
         console.log(describeScan(raw, spec, limit, defaultWorkerCount()));
         return;
       }
-      const plan = planPoint(spec, { maxMemory: limit, groundStates: false });
+      // Sized as the solve that saves them runs: states kept on the full space count.
+      const keepStates = opts.saveStates || opts.saveStatesAll ? (opts.saveStatesAll ? 'all' : 'ground') : undefined;
+      const plan = planPoint(spec, { maxMemory: limit, groundStates: false, keepStates });
       console.log(describePlan(plan, limit));
       console.log(describeWork(spec, plan).join('\n'));
       // Where the molecules sit and what couples them, for a spec that describes its sites with [lattice].
@@ -69,6 +71,7 @@ export function registerSolveCommands(program: Command): void {
         onProgress: progress ? (info) => progress.update(info) : undefined,
         groundStates: false,
         keepStates: opts.saveStates ? (opts.saveStatesAll ? 'all' : 'ground') : undefined,
+        keepStatesName: '--save-states',
       });
       progress?.done();
       if (opts.saveStates && kept) writeStatesFile(opts.saveStates, kept, record, buildModel(spec));

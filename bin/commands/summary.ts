@@ -26,7 +26,7 @@ export function registerSummaryCommands(program: Command): void {
     .argument('<run>', 'run folder')
     .option('--csv', 'tidy CSV on stdout')
     .option('--json', 'JSON array on stdout, one object per point')
-    .option('--long', 'per-site and per-level observables, one value per row')
+    .option('--long', 'per-site, per-level and per-momentum observables, one value per row')
     .option('--by <axis>', 'spread one scan axis into columns, side by side (e.g. --by particles.kind, or --by kind)')
     .option(
       '--analysis',

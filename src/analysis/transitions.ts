@@ -10,7 +10,7 @@ import { detectCrossings, sectorText, type Crossing, type CrossingPoint } from '
 import { finiteSizeFit, type FitResult } from './fits.js';
 import { transitionIndicators, type Indicator, type IndicatorName, type Peak } from './indicators.js';
 import { gapAboveGround, type PointRecord } from '../point/solvePoint.js';
-import { energyIndex, observableEntry, POINT_SCALARS } from '../observables/catalogue.js';
+import { energyIndex, observableEntry, POINT_SCALARS, pointScalar } from '../observables/catalogue.js';
 import type { ScanParams, ScanValue } from '../scan/plan.js';
 import type { ScanRunSummary } from '../scan/scanRun.js';
 import { columnScale, csv, fmt, fmtNoise, table } from '../format/tables.js';
@@ -79,12 +79,50 @@ export interface PeakFit {
  */
 export const PEAK_FIT_CHI2_LIMIT = 4;
 
+/**
+ * The scale observable fits' residuals are measured against, as a fraction of the spread of the
+ * fitted values over the sizes. Observables are exact to the solver's precision, so no statistical
+ * error sets the scale of a residual; what matters for an extrapolation is whether the law follows
+ * the finite-size change it extrapolates. With sigma = 1% of that change and the limit of 4 on
+ * chi2/dof (as for peak positions), a fit is poor when its rms residual exceeds 2% of the change.
+ */
+export const OBSERVABLE_FIT_RESOLUTION = 0.01;
+/** chi2/dof (with sigma from OBSERVABLE_FIT_RESOLUTION) above which an observable fit is flagged: the peak fits' limit. */
+export const OBSERVABLE_FIT_CHI2_LIMIT = PEAK_FIT_CHI2_LIMIT;
+
 export interface ObservableFit {
   observable: string;
   size: string;
   /** Values of every axis but the size (the parameter included). */
   fixed: ScanParams;
   fit: FitResult;
+  /**
+   * sigma of the fit check: OBSERVABLE_FIT_RESOLUTION times the spread of the values over the sizes,
+   * at least 1e-9 of their largest magnitude (values equal to rounding are not a trend).
+   */
+  residual_scale: number;
+  /** sum (residual / residual_scale)^2 / dof, compared with OBSERVABLE_FIT_CHI2_LIMIT; null without degrees of freedom. */
+  scaled_chi2_dof: number | null;
+  /**
+   * Warnings: `outside_range` when the fitted value at infinite size (a0) lies outside the values the
+   * observable can take (a gap or entropy below 0, a condensate fraction above 1; see the catalogue's
+   * `range`), `poor_fit` when `scaled_chi2_dof` exceeds OBSERVABLE_FIT_CHI2_LIMIT.
+   */
+  flags: ('outside_range' | 'poor_fit')[];
+}
+
+/** An observable fit with its check: the residual scale, chi2/dof against it, and the flags. */
+function checkedObservableFit(observable: string, size: string, fixed: ScanParams, fit: FitResult): ObservableFit {
+  const spread = Math.max(...fit.values) - Math.min(...fit.values);
+  const magnitude = Math.max(...fit.values.map(Math.abs));
+  const scale = Math.max(OBSERVABLE_FIT_RESOLUTION * spread, 1e-9 * magnitude, Number.MIN_VALUE);
+  const scaled = fit.dof > 0 ? fit.residuals.reduce((sum, r) => sum + (r / scale) ** 2, 0) / fit.dof : null;
+  const range = pointScalar(observable)?.range;
+  const a0 = fit.coefficients[0];
+  const flags: ObservableFit['flags'] = [];
+  if (range && (a0 < range[0] || a0 > range[1])) flags.push('outside_range');
+  if (scaled !== null && scaled > OBSERVABLE_FIT_CHI2_LIMIT) flags.push('poor_fit');
+  return { observable, size, fixed, fit, residual_scale: scale, scaled_chi2_dof: scaled, flags };
 }
 
 export interface ScanAnalysis {
@@ -339,7 +377,7 @@ export function analyseScan(input: AnalysisInput, options: AnalysisOptions = {})
           usable.map((u) => u.value),
           { power, terms, lowerBound: name === 'gap' ? 0 : undefined },
         );
-        observableFits.push({ observable: name, size, fixed: pick(group[0].params, fixedKeys), fit });
+        observableFits.push(checkedObservableFit(name, size, pick(group[0].params, fixedKeys), fit));
       }
     }
   }
@@ -430,9 +468,16 @@ export function analysisText(analysis: ScanAnalysis): string {
     fit.residuals.map((r) => fmt(r, 2)).join(', '),
     fit.dof > 0 ? fmt(fit.chi2 / fit.dof, 3) : '-',
   ];
-  const flagText = (flags: PeakFit['flags']) =>
-    flags.map((f) => (f === 'outside_scan' ? 'outside the scan' : `chi2/dof > ${PEAK_FIT_CHI2_LIMIT}`)).join(', ') ||
-    '-';
+  const flagText = (flags: (PeakFit['flags'][number] | ObservableFit['flags'][number])[]) =>
+    flags
+      .map((f) =>
+        f === 'outside_scan'
+          ? 'outside the scan'
+          : f === 'outside_range'
+            ? 'outside the possible values'
+            : `chi2/dof > ${PEAK_FIT_CHI2_LIMIT}`,
+      )
+      .join(', ') || '-';
   if (analysis.peak_fits.length > 0) {
     out.push('');
     const variable = SIZE_AXES[analysis.peak_fits[0].size];
@@ -465,12 +510,19 @@ export function analysisText(analysis: ScanAnalysis): string {
   if (analysis.observable_fits.length > 0) {
     out.push('');
     out.push(
-      `finite-size fits of observables: value = a0 + a1 x${analysis.terms > 2 ? ' + a2 x^2 ...' : ''}, x = 1/size^${analysis.power}; errors from the residual scatter`,
+      `finite-size fits of observables: value = a0 + a1 x${analysis.terms > 2 ? ' + a2 x^2 ...' : ''}, x = 1/size^${analysis.power}; errors from the residual scatter; chi2/dof with sigma = ${OBSERVABLE_FIT_RESOLUTION * 100}% of the values' spread over the sizes`,
     );
     out.push(
       table(
-        ['observable', 'size', 'fixed', 'sizes', 'extrapolated', 'a1...', 'residuals', 'chi2/dof'],
-        analysis.observable_fits.map((f) => [f.observable, SIZE_AXES[f.size], showParams(f.fixed), ...fitRows(f.fit)]),
+        ['observable', 'size', 'fixed', 'sizes', 'extrapolated', 'a1...', 'residuals', 'chi2/dof', 'warnings'],
+        analysis.observable_fits.map((f) => [
+          f.observable,
+          SIZE_AXES[f.size],
+          showParams(f.fixed),
+          ...fitRows(f.fit).slice(0, -1),
+          f.scaled_chi2_dof === null ? '-' : fmt(f.scaled_chi2_dof, 3),
+          flagText(f.flags),
+        ]),
       ),
     );
   }
@@ -485,7 +537,8 @@ export function analysisText(analysis: ScanAnalysis): string {
  * on one line), `crossing` (a level crossing on one line; `refined` holds whether it is interpolated),
  * `peak_fit` (peak positions against 1/size^p) or `observable_fit`; the scanned axes
  * hold the values a row is taken at (empty where the row spans the axis); the remaining columns are
- * empty where they do not apply. Coefficients, sizes and residuals are `;`-separated lists.
+ * empty where they do not apply. Coefficients, sizes and residuals are `;`-separated lists; `flags`
+ * are a fit's warnings, `scaled_chi2_dof` an observable fit's chi2/dof against its residual scale.
  */
 export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string {
   const header = [
@@ -510,6 +563,7 @@ export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string 
     'from',
     'to',
     'flags',
+    'scaled_chi2_dof',
   ];
   const list = (values: number[]) => values.join(';');
   const rows: unknown[][] = [];
@@ -533,6 +587,7 @@ export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string 
         c ? sectorText(c.from) : null,
         c ? sectorText(c.to) : null,
         null,
+        null,
       ]);
     }
     for (const c of line.crossings) {
@@ -550,6 +605,7 @@ export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string 
         null,
         sectorText(c.from),
         sectorText(c.to),
+        null,
         null,
       ]);
     }
@@ -580,6 +636,7 @@ export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string 
       null,
       null,
       f.flags.join(';'),
+      null,
     ]);
   }
   for (const f of analysis.observable_fits) {
@@ -597,7 +654,8 @@ export function analysisCsv(analysis: ScanAnalysis, axisKeys: string[]): string 
       null,
       null,
       null,
-      null,
+      f.flags.join(';'),
+      f.scaled_chi2_dof,
     ]);
   }
   return csv(header, rows);

@@ -44,7 +44,7 @@ export interface Observable {
   record?: Presence;
   /** In every recorded time of a trace. */
   trace?: Presence;
-  /** Written one value per row by the long summaries of scans and of traces. */
+  /** Written one value per row by the long summaries of scans and of traces (a per-momentum one with m in `site`). */
   long?: readonly ('scan' | 'trace')[];
   /** A per-site observable that summaries, reports and fits read as its mean over sites. */
   siteMean?: boolean;
@@ -52,6 +52,8 @@ export interface Observable {
   secondary?: boolean;
   /** A per-site-pair observable whose diagonal is not zero: long rows include it. */
   diagonal?: boolean;
+  /** The values it can take as a scalar (or a site mean): a fit extrapolating outside them is flagged. */
+  range?: readonly [number, number];
 }
 
 export const OBSERVABLES: readonly Observable[] = [
@@ -77,6 +79,7 @@ export const OBSERVABLES: readonly Observable[] = [
     trace: 'every kind',
     long: ['scan', 'trace'],
     siteMean: true,
+    range: [0, Infinity],
   },
   {
     name: 'spread',
@@ -90,6 +93,7 @@ export const OBSERVABLES: readonly Observable[] = [
     long: ['scan', 'trace'],
     siteMean: true,
     secondary: true,
+    range: [0, Infinity],
   },
   {
     name: 'density',
@@ -122,6 +126,7 @@ export const OBSERVABLES: readonly Observable[] = [
     unit: 'levels²',
     record: 'every kind',
     trace: 'every kind',
+    range: [0, Infinity],
   },
   {
     name: 'pair_separation',
@@ -153,6 +158,7 @@ export const OBSERVABLES: readonly Observable[] = [
     energy: false,
     unit: 'levels²',
     record: 'every kind',
+    long: ['scan'],
   },
   {
     name: 'return_probability',
@@ -202,6 +208,7 @@ export const OBSERVABLES: readonly Observable[] = [
     unit: '',
     record: 'itinerant kinds',
     trace: 'itinerant kinds',
+    range: [0, 1],
   },
   {
     name: 'momentum_distribution',
@@ -278,6 +285,8 @@ export interface PointScalar {
   /** When summaries and reports offer it: always (even before any point is solved), for every solved point, or when the point has a value. */
   offered: 'always' | 'every point' | 'with a value';
   secondary: boolean;
+  /** The values it can take (a level mean's upper end, N - 1, varies and is left open); unbounded when absent. */
+  range?: readonly [number, number];
 }
 
 function subscript(digits: string): string {
@@ -317,6 +326,7 @@ const DERIVED_SCALARS: readonly PointScalar[] = [
     unit: '',
     offered: 'with a value',
     secondary: false,
+    range: [0, Infinity],
   },
   {
     name: 'entropy',
@@ -326,6 +336,7 @@ const DERIVED_SCALARS: readonly PointScalar[] = [
     unit: 'nats',
     offered: 'with a value',
     secondary: false,
+    range: [0, Infinity],
   },
   {
     name: 'renyi_2',
@@ -335,6 +346,7 @@ const DERIVED_SCALARS: readonly PointScalar[] = [
     unit: 'nats',
     offered: 'with a value',
     secondary: true,
+    range: [0, Infinity],
   },
 ];
 
@@ -347,6 +359,7 @@ function scalarOf(o: Observable, siteMean: boolean): PointScalar {
     unit: o.unit,
     offered: siteMean ? 'every point' : 'with a value',
     secondary: o.secondary ?? false,
+    ...(o.range ? { range: o.range } : {}),
   };
 }
 

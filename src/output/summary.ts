@@ -132,7 +132,7 @@ function eachStateScalars(rows: SummaryRow[]): { state: number; name: string }[]
 }
 
 // ---------------------------------------------------------------------------------------------
-// Long format: per-site and per-level observables
+// Long format: per-site, per-level, per-site-pair and per-momentum observables
 
 export interface LongRow {
   index: number;
@@ -140,6 +140,7 @@ export interface LongRow {
   /** The state whose own observables these are (solve.observables = "each"); null for the ground level's. */
   state: number | null;
   observable: string;
+  /** Site i; for per-momentum observables (level_structure_factor) the momentum index m, q = 2 pi m / L. */
   site: number;
   /** Level n for per-site-and-level observables (populations); null otherwise. */
   level: number | null;
@@ -182,6 +183,7 @@ function pushLongRows(
         }),
       );
     else
+      // Per site, or per momentum with m where the site goes (absent, null, on open chains).
       (values as number[]).forEach((value, i) =>
         out.push({ ...base, observable: name, site: i, level: null, other_site: null, value }),
       );

@@ -129,7 +129,8 @@ export function largestSector(
  * Peak memory of a sector-by-sector solve: the runtime and its helper threads, the orbit maps over
  * the full basis (a representative index and a group element per state), the ground-state
  * probabilities, the largest sector's stored matrix and Krylov basis, full-space ground states
- * when they are handed back, and the typed arrays waiting for a garbage collection.
+ * when they are handed back, every solved state on the full space when they are saved, and the
+ * typed arrays waiting for a garbage collection.
  */
 export function estimateSectorMemory(opts: {
   dim: number;
@@ -145,6 +146,11 @@ export function estimateSectorMemory(opts: {
   expandGround?: boolean;
   /** Observables of each state (solve.observables = "each"): one full-space probability array, refilled for each state's mixture. */
   eachState?: boolean;
+  /**
+   * Solved states expanded to the full space to be saved (`--save-states-all`: every one, as
+   * interleaved complex vectors); the ground level's copies alone are the `ground_states`.
+   */
+  savedStates?: number;
 }): MemoryEstimate {
   const { dim, model, used } = opts;
   const concurrent = opts.concurrent ?? 1;
@@ -166,6 +172,7 @@ export function estimateSectorMemory(opts: {
   };
   if (opts.expandGround ?? dim <= 1 << 22) parts.ground_states = 2 * dim * 16;
   if (opts.eachState) parts.state_observables = dim * BYTES_PER_DOUBLE;
+  if ((opts.savedStates ?? 0) > 0) parts.saved_states = opts.savedStates! * dim * 16;
   let data = 0;
   for (const [k, v] of Object.entries(parts)) if (k !== 'runtime' && k !== 'helper_threads') data += v;
   parts.awaiting_gc = Math.min(SECTOR_GARBAGE_BYTES, 4 * data);

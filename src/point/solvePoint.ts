@@ -71,6 +71,8 @@ export interface SolveOptions {
   groundStates?: boolean;
   /** Keep states for saving: the ground level's copies, or every solved state (on the full space). */
   keepStates?: 'ground' | 'all';
+  /** How the user asks for `keepStates` (the command line's flag), named when the states cannot be kept. */
+  keepStatesName?: string;
 }
 
 /**
@@ -95,7 +97,13 @@ const SIDE_BY_SIDE_MIN_STATES = 1 << 19;
  */
 export function planPoint(
   spec: Spec,
-  limits: { maxMemory?: number; threads?: number; groundStates?: boolean } = {},
+  limits: {
+    maxMemory?: number;
+    threads?: number;
+    groundStates?: boolean;
+    /** States kept for saving: the ground level's copies are expanded to the full space, with 'all' every solved state too. */
+    keepStates?: 'ground' | 'all';
+  } = {},
 ): PointPlan {
   const model = buildModel(spec);
   const dimension = basisDimension(model);
@@ -115,9 +123,11 @@ export function planPoint(
             spec.solve.threads === 'auto' ? Infinity : spec.solve.threads,
           );
     const limit = limits.maxMemory ?? defaultMemoryLimit();
+    // As solvePinnedInSectors decides.
     const expandGround =
       (limits.groundStates !== false && dimension <= EXPAND_LIMIT) ||
-      (model.kind === 'pinned' && cutsFor(spec.solve.entanglement, model.sites, model.levels).length > 0);
+      (model.kind === 'pinned' && cutsFor(spec.solve.entanglement, model.sites, model.levels).length > 0) ||
+      limits.keepStates !== undefined;
     const estimate = (concurrent: number) =>
       estimateSectorMemory({
         dim: dimension,
@@ -129,6 +139,7 @@ export function planPoint(
         productThreads: threadsFor(nnz),
         expandGround,
         eachState: spec.solve.observables === 'each',
+        savedStates: limits.keepStates === 'all' ? states : 0,
       });
     let sectorThreads = Math.max(1, allowed);
     let memory = estimate(sectorThreads);
@@ -238,6 +249,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
     maxMemory: options.maxMemory,
     threads: options.threads,
     groundStates: options.keepStates ? true : options.groundStates,
+    keepStates: options.keepStates,
   });
   assertWithinMemory(plan.memory, options.maxMemory ?? defaultMemoryLimit(), 'this problem', options.memoryLimitName);
   const basis = buildBasis(plan.model);
@@ -374,6 +386,12 @@ function solvePinnedInSectors(
   const model = plan.model;
   const states = Math.min(spec.solve.states, basis.dim);
   const cuts = cutsFor(spec.solve.entanglement, basis.sites, basis.levels);
+  const groundCopies = groundCopiesCap(
+    states,
+    (model.isComplex ? 16 : 8) * basis.dim,
+    plan.memory.totalBytes,
+    options.maxMemory,
+  );
   const solution = solveInSectors(model, basis, plan.used!, {
     states,
     ...solveSettings(spec.solve),
@@ -387,12 +405,7 @@ function solvePinnedInSectors(
     threadsFor: (work: number) => productThreads(spec, options, work),
     sectorThreads: plan.sectorThreads,
     onProgress: options.onProgress,
-    groundCopies: groundCopiesCap(
-      states,
-      (model.isComplex ? 16 : 8) * basis.dim,
-      plan.memory.totalBytes,
-      options.maxMemory,
-    ),
+    groundCopies,
   });
   // Callers get ground states in the model's own arithmetic: a real H has a real ground space,
   // spanned by the real and imaginary parts of its complex sector states.
@@ -444,7 +457,8 @@ function solvePinnedInSectors(
     sectors: solution.labels.map(labelled),
     states: each,
   });
-  return { record, groundStates, kept: keptFromSectors(options.keepStates, model, solution, groundStates) };
+  const keep = { which: options.keepStates, name: options.keepStatesName, copies: Math.max(states, groundCopies) };
+  return { record, groundStates, kept: keptFromSectors(keep, model, solution, groundStates) };
 }
 
 /**
@@ -475,20 +489,27 @@ function stateRecords(
 }
 
 function keptFromSectors(
-  which: 'ground' | 'all' | undefined,
+  keep: { which: 'ground' | 'all' | undefined; name: string | undefined; copies: number },
   model: Model,
   solution: SectorSolution,
   groundStates: Float64Array[],
 ): KeptStates | undefined {
+  const { which } = keep;
   if (!which) return undefined;
   if (which === 'all') {
     const all = solution.allStates!;
     return { which, vectors: all.vectors, interleaved: true, energies: all.energies, labels: all.labels };
   }
-  if (groundStates.length === 0)
+  if (groundStates.length === 0) {
+    const most =
+      keep.copies >= GROUND_COPIES_CAP
+        ? `more than the ${GROUND_COPIES_CAP} that are ever expanded to the full space`
+        : `more than the ${keep.copies} that fit in memory on the full space`;
     throw new ResourceError(
-      `the ground level has ${solution.degeneracy} copies, more than fit in memory on the full space; its states cannot be saved`,
+      `the ground level has ${solution.degeneracy} copies, ${most}; ` +
+        (keep.name ? `${keep.name} cannot save its states` : 'its states cannot be saved'),
     );
+  }
   // The ground space's basis may mix sectors (a real basis of a k, -k pair), so rows carry no sector.
   const e0 = solution.energies[0];
   return {

@@ -2,7 +2,15 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { analyseScan, analysisText, observableValue, type AnalysisInput } from '../../src/analysis/transitions.js';
+import {
+  OBSERVABLE_FIT_CHI2_LIMIT,
+  analyseScan,
+  analysisCsv,
+  analysisText,
+  observableValue,
+  type AnalysisInput,
+} from '../../src/analysis/transitions.js';
+import { renderReport } from '../../src/output/report/report.js';
 import { fidelitySusceptibility, findPeak } from '../../src/analysis/indicators.js';
 import { InputError } from '../../src/errors/errors.js';
 import type { PointRecord } from '../../src/point/solvePoint.js';
@@ -108,6 +116,9 @@ describe('analysis of a scan in memory', () => {
       expect(f.fit.coefficients[0]).toBeCloseTo(-0.01, 10);
     }
     expect(analysisText(analysis)).toMatch(/\b0 ± [^\n]*\(fit -0\.01\)/);
+    // A gap cannot be negative: the fit's a0 = -0.01 left the values it can take.
+    for (const f of analysis.observable_fits) expect(f.flags).toEqual(['outside_range']);
+    expect(analysisText(analysis)).toContain('outside the possible values');
   });
 
   it('names what it cannot do', () => {
@@ -123,6 +134,87 @@ describe('analysis of a scan in memory', () => {
     });
     expect(along.overlaps).toBe(false);
     expect(along.notes.join(' ')).toMatch(/innermost axis/);
+  });
+});
+
+// Observable fits get the peak fits' check: chi2/dof, with sigma = 1% of the values' spread over
+// the sizes, above the limit flags `poor_fit`. Data from a known law: E0/L = 1 + 2/L^2 lies on the
+// fitted form a0 + a1/L^2 (least squares reproduces it exactly; textbook), while an added 1/L term
+// (E0/L = 1 + 2/L^2 + c/L) bends it away from the straight line in 1/L^2.
+describe('finite-size fits of observables: the chi2/dof check', () => {
+  const sizes = [4, 6, 8, 10];
+  const inputFor = (law: (L: number) => number): AnalysisInput => ({
+    axes: [{ key: 'chain.sites', values: sizes }],
+    zip: false,
+    points: sizes.map((L, index) => ({
+      index,
+      params: { 'chain.sites': L },
+      record: record(L, L * law(L), 0.1),
+      overlapPrevious: null,
+    })),
+  });
+
+  /** A straight-line least-squares fit y = a + b x by the closed form (Numerical Recipes, 3rd ed., sec. 15.2), its chi2/dof with sigma. */
+  function straightLineChi2(x: number[], y: number[], sigma: number): number {
+    const n = x.length;
+    const sx = x.reduce((s, v) => s + v, 0);
+    const sy = y.reduce((s, v) => s + v, 0);
+    const sxx = x.reduce((s, v) => s + v * v, 0);
+    const sxy = x.reduce((s, v, i) => s + v * y[i], 0);
+    const b = (n * sxy - sx * sy) / (n * sxx - sx * sx);
+    const a = (sy - b * sx) / n;
+    return y.reduce((s, v, i) => s + ((v - a - b * x[i]) / sigma) ** 2, 0) / (n - 2);
+  }
+
+  it('a law of the fitted form passes: chi2/dof near 0, no flags', () => {
+    const analysis = analyseScan(
+      inputFor((L) => 1 + 2 / L ** 2),
+      { fit: ['E0/L'], power: 2 },
+    );
+    const [fit] = analysis.observable_fits;
+    expect(fit.fit.extrapolated).toBeCloseTo(1, 12);
+    expect(fit.scaled_chi2_dof).toBeLessThan(1e-12);
+    expect(fit.flags).toEqual([]);
+    // sigma: 1% of the spread of the values, 2/16 - 2/100 (from the law).
+    expect(fit.residual_scale).toBeCloseTo(0.01 * (2 / 16 - 2 / 100), 14);
+  });
+
+  it('an added 1/L term is a poor fit: chi2/dof from the closed-form line fit, above the limit, flagged everywhere', () => {
+    const law = (L: number) => 1 + 2 / L ** 2 + 1 / L;
+    const analysis = analyseScan(inputFor(law), { fit: ['E0/L'], power: 2 });
+    const [fit] = analysis.observable_fits;
+    const values = sizes.map(law);
+    const sigma = 0.01 * (Math.max(...values) - Math.min(...values));
+    const expected = straightLineChi2(
+      sizes.map((L) => 1 / L ** 2),
+      values,
+      sigma,
+    );
+    expect(fit.scaled_chi2_dof).toBeCloseTo(expected, 8);
+    expect(expected).toBeGreaterThan(OBSERVABLE_FIT_CHI2_LIMIT);
+    expect(fit.flags).toEqual(['poor_fit']);
+    // The extrapolation it gives is 8% off the true a = 1 (the closed-form fit's intercept, 1.080).
+    expect(fit.fit.extrapolated).toBeCloseTo(1.08, 2);
+    expect(analysisText(analysis)).toContain(`chi2/dof > ${OBSERVABLE_FIT_CHI2_LIMIT}`);
+    // CSV: the flags and the scaled chi2/dof on the observable_fit row.
+    const [header, row] = analysisCsv(analysis, ['chain.sites'])
+      .trim()
+      .split('\n')
+      .map((l) => l.split(','));
+    const cell = (name: string) => row[header.indexOf(name)];
+    expect(cell('kind')).toBe('observable_fit');
+    expect(cell('flags')).toBe('poor_fit');
+    expect(Number(cell('scaled_chi2_dof'))).toBe(fit.scaled_chi2_dof);
+    // The report's fit table warns.
+    const html = renderReport({ ...inputFor(law), title: 't', about: [], analysis, energyUnitHz: null });
+    expect(html).toContain(`χ²/dof above ${OBSERVABLE_FIT_CHI2_LIMIT}`);
+    // A small 1/L term (c = 0.1) bends the line too little to flag: chi2/dof about 0.58 by the closed form.
+    const mild = analyseScan(
+      inputFor((L) => 1 + 2 / L ** 2 + 0.1 / L),
+      { fit: ['E0/L'], power: 2 },
+    );
+    expect(mild.observable_fits[0].scaled_chi2_dof).toBeCloseTo(0.578, 2);
+    expect(mild.observable_fits[0].flags).toEqual([]);
   });
 });
 

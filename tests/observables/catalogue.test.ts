@@ -187,6 +187,7 @@ describe('readers write observables in a fixed order', () => {
       'spread',
       'pair_separation',
       'level_correlation',
+      'level_structure_factor',
       'density',
       'double_occupancy',
     ]);
@@ -198,7 +199,26 @@ describe('readers write observables in a fixed order', () => {
       'double_occupancy',
       'pair_separation',
       'level_correlation',
+      'level_structure_factor',
     ]);
+    // Rows per point: L*N populations, L level means and spreads, L(L-1)/2 pair separations,
+    // L(L+1)/2 level correlations, L structure factors on a ring (none on an open chain, where it is
+    // null), and L densities and pair counts for itinerant kinds; L = 3, N = 2 here.
+    const rowsOf = (record: PointRecord, kind: string) => longRows(scanOf([record], [kind])).length;
+    expect(rowsOf(pinned, 'pinned')).toBe(6 + 3 + 3 + 3 + 6 + 3);
+    expect(rowsOf(itinerant, 'hardcore')).toBe(6 + 3 + 3 + 3 + 3 + 3 + 6 + 3);
+    expect(rowsOf(openFermions, 'fermion')).toBe(6 + 3 + 3 + 3 + 3 + 3 + 6);
+    expect(longRows(scanOf([pinned], ['pinned'])).filter((r) => r.observable === 'level_structure_factor')).toEqual(
+      pinned.observables.level_structure_factor!.map((value, m) => ({
+        index: 0,
+        params: { 'particles.kind': 'pinned' },
+        observable: 'level_structure_factor',
+        site: m,
+        level: null,
+        other_site: null,
+        value,
+      })),
+    );
     expect(sideBySide(scanOf([itinerant, pinned], ['hardcore', 'pinned']), 'kind').quantities).toEqual([
       'E0',
       'gap',

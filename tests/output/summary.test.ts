@@ -152,11 +152,15 @@ describe('rungchain summary', () => {
     const json: Row[] = JSON.parse(runCli(['summary', run, '--json']).stdout);
     const long: Row[] = JSON.parse(runCli(['summary', run, '--long', '--json']).stdout);
     const done = json.filter((x) => x.status === 'done');
-    // L*N populations, L level means, L spreads, L(L-1)/2 pair separations and L(L+1)/2 level
-    // correlations (diagonal included) per point.
+    // L*N populations, L level means, L spreads, L(L-1)/2 pair separations, L(L+1)/2 level
+    // correlations (diagonal included) and, on this ring, L structure factors (m = 0..L-1) per point.
     expect(long).toHaveLength(
-      done.length * (SITES * LEVELS + 2 * SITES + (SITES * (SITES - 1)) / 2 + (SITES * (SITES + 1)) / 2),
+      done.length * (SITES * LEVELS + 3 * SITES + (SITES * (SITES - 1)) / 2 + (SITES * (SITES + 1)) / 2),
     );
+    for (const x of done)
+      expect(
+        long.filter((r) => r.index === x.index && r.observable === 'level_structure_factor').map((r) => r.site),
+      ).toEqual([0, 1, 2, 3]);
     for (const x of done) {
       const mine = long.filter((r) => r.index === x.index);
       for (const r of mine) {
@@ -182,6 +186,12 @@ describe('rungchain summary', () => {
       'value',
     ]);
     expect(csv).toHaveLength(long.length + 1);
+    expect(csv.filter((row) => row[3] === 'level_structure_factor')).toHaveLength(done.length * SITES);
+    // The readable table: the same rows under a header line.
+    const text = runCli(['summary', run, '--long']).stdout;
+    expect(text.split('\n').filter((line) => /\blevel_structure_factor\b/.test(line))).toHaveLength(
+      done.length * SITES,
+    );
   });
 
   it('the readable table lists every point and the reasons of failures', () => {

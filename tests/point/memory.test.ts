@@ -38,12 +38,17 @@ describe('memory estimates', () => {
       const { planPoint, solvePoint } = await import(${JSON.stringify(path.join(ROOT, 'dist/src/point/solvePoint.js'))});
       const { validateSpec } = await import(${JSON.stringify(path.join(ROOT, 'dist/src/spec/spec.js'))});
       const spec = validateSpec(JSON.parse(process.argv[1]));
-      const estimate = planPoint(spec, { groundStates: false }).memory.totalBytes;
-      solvePoint(spec, { groundStates: false });
+      const keepStates = process.argv[2] || undefined;
+      const estimate = planPoint(spec, { groundStates: false, keepStates }).memory.totalBytes;
+      solvePoint(spec, { groundStates: false, keepStates });
       const peak = Number(/VmHWM:\\s+(\\d+) kB/.exec(readFileSync('/proc/self/status', 'utf8'))[1]) * 1024;
       console.log(JSON.stringify({ estimate, peak }));`;
-      for (const c of cases) {
-        const r = spawnSync(process.execPath, ['--input-type=module', '-e', child, JSON.stringify(c)], {
+      // Solves that keep states for saving (solve --save-states): every solved state, on the full space.
+      const keeping = [spec(10), spec(9, { solve: { states: 6, entanglement: 'none' } })].map(
+        (c) => [c, 'all'] as const,
+      );
+      for (const [c, keep] of [...cases.map((c) => [c, ''] as const), ...keeping]) {
+        const r = spawnSync(process.execPath, ['--input-type=module', '-e', child, JSON.stringify(c), keep], {
           encoding: 'utf8',
         });
         expect(r.status, r.stderr).toBe(0);
@@ -69,6 +74,26 @@ describe('memory estimates', () => {
     const s = validateSpec(spec(10));
     expect(planPoint(s).memory.parts.ground_states).toBe(2 * 3 ** 10 * 16);
     expect(planPoint(s, { groundStates: false }).memory.parts.ground_states).toBeUndefined();
+  });
+
+  it('counts the states kept for saving after a sector solve: the ground level, or every solved state', () => {
+    const s = validateSpec(spec(10));
+    const dim = 3 ** 10;
+    const plain = planPoint(s, { groundStates: false }).memory.parts;
+    expect(plain.saved_states).toBeUndefined();
+    // --save-states: the ground level's copies are expanded to the full space even when the caller
+    // does not want ground states otherwise.
+    const ground = planPoint(s, { groundStates: false, keepStates: 'ground' }).memory.parts;
+    expect(ground.ground_states).toBe(2 * dim * 16);
+    expect(ground.saved_states).toBeUndefined();
+    // --save-states-all: every one of the 4 solved states as an interleaved complex vector of the
+    // full space, 16 bytes an entry (complex128; common practice).
+    const all = planPoint(s, { groundStates: false, keepStates: 'all' });
+    expect(all.used).not.toBeNull();
+    expect(all.memory.parts.saved_states).toBe(4 * dim * 16);
+    // A full-space solve keeps its eigenvectors anyway: they are already the `eigenvectors` part.
+    const full = validateSpec(spec(8, { solve: { states: 4, entanglement: 'none', symmetries: 'none' } }));
+    expect(planPoint(full, { keepStates: 'all' }).memory.parts).toEqual(planPoint(full).memory.parts);
   });
 });
 

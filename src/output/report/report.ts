@@ -8,6 +8,8 @@ import type { PointRecord } from '../../point/solvePoint.js';
 import type { ScanParams } from '../../scan/plan.js';
 import { fmt } from '../../format/tables.js';
 import {
+  OBSERVABLE_FIT_CHI2_LIMIT,
+  OBSERVABLE_FIT_RESOLUTION,
   PEAK_FIT_CHI2_LIMIT,
   SIZE_AXES,
   availableObservables,
@@ -189,7 +191,7 @@ function cutNote(shown: number, total: number): string {
 }
 
 function fitTable(
-  allRows: { label: string; fit: FitResult; warnings?: string }[],
+  allRows: { label: string; fit: FitResult; warnings?: string; chi2PerDof?: number | null }[],
   variable: string,
   valueUnit: string,
 ): string {
@@ -198,13 +200,13 @@ function fitTable(
   const head = `<tr><th>what</th><th>sizes ${esc(variable)}</th><th>extrapolated ${esc(variable)} → ∞${valueUnit ? ` [${esc(valueUnit)}]` : ''}</th><th>coefficients a₁…</th><th>residuals</th><th>χ²/dof</th>${warned ? '<th>warnings</th>' : ''}</tr>`;
   const body = rows
     .map(
-      ({ label, fit, warnings }) =>
+      ({ label, fit, warnings, chi2PerDof }) =>
         `<tr><td>${esc(label)}</td><td>${fit.sizes.join(', ')}</td><td>${esc(fmt(fit.extrapolated, 7))} ± ${fit.extrapolated_error === null ? '?' : esc(fmt(fit.extrapolated_error, 2))}</td><td>${fit.coefficients
           .slice(1)
           .map((c, k) => `${esc(fmt(c, 5))}${fit.errors[k + 1] !== null ? ` ± ${esc(fmt(fit.errors[k + 1], 2))}` : ''}`)
           .join(
             '; ',
-          )}</td><td>${fit.residuals.map((r) => esc(fmt(r, 2))).join(', ')}</td><td>${fit.dof > 0 ? esc(fmt(fit.chi2 / fit.dof, 3)) : '-'}</td>${warned ? `<td class="warn">${esc(warnings || '-')}</td>` : ''}</tr>`,
+          )}</td><td>${fit.residuals.map((r) => esc(fmt(r, 2))).join(', ')}</td><td>${chi2PerDof !== undefined ? (chi2PerDof === null ? '-' : esc(fmt(chi2PerDof, 3))) : fit.dof > 0 ? esc(fmt(fit.chi2 / fit.dof, 3)) : '-'}</td>${warned ? `<td class="warn">${esc(warnings || '-')}</td>` : ''}</tr>`,
     )
     .join('');
   return `<table class="fits">${head}${body}</table>${cutNote(rows.length, allRows.length)}`;
@@ -752,6 +754,14 @@ function observableFitFigures(context: ReportContext, power: number, powerText: 
           fits.map((f) => ({
             label: `${observable}${Object.keys(f.fixed).length ? ` (${lineName(f.fixed)})` : ''}`,
             fit: f.fit,
+            chi2PerDof: f.scaled_chi2_dof,
+            warnings: f.flags
+              .map((w) =>
+                w === 'outside_range'
+                  ? 'extrapolated outside the values it can take'
+                  : `χ²/dof above ${OBSERVABLE_FIT_CHI2_LIMIT}`,
+              )
+              .join(', '),
           })),
           v,
           unit,
@@ -773,7 +783,7 @@ function fitsSection(context: ReportContext): string | null {
       'fits',
       'Finite-size trends',
       fitParts,
-      `Weighted least squares y = a₀ + a₁ x${analysis.terms > 2 ? ' + a₂ x² …' : ''} with x = 1/size${powerText}; a₀ is the value extrapolated to infinite size. Peak positions are weighted by their grid uncertainty; observables equally, with errors from the residual scatter.`,
+      `Weighted least squares y = a₀ + a₁ x${analysis.terms > 2 ? ' + a₂ x² …' : ''} with x = 1/size${powerText}; a₀ is the value extrapolated to infinite size. Peak positions are weighted by their grid uncertainty; observables equally, with errors from the residual scatter. A fit is flagged when χ²/dof exceeds ${PEAK_FIT_CHI2_LIMIT} (for observables, exact to the solver's precision, with σ = ${OBSERVABLE_FIT_RESOLUTION * 100}% of the values' spread over the sizes) or when it extrapolates outside the scanned range (peaks) or the values the observable can take.`,
     );
   }
   return null;

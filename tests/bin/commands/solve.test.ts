@@ -6,6 +6,8 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { runCli } from '../../support/cli.js';
 import { FileSystemError } from '../../../src/errors/errors.js';
 import { assertWritableFile } from '../../../src/point/stateFile.js';
+import { planPoint } from '../../../src/point/solvePoint.js';
+import { validateSpec } from '../../../src/spec/spec.js';
 
 const folder = fs.mkdtempSync(path.join(os.tmpdir(), 'rungchain-save-'));
 afterAll(() => fs.rmSync(folder, { recursive: true, force: true }));
@@ -50,6 +52,50 @@ describe('solve --save-states', () => {
     expect(r.stderr).toContain(bad);
     expect(() => assertWritableFile(bad)).toThrow(FileSystemError);
     expect(() => assertWritableFile(folder)).toThrow(FileSystemError);
+  });
+
+  // A chain with nothing on (no tunnelling, no exchange) has H = 0: every basis state is a ground
+  // state, a ground level of levels^sites copies (elementary).
+  const flat = (sites: number) => {
+    const file = path.join(folder, `flat${sites}.json`);
+    fs.writeFileSync(
+      file,
+      JSON.stringify({
+        chain: { sites, boundary: 'periodic' },
+        levels: { count: 2, tunnelling: 0 },
+        exchange: { strength: 0 },
+        solve: { states: 1 },
+      }),
+    );
+    return file;
+  };
+
+  it('a ground level with more copies than are expanded is refused naming --save-states, exit code 2', () => {
+    // 2^7 = 128 copies, more than the 64 ever expanded to the full space.
+    const r = runCli(['solve', flat(7), '--save-states', path.join(folder, 'flat7.npy')]);
+    expect(r.code).toBe(2);
+    expect(r.stderr.trim()).toBe(
+      'rungchain: the ground level has 128 copies, more than the 64 that are ever expanded to the full space; --save-states cannot save its states',
+    );
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+  });
+
+  it('a ground level with more copies than fit in the memory limit is refused naming --save-states', () => {
+    const file = flat(4);
+    // Without a tight limit its 2^4 = 16 copies are saved.
+    const saved = path.join(folder, 'flat4.npy');
+    expect(runCli(['solve', file, '--save-states', saved]).code).toBe(0);
+    expect(JSON.parse(fs.readFileSync(`${saved}.json`, 'utf8')).shape).toEqual([16, 16]);
+    // A limit 100 bytes above the estimate leaves room for no copy beyond the one state asked for.
+    const estimate = planPoint(validateSpec(JSON.parse(fs.readFileSync(file, 'utf8'))), {
+      groundStates: false,
+      keepStates: 'ground',
+    }).memory.totalBytes;
+    const r = runCli(['solve', file, '--save-states', saved, '--max-memory', String(estimate + 100)]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toContain(
+      'the ground level has 16 copies, more than the 1 that fit in memory on the full space; --save-states cannot save its states',
+    );
   });
 
   it('--save-states-all alone names the option it needs', () => {
