@@ -16,7 +16,7 @@ export type ObservableShape =
   | 'per site pair'
   /** [m] at k = 2 pi m / L, m = 0..L-1; null on open chains */
   | 'per momentum'
-  /** [{ cut, von_neumann, renyi_2, spectrum }], one per cut */
+  /** [{ cut, von_neumann, renyi_2, spectrum }], one per cut, or [{ sites, ... }], one per site list */
   | 'per cut';
 
 /** Which solved points or traces carry an observable. */
@@ -25,7 +25,7 @@ export type Presence =
   | 'itinerant kinds'
   /** Itinerant kinds whose state is complex. */
   | 'itinerant kinds, complex'
-  /** Pinned chains when solve.entanglement gives cuts. */
+  /** Pinned molecules when solve.entanglement gives cuts (chains) or site lists (any geometry). */
   | 'pinned, with cuts'
   | 'under a ramp';
 

@@ -11,6 +11,10 @@
 // index and the copy index k together (dimension g dRight). So the left side's spectrum comes from
 // whichever of the two is smaller: O(d * g * dim) for the matrix plus O(d^3) for its eigenvalues.
 // For a pure state (g = 1) this is the usual smaller-side shortcut.
+//
+// A subsystem given as a list of sites A (any geometry) reduces to a cut: the state's digits are
+// reordered so that A's sites (ascending) come first, then the rest, and the cut |A| of the
+// reordered state is A. For A = 0..l-1 the reordering is the identity and the result is cut l's.
 
 import { hermitianEigenvalues as ascendingHermitianEigenvalues } from '../linalg/hermitianEigen.js';
 import { ResourceError } from '../errors/errors.js';
@@ -23,6 +27,15 @@ export interface CutEntanglement {
   /** -ln tr(rho^2). */
   renyi_2: number;
   /** Lowest entanglement energies -ln(lambda), ascending (only weights above rounding noise). */
+  spectrum: number[];
+}
+
+/** Entanglement of a subsystem A given by its sites (solve.entanglement as site lists). */
+export interface SiteSetEntanglement {
+  /** The sites of A, as the spec lists them (model site indices). */
+  sites: number[];
+  von_neumann: number;
+  renyi_2: number;
   spectrum: number[];
 }
 
@@ -245,5 +258,72 @@ export function pinnedEntanglement(
     }
     const rho = reducedDensityMatrix(states, sites, levels, isComplex, cut);
     return { cut, ...entropiesFromWeights(hermitianEigenvalues(rho.dim, rho.re, rho.im), spectrumCount) };
+  });
+}
+
+/**
+ * The state with its site digits reordered: the sites of `subsystem` (in ascending order) become
+ * sites 0..|A|-1, the others follow in ascending order. Real (length N^L) or complex interleaved.
+ */
+export function reorderSites(
+  psi: Float64Array,
+  sites: number,
+  levels: number,
+  isComplex: boolean,
+  subsystem: readonly number[],
+): Float64Array {
+  const inA = new Set(subsystem);
+  const order = [
+    ...[...inA].sort((a, b) => a - b),
+    ...Array.from({ length: sites }, (_, i) => i).filter((i) => !inA.has(i)),
+  ];
+  // weight[i]: site i's place value in the reordered index.
+  const weight = new Float64Array(sites);
+  order.forEach((site, place) => (weight[site] = Math.pow(levels, place)));
+  const stride = isComplex ? 2 : 1;
+  const out = new Float64Array(psi.length);
+  const digit = new Int32Array(sites);
+  const dim = psi.length / stride;
+  // Odometer over the original index (site 0 fastest), carrying the reordered index along.
+  let target = 0;
+  for (let s = 0; s < dim; s++) {
+    out[stride * target] = psi[stride * s];
+    if (isComplex) out[stride * target + 1] = psi[stride * s + 1];
+    for (let i = 0; i < sites; i++) {
+      if (digit[i] < levels - 1) {
+        digit[i]++;
+        target += weight[i];
+        break;
+      }
+      target -= (levels - 1) * weight[i];
+      digit[i] = 0;
+    }
+  }
+  return out;
+}
+
+/** Entanglement of subsystems given as site lists, in the (average of the) given states of a pinned basis. */
+export function pinnedSiteSetEntanglement(
+  states: Float64Array[],
+  sites: number,
+  levels: number,
+  isComplex: boolean,
+  subsystems: readonly (readonly number[])[],
+  spectrumCount = DEFAULT_SPECTRUM_COUNT,
+): SiteSetEntanglement[] {
+  return subsystems.map((subsystem) => {
+    const size = entanglementMatrixDimension(sites, levels, subsystem.length, states.length);
+    if (size > MAX_ENTANGLEMENT_SIDE) {
+      throw new ResourceError(
+        `entanglement of sites [${subsystem.join(', ')}]: the smaller side has ${size} states (the rest counted once per state of a ${states.length}-fold ground space), more than the ${MAX_ENTANGLEMENT_SIDE} this computes; choose fewer sites, or fewer outside`,
+      );
+    }
+    const identity = [...subsystem].sort((a, b) => a - b).every((site, k) => site === k);
+    const reordered = identity ? states : states.map((psi) => reorderSites(psi, sites, levels, isComplex, subsystem));
+    const rho = reducedDensityMatrix(reordered, sites, levels, isComplex, subsystem.length);
+    return {
+      sites: [...subsystem],
+      ...entropiesFromWeights(hermitianEigenvalues(rho.dim, rho.re, rho.im), spectrumCount),
+    };
   });
 }

@@ -83,10 +83,12 @@ export function describeRecord(r: PointRecord): string {
       `WARNING: not every copy of the ground level was found (${r.solver.degeneracy} found, cap or budget reached); the observables below average only those`,
     );
   }
-  const cuts = r.observables.entanglement as { cut: number; von_neumann: number; renyi_2: number }[] | undefined;
+  const cuts = r.observables.entanglement as
+    { cut?: number; sites?: number[]; von_neumann: number; renyi_2: number }[] | undefined;
   for (const c of cuts ?? []) {
+    const which = c.sites ? `sites ${c.sites.join(', ')}` : `sites 0..${(c.cut ?? 0) - 1}`;
     out.push(
-      `entanglement of sites 0..${c.cut - 1} with the rest: von Neumann ${fmt(c.von_neumann, 8)}, Renyi-2 ${fmt(c.renyi_2, 8)}`,
+      `entanglement of ${which} with the rest: von Neumann ${fmt(c.von_neumann, 8)}, Renyi-2 ${fmt(c.renyi_2, 8)}`,
     );
   }
   out.push('');

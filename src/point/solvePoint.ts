@@ -8,7 +8,7 @@ import { buildOperator, operatorStorage } from '../operator/build.js';
 import { basisProbabilities, pinnedObservables } from '../observables/pinned.js';
 import { itinerantObservables } from '../observables/itinerant.js';
 import { planFockOperator } from '../operator/fock.js';
-import { cutsFor, pinnedEntanglement } from '../observables/entanglement.js';
+import { cutsFor, pinnedEntanglement, pinnedSiteSetEntanglement } from '../observables/entanglement.js';
 import {
   assertWithinMemory,
   defaultMemoryLimit,
@@ -126,7 +126,9 @@ export function planPoint(
     // As solvePinnedInSectors decides.
     const expandGround =
       (limits.groundStates !== false && dimension <= EXPAND_LIMIT) ||
-      (model.kind === 'pinned' && cutsFor(spec.solve.entanglement, model.sites, model.levels).length > 0) ||
+      (model.kind === 'pinned' &&
+        (cutsFor(spec.solve.entanglement, model.sites, model.levels).length > 0 ||
+          spec.solve.entanglementSites.length > 0)) ||
       limits.keepStates !== undefined;
     const estimate = (concurrent: number) =>
       estimateSectorMemory({
@@ -148,10 +150,10 @@ export function planPoint(
   }
   // Itinerant kinds store their matrix; its size is known in closed form before building.
   const cuts = spec.solve.entanglement;
-  if (model.kind !== 'pinned' && cuts !== 'auto' && cuts !== 'none') {
+  if (model.kind !== 'pinned' && ((cuts !== 'auto' && cuts !== 'none') || spec.solve.entanglementSites.length > 0)) {
     throw new SpecError(
       'solve.entanglement',
-      `entanglement cuts are computed for pinned chains only, not for kind = "${model.kind}"; remove the key`,
+      `entanglement (cuts or site lists) is computed for pinned molecules only, not for kind = "${model.kind}"; remove the key`,
     );
   }
   const fock = model.kind === 'pinned' ? null : planFockOperator(model, dimension);
@@ -292,8 +294,11 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
       : itinerantObservables(basis, ground, op.isComplex, plan.model.chainPeriodic, correlations);
   // Entanglement needs the state itself, so it is computed here; solve.entanglement keeps it cheap by default.
   const cuts = basis.kind === 'pinned' ? cutsFor(spec.solve.entanglement, basis.sites, basis.levels) : [];
+  const siteSets = basis.kind === 'pinned' ? spec.solve.entanglementSites : [];
   if (cuts.length > 0)
     observables.entanglement = pinnedEntanglement(ground, basis.sites, basis.levels, op.isComplex, cuts);
+  if (siteSets.length > 0)
+    observables.entanglement = pinnedSiteSetEntanglement(ground, basis.sites, basis.levels, op.isComplex, siteSets);
   // `values` also holds copies of the ground level beyond `states`.
   const energies = Array.from(eigen.values).slice(0, states);
   const each =
@@ -399,7 +404,10 @@ function solvePinnedInSectors(
     initial: options.initial,
     initialComplex: options.initial ? options.initial.length === 2 * basis.dim : false,
     expandGround:
-      (options.groundStates !== false && basis.dim <= EXPAND_LIMIT) || cuts.length > 0 || !!options.keepStates,
+      (options.groundStates !== false && basis.dim <= EXPAND_LIMIT) ||
+      cuts.length > 0 ||
+      spec.solve.entanglementSites.length > 0 ||
+      !!options.keepStates,
     expandAll: options.keepStates === 'all',
     eachState: spec.solve.observables === 'each',
     threadsFor: (work: number) => productThreads(spec, options, work),
@@ -414,6 +422,15 @@ function solvePinnedInSectors(
   // A ground level with more copies than the cap is not expanded (see solveInSectors).
   if (cuts.length > 0 && groundStates.length > 0)
     observables.entanglement = pinnedEntanglement(groundStates, basis.sites, basis.levels, model.isComplex, cuts);
+  const siteSets = spec.solve.entanglementSites;
+  if (siteSets.length > 0 && groundStates.length > 0)
+    observables.entanglement = pinnedSiteSetEntanglement(
+      groundStates,
+      basis.sites,
+      basis.levels,
+      model.isComplex,
+      siteSets,
+    );
   const energies = solution.energies;
   const L = model.sites;
   const labelled = (l: SectorLabel) => ({ ...l, k: l.momentum === null ? null : (2 * Math.PI * l.momentum) / L });

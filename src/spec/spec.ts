@@ -40,7 +40,9 @@
 //   solve.entanglement                 "auto"              ("none" | "auto" | "half" | "all" | list of cuts;
 //                                                           a cut l splits sites 0..l-1 from l..L-1; "auto"
 //                                                           is the half chain when its smaller side has at
-//                                                           most 256 states; see src/observables/entanglement.ts)
+//                                                           most 256 states; see src/observables/entanglement.ts;
+//                                                           or a list of site lists, each a subsystem A on any
+//                                                           geometry: solve.entanglementSites)
 //   solve.observables                  "ground"            ("ground": observables of the ground level; "each": also
 //                                                           every solved state's own, in its sector; see src/solver/levels.ts)
 //
@@ -541,13 +543,30 @@ function validateSolve(table: Table, sites: number): Spec['solve'] {
     throw new SpecError('solve.krylov', `must exceed solve.states = ${states}, got ${krylov}`);
   }
   const seed = nonNegativeInteger(orDefault(table.seed, 1), 'solve.seed');
-  const entanglement = validateEntanglement(orDefault(table.entanglement, 'auto'), sites);
+  const entanglementValue = orDefault(table.entanglement, 'auto');
+  // A list of lists names subsystems by their sites; they are kept apart from chain cuts, which
+  // need a chain (src/spec/lattice.ts refuses cuts off one) while site lists work on any geometry.
+  const bySites = Array.isArray(entanglementValue) && entanglementValue.some((x) => Array.isArray(x));
+  const entanglement = bySites ? 'none' : validateEntanglement(entanglementValue, sites);
+  const entanglementSites = bySites ? validateEntanglementSites(entanglementValue as unknown[], sites) : [];
   const symmetries = validateSymmetries(orDefault(table.symmetries, 'auto'));
   const sector = validateSector(orDefault(table.sector, {}));
   const threadsRaw = orDefault(table.threads, 'auto');
   const threads = threadsRaw === 'auto' ? 'auto' : positiveInteger(threadsRaw, 'solve.threads');
   const observables = oneOf(orDefault(table.observables, 'ground'), 'solve.observables', ['ground', 'each'] as const);
-  return { states, tolerance, maxMatvecs, krylov, seed, entanglement, symmetries, sector, threads, observables };
+  return {
+    states,
+    tolerance,
+    maxMatvecs,
+    krylov,
+    seed,
+    entanglement,
+    entanglementSites,
+    symmetries,
+    sector,
+    threads,
+    observables,
+  };
 }
 
 const SYMMETRY_CHOICES = ['translation', 'reflection', 'level_flip', 'charge'] as const;
@@ -599,6 +618,33 @@ function validateEntanglement(value: unknown, sites: number): Spec['solve']['ent
       );
     }
     return cut;
+  });
+}
+
+/**
+ * Subsystems as site lists: each a non-empty list of distinct model sites 0..sites-1 leaving at
+ * least one site outside (both sides non-empty, as for a cut). Errors name the list and the site.
+ */
+function validateEntanglementSites(value: unknown[], sites: number): number[][] {
+  const path = 'solve.entanglement';
+  return value.map((list, i) => {
+    const at = `${path}[${i}]`;
+    if (!Array.isArray(list))
+      throw new SpecError(
+        at,
+        `expected a list of sites (subsystem A), as every entry once one is a list, got ${describeValue(list)}`,
+      );
+    if (list.length === 0) throw new SpecError(at, 'expected at least one site in subsystem A, got an empty list');
+    const seen = new Set<number>();
+    for (const [k, site] of list.entries()) {
+      if (typeof site !== 'number' || !Number.isSafeInteger(site) || site < 0 || site > sites - 1)
+        throw new SpecError(`${at}[${k}]`, `expected a site from 0 to ${sites - 1}, got ${describeValue(site)}`);
+      if (seen.has(site)) throw new SpecError(`${at}[${k}]`, `site ${site} is listed twice`);
+      seen.add(site);
+    }
+    if (seen.size === sites)
+      throw new SpecError(at, `lists every one of the ${sites} sites: leave at least one site outside subsystem A`);
+    return list as number[];
   });
 }
 

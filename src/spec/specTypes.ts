@@ -39,6 +39,11 @@ export interface Spec {
     krylov: number | null;
     seed: number;
     entanglement: 'none' | 'auto' | 'half' | 'all' | number[];
+    /**
+     * Subsystems given as site lists (model site indices, any geometry): `solve.entanglement` as a
+     * list of lists. Empty otherwise; then `entanglement` says which chain cuts (if any).
+     */
+    entanglementSites: number[][];
     /** Symmetries to use: all detected ("auto"), none, or the named ones (each still checked). */
     symmetries: 'auto' | 'none' | SymmetryChoice[];
     /** Restrict the solve to these sectors; absent keys mean every value. */

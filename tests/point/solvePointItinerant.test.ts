@@ -175,7 +175,7 @@ describe('sizing itinerant problems before building them', () => {
       particles: { kind: 'fermion', number: 2, hopping: 1 },
       solve: { entanglement: 'half' },
     };
-    expect(() => planPoint(validateSpec(raw))).toThrow(/^solve\.entanglement: .*pinned chains only/);
+    expect(() => planPoint(validateSpec(raw))).toThrow(/^solve\.entanglement: .*pinned molecules only/);
     // the default ("auto") quietly computes none
     expect(solve({ ...raw, solve: {} }).observables.entanglement).toBeUndefined();
   });

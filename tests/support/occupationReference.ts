@@ -371,11 +371,32 @@ export interface ReferenceCut {
 
 /** Entanglement of the sites left of `cut` in the mixture P/g (pinned chains). */
 export function leftEntanglement(m: ModelDescription, h: DenseModel, g: GroundMixture, cut: number): ReferenceCut {
+  const { von_neumann, renyi_2, spectrum } = siteSetEntanglement(
+    m,
+    h,
+    g,
+    Array.from({ length: cut }, (_, i) => i),
+  );
+  return { cut, von_neumann, renyi_2, spectrum };
+}
+
+/**
+ * Entanglement of the subsystem A = `subsystem` (any sites) in the mixture P/g of pinned molecules:
+ * rho_A[a, a'] = (1/g) sum_b P[(a, b), (a', b)], b running over the levels of the other sites,
+ * diagonalized by ml-matrix.
+ */
+export function siteSetEntanglement(
+  m: ModelDescription,
+  h: DenseModel,
+  g: GroundMixture,
+  subsystem: number[],
+): Omit<ReferenceCut, 'cut'> {
   const L = m.sites;
   const N = m.levels;
   const D = h.dim;
-  const dL = N ** cut;
-  const dR = N ** (L - cut);
+  const inA = new Set(subsystem);
+  const dL = N ** inA.size;
+  const dR = N ** (L - inA.size);
   const byPair = new Int32Array(dL * dR);
   h.configs.forEach((occ, s) => {
     let a = 0;
@@ -383,7 +404,7 @@ export function leftEntanglement(m: ModelDescription, h: DenseModel, g: GroundMi
     for (let i = L - 1; i >= 0; i--) {
       let level = -1;
       for (let n = 0; n < N; n++) if (occ[i * N + n] === 1) level = n;
-      if (i < cut) a = a * N + level;
+      if (inA.has(i)) a = a * N + level;
       else b = b * N + level;
     }
     byPair[a * dR + b] = s;
@@ -425,7 +446,7 @@ export function leftEntanglement(m: ModelDescription, h: DenseModel, g: GroundMi
     .filter((w) => w > 1e-13)
     .slice(0, 8)
     .map((w) => -Math.log(w));
-  return { cut, von_neumann: vn, renyi_2: -Math.log(purity), spectrum };
+  return { von_neumann: vn, renyi_2: -Math.log(purity), spectrum };
 }
 
 /**
