@@ -144,6 +144,24 @@ describe('the demo 2D array', () => {
     expect(Math.abs(Number(statement[2]) - MAGIC_DEG)).toBeLessThanOrEqual(5e-5);
     expect(Math.abs(Number(statement[1]) - (90 - MAGIC_DEG))).toBeLessThanOrEqual(5e-5);
     expect(MAGIC_DEG).toBeCloseTo(54.7356, 4);
+    // What the demo says of the correlations holds in its run folder: equal along x and y with the field
+    // normal to the square (its quarter-turn symmetry, common practice), x nearly uncorrelated at the
+    // magic tilt, x the stronger at 90 deg.
+    const rows = loadScanRun(where.runDir).rows;
+    for (const N of [2, 3]) {
+      const at = (field: readonly number[]) => {
+        const c = rows.find(
+          (r) => r.params['levels.count'] === N && JSON.stringify(r.params['lattice.field']) === JSON.stringify(field),
+        )!.record!.result!.observables.level_correlation!;
+        return { x: mean(X_BONDS.map(([i, j]) => c[i][j])), y: mean(Y_BONDS.map(([i, j]) => c[i][j])) };
+      };
+      const normal = at([0, 0, 1]);
+      expect(Math.abs(normal.x - normal.y)).toBeLessThan(1e-8);
+      const magic = at([1, 0, Math.SQRT2]);
+      expect(Math.abs(magic.x)).toBeLessThan(0.1 * Math.abs(magic.y));
+      const along = at([1, 0, 0]);
+      expect(Math.abs(along.x)).toBeGreaterThan(Math.abs(along.y));
+    }
     // The bisection on the solver's own couplings lands on the textbook angle.
     const raw = where.raw;
     expect(Math.abs(magicTilt(raw) - (Math.PI / 2 - Math.acos(1 / Math.sqrt(3))))).toBeLessThan(1e-12);
