@@ -95,8 +95,8 @@ export function registerSolveCommands(program: Command): void {
   program
     .command('demo')
     .description('solve a built-in invented scenario and print what it shows')
-    .action(() => {
-      runDemo((line) => console.log(line), invocation());
+    .action(async () => {
+      await runDemo((line) => console.log(line), invocation());
     });
 }
 

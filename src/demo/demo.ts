@@ -10,16 +10,19 @@ import { runDynamicsDemo } from './dynamics.js';
 import { DEMO_REPORT_FILE, DEMO_TRACE_REPORT_FILE, writeDemoReport, writeDemoTraceReport } from './report.js';
 import path from 'node:path';
 import { DEMO_SPEC } from './spec.js';
+import { planArrayDemo, runArrayDemo } from './array.js';
 
 /** `program`: how the user starts rungchain from where they stand, for the commands the demo suggests. */
-export function runDemo(print: (line: string) => void, program = 'rungchain'): void {
+export async function runDemo(print: (line: string) => void, program = 'rungchain'): Promise<void> {
   print('rungchain demo: invented molecule X-47, six tweezers on a ring, microwave tunnelling J = 1');
   print('between its rotational levels, dipolar exchange V between neighbours (rigid-rotor weights).');
   print('As V/J grows the molecules bind into one string in the synthetic dimension: its width stays');
   print('small and stops growing with the number of levels N.');
+  const array = planArrayDemo();
   print(
     `It writes two HTML reports under the current folder: ${path.resolve(DEMO_REPORT_FILE)} and ${path.resolve(DEMO_TRACE_REPORT_FILE)}`,
   );
+  print(`and a 2D array's spec ${path.resolve(array.specFile)} with its run folder ${path.resolve(array.runDir)}`);
   print('');
   const rows: string[][] = [];
   for (const V of [0.5, 1, 2, 3, 4, 6]) {
@@ -41,6 +44,8 @@ export function runDemo(print: (line: string) => void, program = 'rungchain'): v
   writeDemoTraceReport(print);
   print('');
   writeDemoReport(print);
+  print('');
+  await runArrayDemo(print, program, array);
   print('');
   print(
     `Solve your own: write a spec (see README) and run \`${program} solve SPEC\`; evolve one with \`${program} evolve SPEC\`.`,

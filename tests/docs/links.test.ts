@@ -16,7 +16,7 @@ const PAGES = [
 ];
 
 /** A path from the top of the tree, e.g. `src/operator/pinned.ts`; not `dist/bin/...` nor `RUN/...`. */
-const TREE_PATH = /(?<![\w./<-])((?:src|tests|bin|workers|bench|docs)\/[\w./-]*)/g;
+const TREE_PATH = /(?<![\w./<-])((?:src|tests|bin|workers|bench|docs|examples)\/[\w./-]*)/g;
 /** A Markdown link target: `[text](target)`. */
 const LINK = /\]\(([^)\s]+)\)/g;
 
