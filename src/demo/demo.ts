@@ -1,6 +1,7 @@
 // The built-in demo: an invented scenario, solved for real, printed as a short story.
 // "Molecule X-47" is made up: a polar molecule whose four lowest rotational levels are dressed by
 // microwaves in a six-site ring of optical tweezers, with exchange weighted like a rigid rotor.
+// Then its quench (dynamics.ts) and a 2D array of another invented molecule (array.ts).
 
 import { validateSpec } from '../spec/spec.js';
 import { solvePoint } from '../point/solvePoint.js';
@@ -22,7 +23,9 @@ export async function runDemo(print: (line: string) => void, program = 'rungchai
   print(
     `It writes two HTML reports under the current folder: ${path.resolve(DEMO_REPORT_FILE)} and ${path.resolve(DEMO_TRACE_REPORT_FILE)}`,
   );
-  print(`and a 2D array's spec ${path.resolve(array.specFile)} with its run folder ${path.resolve(array.runDir)}`);
+  print(
+    `and a 2D array's spec ${path.resolve(array.specFile)} with its run folder (and report) ${path.resolve(array.runDir)}`,
+  );
   print('');
   const rows: string[][] = [];
   for (const V of [0.5, 1, 2, 3, 4, 6]) {
