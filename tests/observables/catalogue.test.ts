@@ -212,6 +212,7 @@ describe('readers write observables in a fixed order', () => {
       pinned.observables.level_structure_factor!.map((value, m) => ({
         index: 0,
         params: { 'particles.kind': 'pinned' },
+        state: null,
         observable: 'level_structure_factor',
         site: m,
         level: null,
