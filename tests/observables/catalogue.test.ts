@@ -187,6 +187,7 @@ describe('readers write observables in a fixed order', () => {
       'spread',
       'pair_separation',
       'level_correlation',
+      'level_correlation_by_separation',
       'density',
       'double_occupancy',
     ]);
@@ -198,6 +199,7 @@ describe('readers write observables in a fixed order', () => {
       'double_occupancy',
       'pair_separation',
       'level_correlation',
+      'level_correlation_by_separation',
     ]);
     expect(sideBySide(scanOf([itinerant, pinned], ['hardcore', 'pinned']), 'kind').quantities).toEqual([
       'E0',
@@ -368,6 +370,15 @@ function hasShape(shape: ObservableShape, value: unknown, sites: number, levels:
       return Array.isArray(value) && value.length === sites && value.every((row) => numbers(row, sites));
     case 'per momentum':
       return value === null || numbers(value, sites);
+    case 'per separation':
+      return (
+        value === null ||
+        (Array.isArray(value) &&
+          value.every(
+            (e: Record<string, unknown>) =>
+              numbers(e.separation, 3) && ['distance', 'pairs', 'value'].every((k) => typeof e[k] === 'number'),
+          ))
+      );
     case 'per cut':
       return (
         Array.isArray(value) &&
