@@ -128,13 +128,17 @@ function axisTitle(a: AxisUnit): string {
   return a.unit ? `${a.label} [${a.unit}]` : a.label;
 }
 
+/** A scanned value as text: lists (a field direction, per-direction spacings, positions) in brackets. */
+export function paramValueText(value: unknown): string {
+  return Array.isArray(value) ? `[${value.map(paramValueText).join(', ')}]` : String(value);
+}
+
 /** Scanned parameters as a reader writes them: symbols, values in the shown units. */
 export function showParams(params: ScanParams, units: Units): string {
   const parts = Object.entries(params).map(([k, v]) => {
     const info = keyInfo(k, units);
     const scaled = typeof v === 'number' && info.kind === 'energy' ? v * units.energyScale : v;
-    const value =
-      typeof scaled === 'number' ? fmt(scaled, 5) : Array.isArray(scaled) ? `[${scaled.join(', ')}]` : String(scaled);
+    const value = typeof scaled === 'number' ? fmt(scaled, 5) : paramValueText(scaled);
     return `${info.kind === 'other' ? k : info.symbol} = ${value}${info.kind === 'energy' && units.lab ? ' h·kHz' : info.unit ? ` ${info.unit}` : ''}`;
   });
   return parts.length > 0 ? parts.join(', ') : 'all points';
@@ -798,7 +802,7 @@ function valuesSection(context: ReportContext): string | null {
           const v = observableValue(p.record!, n);
           return `<td>${v === undefined ? '-' : esc(fmt(v * (observableInfo(n).energy ? units.energyScale : 1), 7))}</td>`;
         });
-        return `<tr><td>${p.index}</td>${input.axes.map((a) => `<td>${esc(String(p.params[a.key]))}</td>`).join('')}${cells.join('')}</tr>`;
+        return `<tr><td>${p.index}</td>${input.axes.map((a) => `<td>${esc(paramValueText(p.params[a.key]))}</td>`).join('')}${cells.join('')}</tr>`;
       })
       .join('');
     const more =
