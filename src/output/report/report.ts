@@ -22,6 +22,7 @@ import type { FitResult } from '../../analysis/fits.js';
 import { HEAT_MAP_SCALARS, POINT_SCALARS, observableEntry, pointScalar } from '../../observables/catalogue.js';
 import { esc, reportDocument, section } from './html.js';
 import { MAX_SERIES, renderLinePlot } from './linePlot.js';
+import { renderArrayPicture, type ArrayLayout } from './arrayPicture.js';
 import { renderHeatMap } from './heatMap.js';
 import { evenlyChosen } from './thinning.js';
 
@@ -45,6 +46,8 @@ export interface ReportInput extends AnalysisInput {
   exchangeRange?: 'nearest' | 'dipolar' | null;
   /** Keys of the axes drawn on a log scale (log-spaced scans; see `logScaleAxes`); none when absent. */
   logAxes?: string[];
+  /** Where a point's sites are (from its spec), for the picture of the array; absent or null: no picture. */
+  layoutOf?: (index: number) => ArrayLayout | null;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -843,11 +846,33 @@ function populationsSection(context: ReportContext): string | null {
     return section(
       'populations',
       'Level populations of one point',
-      [map],
+      [map, arrayFigure(input, point, units)],
       `Chosen ${choice.why}; \`rungchain report RUN --point INDEX\` picks another.`,
     );
   }
   return null;
+}
+
+/**
+ * The picture of the array at the chosen point, sites coloured by their mean level; '' for plain
+ * chains (their heat maps already lay the sites out in order) and when the layout is unknown.
+ */
+function arrayFigure(input: ReportInput, point: ReportInput['points'][number], units: Units): string {
+  const layout = input.layoutOf?.(point.index) ?? null;
+  const values = point.record!.observables.level_mean;
+  if (layout === null || layout.isChain || !Array.isArray(values) || values.length !== layout.positions.length)
+    return '';
+  const info = observableEntry('level_mean')!;
+  const levels = point.record!.basis.levels;
+  return renderArrayPicture({
+    id: 'array-picture',
+    title: `the array at point ${point.index} (${showParams(point.params, units)}): sites coloured by ${info.title}`,
+    layout,
+    values,
+    valueLabel: `${info.short} [${info.unit}]`,
+    // The full ladder, so colours compare across points and scans.
+    range: [0, Math.max(1, levels - 1)],
+  });
 }
 
 /** The connected level correlations and pair separations of the point whose populations are drawn. */
