@@ -9,7 +9,7 @@ import { InputError } from '../../src/errors/errors.js';
 import { formatBytes } from '../../src/format/bytes.js';
 import type { SectorProgress } from '../../src/symmetry/sectorSolve.js';
 import type { SectorLabel } from '../../src/symmetry/group.js';
-import { describePlan, describeRecord } from '../../src/point/describe.js';
+import { describePlan, describeRecord, siteArrangement } from '../../src/point/describe.js';
 import { runDemo } from '../../src/demo/demo.js';
 import { collect, memoryLimit } from './shared.js';
 import { invocation } from '../invocation.js';
@@ -82,7 +82,7 @@ export function registerSolveCommands(program: Command): void {
           JSON.stringify(units ? { ...record, units: labEnergies(units, record.energies, record.gap) } : record) + '\n',
         );
       else {
-        console.log(describeRecord(record));
+        console.log(describeRecord(record, siteArrangement(spec)));
         if (units) console.log('\n' + describeLabEnergies(units, record.energies, record.gap).join('\n'));
       }
       if (!record.solver.converged) {

@@ -16,6 +16,8 @@ export type ObservableShape =
   | 'per site pair'
   /** [m] at k = 2 pi m / L, m = 0..L-1; null on open chains */
   | 'per momentum'
+  /** [{ separation: [x, y, z], distance, pairs, value }], one per minimum-image separation vector; null without translations */
+  | 'per separation'
   /** [{ cut, von_neumann, renyi_2, spectrum }], one per cut, or [{ sites, ... }], one per site list */
   | 'per cut';
 
@@ -155,6 +157,16 @@ export const OBSERVABLES: readonly Observable[] = [
     shape: 'per momentum',
     title: 'level structure factor S(q)',
     short: 'S(q)',
+    energy: false,
+    unit: 'levels²',
+    record: 'every kind',
+    long: ['scan'],
+  },
+  {
+    name: 'level_correlation_by_separation',
+    shape: 'per separation',
+    title: 'level correlation by separation vector',
+    short: 'C(r)',
     energy: false,
     unit: 'levels²',
     record: 'every kind',

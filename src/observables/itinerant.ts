@@ -33,6 +33,7 @@
 import { realFormEigen } from '../linalg/hermitianEigen.js';
 import type { FockBasis } from '../basis/fock.js';
 import { levelStructureFactor, type CorrelationRequest, type Observables } from './pinned.js';
+import { levelCorrelationBySeparation } from './separation.js';
 
 /** Expected counts below this are "never occupied". */
 const EMPTY = 1e-12;
@@ -190,6 +191,10 @@ export function itinerantObservables(
     );
     result.level_correlation = correlation;
     result.level_structure_factor = levelStructureFactor(correlation, correlations.periodic);
+    result.level_correlation_by_separation = levelCorrelationBySeparation(
+      correlation,
+      correlations.separations ?? null,
+    );
   }
   return result;
 }

@@ -3,6 +3,7 @@
 // probability of each basis state, computed once.
 
 import type { PinnedBasis } from '../basis/basis.js';
+import { levelCorrelationBySeparation, type SeparationClass, type SeparationCorrelation } from './separation.js';
 
 export interface Observables {
   populations: number[][];
@@ -14,12 +15,16 @@ export interface Observables {
   level_correlation?: number[][];
   /** (1/L) sum_{ij} e^{i q (i-j)} level_correlation[i][j] at q = 2 pi m / L; null on open chains. */
   level_structure_factor?: number[] | null;
+  /** level_correlation averaged over the pairs of each minimum-image separation vector; null without translations. */
+  level_correlation_by_separation?: SeparationCorrelation[] | null;
   [extra: string]: unknown;
 }
 
 /** Asks for the connected level correlations and, on a periodic chain, their structure factor. */
 export interface CorrelationRequest {
   periodic: boolean;
+  /** The site pairs grouped by separation vector (src/observables/separation.ts); null or absent without translations. */
+  separations?: readonly SeparationClass[] | null;
 }
 
 /** p(s) = (1/g) sum_k |psi_k(s)|^2 over the given normalized states (real or interleaved complex). */
@@ -128,6 +133,10 @@ export function pinnedObservables(
     }
     result.level_correlation = correlation;
     result.level_structure_factor = levelStructureFactor(correlation, correlations.periodic);
+    result.level_correlation_by_separation = levelCorrelationBySeparation(
+      correlation,
+      correlations.separations ?? null,
+    );
   }
   return result;
 }

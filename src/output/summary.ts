@@ -140,12 +140,14 @@ export interface LongRow {
   /** The state whose own observables these are (solve.observables = "each"); null for the ground level's. */
   state: number | null;
   observable: string;
-  /** Site i; for per-momentum observables (level_structure_factor) the momentum index m, q = 2 pi m / L. */
-  site: number;
+  /** Site i; for per-momentum observables (level_structure_factor) the momentum index m, q = 2 pi m / L; null for per-separation observables (level_correlation_by_separation). */
+  site: number | null;
   /** Level n for per-site-and-level observables (populations); null otherwise. */
   level: number | null;
   /** The second site j for per-site-pair observables (pair_separation, level_correlation); null otherwise. */
   other_site: number | null;
+  /** The separation vector [x, y, z] for per-separation observables; null otherwise. */
+  separation: number[] | null;
   value: number;
 }
 
@@ -170,23 +172,25 @@ function pushLongRows(
   for (const { name, shape, diagonal } of longObservables('scan')) {
     const values = obs[name];
     if (!Array.isArray(values)) continue;
+    const none = { level: null, other_site: null, separation: null };
     if (shape === 'per site and level')
       (values as number[][]).forEach((p, i) =>
-        p.forEach((value, n) => out.push({ ...base, observable: name, site: i, level: n, other_site: null, value })),
+        p.forEach((value, n) => out.push({ ...base, ...none, observable: name, site: i, level: n, value })),
       );
+    else if (shape === 'per separation')
+      for (const entry of values as { separation: number[]; value: number }[])
+        out.push({ ...base, ...none, observable: name, site: null, separation: entry.separation, value: entry.value });
     else if (shape === 'per site pair')
       // Symmetric: each pair once, and the diagonal where it is not zero by definition.
       (values as number[][]).forEach((p, i) =>
         p.forEach((value, j) => {
           if (j > i || (diagonal && j === i))
-            out.push({ ...base, observable: name, site: i, level: null, other_site: j, value });
+            out.push({ ...base, ...none, observable: name, site: i, other_site: j, value });
         }),
       );
     else
       // Per site, or per momentum with m where the site goes (absent, null, on open chains).
-      (values as number[]).forEach((value, i) =>
-        out.push({ ...base, observable: name, site: i, level: null, other_site: null, value }),
-      );
+      (values as number[]).forEach((value, i) => out.push({ ...base, ...none, observable: name, site: i, value }));
   }
 }
 
@@ -195,9 +199,20 @@ function hasStates(rows: LongRow[]): boolean {
   return rows.some((r) => r.state !== null);
 }
 
+/** Whether any row is by separation vector (the long outputs then gain a `separation` column). */
+function hasSeparations(rows: LongRow[]): boolean {
+  return rows.some((r) => r.separation !== null);
+}
+
+/** A separation vector for tables and CSV cells: its components separated by spaces. */
+function showSeparation(v: number[] | null): string {
+  return v === null ? '' : v.map((x) => fmt(x, 6)).join(' ');
+}
+
 export function longJson(summary: ScanRunSummary): Record<string, unknown>[] {
   const rows = longRows(summary);
   const states = hasStates(rows);
+  const separations = hasSeparations(rows);
   return rows.map((r) => ({
     index: r.index,
     ...r.params,
@@ -206,6 +221,7 @@ export function longJson(summary: ScanRunSummary): Record<string, unknown>[] {
     site: r.site,
     level: r.level,
     other_site: r.other_site,
+    ...(separations ? { separation: r.separation } : {}),
     value: r.value,
   }));
 }
@@ -214,8 +230,19 @@ export function longCsv(summary: ScanRunSummary): string {
   const keys = paramKeys(summary);
   const rows = longRows(summary);
   const states = hasStates(rows);
+  const separations = hasSeparations(rows);
   return csv(
-    ['index', ...keys, ...(states ? ['state'] : []), 'observable', 'site', 'level', 'other_site', 'value'],
+    [
+      'index',
+      ...keys,
+      ...(states ? ['state'] : []),
+      'observable',
+      'site',
+      'level',
+      'other_site',
+      ...(separations ? ['separation'] : []),
+      'value',
+    ],
     rows.map((r) => [
       r.index,
       ...keys.map((k) => r.params[k]),
@@ -224,6 +251,7 @@ export function longCsv(summary: ScanRunSummary): string {
       r.site,
       r.level,
       r.other_site,
+      ...(separations ? [r.separation === null ? null : r.separation.join(' ')] : []),
       r.value,
     ]),
   );
@@ -236,17 +264,29 @@ export function longText(summary: ScanRunSummary): string {
   // Each observable's rounding noise is measured against 1 (probabilities, levels) or its largest value.
   const scales = new Map<string, number>();
   for (const r of rows) scales.set(r.observable, Math.max(scales.get(r.observable) ?? 1, Math.abs(r.value)));
+  const separations = hasSeparations(rows);
   return table(
-    ['point', ...keys, ...(states ? ['state'] : []), 'observable', 'site', 'level', 'other site', 'value'],
+    [
+      'point',
+      ...keys,
+      ...(states ? ['state'] : []),
+      'observable',
+      'site',
+      'level',
+      'other site',
+      ...(separations ? ['separation'] : []),
+      'value',
+    ],
     rows.map((r) => [
       String(r.index),
       ...keys.map((k) => showValue(r.params[k])),
       // The ground level's rows (state empty), then each state's.
       ...(states ? [r.state === null ? '' : String(r.state)] : []),
       r.observable,
-      String(r.site),
+      r.site === null ? '' : String(r.site),
       r.level === null ? '' : String(r.level),
       r.other_site === null ? '' : String(r.other_site),
+      ...(separations ? [showSeparation(r.separation)] : []),
       fmtNoise(r.value, scales.get(r.observable)!, 8),
     ]),
   );

@@ -5,6 +5,16 @@ import { columnScale, describeDimension, fmt, fmtNoise, fmtSmall, plural, table 
 import type { PointPlan, PointRecord } from './solvePoint.js';
 import type { StateRecord } from './record.js';
 import { OBSERVABLES } from '../observables/catalogue.js';
+import { isChainLattice, latticeOf } from '../spec/lattice.js';
+import type { Spec } from '../spec/spec.js';
+
+/** Where the sites are, in a few words: "chain", "square lattice 2x3", "custom array, 1 vacancy". */
+export function siteArrangement(spec: Spec): string {
+  const lattice = latticeOf(spec);
+  if (!lattice || (isChainLattice(lattice) && lattice.vacancies.length === 0)) return 'chain';
+  const shape = lattice.shape === 'custom' ? 'custom array' : `${lattice.shape} lattice ${lattice.size.join('x')}`;
+  return lattice.vacancies.length > 0 ? `${shape}, ${plural(lattice.vacancies.length, 'vacancy', 'vacancies')}` : shape;
+}
 
 export function describePlan(plan: PointPlan, limit: number): string {
   const lines = [
@@ -38,10 +48,11 @@ function sign(value: number | null): string {
   return value > 0 ? '+1' : '-1';
 }
 
-export function describeRecord(r: PointRecord): string {
+/** The record as text; `arrangement` names the geometry (siteArrangement; a chain when not given). */
+export function describeRecord(r: PointRecord, arrangement = 'chain'): string {
   const out: string[] = [];
   out.push(
-    `${r.basis.kind} chain: ${r.basis.sites} sites x ${r.basis.levels} levels, dimension ${r.basis.dimension}, ` +
+    `${r.basis.kind} ${arrangement}: ${r.basis.sites} sites x ${r.basis.levels} levels, dimension ${r.basis.dimension}, ` +
       `${r.solver.method} (${plural(r.solver.iterations, 'product')}, ${fmt(r.solver.seconds, 3)} s)` +
       (r.solver.converged ? '' : '  NOT CONVERGED'),
   );

@@ -5,7 +5,9 @@ import { basisDimension, buildBasis, MAX_DIMENSION, type PinnedBasis } from '../
 import { ResourceError, SpecError } from '../errors/errors.js';
 import { buildModel, type Model } from '../model/model.js';
 import { buildOperator, operatorStorage } from '../operator/build.js';
-import { basisProbabilities, pinnedObservables } from '../observables/pinned.js';
+import { basisProbabilities, pinnedObservables, type CorrelationRequest } from '../observables/pinned.js';
+import { separationClasses } from '../observables/separation.js';
+import { latticeOf } from '../spec/lattice.js';
 import { itinerantObservables } from '../observables/itinerant.js';
 import { planFockOperator } from '../operator/fock.js';
 import { cutsFor, pinnedEntanglement, pinnedSiteSetEntanglement } from '../observables/entanglement.js';
@@ -287,7 +289,7 @@ export function solvePoint(spec: Spec, options: SolveOptions = {}): SolvedPoint 
   // The solver's results are copies, and the operator is done with: the next point may reuse the memory.
   arena?.recycle();
   const ground = eigen.vectors.slice(0, eigen.degeneracy);
-  const correlations = { periodic: plan.model.chainPeriodic };
+  const correlations = correlationRequest(spec, plan.model);
   const observables =
     basis.kind === 'pinned'
       ? pinnedObservables(basis, basisProbabilities(ground, basis.dim, op.isComplex), correlations)
@@ -378,6 +380,11 @@ function productThreads(spec: Spec, options: { threads?: number }, work: number)
   return Math.max(1, Math.min(wanted, options.threads ?? wanted));
 }
 
+/** What the solved point's correlations need: the chain's periodicity, the pairs grouped by separation vector. */
+function correlationRequest(spec: Spec, model: Model): CorrelationRequest {
+  return { periodic: model.chainPeriodic, separations: separationClasses(model.geometry, latticeOf(spec)) };
+}
+
 /** Vectors this large are not expanded to the full space for callers (warm starts, entanglement). */
 const EXPAND_LIMIT = 1 << 22;
 
@@ -418,7 +425,8 @@ function solvePinnedInSectors(
   // Callers get ground states in the model's own arithmetic: a real H has a real ground space,
   // spanned by the real and imaginary parts of its complex sector states.
   const groundStates = model.isComplex ? solution.groundStates : realSpan(solution.groundStates, basis.dim);
-  const observables = pinnedObservables(basis, solution.groundProbabilities, { periodic: model.chainPeriodic });
+  const correlations = correlationRequest(spec, model);
+  const observables = pinnedObservables(basis, solution.groundProbabilities, correlations);
   // A ground level with more copies than the cap is not expanded (see solveInSectors).
   if (cuts.length > 0 && groundStates.length > 0)
     observables.entanglement = pinnedEntanglement(groundStates, basis.sites, basis.levels, model.isComplex, cuts);
@@ -453,7 +461,7 @@ function solvePinnedInSectors(
       (members) => {
         probabilities.fill(0);
         found.accumulateProbabilities(members, probabilities);
-        return pinnedObservables(basis, probabilities, { periodic: model.chainPeriodic });
+        return pinnedObservables(basis, probabilities, correlations);
       },
     );
   }

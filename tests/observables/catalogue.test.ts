@@ -188,6 +188,7 @@ describe('readers write observables in a fixed order', () => {
       'pair_separation',
       'level_correlation',
       'level_structure_factor',
+      'level_correlation_by_separation',
       'density',
       'double_occupancy',
     ]);
@@ -200,13 +201,14 @@ describe('readers write observables in a fixed order', () => {
       'pair_separation',
       'level_correlation',
       'level_structure_factor',
+      'level_correlation_by_separation',
     ]);
     // Rows per point: L*N populations, L level means and spreads, L(L-1)/2 pair separations,
-    // L(L+1)/2 level correlations, L structure factors on a ring (none on an open chain, where it is
-    // null), and L densities and pair counts for itinerant kinds; L = 3, N = 2 here.
+    // L(L+1)/2 level correlations, L structure factors and L separation vectors on a ring (none on an
+    // open chain, where both are null), and L densities and pair counts for itinerant kinds; L = 3, N = 2 here.
     const rowsOf = (record: PointRecord, kind: string) => longRows(scanOf([record], [kind])).length;
-    expect(rowsOf(pinned, 'pinned')).toBe(6 + 3 + 3 + 3 + 6 + 3);
-    expect(rowsOf(itinerant, 'hardcore')).toBe(6 + 3 + 3 + 3 + 3 + 3 + 6 + 3);
+    expect(rowsOf(pinned, 'pinned')).toBe(6 + 3 + 3 + 3 + 6 + 3 + 3);
+    expect(rowsOf(itinerant, 'hardcore')).toBe(6 + 3 + 3 + 3 + 3 + 3 + 6 + 3 + 3);
     expect(rowsOf(openFermions, 'fermion')).toBe(6 + 3 + 3 + 3 + 3 + 3 + 6);
     expect(longRows(scanOf([pinned], ['pinned'])).filter((r) => r.observable === 'level_structure_factor')).toEqual(
       pinned.observables.level_structure_factor!.map((value, m) => ({
@@ -217,6 +219,7 @@ describe('readers write observables in a fixed order', () => {
         site: m,
         level: null,
         other_site: null,
+        separation: null,
         value,
       })),
     );
@@ -389,6 +392,15 @@ function hasShape(shape: ObservableShape, value: unknown, sites: number, levels:
       return Array.isArray(value) && value.length === sites && value.every((row) => numbers(row, sites));
     case 'per momentum':
       return value === null || numbers(value, sites);
+    case 'per separation':
+      return (
+        value === null ||
+        (Array.isArray(value) &&
+          value.every(
+            (e: Record<string, unknown>) =>
+              numbers(e.separation, 3) && ['distance', 'pairs', 'value'].every((k) => typeof e[k] === 'number'),
+          ))
+      );
     case 'per cut':
       return (
         Array.isArray(value) &&

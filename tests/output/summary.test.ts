@@ -153,9 +153,10 @@ describe('rungchain summary', () => {
     const long: Row[] = JSON.parse(runCli(['summary', run, '--long', '--json']).stdout);
     const done = json.filter((x) => x.status === 'done');
     // L*N populations, L level means, L spreads, L(L-1)/2 pair separations, L(L+1)/2 level
-    // correlations (diagonal included) and, on this ring, L structure factors (m = 0..L-1) per point.
+    // correlations (diagonal included) and, on this ring, L structure factors (m = 0..L-1) and L
+    // separation vectors per point.
     expect(long).toHaveLength(
-      done.length * (SITES * LEVELS + 3 * SITES + (SITES * (SITES - 1)) / 2 + (SITES * (SITES + 1)) / 2),
+      done.length * (SITES * LEVELS + 3 * SITES + (SITES * (SITES - 1)) / 2 + (SITES * (SITES + 1)) / 2 + SITES),
     );
     for (const x of done)
       expect(
@@ -166,11 +167,15 @@ describe('rungchain summary', () => {
       for (const r of mine) {
         expect(r['exchange.strength']).toBe(x['exchange.strength']);
         const expected =
-          r.observable === 'populations'
-            ? x.observables.populations[r.site][r.level]
-            : r.observable === 'pair_separation' || r.observable === 'level_correlation'
-              ? x.observables[r.observable][r.site][r.other_site]
-              : x.observables[r.observable][r.site];
+          r.observable === 'level_correlation_by_separation'
+            ? x.observables.level_correlation_by_separation.find(
+                (e: { separation: number[] }) => JSON.stringify(e.separation) === JSON.stringify(r.separation),
+              ).value
+            : r.observable === 'populations'
+              ? x.observables.populations[r.site][r.level]
+              : r.observable === 'pair_separation' || r.observable === 'level_correlation'
+                ? x.observables[r.observable][r.site][r.other_site]
+                : x.observables[r.observable][r.site];
         expect(r.value).toBe(expected);
       }
     }
@@ -183,6 +188,7 @@ describe('rungchain summary', () => {
       'site',
       'level',
       'other_site',
+      'separation',
       'value',
     ]);
     expect(csv).toHaveLength(long.length + 1);

@@ -24,6 +24,7 @@ import type { FitResult } from '../../analysis/fits.js';
 import { HEAT_MAP_SCALARS, POINT_SCALARS, observableEntry, pointScalar } from '../../observables/catalogue.js';
 import { esc, reportDocument, section } from './html.js';
 import { MAX_SERIES, renderLinePlot } from './linePlot.js';
+import { renderArrayPicture, type ArrayLayout } from './arrayPicture.js';
 import { renderHeatMap } from './heatMap.js';
 import { evenlyChosen } from './thinning.js';
 
@@ -47,6 +48,8 @@ export interface ReportInput extends AnalysisInput {
   exchangeRange?: 'nearest' | 'dipolar' | null;
   /** Keys of the axes drawn on a log scale (log-spaced scans; see `logScaleAxes`); none when absent. */
   logAxes?: string[];
+  /** Where a point's sites are (from its spec), for the picture of the array; absent or null: no picture. */
+  layoutOf?: (index: number) => ArrayLayout | null;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -130,13 +133,17 @@ function axisTitle(a: AxisUnit): string {
   return a.unit ? `${a.label} [${a.unit}]` : a.label;
 }
 
+/** A scanned value as text: lists (a field direction, per-direction spacings, positions) in brackets. */
+export function paramValueText(value: unknown): string {
+  return Array.isArray(value) ? `[${value.map(paramValueText).join(', ')}]` : String(value);
+}
+
 /** Scanned parameters as a reader writes them: symbols, values in the shown units. */
 export function showParams(params: ScanParams, units: Units): string {
   const parts = Object.entries(params).map(([k, v]) => {
     const info = keyInfo(k, units);
     const scaled = typeof v === 'number' && info.kind === 'energy' ? v * units.energyScale : v;
-    const value =
-      typeof scaled === 'number' ? fmt(scaled, 5) : Array.isArray(scaled) ? `[${scaled.join(', ')}]` : String(scaled);
+    const value = typeof scaled === 'number' ? fmt(scaled, 5) : paramValueText(scaled);
     return `${info.kind === 'other' ? k : info.symbol} = ${value}${info.kind === 'energy' && units.lab ? ' h·kHz' : info.unit ? ` ${info.unit}` : ''}`;
   });
   return parts.length > 0 ? parts.join(', ') : 'all points';
@@ -808,7 +815,7 @@ function valuesSection(context: ReportContext): string | null {
           const v = observableValue(p.record!, n);
           return `<td>${v === undefined ? '-' : esc(fmt(v * (observableInfo(n).energy ? units.energyScale : 1), 7))}</td>`;
         });
-        return `<tr><td>${p.index}</td>${input.axes.map((a) => `<td>${esc(String(p.params[a.key]))}</td>`).join('')}${cells.join('')}</tr>`;
+        return `<tr><td>${p.index}</td>${input.axes.map((a) => `<td>${esc(paramValueText(p.params[a.key]))}</td>`).join('')}${cells.join('')}</tr>`;
       })
       .join('');
     const more =
@@ -849,11 +856,33 @@ function populationsSection(context: ReportContext): string | null {
     return section(
       'populations',
       'Level populations of one point',
-      [map],
+      [map, arrayFigure(input, point, units)],
       `Chosen ${choice.why}; \`rungchain report RUN --point INDEX\` picks another.`,
     );
   }
   return null;
+}
+
+/**
+ * The picture of the array at the chosen point, sites coloured by their mean level; '' for plain
+ * chains (their heat maps already lay the sites out in order) and when the layout is unknown.
+ */
+function arrayFigure(input: ReportInput, point: ReportInput['points'][number], units: Units): string {
+  const layout = input.layoutOf?.(point.index) ?? null;
+  const values = point.record!.observables.level_mean;
+  if (layout === null || layout.isChain || !Array.isArray(values) || values.length !== layout.positions.length)
+    return '';
+  const info = observableEntry('level_mean')!;
+  const levels = point.record!.basis.levels;
+  return renderArrayPicture({
+    id: 'array-picture',
+    title: `the array at point ${point.index} (${showParams(point.params, units)}): sites coloured by ${info.title}`,
+    layout,
+    values,
+    valueLabel: `${info.short} [${info.unit}]`,
+    // The full ladder, so colours compare across points and scans.
+    range: [0, Math.max(1, levels - 1)],
+  });
 }
 
 /** The connected level correlations and pair separations of the point whose populations are drawn. */

@@ -10,6 +10,7 @@ import { analyseScan, analysisInputOf, type AnalysisOptions } from '../../analys
 import { labUnits } from '../../spec/units.js';
 import type { ReportInput } from './report.js';
 import { logScaleAxes } from './plotAxes.js';
+import { arrayLayout, type ArrayLayout } from './arrayPicture.js';
 
 export interface RunReportOptions extends AnalysisOptions {
   point?: number;
@@ -86,5 +87,18 @@ export function reportInputFromRun(summary: ScanRunSummary, options: RunReportOp
     chosenPoint: options.point,
     exchangeRange: runExchangeRange(summary),
     logAxes: logScaleAxes(summary.section.axes),
+    layoutOf: (index) => pointLayout(summary, index),
   };
+}
+
+/** The sites of one point of the run (its spec with its scanned values); null when it cannot be read back. */
+function pointLayout(summary: ScanRunSummary, index: number): ArrayLayout | null {
+  const raw = summary.manifest.spec;
+  const row = summary.rows.find((r) => r.index === index);
+  if (typeof raw !== 'object' || raw === null || !row) return null;
+  try {
+    return arrayLayout(validateSpec(pointTree(raw as Record<string, unknown>, row.params)));
+  } catch {
+    return null;
+  }
 }
