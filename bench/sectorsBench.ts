@@ -53,7 +53,8 @@ function runCase(sites: number, levels: number, symmetries: string, threads: num
     a.momentum === b.momentum && a.parity === b.parity && a.level_flip === b.level_flip && a.charge === b.charge;
   // Momenta other than 0 and pi have complex amplitudes: twice the numbers per vector entry.
   const entries = (r: (typeof runs)[number]) =>
-    r.dimension * (r.label.momentum !== null && r.label.momentum !== 0 && 2 * r.label.momentum !== sites ? 2 : 1);
+    r.dimension *
+    (r.label.momentum !== null && r.label.momentum !== 0 && 2 * (r.label.momentum as number) !== sites ? 2 : 1);
   const holdsAnswer = (r: (typeof runs)[number]) =>
     !r.screened && (record.sectors ?? []).some((l) => same(l, r.label) || r.copies.some((c) => same(l, c)));
   // The full space's vectors are real here (real couplings), one number an entry.

@@ -63,7 +63,8 @@ export function sectorText(label: SectorLabel | null): string {
   if (!label) return '?';
   const parts: string[] = [];
   if (label.charge !== null) parts.push(`q=${label.charge}`);
-  if (label.momentum !== null) parts.push(`m=${label.momentum}`);
+  if (label.momentum !== null)
+    parts.push(`m=${typeof label.momentum === 'number' ? label.momentum : `(${label.momentum.join(',')})`}`);
   if (label.parity !== null) parts.push(`P=${label.parity > 0 ? '+' : '-'}`);
   if (label.level_flip !== null) parts.push(`F=${label.level_flip > 0 ? '+' : '-'}`);
   return parts.join(' ') || 'all';

@@ -35,6 +35,8 @@ export interface Geometry {
   readonly latticeIndex: Int32Array;
   /** Box vectors of the periodic directions. */
   readonly boxes: readonly (readonly number[])[];
+  /** Periodic lattice directions (not custom): the direction, its site count and one lattice step (the translation by one site). */
+  readonly periodicDirections: readonly { direction: number; size: number; step: readonly number[] }[];
   /** Unit vector of the quantization axis. */
   readonly field: readonly [number, number, number];
   /** Custom hopping bonds in model indices (i < j), or null for the nearest neighbours. */
@@ -102,6 +104,14 @@ export function latticeGeometry(lattice: LatticeSpec): Geometry {
           .map(([a, b]) => [modelIndex.get(a) as number, modelIndex.get(b) as number] as const);
 
   const boxes = periodicBoxes(lattice);
+  const periodicDirections: { direction: number; size: number; step: number[] }[] = [];
+  if (lattice.shape !== 'custom') {
+    const vectors = primitiveVectors(lattice.shape, lattice.size.length);
+    lattice.size.forEach((size, d) => {
+      if (lattice.boundary[d] === 'periodic')
+        periodicDirections.push({ direction: d, size, step: vectors[d].map((x) => x * lattice.spacing[d]) });
+    });
+  }
   const images = imageShifts(boxes);
   const field = lattice.field;
   const pairs = (L * (L - 1)) / 2;
@@ -155,6 +165,7 @@ export function latticeGeometry(lattice: LatticeSpec): Geometry {
     positions,
     latticeIndex: Int32Array.from(kept),
     boxes,
+    periodicDirections,
     field,
     customBonds,
     distance,

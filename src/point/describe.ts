@@ -62,7 +62,11 @@ export function describeRecord(r: PointRecord, arrangement = 'chain'): string {
     const l = labels?.[k];
     if (!l) return [];
     return [
-      l.momentum === null ? NOT_APPLICABLE : `${l.momentum}`,
+      l.momentum === null
+        ? NOT_APPLICABLE
+        : typeof l.momentum === 'number'
+          ? `${l.momentum}`
+          : `(${l.momentum.join(',')})`,
       sign(l.parity),
       sign(l.level_flip),
       l.charge === null ? NOT_APPLICABLE : String(l.charge),

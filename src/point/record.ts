@@ -32,7 +32,7 @@ export interface PointRecord {
     sector_runs?: SectorRun[];
   };
   /** Quantum numbers of each state of `energies`, when solved in symmetry sectors. */
-  sectors?: (SectorLabel & { k: number | null })[];
+  sectors?: (SectorLabel & { k: number | number[] | null })[];
   /** With solve.observables = "each": every solved state with its own observables. */
   states?: StateRecord[];
 }
@@ -43,7 +43,7 @@ export interface StateRecord {
   index: number;
   energy: number;
   /** The sector it was found in; null when the whole space was solved as one. */
-  sector: (SectorLabel & { k: number | null }) | null;
+  sector: (SectorLabel & { k: number | number[] | null }) | null;
   /** Its own observables, or, for copies of a level found in one sector, their equal mixture's (no entanglement). */
   observables: Observables;
   /** The states (indices) whose equal mixture `observables` are, this one included; absent for a state on its own. */
@@ -79,7 +79,7 @@ export interface PointRecordParts {
   /** Symmetries used, their sector runs and each state's labels: set only by a sector-by-sector solve. */
   symmetries?: SymmetryName[];
   sectorRuns?: SectorRun[];
-  sectors?: (SectorLabel & { k: number | null })[];
+  sectors?: (SectorLabel & { k: number | number[] | null })[];
   states?: StateRecord[];
 }
 

@@ -28,7 +28,13 @@ import {
   type EigenResult,
 } from '../solver/eigensolver.js';
 import type { Spec } from '../spec/spec.js';
-import { detectSymmetries, planSectors, type SymmetryCheck, type SymmetryName } from '../symmetry/group.js';
+import {
+  detectSymmetries,
+  planSectors,
+  translationSizes,
+  type SymmetryCheck,
+  type SymmetryName,
+} from '../symmetry/group.js';
 import { solveInSectors, type SectorSolution, type SectorSolveOptions } from '../symmetry/sectorSolve.js';
 import type { SectorLabel } from '../symmetry/group.js';
 import { defaultProductThreads, ThreadedOperator, withThreads } from '../operator/threaded.js';
@@ -441,7 +447,17 @@ function solvePinnedInSectors(
     );
   const energies = solution.energies;
   const L = model.sites;
-  const labelled = (l: SectorLabel) => ({ ...l, k: l.momentum === null ? null : (2 * Math.PI * l.momentum) / L });
+  const sizes = translationSizes(model);
+  // k = 2 pi m / L on a chain; per periodic direction, k_d = 2 pi m_d / L_d, on a lattice
+  const labelled = (l: SectorLabel) => ({
+    ...l,
+    k:
+      l.momentum === null
+        ? null
+        : typeof l.momentum === 'number'
+          ? (2 * Math.PI * l.momentum) / L
+          : l.momentum.map((m, d) => (2 * Math.PI * m) / (sizes as number[])[d]),
+  });
   const found = solution.eachState;
   let each: StateRecord[] | undefined;
   if (found) {

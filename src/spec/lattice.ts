@@ -349,19 +349,41 @@ export function resolveLattice(spec: Spec, raw: Record<string, unknown>): void {
     );
   // "auto" means the half-chain cut where there is a chain; off a chain, no cut.
   spec.solve.entanglement = 'none';
+  // Translations act on lattices with a periodic direction (the solver checks they commute);
+  // reflections on chains only.
+  const periodic = periodicBoxes(lattice).length > 0;
   const symmetries = spec.solve.symmetries;
   if (Array.isArray(symmetries))
     symmetries.forEach((name, i) => {
-      if (name === 'translation' || name === 'reflection')
+      if (name === 'reflection' || (name === 'translation' && !periodic))
         throw new SpecError(
           `solve.symmetries[${i}]`,
-          `${name} acts on chains only, and this lattice (shape = "${lattice.shape}") is not one; remove it`,
+          name === 'translation'
+            ? `translations need a periodic direction, and this lattice (shape = "${lattice.shape}") has none; remove it`
+            : `${name} acts on chains only, and this lattice (shape = "${lattice.shape}") is not one; remove it`,
         );
     });
-  for (const key of ['momentum', 'parity'] as const)
-    if (spec.solve.sector[key] !== undefined)
+  if (spec.solve.sector.parity !== undefined)
+    throw new SpecError(
+      'solve.sector.parity',
+      `parities label reflections, used on chains only, and this lattice (shape = "${lattice.shape}") is not one; remove it`,
+    );
+  const momentum = spec.solve.sector.momentum;
+  if (momentum !== undefined) {
+    if (!periodic)
       throw new SpecError(
-        `solve.sector.${key}`,
-        `${key === 'momentum' ? 'momenta label translations' : 'parities label reflections'}, used on chains only, and this lattice (shape = "${lattice.shape}") is not one; remove it`,
+        'solve.sector.momentum',
+        `momenta label translations, and this lattice (shape = "${lattice.shape}") has no periodic direction; remove it`,
       );
+    // A flat list of numbers is one lattice momentum [mx, my], not a list of chain momenta.
+    const labels = momentum.every((m) => typeof m === 'number') ? [momentum as number[]] : momentum;
+    spec.solve.sector.momentum = labels;
+    labels.forEach((m, i) => {
+      if (typeof m === 'number')
+        throw new SpecError(
+          `solve.sector.momentum[${i}]`,
+          `a lattice momentum is a list [mx, my] with one entry per periodic direction, got ${m}`,
+        );
+    });
+  }
 }

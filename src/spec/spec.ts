@@ -591,7 +591,11 @@ function validateSector(raw: unknown): Spec['solve']['sector'] {
         : [[v, `${path}.${key}`] as const];
   };
   const momentum = list('momentum');
-  if (momentum) sector.momentum = momentum.map(([x, at]) => nonNegativeInteger(x, at));
+  // A chain's momentum is a number; a lattice's a list [mx, my] (one entry per periodic direction).
+  if (momentum)
+    sector.momentum = momentum.map(([x, at]) =>
+      Array.isArray(x) ? x.map((y, d) => nonNegativeInteger(y, `${at}[${d}]`)) : nonNegativeInteger(x, at),
+    );
   const charge = list('charge');
   if (charge) sector.charge = charge.map(([x, at]) => nonNegativeInteger(x, at));
   for (const key of ['parity', 'level_flip'] as const) {

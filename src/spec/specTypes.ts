@@ -47,7 +47,7 @@ export interface Spec {
     /** Symmetries to use: all detected ("auto"), none, or the named ones (each still checked). */
     symmetries: 'auto' | 'none' | SymmetryChoice[];
     /** Restrict the solve to these sectors; absent keys mean every value. */
-    sector: { momentum?: number[]; parity?: (1 | -1)[]; level_flip?: (1 | -1)[]; charge?: number[] };
+    sector: { momentum?: (number | number[])[]; parity?: (1 | -1)[]; level_flip?: (1 | -1)[]; charge?: number[] };
     /** Threads for one product: "auto" (by size) or a count. */
     threads: 'auto' | number;
     /** Whose observables: the ground level's only ("ground"), or also every solved state's ("each"). */

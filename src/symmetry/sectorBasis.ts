@@ -2,9 +2,17 @@
 // permutations, one representative per orbit, and the sector bases of momentum/parity/flip states
 //   |r~> = (1/sqrt(|G| n_r)) sum_g chi(g)* g|r>,   n_r = sum over the stabilizer of r of chi(g),
 // whose matrix elements are <r~_b|H|r~_a> = sum over s = g r_b in H|r_a> of <s|H|r_a> chi(g) sqrt(n_b/n_a).
+//
+// Why n_r: the stabilizer S of r (the elements with h r = r) splits the sum over G into |G|/|S|
+// cosets g S, each carrying r to one orbit state with weight sum_{h in S} chi(gh)* = chi(g)* sum_S chi(h)*.
+// chi restricted to S is a character of S, so that sum is |S| when chi is 1 on all of S and 0
+// otherwise (orthogonality, common practice): r survives in the sector exactly when n_r =
+// sum_{h in S} chi(h) = |S| > 0, and then the norm squared of sum_g chi(g)* g|r> is
+// (|G|/|S|) |S|^2 = |G| n_r. On chains S is read off the translation period and the first j with
+// T^j P r = r etc.; on lattices (translations Z_L1 x Z_L2 ...) every stabilizer element is kept.
 
 import type { PinnedBasis } from '../basis/basis.js';
-import { IndexActions, type SectorLabel } from './group.js';
+import { IndexActions, SitePermutation, type SectorLabel, type TranslationGroup } from './group.js';
 
 export interface GroupUse {
   translation: boolean;
@@ -33,16 +41,29 @@ export class OrbitMap {
   readonly jF: Int32Array;
   readonly jPF: Int32Array;
   readonly charge: Int32Array;
+  /** Lattice translations (off chains): the order of each periodic direction, else null (chains use `period`, `jP`...). */
+  readonly translationSizes: number[] | null;
+  /** Lattice translations: the non-identity stabilizer element codes of representative r are stabCodes[stabStart[r] .. stabStart[r+1]). */
+  readonly stabStart: Int32Array | null;
+  readonly stabCodes: Uint16Array | null;
 
   /**
    * With `shared`, the arrays live in SharedArrayBuffers, so threads solving other sectors can use
    * the map through `OrbitMap.fromParts` without copying it (it holds 6 bytes per basis state).
    */
-  constructor(basis: PinnedBasis, group: GroupUse, actions: IndexActions = new IndexActions(basis), shared = false) {
+  constructor(
+    basis: PinnedBasis,
+    group: GroupUse,
+    actions: IndexActions = new IndexActions(basis),
+    shared = false,
+    lattice: TranslationGroup | null = null,
+  ) {
     this.group = group;
     const L = basis.sites;
     const dim = basis.dim;
-    const Lt = group.translation ? L : 1;
+    const general = group.translation && lattice !== null;
+    if (general && group.reflection) throw new Error('lattice translations are not combined with the chain reflection');
+    const Lt = general ? lattice.sizes.reduce((a, b) => a * b, 1) : group.translation ? L : 1;
     this.translations = Lt;
     this.order = Lt * (group.reflection ? 2 : 1) * (group.levelFlip ? 2 : 1);
     const repOf = new Int32Array(shared ? new SharedArrayBuffer(4 * dim) : new ArrayBuffer(4 * dim)).fill(-1);
@@ -56,7 +77,39 @@ export class OrbitMap {
     const A = actions;
     const flips = group.levelFlip ? 2 : 1;
     const parities = group.reflection ? 2 : 1;
-    for (let s = 0; s < dim; s++) {
+    const stabStart: number[] = [0];
+    const stabCodes: number[] = [];
+    if (general) {
+      const steps = lattice.generators.map((to) => new SitePermutation(basis, to));
+      const sizes = lattice.sizes;
+      const digits = new Int32Array(sizes.length);
+      for (let s = 0; s < dim; s++) {
+        if (repOf[s] !== -1) continue;
+        const r = reps.length;
+        reps.push(s);
+        for (let b = 0; b < flips; b++) {
+          let t = b ? A.flip(s) : s;
+          digits.fill(0);
+          for (let j = 0; j < Lt; j++) {
+            const code = j + Lt * 2 * b;
+            if (repOf[t] === -1) {
+              repOf[t] = r;
+              elementOf[t] = code;
+            } else if (t === s && code !== 0) stabCodes.push(code);
+            // next j (first direction fastest): T_d^(L_d) is the identity, so a wrapped digit
+            // leaves t back at the start of its row before the next direction steps
+            for (let d = 0; d < sizes.length; d++) {
+              t = steps[d].apply(t);
+              if (++digits[d] < sizes[d]) break;
+              digits[d] = 0;
+            }
+          }
+        }
+        stabStart.push(stabCodes.length);
+        charge.push(A.charge(s));
+      }
+    }
+    for (let s = 0; s < (general ? 0 : dim); s++) {
       if (repOf[s] !== -1) continue;
       const r = reps.length;
       reps.push(s);
@@ -108,12 +161,39 @@ export class OrbitMap {
     this.jF = place((b) => new Int32Array(b), jF, 4);
     this.jPF = place((b) => new Int32Array(b), jPF, 4);
     this.charge = place((b) => new Int32Array(b), charge, 4);
+    this.translationSizes = general ? lattice.sizes.slice() : null;
+    this.stabStart = general ? place((b) => new Int32Array(b), stabStart, 4) : null;
+    this.stabCodes = general
+      ? (() => {
+          const codes = new Uint16Array(
+            shared ? new SharedArrayBuffer(2 * stabCodes.length) : new ArrayBuffer(2 * stabCodes.length),
+          );
+          codes.set(stabCodes);
+          return codes;
+        })()
+      : null;
   }
 
   /** The arrays of a map built with `shared`, to hand to another thread. */
   parts(): OrbitMapParts {
     const { group, translations, order, repOf, elementOf, reps, period, jP, jF, jPF, charge } = this;
-    return { group, translations, order, repOf, elementOf, reps, period, jP, jF, jPF, charge };
+    const { translationSizes, stabStart, stabCodes } = this;
+    return {
+      group,
+      translations,
+      order,
+      repOf,
+      elementOf,
+      reps,
+      period,
+      jP,
+      jF,
+      jPF,
+      charge,
+      translationSizes,
+      stabStart,
+      stabCodes,
+    };
   }
 
   /** A map over arrays another thread built (see `parts`). */
@@ -129,7 +209,20 @@ export class OrbitMap {
 
 export type OrbitMapParts = Pick<
   OrbitMap,
-  'group' | 'translations' | 'order' | 'repOf' | 'elementOf' | 'reps' | 'period' | 'jP' | 'jF' | 'jPF' | 'charge'
+  | 'group'
+  | 'translations'
+  | 'order'
+  | 'repOf'
+  | 'elementOf'
+  | 'reps'
+  | 'period'
+  | 'jP'
+  | 'jF'
+  | 'jPF'
+  | 'charge'
+  | 'translationSizes'
+  | 'stabStart'
+  | 'stabCodes'
 >;
 
 /** One sector: the representatives compatible with its characters, and their norms n_r. */
@@ -152,7 +245,20 @@ export class SectorBasis {
     readonly label: SectorLabel,
   ) {
     const Lt = orbits.translations;
-    const k = label.momentum === null ? 0 : (2 * Math.PI * label.momentum) / Lt;
+    if (orbits.stabStart !== null) {
+      // lattice translations: the general stabilizer path
+      const general = latticeSector(orbits, label);
+      this.charRe = general.charRe;
+      this.charIm = general.charIm;
+      this.complexCharacters = general.complexCharacters;
+      this.sectorOfRep = general.sectorOfRep;
+      this.repIndex = general.repIndex;
+      this.norm = general.norm;
+      this.dim = general.repIndex.length;
+      return;
+    }
+    const chainMomentum = label.momentum as number | null;
+    const k = chainMomentum === null ? 0 : (2 * Math.PI * chainMomentum) / Lt;
     const p = label.parity ?? 1;
     const f = label.level_flip ?? 1;
     const size = Lt * 4;
@@ -165,7 +271,7 @@ export class SectorBasis {
       const b = Math.floor(code / (2 * Lt));
       const sign = (a ? p : 1) * (b ? f : 1);
       // exact values at k = 0 and pi keep real sectors real
-      const twice = 2 * (label.momentum ?? 0) * j;
+      const twice = 2 * (chainMomentum ?? 0) * j;
       const cos = twice % Lt === 0 ? ((twice / Lt) % 2 === 0 ? 1 : -1) : Math.cos(k * j);
       const sin = twice % Lt === 0 ? 0 : Math.sin(k * j);
       this.charRe[code] = sign * cos;
@@ -186,7 +292,7 @@ export class SectorBasis {
       if (label.charge !== null && orbits.charge[r] !== label.charge) continue;
       const R = orbits.period[r];
       // Sum of chi over the translation stabilizer T^(mR): L/R if kR is a multiple of 2 pi, else 0.
-      if (((label.momentum ?? 0) * R) % Lt !== 0) continue;
+      if (((chainMomentum ?? 0) * R) % Lt !== 0) continue;
       let n = 1;
       if (orbits.group.reflection && orbits.jP[r] >= 0) n += p * cosK(orbits.jP[r]);
       if (orbits.group.levelFlip && orbits.jF[r] >= 0) n += f * cosK(orbits.jF[r]);
@@ -272,4 +378,72 @@ export class SectorBasis {
     }
     return out;
   }
+}
+
+/**
+ * A lattice-translation sector: chi(T^j F^b) = f^b exp(i sum_d 2 pi m_d j_d / L_d), exact at
+ * multiples of pi/2 (so real sectors stay real), and n_r = sum over the stabilizer of chi.
+ */
+function latticeSector(orbits: OrbitMap, label: SectorLabel) {
+  const Lt = orbits.translations;
+  const sizes = orbits.translationSizes as number[];
+  const m = label.momentum === null ? sizes.map(() => 0) : (label.momentum as number[]);
+  const f = label.level_flip ?? 1;
+  const size = Lt * 4;
+  const charRe = new Float64Array(size);
+  const charIm = new Float64Array(size);
+  let complexCharacters = false;
+  const quarter = [
+    [1, 0],
+    [0, 1],
+    [-1, 0],
+    [0, -1],
+  ];
+  for (let code = 0; code < size; code++) {
+    const j = code % Lt;
+    const b = Math.floor(code / (2 * Lt));
+    // phase 2 pi phase/Lt with phase = sum_d m_d j_d (Lt / L_d) mod Lt, an integer
+    let rest = j;
+    let phase = 0;
+    sizes.forEach((L, d) => {
+      const jd = rest % L;
+      rest = Math.floor(rest / L);
+      phase += m[d] * jd * (Lt / L);
+    });
+    phase %= Lt;
+    const [cos, sin] =
+      (4 * phase) % Lt === 0
+        ? quarter[(4 * phase) / Lt]
+        : [Math.cos((2 * Math.PI * phase) / Lt), Math.sin((2 * Math.PI * phase) / Lt)];
+    const sign = b ? f : 1;
+    charRe[code] = sign * cos;
+    charIm[code] = sign * sin;
+    if (charIm[code] !== 0) complexCharacters = true;
+  }
+  const nReps = orbits.representatives;
+  const sectorOfRep = new Int32Array(nReps).fill(-1);
+  const repIndex = new Int32Array(nReps);
+  const norm = new Float64Array(nReps);
+  const stabStart = orbits.stabStart as Int32Array;
+  const stabCodes = orbits.stabCodes as Uint16Array;
+  let count = 0;
+  for (let r = 0; r < nReps; r++) {
+    if (label.charge !== null && orbits.charge[r] !== label.charge) continue;
+    // n_r = sum over the stabilizer of chi: |S| (an exact integer) or 0 up to rounding
+    let n = 1;
+    for (let e = stabStart[r]; e < stabStart[r + 1]; e++) n += charRe[stabCodes[e]];
+    if (n < 0.5) continue;
+    sectorOfRep[r] = count;
+    repIndex[count] = r;
+    norm[count] = Math.round(n);
+    count++;
+  }
+  return {
+    charRe,
+    charIm,
+    complexCharacters,
+    sectorOfRep,
+    repIndex: repIndex.slice(0, count),
+    norm: norm.slice(0, count),
+  };
 }

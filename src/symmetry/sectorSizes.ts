@@ -13,8 +13,14 @@
 // the flip: N choices on an even cycle, one on an odd cycle when N is odd, none otherwise). The
 // counts are exact; Burnside's lemma is the special case of the trivial character.
 
-import type { Model } from '../model/model.js';
-import { planSectors, type SectorLabel, type SectorSelection, type SymmetryName } from './group.js';
+import type { Geometry, Model } from '../model/model.js';
+import {
+  latticeTranslations,
+  planSectors,
+  type SectorLabel,
+  type SectorSelection,
+  type SymmetryName,
+} from './group.js';
 
 export interface SectorSize {
   label: SectorLabel;
@@ -24,7 +30,7 @@ export interface SectorSize {
 }
 
 interface GroupElement {
-  /** Power of the translation (0 without translations). */
+  /** Power of the translation (0 without translations); on a lattice the code j of T^j. */
   shift: number;
   reflected: boolean;
   flipped: boolean;
@@ -34,7 +40,7 @@ interface GroupElement {
 
 /** Every sector the solve will use (after `selection`), with its exact dimension. */
 export function sectorSizes(
-  model: Pick<Model, 'sites' | 'levels' | 'isComplex'>,
+  model: Pick<Model, 'sites' | 'levels' | 'isComplex'> & { geometry?: Geometry },
   used: Record<SymmetryName, boolean>,
   selection: SectorSelection = {},
 ): SectorSize[] {
@@ -42,13 +48,42 @@ export function sectorSizes(
   const N = model.levels;
   const flipUsed = used.level_flip && !used.charge;
   const elements: GroupElement[] = [];
-  for (let shift = 0; shift < (used.translation ? L : 1); shift++) {
-    for (const reflected of used.reflection ? [false, true] : [false]) {
-      for (const flipped of flipUsed ? [false, true] : [false]) {
-        elements.push({ shift, reflected, flipped, cycles: cycleLengths(L, shift, reflected) });
+  const lattice =
+    used.translation && model.geometry && !model.geometry.isChain ? latticeTranslations(model.geometry) : null;
+  if (typeof lattice === 'string') throw new Error(`no lattice translations: ${lattice}`);
+  if (lattice) {
+    // T^j = T_1^j1 T_2^j2 ..., j = j1 + L1 (j2 + ...); its site permutation composed step by step
+    const Lt = lattice.sizes.reduce((a, b) => a * b, 1);
+    for (let shift = 0; shift < Lt; shift++) {
+      let to = Int32Array.from({ length: L }, (_, i) => i);
+      let rest = shift;
+      lattice.sizes.forEach((size, d) => {
+        const jd = rest % size;
+        rest = Math.floor(rest / size);
+        for (let step = 0; step < jd; step++) to = to.map((i) => lattice.generators[d][i]);
+      });
+      for (const flipped of flipUsed ? [false, true] : [false])
+        elements.push({ shift, reflected: false, flipped, cycles: permutationCycles(to) });
+    }
+  } else
+    for (let shift = 0; shift < (used.translation ? L : 1); shift++) {
+      for (const reflected of used.reflection ? [false, true] : [false]) {
+        for (const flipped of flipUsed ? [false, true] : [false]) {
+          elements.push({ shift, reflected, flipped, cycles: cycleLengths(L, shift, reflected) });
+        }
       }
     }
-  }
+  const character = (momentum: SectorLabel['momentum'], shift: number): number => {
+    if (momentum === null) return 1;
+    if (!lattice) return Math.cos((2 * Math.PI * (momentum as number) * shift) / L);
+    let phase = 0;
+    let rest = shift;
+    lattice.sizes.forEach((size, d) => {
+      phase += ((momentum as number[])[d] * (rest % size)) / size;
+      rest = Math.floor(rest / size);
+    });
+    return Math.cos(2 * Math.PI * phase);
+  };
   const fixedCache = new Map<number | null, number[]>();
   const fixed = (q: number | null): number[] => {
     let counts = fixedCache.get(q);
@@ -68,14 +103,30 @@ export function sectorSizes(
       // A reflection belongs to the sector's group only where parity labels it (k = 0, pi, or no translations).
       if (g.reflected && parity === null) return;
       order++;
-      let character = momentum === null ? 1 : Math.cos((2 * Math.PI * momentum * g.shift) / L);
-      if (g.reflected) character *= parity as number;
-      if (g.flipped) character *= flip as number;
-      sum += character * counts[e];
+      let chi = character(momentum, g.shift);
+      if (g.reflected) chi *= parity as number;
+      if (g.flipped) chi *= flip as number;
+      sum += chi * counts[e];
     });
-    // The sine parts cancel between shifts j and L-j, which fix equally many configurations.
-    return { label: plan.label, copies: plan.copies.length, dimension: Math.round(sum / order) };
+    // The sine parts cancel between T^j and its inverse, which fix equally many configurations.
+    return { label: plan.label, copies: plan.copies.length, dimension: Math.round(sum / order) || 0 };
   });
+}
+
+/** Cycle lengths of the site permutation i -> to[i]. */
+function permutationCycles(to: Int32Array): number[] {
+  const seen = new Uint8Array(to.length);
+  const lengths: number[] = [];
+  for (let start = 0; start < to.length; start++) {
+    if (seen[start]) continue;
+    let length = 0;
+    for (let i = start; !seen[i]; i = to[i]) {
+      seen[i] = 1;
+      length++;
+    }
+    lengths.push(length);
+  }
+  return lengths;
 }
 
 /** Cycle lengths of the site permutation i -> (r(i) + shift) mod L, r the reflection i -> L-1-i or the identity. */

@@ -24,11 +24,15 @@ import { KernelTeam } from '../linalg/kernelTeam.js';
 import { sectorSizes } from './sectorSizes.js';
 import {
   IndexActions,
+  latticeTranslations,
+  momentumCode,
   planSectors,
+  translationSizes,
   type SectorLabel,
   type SectorPlan,
   type SectorSelection,
   type SymmetryName,
+  type TranslationGroup,
 } from './group.js';
 
 export interface SectorRun {
@@ -176,6 +180,7 @@ function groupFor(label: SectorLabel): GroupUse {
 
 /** Charges near the middle first, then momenta 0 and pi, then the rest: ground states usually live there. */
 function sectorOrder(model: Model) {
+  const sizes = translationSizes(model);
   const middle = (model.sites * (model.levels - 1)) / 2;
   return (a: { label: SectorLabel }, b: { label: SectorLabel }) => {
     const qa = a.label.charge === null ? 0 : Math.abs(a.label.charge - middle);
@@ -184,11 +189,21 @@ function sectorOrder(model: Model) {
     // Momenta 0 and pi first: the low states of these chains sit there most often (Marshall-type
     // sign structures), and the sooner the lowest `states` are known, the sooner the other
     // sectors are screened out after a short partial solve. The order never changes the result.
-    const edge = (m: number | null) => (m === null || m === 0 || 2 * m === model.sites ? 0 : 1);
+    const edge = (m: number | number[] | null) =>
+      m === null
+        ? 0
+        : typeof m === 'number'
+          ? m === 0 || 2 * m === model.sites
+            ? 0
+            : 1
+          : m.every((x, d) => x === 0 || 2 * x === (sizes as number[])[d])
+            ? 0
+            : 1;
     const ea = edge(a.label.momentum);
     const eb = edge(b.label.momentum);
     if (ea !== eb) return ea - eb;
-    return (a.label.momentum ?? 0) - (b.label.momentum ?? 0);
+    const code = (m: number | number[] | null) => (m === null ? 0 : momentumCode(m, sizes));
+    return code(a.label.momentum) - code(b.label.momentum);
   };
 }
 
@@ -280,13 +295,17 @@ function canMatter(energy: number, bounds: { ground: number; ceiling: number }, 
 class OrbitMaps {
   private readonly maps = new Map<string, OrbitMap>();
   private actions: IndexActions | null = null;
+  private readonly lattice: TranslationGroup | null;
 
   constructor(
+    model: Model,
     private readonly basis: PinnedBasis,
     private readonly shared: boolean,
     parts: Record<string, OrbitMapParts> = {},
   ) {
     for (const [key, p] of Object.entries(parts)) this.maps.set(key, OrbitMap.fromParts(p));
+    const t = model.geometry.isChain ? null : latticeTranslations(model.geometry);
+    this.lattice = typeof t === 'string' ? null : t;
   }
 
   for(label: SectorLabel): OrbitMap {
@@ -295,7 +314,7 @@ class OrbitMaps {
     let m = this.maps.get(key);
     if (!m) {
       this.actions ??= new IndexActions(this.basis);
-      m = new OrbitMap(this.basis, g, this.actions, this.shared);
+      m = new OrbitMap(this.basis, g, this.actions, this.shared, this.lattice);
       this.maps.set(key, m);
     }
     return m;
@@ -718,7 +737,7 @@ function describe(e: unknown): { name: string; message: string } {
 
 /** The build helper's side: answer each request with the rows asked for. */
 function serveBuilds(data: BuildHelperData): void {
-  const maps = new OrbitMaps(data.basis, false, data.maps);
+  const maps = new OrbitMaps(data.model, data.basis, false, data.maps);
   data.port.on('message', (request: BuildRequest) => {
     try {
       const plan = data.plans[request.plan];
@@ -750,7 +769,7 @@ export function runSectorWorker(data: HelperData | BuildHelperData): void {
 export function runSectorHelper(data: HelperData): void {
   const shared = new SharedProgress(data.progress);
   try {
-    const maps = new OrbitMaps(data.basis, false, data.maps);
+    const maps = new OrbitMaps(data.model, data.basis, false, data.maps);
     const arena = VectorArena.acquire();
     const context: SectorContext = {
       model: data.model,
@@ -787,10 +806,25 @@ export function solveInSectors(
   opts: SectorSolveOptions,
 ): SectorSolution {
   const selection = opts.selection ?? {};
+  const sizes = translationSizes(model);
   (selection.momentum ?? []).forEach((m, i) => {
     if (!use.translation) throw new SpecError('solve.sector.momentum', 'this model has no translation symmetry');
-    if (m >= model.sites)
-      throw new SpecError(`solve.sector.momentum[${i}]`, `momentum index must be below ${model.sites}, got ${m}`);
+    const at = `solve.sector.momentum[${i}]`;
+    if (sizes === null) {
+      if (typeof m !== 'number') throw new SpecError(at, `a chain's momentum is one number, got [${m.join(', ')}]`);
+      if (m >= model.sites) throw new SpecError(at, `momentum index must be below ${model.sites}, got ${m}`);
+      return;
+    }
+    const list = typeof m === 'number' ? [m] : m;
+    if (list.length !== sizes.length)
+      throw new SpecError(
+        at,
+        `a momentum has one entry per periodic direction (${sizes.length} here), got ${list.length}`,
+      );
+    list.forEach((x, d) => {
+      if (x >= sizes[d])
+        throw new SpecError(`${at}[${d}]`, `momentum index must be below ${sizes[d]} in direction ${d}, got ${x}`);
+    });
   });
   if (selection.parity && !use.reflection)
     throw new SpecError('solve.sector.parity', 'this model has no reflection symmetry');
@@ -807,7 +841,7 @@ export function solveInSectors(
     helpers === 0 &&
     (opts.threadsFor?.(Number.MAX_SAFE_INTEGER) ?? 1) > 1 &&
     basis.dim >= (opts.splitBuildRows ?? SPLIT_BUILD_ROWS);
-  const maps = new OrbitMaps(basis, helpers > 0 || splitBuilds);
+  const maps = new OrbitMaps(model, basis, helpers > 0 || splitBuilds);
   let builds: BuildHelper | null = null;
   // One team of kernel helpers and one of product helpers for every sector solved here on more
   // than one thread, lent to each solve.

@@ -354,7 +354,7 @@ describe('solve.observables = "each" with degenerate levels', () => {
     const mixed = without.slice(before, before + 2);
     // Sectors: two entries of opposite momentum, each its own state.
     expect(inSectors.map((s) => s.sector!.momentum).sort()).toEqual(
-      [inSectors[0].sector!.momentum, (model.sites - inSectors[0].sector!.momentum!) % model.sites].sort(),
+      [inSectors[0].sector!.momentum, (model.sites - (inSectors[0].sector!.momentum as number)) % model.sites].sort(),
     );
     expect(inSectors.every((s) => s.mixture_of === undefined)).toBe(true);
     // Whole space: one mixture of both copies.

@@ -223,13 +223,43 @@ describe('[lattice] errors name their keys', () => {
   it('position-based features off a chain: cuts, translations, reflections, momenta, parities', () => {
     const lattice = { shape: 'square', size: [2, 2] };
     expectSpecError({ lattice, levels, solve: { entanglement: 'half' } }, 'solve.entanglement', 'not a chain');
+    // Translations need a periodic direction (then the solver checks that they commute).
     expectSpecError(
       { lattice, levels, solve: { symmetries: ['charge', 'translation'] } },
       'solve.symmetries[1]',
-      'chains only',
+      'has none',
     );
     expectSpecError({ lattice, levels, solve: { symmetries: ['reflection'] } }, 'solve.symmetries[0]', 'chains only');
-    expectSpecError({ lattice, levels, solve: { sector: { momentum: 0 } } }, 'solve.sector.momentum', 'chains only');
+    expectSpecError(
+      { lattice, levels, solve: { sector: { momentum: 0 } } },
+      'solve.sector.momentum',
+      'no periodic direction',
+    );
+    const periodic = { shape: 'square', size: [3, 3], boundary: 'periodic' };
+    const accepted = validateSpec({ lattice: periodic, levels, solve: { sector: { momentum: [1, 2] } } });
+    expect(accepted.solve.sector.momentum).toEqual([[1, 2]]);
+    expect(
+      validateSpec({
+        lattice: periodic,
+        levels,
+        solve: {
+          sector: {
+            momentum: [
+              [0, 0],
+              [1, 2],
+            ],
+          },
+        },
+      }).solve.sector.momentum,
+    ).toEqual([
+      [0, 0],
+      [1, 2],
+    ]);
+    expectSpecError(
+      { lattice: periodic, levels, solve: { sector: { momentum: [[0, 0], 1] } } },
+      'solve.sector.momentum[1]',
+      'one entry per periodic direction',
+    );
     expectSpecError({ lattice, levels, solve: { sector: { parity: 1 } } }, 'solve.sector.parity', 'chains only');
     // A chain with a vacancy is no longer a chain.
     const broken = { shape: 'chain', size: [5], vacancies: [2] };
