@@ -14,7 +14,7 @@ import { planPoint, solvePoint } from '../src/point/solvePoint.js';
 import { formatBytes } from '../src/format/bytes.js';
 import { VectorArena } from '../src/simd/arena.js';
 import { validateSpec } from '../src/spec/spec.js';
-import type { SectorLabel } from '../src/symmetry/group.js';
+import { momentumText, type SectorLabel } from '../src/symmetry/group.js';
 import { fmt, table } from '../src/format/tables.js';
 import { coreSpeeds, describeCores } from './cores.js';
 
@@ -72,7 +72,7 @@ function runCase(sites: number, levels: number, symmetries: string, threads: num
     estimateBytes: estimate,
     labels: (record.sectors ?? []).map(
       (l) =>
-        `k=${l.momentum}${l.parity === null ? '' : l.parity > 0 ? ',P+' : ',P-'}${l.level_flip === null ? '' : l.level_flip > 0 ? ',F+' : ',F-'}`,
+        `k=${momentumText(l.momentum)}${l.parity === null ? '' : l.parity > 0 ? ',P+' : ',P-'}${l.level_flip === null ? '' : l.level_flip > 0 ? ',F+' : ',F-'}`,
     ),
     sectors: record.solver.sector_runs?.length ?? 1,
   };

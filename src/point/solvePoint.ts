@@ -36,7 +36,7 @@ import {
   type SymmetryName,
 } from '../symmetry/group.js';
 import { solveInSectors, type SectorSolution, type SectorSolveOptions } from '../symmetry/sectorSolve.js';
-import type { SectorLabel } from '../symmetry/group.js';
+import { momentumText, type SectorLabel } from '../symmetry/group.js';
 import { defaultProductThreads, ThreadedOperator, withThreads } from '../operator/threaded.js';
 import { coreCount } from '../threads/cores.js';
 import { VectorArena } from '../simd/arena.js';
@@ -468,7 +468,7 @@ function solvePinnedInSectors(
       found.labels.map(labelled),
       groupLevels({
         energies: found.energies,
-        sectors: found.labels.map((l) => `${l.momentum},${l.parity},${l.level_flip},${l.charge}`),
+        sectors: found.labels.map((l) => `${momentumText(l.momentum)},${l.parity},${l.level_flip},${l.charge}`),
         tolerance: spec.solve.tolerance,
         dimension: basis.dim,
         converged: solution.converged,

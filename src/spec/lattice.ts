@@ -376,7 +376,7 @@ export function resolveLattice(spec: Spec, raw: Record<string, unknown>): void {
         `momenta label translations, and this lattice (shape = "${lattice.shape}") has no periodic direction; remove it`,
       );
     // A flat list of numbers is one lattice momentum [mx, my], not a list of chain momenta.
-    const labels = momentum.every((m) => typeof m === 'number') ? [momentum as number[]] : momentum;
+    const labels = momentum.every((m) => typeof m === 'number') ? [momentum] : momentum;
     spec.solve.sector.momentum = labels;
     labels.forEach((m, i) => {
       if (typeof m === 'number')

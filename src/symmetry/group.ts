@@ -351,6 +351,12 @@ export interface SectorLabel {
   charge: number | null;
 }
 
+/** A momentum label as text: `3` on a chain, `(1,0)` on a lattice, `-` when translations are not used. */
+export function momentumText(momentum: SectorLabel['momentum']): string {
+  if (momentum === null) return '-';
+  return typeof momentum === 'number' ? String(momentum) : `(${momentum.join(',')})`;
+}
+
 export interface SectorPlan {
   label: SectorLabel;
   /** Sectors with the same spectrum that are not solved separately (k <-> -k, by reflection or by a real H). */

@@ -26,6 +26,7 @@ import {
   IndexActions,
   latticeTranslations,
   momentumCode,
+  momentumText,
   planSectors,
   translationSizes,
   type SectorLabel,
@@ -101,7 +102,7 @@ export interface SectorProgress {
 }
 
 function labelKey(l: SectorLabel): string {
-  return `${l.momentum},${l.parity},${l.level_flip},${l.charge}`;
+  return `${momentumText(l.momentum)},${l.parity},${l.level_flip},${l.charge}`;
 }
 
 function sectorDimensionsByKey(

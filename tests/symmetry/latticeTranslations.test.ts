@@ -196,7 +196,7 @@ describe('translations are refused where they do not hold', () => {
   it('a vacancy breaks them; an open lattice has none', () => {
     const base = { levels: { count: 2, tunnelling: 0.4 }, exchange: { strength: 1 } };
     const check = (lattice: Record<string, unknown>) => {
-      const model = buildModel(validateSpec({ ...base, lattice } as Record<string, unknown>));
+      const model = buildModel(validateSpec({ ...base, lattice }));
       return detectSymmetries(model, buildBasis(model) as PinnedBasis).find((c) => c.name === 'translation')!;
     };
     const vacancy = check({ shape: 'square', size: [3, 3], boundary: 'periodic', vacancies: [1] });
