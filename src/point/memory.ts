@@ -50,6 +50,8 @@ export function estimateSolveMemory(opts: {
   threads?: number;
   /** Observables of each state of a pinned chain (solve.observables = "each"): one more probability array, for one state's mixture at a time. */
   eachState?: boolean;
+  /** Entanglement of site lists that are not sites 0..|A|-1: each ground state is copied with its sites reordered. */
+  reorderedStates?: number;
 }): MemoryEstimate {
   const vector = opts.dim * (opts.isComplex ? 2 : 1) * BYTES_PER_DOUBLE;
   const parts: Record<string, number> = { runtime: RUNTIME_BASELINE_BYTES, operator: opts.operatorBytes };
@@ -65,6 +67,7 @@ export function estimateSolveMemory(opts: {
   parts.eigenvectors = 2 * opts.states * vector;
   parts.observables = opts.dim * BYTES_PER_DOUBLE;
   if (opts.eachState) parts.state_observables = opts.dim * BYTES_PER_DOUBLE;
+  if ((opts.reorderedStates ?? 0) > 0) parts.reordered_states = opts.reorderedStates! * vector;
   let totalBytes = 0;
   for (const v of Object.values(parts)) totalBytes += v;
   return { totalBytes, parts };
@@ -151,6 +154,8 @@ export function estimateSectorMemory(opts: {
    * interleaved complex vectors); the ground level's copies alone are the `ground_states`.
    */
   savedStates?: number;
+  /** Entanglement of site lists that are not sites 0..|A|-1: each expanded ground state (real for a real H) is copied with its sites reordered. */
+  reorderedStates?: number;
 }): MemoryEstimate {
   const { dim, model, used } = opts;
   const concurrent = opts.concurrent ?? 1;
@@ -173,6 +178,8 @@ export function estimateSectorMemory(opts: {
   if (opts.expandGround ?? dim <= 1 << 22) parts.ground_states = 2 * dim * 16;
   if (opts.eachState) parts.state_observables = dim * BYTES_PER_DOUBLE;
   if ((opts.savedStates ?? 0) > 0) parts.saved_states = opts.savedStates! * dim * 16;
+  if ((opts.reorderedStates ?? 0) > 0)
+    parts.reordered_states = opts.reorderedStates! * dim * (model.isComplex ? 16 : 8);
   let data = 0;
   for (const [k, v] of Object.entries(parts)) if (k !== 'runtime' && k !== 'helper_threads') data += v;
   parts.awaiting_gc = Math.min(SECTOR_GARBAGE_BYTES, 4 * data);

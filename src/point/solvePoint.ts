@@ -150,6 +150,7 @@ export function planPoint(
         expandGround,
         eachState: spec.solve.observables === 'each',
         savedStates: limits.keepStates === 'all' ? states : 0,
+        reorderedStates: reorderedStates(spec, model, states),
       });
     let sectorThreads = Math.max(1, allowed);
     let memory = estimate(sectorThreads);
@@ -176,6 +177,7 @@ export function planPoint(
     threads: threadsFor(work),
     // Itinerant observables read the states row by row, allocating nothing of the dimension.
     eachState: spec.solve.observables === 'each' && model.kind === 'pinned',
+    reorderedStates: reorderedStates(spec, model, states),
   });
   return {
     model,
@@ -190,6 +192,17 @@ export function planPoint(
 }
 
 /** The symmetries a pinned spec really has (checked on its operator) and those the solve will use. */
+/**
+ * Ground states copied with their sites reordered for the entanglement of site lists (none when
+ * every list is sites 0..|A|-1, or for itinerant kinds); one copy per ground state, counted as
+ * `states` since the ground level's size is known only after the solve.
+ */
+function reorderedStates(spec: Spec, model: Model, states: number): number {
+  if (model.kind !== 'pinned') return 0;
+  const reordered = spec.solve.entanglementSites.some((set) => [...set].sort((a, b) => a - b).some((s, k) => s !== k));
+  return reordered ? states : 0;
+}
+
 function chooseSymmetries(
   spec: Spec,
   model: Model,

@@ -95,6 +95,27 @@ describe('memory estimates', () => {
     const full = validateSpec(spec(8, { solve: { states: 4, entanglement: 'none', symmetries: 'none' } }));
     expect(planPoint(full, { keepStates: 'all' }).memory.parts).toEqual(planPoint(full).memory.parts);
   });
+
+  it('counts the reordered copies of the ground states that site-list entanglement makes', () => {
+    const dim = 3 ** 8;
+    const parts = (entanglement: unknown, symmetries = 'auto') =>
+      planPoint(validateSpec(spec(8, { solve: { states: 4, entanglement, symmetries } }))).memory.parts;
+    // Sites 0..|A|-1 are read in place; any other list is copied once per state, for a real H as
+    // real vectors in both paths.
+    for (const symmetries of ['auto', 'none']) {
+      expect(parts([[0, 1, 2]], symmetries).reordered_states).toBeUndefined();
+      expect(parts([[0, 2, 5]], symmetries).reordered_states).toBe(4 * dim * 8);
+      expect(
+        parts(
+          [
+            [2, 1, 0],
+            [0, 1],
+          ],
+          symmetries,
+        ).reordered_states,
+      ).toBeUndefined();
+    }
+  });
 });
 
 describe('a problem over the memory limit', () => {
