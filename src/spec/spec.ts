@@ -310,7 +310,13 @@ export function validateSpec(raw: Record<string, unknown>): Spec {
   const levels = validateLevels(requiredSection(raw, 'levels'));
   const exchange = validateExchange(optionalSection(raw, 'exchange'), levels);
   const ising = validateIsing(optionalSection(raw, 'ising'), levels.count);
-  const particles = validateParticles(optionalSection(raw, 'particles'), chain.sites, levels.count);
+  const sitesText =
+    lattice === null
+      ? `chain.sites = ${chain.sites}`
+      : lattice.vacancies.length > 0
+        ? `the ${chain.sites} lattice sites left by lattice.vacancies`
+        : `the ${chain.sites} sites of [lattice]`;
+  const particles = validateParticles(optionalSection(raw, 'particles'), chain.sites, levels.count, sitesText);
   const solve = validateSolve(optionalSection(raw, 'solve'), chain.sites);
 
   const present = OPTIONAL_SECTIONS.filter((section) => Object.hasOwn(raw, section.name));
@@ -443,7 +449,8 @@ function unusedKeys(kind: ParticleKind): Record<string, string> {
  * a scan over particles.kind, can give each kind its own settings (bosons at U = 4, the others
  * without an on-site term). Every kind's table is checked, whether its kind is chosen or not.
  */
-function validateParticles(particlesTable: Table, sites: number, count: number): Spec['particles'] {
+/** `sitesText` says where the site count comes from, for messages. */
+function validateParticles(particlesTable: Table, sites: number, count: number, sitesText: string): Spec['particles'] {
   rejectUnknownKeys(particlesTable, 'particles', [...PARTICLE_KEYS, ...PARTICLE_KINDS]);
   const kind = oneOf(orDefault(particlesTable.kind, 'pinned'), 'particles.kind', PARTICLE_KINDS);
 
@@ -503,7 +510,7 @@ function validateParticles(particlesTable: Table, sites: number, count: number):
   if (kind === 'pinned' && number !== sites) {
     throw new SpecError(
       at('number'),
-      `pinned particles fill every site exactly once, so number must equal chain.sites = ${sites}, got ${number}`,
+      `pinned particles fill every site exactly once, so number must equal ${sitesText}, got ${number}`,
     );
   }
   if (number > sites * maxPerSite) {

@@ -266,11 +266,17 @@ describe('[lattice] errors name their keys', () => {
     expectSpecError({ lattice: broken, levels, solve: { entanglement: [1] } }, 'solve.entanglement', 'not a chain');
   });
 
-  it('pinned molecules fill the sites left by vacancies', () => {
+  it('pinned molecules fill the sites left by vacancies: the message says where the count comes from', () => {
     expectSpecError(
       { lattice: { shape: 'square', size: [2, 2], vacancies: [3] }, levels, particles: { number: 4 } },
       'particles.number',
-      'chain.sites = 3',
+      'must equal the 3 lattice sites left by lattice.vacancies, got 4',
     );
+    expectSpecError(
+      { lattice: { shape: 'square', size: [2, 2] }, levels, particles: { number: 3 } },
+      'particles.number',
+      'must equal the 4 sites of [lattice], got 3',
+    );
+    expectSpecError({ chain: { sites: 5 }, levels, particles: { number: 4 } }, 'particles.number', 'chain.sites = 5');
   });
 });
