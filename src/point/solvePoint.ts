@@ -417,12 +417,9 @@ function solvePinnedInSectors(
   const model = plan.model;
   const states = Math.min(spec.solve.states, basis.dim);
   const cuts = cutsFor(spec.solve.entanglement, basis.sites, basis.levels);
-  const groundCopies = groundCopiesCap(
-    states,
-    (model.isComplex ? 16 : 8) * basis.dim,
-    plan.memory.totalBytes,
-    options.maxMemory,
-  );
+  // Copies beyond `states` are expanded to the full space as interleaved complex vectors (ground
+  // states, saved states), so each costs 16 bytes an entry whatever the model's arithmetic.
+  const groundCopies = groundCopiesCap(states, 16 * basis.dim, plan.memory.totalBytes, options.maxMemory);
   const solution = solveInSectors(model, basis, plan.used!, {
     states,
     ...solveSettings(spec.solve),
