@@ -11,7 +11,8 @@ import { latticeOf } from '../../spec/lattice.js';
 import type { Spec } from '../../spec/spec.js';
 import { sequentialColour } from './colours.js';
 import { esc, num } from './html.js';
-import { PLOT_HEIGHT, PLOT_WIDTH, niceTicks, tickText } from './plotAxes.js';
+import { PLOT_HEIGHT, PLOT_WIDTH } from './plotAxes.js';
+import { colourBar } from './heatMap.js';
 
 /** Where the sites of a point are: what the picture needs from its spec. */
 export interface ArrayLayout {
@@ -121,22 +122,7 @@ export function renderArrayPicture(picture: ArrayPicture): string {
           )
           .join('')
       : '';
-  // Colour bar, as the heat maps have.
-  const barX = PLOT_WIDTH - right + 14;
-  const barW = 14;
-  const gradientId = `grad-${picture.id}`;
-  const stops = Array.from(
-    { length: 11 },
-    (_, k) => `<stop offset="${k * 10}%" stop-color="${sequentialColour(k / 10)}"/>`,
-  ).join('');
-  const bt = niceTicks(lo, hi, 4);
-  const barTicks = bt.ticks
-    .filter((tick) => tick >= lo - 1e-12 && tick <= hi + 1e-12)
-    .map((tick) => {
-      const Y = num(top + plotH - t(tick) * plotH);
-      return `<line x1="${barX + barW}" y1="${Y}" x2="${barX + barW + 4}" y2="${Y}" class="axis"/><text x="${barX + barW + 6}" y="${Y}" class="tick" dominant-baseline="middle">${esc(tickText(tick, bt.step))}</text>`;
-    })
-    .join('');
+  const bar = colourBar(picture.id, lo, hi, PLOT_WIDTH - right + 14, top, plotH);
   const notes: string[] = [];
   const wrapping = layout.bonds.filter((b) => b.wraps).length;
   if (wrapping > 0) notes.push(`${wrapping} bond${wrapping === 1 ? '' : 's'} across the periodic boundary not drawn`);
@@ -144,11 +130,11 @@ export function renderArrayPicture(picture: ArrayPicture): string {
   return `<figure class="plot-figure" id="${esc(picture.id)}">
 <figcaption>${esc(picture.title)}</figcaption>
 <svg class="array-picture" data-plot="${esc(picture.id)}" data-scale="${scale}" viewBox="0 0 ${PLOT_WIDTH} ${PLOT_HEIGHT}" role="img" aria-label="${esc(picture.title)}">
-<defs><linearGradient id="${gradientId}" x1="0" y1="1" x2="0" y2="0">${stops}</linearGradient></defs>
+${bar.defs}
 <g class="bonds" stroke="#8a8a8a" stroke-width="1.5">${bondLines}</g>
 <g class="vacancies" stroke="#94134c" stroke-width="1.5" fill="none">${vacancyMarks}</g>
 <g class="sites" stroke="#333333" stroke-width="1">${sites}</g>${labels}
-<rect x="${barX}" y="${top}" width="${barW}" height="${plotH}" fill="url(#${gradientId})" class="colour-bar"/>${barTicks}
+${bar.body}
 <text transform="translate(${PLOT_WIDTH - 6} ${num(top + plotH / 2)}) rotate(-90)" class="axis-label" text-anchor="middle">${esc(picture.valueLabel)}</text>
 </svg>
 ${notes.map((n) => `<p class="note">${esc(n)}</p>`).join('')}

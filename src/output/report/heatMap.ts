@@ -92,6 +92,38 @@ function binGrid(values: number[], z: number[][], axis: 'x' | 'y', max: number):
   return { values: newValues, z: z.map((row) => groups.map((g) => mean(g.map((c) => row[c])))) };
 }
 
+/**
+ * A vertical colour bar on the sequential scale from `lo` (bottom) to `hi` (top), with ticks: its
+ * gradient for the SVG's <defs> and the bar itself. Shared by heat maps and array pictures.
+ */
+export function colourBar(
+  id: string,
+  lo: number,
+  hi: number,
+  barX: number,
+  top: number,
+  plotH: number,
+): { defs: string; body: string } {
+  const barW = 14;
+  const gradientId = `grad-${id}`;
+  const stops = Array.from(
+    { length: 11 },
+    (_, k) => `<stop offset="${k * 10}%" stop-color="${sequentialColour(k / 10)}"/>`,
+  ).join('');
+  const bt = niceTicks(lo, hi, 4);
+  const barTicks = bt.ticks
+    .filter((t) => t >= lo - 1e-12 && t <= hi + 1e-12)
+    .map((t) => {
+      const Y = num(top + plotH - ((t - lo) / (hi - lo || 1)) * plotH);
+      return `<line x1="${barX + barW}" y1="${Y}" x2="${barX + barW + 4}" y2="${Y}" class="axis"/><text x="${barX + barW + 6}" y="${Y}" class="tick" dominant-baseline="middle">${esc(tickText(t, bt.step))}</text>`;
+    })
+    .join('');
+  return {
+    defs: `<defs><linearGradient id="${gradientId}" x1="0" y1="1" x2="0" y2="0">${stops}</linearGradient></defs>`,
+    body: `<rect x="${barX}" y="${top}" width="${barW}" height="${plotH}" fill="url(#${gradientId})" class="colour-bar"/>${barTicks}`,
+  };
+}
+
 export function renderHeatMap(map: HeatMap): string {
   const notes = [...(map.notes ?? [])];
   let { xValues, yValues, z } = map;
@@ -151,28 +183,13 @@ export function renderHeatMap(map: HeatMap): string {
     ticks.push(
       `<text x="${left - 6}" y="${num(top + plotH * (1 - t.at))}" class="tick" text-anchor="end" dominant-baseline="middle">${esc(t.text)}</text>`,
     );
-  // Colour bar with its own ticks.
-  const barX = PLOT_WIDTH - right + 14;
-  const barW = 14;
-  const gradientId = `grad-${map.id}`;
-  const stops = Array.from(
-    { length: 11 },
-    (_, k) => `<stop offset="${k * 10}%" stop-color="${sequentialColour(k / 10)}"/>`,
-  ).join('');
-  const bt = niceTicks(lo, hi, 4);
-  const barTicks = bt.ticks
-    .filter((t) => t >= lo - 1e-12 && t <= hi + 1e-12)
-    .map((t) => {
-      const Y = num(top + plotH - ((t - lo) / (hi - lo || 1)) * plotH);
-      return `<line x1="${barX + barW}" y1="${Y}" x2="${barX + barW + 4}" y2="${Y}" class="axis"/><text x="${barX + barW + 6}" y="${Y}" class="tick" dominant-baseline="middle">${esc(tickText(t, bt.step))}</text>`;
-    })
-    .join('');
+  const bar = colourBar(map.id, lo, hi, PLOT_WIDTH - right + 14, top, plotH);
   return `<figure class="plot-figure" id="${esc(map.id)}">
 <figcaption>${esc(map.title)}</figcaption>
 <svg class="heatmap" data-plot="${esc(map.id)}" data-rows="${yValues.length}" data-cols="${xValues.length}" data-x-scale="${xAxis.log ? 'log' : 'ordered'}" data-y-scale="${yAxis.log ? 'log' : 'ordered'}" viewBox="0 0 ${PLOT_WIDTH} ${PLOT_HEIGHT}" role="img" aria-label="${esc(map.title)}">
-<defs><linearGradient id="${gradientId}" x1="0" y1="1" x2="0" y2="0">${stops}</linearGradient></defs>
+${bar.defs}
 ${cells.join('')}${ticks.join('')}
-<rect x="${barX}" y="${top}" width="${barW}" height="${plotH}" fill="url(#${gradientId})" class="colour-bar"/>${barTicks}
+${bar.body}
 <text x="${num((left + left + plotW) / 2)}" y="${PLOT_HEIGHT - 8}" class="axis-label" text-anchor="middle">${esc(map.xLabel)}</text>
 <text transform="translate(14 ${num(top + plotH / 2)}) rotate(-90)" class="axis-label" text-anchor="middle">${esc(map.yLabel)}</text>
 <text transform="translate(${PLOT_WIDTH - 6} ${num(top + plotH / 2)}) rotate(-90)" class="axis-label" text-anchor="middle">${esc(map.zLabel)}</text>
