@@ -242,13 +242,17 @@ export function validateLatticeSection(raw: unknown, keyPath: string): LatticeSp
       (v, at) => oneOf(v, at, ['open', 'periodic'] as const),
       what,
     );
+    // A ladder's single boundary is along its legs: a "periodic ladder" is a ring of rungs.
+    if (shape === 'ladder' && !Array.isArray(table.boundary)) boundary[1] = 'open';
     boundary.forEach((b, d) => {
       // Below 3 sites the wrap-around bond would repeat the open one (or join a site to itself).
-      if (b === 'periodic' && size[d] < 3)
+      if (b === 'periodic' && size[d] < 3) {
+        const list = JSON.stringify(boundary.map((x, e) => (e === d ? 'open' : x))).replace(/,/g, ', ');
         throw new SpecError(
           `${keyPath}.boundary`,
-          `a periodic direction needs at least 3 sites, but direction ${d} has lattice.size[${d}] = ${size[d]}`,
+          `a periodic direction needs at least 3 sites, but direction ${d} has lattice.size[${d}] = ${size[d]}; give one boundary per direction, e.g. ${list}`,
         );
+      }
     });
     spacing = perDirection(orDefault(table.spacing, 1), `${keyPath}.spacing`, size.length, positiveNumber, what);
   }

@@ -43,6 +43,9 @@ describe('[lattice] defaults', () => {
 
   it('a ladder of [L] has two legs; a chain lattice stands for [chain]', () => {
     expect(latticeOf(validateSpec({ lattice: { shape: 'ladder', size: [4] }, levels }))?.size).toEqual([4, 2]);
+    // A periodic ladder is periodic along its legs; its two-site rungs stay open.
+    const ring = latticeOf(validateSpec({ lattice: { shape: 'ladder', size: [4], boundary: 'periodic' }, levels }));
+    expect(ring?.boundary).toEqual(['periodic', 'open']);
     const chain = validateSpec({ lattice: { shape: 'chain', size: [5], boundary: 'periodic' }, levels });
     expect(chain.chain).toEqual({ sites: 5, boundary: 'periodic' });
     // A number is one direction's size.
@@ -138,7 +141,18 @@ describe('[lattice] errors name their keys', () => {
       'expected one of',
     ],
     ['boundary count', { shape: 'square', size: [3, 3], boundary: ['open'] }, 'lattice.boundary', 'one value or 2'],
-    ['short periodic', { shape: 'ladder', size: [4], boundary: 'periodic' }, 'lattice.boundary', 'at least 3 sites'],
+    [
+      'short periodic',
+      { shape: 'square', size: [4, 2], boundary: 'periodic' },
+      'lattice.boundary',
+      'at least 3 sites, but direction 1 has lattice.size[1] = 2; give one boundary per direction, e.g. ["periodic", "open"]',
+    ],
+    [
+      'periodic rungs',
+      { shape: 'ladder', size: [4], boundary: ['periodic', 'periodic'] },
+      'lattice.boundary',
+      'at least 3',
+    ],
     ['bad spacing', { shape: 'square', size: [3, 3], spacing: [1, 0] }, 'lattice.spacing[1]', 'positive'],
     ['zero field', { shape: 'square', size: [2, 2], field: [0, 0, 0] }, 'lattice.field', '[0, 0, 0]'],
     ['2D field', { shape: 'square', size: [2, 2], field: [0, 1] }, 'lattice.field', '[x, y, z]'],
