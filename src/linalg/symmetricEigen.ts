@@ -126,7 +126,7 @@ function transposed(v: Float64Array, n: number): Float64Array {
  * Diagonalizes the tridiagonal (d, e[1..n)) in place: d becomes the eigenvalues. When w is given
  * (rows: the columns of the reducing Q), the same rotations turn its rows into the eigenvectors.
  */
-function implicitQl(d: Float64Array, e: Float64Array, w: Float64Array | null, n: number): void {
+function implicitQl(d: Float64Array, e: Float64Array, w: Float64Array | null, n: number, width = n): void {
   for (let i = 1; i < n; i++) e[i - 1] = e[i];
   if (n > 0) e[n - 1] = 0;
   let shift = 0;
@@ -173,9 +173,9 @@ function implicitQl(d: Float64Array, e: Float64Array, w: Float64Array | null, n:
         p = c * d[i] - s * g;
         d[i + 1] = h + s * (c * g + s * d[i]);
         if (w) {
-          const lo = i * n;
-          const hi = lo + n;
-          for (let k = 0; k < n; k++) {
+          const lo = i * width;
+          const hi = lo + width;
+          for (let k = 0; k < width; k++) {
             const upper = w[hi + k];
             const lower = w[lo + k];
             w[hi + k] = s * lower + c * upper;
@@ -193,6 +193,28 @@ function implicitQl(d: Float64Array, e: Float64Array, w: Float64Array | null, n:
     d[l] += shift;
     e[l] = 0;
   }
+}
+
+/**
+ * Eigenvalues (ascending) of the symmetric tridiagonal matrix with `diagonal` (n) and
+ * `offDiagonal` (n - 1), and the first component of each unit eigenvector: the Gauss quadrature
+ * of a Lanczos run (Golub and Welsch, Math. Comp. 23, 221 (1969)). Only the first row of the
+ * eigenvector matrix is rotated, so this costs O(n^2) rather than O(n^3).
+ */
+export function tridiagonalEigen(
+  diagonal: ArrayLike<number>,
+  offDiagonal: ArrayLike<number>,
+): { values: Float64Array; firstComponents: Float64Array } {
+  const n = diagonal.length;
+  const d = Float64Array.from(diagonal);
+  const e = new Float64Array(n);
+  for (let i = 1; i < n; i++) e[i] = offDiagonal[i - 1];
+  // Row i of w holds component 0 of eigenvector i: the identity's first column to start.
+  const w = new Float64Array(n);
+  if (n > 0) w[0] = 1;
+  implicitQl(d, e, w, n, 1);
+  const order = Array.from({ length: n }, (_, i) => i).sort((p, q) => d[p] - d[q]);
+  return { values: Float64Array.from(order, (k) => d[k]), firstComponents: Float64Array.from(order, (k) => w[k]) };
 }
 
 function sortAscending(d: Float64Array, w: Float64Array | null, n: number): SymmetricEigen {

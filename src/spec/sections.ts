@@ -7,6 +7,7 @@ import { resolveEvolveSection, validateEvolveSection } from './evolveSection.js'
 import { resolveLattice, validateLatticeSection } from './lattice.js';
 import { validateScanSection } from './scanSection.js';
 import { resolveUnits, validateUnitsSection } from './units.js';
+import { resolveSpectrumSection, validateSpectrumSection } from './spectrumSection.js';
 
 export interface OptionalSection {
   /** The top-level key; never the name of a core section. */
@@ -24,4 +25,5 @@ export const OPTIONAL_SECTIONS: readonly OptionalSection[] = [
   { name: 'units', validate: validateUnitsSection, resolve: resolveUnits },
   { name: 'evolve', validate: validateEvolveSection, resolve: resolveEvolveSection },
   { name: 'scan', validate: validateScanSection },
+  { name: 'spectrum', validate: validateSpectrumSection, resolve: resolveSpectrumSection },
 ];

@@ -91,7 +91,7 @@ function enumerate(m: ModelDescription): Int32Array[] {
 }
 
 /** Applies a product of ladder operators (written left to right, acting right to left). */
-function applyProduct(
+export function applyProduct(
   m: ModelDescription,
   occ: Int32Array,
   ops: [number, boolean][],

@@ -1,0 +1,265 @@
+// The Lanczos continued fraction (Gagliano and Balseiro, Phys. Rev. Lett. 59, 2999 (1987)):
+// from a start vector phi, the Lanczos recurrence
+//     b_{j+1} v_{j+1} = H v_j - a_j v_j - b_j v_{j-1},    v_0 = phi / ||phi||,
+// gives the tridiagonal T (a on the diagonal, b beside it), and
+//     <phi| (z - H)^{-1} |phi> = ||phi||^2 / (z - a_0 - b_1^2 / (z - a_1 - b_2^2 / ...)).
+// Its poles are T's eigenvalues theta_j with weights ||phi||^2 u_{0j}^2 (u_{0j} the first component
+// of the eigenvector): the Gauss quadrature of the spectral measure of phi, whose moments up to
+// order 2n - 1 are exact after n levels. The broadened curve is the sum of the poles' line shapes,
+// which for a Lorentzian is -(1/pi) Im of the continued fraction at z = omega + i eta.
+//
+// Small spaces keep every Lanczos vector and orthogonalize against all of them (twice), so the
+// recurrence ends exactly when the Krylov space is invariant. Large ones run the plain three-term
+// recurrence on three vectors: orthogonality is lost once lines converge and copies ("ghosts") of
+// them appear, but the quadrature stays accurate (Greenbaum, Linear Algebra Appl. 113, 7 (1989)),
+// so the curve converges all the same; the copies of a line are merged when lines are listed.
+
+import { tridiagonalEigen } from '../linalg/symmetricEigen.js';
+import type { HermitianOperator } from '../operator/hermitian.js';
+
+/** A new direction shorter than this, relative to the largest coefficient, means the Krylov space is invariant. */
+const INVARIANT_RATIO = 1e-12;
+/** Keep every vector (and orthogonalize fully) while the kept vectors take at most this many doubles. */
+export const FULL_ORTHOGONALIZATION_DOUBLES = 1 << 20;
+
+/**
+ * One Lanczos run from a start vector, extended on demand. Vectors are real (length dim, a real
+ * operator) or interleaved complex (length 2 dim); `apply` is the operator's product on them.
+ */
+export class LanczosChain {
+  readonly diagonal: number[] = [];
+  /** off[j] = b_{j+1}, between levels j and j + 1. */
+  readonly off: number[] = [];
+  /** The Krylov space is invariant: the tridiagonal matrix holds the whole spectrum of the start vector. */
+  exhausted = false;
+  products = 0;
+  private previous: Float64Array;
+  private current: Float64Array;
+  private readonly work: Float64Array;
+  private readonly kept: Float64Array[] | null;
+  private readonly coefficients: Float64Array;
+
+  constructor(
+    private readonly apply: (x: Float64Array, y: Float64Array) => void,
+    start: Float64Array,
+    private readonly complex: boolean,
+    fullOrthogonalization: boolean,
+  ) {
+    const norm = Math.sqrt(dotRe(start, start));
+    this.current = Float64Array.from(start, (x) => x / norm);
+    this.previous = new Float64Array(start.length);
+    this.work = new Float64Array(start.length);
+    this.kept = fullOrthogonalization ? [this.current] : null;
+    this.coefficients = new Float64Array(2);
+  }
+
+  get levels(): number {
+    return this.diagonal.length;
+  }
+
+  /** Runs the recurrence until `levels` levels are known or the Krylov space is invariant. */
+  extendTo(levels: number, onLevel?: () => void): void {
+    while (!this.exhausted && this.diagonal.length < levels) {
+      const w = this.work;
+      const v = this.current;
+      this.apply(v, w);
+      this.products++;
+      const a = dotRe(v, w);
+      const b = this.off.length > 0 ? this.off[this.off.length - 1] : 0;
+      const u = this.previous;
+      for (let k = 0; k < w.length; k++) w[k] -= a * v[k] + b * u[k];
+      if (this.kept) for (let pass = 0; pass < 2; pass++) for (const q of this.kept) this.subtractProjection(q, w);
+      this.diagonal.push(a);
+      const next = Math.sqrt(dotRe(w, w));
+      const scale = Math.max(...this.diagonal.map(Math.abs), ...this.off, next);
+      if (next <= INVARIANT_RATIO * scale) {
+        this.exhausted = true;
+        onLevel?.();
+        break;
+      }
+      this.off.push(next);
+      // The old previous vector becomes the next one (unless kept), saving an allocation per level.
+      const fresh = this.kept ? new Float64Array(w.length) : this.previous;
+      for (let k = 0; k < w.length; k++) fresh[k] = w[k] / next;
+      this.previous = this.current;
+      this.current = fresh;
+      this.kept?.push(fresh);
+      onLevel?.();
+    }
+  }
+
+  /** w -= <q, w> q (complex coefficients for complex vectors). */
+  private subtractProjection(q: Float64Array, w: Float64Array): void {
+    if (!this.complex) {
+      const c = dotRe(q, w);
+      for (let k = 0; k < w.length; k++) w[k] -= c * q[k];
+      return;
+    }
+    complexDotInto(q, w, this.coefficients);
+    const cr = this.coefficients[0];
+    const ci = this.coefficients[1];
+    for (let k = 0; k < w.length; k += 2) {
+      w[k] -= cr * q[k] - ci * q[k + 1];
+      w[k + 1] -= cr * q[k + 1] + ci * q[k];
+    }
+  }
+}
+
+/** Sum of x_k y_k: the real part of <x, y> for interleaved complex vectors too. */
+export function dotRe(x: Float64Array, y: Float64Array): number {
+  let s = 0;
+  for (let k = 0; k < x.length; k++) s += x[k] * y[k];
+  return s;
+}
+
+/** out = <a, b> = sum conj(a) b, interleaved complex. */
+export function complexDotInto(a: Float64Array, b: Float64Array, out: Float64Array): void {
+  let re = 0;
+  let im = 0;
+  for (let k = 0; k < a.length; k += 2) {
+    re += a[k] * b[k] + a[k + 1] * b[k + 1];
+    im += a[k] * b[k + 1] - a[k + 1] * b[k];
+  }
+  out[0] = re;
+  out[1] = im;
+}
+
+export interface Poles {
+  /** Eigenvalues of the tridiagonal matrix (absolute energies), ascending. */
+  positions: Float64Array;
+  /** Their weights; they add up to the start vector's squared norm. */
+  weights: Float64Array;
+}
+
+/** The poles of the first `levels` levels of a chain, for a start vector of squared norm `weight`. */
+export function chainPoles(chain: LanczosChain, levels: number, weight: number): Poles {
+  const n = Math.min(levels, chain.levels);
+  const { values, firstComponents } = tridiagonalEigen(chain.diagonal.slice(0, n), chain.off.slice(0, n - 1));
+  return { positions: values, weights: Float64Array.from(firstComponents, (u) => weight * u * u) };
+}
+
+/** Line shape: a Lorentzian or a Gaussian, by its half width at half maximum; each integrates to 1. */
+export interface LineShape {
+  lorentzian: number;
+  gaussian: number;
+}
+
+/** sum_j weight_j shape(omega - position_j) at each frequency (positions already shifted to the frequency axis). */
+export function broadenedCurve(
+  positions: ArrayLike<number>,
+  weights: ArrayLike<number>,
+  frequencies: Float64Array,
+  shape: LineShape,
+): Float64Array {
+  const out = new Float64Array(frequencies.length);
+  if (shape.lorentzian > 0) {
+    const eta = shape.lorentzian;
+    for (let j = 0; j < positions.length; j++) {
+      const w = weights[j] * (eta / Math.PI);
+      if (w === 0) continue;
+      const x = positions[j];
+      for (let f = 0; f < frequencies.length; f++) {
+        const d = frequencies[f] - x;
+        out[f] += w / (d * d + eta * eta);
+      }
+    }
+    return out;
+  }
+  // Half width at half maximum gamma = sigma sqrt(2 ln 2).
+  const sigma = shape.gaussian / Math.sqrt(2 * Math.LN2);
+  const norm = 1 / (sigma * Math.sqrt(2 * Math.PI));
+  for (let j = 0; j < positions.length; j++) {
+    const w = weights[j] * norm;
+    if (w === 0) continue;
+    const x = positions[j];
+    for (let f = 0; f < frequencies.length; f++) {
+      const d = (frequencies[f] - x) / sigma;
+      out[f] += w * Math.exp(-0.5 * d * d);
+    }
+  }
+  return out;
+}
+
+/**
+ * The integral over the whole real line of the curve's part outside [from, to]: what the window
+ * misses of each line (closed forms: arctan for a Lorentzian, erfc for a Gaussian).
+ */
+export function weightInside(
+  positions: ArrayLike<number>,
+  weights: ArrayLike<number>,
+  from: number,
+  to: number,
+  shape: LineShape,
+): number {
+  let inside = 0;
+  for (let j = 0; j < positions.length; j++) {
+    const a = from - positions[j];
+    const b = to - positions[j];
+    if (shape.lorentzian > 0) {
+      const eta = shape.lorentzian;
+      inside += (weights[j] * (Math.atan(b / eta) - Math.atan(a / eta))) / Math.PI;
+    } else {
+      const s = (shape.gaussian / Math.sqrt(2 * Math.LN2)) * Math.SQRT2;
+      inside += (weights[j] * (erf(b / s) - erf(a / s))) / 2;
+    }
+  }
+  return inside;
+}
+
+/** The error function, to an absolute 1.5e-7 (Abramowitz and Stegun 7.1.26): enough for a reported window weight. */
+function erf(x: number): number {
+  const sign = x < 0 ? -1 : 1;
+  const t = 1 / (1 + 0.3275911 * Math.abs(x));
+  const y =
+    1 -
+    ((((1.061405429 * t - 1.453152027) * t + 1.421413741) * t - 0.284496736) * t + 0.254829592) * t * Math.exp(-x * x);
+  return sign * y;
+}
+
+/**
+ * Merges poles closer than `within` into one line at their weighted mean (ghost copies of a line
+ * from a run without full orthogonalization, and the copies of a degenerate ground space), then
+ * returns the `count` strongest, ordered by position.
+ */
+export function strongestLines(
+  positions: ArrayLike<number>,
+  weights: ArrayLike<number>,
+  within: number,
+  count: number,
+): { position: number; weight: number }[] {
+  const order = Array.from({ length: positions.length }, (_, k) => k).sort((p, q) => positions[p] - positions[q]);
+  const merged: { position: number; weight: number }[] = [];
+  let sum = 0;
+  let moment = 0;
+  let last = -Infinity;
+  for (const k of order) {
+    if (positions[k] - last > within && sum > 0) {
+      merged.push({ position: moment / sum, weight: sum });
+      sum = 0;
+      moment = 0;
+    }
+    if (sum === 0) last = positions[k];
+    sum += weights[k];
+    moment += weights[k] * positions[k];
+  }
+  if (sum > 0) merged.push({ position: moment / sum, weight: sum });
+  return merged
+    .sort((a, b) => b.weight - a.weight)
+    .slice(0, count)
+    .sort((a, b) => a.position - b.position);
+}
+
+/** The operator's product on the chain's vectors: real ones directly, complex ones part by part for a real operator. */
+export function productOn(op: HermitianOperator, complex: boolean): (x: Float64Array, y: Float64Array) => void {
+  if (!complex || op.isComplex) return (x, y) => op.apply(x, y);
+  const dim = op.dim;
+  const xr = new Float64Array(dim);
+  const yr = new Float64Array(dim);
+  return (x, y) => {
+    for (let part = 0; part < 2; part++) {
+      for (let s = 0; s < dim; s++) xr[s] = x[2 * s + part];
+      op.apply(xr, yr);
+      for (let s = 0; s < dim; s++) y[2 * s + part] = yr[s];
+    }
+  };
+}

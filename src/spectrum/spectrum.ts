@@ -1,0 +1,314 @@
+// Linear-response spectra at zero temperature (issue 22, docs/model.md "Spectra"):
+//     A(omega) = (1/g) sum_k sum_{n outside the ground space} |<n|O|psi_k>|^2 delta(omega - (E_n - E_0))
+// over the g copies psi_k of the ground level, by the Lanczos continued fraction started from the
+// connected part (1 - P_0) O |psi_k> of each copy. The elastic part |<0|O|0>|^2 = ||P_0 O psi_k||^2
+// (averaged) is reported on its own. The ground state comes from solvePoint, expanded to the full
+// basis when it was found in symmetry sectors; the continued fraction runs on the full space.
+
+import { buildBasis } from '../basis/basis.js';
+import { ConvergenceError, ResourceError, SpecError } from '../errors/errors.js';
+import { buildOperator } from '../operator/build.js';
+import { planFockOperator } from '../operator/fock.js';
+import { defaultProductThreads, withThreads } from '../operator/threaded.js';
+import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES } from '../point/memory.js';
+import { solvePoint, type PointRecord, type SolveOptions } from '../point/solvePoint.js';
+import { latticeOf } from '../spec/lattice.js';
+import type { Spec } from '../spec/spec.js';
+import type { SpectrumSection } from '../spec/spectrumSection.js';
+import { labUnits } from '../spec/units.js';
+import { buildModel, type Model } from '../model/model.js';
+import { basisDimension } from '../basis/basis.js';
+import { applyProbe, buildProbe } from './probe.js';
+import {
+  broadenedCurve,
+  chainPoles,
+  complexDotInto,
+  dotRe,
+  FULL_ORTHOGONALIZATION_DOUBLES,
+  LanczosChain,
+  productOn,
+  strongestLines,
+  weightInside,
+  type LineShape,
+} from './continuedFraction.js';
+
+/** Levels of the first curve; each further one doubles them. */
+const FIRST_LEVELS = 32;
+/** A connected weight below this fraction of <O+ O> is rounding of an exact zero: no lines. */
+const ZERO_WEIGHT = 1e-12;
+
+export interface SpectrumResult {
+  probe: {
+    kind: 'drive' | 'level' | 'coordinate';
+    link: number | null;
+    level: number | null;
+    phase: number;
+    sites: number[] | 'all';
+    momentum: number | number[];
+    /** The wave vector q, radians per lattice step, one per lattice direction. */
+    q: number[];
+  };
+  temperature: number;
+  frequency_unit: 'model' | 'khz';
+  broadening: { lorentzian: number; gaussian: number };
+  frequencies: number[];
+  /** A(omega) per frequency unit: integrates to `weight` over the whole axis. */
+  intensity: number[];
+  /** The strongest lines: position (E_n - E_0 in the frequency unit) and weight. */
+  lines: { position: number; weight: number }[];
+  /** The sum rule: <O+ O> - |<0|O|0>|^2, the connected weight the lines carry. */
+  weight: number;
+  elastic_weight: number;
+  /** <O+ O> in the ground level. */
+  total_weight: number;
+  /** The sum of every pole's weight (equal to `weight` up to rounding). */
+  lines_weight: number;
+  /** The part of the broadened curve inside the frequency window [from, to]. */
+  window_weight: number;
+  ground_energy: number;
+  ground_copies: number;
+  /** False when the ground level may have copies the solve did not find (then the average covers those found). */
+  ground_copies_complete: boolean;
+  continued_fraction: {
+    /** Levels of the final curve (per copy of the ground level, the largest). */
+    levels: number;
+    /** The curve's largest change between the last two level counts, relative to its peak (0 when exact). */
+    check: number;
+    tolerance: number;
+    converged: boolean;
+    /** The Krylov space of every start vector was exhausted: the poles are the exact lines. */
+    exact: boolean;
+    orthogonalization: 'full' | 'none';
+    products: number;
+    seconds_per_level: number;
+  };
+  dimension: number;
+  seconds: { ground_state: number; spectrum: number };
+}
+
+export interface SpectrumOutcome {
+  spectrum: SpectrumResult;
+  record: PointRecord;
+}
+
+/** The spec's [spectrum] section, or an error saying it is missing. */
+export function spectrumSection(spec: Spec): SpectrumSection {
+  const section = spec.extra.spectrum as SpectrumSection | undefined;
+  if (!section)
+    throw new SpecError('spectrum', 'the spec has no [spectrum] section: add one with probe and frequencies');
+  return section;
+}
+
+/** Solves the ground state of `spec` and computes the spectrum its [spectrum] section asks for. */
+export function computeSpectrum(spec: Spec, options: SolveOptions = {}): SpectrumOutcome {
+  const section = spectrumSection(spec);
+  const model = buildModel(spec);
+  const basis = buildBasis(model);
+  // The probe is checked against the geometry before anything is solved.
+  const probe = buildProbe(section.probe, model, basis, latticeOf(spec));
+  const limit = options.maxMemory ?? defaultMemoryLimit();
+  assertWithinMemory(spectrumMemory(model, 1, section), limit, 'the spectrum', options.memoryLimitName);
+  const solved = solvePoint(spec, { ...options, keepStates: 'ground' });
+  const record = solved.record;
+  const groundSeconds = record.solver.seconds;
+  if (!record.solver.converged)
+    throw new ConvergenceError(
+      `the ground state did not converge to solve.tolerance ${spec.solve.tolerance}: its spectrum would not mean much`,
+    );
+  const ground = solved.kept?.vectors ?? solved.groundStates;
+  if (ground.length === 0) throw new ResourceError('the ground states could not be kept on the full space');
+  assertWithinMemory(spectrumMemory(model, ground.length, section), limit, 'the spectrum', options.memoryLimitName);
+  const started = performance.now();
+  const dim = basis.dim;
+  const e0 = record.energies[0];
+
+  // O psi_k for every copy, then its parts inside and outside the ground space.
+  const groundComplex = ground.map((g) => (g.length === 2 * dim ? g : toInterleaved(g, dim)));
+  const probed = groundComplex.map((g) => {
+    const out = new Float64Array(2 * dim);
+    applyProbe(probe, basis, g, out);
+    return out;
+  });
+  const c = new Float64Array(2);
+  let elastic = 0;
+  let total = 0;
+  for (const phi of probed) {
+    total += dotRe(phi, phi);
+    // Twice, so the rounding of the first projection is removed too.
+    for (let pass = 0; pass < 2; pass++) {
+      for (const g of groundComplex) {
+        complexDotInto(g, phi, c);
+        if (pass === 0) elastic += c[0] * c[0] + c[1] * c[1];
+        for (let k = 0; k < phi.length; k += 2) {
+          phi[k] -= c[0] * g[k] - c[1] * g[k + 1];
+          phi[k + 1] -= c[0] * g[k + 1] + c[1] * g[k];
+        }
+      }
+    }
+  }
+  const copies = ground.length;
+  elastic /= copies;
+  total /= copies;
+  const connected = probed.map((phi) => dotRe(phi, phi));
+  const weight = connected.reduce((a, b) => a + b, 0) / copies;
+
+  // Real arithmetic when the operator and every start vector are real.
+  const op = buildOperator(model, basis);
+  const complex = model.isComplex || probed.some((phi) => !imaginaryZero(phi));
+  const threads = Math.max(
+    1,
+    Math.min(
+      spec.solve.threads === 'auto' ? defaultProductThreads(op.nonzeros()) : spec.solve.threads,
+      options.threads ?? Infinity,
+    ),
+  );
+  const threaded = withThreads(op, threads, model, basis.kind === 'pinned' ? basis : undefined);
+  const length = (complex ? 2 : 1) * dim;
+  const full = length * Math.min(section.maxLevels, dim + 1) <= FULL_ORTHOGONALIZATION_DOUBLES;
+  const apply = productOn(threaded, complex);
+  const unitScale = frequencyScale(spec, section);
+  const shape: LineShape = { lorentzian: section.lorentzian, gaussian: section.gaussian };
+  const frequencies = Float64Array.from(
+    { length: section.steps },
+    (_, k) => section.from + ((section.to - section.from) * k) / (section.steps - 1),
+  );
+  const chains: { chain: LanczosChain; weight: number }[] = [];
+  probed.forEach((phi, k) => {
+    if (connected[k] <= ZERO_WEIGHT * Math.max(total, Number.MIN_VALUE)) return;
+    const start = complex ? phi : realPart(phi, dim);
+    chains.push({ chain: new LanczosChain(apply, start, complex, full), weight: connected[k] / copies });
+  });
+  // Poles of every chain at `levels` levels, shifted to the frequency axis.
+  const polesAt = (levels: number) => {
+    const positions: number[] = [];
+    const weights: number[] = [];
+    for (const { chain, weight: w } of chains) {
+      const p = chainPoles(chain, levels, w);
+      p.positions.forEach((x, j) => {
+        positions.push((x - e0) * unitScale);
+        weights.push(p.weights[j]);
+      });
+    }
+    return { positions, weights };
+  };
+  const curveAt = (levels: number) => {
+    const p = polesAt(levels);
+    return broadenedCurve(p.positions, p.weights, frequencies, shape);
+  };
+  let levels = Math.min(FIRST_LEVELS, section.maxLevels);
+  let check = 0;
+  let curve: Float64Array;
+  try {
+    for (const { chain } of chains) chain.extendTo(levels);
+    curve = curveAt(levels);
+    while (!chains.every(({ chain }) => chain.exhausted && chain.levels <= levels) && levels < section.maxLevels) {
+      const next = Math.min(2 * levels, section.maxLevels);
+      for (const { chain } of chains) chain.extendTo(next);
+      const nextCurve = curveAt(next);
+      let peak = 0;
+      let change = 0;
+      for (let f = 0; f < nextCurve.length; f++) {
+        peak = Math.max(peak, Math.abs(nextCurve[f]));
+        change = Math.max(change, Math.abs(nextCurve[f] - curve[f]));
+      }
+      check = peak > 0 ? change / peak : 0;
+      curve = nextCurve;
+      levels = next;
+      if (check <= section.tolerance) break;
+    }
+  } finally {
+    threaded.close();
+  }
+  const exact = chains.every(({ chain }) => chain.exhausted);
+  if (exact) check = 0;
+  const used = Math.max(0, ...chains.map(({ chain }) => Math.min(chain.levels, levels)));
+  const poles = polesAt(levels);
+  // Ghost copies from a run without full orthogonalization sit within rounding of the true line.
+  const scale = Math.max(1, ...poles.positions.map(Math.abs));
+  const lines = strongestLines(poles.positions, poles.weights, 1e-8 * scale, section.lines).filter(
+    (l) => l.weight > ZERO_WEIGHT * Math.max(total, Number.MIN_VALUE),
+  );
+  const products = chains.reduce((sum, { chain }) => sum + chain.products, 0);
+  const spectrumSeconds = (performance.now() - started) / 1000;
+  const p = section.probe;
+  return {
+    record,
+    spectrum: {
+      probe: {
+        kind: p.kind,
+        link: p.link,
+        level: p.level,
+        phase: p.phase,
+        sites: p.sites ?? 'all',
+        momentum: p.momentum,
+        q: probe.wavevector,
+      },
+      temperature: 0,
+      frequency_unit: section.frequencyUnit,
+      broadening: shape,
+      frequencies: Array.from(frequencies),
+      intensity: Array.from(curve),
+      lines,
+      weight,
+      elastic_weight: elastic,
+      total_weight: total,
+      lines_weight: poles.weights.reduce((a, b) => a + b, 0),
+      window_weight: weightInside(poles.positions, poles.weights, section.from, section.to, shape),
+      ground_energy: e0,
+      ground_copies: copies,
+      ground_copies_complete: record.solver.degeneracy_complete,
+      continued_fraction: {
+        levels: used,
+        check,
+        tolerance: section.tolerance,
+        converged: exact || check <= section.tolerance,
+        exact,
+        orthogonalization: full ? 'full' : 'none',
+        products,
+        seconds_per_level: products > 0 ? spectrumSeconds / products : 0,
+      },
+      dimension: dim,
+      seconds: { ground_state: groundSeconds, spectrum: spectrumSeconds },
+    },
+  };
+}
+
+/** Model energies to the output's frequency unit: 1, or the energy unit in kHz. */
+function frequencyScale(spec: Spec, section: SpectrumSection): number {
+  if (section.frequencyUnit === 'model') return 1;
+  return labUnits(spec)!.energyUnitHz / 1e3;
+}
+
+/** Peak memory of the spectrum beside the ground state: the operator, the copies, O psi, the Lanczos vectors. */
+function spectrumMemory(model: Model, copies: number, section: SpectrumSection) {
+  const dim = basisDimension(model);
+  const vector = 16 * dim;
+  const operator = model.kind === 'pinned' ? 8 * dim : planFockOperator(model, dim).bytes;
+  const kept = 2 * dim * Math.min(section.maxLevels, dim + 1) <= FULL_ORTHOGONALIZATION_DOUBLES;
+  const lanczos = kept ? 8 * FULL_ORTHOGONALIZATION_DOUBLES : 4 * vector;
+  const parts = {
+    runtime: RUNTIME_BASELINE_BYTES,
+    operator,
+    ground_states: copies * vector,
+    probed_states: copies * vector,
+    lanczos: copies * lanczos,
+  };
+  return { parts, totalBytes: Object.values(parts).reduce((a, b) => a + b, 0) };
+}
+
+function toInterleaved(v: Float64Array, dim: number): Float64Array {
+  const out = new Float64Array(2 * dim);
+  for (let s = 0; s < dim; s++) out[2 * s] = v[s];
+  return out;
+}
+
+function imaginaryZero(v: Float64Array): boolean {
+  for (let k = 1; k < v.length; k += 2) if (v[k] !== 0) return false;
+  return true;
+}
+
+function realPart(v: Float64Array, dim: number): Float64Array {
+  const out = new Float64Array(dim);
+  for (let s = 0; s < dim; s++) out[s] = v[2 * s];
+  return out;
+}

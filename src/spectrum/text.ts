@@ -1,0 +1,66 @@
+// A spectrum as text: the readable table, and tidy CSV (the curve, or the lines).
+
+import { csv, fmt, fmtNoise, fmtSmall, plural, table } from '../format/tables.js';
+import type { SpectrumResult } from './spectrum.js';
+
+/** What was probed, in words: "drive on link 0 (phase 0) at q = 0 on every site". */
+export function describeProbe(p: SpectrumResult['probe']): string {
+  const what =
+    p.kind === 'drive'
+      ? `drive on link ${p.link} (phase ${fmt(p.phase)})`
+      : p.kind === 'level'
+        ? `population of level ${p.level}`
+        : 'synthetic coordinate';
+  const q = p.q.length === 1 ? fmt(p.q[0], 6) : `[${p.q.map((x) => fmt(x, 6)).join(', ')}]`;
+  const where = p.sites === 'all' ? 'every site' : `sites ${p.sites.join(', ')}`;
+  return `${what} at q = ${q} on ${where}`;
+}
+
+export function spectrumText(s: SpectrumResult): string {
+  const unit = s.frequency_unit === 'khz' ? 'kHz' : 'model units';
+  const cf = s.continued_fraction;
+  const width =
+    s.broadening.lorentzian > 0
+      ? `Lorentzian, half width ${fmt(s.broadening.lorentzian)}`
+      : `Gaussian, half width ${fmt(s.broadening.gaussian)}`;
+  const out = [
+    `spectrum of the ${describeProbe(s.probe)}, zero temperature`,
+    `ground energy ${fmt(s.ground_energy)} (${plural(s.ground_copies, 'copy', 'copies')} averaged${s.ground_copies_complete ? '' : ', maybe not every copy found'}), dimension ${s.dimension}`,
+    `weight (sum rule <O+ O> - |<0|O|0>|^2) ${fmt(s.weight)}; elastic |<0|O|0>|^2 ${fmt(s.elastic_weight)}; lines ${fmt(s.lines_weight)}; inside the window ${fmt(s.window_weight)}`,
+    `continued fraction: ${plural(cf.levels, 'level')}, ${cf.exact ? 'exact (Krylov space exhausted)' : `largest change of the curve from half the levels ${fmtSmall(cf.check)} of its peak (tolerance ${fmtSmall(cf.tolerance)})`}${cf.converged ? '' : ', NOT converged'}; ${plural(cf.products, 'product')}, ${fmtSmall(cf.seconds_per_level)} s per level`,
+    `broadening: ${width} (${unit}); seconds: ground state ${fmt(s.seconds.ground_state, 3)}, spectrum ${fmt(s.seconds.spectrum, 3)}`,
+    '',
+    `strongest lines (position in ${unit}, weight):`,
+  ];
+  const lineScale = Math.max(s.weight, 1e-300);
+  out.push(
+    s.lines.length === 0
+      ? '  none: the probe has no weight outside the ground space'
+      : table(
+          ['position', 'weight'],
+          s.lines.map((l) => [fmt(l.position), fmtNoise(l.weight, lineScale)]),
+        ),
+  );
+  out.push('', `curve (frequency in ${unit}, intensity per ${s.frequency_unit === 'khz' ? 'kHz' : 'unit'}):`);
+  const peak = Math.max(...s.intensity.map(Math.abs), 0);
+  out.push(
+    table(
+      ['frequency', 'intensity'],
+      s.frequencies.map((f, k) => [fmt(f), fmtNoise(s.intensity[k], peak)]),
+    ),
+  );
+  return out.join('\n');
+}
+
+/** Tidy CSV: one row per frequency (frequency, intensity), or one per line (position, weight). */
+export function spectrumCsv(s: SpectrumResult, what: 'curve' | 'lines'): string {
+  if (what === 'lines')
+    return csv(
+      ['position', 'weight'],
+      s.lines.map((l) => [l.position, l.weight]),
+    );
+  return csv(
+    ['frequency', 'intensity'],
+    s.frequencies.map((f, k) => [f, s.intensity[k]]),
+  );
+}

@@ -1,0 +1,70 @@
+// `spectrum SPEC` as a user runs it (the built command line): the table, --json, tidy --csv, and
+// bad input as one line with exit code 2.
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { runCli } from '../../support/cli.js';
+
+const folder = fs.mkdtempSync(path.join(os.tmpdir(), 'rungchain-spectrum-'));
+afterAll(() => fs.rmSync(folder, { recursive: true, force: true }));
+
+// A dressed two-level molecule probed in quadrature: one line at 2J = 2 of weight 1 (Autler-Townes; common practice).
+const spec = path.join(folder, 'molecule.json');
+fs.writeFileSync(
+  spec,
+  JSON.stringify({
+    chain: { sites: 1 },
+    levels: { count: 2, tunnelling: 1 },
+    spectrum: { probe: { link: 0, phase: Math.PI / 2 }, frequencies: { from: 0, to: 4, steps: 5 }, broadening: 0.1 },
+  }),
+);
+
+describe('rungchain spectrum', () => {
+  it('prints the table with the weight, the lines and the curve', () => {
+    const r = runCli(['spectrum', spec]);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toContain('weight (sum rule <O+ O> - |<0|O|0>|^2) 1;');
+    expect(r.stdout).toContain('exact (Krylov space exhausted)');
+    expect(r.stdout).toMatch(/position\s+weight\n-+\s+-+\n2\s+1\n/);
+  });
+
+  it('--json is one object on stdout', () => {
+    const r = runCli(['spectrum', spec, '--json']);
+    expect(r.code).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.frequencies).toEqual([0, 1, 2, 3, 4]);
+    expect(out.intensity).toHaveLength(5);
+    // the Lorentzian's height at its centre: weight / (pi eta)
+    expect(out.intensity[2]).toBeCloseTo(1 / (Math.PI * 0.1), 8);
+    expect(out.lines).toHaveLength(1);
+    expect(out.continued_fraction.converged).toBe(true);
+  });
+
+  it('--csv is tidy: frequency,intensity rows, or position,weight with --csv lines', () => {
+    const curve = runCli(['spectrum', spec, '--csv']);
+    expect(curve.code).toBe(0);
+    const rows = curve.stdout.trim().split('\n');
+    expect(rows[0]).toBe('frequency,intensity');
+    expect(rows).toHaveLength(6);
+    const lines = runCli(['spectrum', spec, '--csv', 'lines']);
+    expect(lines.stdout.trim().split('\n')[0]).toBe('position,weight');
+    expect(Number(lines.stdout.trim().split('\n')[1].split(',')[0])).toBeCloseTo(2, 10);
+  });
+
+  it('refuses bad input in one line with exit code 2', () => {
+    const bad = runCli(['spectrum', spec, '--csv', 'poles']);
+    expect(bad.code).toBe(2);
+    expect(bad.stderr.trim().split('\n')).toHaveLength(1);
+    expect(bad.stderr).toContain('--csv');
+    const link = runCli(['spectrum', spec, '--set', 'spectrum.probe.link=3']);
+    expect(link.code).toBe(2);
+    expect(link.stderr).toContain('spectrum.probe.link');
+    const missing = runCli(['spectrum', spec, '--set', 'spectrum=null']);
+    expect(missing.code).toBe(2);
+    expect(missing.stderr).toContain('spectrum');
+    const hot = runCli(['spectrum', spec, '--set', 'spectrum.temperature=0.1']);
+    expect(hot.code).toBe(2);
+    expect(hot.stderr).toContain('spectrum.temperature');
+  });
+});

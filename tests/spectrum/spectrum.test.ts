@@ -1,0 +1,501 @@
+// Zero-temperature spectra by the Lanczos continued fraction (issue 22) against outside sources:
+// one molecule's ladder (ml-matrix's dense eigenvectors), the Autler-Townes doublet of a dressed
+// two-level molecule (common practice), the exact Lehmann sum over the dense spectrum of the plain
+// build of docs/model.md (tests/support/occupationReference.ts) on random small specs of every kind,
+// the open XX chain's particle-hole lines (Lieb, Schultz and Mattis, Ann. Phys. 16, 407 (1961)),
+// and the sum rules.
+
+import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { describe, expect, it } from 'vitest';
+import { computeSpectrum } from '../../src/spectrum/spectrum.js';
+import { validateSpec } from '../../src/spec/spec.js';
+import {
+  applyProduct,
+  buildDense,
+  levelWindow,
+  type Kind,
+  type ModelDescription,
+} from '../support/occupationReference.js';
+import { describeCase, referenceSites } from '../support/latticeReference.js';
+import { rng } from '../support/random.js';
+
+type Raw = Record<string, any>;
+
+const run = (raw: Raw) => computeSpectrum(validateSpec(JSON.parse(JSON.stringify(raw)) as Raw)).spectrum;
+
+/** Eigenvalues (ascending) and eigenvectors (columns) of a Hermitian matrix through its real embedding. */
+function embeddedEigen(re: number[][], im: number[][]): { values: number[]; vectors: number[][] } {
+  const D = re.length;
+  const m = new Matrix(2 * D, 2 * D);
+  for (let r = 0; r < D; r++)
+    for (let c = 0; c < D; c++) {
+      m.set(r, c, re[r][c]);
+      m.set(r + D, c + D, re[r][c]);
+      m.set(r, c + D, -im[r][c]);
+      m.set(r + D, c, im[r][c]);
+    }
+  const evd = new EigenvalueDecomposition(m, { assumeSymmetric: true });
+  const order = evd.realEigenvalues.map((e, k) => [e, k] as const).sort((a, b) => a[0] - b[0]);
+  return { values: order.map(([e]) => e), vectors: order.map(([, k]) => evd.eigenvectorMatrix.getColumn(k)) };
+}
+
+/**
+ * The Lehmann sum: every pair (ground copy k, state n outside the ground space) gives a line at
+ * E_n - E_0 of weight |<n|O|k>|^2, averaged over the copies. On the real embedding each complex
+ * state appears twice (u and i u), in the ground space and outside it alike, so summing the squared
+ * real overlaps over embedded n and dividing by the embedded ground count gives the same average.
+ */
+function lehmann(
+  hRe: number[][],
+  hIm: number[][],
+  oRe: number[][],
+  oIm: number[][],
+  tolerance: number,
+): { lines: { position: number; weight: number }[]; elastic: number; copies: number } {
+  const D = hRe.length;
+  const { values, vectors } = embeddedEigen(hRe, hIm);
+  const e0 = values[0];
+  const window = levelWindow(e0, tolerance);
+  const ground = values.map((e, k) => [e, k] as const).filter(([e]) => e - e0 <= window);
+  const apply = (v: number[]) => {
+    const out = new Array<number>(2 * D).fill(0);
+    for (let r = 0; r < D; r++)
+      for (let c = 0; c < D; c++) {
+        out[r] += oRe[r][c] * v[c] - oIm[r][c] * v[c + D];
+        out[r + D] += oIm[r][c] * v[c] + oRe[r][c] * v[c + D];
+      }
+    return out;
+  };
+  const lines: { position: number; weight: number }[] = [];
+  let elastic = 0;
+  for (const [, k] of ground) {
+    const ov = apply(vectors[k]);
+    values.forEach((e, n) => {
+      let d = 0;
+      for (let s = 0; s < 2 * D; s++) d += vectors[n][s] * ov[s];
+      const w = (d * d) / ground.length;
+      if (e - e0 <= window) elastic += w;
+      else lines.push({ position: e - e0, weight: w });
+    });
+  }
+  return { lines, elastic, copies: ground.length / 2 };
+}
+
+const lorentzian = (x: number, eta: number) => eta / Math.PI / (x * x + eta * eta);
+
+/** Lines within `within` of each other as one, weights added. */
+function mergeLines(lines: { position: number; weight: number }[], within: number) {
+  const sorted = [...lines].sort((a, b) => a.position - b.position);
+  const out: { position: number; weight: number }[] = [];
+  for (const l of sorted) {
+    const last = out[out.length - 1];
+    if (last && l.position - last.position <= within) last.weight += l.weight;
+    else out.push({ ...l });
+  }
+  return out;
+}
+
+describe('one molecule (chain.sites = 1)', () => {
+  it('puts a drive on link l at the ladder eigenvalue differences with weights from dense eigenvectors', () => {
+    const r = rng(7);
+    for (let trial = 0; trial < 4; trial++) {
+      const N = 3 + trial;
+      const tunnelling = Array.from({ length: N - 1 }, () => 0.3 + r());
+      const phase = Array.from({ length: N - 1 }, () => (r() - 0.5) * 3);
+      const detuning = Array.from({ length: N }, () => r() - 0.5);
+      const link = trial % (N - 1);
+      const probePhase = 0.7 * trial;
+      const s = run({
+        chain: { sites: 1 },
+        levels: { count: N, tunnelling, phase, detuning },
+        solve: { tolerance: 1e-11 },
+        spectrum: {
+          probe: { link, phase: probePhase },
+          frequencies: { from: 0, to: 6, steps: 61 },
+          broadening: 0.05,
+          lines: 20,
+        },
+      });
+      // h from docs/model.md: <l+1|h|l> = -J_l e^{i phi_l}, detuning on the diagonal.
+      const hRe = Array.from({ length: N }, (_, a) => Array.from({ length: N }, (_, b) => (a === b ? detuning[a] : 0)));
+      const hIm = Array.from({ length: N }, () => new Array<number>(N).fill(0));
+      tunnelling.forEach((J, l) => {
+        hRe[l + 1][l] += -J * Math.cos(phase[l]);
+        hIm[l + 1][l] += -J * Math.sin(phase[l]);
+        hRe[l][l + 1] += -J * Math.cos(phase[l]);
+        hIm[l][l + 1] -= -J * Math.sin(phase[l]);
+      });
+      // O = e^{i phase} |l+1><l| + h.c.
+      const oRe = Array.from({ length: N }, () => new Array<number>(N).fill(0));
+      const oIm = Array.from({ length: N }, () => new Array<number>(N).fill(0));
+      oRe[link + 1][link] = Math.cos(probePhase);
+      oIm[link + 1][link] = Math.sin(probePhase);
+      oRe[link][link + 1] = Math.cos(probePhase);
+      oIm[link][link + 1] = -Math.sin(probePhase);
+      const ref = lehmann(hRe, hIm, oRe, oIm, 1e-11);
+      const expected = mergeLines(ref.lines, 1e-7).filter((l) => l.weight > 1e-12);
+      expect(s.lines.length).toBe(expected.length);
+      s.lines.forEach((l, k) => {
+        expect(l.position).toBeCloseTo(expected[k].position, 8);
+        expect(l.weight).toBeCloseTo(expected[k].weight, 8);
+      });
+      expect(s.elastic_weight).toBeCloseTo(ref.elastic, 9);
+    }
+  });
+
+  it('a dressed two-level molecule: a probe in quadrature has one line at 2J of weight 1, one in phase none (Autler-Townes; common practice)', () => {
+    for (const J of [0.5, 1, 2.5]) {
+      const base = {
+        chain: { sites: 1 },
+        levels: { count: 2, tunnelling: J },
+        spectrum: { frequencies: { from: 0, to: 6 * J, steps: 101 }, broadening: 0.05 * J },
+      };
+      const quadrature = run({ ...base, spectrum: { ...base.spectrum, probe: { link: 0, phase: Math.PI / 2 } } });
+      expect(quadrature.lines).toHaveLength(1);
+      expect(quadrature.lines[0].position).toBeCloseTo(2 * J, 10);
+      expect(quadrature.lines[0].weight).toBeCloseTo(1, 10);
+      expect(quadrature.weight).toBeCloseTo(1, 10);
+      expect(quadrature.elastic_weight).toBeCloseTo(0, 10);
+      const inPhase = run({ ...base, spectrum: { ...base.spectrum, probe: { link: 0 } } });
+      expect(inPhase.lines).toHaveLength(0);
+      expect(inPhase.weight).toBeLessThan(1e-12);
+      expect(inPhase.elastic_weight).toBeCloseTo(1, 10);
+      expect(Math.max(...inPhase.intensity)).toBeLessThan(1e-10);
+    }
+  });
+});
+
+// ---------------------------------------------------------------------------------------------
+// Random small specs of every kind against the Lehmann sum over the dense spectrum.
+
+interface RandomCase {
+  raw: Raw;
+  model: ModelDescription;
+  probe: Raw;
+}
+
+function randomCase(seed: number, kind: Kind): RandomCase | null {
+  const r = rng(seed);
+  const pick = <T>(xs: readonly T[]): T => xs[Math.floor(r() * xs.length)];
+  const u = (lo: number, hi: number) => lo + (hi - lo) * r();
+  // Degenerate cases too: free molecules (H without pair terms), and rings threaded by flux pi,
+  // whose molecules each have a doubly degenerate ground level.
+  const category = pick(['generic', 'generic', 'free', 'ringflux'] as const);
+  const N = category === 'ringflux' ? 3 : pick([2, 3]);
+  const L = kind === 'pinned' ? pick([2, 3, 4]) : pick([2, 3]);
+  const particles = kind === 'pinned' ? L : 1 + Math.floor(r() * L);
+  const ring = category === 'ringflux';
+  const periodic = L >= 3 && r() < 0.5;
+  const links = ring ? N : N - 1;
+  const generic = category === 'generic';
+  const tunnelling = Array.from({ length: links }, () => (category === 'ringflux' ? 1 : u(0.3, 1.2)));
+  const phase = Array.from({ length: links }, () =>
+    category === 'ringflux' ? Math.PI / 3 : r() < 0.5 ? 0 : u(-Math.PI, Math.PI),
+  );
+  const detuning = Array.from({ length: N }, () => (generic ? u(-0.5, 0.5) : 0));
+  const exchange = generic ? u(-1.5, 1.5) : 0;
+  const ising = generic ? u(-1, 1) : 0;
+  const moments = Array.from({ length: N }, () => (generic ? u(-1, 1) : 0));
+  const hopping = kind === 'pinned' || !generic ? 0 : u(-1, 1);
+  const maxPerSite = kind === 'boson' ? 2 : 1;
+  const onsite = kind === 'boson' && generic ? u(0, 2) : 0;
+  const model: ModelDescription = {
+    sites: L,
+    periodic,
+    levels: N,
+    ring,
+    tunnelling,
+    phase,
+    detuning,
+    exchange,
+    exchangeRange: 'nearest',
+    exchangeCutoff: null,
+    weights: new Array<number>(N - 1).fill(1),
+    ising,
+    moments,
+    isingRange: 'nearest',
+    isingCutoff: null,
+    kind,
+    particles,
+    hopping,
+    maxPerSite,
+    onsite,
+  };
+  const probeKind = pick(['drive', 'level', 'coordinate'] as const);
+  const probe: Raw =
+    probeKind === 'drive'
+      ? { link: Math.floor(r() * links), phase: r() < 0.5 ? 0 : u(-3, 3) }
+      : probeKind === 'level'
+        ? { level: Math.floor(r() * N) }
+        : { coordinate: true };
+  if (r() < 0.5) probe.momentum = Math.floor(r() * L);
+  if (r() < 0.3) probe.sites = [0, L - 1].filter((x, k, a) => a.indexOf(x) === k);
+  const particlesSpec: Raw = { kind };
+  if (kind !== 'pinned') {
+    particlesSpec.number = particles;
+    particlesSpec.hopping = hopping;
+    if (kind === 'boson') {
+      particlesSpec.max_per_site = maxPerSite;
+      particlesSpec.onsite = onsite;
+    }
+  }
+  const raw: Raw = {
+    chain: { sites: L, boundary: periodic ? 'periodic' : 'open' },
+    levels: { count: N, boundary: ring ? 'ring' : 'open', tunnelling, phase, detuning },
+    exchange: { strength: exchange },
+    ising: { strength: ising, moments },
+    particles: particlesSpec,
+    solve: { tolerance: 1e-11, symmetries: pick(['auto', 'none']) },
+    spectrum: {
+      probe,
+      frequencies: { from: -0.5, to: 8, steps: 171 },
+      broadening: 0.08,
+      lines: 1000,
+    },
+  };
+  const dim = buildDense(model).dim;
+  return dim >= 2 && dim <= 120 ? { raw, model, probe } : null;
+}
+
+/** The probe as a dense matrix on the reference's occupation states, written from docs/model.md. */
+function denseProbe(
+  c: RandomCase,
+  configs: Int32Array[],
+  phaseOf = (i: number) => (2 * Math.PI * ((c.probe.momentum as number | undefined) ?? 0) * i) / c.model.sites,
+): { re: number[][]; im: number[][] } {
+  const m = c.model;
+  const N = m.levels;
+  const D = configs.length;
+  const index = new Map(configs.map((cfg, k) => [cfg.join(','), k]));
+  const re = Array.from({ length: D }, () => new Array<number>(D).fill(0));
+  const im = Array.from({ length: D }, () => new Array<number>(D).fill(0));
+  const sites: number[] = c.probe.sites ?? Array.from({ length: m.sites }, (_, i) => i);
+  const mode = (i: number, n: number) => i * N + n;
+  configs.forEach((cfg, s) => {
+    for (const i of sites) {
+      const cr = Math.cos(phaseOf(i));
+      const ci = Math.sin(phaseOf(i));
+      const terms: [number, number, [number, boolean][]][] = [];
+      if (c.probe.link !== undefined) {
+        const l = c.probe.link as number;
+        const ph = (c.probe.phase as number | undefined) ?? 0;
+        const up = (l + 1) % N;
+        terms.push([
+          Math.cos(ph),
+          Math.sin(ph),
+          [
+            [mode(i, up), true],
+            [mode(i, l), false],
+          ],
+        ]);
+        terms.push([
+          Math.cos(ph),
+          -Math.sin(ph),
+          [
+            [mode(i, l), true],
+            [mode(i, up), false],
+          ],
+        ]);
+      } else
+        for (let n = 0; n < N; n++) {
+          const f = c.probe.level !== undefined ? (n === c.probe.level ? 1 : 0) : n;
+          if (f !== 0)
+            terms.push([
+              f,
+              0,
+              [
+                [mode(i, n), true],
+                [mode(i, n), false],
+              ],
+            ]);
+        }
+      for (const [ar, ai, ops] of terms) {
+        const hit = applyProduct(m, cfg, ops);
+        if (!hit) continue;
+        const t = index.get(hit.occ.join(','));
+        if (t === undefined) continue;
+        // c_i times the term's amplitude
+        re[t][s] += (cr * ar - ci * ai) * hit.coef;
+        im[t][s] += (cr * ai + ci * ar) * hit.coef;
+      }
+    }
+  });
+  return { re, im };
+}
+
+describe('against the Lehmann sum over the dense spectrum (ml-matrix), every kind', () => {
+  for (const kind of ['pinned', 'hardcore', 'boson', 'fermion'] as const) {
+    it(`${kind}: the curve to 1e-8 of its peak, the weights and the elastic part`, () => {
+      let done = 0;
+      let degenerate = 0;
+      let zeroes = 0;
+      for (let seed = 1; done < 10 && seed < 400; seed++) {
+        const c = randomCase(1000 * seed + kind.length, kind);
+        if (!c) continue;
+        done++;
+        const h = buildDense(c.model);
+        const D = h.dim;
+        const hRe = Array.from({ length: D }, (_, r) => Array.from(h.re.subarray(r * D, (r + 1) * D)));
+        const hIm = Array.from({ length: D }, (_, r) => Array.from(h.im.subarray(r * D, (r + 1) * D)));
+        const o = denseProbe(c, h.configs);
+        const ref = lehmann(hRe, hIm, o.re, o.im, 1e-11);
+        if (ref.copies > 1) degenerate++;
+        const s = run(c.raw);
+        const context = JSON.stringify(c.raw);
+        expect(s.ground_copies, context).toBe(ref.copies);
+        const expected = s.frequencies.map((f) =>
+          ref.lines.reduce((a, l) => a + l.weight * lorentzian(f - l.position, 0.08), 0),
+        );
+        const weight = ref.lines.reduce((a, l) => a + l.weight, 0);
+        const worst = Math.max(0, ...expected.map((e, k) => Math.abs(e - s.intensity[k])));
+        // A probe whose lines all vanish (it maps the ground space into itself) leaves only rounding
+        // in the reference: then the curve must be zero against the elastic weight's peak height.
+        const peak =
+          weight > 1e-12 * (weight + ref.elastic) ? Math.max(...expected) : (weight + ref.elastic) / (Math.PI * 0.08);
+        if (weight <= 1e-12 * (weight + ref.elastic)) zeroes++;
+        expect(worst / peak, context).toBeLessThan(1e-8);
+        expect(Math.abs(s.weight - weight), context).toBeLessThan(1e-9 * Math.max(1, weight));
+        expect(Math.abs(s.elastic_weight - ref.elastic), context).toBeLessThan(1e-9 * Math.max(1, ref.elastic));
+        expect(s.continued_fraction.converged).toBe(true);
+      }
+      expect(done).toBe(10);
+      // The cases include degenerate ground levels, and probes without lines, for some kinds.
+      if (process.env.SPECTRUM_TALLY) console.log(kind, { degenerate, zeroes });
+    });
+  }
+});
+
+describe('on a lattice', () => {
+  it('a probe at lattice momentum [mx, my] on a square array with a vacancy, against the Lehmann sum', () => {
+    // Lattice sites x + 3 y of a 3 x 2 square, site 4 vacant: model sites keep the lattice's coordinates.
+    const lattice = { shape: 'square' as const, size: [3, 2], vacancies: [4] };
+    const raw: Raw = {
+      lattice,
+      levels: { count: 2, tunnelling: [0.7], phase: [0.4], detuning: [0, 0.3] },
+      exchange: { strength: 1.1, range: 'dipolar' },
+      ising: { strength: 0.5, moments: [0.5, -0.3], range: 'nearest' },
+      solve: { tolerance: 1e-11 },
+      spectrum: {
+        probe: { link: 0, phase: 0.9, momentum: [1, 1] },
+        frequencies: { from: 0, to: 8, steps: 161 },
+        broadening: 0.1,
+      },
+    };
+    const model = describeCase(raw, 'pinned');
+    const { xyz } = referenceSites(lattice);
+    const c: RandomCase = { raw, model, probe: raw.spectrum.probe };
+    const h = buildDense(model);
+    const D = h.dim;
+    const o = denseProbe(c, h.configs, (i) => (2 * Math.PI * xyz[i][0]) / 3 + (2 * Math.PI * xyz[i][1]) / 2);
+    const ref = lehmann(
+      Array.from({ length: D }, (_, r) => Array.from(h.re.subarray(r * D, (r + 1) * D))),
+      Array.from({ length: D }, (_, r) => Array.from(h.im.subarray(r * D, (r + 1) * D))),
+      o.re,
+      o.im,
+      1e-11,
+    );
+    const s = run(raw);
+    const expected = s.frequencies.map((f) =>
+      ref.lines.reduce((a, l) => a + l.weight * lorentzian(f - l.position, 0.1), 0),
+    );
+    const peak = Math.max(...expected);
+    expect(peak).toBeGreaterThan(0.1);
+    expect(Math.max(...expected.map((e, k) => Math.abs(e - s.intensity[k]))) / peak).toBeLessThan(1e-8);
+    expect(s.elastic_weight).toBeCloseTo(ref.elastic, 9);
+  });
+});
+
+describe('the open XX chain (free fermions; Lieb, Schultz and Mattis 1961)', () => {
+  it("the level-1 population at momentum q has lines at 2V (cos k' - cos k) with weights from the single-particle wave functions", () => {
+    const L = 6;
+    const V = 0.8;
+    for (const m of [0, 1, 2]) {
+      const s = run({
+        chain: { sites: L },
+        levels: { count: 2, tunnelling: 0 },
+        exchange: { strength: V },
+        solve: { tolerance: 1e-11 },
+        spectrum: {
+          probe: { level: 1, momentum: m },
+          frequencies: { from: 0, to: 4 * V, steps: 81 },
+          broadening: 0.05,
+          lines: 100,
+        },
+      });
+      // V (a+_{i,1} a_{i,0} a+_{j,0} a_{j,1} + h.c.) moves a level-1 excitation: by Jordan-Wigner,
+      // fermions hopping with amplitude V: eps_k = 2V cos k, k = pi p / (L+1), phi_k(j) = sqrt(2/(L+1)) sin(k (j+1)).
+      const ks = Array.from({ length: L }, (_, p) => (Math.PI * (p + 1)) / (L + 1));
+      const eps = ks.map((k) => 2 * V * Math.cos(k));
+      const phi = (k: number, j: number) => Math.sqrt(2 / (L + 1)) * Math.sin(k * (j + 1));
+      const filled = ks.filter((_, p) => eps[p] < 0);
+      const empty = ks.filter((_, p) => eps[p] > 0);
+      const q = (2 * Math.PI * m) / L;
+      const lines: { position: number; weight: number }[] = [];
+      for (const k of filled)
+        for (const kp of empty) {
+          let re = 0;
+          let im = 0;
+          for (let j = 0; j < L; j++) {
+            re += Math.cos(q * j) * phi(kp, j) * phi(k, j);
+            im += Math.sin(q * j) * phi(kp, j) * phi(k, j);
+          }
+          lines.push({ position: 2 * V * (Math.cos(kp) - Math.cos(k)), weight: re * re + im * im });
+        }
+      const expected = mergeLines(lines, 1e-9).filter((l) => l.weight > 1e-12);
+      expect(s.lines.length).toBe(expected.length);
+      s.lines.forEach((l, k) => {
+        expect(l.position).toBeCloseTo(expected[k].position, 8);
+        expect(l.weight).toBeCloseTo(expected[k].weight, 8);
+      });
+      // <0|O|0> = sum_j e^{iqj} <n_j>, <n_j> = sum over filled k of phi_k(j)^2
+      let er = 0;
+      let ei = 0;
+      for (let j = 0; j < L; j++) {
+        const n = filled.reduce((a, k) => a + phi(k, j) ** 2, 0);
+        er += Math.cos(q * j) * n;
+        ei += Math.sin(q * j) * n;
+      }
+      expect(s.elastic_weight).toBeCloseTo(er * er + ei * ei, 8);
+    }
+  });
+});
+
+describe('sum rules', () => {
+  it('the integrated curve equals the printed weight; the poles carry it all', () => {
+    const base: Raw = {
+      chain: { sites: 4, boundary: 'periodic' },
+      levels: { count: 3, tunnelling: [1, 0.7], detuning: [0, 0.2, -0.1] },
+      exchange: { strength: 0.9 },
+      spectrum: { probe: { link: 1, momentum: 1 }, frequencies: { from: -2, to: 12, steps: 14001 } },
+    };
+    // A Gaussian's tails beyond 10 half widths are below 1e-20: the window holds the whole curve.
+    const s = run({ ...base, spectrum: { ...base.spectrum, broadening: { gaussian: 0.05 } } });
+    let integral = 0;
+    const h = s.frequencies[1] - s.frequencies[0];
+    for (let k = 0; k + 1 < s.frequencies.length; k++) integral += (h * (s.intensity[k] + s.intensity[k + 1])) / 2;
+    expect(s.weight).toBeGreaterThan(0.1);
+    expect(Math.abs(integral - s.weight)).toBeLessThan(1e-6 * s.weight);
+    expect(Math.abs(s.lines_weight - s.weight)).toBeLessThan(1e-10 * s.weight);
+    expect(Math.abs(s.window_weight - s.weight)).toBeLessThan(1e-6 * s.weight);
+    // and <O+ O> = weight + elastic weight
+    expect(s.total_weight).toBeCloseTo(s.weight + s.elastic_weight, 10);
+  });
+
+  it('the plain three-term recurrence of large spaces gives the curve of the fully orthogonalized one', () => {
+    const base: Raw = {
+      chain: { sites: 7 },
+      levels: { count: 3, tunnelling: [1, 0.6] },
+      exchange: { strength: 1.3 },
+      spectrum: { probe: { link: 0 }, frequencies: { from: 0, to: 8, steps: 161 }, broadening: 0.2 },
+    };
+    // 3^7 states: 600 kept vectors would pass FULL_ORTHOGONALIZATION_DOUBLES (2^20 doubles), 400 do not.
+    const plain = run({ ...base, spectrum: { ...base.spectrum, max_levels: 600 } });
+    const full = run({ ...base, spectrum: { ...base.spectrum, max_levels: 400 } });
+    expect(plain.continued_fraction.orthogonalization).toBe('none');
+    expect(full.continued_fraction.orthogonalization).toBe('full');
+    const peak = Math.max(...full.intensity);
+    const worst = Math.max(...full.intensity.map((x, k) => Math.abs(x - plain.intensity[k])));
+    expect(worst / peak).toBeLessThan(1e-5);
+    expect(plain.continued_fraction.converged).toBe(true);
+  });
+});
