@@ -44,11 +44,14 @@ export class LanczosChain {
     start: Float64Array,
     private readonly complex: boolean,
     fullOrthogonalization: boolean,
+    /** Where vectors live: an arena, so the operator's SIMD product works on them in place. */
+    private readonly allocate: (length: number) => Float64Array = (length) => new Float64Array(length),
   ) {
     const norm = Math.sqrt(dotRe(start, start));
-    this.current = Float64Array.from(start, (x) => x / norm);
-    this.previous = new Float64Array(start.length);
-    this.work = new Float64Array(start.length);
+    this.current = allocate(start.length);
+    for (let k = 0; k < start.length; k++) this.current[k] = start[k] / norm;
+    this.previous = allocate(start.length);
+    this.work = allocate(start.length);
     this.kept = fullOrthogonalization ? [this.current] : null;
     this.coefficients = new Float64Array(2);
   }
@@ -79,7 +82,7 @@ export class LanczosChain {
       }
       this.off.push(next);
       // The old previous vector becomes the next one (unless kept), saving an allocation per level.
-      const fresh = this.kept ? new Float64Array(w.length) : this.previous;
+      const fresh = this.kept ? this.allocate(w.length) : this.previous;
       for (let k = 0; k < w.length; k++) fresh[k] = w[k] / next;
       this.previous = this.current;
       this.current = fresh;
@@ -250,11 +253,15 @@ export function strongestLines(
 }
 
 /** The operator's product on the chain's vectors: real ones directly, complex ones part by part for a real operator. */
-export function productOn(op: HermitianOperator, complex: boolean): (x: Float64Array, y: Float64Array) => void {
+export function productOn(
+  op: HermitianOperator,
+  complex: boolean,
+  allocate: (length: number) => Float64Array = (length) => new Float64Array(length),
+): (x: Float64Array, y: Float64Array) => void {
   if (!complex || op.isComplex) return (x, y) => op.apply(x, y);
   const dim = op.dim;
-  const xr = new Float64Array(dim);
-  const yr = new Float64Array(dim);
+  const xr = allocate(dim);
+  const yr = allocate(dim);
   return (x, y) => {
     for (let part = 0; part < 2; part++) {
       for (let s = 0; s < dim; s++) xr[s] = x[2 * s + part];

@@ -2,6 +2,7 @@
 
 import { csv, fmt, fmtNoise, fmtSmall, plural, table } from '../format/tables.js';
 import type { SpectrumResult } from './spectrum.js';
+import { momentumText, type SectorLabel } from '../symmetry/group.js';
 
 /** What was probed, in words: "drive on link 0 (phase 0) at q = 0 on every site". */
 export function describeProbe(p: SpectrumResult['probe']): string {
@@ -16,6 +17,16 @@ export function describeProbe(p: SpectrumResult['probe']): string {
   return `${what} at q = ${q} on ${where}`;
 }
 
+/** A sector's quantum numbers: k=2 P+ F- q=3 (only those in use). */
+function sectorText(l: SectorLabel): string {
+  const parts: string[] = [];
+  if (l.momentum !== null) parts.push(`k=${momentumText(l.momentum)}`);
+  if (l.parity !== null) parts.push(`P${l.parity > 0 ? '+' : '-'}`);
+  if (l.level_flip !== null) parts.push(`F${l.level_flip > 0 ? '+' : '-'}`);
+  if (l.charge !== null) parts.push(`q=${l.charge}`);
+  return parts.join(' ');
+}
+
 export function spectrumText(s: SpectrumResult): string {
   const unit = s.frequency_unit === 'khz' ? 'kHz' : 'model units';
   const cf = s.continued_fraction;
@@ -28,6 +39,7 @@ export function spectrumText(s: SpectrumResult): string {
     `ground energy ${fmt(s.ground_energy)} (${plural(s.ground_copies, 'copy', 'copies')} averaged${s.ground_copies_complete ? '' : ', maybe not every copy found'}), dimension ${s.dimension}`,
     `weight (sum rule <O+ O> - |<0|O|0>|^2) ${fmt(s.weight)}; elastic |<0|O|0>|^2 ${fmt(s.elastic_weight)}; lines ${fmt(s.lines_weight)}; inside the window ${fmt(s.window_weight)}`,
     `continued fraction: ${plural(cf.levels, 'level')}, ${cf.exact ? 'exact (Krylov space exhausted)' : `largest change of the curve from half the levels ${fmtSmall(cf.check)} of its peak (tolerance ${fmtSmall(cf.tolerance)})`}${cf.converged ? '' : ', NOT converged'}; ${plural(cf.products, 'product')}, ${fmtSmall(cf.seconds_per_level)} s per level`,
+    `run ${cf.sectors ? `in ${plural(cf.sectors.length, 'symmetry sector')} (${cf.sectors.map(sectorText).join('; ')})` : 'on the full space'}, ${cf.orthogonalization === 'full' ? 'fully orthogonalized' : 'three-term recurrence'}`,
     `broadening: ${width} (${unit}); seconds: ground state ${fmt(s.seconds.ground_state, 3)}, spectrum ${fmt(s.seconds.spectrum, 3)}`,
     '',
     `strongest lines (position in ${unit}, weight):`,

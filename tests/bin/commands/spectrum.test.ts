@@ -68,3 +68,50 @@ describe('rungchain spectrum', () => {
     expect(hot.stderr).toContain('spectrum.temperature');
   });
 });
+
+describe('spectra in scans', () => {
+  const scanSpec = path.join(folder, 'scan.json');
+  const run = path.join(folder, 'run');
+  fs.writeFileSync(
+    scanSpec,
+    JSON.stringify({
+      chain: { sites: 4, boundary: 'periodic' },
+      levels: { count: 3, tunnelling: 1 },
+      spectrum: { probe: { link: 0, momentum: 1 }, frequencies: { from: 0, to: 6, steps: 31 }, broadening: 0.1 },
+      scan: { axis: [{ key: 'exchange.strength', values: [0, 0.8, 1.6] }] },
+    }),
+  );
+
+  it('each point holds the spectrum `spectrum` prints for it; summary --long has a row per point and frequency; the report draws them', () => {
+    const scan = runCli(['scan', scanSpec, '--out', run]);
+    expect(scan.code).toBe(0);
+    const summary = JSON.parse(runCli(['summary', run, '--json']).stdout) as Record<string, any>[];
+    expect(summary).toHaveLength(3);
+    for (const point of summary) {
+      const alone = JSON.parse(
+        runCli([
+          'spectrum',
+          scanSpec,
+          '--set',
+          'scan=null',
+          '--set',
+          `exchange.strength=${point['exchange.strength']}`,
+          '--json',
+        ]).stdout,
+      );
+      expect(point.spectrum.frequencies).toEqual(alone.frequencies);
+      point.spectrum.intensity.forEach((x: number, k: number) => expect(x).toBeCloseTo(alone.intensity[k], 9));
+      expect(point.spectrum.weight).toBeCloseTo(alone.weight, 10);
+    }
+    const long = runCli(['summary', run, '--long', '--csv']).stdout.trim().split('\n');
+    const header = long[0].split(',');
+    expect(header).toContain('frequency');
+    const rows = long.slice(1).filter((l) => l.split(',')[header.indexOf('observable')] === 'spectrum');
+    expect(rows).toHaveLength(3 * 31);
+    const report = path.join(folder, 'report.html');
+    expect(runCli(['report', run, '--out', report]).code).toBe(0);
+    const html = fs.readFileSync(report, 'utf8');
+    expect(html).toContain('id="response"');
+    expect(html).toContain('spectrum A(ω) against');
+  });
+});
