@@ -59,8 +59,11 @@ export interface SpectrumResult {
   frequencies: number[];
   /** A(omega) per frequency unit: integrates to `weight` over the whole axis. */
   intensity: number[];
-  /** The strongest lines: position (E_n - E_0 in the frequency unit) and weight. */
-  lines: { position: number; weight: number }[];
+  /**
+   * The strongest lines: position (E_n - E_0 in the frequency unit), weight, and the Ritz residual
+   * (an eigenvalue of H lies within it of the position; 0 for exact lines).
+   */
+  lines: { position: number; weight: number; residual: number }[];
   /** The sum rule: <O+ O> - |<0|O|0>|^2, the connected weight the lines carry. */
   weight: number;
   elastic_weight: number;
@@ -200,7 +203,7 @@ export function spectrumOfSolved(
   const sectorPieces =
     basis.kind === 'pinned' && symmetries.length > 0 ? splitIntoSectors(model, basis, symmetries, probed, zero) : null;
   const runs: RunOutcome[] = [];
-  const collected = { positions: [] as number[], weights: [] as number[], curve: new Float64Array(section.steps) };
+  const collected: Collected = { positions: [], weights: [], residuals: [], curve: new Float64Array(section.steps) };
   const settings = { section, frequencies, shape, e0, unitScale };
   if (sectorPieces && basis.kind === 'pinned') {
     for (const group of sectorPieces.groups) {
@@ -234,10 +237,10 @@ export function spectrumOfSolved(
   const exact = runs.every((r) => r.exact);
   const check = exact ? 0 : Math.max(0, ...runs.map((r) => r.check));
   const used = Math.max(0, ...runs.map((r) => r.levels));
-  const poles = { positions: collected.positions, weights: collected.weights };
+  const poles = collected;
   // Ghost copies from a run without full orthogonalization sit within rounding of the true line.
   const scale = Math.max(1, ...poles.positions.map(Math.abs));
-  const lines = strongestLines(poles.positions, poles.weights, 1e-8 * scale, section.lines).filter(
+  const lines = strongestLines(poles.positions, poles.weights, poles.residuals, 1e-8 * scale, section.lines).filter(
     (l) => l.weight > zero,
   );
   const full = runs.every((r) => r.full);
@@ -284,6 +287,14 @@ export function spectrumOfSolved(
   };
 }
 
+/** Every run's poles (on the frequency axis) and the sum of their curves. */
+interface Collected {
+  positions: number[];
+  weights: number[];
+  residuals: number[];
+  curve: Float64Array;
+}
+
 interface RunOutcome {
   levels: number;
   check: number;
@@ -314,7 +325,7 @@ function runPiece(
   start: Float64Array,
   weight: number,
   settings: RunSettings,
-  collected: { positions: number[]; weights: number[]; curve: Float64Array },
+  collected: Collected,
 ): RunOutcome {
   const { section, frequencies, shape, e0, unitScale } = settings;
   const dim = op.dim;
@@ -332,7 +343,11 @@ function runPiece(
   );
   const polesAt = (levels: number) => {
     const p = chainPoles(chain, levels, weight);
-    return { positions: Array.from(p.positions, (x) => (x - e0) * unitScale), weights: p.weights };
+    return {
+      positions: Array.from(p.positions, (x) => (x - e0) * unitScale),
+      weights: p.weights,
+      residuals: Array.from(p.residuals, (r) => r * Math.abs(unitScale)),
+    };
   };
   const curveAt = (levels: number) => {
     const p = polesAt(levels);
@@ -361,8 +376,11 @@ function runPiece(
   }
   const exact = chain.exhausted && chain.levels <= levels;
   const poles = polesAt(levels);
-  collected.positions.push(...poles.positions);
-  collected.weights.push(...poles.weights);
+  for (const x of poles.positions) collected.positions.push(x);
+  for (let j = 0; j < poles.weights.length; j++) {
+    collected.weights.push(poles.weights[j]);
+    collected.residuals.push(poles.residuals[j]);
+  }
   for (let f = 0; f < curve.length; f++) collected.curve[f] += curve[f];
   return {
     levels: Math.min(chain.levels, levels),

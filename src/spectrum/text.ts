@@ -42,15 +42,15 @@ export function spectrumText(s: SpectrumResult): string {
     `run ${cf.sectors ? `in ${plural(cf.sectors.length, 'symmetry sector')} (${cf.sectors.map(sectorText).join('; ')})` : 'on the full space'}, ${cf.orthogonalization === 'full' ? 'fully orthogonalized' : 'three-term recurrence'}`,
     `broadening: ${width} (${unit}); seconds: ground state ${fmt(s.seconds.ground_state, 3)}, spectrum ${fmt(s.seconds.spectrum, 3)}`,
     '',
-    `strongest lines (position in ${unit}, weight):`,
+    `strongest lines (position in ${unit}, weight; an eigenvalue lies within the residual of the position):`,
   ];
   const lineScale = Math.max(s.weight, 1e-300);
   out.push(
     s.lines.length === 0
       ? '  none: the probe has no weight outside the ground space'
       : table(
-          ['position', 'weight'],
-          s.lines.map((l) => [fmt(l.position), fmtNoise(l.weight, lineScale)]),
+          ['position', 'weight', 'residual'],
+          s.lines.map((l) => [fmt(l.position), fmtNoise(l.weight, lineScale), fmtSmall(l.residual)]),
         ),
   );
   out.push('', `curve (frequency in ${unit}, intensity per ${s.frequency_unit === 'khz' ? 'kHz' : 'unit'}):`);
@@ -68,8 +68,8 @@ export function spectrumText(s: SpectrumResult): string {
 export function spectrumCsv(s: SpectrumResult, what: 'curve' | 'lines'): string {
   if (what === 'lines')
     return csv(
-      ['position', 'weight'],
-      s.lines.map((l) => [l.position, l.weight]),
+      ['position', 'weight', 'residual'],
+      s.lines.map((l) => [l.position, l.weight, l.residual]),
     );
   return csv(
     ['frequency', 'intensity'],

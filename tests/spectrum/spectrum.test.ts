@@ -524,6 +524,58 @@ describe('sum rules', () => {
   });
 });
 
+describe('lines of an unfinished continued fraction', () => {
+  it('each listed line lies within its Ritz residual of an excitation energy of the dense spectrum (Paige; ml-matrix)', () => {
+    const L = 5;
+    const N = 3;
+    const raw: Raw = {
+      chain: { sites: L },
+      levels: { count: N, tunnelling: [1, 0.6], detuning: [0, 0.2, -0.3] },
+      exchange: { strength: 1.3 },
+      solve: { tolerance: 1e-11, symmetries: 'none' },
+      // 24 levels of a 243-state space: most lines are not converged yet
+      spectrum: { probe: { link: 0 }, frequencies: { to: 8, steps: 81 }, broadening: 0.1, max_levels: 24, lines: 24 },
+    };
+    const s = run(raw);
+    expect(s.continued_fraction.exact).toBe(false);
+    const model: ModelDescription = {
+      sites: L,
+      periodic: false,
+      levels: N,
+      ring: false,
+      tunnelling: [1, 0.6],
+      phase: [0, 0],
+      detuning: [0, 0.2, -0.3],
+      exchange: 1.3,
+      exchangeRange: 'nearest',
+      exchangeCutoff: null,
+      weights: [1, 1],
+      ising: 0,
+      moments: [0, 0, 0],
+      isingRange: 'nearest',
+      isingCutoff: null,
+      kind: 'pinned',
+      particles: L,
+      hopping: 0,
+      maxPerSite: 1,
+      onsite: 0,
+    };
+    const h = buildDense(model);
+    const D = h.dim;
+    const m = new Matrix(D, D);
+    for (let r = 0; r < D; r++) for (let c = 0; c < D; c++) m.set(r, c, h.re[r * D + c]);
+    const values = new EigenvalueDecomposition(m, { assumeSymmetric: true }).realEigenvalues.sort((a, b) => a - b);
+    for (const line of s.lines) {
+      const nearest = Math.min(...values.map((e) => Math.abs(e - values[0] - line.position)));
+      expect(nearest).toBeLessThanOrEqual(line.residual + 1e-9);
+    }
+    if (process.env.SPECTRUM_TALLY) console.log(s.lines.map((l) => l.residual));
+    // converged lines and unconverged ones: the bound is tested on both
+    expect(s.lines.some((l) => l.residual < 1e-4)).toBe(true);
+    expect(s.lines.some((l) => l.residual > 1e-2)).toBe(true);
+  });
+});
+
 describe('in symmetry sectors', () => {
   it('the parts of O|0> in the sectors it reaches give the full-space spectrum (pinned chains and a lattice)', () => {
     const r = rng(2026);

@@ -26,7 +26,7 @@ describe('rungchain spectrum', () => {
     expect(r.code).toBe(0);
     expect(r.stdout).toContain('weight (sum rule <O+ O> - |<0|O|0>|^2) 1;');
     expect(r.stdout).toContain('exact (Krylov space exhausted)');
-    expect(r.stdout).toMatch(/position\s+weight\n-+\s+-+\n2\s+1\n/);
+    expect(r.stdout).toMatch(/position\s+weight\s+residual\n-+\s+-+\s+-+\n2\s+1\s+0\n/);
   });
 
   it('--json is one object on stdout', () => {
@@ -41,14 +41,14 @@ describe('rungchain spectrum', () => {
     expect(out.continued_fraction.converged).toBe(true);
   });
 
-  it('--csv is tidy: frequency,intensity rows, or position,weight with --csv lines', () => {
+  it('--csv is tidy: frequency,intensity rows, or position,weight,residual with --csv lines', () => {
     const curve = runCli(['spectrum', spec, '--csv']);
     expect(curve.code).toBe(0);
     const rows = curve.stdout.trim().split('\n');
     expect(rows[0]).toBe('frequency,intensity');
     expect(rows).toHaveLength(6);
     const lines = runCli(['spectrum', spec, '--csv', 'lines']);
-    expect(lines.stdout.trim().split('\n')[0]).toBe('position,weight');
+    expect(lines.stdout.trim().split('\n')[0]).toBe('position,weight,residual');
     expect(Number(lines.stdout.trim().split('\n')[1].split(',')[0])).toBeCloseTo(2, 10);
   });
 
