@@ -11,8 +11,14 @@ import { buildOperator } from '../operator/build.js';
 import { planFockOperator } from '../operator/fock.js';
 import { defaultProductThreads, ThreadedOperator, withThreads } from '../operator/threaded.js';
 import { VectorArena } from '../simd/arena.js';
-import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES } from '../point/memory.js';
-import { solvePoint, type PointRecord, type SolvedPoint, type SolveOptions } from '../point/solvePoint.js';
+import {
+  assertWithinMemory,
+  defaultMemoryLimit,
+  largestSector,
+  RUNTIME_BASELINE_BYTES,
+  type MemoryEstimate,
+} from '../point/memory.js';
+import { planPoint, solvePoint, type PointRecord, type SolvedPoint, type SolveOptions } from '../point/solvePoint.js';
 import { latticeOf } from '../spec/lattice.js';
 import type { Spec } from '../spec/spec.js';
 import type { SpectrumSection } from '../spec/spectrumSection.js';
@@ -22,7 +28,7 @@ import { basisDimension } from '../basis/basis.js';
 import { applyProbe, buildProbe } from './probe.js';
 import { splitIntoSectors } from './sectors.js';
 import { buildSectorOperator } from '../symmetry/sectorOperator.js';
-import type { SectorLabel } from '../symmetry/group.js';
+import type { SectorLabel, SymmetryName } from '../symmetry/group.js';
 import type { HermitianOperator } from '../operator/hermitian.js';
 import {
   broadenedCurve,
@@ -125,7 +131,12 @@ export function prepareSpectrum(spec: Spec, options: SolveOptions = {}): void {
   const model = buildModel(spec);
   buildProbe(section.probe, model, buildBasis(model), latticeOf(spec));
   const limit = options.maxMemory ?? defaultMemoryLimit();
-  assertWithinMemory(spectrumMemory(model, 1, section), limit, 'the spectrum', options.memoryLimitName);
+  assertWithinMemory(
+    estimateSpectrumMemory(model, 1, section, planPoint(spec, { maxMemory: limit }).used),
+    limit,
+    'the spectrum',
+    options.memoryLimitName,
+  );
 }
 
 /** The spectrum of a point solved with `keepStates: 'ground'` (its ground copies on the full basis). */
@@ -147,7 +158,20 @@ export function spectrumOfSolved(
     );
   const ground = solved.kept?.vectors ?? solved.groundStates;
   if (ground.length === 0) throw new ResourceError('the ground states could not be kept on the full space');
-  assertWithinMemory(spectrumMemory(model, ground.length, section), limit, 'the spectrum', options.memoryLimitName);
+  const sectorsUsed = record.solver.symmetries?.length
+    ? (Object.fromEntries(
+        (['translation', 'reflection', 'level_flip', 'charge'] as SymmetryName[]).map((n) => [
+          n,
+          record.solver.symmetries!.includes(n),
+        ]),
+      ) as Record<SymmetryName, boolean>)
+    : null;
+  assertWithinMemory(
+    estimateSpectrumMemory(model, ground.length, section, sectorsUsed),
+    limit,
+    'the spectrum',
+    options.memoryLimitName,
+  );
   const started = performance.now();
   const dim = basis.dim;
   const e0 = record.energies[0];
@@ -398,21 +422,40 @@ function frequencyScale(spec: Spec, section: SpectrumSection): number {
   return labUnits(spec)!.energyUnitHz / 1e3;
 }
 
-/** Peak memory of the spectrum beside the ground state: the operator, the copies, O psi, the Lanczos vectors. */
-function spectrumMemory(model: Model, copies: number, section: SpectrumSection) {
+/**
+ * Peak memory of the spectrum after the ground solve: the ground copies kept on the full basis and
+ * O psi of each (complex), then either the full-space operator with one run's Lanczos vectors, or
+ * (symmetry sectors in use) the orbit maps, every copy's sector parts (together at most the full
+ * vector) and the largest sector's stored matrix with its Lanczos vectors.
+ */
+export function estimateSpectrumMemory(
+  model: Model,
+  copies: number,
+  section: SpectrumSection,
+  used: Record<SymmetryName, boolean> | null,
+): MemoryEstimate {
   const dim = basisDimension(model);
   const vector = 16 * dim;
-  const operator = model.kind === 'pinned' ? 8 * dim : planFockOperator(model, dim).bytes;
-  const kept = 2 * dim * Math.min(section.maxLevels, dim + 1) <= FULL_ORTHOGONALIZATION_DOUBLES;
-  const lanczos = kept ? 8 * FULL_ORTHOGONALIZATION_DOUBLES : 4 * vector;
-  const parts = {
+  const parts: Record<string, number> = {
     runtime: RUNTIME_BASELINE_BYTES,
-    operator,
     ground_states: copies * vector,
     probed_states: copies * vector,
-    lanczos: copies * lanczos,
   };
-  return { parts, totalBytes: Object.values(parts).reduce((a, b) => a + b, 0) };
+  const lanczosFor = (length: number) =>
+    2 * length * Math.min(section.maxLevels, length + 1) <= FULL_ORTHOGONALIZATION_DOUBLES
+      ? 8 * FULL_ORTHOGONALIZATION_DOUBLES
+      : 6 * 16 * length; // three vectors, the real product's two buffers, rounding up
+  if (used && model.kind === 'pinned') {
+    const { sectorDim, nnz } = largestSector(dim, model, used);
+    parts.orbit_maps = 2 * dim * 6;
+    parts.sector_parts = copies * vector;
+    parts.sector_matrix = 2 * (nnz * (4 + 16) + 8 * (sectorDim + 1));
+    parts.lanczos = lanczosFor(sectorDim);
+  } else {
+    parts.operator = model.kind === 'pinned' ? 8 * dim : planFockOperator(model, dim).bytes;
+    parts.lanczos = lanczosFor(dim);
+  }
+  return { parts, totalBytes: Object.values(parts).reduce((x, y) => x + y, 0) };
 }
 
 function toInterleaved(v: Float64Array, dim: number): Float64Array {

@@ -1,6 +1,8 @@
 // A spectrum as text: the readable table, and tidy CSV (the curve, or the lines).
 
 import { csv, fmt, fmtNoise, fmtSmall, plural, table } from '../format/tables.js';
+import { formatBytes } from '../format/bytes.js';
+import type { MemoryEstimate } from '../point/memory.js';
 import type { SpectrumResult } from './spectrum.js';
 import { momentumText, type SectorLabel } from '../symmetry/group.js';
 
@@ -75,4 +77,13 @@ export function spectrumCsv(s: SpectrumResult, what: 'curve' | 'lines'): string 
     ['frequency', 'intensity'],
     s.frequencies.map((f, k) => [f, s.intensity[k]]),
   );
+}
+
+/** `check` of a spec with [spectrum]: the continued fraction's memory after the ground solve (one ground copy). */
+export function describeSpectrumMemory(estimate: MemoryEstimate, limit: number): string {
+  const lines = [
+    `spectrum memory  ${formatBytes(estimate.totalBytes)} after the ground solve, per copy of the ground level (limit ${formatBytes(limit)})`,
+  ];
+  for (const [part, bytes] of Object.entries(estimate.parts)) lines.push(`  ${part.padEnd(14)} ${formatBytes(bytes)}`);
+  return lines.join('\n');
 }

@@ -29,6 +29,13 @@ describe('rungchain spectrum', () => {
     expect(r.stdout).toMatch(/position\s+weight\s+residual\n-+\s+-+\s+-+\n2\s+1\s+0\n/);
   });
 
+  it('check adds the continued fraction memory after the ground solve', () => {
+    const r = runCli(['check', spec]);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/spectrum memory {2}\S+ \S+ after the ground solve/);
+    expect(r.stdout).toContain('probed_states');
+  });
+
   it('--json is one object on stdout', () => {
     const r = runCli(['spectrum', spec, '--json']);
     expect(r.code).toBe(0);
