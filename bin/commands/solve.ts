@@ -17,6 +17,8 @@ import { describeLabEnergies, labEnergies, labUnits } from '../../src/spec/units
 import { describeScan, describeWork } from '../../src/scan/plan.js';
 import { defaultWorkerCount } from '../../src/scan/runner.js';
 import { secondsMinutesHours } from '../../src/format/durations.js';
+import { estimateSpectrumMemory, spectrumSection } from '../../src/spectrum/spectrum.js';
+import { describeSpectrumMemory } from '../../src/spectrum/text.js';
 
 export function registerSolveCommands(program: Command): void {
   program
@@ -44,6 +46,11 @@ export function registerSolveCommands(program: Command): void {
       if (plan.memory.totalBytes > limit)
         console.log('solve would refuse this problem: the estimate exceeds the limit');
       if (opts.saveStates || opts.saveStatesAll) console.log(describeStatesFile(plan, spec.solve.states, opts));
+      // With [spectrum], what the continued fraction adds after the ground solve.
+      if (spec.extra.spectrum)
+        console.log(
+          describeSpectrumMemory(estimateSpectrumMemory(plan.model, 1, spectrumSection(spec), plan.used), limit),
+        );
     });
 
   program

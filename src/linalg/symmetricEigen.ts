@@ -197,24 +197,32 @@ function implicitQl(d: Float64Array, e: Float64Array, w: Float64Array | null, n:
 
 /**
  * Eigenvalues (ascending) of the symmetric tridiagonal matrix with `diagonal` (n) and
- * `offDiagonal` (n - 1), and the first component of each unit eigenvector: the Gauss quadrature
- * of a Lanczos run (Golub and Welsch, Math. Comp. 23, 221 (1969)). Only the first row of the
- * eigenvector matrix is rotated, so this costs O(n^2) rather than O(n^3).
+ * `offDiagonal` (n - 1), and the first and last components of each unit eigenvector: the Gauss
+ * quadrature of a Lanczos run (Golub and Welsch, Math. Comp. 23, 221 (1969)) and the Ritz
+ * residuals b_n |u_(n-1)j| (Paige). Only those two rows of the eigenvector matrix are rotated, so
+ * this costs O(n^2) rather than O(n^3).
  */
 export function tridiagonalEigen(
   diagonal: ArrayLike<number>,
   offDiagonal: ArrayLike<number>,
-): { values: Float64Array; firstComponents: Float64Array } {
+): { values: Float64Array; firstComponents: Float64Array; lastComponents: Float64Array } {
   const n = diagonal.length;
   const d = Float64Array.from(diagonal);
   const e = new Float64Array(n);
   for (let i = 1; i < n; i++) e[i] = offDiagonal[i - 1];
-  // Row i of w holds component 0 of eigenvector i: the identity's first column to start.
-  const w = new Float64Array(n);
-  if (n > 0) w[0] = 1;
-  implicitQl(d, e, w, n, 1);
+  // Row i of w holds components 0 and n-1 of eigenvector i: the identity's first and last columns to start.
+  const w = new Float64Array(2 * n);
+  if (n > 0) {
+    w[0] = 1;
+    w[2 * (n - 1) + 1] = 1;
+  }
+  implicitQl(d, e, w, n, 2);
   const order = Array.from({ length: n }, (_, i) => i).sort((p, q) => d[p] - d[q]);
-  return { values: Float64Array.from(order, (k) => d[k]), firstComponents: Float64Array.from(order, (k) => w[k]) };
+  return {
+    values: Float64Array.from(order, (k) => d[k]),
+    firstComponents: Float64Array.from(order, (k) => w[2 * k]),
+    lastComponents: Float64Array.from(order, (k) => w[2 * k + 1]),
+  };
 }
 
 function sortAscending(d: Float64Array, w: Float64Array | null, n: number): SymmetricEigen {

@@ -40,6 +40,8 @@ export function summaryJson(summary: ScanRunSummary): Record<string, unknown>[] 
     out.observables = result ? result.observables : null;
     // solve.observables = "each": every state's own observables, as the record holds them.
     if (result?.states) out.states = result.states;
+    // [spectrum]: the point's spectrum as `spectrum --json` prints it.
+    if (r.spectrum) out.spectrum = r.spectrum;
     for (const name of scalars) out[name] = result ? (result.observables[name] ?? null) : null;
     out.dimension = result ? result.basis.dimension : null;
     out.converged = result ? result.solver.converged : null;
@@ -148,6 +150,8 @@ export interface LongRow {
   other_site: number | null;
   /** The separation vector [x, y, z] for per-separation observables; null otherwise. */
   separation: number[] | null;
+  /** The frequency of a spectrum's row (observable "spectrum": the intensity there); null otherwise. */
+  frequency?: number | null;
   value: number;
 }
 
@@ -160,8 +164,29 @@ export function longRows(summary: ScanRunSummary): LongRow[] {
     const base = { index: row.index, params: row.params };
     pushLongRows(out, { ...base, state: null }, result.observables);
     for (const s of result.states ?? []) pushLongRows(out, { ...base, state: s.index }, s.observables);
+    // [spectrum]: one row per frequency, the intensity as the value.
+    const spectrum = row.record?.spectrum;
+    if (spectrum)
+      spectrum.frequencies.forEach((frequency, k) =>
+        out.push({
+          ...base,
+          state: null,
+          observable: 'spectrum',
+          site: null,
+          level: null,
+          other_site: null,
+          separation: null,
+          frequency,
+          value: spectrum.intensity[k],
+        }),
+      );
   }
   return out;
+}
+
+/** Whether any row is a spectrum's (the long outputs then gain a `frequency` column). */
+function hasFrequencies(rows: LongRow[]): boolean {
+  return rows.some((r) => r.frequency !== undefined && r.frequency !== null);
 }
 
 function pushLongRows(
@@ -213,6 +238,7 @@ export function longJson(summary: ScanRunSummary): Record<string, unknown>[] {
   const rows = longRows(summary);
   const states = hasStates(rows);
   const separations = hasSeparations(rows);
+  const frequencies = hasFrequencies(rows);
   return rows.map((r) => ({
     index: r.index,
     ...r.params,
@@ -222,6 +248,7 @@ export function longJson(summary: ScanRunSummary): Record<string, unknown>[] {
     level: r.level,
     other_site: r.other_site,
     ...(separations ? { separation: r.separation } : {}),
+    ...(frequencies ? { frequency: r.frequency ?? null } : {}),
     value: r.value,
   }));
 }
@@ -231,6 +258,7 @@ export function longCsv(summary: ScanRunSummary): string {
   const rows = longRows(summary);
   const states = hasStates(rows);
   const separations = hasSeparations(rows);
+  const frequencies = hasFrequencies(rows);
   return csv(
     [
       'index',
@@ -241,6 +269,7 @@ export function longCsv(summary: ScanRunSummary): string {
       'level',
       'other_site',
       ...(separations ? ['separation'] : []),
+      ...(frequencies ? ['frequency'] : []),
       'value',
     ],
     rows.map((r) => [
@@ -252,6 +281,7 @@ export function longCsv(summary: ScanRunSummary): string {
       r.level,
       r.other_site,
       ...(separations ? [r.separation === null ? null : r.separation.join(' ')] : []),
+      ...(frequencies ? [r.frequency ?? null] : []),
       r.value,
     ]),
   );
@@ -265,6 +295,7 @@ export function longText(summary: ScanRunSummary): string {
   const scales = new Map<string, number>();
   for (const r of rows) scales.set(r.observable, Math.max(scales.get(r.observable) ?? 1, Math.abs(r.value)));
   const separations = hasSeparations(rows);
+  const frequencies = hasFrequencies(rows);
   return table(
     [
       'point',
@@ -275,6 +306,7 @@ export function longText(summary: ScanRunSummary): string {
       'level',
       'other site',
       ...(separations ? ['separation'] : []),
+      ...(frequencies ? ['frequency'] : []),
       'value',
     ],
     rows.map((r) => [
@@ -287,6 +319,7 @@ export function longText(summary: ScanRunSummary): string {
       r.level === null ? '' : String(r.level),
       r.other_site === null ? '' : String(r.other_site),
       ...(separations ? [showSeparation(r.separation)] : []),
+      ...(frequencies ? [r.frequency === undefined || r.frequency === null ? '' : fmt(r.frequency, 8)] : []),
       fmtNoise(r.value, scales.get(r.observable)!, 8),
     ]),
   );

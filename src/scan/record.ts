@@ -3,6 +3,7 @@
 
 import type { PointRecord } from '../point/record.js';
 import type { ScanParams } from './plan.js';
+import type { SpectrumResult } from '../spectrum/spectrum.js';
 
 /** One record per point, as written to records.msgpack. */
 export interface ScanRecord {
@@ -12,6 +13,8 @@ export interface ScanRecord {
   /** Why a point failed: the error's class and message. */
   error?: string;
   result?: PointRecord;
+  /** With a [spectrum] section: the point's spectrum (as `spectrum --json` prints it). */
+  spectrum?: SpectrumResult;
   /** Matrix-vector products used (0 when failed before solving). */
   iterations: number;
   /** Wall time of this point, seconds. */

@@ -8,6 +8,7 @@ import { threadId } from 'node:worker_threads';
 import { isRungchainError } from '../errors/errors.js';
 import { claimNext } from './claims.js';
 import { planPoint, solvePoint } from '../point/solvePoint.js';
+import { prepareSpectrum, spectrumOfSolved } from '../spectrum/spectrum.js';
 import { validateSpec, type Spec } from '../spec/spec.js';
 import type { ScanParams } from './plan.js';
 import type { ScanRecord } from './record.js';
@@ -130,12 +131,16 @@ export function runScanTask(
       const key = basisKey(spec, plan.model.isComplex, plan.dimension);
       const same = previous !== null && previous.key === key && previous.states.length > 0;
       const warm = task.warmStart && same;
+      // A point with [spectrum] keeps its ground copies on the full basis for the continued fraction.
+      const wantsSpectrum = spec.extra.spectrum !== undefined;
+      const limits = { maxMemory: task.maxMemory, memoryLimitName: task.memoryLimitName, threads: task.threads ?? 1 };
+      if (wantsSpectrum) prepareSpectrum(spec, limits);
       const solvedPoint = solvePoint(spec, {
-        maxMemory: task.maxMemory,
-        memoryLimitName: task.memoryLimitName,
-        threads: task.threads ?? 1,
+        ...limits,
         initial: warm ? previous!.start : undefined,
+        keepStates: wantsSpectrum ? 'ground' : undefined,
       });
+      const spectrum = wantsSpectrum ? spectrumOfSolved(spec, solvedPoint, limits) : undefined;
       const ground = solvedPoint.groundStates;
       const overlap =
         same && ground.length > 0 ? groundSpaceOverlap(previous!.states, ground, plan.model.isComplex) : null;
@@ -145,6 +150,7 @@ export function runScanTask(
         params: point.params,
         status: 'done',
         result: solvedPoint.record,
+        ...(spectrum ? { spectrum } : {}),
         iterations: solvedPoint.record.solver.iterations,
         seconds: (performance.now() - started) / 1000,
         // The dense path ignores the start vector, so only Lanczos counts as warm.

@@ -44,11 +44,14 @@ export class LanczosChain {
     start: Float64Array,
     private readonly complex: boolean,
     fullOrthogonalization: boolean,
+    /** Where vectors live: an arena, so the operator's SIMD product works on them in place. */
+    private readonly allocate: (length: number) => Float64Array = (length) => new Float64Array(length),
   ) {
     const norm = Math.sqrt(dotRe(start, start));
-    this.current = Float64Array.from(start, (x) => x / norm);
-    this.previous = new Float64Array(start.length);
-    this.work = new Float64Array(start.length);
+    this.current = allocate(start.length);
+    for (let k = 0; k < start.length; k++) this.current[k] = start[k] / norm;
+    this.previous = allocate(start.length);
+    this.work = allocate(start.length);
     this.kept = fullOrthogonalization ? [this.current] : null;
     this.coefficients = new Float64Array(2);
   }
@@ -79,7 +82,7 @@ export class LanczosChain {
       }
       this.off.push(next);
       // The old previous vector becomes the next one (unless kept), saving an allocation per level.
-      const fresh = this.kept ? new Float64Array(w.length) : this.previous;
+      const fresh = this.kept ? this.allocate(w.length) : this.previous;
       for (let k = 0; k < w.length; k++) fresh[k] = w[k] / next;
       this.previous = this.current;
       this.current = fresh;
@@ -129,13 +132,27 @@ export interface Poles {
   positions: Float64Array;
   /** Their weights; they add up to the start vector's squared norm. */
   weights: Float64Array;
+  /**
+   * Ritz residuals b_n |u_(n-1)j|: an eigenvalue of H lies within this of each position (0 when
+   * the Krylov space is exhausted).
+   */
+  residuals: Float64Array;
 }
 
 /** The poles of the first `levels` levels of a chain, for a start vector of squared norm `weight`. */
 export function chainPoles(chain: LanczosChain, levels: number, weight: number): Poles {
   const n = Math.min(levels, chain.levels);
-  const { values, firstComponents } = tridiagonalEigen(chain.diagonal.slice(0, n), chain.off.slice(0, n - 1));
-  return { positions: values, weights: Float64Array.from(firstComponents, (u) => weight * u * u) };
+  const { values, firstComponents, lastComponents } = tridiagonalEigen(
+    chain.diagonal.slice(0, n),
+    chain.off.slice(0, n - 1),
+  );
+  // The coupling to the next level (none once the Krylov space is exhausted).
+  const next = n - 1 < chain.off.length ? chain.off[n - 1] : 0;
+  return {
+    positions: values,
+    weights: Float64Array.from(firstComponents, (u) => weight * u * u),
+    residuals: Float64Array.from(lastComponents, (u) => Math.abs(next * u)),
+  };
 }
 
 /** Line shape: a Lorentzian or a Gaussian, by its half width at half maximum; each integrates to 1. */
@@ -224,25 +241,31 @@ function erf(x: number): number {
 export function strongestLines(
   positions: ArrayLike<number>,
   weights: ArrayLike<number>,
+  residuals: ArrayLike<number>,
   within: number,
   count: number,
-): { position: number; weight: number }[] {
+): { position: number; weight: number; residual: number }[] {
   const order = Array.from({ length: positions.length }, (_, k) => k).sort((p, q) => positions[p] - positions[q]);
-  const merged: { position: number; weight: number }[] = [];
+  const merged: { position: number; weight: number; residual: number }[] = [];
   let sum = 0;
   let moment = 0;
+  let residual = 0;
   let last = -Infinity;
   for (const k of order) {
     if (positions[k] - last > within && sum > 0) {
-      merged.push({ position: moment / sum, weight: sum });
+      merged.push({ position: moment / sum, weight: sum, residual });
       sum = 0;
       moment = 0;
+      residual = 0;
     }
-    if (sum === 0) last = positions[k];
+    const starting = sum === 0;
+    if (starting) last = positions[k];
     sum += weights[k];
     moment += weights[k] * positions[k];
+    // A merged line is as certain as its best-converged copy.
+    residual = starting ? residuals[k] : Math.min(residual, residuals[k]);
   }
-  if (sum > 0) merged.push({ position: moment / sum, weight: sum });
+  if (sum > 0) merged.push({ position: moment / sum, weight: sum, residual });
   return merged
     .sort((a, b) => b.weight - a.weight)
     .slice(0, count)
@@ -250,11 +273,15 @@ export function strongestLines(
 }
 
 /** The operator's product on the chain's vectors: real ones directly, complex ones part by part for a real operator. */
-export function productOn(op: HermitianOperator, complex: boolean): (x: Float64Array, y: Float64Array) => void {
+export function productOn(
+  op: HermitianOperator,
+  complex: boolean,
+  allocate: (length: number) => Float64Array = (length) => new Float64Array(length),
+): (x: Float64Array, y: Float64Array) => void {
   if (!complex || op.isComplex) return (x, y) => op.apply(x, y);
   const dim = op.dim;
-  const xr = new Float64Array(dim);
-  const yr = new Float64Array(dim);
+  const xr = allocate(dim);
+  const yr = allocate(dim);
   return (x, y) => {
     for (let part = 0; part < 2; part++) {
       for (let s = 0; s < dim; s++) xr[s] = x[2 * s + part];

@@ -9,9 +9,16 @@ import { buildBasis } from '../basis/basis.js';
 import { ConvergenceError, ResourceError, SpecError } from '../errors/errors.js';
 import { buildOperator } from '../operator/build.js';
 import { planFockOperator } from '../operator/fock.js';
-import { defaultProductThreads, withThreads } from '../operator/threaded.js';
-import { assertWithinMemory, defaultMemoryLimit, RUNTIME_BASELINE_BYTES } from '../point/memory.js';
-import { solvePoint, type PointRecord, type SolveOptions } from '../point/solvePoint.js';
+import { defaultProductThreads, ThreadedOperator, withThreads } from '../operator/threaded.js';
+import { VectorArena } from '../simd/arena.js';
+import {
+  assertWithinMemory,
+  defaultMemoryLimit,
+  largestSector,
+  RUNTIME_BASELINE_BYTES,
+  type MemoryEstimate,
+} from '../point/memory.js';
+import { planPoint, solvePoint, type PointRecord, type SolvedPoint, type SolveOptions } from '../point/solvePoint.js';
 import { latticeOf } from '../spec/lattice.js';
 import type { Spec } from '../spec/spec.js';
 import type { SpectrumSection } from '../spec/spectrumSection.js';
@@ -19,6 +26,10 @@ import { labUnits } from '../spec/units.js';
 import { buildModel, type Model } from '../model/model.js';
 import { basisDimension } from '../basis/basis.js';
 import { applyProbe, buildProbe } from './probe.js';
+import { splitIntoSectors } from './sectors.js';
+import { buildSectorOperator } from '../symmetry/sectorOperator.js';
+import type { SectorLabel, SymmetryName } from '../symmetry/group.js';
+import type { HermitianOperator } from '../operator/hermitian.js';
 import {
   broadenedCurve,
   chainPoles,
@@ -54,8 +65,11 @@ export interface SpectrumResult {
   frequencies: number[];
   /** A(omega) per frequency unit: integrates to `weight` over the whole axis. */
   intensity: number[];
-  /** The strongest lines: position (E_n - E_0 in the frequency unit) and weight. */
-  lines: { position: number; weight: number }[];
+  /**
+   * The strongest lines: position (E_n - E_0 in the frequency unit), weight, and the Ritz residual
+   * (an eigenvalue of H lies within it of the position; 0 for exact lines).
+   */
+  lines: { position: number; weight: number; residual: number }[];
   /** The sum rule: <O+ O> - |<0|O|0>|^2, the connected weight the lines carry. */
   weight: number;
   elastic_weight: number;
@@ -79,6 +93,8 @@ export interface SpectrumResult {
     /** The Krylov space of every start vector was exhausted: the poles are the exact lines. */
     exact: boolean;
     orthogonalization: 'full' | 'none';
+    /** The symmetry sectors the continued fraction ran in (one run per sector and ground copy), or null for the full space. */
+    sectors: SectorLabel[] | null;
     products: number;
     seconds_per_level: number;
   };
@@ -101,14 +117,39 @@ export function spectrumSection(spec: Spec): SpectrumSection {
 
 /** Solves the ground state of `spec` and computes the spectrum its [spectrum] section asks for. */
 export function computeSpectrum(spec: Spec, options: SolveOptions = {}): SpectrumOutcome {
+  prepareSpectrum(spec, options);
+  const solved = solvePoint(spec, { ...options, keepStates: 'ground' });
+  return { record: solved.record, spectrum: spectrumOfSolved(spec, solved, options) };
+}
+
+/**
+ * The checks to make before the ground state is solved: the probe against the geometry (a
+ * SpecError naming its key) and the spectrum's memory beside one ground copy.
+ */
+export function prepareSpectrum(spec: Spec, options: SolveOptions = {}): void {
+  const section = spectrumSection(spec);
+  const model = buildModel(spec);
+  buildProbe(section.probe, model, buildBasis(model), latticeOf(spec));
+  const limit = options.maxMemory ?? defaultMemoryLimit();
+  assertWithinMemory(
+    estimateSpectrumMemory(model, 1, section, planPoint(spec, { maxMemory: limit }).used),
+    limit,
+    'the spectrum',
+    options.memoryLimitName,
+  );
+}
+
+/** The spectrum of a point solved with `keepStates: 'ground'` (its ground copies on the full basis). */
+export function spectrumOfSolved(
+  spec: Spec,
+  solved: SolvedPoint,
+  options: Pick<SolveOptions, 'maxMemory' | 'memoryLimitName' | 'threads'> = {},
+): SpectrumResult {
   const section = spectrumSection(spec);
   const model = buildModel(spec);
   const basis = buildBasis(model);
-  // The probe is checked against the geometry before anything is solved.
   const probe = buildProbe(section.probe, model, basis, latticeOf(spec));
   const limit = options.maxMemory ?? defaultMemoryLimit();
-  assertWithinMemory(spectrumMemory(model, 1, section), limit, 'the spectrum', options.memoryLimitName);
-  const solved = solvePoint(spec, { ...options, keepStates: 'ground' });
   const record = solved.record;
   const groundSeconds = record.solver.seconds;
   if (!record.solver.converged)
@@ -117,7 +158,20 @@ export function computeSpectrum(spec: Spec, options: SolveOptions = {}): Spectru
     );
   const ground = solved.kept?.vectors ?? solved.groundStates;
   if (ground.length === 0) throw new ResourceError('the ground states could not be kept on the full space');
-  assertWithinMemory(spectrumMemory(model, ground.length, section), limit, 'the spectrum', options.memoryLimitName);
+  const sectorsUsed = record.solver.symmetries?.length
+    ? (Object.fromEntries(
+        (['translation', 'reflection', 'level_flip', 'charge'] as SymmetryName[]).map((n) => [
+          n,
+          record.solver.symmetries!.includes(n),
+        ]),
+      ) as Record<SymmetryName, boolean>)
+    : null;
+  assertWithinMemory(
+    estimateSpectrumMemory(model, ground.length, section, sectorsUsed),
+    limit,
+    'the spectrum',
+    options.memoryLimitName,
+  );
   const started = performance.now();
   const dim = basis.dim;
   const e0 = record.energies[0];
@@ -152,124 +206,213 @@ export function computeSpectrum(spec: Spec, options: SolveOptions = {}): Spectru
   const connected = probed.map((phi) => dotRe(phi, phi));
   const weight = connected.reduce((a, b) => a + b, 0) / copies;
 
-  // Real arithmetic when the operator and every start vector are real.
-  const op = buildOperator(model, basis);
-  const complex = model.isComplex || probed.some((phi) => !imaginaryZero(phi));
-  const threads = Math.max(
-    1,
-    Math.min(
-      spec.solve.threads === 'auto' ? defaultProductThreads(op.nonzeros()) : spec.solve.threads,
-      options.threads ?? Infinity,
-    ),
-  );
-  const threaded = withThreads(op, threads, model, basis.kind === 'pinned' ? basis : undefined);
-  const length = (complex ? 2 : 1) * dim;
-  const full = length * Math.min(section.maxLevels, dim + 1) <= FULL_ORTHOGONALIZATION_DOUBLES;
-  const apply = productOn(threaded, complex);
   const unitScale = frequencyScale(spec, section);
   const shape: LineShape = { lorentzian: section.lorentzian, gaussian: section.gaussian };
   const frequencies = Float64Array.from(
     { length: section.steps },
     (_, k) => section.from + ((section.to - section.from) * k) / (section.steps - 1),
   );
-  const chains: { chain: LanczosChain; weight: number }[] = [];
-  probed.forEach((phi, k) => {
-    if (connected[k] <= ZERO_WEIGHT * Math.max(total, Number.MIN_VALUE)) return;
-    const start = complex ? phi : realPart(phi, dim);
-    chains.push({ chain: new LanczosChain(apply, start, complex, full), weight: connected[k] / copies });
-  });
-  // Poles of every chain at `levels` levels, shifted to the frequency axis.
-  const polesAt = (levels: number) => {
-    const positions: number[] = [];
-    const weights: number[] = [];
-    for (const { chain, weight: w } of chains) {
-      const p = chainPoles(chain, levels, w);
-      p.positions.forEach((x, j) => {
-        positions.push((x - e0) * unitScale);
-        weights.push(p.weights[j]);
-      });
+  const zero = ZERO_WEIGHT * Math.max(total, Number.MIN_VALUE);
+  const threadsFor = (work: number) =>
+    Math.max(
+      1,
+      Math.min(
+        spec.solve.threads === 'auto' ? defaultProductThreads(work) : spec.solve.threads,
+        options.threads ?? Infinity,
+      ),
+    );
+  // One Lanczos run per start vector: per ground copy, and per symmetry sector it reaches when the
+  // ground state was solved in sectors (the sector's stored matrix is much smaller than the space).
+  const symmetries = record.solver.symmetries ?? [];
+  const sectorPieces =
+    basis.kind === 'pinned' && symmetries.length > 0 ? splitIntoSectors(model, basis, symmetries, probed, zero) : null;
+  const runs: RunOutcome[] = [];
+  const collected: Collected = { positions: [], weights: [], residuals: [], curve: new Float64Array(section.steps) };
+  const settings = { section, frequencies, shape, e0, unitScale };
+  if (sectorPieces && basis.kind === 'pinned') {
+    for (const group of sectorPieces.groups) {
+      const arena = VectorArena.acquire();
+      const stored = buildSectorOperator(model, basis, group.sector, arena);
+      const threaded = withThreads(stored, threadsFor(stored.nonzeros()));
+      try {
+        for (const piece of group.pieces)
+          runs.push(runPiece(threaded, arena, piece.coefficients, piece.weight / copies, settings, collected));
+      } finally {
+        threaded.close();
+        arena?.recycle();
+      }
     }
-    return { positions, weights };
+  } else {
+    // A stored matrix is built in an arena and vectors are kept in one, so products run in WebAssembly.
+    const arena = VectorArena.acquire();
+    const op = buildOperator(model, basis, basis.kind === 'pinned' ? null : arena);
+    const threaded = withThreads(op, threadsFor(op.nonzeros()), model, basis.kind === 'pinned' ? basis : undefined);
+    try {
+      probed.forEach((phi, k) => {
+        if (connected[k] <= zero) return;
+        runs.push(runPiece(threaded, arena, phi, connected[k] / copies, settings, collected));
+      });
+    } finally {
+      threaded.close();
+      arena?.recycle();
+    }
+  }
+  const curve = collected.curve;
+  const exact = runs.every((r) => r.exact);
+  const check = exact ? 0 : Math.max(0, ...runs.map((r) => r.check));
+  const used = Math.max(0, ...runs.map((r) => r.levels));
+  const poles = collected;
+  // Ghost copies from a run without full orthogonalization sit within rounding of the true line.
+  const scale = Math.max(1, ...poles.positions.map(Math.abs));
+  const lines = strongestLines(poles.positions, poles.weights, poles.residuals, 1e-8 * scale, section.lines).filter(
+    (l) => l.weight > zero,
+  );
+  const full = runs.every((r) => r.full);
+  const products = runs.reduce((sum, r) => sum + r.products, 0);
+  const spectrumSeconds = (performance.now() - started) / 1000;
+  const p = section.probe;
+  return {
+    probe: {
+      kind: p.kind,
+      link: p.link,
+      level: p.level,
+      phase: p.phase,
+      sites: p.sites ?? 'all',
+      momentum: p.momentum,
+      q: probe.wavevector,
+    },
+    temperature: 0,
+    frequency_unit: section.frequencyUnit,
+    broadening: shape,
+    frequencies: Array.from(frequencies),
+    intensity: Array.from(curve),
+    lines,
+    weight,
+    elastic_weight: elastic,
+    total_weight: total,
+    lines_weight: poles.weights.reduce((a, b) => a + b, 0),
+    window_weight: weightInside(poles.positions, poles.weights, section.from, section.to, shape),
+    ground_energy: e0,
+    ground_copies: copies,
+    ground_copies_complete: record.solver.degeneracy_complete,
+    continued_fraction: {
+      levels: used,
+      check,
+      tolerance: section.tolerance,
+      converged: runs.every((r) => r.converged),
+      sectors: sectorPieces ? sectorPieces.labels : null,
+      exact,
+      orthogonalization: full ? 'full' : 'none',
+      products,
+      seconds_per_level: products > 0 ? spectrumSeconds / products : 0,
+    },
+    dimension: dim,
+    seconds: { ground_state: groundSeconds, spectrum: spectrumSeconds },
+  };
+}
+
+/** Every run's poles (on the frequency axis) and the sum of their curves. */
+interface Collected {
+  positions: number[];
+  weights: number[];
+  residuals: number[];
+  curve: Float64Array;
+}
+
+interface RunOutcome {
+  levels: number;
+  check: number;
+  converged: boolean;
+  exact: boolean;
+  full: boolean;
+  products: number;
+}
+
+interface RunSettings {
+  section: SpectrumSection;
+  frequencies: Float64Array;
+  shape: LineShape;
+  e0: number;
+  unitScale: number;
+}
+
+/**
+ * One continued fraction from `start` (interleaved complex, of the operator's dimension) carrying
+ * `weight`: levels double from FIRST_LEVELS until its curve changes by at most the tolerance
+ * relative to the larger of its own peak and the peak of the runs before it (runs of tiny weight do
+ * not chase their own rounding), the Krylov space is exhausted, or max_levels is reached. Its poles
+ * and curve are added to `collected`.
+ */
+function runPiece(
+  op: HermitianOperator,
+  arena: VectorArena | null,
+  start: Float64Array,
+  weight: number,
+  settings: RunSettings,
+  collected: Collected,
+): RunOutcome {
+  const { section, frequencies, shape, e0, unitScale } = settings;
+  const dim = op.dim;
+  const complex = op.isComplex || !imaginaryZero(start);
+  const home = op instanceof ThreadedOperator && op.arena ? op.arena : arena;
+  const allocate = (n: number) => (home ? home.vector(n) : new Float64Array(n));
+  const length = (complex ? 2 : 1) * dim;
+  const full = length * Math.min(section.maxLevels, dim + 1) <= FULL_ORTHOGONALIZATION_DOUBLES;
+  const chain = new LanczosChain(
+    productOn(op, complex, allocate),
+    complex ? start : realPart(start, dim),
+    complex,
+    full,
+    allocate,
+  );
+  const polesAt = (levels: number) => {
+    const p = chainPoles(chain, levels, weight);
+    return {
+      positions: Array.from(p.positions, (x) => (x - e0) * unitScale),
+      weights: p.weights,
+      residuals: Array.from(p.residuals, (r) => r * Math.abs(unitScale)),
+    };
   };
   const curveAt = (levels: number) => {
     const p = polesAt(levels);
     return broadenedCurve(p.positions, p.weights, frequencies, shape);
   };
+  let before = 0;
+  for (let f = 0; f < collected.curve.length; f++) before = Math.max(before, Math.abs(collected.curve[f]));
   let levels = Math.min(FIRST_LEVELS, section.maxLevels);
-  let check = 0;
-  let curve: Float64Array;
-  try {
-    for (const { chain } of chains) chain.extendTo(levels);
-    curve = curveAt(levels);
-    while (!chains.every(({ chain }) => chain.exhausted && chain.levels <= levels) && levels < section.maxLevels) {
-      const next = Math.min(2 * levels, section.maxLevels);
-      for (const { chain } of chains) chain.extendTo(next);
-      const nextCurve = curveAt(next);
-      let peak = 0;
-      let change = 0;
-      for (let f = 0; f < nextCurve.length; f++) {
-        peak = Math.max(peak, Math.abs(nextCurve[f]));
-        change = Math.max(change, Math.abs(nextCurve[f] - curve[f]));
-      }
-      check = peak > 0 ? change / peak : 0;
-      curve = nextCurve;
-      levels = next;
-      if (check <= section.tolerance) break;
+  chain.extendTo(levels);
+  let curve = curveAt(levels);
+  let check = Infinity;
+  while (!(chain.exhausted && chain.levels <= levels) && levels < section.maxLevels) {
+    const next = Math.min(2 * levels, section.maxLevels);
+    chain.extendTo(next);
+    const nextCurve = curveAt(next);
+    let peak = before;
+    let change = 0;
+    for (let f = 0; f < nextCurve.length; f++) {
+      peak = Math.max(peak, Math.abs(nextCurve[f]));
+      change = Math.max(change, Math.abs(nextCurve[f] - curve[f]));
     }
-  } finally {
-    threaded.close();
+    check = peak > 0 ? change / peak : 0;
+    curve = nextCurve;
+    levels = next;
+    if (check <= section.tolerance) break;
   }
-  const exact = chains.every(({ chain }) => chain.exhausted);
-  if (exact) check = 0;
-  const used = Math.max(0, ...chains.map(({ chain }) => Math.min(chain.levels, levels)));
+  const exact = chain.exhausted && chain.levels <= levels;
   const poles = polesAt(levels);
-  // Ghost copies from a run without full orthogonalization sit within rounding of the true line.
-  const scale = Math.max(1, ...poles.positions.map(Math.abs));
-  const lines = strongestLines(poles.positions, poles.weights, 1e-8 * scale, section.lines).filter(
-    (l) => l.weight > ZERO_WEIGHT * Math.max(total, Number.MIN_VALUE),
-  );
-  const products = chains.reduce((sum, { chain }) => sum + chain.products, 0);
-  const spectrumSeconds = (performance.now() - started) / 1000;
-  const p = section.probe;
+  for (const x of poles.positions) collected.positions.push(x);
+  for (let j = 0; j < poles.weights.length; j++) {
+    collected.weights.push(poles.weights[j]);
+    collected.residuals.push(poles.residuals[j]);
+  }
+  for (let f = 0; f < curve.length; f++) collected.curve[f] += curve[f];
   return {
-    record,
-    spectrum: {
-      probe: {
-        kind: p.kind,
-        link: p.link,
-        level: p.level,
-        phase: p.phase,
-        sites: p.sites ?? 'all',
-        momentum: p.momentum,
-        q: probe.wavevector,
-      },
-      temperature: 0,
-      frequency_unit: section.frequencyUnit,
-      broadening: shape,
-      frequencies: Array.from(frequencies),
-      intensity: Array.from(curve),
-      lines,
-      weight,
-      elastic_weight: elastic,
-      total_weight: total,
-      lines_weight: poles.weights.reduce((a, b) => a + b, 0),
-      window_weight: weightInside(poles.positions, poles.weights, section.from, section.to, shape),
-      ground_energy: e0,
-      ground_copies: copies,
-      ground_copies_complete: record.solver.degeneracy_complete,
-      continued_fraction: {
-        levels: used,
-        check,
-        tolerance: section.tolerance,
-        converged: exact || check <= section.tolerance,
-        exact,
-        orthogonalization: full ? 'full' : 'none',
-        products,
-        seconds_per_level: products > 0 ? spectrumSeconds / products : 0,
-      },
-      dimension: dim,
-      seconds: { ground_state: groundSeconds, spectrum: spectrumSeconds },
-    },
+    levels: Math.min(chain.levels, levels),
+    check: exact ? 0 : check,
+    converged: exact || check <= section.tolerance,
+    exact,
+    full,
+    products: chain.products,
   };
 }
 
@@ -279,21 +422,40 @@ function frequencyScale(spec: Spec, section: SpectrumSection): number {
   return labUnits(spec)!.energyUnitHz / 1e3;
 }
 
-/** Peak memory of the spectrum beside the ground state: the operator, the copies, O psi, the Lanczos vectors. */
-function spectrumMemory(model: Model, copies: number, section: SpectrumSection) {
+/**
+ * Peak memory of the spectrum after the ground solve: the ground copies kept on the full basis and
+ * O psi of each (complex), then either the full-space operator with one run's Lanczos vectors, or
+ * (symmetry sectors in use) the orbit maps, every copy's sector parts (together at most the full
+ * vector) and the largest sector's stored matrix with its Lanczos vectors.
+ */
+export function estimateSpectrumMemory(
+  model: Model,
+  copies: number,
+  section: SpectrumSection,
+  used: Record<SymmetryName, boolean> | null,
+): MemoryEstimate {
   const dim = basisDimension(model);
   const vector = 16 * dim;
-  const operator = model.kind === 'pinned' ? 8 * dim : planFockOperator(model, dim).bytes;
-  const kept = 2 * dim * Math.min(section.maxLevels, dim + 1) <= FULL_ORTHOGONALIZATION_DOUBLES;
-  const lanczos = kept ? 8 * FULL_ORTHOGONALIZATION_DOUBLES : 4 * vector;
-  const parts = {
+  const parts: Record<string, number> = {
     runtime: RUNTIME_BASELINE_BYTES,
-    operator,
     ground_states: copies * vector,
     probed_states: copies * vector,
-    lanczos: copies * lanczos,
   };
-  return { parts, totalBytes: Object.values(parts).reduce((a, b) => a + b, 0) };
+  const lanczosFor = (length: number) =>
+    2 * length * Math.min(section.maxLevels, length + 1) <= FULL_ORTHOGONALIZATION_DOUBLES
+      ? 8 * FULL_ORTHOGONALIZATION_DOUBLES
+      : 6 * 16 * length; // three vectors, the real product's two buffers, rounding up
+  if (used && model.kind === 'pinned') {
+    const { sectorDim, nnz } = largestSector(dim, model, used);
+    parts.orbit_maps = 2 * dim * 6;
+    parts.sector_parts = copies * vector;
+    parts.sector_matrix = 2 * (nnz * (4 + 16) + 8 * (sectorDim + 1));
+    parts.lanczos = lanczosFor(sectorDim);
+  } else {
+    parts.operator = model.kind === 'pinned' ? 8 * dim : planFockOperator(model, dim).bytes;
+    parts.lanczos = lanczosFor(dim);
+  }
+  return { parts, totalBytes: Object.values(parts).reduce((x, y) => x + y, 0) };
 }
 
 function toInterleaved(v: Float64Array, dim: number): Float64Array {

@@ -1,7 +1,10 @@
 // A spectrum as text: the readable table, and tidy CSV (the curve, or the lines).
 
 import { csv, fmt, fmtNoise, fmtSmall, plural, table } from '../format/tables.js';
+import { formatBytes } from '../format/bytes.js';
+import type { MemoryEstimate } from '../point/memory.js';
 import type { SpectrumResult } from './spectrum.js';
+import { momentumText, type SectorLabel } from '../symmetry/group.js';
 
 /** What was probed, in words: "drive on link 0 (phase 0) at q = 0 on every site". */
 export function describeProbe(p: SpectrumResult['probe']): string {
@@ -16,6 +19,16 @@ export function describeProbe(p: SpectrumResult['probe']): string {
   return `${what} at q = ${q} on ${where}`;
 }
 
+/** A sector's quantum numbers: k=2 P+ F- q=3 (only those in use). */
+function sectorText(l: SectorLabel): string {
+  const parts: string[] = [];
+  if (l.momentum !== null) parts.push(`k=${momentumText(l.momentum)}`);
+  if (l.parity !== null) parts.push(`P${l.parity > 0 ? '+' : '-'}`);
+  if (l.level_flip !== null) parts.push(`F${l.level_flip > 0 ? '+' : '-'}`);
+  if (l.charge !== null) parts.push(`q=${l.charge}`);
+  return parts.join(' ');
+}
+
 export function spectrumText(s: SpectrumResult): string {
   const unit = s.frequency_unit === 'khz' ? 'kHz' : 'model units';
   const cf = s.continued_fraction;
@@ -28,17 +41,18 @@ export function spectrumText(s: SpectrumResult): string {
     `ground energy ${fmt(s.ground_energy)} (${plural(s.ground_copies, 'copy', 'copies')} averaged${s.ground_copies_complete ? '' : ', maybe not every copy found'}), dimension ${s.dimension}`,
     `weight (sum rule <O+ O> - |<0|O|0>|^2) ${fmt(s.weight)}; elastic |<0|O|0>|^2 ${fmt(s.elastic_weight)}; lines ${fmt(s.lines_weight)}; inside the window ${fmt(s.window_weight)}`,
     `continued fraction: ${plural(cf.levels, 'level')}, ${cf.exact ? 'exact (Krylov space exhausted)' : `largest change of the curve from half the levels ${fmtSmall(cf.check)} of its peak (tolerance ${fmtSmall(cf.tolerance)})`}${cf.converged ? '' : ', NOT converged'}; ${plural(cf.products, 'product')}, ${fmtSmall(cf.seconds_per_level)} s per level`,
+    `run ${cf.sectors ? `in ${plural(cf.sectors.length, 'symmetry sector')} (${cf.sectors.map(sectorText).join('; ')})` : 'on the full space'}, ${cf.orthogonalization === 'full' ? 'fully orthogonalized' : 'three-term recurrence'}`,
     `broadening: ${width} (${unit}); seconds: ground state ${fmt(s.seconds.ground_state, 3)}, spectrum ${fmt(s.seconds.spectrum, 3)}`,
     '',
-    `strongest lines (position in ${unit}, weight):`,
+    `strongest lines (position in ${unit}, weight; an eigenvalue lies within the residual of the position):`,
   ];
   const lineScale = Math.max(s.weight, 1e-300);
   out.push(
     s.lines.length === 0
       ? '  none: the probe has no weight outside the ground space'
       : table(
-          ['position', 'weight'],
-          s.lines.map((l) => [fmt(l.position), fmtNoise(l.weight, lineScale)]),
+          ['position', 'weight', 'residual'],
+          s.lines.map((l) => [fmt(l.position), fmtNoise(l.weight, lineScale), fmtSmall(l.residual)]),
         ),
   );
   out.push('', `curve (frequency in ${unit}, intensity per ${s.frequency_unit === 'khz' ? 'kHz' : 'unit'}):`);
@@ -56,11 +70,20 @@ export function spectrumText(s: SpectrumResult): string {
 export function spectrumCsv(s: SpectrumResult, what: 'curve' | 'lines'): string {
   if (what === 'lines')
     return csv(
-      ['position', 'weight'],
-      s.lines.map((l) => [l.position, l.weight]),
+      ['position', 'weight', 'residual'],
+      s.lines.map((l) => [l.position, l.weight, l.residual]),
     );
   return csv(
     ['frequency', 'intensity'],
     s.frequencies.map((f, k) => [f, s.intensity[k]]),
   );
+}
+
+/** `check` of a spec with [spectrum]: the continued fraction's memory after the ground solve (one ground copy). */
+export function describeSpectrumMemory(estimate: MemoryEstimate, limit: number): string {
+  const lines = [
+    `spectrum memory  ${formatBytes(estimate.totalBytes)} after the ground solve, per copy of the ground level (limit ${formatBytes(limit)})`,
+  ];
+  for (const [part, bytes] of Object.entries(estimate.parts)) lines.push(`  ${part.padEnd(14)} ${formatBytes(bytes)}`);
+  return lines.join('\n');
 }

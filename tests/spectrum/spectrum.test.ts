@@ -460,6 +460,29 @@ describe('the open XX chain (free fermions; Lieb, Schultz and Mattis 1961)', () 
   });
 });
 
+describe('frequency units', () => {
+  it('kHz with [units]: positions and widths times the energy unit in kHz, intensity per kHz, weights unchanged', () => {
+    const base: Raw = {
+      chain: { sites: 3 },
+      levels: { count: 3, tunnelling: [1, 0.5] },
+      exchange: { strength: 0.7 },
+      units: { energy_unit_hz: 2500 },
+    };
+    const model = run({
+      ...base,
+      spectrum: { probe: { link: 1 }, frequencies: { to: 4, steps: 41 }, broadening: 0.1 },
+    });
+    const khz = run({
+      ...base,
+      spectrum: { probe: { link: 1 }, frequencies: { to: 10, steps: 41 }, broadening: 0.25, frequency_unit: 'khz' },
+    });
+    // E / h in kHz = E * energy_unit_hz / 1000 (docs/model.md, [units])
+    expect(khz.lines.map((l) => l.position / 2.5)).toEqual(model.lines.map((l) => expect.closeTo(l.position, 10)));
+    expect(khz.lines.map((l) => l.weight)).toEqual(model.lines.map((l) => expect.closeTo(l.weight, 10)));
+    khz.intensity.forEach((x, k) => expect(x * 2.5).toBeCloseTo(model.intensity[k], 10));
+  });
+});
+
 describe('sum rules', () => {
   it('the integrated curve equals the printed weight; the poles carry it all', () => {
     const base: Raw = {
@@ -486,6 +509,7 @@ describe('sum rules', () => {
       chain: { sites: 7 },
       levels: { count: 3, tunnelling: [1, 0.6] },
       exchange: { strength: 1.3 },
+      solve: { symmetries: 'none' },
       spectrum: { probe: { link: 0 }, frequencies: { from: 0, to: 8, steps: 161 }, broadening: 0.2 },
     };
     // 3^7 states: 600 kept vectors would pass FULL_ORTHOGONALIZATION_DOUBLES (2^20 doubles), 400 do not.
@@ -497,5 +521,114 @@ describe('sum rules', () => {
     const worst = Math.max(...full.intensity.map((x, k) => Math.abs(x - plain.intensity[k])));
     expect(worst / peak).toBeLessThan(1e-5);
     expect(plain.continued_fraction.converged).toBe(true);
+  });
+});
+
+describe('lines of an unfinished continued fraction', () => {
+  it('each listed line lies within its Ritz residual of an excitation energy of the dense spectrum (Paige; ml-matrix)', () => {
+    const L = 5;
+    const N = 3;
+    const raw: Raw = {
+      chain: { sites: L },
+      levels: { count: N, tunnelling: [1, 0.6], detuning: [0, 0.2, -0.3] },
+      exchange: { strength: 1.3 },
+      solve: { tolerance: 1e-11, symmetries: 'none' },
+      // 24 levels of a 243-state space: most lines are not converged yet
+      spectrum: { probe: { link: 0 }, frequencies: { to: 8, steps: 81 }, broadening: 0.1, max_levels: 24, lines: 24 },
+    };
+    const s = run(raw);
+    expect(s.continued_fraction.exact).toBe(false);
+    const model: ModelDescription = {
+      sites: L,
+      periodic: false,
+      levels: N,
+      ring: false,
+      tunnelling: [1, 0.6],
+      phase: [0, 0],
+      detuning: [0, 0.2, -0.3],
+      exchange: 1.3,
+      exchangeRange: 'nearest',
+      exchangeCutoff: null,
+      weights: [1, 1],
+      ising: 0,
+      moments: [0, 0, 0],
+      isingRange: 'nearest',
+      isingCutoff: null,
+      kind: 'pinned',
+      particles: L,
+      hopping: 0,
+      maxPerSite: 1,
+      onsite: 0,
+    };
+    const h = buildDense(model);
+    const D = h.dim;
+    const m = new Matrix(D, D);
+    for (let r = 0; r < D; r++) for (let c = 0; c < D; c++) m.set(r, c, h.re[r * D + c]);
+    const values = new EigenvalueDecomposition(m, { assumeSymmetric: true }).realEigenvalues.sort((a, b) => a - b);
+    for (const line of s.lines) {
+      const nearest = Math.min(...values.map((e) => Math.abs(e - values[0] - line.position)));
+      expect(nearest).toBeLessThanOrEqual(line.residual + 1e-9);
+    }
+    if (process.env.SPECTRUM_TALLY) console.log(s.lines.map((l) => l.residual));
+    // converged lines and unconverged ones: the bound is tested on both
+    expect(s.lines.some((l) => l.residual < 1e-4)).toBe(true);
+    expect(s.lines.some((l) => l.residual > 1e-2)).toBe(true);
+  });
+});
+
+describe('in symmetry sectors', () => {
+  it('the parts of O|0> in the sectors it reaches give the full-space spectrum (pinned chains and a lattice)', () => {
+    const r = rng(2026);
+    const cases: Raw[] = [];
+    for (let k = 0; k < 10; k++) {
+      const L = 3 + Math.floor(r() * 4);
+      const N = 2 + Math.floor(r() * 2);
+      // charge-conserving chains (no tunnelling) and translation-invariant ones with drives
+      const charge = r() < 0.4;
+      const probe: Raw =
+        r() < 0.5
+          ? { link: Math.floor(r() * (N - 1)), phase: r() < 0.5 ? 0 : 1.1, momentum: Math.floor(r() * L) }
+          : r() < 0.5
+            ? { level: Math.floor(r() * N), momentum: Math.floor(r() * L) }
+            : { coordinate: true, momentum: Math.floor(r() * L) };
+      cases.push({
+        chain: { sites: L, boundary: r() < 0.7 ? 'periodic' : 'open' },
+        levels: {
+          count: N,
+          tunnelling: charge ? 0 : 0.4 + r(),
+          phase: !charge && r() < 0.3 ? 0.7 : 0,
+          detuning: Array.from({ length: N }, () => (r() < 0.5 ? 0 : r() - 0.5)),
+        },
+        exchange: { strength: 0.5 + r() },
+        ising: { strength: r() < 0.5 ? 0 : 0.6, moments: Array.from({ length: N }, (_, n) => n - (N - 1) / 2) },
+        solve: { tolerance: 1e-11 },
+        spectrum: { probe, frequencies: { from: -1, to: 10, steps: 221 }, broadening: 0.1, lines: 1000 },
+      });
+    }
+    cases.push({
+      lattice: { shape: 'square', size: [3, 2], boundary: ['periodic', 'open'] },
+      levels: { count: 2, tunnelling: 0.8 },
+      exchange: { strength: 1.2, range: 'dipolar' },
+      solve: { tolerance: 1e-11 },
+      spectrum: {
+        probe: { link: 0, momentum: [1, 1] },
+        frequencies: { from: -1, to: 10, steps: 221 },
+        broadening: 0.1,
+      },
+    });
+    let inSectors = 0;
+    for (const raw of cases) {
+      const sectors = run(raw);
+      const full = run({ ...raw, solve: { ...raw.solve, symmetries: 'none' } });
+      const context = JSON.stringify(raw);
+      if (sectors.continued_fraction.sectors !== null) inSectors++;
+      expect(full.continued_fraction.sectors).toBeNull();
+      const peak = Math.max(...full.intensity, (full.weight + full.elastic_weight) * 1e-6);
+      const worst = Math.max(...full.intensity.map((x, k) => Math.abs(x - sectors.intensity[k])));
+      expect(worst / peak, context).toBeLessThan(1e-8);
+      expect(sectors.weight).toBeCloseTo(full.weight, 9);
+      expect(sectors.elastic_weight).toBeCloseTo(full.elastic_weight, 9);
+    }
+    expect(inSectors).toBeGreaterThanOrEqual(8);
   });
 });

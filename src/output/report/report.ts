@@ -27,6 +27,7 @@ import { MAX_SERIES, renderLinePlot } from './linePlot.js';
 import { renderArrayPicture, type ArrayLayout } from './arrayPicture.js';
 import { renderHeatMap } from './heatMap.js';
 import { evenlyChosen } from './thinning.js';
+import type { SpectrumResult } from '../../spectrum/spectrum.js';
 
 /** Populations drawn for a chosen point: larger chains are cut to this many sites. */
 export const MAX_POPULATION_SITES = 64;
@@ -50,6 +51,8 @@ export interface ReportInput extends AnalysisInput {
   logAxes?: string[];
   /** Where a point's sites are (from its spec), for the picture of the array; absent or null: no picture. */
   layoutOf?: (index: number) => ArrayLayout | null;
+  /** Each point's spectrum, with a [spectrum] section (by point index); absent: none. */
+  spectra?: Map<number, SpectrumResult>;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -446,6 +449,58 @@ function spectrumSection(context: ReportContext): string | null {
     );
   }
   return null;
+}
+
+/** The [spectrum] of each point against the parameter: a heat map per line, frequency up, intensity as colour. */
+function responseSection(context: ReportContext): string | null {
+  const { input, parameter, xAxis, lines, lineName, scaleX, logX } = context;
+  const spectra = input.spectra;
+  if (!parameter || !xAxis || !spectra || spectra.size === 0) return null;
+  const withSpectra = lines
+    .map((line) => ({ ...line, points: line.points.filter((p) => spectra.has(p.index)) }))
+    .filter((line) => line.points.length > 0);
+  if (withSpectra.length === 0) return null;
+  const chosen = evenlyChosen(withSpectra, 4);
+  const maps = chosen.map((line, k) => {
+    const first = spectra.get(line.points[0].index)!;
+    const grid = first.frequencies;
+    const unit = first.frequency_unit === 'khz' ? 'kHz' : 'model units';
+    // A point whose frequency grid differs (a scanned frequencies key) leaves its column empty.
+    const same = (s: SpectrumResult) =>
+      s.frequencies.length === grid.length &&
+      s.frequencies.every((f, i) => Math.abs(f - grid[i]) <= 1e-12 * Math.max(1, Math.abs(f)));
+    return renderHeatMap({
+      id: `response-${k}`,
+      title: `spectrum A(ω) against ${xAxis.label}${withSpectra.length > 1 ? ` (${lineName(line.fixed)})` : ''}`,
+      xLabel: axisTitle(xAxis),
+      yLabel: `ω [${unit}]`,
+      xValues: line.points.map((p) => scaleX(p.x)),
+      yValues: grid,
+      z: grid.map((_, row) =>
+        line.points.map((p) => {
+          const s = spectra.get(p.index)!;
+          return same(s) ? s.intensity[row] : NaN;
+        }),
+      ),
+      zLabel: `A(ω) [per ${first.frequency_unit === 'khz' ? 'kHz' : 'unit'}]`,
+      logX,
+      notes:
+        withSpectra.length > chosen.length && k === 0 ? [`${chosen.length} of ${withSpectra.length} lines shown`] : [],
+    });
+  });
+  const probe = spectra.values().next().value!.probe;
+  const what =
+    probe.kind === 'drive'
+      ? `a drive on link ${probe.link}`
+      : probe.kind === 'level'
+        ? `the population of level ${probe.level}`
+        : 'the synthetic coordinate';
+  return section(
+    'response',
+    'Spectrum',
+    maps,
+    `Linear response of the ground state to ${what} (rungchain spectrum): line positions E_n − E₀ move with the parameter; bound states show as lines split off the continuum.`,
+  );
 }
 
 /** Lowest level of each symmetry sector: a crossing of the ground state shows as two sectors' lines meeting. */
@@ -967,6 +1022,7 @@ export function renderReport(input: ReportInput): string {
     observablesSection(context),
     heatMapsSection(context),
     spectrumSection(context),
+    responseSection(context),
     sectorLevelsSection(context),
     indicatorsSection(context),
     fitsSection(context),

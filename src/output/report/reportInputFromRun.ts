@@ -88,6 +88,7 @@ export function reportInputFromRun(summary: ScanRunSummary, options: RunReportOp
     exchangeRange: runExchangeRange(summary),
     logAxes: logScaleAxes(summary.section.axes),
     layoutOf: (index) => pointLayout(summary, index),
+    spectra: new Map(summary.rows.flatMap((r) => (r.record?.spectrum ? [[r.index, r.record.spectrum] as const] : []))),
   };
 }
 

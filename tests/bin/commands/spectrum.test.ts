@@ -26,7 +26,14 @@ describe('rungchain spectrum', () => {
     expect(r.code).toBe(0);
     expect(r.stdout).toContain('weight (sum rule <O+ O> - |<0|O|0>|^2) 1;');
     expect(r.stdout).toContain('exact (Krylov space exhausted)');
-    expect(r.stdout).toMatch(/position\s+weight\n-+\s+-+\n2\s+1\n/);
+    expect(r.stdout).toMatch(/position\s+weight\s+residual\n-+\s+-+\s+-+\n2\s+1\s+0\n/);
+  });
+
+  it('check adds the continued fraction memory after the ground solve', () => {
+    const r = runCli(['check', spec]);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/spectrum memory {2}\S+ \S+ after the ground solve/);
+    expect(r.stdout).toContain('probed_states');
   });
 
   it('--json is one object on stdout', () => {
@@ -41,14 +48,14 @@ describe('rungchain spectrum', () => {
     expect(out.continued_fraction.converged).toBe(true);
   });
 
-  it('--csv is tidy: frequency,intensity rows, or position,weight with --csv lines', () => {
+  it('--csv is tidy: frequency,intensity rows, or position,weight,residual with --csv lines', () => {
     const curve = runCli(['spectrum', spec, '--csv']);
     expect(curve.code).toBe(0);
     const rows = curve.stdout.trim().split('\n');
     expect(rows[0]).toBe('frequency,intensity');
     expect(rows).toHaveLength(6);
     const lines = runCli(['spectrum', spec, '--csv', 'lines']);
-    expect(lines.stdout.trim().split('\n')[0]).toBe('position,weight');
+    expect(lines.stdout.trim().split('\n')[0]).toBe('position,weight,residual');
     expect(Number(lines.stdout.trim().split('\n')[1].split(',')[0])).toBeCloseTo(2, 10);
   });
 
@@ -66,5 +73,52 @@ describe('rungchain spectrum', () => {
     const hot = runCli(['spectrum', spec, '--set', 'spectrum.temperature=0.1']);
     expect(hot.code).toBe(2);
     expect(hot.stderr).toContain('spectrum.temperature');
+  });
+});
+
+describe('spectra in scans', () => {
+  const scanSpec = path.join(folder, 'scan.json');
+  const run = path.join(folder, 'run');
+  fs.writeFileSync(
+    scanSpec,
+    JSON.stringify({
+      chain: { sites: 4, boundary: 'periodic' },
+      levels: { count: 3, tunnelling: 1 },
+      spectrum: { probe: { link: 0, momentum: 1 }, frequencies: { from: 0, to: 6, steps: 31 }, broadening: 0.1 },
+      scan: { axis: [{ key: 'exchange.strength', values: [0, 0.8, 1.6] }] },
+    }),
+  );
+
+  it('each point holds the spectrum `spectrum` prints for it; summary --long has a row per point and frequency; the report draws them', () => {
+    const scan = runCli(['scan', scanSpec, '--out', run]);
+    expect(scan.code).toBe(0);
+    const summary = JSON.parse(runCli(['summary', run, '--json']).stdout) as Record<string, any>[];
+    expect(summary).toHaveLength(3);
+    for (const point of summary) {
+      const alone = JSON.parse(
+        runCli([
+          'spectrum',
+          scanSpec,
+          '--set',
+          'scan=null',
+          '--set',
+          `exchange.strength=${point['exchange.strength']}`,
+          '--json',
+        ]).stdout,
+      );
+      expect(point.spectrum.frequencies).toEqual(alone.frequencies);
+      point.spectrum.intensity.forEach((x: number, k: number) => expect(x).toBeCloseTo(alone.intensity[k], 9));
+      expect(point.spectrum.weight).toBeCloseTo(alone.weight, 10);
+    }
+    const long = runCli(['summary', run, '--long', '--csv']).stdout.trim().split('\n');
+    const header = long[0].split(',');
+    expect(header).toContain('frequency');
+    const rows = long.slice(1).filter((l) => l.split(',')[header.indexOf('observable')] === 'spectrum');
+    expect(rows).toHaveLength(3 * 31);
+    const report = path.join(folder, 'report.html');
+    expect(runCli(['report', run, '--out', report]).code).toBe(0);
+    const html = fs.readFileSync(report, 'utf8');
+    expect(html).toContain('id="response"');
+    expect(html).toContain('spectrum A(ω) against');
   });
 });

@@ -1,0 +1,77 @@
+// Part of `npm run bench` (issue 22): the spectrum of a drive on link 0 at q = 0 of a 12 x 4
+// periodic chain (16.8 million states), after its ground state: the ground-state solve (in symmetry
+// sectors, then expanded to the full basis) beside the continued fraction, its levels and the time
+// per level. Also a 10 x 4 chain, with the curve's largest change between the full spectrum's last
+// two level counts.
+//
+// usage: node dist/bench/spectrumBench.js [--sites 10,12] [--max-levels N]
+
+import { computeSpectrum } from '../src/spectrum/spectrum.js';
+import { validateSpec } from '../src/spec/spec.js';
+import { fmt, table } from '../src/format/tables.js';
+import { formatBytes } from '../src/format/bytes.js';
+
+function argument(name: string): string | undefined {
+  const at = process.argv.indexOf(name);
+  return at >= 0 ? process.argv[at + 1] : undefined;
+}
+
+const sizes = (argument('--sites') ?? '10,12').split(',').map(Number);
+const maxLevels = Number(argument('--max-levels') ?? 400);
+
+const rows: string[][] = [];
+for (const sites of sizes) {
+  const spec = validateSpec({
+    chain: { sites, boundary: 'periodic' },
+    levels: { count: 4, tunnelling: 1 },
+    exchange: { strength: 1.5 },
+    solve: { states: 1, tolerance: 1e-9, entanglement: 'none' },
+    spectrum: {
+      probe: { link: 0 },
+      frequencies: { from: 0, to: 10, steps: 401 },
+      broadening: 0.2,
+      tolerance: 1e-4,
+      max_levels: maxLevels,
+    },
+  });
+  const { spectrum: s } = computeSpectrum(spec);
+  const cf = s.continued_fraction;
+  const strongest = [...s.lines].sort((a, b) => b.weight - a.weight)[0];
+  rows.push([
+    `${sites}x4`,
+    String(s.dimension),
+    fmt(s.seconds.ground_state, 3),
+    fmt(s.seconds.spectrum, 3),
+    fmt(s.seconds.spectrum / s.seconds.ground_state, 3),
+    String(cf.levels),
+    fmt(cf.seconds_per_level, 3),
+    cf.check.toExponential(2),
+    String(cf.converged),
+    fmt(s.weight, 6),
+    strongest ? `${fmt(strongest.position, 6)} (${fmt(strongest.weight, 4)})` : '-',
+    formatBytes(process.memoryUsage().rss),
+  ]);
+  console.log(`${sites}x4 done`);
+}
+console.log(
+  '\nspectrum of a drive on link 0, q = 0, periodic chains of 4 levels, J = 1, V = 1.5, Lorentzian 0.2, tolerance 1e-4',
+);
+console.log(
+  table(
+    [
+      'chain',
+      'dimension',
+      'ground s',
+      'spectrum s',
+      'ratio',
+      'levels',
+      's/level',
+      'check',
+      'converged',
+      'weight',
+      'strongest line',
+      'rss now',
+    ],
+    rows,
+  ),
+);
