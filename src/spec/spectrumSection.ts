@@ -13,7 +13,7 @@
 //   spectrum.frequencies           required: { from = 0, to, steps = 401 }
 //   spectrum.frequency_unit        "model", or "khz" (needs [units])
 //   spectrum.broadening            2 frequency steps: a number (Lorentzian half width) or
-//                                  { lorentzian, gaussian } (half widths at half maximum, one of them)
+//                                  { lorentzian, gaussian } (half widths at half maximum; both: Voigt)
 //   spectrum.tolerance             1e-6: the curve's largest change from n to 2n levels, relative to its peak
 //   spectrum.max_levels            2000 continued-fraction levels at most
 //   spectrum.lines                 10 strongest lines listed
@@ -69,6 +69,8 @@ export interface SpectrumSection {
   temperature: number;
 }
 
+/** Most points of the fine grid a Voigt profile's convolution may use (as src/spectrum/ allows). */
+export const MAX_VOIGT_POINTS = 4_000_000;
 /** Most frequencies a curve may have. */
 export const MAX_FREQUENCY_STEPS = 100_000;
 const SECTION_KEYS = [
@@ -151,8 +153,18 @@ export function validateSpectrumSection(raw: unknown, keyPath: string): Spectrum
       rejectUnknownKeys(t.broadening, bPath, ['lorentzian', 'gaussian']);
       lorentzian = nonNegativeNumber(orDefault(t.broadening.lorentzian, 0), `${bPath}.lorentzian`);
       gaussian = nonNegativeNumber(orDefault(t.broadening.gaussian, 0), `${bPath}.gaussian`);
-      if (lorentzian > 0 && gaussian > 0)
-        throw new SpecError(bPath, 'a Voigt profile (both lorentzian and gaussian) is not supported yet; give one');
+      if (lorentzian > 0 && gaussian > 0) {
+        // The Voigt convolution's fine grid (src/spectrum/continuedFraction.ts): 6 points per
+        // Lorentzian half width over the window and 8.5 Gaussian standard deviations each side.
+        const delta = (to - from) / (steps - 1);
+        const h = delta / Math.max(1, Math.ceil((6 * delta) / lorentzian));
+        const points = (steps - 1) * (delta / h) + 2 * Math.ceil((8.5 * gaussian) / Math.sqrt(2 * Math.LN2) / h);
+        if (points > MAX_VOIGT_POINTS)
+          throw new SpecError(
+            `${bPath}.lorentzian`,
+            `a Voigt profile this narrow against the window (or this wide a Gaussian) needs ${Math.round(points)} points of its fine grid, more than ${MAX_VOIGT_POINTS}; widen the Lorentzian or narrow the window`,
+          );
+      }
       if (lorentzian === 0 && gaussian === 0)
         throw new SpecError(bPath, 'needs lorentzian or gaussian above 0: lines without width cannot be drawn');
     } else lorentzian = positiveNumber(t.broadening, bPath);

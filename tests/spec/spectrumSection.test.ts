@@ -72,7 +72,7 @@ describe('[spectrum]', () => {
       [withSpectrum({ frequency_unit: 'khz' }), 'spectrum.frequency_unit'],
       [withSpectrum({ frequency_unit: 'Hz' }), 'spectrum.frequency_unit'],
       [withSpectrum({ broadening: 0 }), 'spectrum.broadening'],
-      [withSpectrum({ broadening: { lorentzian: 0.1, gaussian: 0.1 } }), 'spectrum.broadening'],
+      [withSpectrum({ broadening: { lorentzian: 1e-6, gaussian: 0.1 } }), 'spectrum.broadening.lorentzian'],
       [withSpectrum({ broadening: { lorentzian: -1 } }), 'spectrum.broadening.lorentzian'],
       [withSpectrum({ broadening: {} }), 'spectrum.broadening'],
       [withSpectrum({ temperature: 0.5 }), 'spectrum.temperature'],
@@ -86,6 +86,8 @@ describe('[spectrum]', () => {
       'no error',
     );
     expect(keyPathOf(withSpectrum({ frequency_unit: 'khz' }, { units: { energy_unit_hz: 1000 } }))).toBe('no error');
+    // both widths: a Voigt profile
+    expect(keyPathOf(withSpectrum({ broadening: { lorentzian: 0.1, gaussian: 0.1 } }))).toBe('no error');
   });
 
   it('checks sites and momenta against the geometry before solving', () => {

@@ -460,6 +460,60 @@ describe('the open XX chain (free fermions; Lieb, Schultz and Mattis 1961)', () 
   });
 });
 
+describe('line shapes', () => {
+  it('Lorentzian and Gaussian together give the Voigt profile: against composite Simpson quadrature of the convolution', () => {
+    // One line of weight 1 at 2J (the dressed two-level molecule probed in quadrature; Autler-Townes).
+    const J = 1;
+    const eta = 0.05;
+    const gamma = 0.1; // Gaussian half width at half maximum: sigma = gamma / sqrt(2 ln 2)
+    const s = run({
+      chain: { sites: 1 },
+      levels: { count: 2, tunnelling: J },
+      spectrum: {
+        probe: { link: 0, phase: Math.PI / 2 },
+        frequencies: { from: 1, to: 3, steps: 81 },
+        broadening: { lorentzian: eta, gaussian: gamma },
+      },
+    });
+    const sigma = gamma / Math.sqrt(2 * Math.LN2);
+    // V(x) = integral G(t) L(x - t) dt, the convolution written out (common practice), by composite
+    // Simpson over |t| <= 10 sigma with 40000 intervals.
+    const voigt = (x: number) => {
+      const n = 40000;
+      const a = -10 * sigma;
+      const h = (20 * sigma) / n;
+      let sum = 0;
+      for (let k = 0; k <= n; k++) {
+        const t = a + k * h;
+        const g = Math.exp((-0.5 * t * t) / (sigma * sigma)) / (sigma * Math.sqrt(2 * Math.PI));
+        const f = g * lorentzian(x - t, eta);
+        sum += f * (k === 0 || k === n ? 1 : k % 2 === 1 ? 4 : 2);
+      }
+      return (sum * h) / 3;
+    };
+    const expected = s.frequencies.map((f) => voigt(f - 2 * J));
+    const peak = Math.max(...expected);
+    expected.forEach((e, k) => expect(Math.abs(e - s.intensity[k]) / peak).toBeLessThan(1e-9));
+    // The window [1, 3] around the line at 2: integral of V over it = integral G(t) (F(1 - t) - F(-1 - t)) dt,
+    // F(u) = atan(u / eta) / pi the Lorentzian's integral, by the same Simpson rule.
+    const n = 40000;
+    const a = -10 * sigma;
+    const step = (20 * sigma) / n;
+    let inside = 0;
+    for (let k = 0; k <= n; k++) {
+      const t = a + k * step;
+      const g = Math.exp((-0.5 * t * t) / (sigma * sigma)) / (sigma * Math.sqrt(2 * Math.PI));
+      const f = (g * (Math.atan((1 - t) / eta) - Math.atan((-1 - t) / eta))) / Math.PI;
+      inside += f * (k === 0 || k === n ? 1 : k % 2 === 1 ? 4 : 2);
+    }
+    expect(s.window_weight).toBeCloseTo((inside * step) / 3, 9);
+    let integral = 0;
+    const h = s.frequencies[1] - s.frequencies[0];
+    for (let k = 0; k + 1 < s.frequencies.length; k++) integral += (h * (s.intensity[k] + s.intensity[k + 1])) / 2;
+    expect(Math.abs(integral - s.window_weight)).toBeLessThan(2e-3);
+  });
+});
+
 describe('frequency units', () => {
   it('kHz with [units]: positions and widths times the energy unit in kHz, intensity per kHz, weights unchanged', () => {
     const base: Raw = {
