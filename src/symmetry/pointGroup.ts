@@ -416,8 +416,10 @@ export function chooseAutomorphisms(
   }
   if (generators.length === 0) return `no automorphism of the couplings commutes with H${note}`;
   const names = generators.map((_, n) => `a${n + 1}`);
+  // the site map of each generator, for arrays small enough to read it
   const describeGen = (g: Int32Array, n: number) =>
-    `${names[n]} (order ${genOrders[n]}: ${Array.from(g, (j, i) => `${i}->${j}`).join(' ')})`;
+    `${names[n]} (order ${genOrders[n]}` +
+    (sites <= 32 ? `: ${Array.from(g, (j, i) => `${i}->${j}`).join(' ')})` : ')');
   return {
     kind: 'automorphism',
     names,

@@ -19,7 +19,13 @@ import {
   type SectorLabel,
   type SymmetryName,
 } from '../../src/symmetry/group.js';
-import { groupElements } from '../../src/symmetry/pointGroup.js';
+import {
+  AUTOMORPHISM_CAP,
+  chooseAutomorphisms,
+  couplingAutomorphisms,
+  groupElements,
+  permutationOrder,
+} from '../../src/symmetry/pointGroup.js';
 import { OrbitMap, SectorBasis } from '../../src/symmetry/sectorBasis.js';
 import { buildSectorOperator } from '../../src/symmetry/sectorOperator.js';
 import { sectorSizes } from '../../src/symmetry/sectorSizes.js';
@@ -453,6 +459,55 @@ describe('the field decides which mirrors are kept (dipolar couplings, 3x3 open)
   it('field along z: the whole square group; a generic tilt keeps only the rotation by pi', () => {
     expect(groupFor([0, 0, 1]).detail).toMatch(/not used: diagonal, antidiagonal, C2, C4/);
     expect(groupFor([0.3, -0.5, 0.8]).names).toEqual(['C2']);
+  });
+});
+
+const gcd = (a: number, b: number): number => (b === 0 ? a : gcd(b, a % b));
+
+describe('automorphisms of the couplings', () => {
+  const modelOf = (positions: number[][], field = [0, 0, 1]) =>
+    buildModel(
+      validateSpec({
+        lattice: { shape: 'custom', positions, field },
+        levels: { count: 2, tunnelling: 0.4 },
+        exchange: { strength: 1, range: 'dipolar' },
+        ising: { strength: 0.3, moments: [0.2, -0.4], range: 'dipolar' },
+      }),
+    );
+  it('a ring of n (field normal to it) has the dihedral group of order 2n; the group used is its rotation', () => {
+    // symmetries of a regular polygon: the dihedral group D_n, n rotations and n mirrors (common practice)
+    for (const n of [5, 6, 8]) {
+      const m = modelOf(ring(n));
+      const { found, capped } = couplingAutomorphisms(m.sites, [m.exchangePairs, m.isingPairs]);
+      expect(capped).toBe(false);
+      expect(found.length).toBe(2 * n);
+      // the rotations of order n are the generators of Z_n: Euler's phi(n) of them
+      const phi = Array.from({ length: n }, (_, k) => k).filter((k) => gcd(k, n) === 1).length;
+      expect(found.filter((g) => permutationOrder(g) === n).length).toBe(phi);
+      const group = pointGroupOf(m);
+      if (typeof group === 'string') throw new Error(group);
+      expect(group.kind).toBe('automorphism');
+      expect(group.orders).toEqual([n]);
+    }
+  });
+  it('a field tilted in the ring plane leaves only a mirror (or two commuting ones)', () => {
+    // the field along x keeps the mirrors y -> -y and x -> -x of a hexagon with a vertex on x (and their product)
+    const m = modelOf(ring(6), [1, 0, 0.2]);
+    const { found } = couplingAutomorphisms(m.sites, [m.exchangePairs, m.isingPairs]);
+    expect(found.length).toBe(4);
+    const group = pointGroupOf(m);
+    if (typeof group === 'string') throw new Error(group);
+    expect(group.orders.every((o) => o === 2)).toBe(true);
+    expect(group.orders.reduce((a, b) => a * b, 1)).toBe(4);
+  });
+  it('uncoupled sites: every permutation preserves the couplings, and the search stops at its cap', () => {
+    const empty = { count: 0, i: new Int32Array(0), j: new Int32Array(0), value: new Float64Array(0) };
+    const { found, capped } = couplingAutomorphisms(9, [empty]);
+    expect(capped).toBe(true);
+    expect(found.length).toBe(AUTOMORPHISM_CAP);
+    const group = chooseAutomorphisms(found, capped, () => true, 9);
+    if (typeof group === 'string') throw new Error(group);
+    expect(group.detail).toMatch(/capped/);
   });
 });
 
