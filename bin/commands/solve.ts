@@ -8,7 +8,7 @@ import { describeGeometry } from '../../src/model/geometryText.js';
 import { InputError } from '../../src/errors/errors.js';
 import { formatBytes } from '../../src/format/bytes.js';
 import type { SectorProgress } from '../../src/symmetry/sectorSolve.js';
-import { momentumText, type SectorLabel } from '../../src/symmetry/group.js';
+import { momentumText, pointGroupText, type SectorLabel } from '../../src/symmetry/group.js';
 import { describePlan, describeRecord, siteArrangement } from '../../src/point/describe.js';
 import { runDemo } from '../../src/demo/demo.js';
 import { collect, memoryLimit } from './shared.js';
@@ -177,6 +177,7 @@ export function sectorName(l: SectorLabel): string {
   if (l.momentum !== null) parts.push(`k=${momentumText(l.momentum)}`);
   if (l.parity !== null) parts.push(`P${l.parity > 0 ? '+' : '-'}`);
   if (l.level_flip !== null) parts.push(`F${l.level_flip > 0 ? '+' : '-'}`);
+  if (l.point_group) parts.push(`G ${pointGroupText(l.point_group)}`);
   if (l.charge !== null) parts.push(`q=${l.charge}`);
   return parts.join(' ') || 'whole space';
 }

@@ -11,7 +11,7 @@
 // overlap of neighbouring ground spaces falling below CROSSING_OVERLAP, and placed at the midpoint.
 
 import { degeneracyWindow } from '../solver/eigensolver.js';
-import { momentumText, type SectorLabel } from '../symmetry/group.js';
+import { momentumText, pointGroupText, type SectorLabel } from '../symmetry/group.js';
 
 /**
  * Below this overlap |<psi(x)|psi(x + delta)>| of neighbouring ground spaces the ground state is
@@ -55,7 +55,10 @@ export interface CrossingPoint {
 }
 
 export function sectorKey(label: SectorLabel): string {
-  return `${label.charge ?? '-'}|${momentumText(label.momentum)}|${label.parity ?? '-'}|${label.level_flip ?? '-'}`;
+  return (
+    `${label.charge ?? '-'}|${momentumText(label.momentum)}|${label.parity ?? '-'}|${label.level_flip ?? '-'}` +
+    (label.point_group ? `|${pointGroupText(label.point_group)}` : '')
+  );
 }
 
 /** Sector label text for tables: `q=2 m=3 P=+ F=-` (only the labels in use). */
@@ -66,6 +69,7 @@ export function sectorText(label: SectorLabel | null): string {
   if (label.momentum !== null) parts.push(`m=${momentumText(label.momentum)}`);
   if (label.parity !== null) parts.push(`P=${label.parity > 0 ? '+' : '-'}`);
   if (label.level_flip !== null) parts.push(`F=${label.level_flip > 0 ? '+' : '-'}`);
+  if (label.point_group) parts.push(`G=${pointGroupText(label.point_group)}`);
   return parts.join(' ') || 'all';
 }
 

@@ -7,6 +7,7 @@ import type { StateRecord } from './record.js';
 import { OBSERVABLES } from '../observables/catalogue.js';
 import { isChainLattice, latticeOf } from '../spec/lattice.js';
 import type { Spec } from '../spec/spec.js';
+import { pointGroupText } from '../symmetry/group.js';
 
 /** Where the sites are, in a few words: "chain", "square lattice 2x3", "custom array, 1 vacancy". */
 export function siteArrangement(spec: Spec): string {
@@ -33,6 +34,9 @@ export function describePlan(plan: PointPlan, limit: number): string {
       0,
       `symmetries       ${used.length > 0 ? used.join(', ') + ` (checked on the operator; solved sector by sector${howMany})` : 'none found'}`,
     );
+    // which mirrors, rotations or automorphisms were kept, left unused or broken
+    const point = plan.symmetries.find((c) => (c.name === 'point_group' || c.name === 'automorphism') && c.present);
+    if (point) lines.splice(4, 0, `  ${point.name}: ${point.detail}`);
   }
   for (const [part, bytes] of Object.entries(plan.memory.parts))
     lines.push(`  ${part.padEnd(14)} ${formatBytes(bytes)}`);
@@ -58,6 +62,8 @@ export function describeRecord(r: PointRecord, arrangement = 'chain'): string {
   );
   out.push('');
   const labels = r.sectors;
+  // a point-group column only when the solve used one
+  const pointColumn = labels?.some((l) => l.point_group !== undefined) ?? false;
   const quantum = (k: number) => {
     const l = labels?.[k];
     if (!l) return [];
@@ -70,13 +76,21 @@ export function describeRecord(r: PointRecord, arrangement = 'chain'): string {
       sign(l.parity),
       sign(l.level_flip),
       l.charge === null ? NOT_APPLICABLE : String(l.charge),
+      ...(pointColumn ? [l.point_group ? pointGroupText(l.point_group) : NOT_APPLICABLE] : []),
     ];
   };
   // Differences of energies are rounding noise below the energies' own scale.
   const energyScale = columnScale(r.energies);
   out.push(
     table(
-      ['state', 'energy', 'E - E0', 'residual', ...(labels ? ['k (2pi/L)', 'parity', 'flip', 'charge'] : [])],
+      [
+        'state',
+        'energy',
+        'E - E0',
+        'residual',
+        ...(labels ? ['k (2pi/L)', 'parity', 'flip', 'charge'] : []),
+        ...(pointColumn ? ['point group'] : []),
+      ],
       r.energies.map((e, k) => [
         String(k),
         fmtNoise(e, energyScale, 12),

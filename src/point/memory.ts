@@ -4,7 +4,7 @@ import os from 'node:os';
 import { ResourceError } from '../errors/errors.js';
 import { formatBytes } from '../format/bytes.js';
 import type { Model } from '../model/model.js';
-import type { SymmetryName } from '../symmetry/group.js';
+import { orbitMapCount, pointGroupInUse, translationSizes, type SymmetryName } from '../symmetry/group.js';
 
 const BYTES_PER_DOUBLE = 8;
 /**
@@ -118,12 +118,17 @@ export function largestSector(
   model: Model,
   used: Record<SymmetryName, boolean>,
 ): { sectorDim: number; complex: boolean; entries: number; nnz: number } {
-  const translations = used.translation ? model.sites : 1;
+  // a lattice's translations number the product of its periodic sizes (a ladder's L, not its 2L sites)
+  const sizes = used.translation ? translationSizes(model) : null;
+  const translations = used.translation ? (sizes ? sizes.reduce((a, b) => a * b, 1) : model.sites) : 1;
   const flip = used.level_flip && !used.charge ? 2 : 1;
   const fraction = used.charge ? largestChargeFraction(model.sites, model.levels) : 1;
-  // Momentum sectors other than 0 and pi are not split by parity, so they are the largest.
+  // Momentum sectors other than 0 and pi are not split by parity (nor by a point group, at momenta
+  // it does not fix), so they are the largest; without translations the whole group splits.
   const parityHalves = used.reflection && !used.translation ? 2 : 1;
-  const sectorDim = Math.ceil((dim * fraction * 1.05) / (translations * flip * parityHalves)) + 64;
+  const point = used.translation ? null : pointGroupInUse(used, model);
+  const pointSplit = point ? point.orders.reduce((a, b) => a * b, 1) : 1;
+  const sectorDim = Math.ceil((dim * fraction * 1.05) / (translations * flip * parityHalves * pointSplit)) + 64;
   const complex = model.isComplex || used.translation;
   return { sectorDim, complex, entries: sectorDim * (complex ? 2 : 1), nnz: sectorDim * pinnedColumnsPerState(model) };
 }
@@ -161,7 +166,7 @@ export function estimateSectorMemory(opts: {
   const concurrent = opts.concurrent ?? 1;
   const { sectorDim, nnz, complex } = largestSector(dim, model, used);
   const scalar = complex ? 16 : 8;
-  const maps = used.reflection && used.translation ? 2 : 1;
+  const maps = orbitMapCount(model, used);
   const helpers = concurrent > 1 ? concurrent - 1 : 3 * Math.max(0, (opts.productThreads ?? 1) - 1);
   const parts: Record<string, number> = {
     runtime: RUNTIME_BASELINE_BYTES,

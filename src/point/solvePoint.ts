@@ -227,10 +227,21 @@ function chooseSymmetries(
   const dimension = basisDimension(model);
   if (dimension > MAX_DIMENSION) return { symmetries: [], used: null };
   const symmetries = detectSymmetries(model, buildBasis(model) as PinnedBasis);
-  const used = { translation: false, reflection: false, level_flip: false, charge: false } as Record<
-    SymmetryName,
-    boolean
-  >;
+  const used: Record<SymmetryName, boolean> = {
+    translation: false,
+    reflection: false,
+    level_flip: false,
+    charge: false,
+    point_group: false,
+    automorphism: false,
+  };
+  if (choice !== 'auto')
+    for (const name of choice)
+      if (!symmetries.some((c) => c.name === name))
+        throw new SpecError(
+          'solve.symmetries',
+          `${name}: acts off chains only; a chain has translation and reflection`,
+        );
   for (const check of symmetries) {
     const wanted = choice === 'auto' || choice.includes(check.name);
     if (wanted && check.present) used[check.name] = true;

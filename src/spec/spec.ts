@@ -34,8 +34,8 @@
 //   solve.max_matvecs                  none (null)
 //   solve.krylov                       none (null)
 //   solve.seed                         1
-//   solve.symmetries                   "auto"              ("auto" | "none" | list of translation, reflection, level_flip, charge)
-//   solve.sector                       every sector        (table: momentum, parity, level_flip, charge; a value or a list each)
+//   solve.symmetries                   "auto"              ("auto" | "none" | list of translation, reflection, level_flip, charge, point_group, automorphism)
+//   solve.sector                       every sector        (table: momentum, parity, level_flip, charge, point_group; a value or a list each)
 //   solve.threads                      "auto"              (threads for one matrix-vector product, or a count)
 //   solve.entanglement                 "auto"              ("none" | "auto" | "half" | "all" | list of cuts;
 //                                                           a cut l splits sites 0..l-1 from l..L-1; "auto"
@@ -576,7 +576,7 @@ function validateSolve(table: Table, sites: number): Spec['solve'] {
   };
 }
 
-const SYMMETRY_CHOICES = ['translation', 'reflection', 'level_flip', 'charge'] as const;
+const SYMMETRY_CHOICES = ['translation', 'reflection', 'level_flip', 'charge', 'point_group', 'automorphism'] as const;
 
 function validateSymmetries(value: unknown): Spec['solve']['symmetries'] {
   const path = 'solve.symmetries';
@@ -587,7 +587,7 @@ function validateSymmetries(value: unknown): Spec['solve']['symmetries'] {
 function validateSector(raw: unknown): Spec['solve']['sector'] {
   const path = 'solve.sector';
   const value = expectTable(raw, path);
-  rejectUnknownKeys(value, path, ['momentum', 'parity', 'level_flip', 'charge']);
+  rejectUnknownKeys(value, path, ['momentum', 'parity', 'level_flip', 'charge', 'point_group']);
   const sector: Spec['solve']['sector'] = {};
   const list = (key: string) => {
     const v = value[key];
@@ -612,6 +612,24 @@ function validateSector(raw: unknown): Spec['solve']['sector'] {
       if (x !== 1 && x !== -1) throw new SpecError(at, `expected +1 or -1, got ${describeValue(x)}`);
       return x as 1 | -1;
     });
+  }
+  // point_group = { x = 1, C4 = [0, 2] }: generator names are checked against the group found
+  // (solveInSectors); here each value must be an integer (+1/-1 or m) or a list of them.
+  if (value.point_group !== undefined) {
+    const table = expectTable(value.point_group, `${path}.point_group`);
+    sector.point_group = {};
+    for (const [name, v] of Object.entries(table)) {
+      const at = `${path}.point_group.${name}`;
+      const entries = Array.isArray(v) ? v.map((x, i) => [x, `${at}[${i}]`] as const) : [[v, at] as const];
+      sector.point_group[name] = entries.map(([x, where]) => {
+        if (typeof x !== 'number' || !Number.isInteger(x))
+          throw new SpecError(
+            where,
+            `expected an integer (+1/-1, or m of exp(2 pi i m / order)), got ${describeValue(x)}`,
+          );
+        return x;
+      });
+    }
   }
   return sector;
 }

@@ -7,7 +7,7 @@ export type ChainBoundary = 'open' | 'periodic';
 export type LevelBoundary = 'open' | 'ring';
 export type InteractionRange = 'nearest' | 'dipolar';
 export type ExchangeWeightsName = 'uniform' | 'rotor' | 'list';
-export type SymmetryChoice = 'translation' | 'reflection' | 'level_flip' | 'charge';
+export type SymmetryChoice = 'translation' | 'reflection' | 'level_flip' | 'charge' | 'point_group' | 'automorphism';
 
 export interface Spec {
   chain: { sites: number; boundary: ChainBoundary };
@@ -47,7 +47,14 @@ export interface Spec {
     /** Symmetries to use: all detected ("auto"), none, or the named ones (each still checked). */
     symmetries: 'auto' | 'none' | SymmetryChoice[];
     /** Restrict the solve to these sectors; absent keys mean every value. */
-    sector: { momentum?: (number | number[])[]; parity?: (1 | -1)[]; level_flip?: (1 | -1)[]; charge?: number[] };
+    sector: {
+      momentum?: (number | number[])[];
+      parity?: (1 | -1)[];
+      level_flip?: (1 | -1)[];
+      charge?: number[];
+      /** Characters per point-group (or automorphism) generator name. */
+      point_group?: Record<string, number[]>;
+    };
     /** Threads for one product: "auto" (by size) or a count. */
     threads: 'auto' | number;
     /** Whose observables: the ground level's only ("ground"), or also every solved state's ("each"). */

@@ -12,12 +12,31 @@
 // permutation that moves every molecule one lattice step along direction d (taken from the site
 // positions); there is no reflection, and sectors carry momentum [m1, m2, ...].
 
-import type { PinnedBasis } from '../basis/basis.js';
+import { buildBasis, type PinnedBasis } from '../basis/basis.js';
 import type { Geometry, Model } from '../model/model.js';
 import { columnBuffer, PinnedColumns } from '../operator/pinnedRows.js';
+import {
+  allMomenta,
+  chooseAutomorphisms,
+  choosePointGroup,
+  couplingAutomorphisms,
+  fixesMomentum,
+  latticeOperations,
+  type PointGroup,
+  type TranslationGroup,
+} from './pointGroup.js';
 
-export type SymmetryName = 'translation' | 'reflection' | 'level_flip' | 'charge';
-export const SYMMETRY_NAMES: readonly SymmetryName[] = ['translation', 'reflection', 'level_flip', 'charge'];
+export type { PointGroup, TranslationGroup } from './pointGroup.js';
+
+export type SymmetryName = 'translation' | 'reflection' | 'level_flip' | 'charge' | 'point_group' | 'automorphism';
+export const SYMMETRY_NAMES: readonly SymmetryName[] = [
+  'translation',
+  'reflection',
+  'level_flip',
+  'charge',
+  'point_group',
+  'automorphism',
+];
 
 /** Index arithmetic of the group generators on the mixed-radix pinned index (site 0 fastest). */
 export class IndexActions {
@@ -126,13 +145,6 @@ export class SitePermutation {
   }
 }
 
-/** The lattice translations of a geometry off a chain: per periodic direction its order and its site permutation. */
-export interface TranslationGroup {
-  sizes: number[];
-  /** Site i -> generators[d][i] under one step along the d-th periodic direction. */
-  generators: Int32Array[];
-}
-
 const SAME_POSITION = 1e-9;
 
 /**
@@ -236,18 +248,9 @@ export function detectSymmetries(model: Model, basis: PinnedBasis): SymmetryChec
   const actions = new IndexActions(basis);
   const columns = new PinnedColumns(model, basis);
   const a = columnBuffer(model);
-  const b = columnBuffer(model);
   const samples = sampleStates(basis.dim, model.levels);
   const checks: SymmetryCheck[] = [];
-
-  const commutes = (g: (s: number) => number): boolean => {
-    for (const s of samples) {
-      columns.of(s, a);
-      columns.of(g(s), b);
-      if (!sameColumn(a, b, g)) return false;
-    }
-    return true;
-  };
+  const commutes = commutationCheck(model, basis);
 
   const L = model.sites;
   const N = model.levels;
@@ -274,6 +277,23 @@ export function detectSymmetries(model: Model, basis: PinnedBasis): SymmetryChec
       });
     }
     checks.push({ name: 'reflection', present: false, detail: offChain });
+    // Mirrors and rotations of a lattice, or automorphisms of an array's couplings (pointGroupOf).
+    const kind = pointGroupKind(model.geometry) as 'point_group' | 'automorphism';
+    const other = kind === 'point_group' ? 'automorphism' : 'point_group';
+    const point = pointGroupOf(model, basis);
+    checks.push({
+      name: kind,
+      present: typeof point !== 'string',
+      detail: typeof point === 'string' ? point : point.detail,
+    });
+    checks.push({
+      name: other,
+      present: false,
+      detail:
+        other === 'automorphism'
+          ? 'a lattice without vacancies (or with its translations) uses point_group'
+          : 'custom arrays and lattices whose vacancies break the translations use automorphism',
+    });
   } else if (L < 3 || !model.chainPeriodic) {
     checks.push({ name: 'translation', present: false, detail: 'needs a periodic chain of at least 3 sites' });
   } else {
@@ -317,6 +337,72 @@ export function detectSymmetries(model: Model, basis: PinnedBasis): SymmetryChec
   return checks;
 }
 
+/** A test of whether a permutation g of basis states commutes with H, on the sample of `sampleStates`. */
+function commutationCheck(model: Model, basis: PinnedBasis): (g: (s: number) => number) => boolean {
+  const columns = new PinnedColumns(model, basis);
+  const a = columnBuffer(model);
+  const b = columnBuffer(model);
+  const samples = sampleStates(basis.dim, model.levels);
+  return (g) => {
+    for (const s of samples) {
+      columns.of(s, a);
+      columns.of(g(s), b);
+      if (!sameColumn(a, b, g)) return false;
+    }
+    return true;
+  };
+}
+
+/** Which group of extra site permutations a geometry offers: none on chains (their reflection), point_group on lattices, automorphism on custom arrays and on lattices whose vacancies break the translations. */
+export function pointGroupKind(geometry: Geometry): 'point_group' | 'automorphism' | null {
+  if (geometry.isChain) return null;
+  if (geometry.shape === 'custom') return 'automorphism';
+  const vacancies = geometry.latticeIndex.some((v, i) => v !== i);
+  if (vacancies && typeof latticeTranslations(geometry) === 'string') return 'automorphism';
+  return 'point_group';
+}
+
+const pointGroups = new WeakMap<Model, PointGroup | string>();
+
+/**
+ * The abelian group of mirrors and rotations (lattices) or coupling automorphisms (custom arrays,
+ * lattices with vacancies) whose every generator commutes with H, checked on matrix elements as the
+ * other symmetries are; or why there is none. Computed once per model (pinned molecules only).
+ */
+export function pointGroupOf(model: Model, basis?: PinnedBasis): PointGroup | string {
+  const known = pointGroups.get(model);
+  if (known !== undefined) return known;
+  const kind = pointGroupKind(model.geometry);
+  let result: PointGroup | string;
+  if (kind === null) result = 'acts off chains only (a chain has its reflection)';
+  else {
+    const b = basis ?? (buildBasis(model) as PinnedBasis);
+    const check = commutationCheck(model, b);
+    const commutes = (to: Int32Array) => {
+      const action = new SitePermutation(b, to);
+      return check((s) => action.apply(s));
+    };
+    if (kind === 'point_group') {
+      const t = latticeTranslations(model.geometry);
+      result = choosePointGroup(
+        latticeOperations(model.geometry),
+        commutes,
+        typeof t === 'string' ? null : t,
+        model.sites,
+      );
+    } else {
+      const { found, capped } = couplingAutomorphisms(model.sites, [
+        model.exchangePairs,
+        model.isingPairs,
+        model.hoppingBonds,
+      ]);
+      result = chooseAutomorphisms(found, capped, commutes, model.sites);
+    }
+  }
+  pointGroups.set(model, result);
+  return result;
+}
+
 /** Is column b (of g s) the image under g of column a (of s)? Order-free, duplicates summed. */
 function sameColumn(
   a: { count: number; targets: Float64Array; re: Float64Array; im: Float64Array },
@@ -349,6 +435,20 @@ export interface SectorLabel {
   parity: 1 | -1 | null;
   level_flip: 1 | -1 | null;
   charge: number | null;
+  /**
+   * Characters of the point-group or automorphism generators used in this sector, by name: +1/-1
+   * for a generator of order 2, else m with chi = exp(2 pi i m / order); null at a momentum no
+   * generator leaves unchanged; absent when no point group is used.
+   */
+  point_group?: Record<string, number> | null;
+}
+
+/** A point-group label as text: `x=1,y=-1`, `C4=3`, `-` where none is used. */
+export function pointGroupText(point: SectorLabel['point_group']): string {
+  if (!point) return '-';
+  return Object.entries(point)
+    .map(([name, v]) => `${name}=${v}`)
+    .join(',');
 }
 
 /** A momentum label as text: `3` on a chain, `(1,0)` on a lattice, `-` when translations are not used. */
@@ -368,12 +468,41 @@ export interface SectorSelection {
   parity?: (1 | -1)[];
   level_flip?: (1 | -1)[];
   charge?: number[];
+  /** Allowed characters per generator name (sectors that do not use a generator are kept). */
+  point_group?: Record<string, number[]>;
+}
+
+/** The generators of a point group used at momentum m (all of them without translations): those with g k = k. */
+export function pointGeneratorsAt(group: PointGroup, m: number | number[] | null, sizes: number[] | null): number[] {
+  return group.names
+    .map((_, g) => g)
+    .filter((g) => m === null || typeof m === 'number' || !sizes || fixesMomentum(group, g, m, sizes));
+}
+
+/** Every character label of the given generators: +1/-1 for order 2, m = 0 .. order-1 otherwise. */
+function pointCharacterLabels(group: PointGroup, gens: number[]): Record<string, number>[] {
+  let out: Record<string, number>[] = [{}];
+  for (const g of gens) {
+    const values = group.orders[g] === 2 ? [1, -1] : Array.from({ length: group.orders[g] }, (_, m) => m);
+    out = out.flatMap((l) => values.map((v) => ({ ...l, [group.names[g]]: v })));
+  }
+  return out;
+}
+
+/** The point group a solve uses (or null), from the symmetries in use. */
+export function pointGroupInUse(use: Record<SymmetryName, boolean>, model: Model): PointGroup | null {
+  if (!use.point_group && !use.automorphism) return null;
+  const group = pointGroupOf(model);
+  if (typeof group === 'string') throw new Error(`point group used, but none was found: ${group}`);
+  return group;
 }
 
 /**
  * The sectors to solve for the symmetries in use. Reflection labels only k = 0 and k = pi, where it
  * commutes with translations; there and for open chains it is a good quantum number. The level
- * flip is dropped when the charge is used, since F maps charge q to L(N-1)-q.
+ * flip is dropped when the charge is used, since F maps charge q to L(N-1)-q. A point-group
+ * generator labels only the momenta it leaves unchanged (g k = k), where t g acts with the
+ * character exp(i k.t) chi(g); elsewhere the sector carries momentum alone.
  */
 export function planSectors(
   use: Record<SymmetryName, boolean>,
@@ -383,6 +512,7 @@ export function planSectors(
   const L = model.sites;
   const N = model.levels;
   const sizes = use.translation ? translationSizes(model) : null;
+  const point = pointGroupInUse(use, model);
   let momenta: (number | number[] | null)[] = use.translation ? Array.from({ length: L }, (_, m) => m) : [null];
   if (sizes) {
     // every [m1, m2, ...], first direction fastest
@@ -391,40 +521,89 @@ export function planSectors(
       sizes.map((size, d) => Math.floor(code / sizes.slice(0, d).reduce((a, b) => a * b, 1)) % size),
     );
   }
-  // k and -k share their spectrum when reflection or complex conjugation (real H) maps one onto the other.
-  const pairMomenta = use.translation && (use.reflection || !model.isComplex);
+  // A sector and its complex conjugate (-k, conjugate characters) share their spectrum when H is
+  // real; on chains the reflection also maps k onto -k.
+  const pairByReflection = use.translation && use.reflection;
+  const pairs = pairByReflection || !model.isComplex;
   const charges = use.charge ? Array.from({ length: L * (N - 1) + 1 }, (_, q) => q) : [null];
   const flips: (1 | -1 | null)[] = use.level_flip && !use.charge ? [1, -1] : [null];
   const plans: SectorPlan[] = [];
   const wanted = <T>(list: T[] | undefined, v: T | null) => v === null || !list || list.includes(v);
   const wantedMomentum = (m: number | number[] | null) =>
     m === null || !selection.momentum || selection.momentum.some((x) => sameMomentum(x, m));
+  const wantedPoint = (p: SectorLabel['point_group']) =>
+    !selection.point_group ||
+    !p ||
+    Object.entries(selection.point_group).every(([name, list]) => !(name in p) || list.includes(p[name]));
   const negated = (m: number | number[]): number | number[] =>
     typeof m === 'number' ? (L - m) % L : m.map((x, d) => ((sizes as number[])[d] - x) % (sizes as number[])[d]);
+  const conjugated = (p: Record<string, number> | null): Record<string, number> | null => {
+    if (!p || !point) return p;
+    const out: Record<string, number> = {};
+    for (const [name, v] of Object.entries(p)) {
+      const order = point.orders[point.names.indexOf(name)];
+      out[name] = order === 2 ? v : (order - v) % order;
+    }
+    return out;
+  };
+  const pointCode = (p: Record<string, number> | null): number => {
+    if (!p || !point) return 0;
+    let code = 0;
+    point.names.forEach((name, g) => {
+      const order = point.orders[g];
+      const v = p[name] ?? 0;
+      code = code * (order + 1) + (order === 2 ? (v === 1 ? 0 : 1) : v);
+    });
+    return code;
+  };
+  const samePoint = (a: Record<string, number> | null, b: Record<string, number> | null) =>
+    JSON.stringify(a) === JSON.stringify(b);
   for (const q of charges) {
     if (!wanted(selection.charge, q)) continue;
     for (const m of momenta) {
       const partner = m === null ? null : negated(m);
       const selfPaired = m === null || sameMomentum(partner as number | number[], m);
       const parities: (1 | -1 | null)[] = use.reflection && (m === null || selfPaired) ? [1, -1] : [null];
-      for (const p of parities) {
-        for (const f of flips) {
-          const label: SectorLabel = { momentum: m, parity: p, level_flip: f, charge: q };
-          const copies: SectorLabel[] = [];
-          if (pairMomenta && !selfPaired && m !== null && partner !== null) {
-            if (momentumCode(m, sizes) > momentumCode(partner, sizes)) continue; // solved as the copy of its partner
-            copies.push({ ...label, momentum: partner });
+      const gens = point ? pointGeneratorsAt(point, m, sizes) : [];
+      const pointLabels: (Record<string, number> | null)[] =
+        point && gens.length > 0 ? pointCharacterLabels(point, gens) : [null];
+      for (const pl of pointLabels) {
+        const pointPartner = conjugated(pl);
+        const labelSelfPaired = selfPaired && samePoint(pl, pointPartner);
+        for (const p of parities) {
+          for (const f of flips) {
+            const label: SectorLabel = { momentum: m, parity: p, level_flip: f, charge: q };
+            if (point) label.point_group = pl;
+            const copies: SectorLabel[] = [];
+            if (pairs && !labelSelfPaired) {
+              const partnerLabel: SectorLabel = { ...label, momentum: partner };
+              if (point) partnerLabel.point_group = pointPartner;
+              const code = (l: SectorLabel) =>
+                (l.momentum === null ? 0 : momentumCode(l.momentum, sizes)) * 1e6 + pointCode(l.point_group ?? null);
+              if (code(label) > code(partnerLabel)) continue; // solved as the copy of its partner
+              copies.push(partnerLabel);
+            }
+            const keep = (l: SectorLabel) =>
+              wantedMomentum(l.momentum) &&
+              wanted(selection.parity, l.parity) &&
+              wanted(selection.level_flip, l.level_flip) &&
+              wantedPoint(l.point_group);
+            const kept = [label, ...copies].filter(keep);
+            if (kept.length === 0) continue;
+            plans.push({ label: kept[0], copies: kept.slice(1) });
           }
-          const keep = (l: SectorLabel) =>
-            wantedMomentum(l.momentum) &&
-            wanted(selection.parity, l.parity) &&
-            wanted(selection.level_flip, l.level_flip);
-          const kept = [label, ...copies].filter(keep);
-          if (kept.length === 0) continue;
-          plans.push({ label: kept[0], copies: kept.slice(1) });
         }
       }
     }
   }
   return plans;
+}
+
+/** How many orbit maps a solve builds: one per distinct group its sectors use (each holds 6 bytes per basis state). */
+export function orbitMapCount(model: Model, use: Record<SymmetryName, boolean>): number {
+  const point = pointGroupInUse(use, model);
+  if (!point) return use.reflection && use.translation ? 2 : 1;
+  const sizes = use.translation ? translationSizes(model) : null;
+  const momenta = sizes ? allMomenta(sizes) : [null];
+  return new Set(momenta.map((m) => pointGeneratorsAt(point, m, sizes).join(','))).size;
 }

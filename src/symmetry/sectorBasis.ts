@@ -20,6 +20,13 @@ export interface GroupUse {
   levelFlip: boolean;
 }
 
+/** The point-group (or automorphism) elements a sector group uses: generator names and orders, and every element's site permutation, code e = e1 + o1 (e2 + ...). */
+export interface PointElements {
+  names: string[];
+  orders: number[];
+  elements: Int32Array[];
+}
+
 /**
  * Every basis state's orbit representative and the group element that carries the representative
  * to it, for one group. Built in one ascending sweep: the first unvisited state of an orbit is its
@@ -31,7 +38,10 @@ export class OrbitMap {
   readonly order: number;
   /** Representative index of every basis state. */
   readonly repOf: Int32Array;
-  /** Element code j + translations*(a + 2b) of g = T^j P^a F^b with g r = s. */
+  /**
+   * Element code of g with g r = s: on chains j + translations*(a + 2b) for g = T^j P^a F^b; with
+   * lattice translations or a point group j + translations*(e + points*b) for g = T^j p_e F^b.
+   */
   readonly elementOf: Uint16Array;
   /** Representative basis indices, ascending. */
   readonly reps: Float64Array;
@@ -41,8 +51,12 @@ export class OrbitMap {
   readonly jF: Int32Array;
   readonly jPF: Int32Array;
   readonly charge: Int32Array;
-  /** Lattice translations (off chains): the order of each periodic direction, else null (chains use `period`, `jP`...). */
+  /** Lattice translations (off chains): the order of each periodic direction, else null (chains use `period`, `jP`...); [] with a point group alone. */
   readonly translationSizes: number[] | null;
+  /** Point-group generators in use (names, orders) and the number of point elements (1 without). */
+  readonly pointNames: string[];
+  readonly pointOrders: number[];
+  readonly points: number;
   /** Lattice translations: the non-identity stabilizer element codes of representative r are stabCodes[stabStart[r] .. stabStart[r+1]). */
   readonly stabStart: Int32Array | null;
   readonly stabCodes: Uint16Array | null;
@@ -57,15 +71,25 @@ export class OrbitMap {
     actions: IndexActions = new IndexActions(basis),
     shared = false,
     lattice: TranslationGroup | null = null,
+    point: PointElements | null = null,
   ) {
     this.group = group;
     const L = basis.sites;
     const dim = basis.dim;
-    const general = group.translation && lattice !== null;
-    if (general && group.reflection) throw new Error('lattice translations are not combined with the chain reflection');
-    const Lt = general ? lattice.sizes.reduce((a, b) => a * b, 1) : group.translation ? L : 1;
+    const latticeSteps = group.translation && lattice !== null;
+    const general = latticeSteps || point !== null;
+    if (general && group.reflection)
+      throw new Error('lattice translations and point groups are not combined with the chain reflection');
+    const sizes = latticeSteps ? lattice.sizes : [];
+    const Lt = general ? sizes.reduce((a, b) => a * b, 1) : group.translation ? L : 1;
+    const P = point ? point.elements.length : 1;
     this.translations = Lt;
-    this.order = Lt * (group.reflection ? 2 : 1) * (group.levelFlip ? 2 : 1);
+    this.points = P;
+    this.pointNames = point ? point.names.slice() : [];
+    this.pointOrders = point ? point.orders.slice() : [];
+    this.order = Lt * P * (group.reflection ? 2 : 1) * (group.levelFlip ? 2 : 1);
+    if (this.order > 65536)
+      throw new Error(`a symmetry group of order ${this.order} does not fit the 16-bit element codes`);
     const repOf = new Int32Array(shared ? new SharedArrayBuffer(4 * dim) : new ArrayBuffer(4 * dim)).fill(-1);
     const elementOf = new Uint16Array(shared ? new SharedArrayBuffer(2 * dim) : new ArrayBuffer(2 * dim));
     const reps: number[] = [];
@@ -80,28 +104,31 @@ export class OrbitMap {
     const stabStart: number[] = [0];
     const stabCodes: number[] = [];
     if (general) {
-      const steps = lattice.generators.map((to) => new SitePermutation(basis, to));
-      const sizes = lattice.sizes;
+      const steps = latticeSteps ? lattice.generators.map((to) => new SitePermutation(basis, to)) : [];
+      const pointActs = point ? point.elements.map((to) => new SitePermutation(basis, to)) : [];
       const digits = new Int32Array(sizes.length);
       for (let s = 0; s < dim; s++) {
         if (repOf[s] !== -1) continue;
         const r = reps.length;
         reps.push(s);
         for (let b = 0; b < flips; b++) {
-          let t = b ? A.flip(s) : s;
-          digits.fill(0);
-          for (let j = 0; j < Lt; j++) {
-            const code = j + Lt * 2 * b;
-            if (repOf[t] === -1) {
-              repOf[t] = r;
-              elementOf[t] = code;
-            } else if (t === s && code !== 0) stabCodes.push(code);
-            // next j (first direction fastest): T_d^(L_d) is the identity, so a wrapped digit
-            // leaves t back at the start of its row before the next direction steps
-            for (let d = 0; d < sizes.length; d++) {
-              t = steps[d].apply(t);
-              if (++digits[d] < sizes[d]) break;
-              digits[d] = 0;
+          const u = b ? A.flip(s) : s;
+          for (let e = 0; e < P; e++) {
+            let t = e === 0 ? u : pointActs[e].apply(u);
+            digits.fill(0);
+            for (let j = 0; j < Lt; j++) {
+              const code = j + Lt * (e + P * b);
+              if (repOf[t] === -1) {
+                repOf[t] = r;
+                elementOf[t] = code;
+              } else if (t === s && code !== 0) stabCodes.push(code);
+              // next j (first direction fastest): T_d^(L_d) is the identity, so a wrapped digit
+              // leaves t back at the start of its row before the next direction steps
+              for (let d = 0; d < sizes.length; d++) {
+                t = steps[d].apply(t);
+                if (++digits[d] < sizes[d]) break;
+                digits[d] = 0;
+              }
             }
           }
         }
@@ -161,7 +188,7 @@ export class OrbitMap {
     this.jF = place((b) => new Int32Array(b), jF, 4);
     this.jPF = place((b) => new Int32Array(b), jPF, 4);
     this.charge = place((b) => new Int32Array(b), charge, 4);
-    this.translationSizes = general ? lattice.sizes.slice() : null;
+    this.translationSizes = general ? sizes.slice() : null;
     this.stabStart = general ? place((b) => new Int32Array(b), stabStart, 4) : null;
     this.stabCodes = general
       ? (() => {
@@ -177,8 +204,11 @@ export class OrbitMap {
   /** The arrays of a map built with `shared`, to hand to another thread. */
   parts(): OrbitMapParts {
     const { group, translations, order, repOf, elementOf, reps, period, jP, jF, jPF, charge } = this;
-    const { translationSizes, stabStart, stabCodes } = this;
+    const { translationSizes, stabStart, stabCodes, pointNames, pointOrders, points } = this;
     return {
+      pointNames,
+      pointOrders,
+      points,
       group,
       translations,
       order,
@@ -223,6 +253,9 @@ export type OrbitMapParts = Pick<
   | 'translationSizes'
   | 'stabStart'
   | 'stabCodes'
+  | 'pointNames'
+  | 'pointOrders'
+  | 'points'
 >;
 
 /** One sector: the representatives compatible with its characters, and their norms n_r. */
@@ -381,15 +414,26 @@ export class SectorBasis {
 }
 
 /**
- * A lattice-translation sector: chi(T^j F^b) = f^b exp(i sum_d 2 pi m_d j_d / L_d), exact at
- * multiples of pi/2 (so real sectors stay real), and n_r = sum over the stabilizer of chi.
+ * A sector of lattice translations and/or a point group: chi(T^j p_e F^b) =
+ * f^b exp(2 pi i (sum_d m_d j_d / L_d + sum_g x_g e_g / o_g)), x_g the generator's character index
+ * (label +1/-1 for order 2 is x = 0/1), exact at multiples of pi/2 (so real sectors stay real), and
+ * n_r = sum over the stabilizer of chi.
  */
 function latticeSector(orbits: OrbitMap, label: SectorLabel) {
   const Lt = orbits.translations;
+  const P = orbits.points;
   const sizes = orbits.translationSizes as number[];
-  const m = label.momentum === null ? sizes.map(() => 0) : (label.momentum as number[]);
+  const m = label.momentum === null || typeof label.momentum === 'number' ? sizes.map(() => 0) : label.momentum;
   const f = label.level_flip ?? 1;
-  const size = Lt * 4;
+  const names = orbits.pointNames;
+  const orders = orbits.pointOrders;
+  const given = label.point_group ?? {};
+  if (names.length !== Object.keys(given).length || names.some((n) => !(n in given)))
+    throw new Error(
+      `sector label ${JSON.stringify(label.point_group)} does not match the point group [${names.join(', ')}]`,
+    );
+  const x = names.map((n, g) => (orders[g] === 2 ? (given[n] === -1 ? 1 : 0) : given[n]));
+  const size = Lt * P * 2;
   const charRe = new Float64Array(size);
   const charIm = new Float64Array(size);
   let complexCharacters = false;
@@ -401,7 +445,8 @@ function latticeSector(orbits: OrbitMap, label: SectorLabel) {
   ];
   for (let code = 0; code < size; code++) {
     const j = code % Lt;
-    const b = Math.floor(code / (2 * Lt));
+    const e = Math.floor(code / Lt) % P;
+    const b = Math.floor(code / (Lt * P));
     // phase 2 pi phase/Lt with phase = sum_d m_d j_d (Lt / L_d) mod Lt, an integer
     let rest = j;
     let phase = 0;
@@ -410,11 +455,17 @@ function latticeSector(orbits: OrbitMap, label: SectorLabel) {
       rest = Math.floor(rest / L);
       phase += m[d] * jd * (Lt / L);
     });
-    phase %= Lt;
+    let turns = (phase % Lt) / Lt;
+    let restE = e;
+    orders.forEach((o, g) => {
+      const eg = restE % o;
+      restE = Math.floor(restE / o);
+      turns += (x[g] * eg) / o;
+    });
+    turns -= Math.floor(turns);
+    const q = Math.round(4 * turns);
     const [cos, sin] =
-      (4 * phase) % Lt === 0
-        ? quarter[(4 * phase) / Lt]
-        : [Math.cos((2 * Math.PI * phase) / Lt), Math.sin((2 * Math.PI * phase) / Lt)];
+      Math.abs(4 * turns - q) < 1e-12 ? quarter[q % 4] : [Math.cos(2 * Math.PI * turns), Math.sin(2 * Math.PI * turns)];
     const sign = b ? f : 1;
     charRe[code] = sign * cos;
     charIm[code] = sign * sin;

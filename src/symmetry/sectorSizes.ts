@@ -14,9 +14,11 @@
 // counts are exact; Burnside's lemma is the special case of the trivial character.
 
 import type { Geometry, Model } from '../model/model.js';
+import { groupElements, compose } from './pointGroup.js';
 import {
   latticeTranslations,
   planSectors,
+  pointGroupInUse,
   type SectorLabel,
   type SectorSelection,
   type SymmetryName,
@@ -36,6 +38,8 @@ interface GroupElement {
   flipped: boolean;
   /** Lengths of the cycles of the site permutation. */
   cycles: number[];
+  /** Exponent of each point-group generator (empty without a point group). */
+  point: number[];
 }
 
 /** Every sector the solve will use (after `selection`), with its exact dimension. */
@@ -51,38 +55,62 @@ export function sectorSizes(
   const lattice =
     used.translation && model.geometry && !model.geometry.isChain ? latticeTranslations(model.geometry) : null;
   if (typeof lattice === 'string') throw new Error(`no lattice translations: ${lattice}`);
-  if (lattice) {
-    // T^j = T_1^j1 T_2^j2 ..., j = j1 + L1 (j2 + ...); its site permutation composed step by step
-    const Lt = lattice.sizes.reduce((a, b) => a * b, 1);
-    for (let shift = 0; shift < Lt; shift++) {
-      let to = Int32Array.from({ length: L }, (_, i) => i);
-      let rest = shift;
-      lattice.sizes.forEach((size, d) => {
-        const jd = rest % size;
-        rest = Math.floor(rest / size);
-        for (let step = 0; step < jd; step++) to = to.map((i) => lattice.generators[d][i]);
-      });
-      for (const flipped of flipUsed ? [false, true] : [false])
-        elements.push({ shift, reflected: false, flipped, cycles: permutationCycles(to) });
-    }
+  const point = pointGroupInUse(used, model as Model);
+  if (lattice || point) {
+    // T^j = T_1^j1 T_2^j2 ..., j = j1 + L1 (j2 + ...), times every point element p_e (code e =
+    // e1 + o1 (e2 + ...)): the site permutation of T^j p_e
+    const translations = lattice
+      ? groupElements(lattice.generators, lattice.sizes, L)
+      : [Int32Array.from({ length: L }, (_, i) => i)];
+    const points = point
+      ? groupElements(point.generators, point.orders, L)
+      : [Int32Array.from({ length: L }, (_, i) => i)];
+    translations.forEach((t, shift) =>
+      points.forEach((p, e) => {
+        let rest = e;
+        const exponents = (point?.orders ?? []).map((o) => {
+          const x = rest % o;
+          rest = Math.floor(rest / o);
+          return x;
+        });
+        const cycles = permutationCycles(compose(t, p));
+        for (const flipped of flipUsed ? [false, true] : [false])
+          elements.push({ shift, reflected: false, flipped, cycles, point: exponents });
+      }),
+    );
   } else
     for (let shift = 0; shift < (used.translation ? L : 1); shift++) {
       for (const reflected of used.reflection ? [false, true] : [false]) {
         for (const flipped of flipUsed ? [false, true] : [false]) {
-          elements.push({ shift, reflected, flipped, cycles: cycleLengths(L, shift, reflected) });
+          elements.push({ shift, reflected, flipped, cycles: cycleLengths(L, shift, reflected), point: [] });
         }
       }
     }
-  const character = (momentum: SectorLabel['momentum'], shift: number): number => {
-    if (momentum === null) return 1;
-    if (!lattice) return Math.cos((2 * Math.PI * (momentum as number) * shift) / L);
+  // chi(g) as a fraction of a turn: the momentum's and the point group's
+  const turns = (momentum: SectorLabel['momentum'], shift: number): number => {
+    if (momentum === null) return 0;
+    if (!lattice) return ((momentum as number) * shift) / L;
     let phase = 0;
     let rest = shift;
     lattice.sizes.forEach((size, d) => {
       phase += ((momentum as number[])[d] * (rest % size)) / size;
       rest = Math.floor(rest / size);
     });
-    return Math.cos(2 * Math.PI * phase);
+    return phase;
+  };
+  const pointTurns = (label: SectorLabel, g: GroupElement): number | null => {
+    if (!point) return 0;
+    let sum = 0;
+    for (let k = 0; k < point.names.length; k++) {
+      const v = label.point_group?.[point.names[k]];
+      if (v === undefined) {
+        if (g.point[k] !== 0) return null; // not in this sector's group
+        continue;
+      }
+      const x = point.orders[k] === 2 ? (v === -1 ? 1 : 0) : v;
+      sum += (x * g.point[k]) / point.orders[k];
+    }
+    return sum;
   };
   const fixedCache = new Map<number | null, number[]>();
   const fixed = (q: number | null): number[] => {
@@ -102,8 +130,10 @@ export function sectorSizes(
     elements.forEach((g, e) => {
       // A reflection belongs to the sector's group only where parity labels it (k = 0, pi, or no translations).
       if (g.reflected && parity === null) return;
+      const inPoint = pointTurns(plan.label, g);
+      if (inPoint === null) return;
       order++;
-      let chi = character(momentum, g.shift);
+      let chi = Math.cos(2 * Math.PI * (turns(momentum, g.shift) + inPoint));
       if (g.reflected) chi *= parity as number;
       if (g.flipped) chi *= flip as number;
       sum += chi * counts[e];

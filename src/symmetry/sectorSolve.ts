@@ -9,7 +9,8 @@
 
 import { MessageChannel, receiveMessageOnPort, Worker, type MessagePort } from 'node:worker_threads';
 import type { PinnedBasis } from '../basis/basis.js';
-import { OrbitMap, SectorBasis, type GroupUse, type OrbitMapParts } from './sectorBasis.js';
+import { OrbitMap, SectorBasis, type GroupUse, type OrbitMapParts, type PointElements } from './sectorBasis.js';
+import { groupElements } from './pointGroup.js';
 import { errorFromThread, SpecError } from '../errors/errors.js';
 import type { Model } from '../model/model.js';
 import { ChunkSpares, CsrBuilder, type BuiltRows } from '../operator/csr.js';
@@ -28,6 +29,9 @@ import {
   momentumCode,
   momentumText,
   planSectors,
+  pointGroupInUse,
+  pointGroupOf,
+  pointGroupText,
   translationSizes,
   type SectorLabel,
   type SectorPlan,
@@ -102,7 +106,7 @@ export interface SectorProgress {
 }
 
 function labelKey(l: SectorLabel): string {
-  return `${momentumText(l.momentum)},${l.parity},${l.level_flip},${l.charge}`;
+  return `${momentumText(l.momentum)},${l.parity},${l.level_flip},${l.charge},${pointGroupText(l.point_group)}`;
 }
 
 function sectorDimensionsByKey(
@@ -171,11 +175,12 @@ interface SectorOutcome {
   groundComplete: boolean;
 }
 
-function groupFor(label: SectorLabel): GroupUse {
+function groupFor(label: SectorLabel): GroupUse & { point: string[] } {
   return {
     translation: label.momentum !== null,
     reflection: label.parity !== null,
     levelFlip: label.level_flip !== null,
+    point: Object.keys(label.point_group ?? {}),
   };
 }
 
@@ -299,7 +304,7 @@ class OrbitMaps {
   private readonly lattice: TranslationGroup | null;
 
   constructor(
-    model: Model,
+    private readonly model: Model,
     private readonly basis: PinnedBasis,
     private readonly shared: boolean,
     parts: Record<string, OrbitMapParts> = {},
@@ -311,11 +316,27 @@ class OrbitMaps {
 
   for(label: SectorLabel): OrbitMap {
     const g = groupFor(label);
-    const key = `${g.translation}${g.reflection}${g.levelFlip}`;
+    const key = `${g.translation}${g.reflection}${g.levelFlip}${g.point.join('+')}`;
     let m = this.maps.get(key);
     if (!m) {
       this.actions ??= new IndexActions(this.basis);
-      m = new OrbitMap(this.basis, g, this.actions, this.shared, this.lattice);
+      let point: PointElements | null = null;
+      if (g.point.length > 0) {
+        const group = pointGroupOf(this.model, this.basis);
+        if (typeof group === 'string') throw new Error(`a sector uses a point group, but none was found: ${group}`);
+        const used = g.point.map((name) => group.names.indexOf(name));
+        const orders = used.map((k) => group.orders[k]);
+        point = {
+          names: g.point,
+          orders,
+          elements: groupElements(
+            used.map((k) => group.generators[k]),
+            orders,
+            this.model.sites,
+          ),
+        };
+      }
+      m = new OrbitMap(this.basis, g, this.actions, this.shared, this.lattice, point);
       this.maps.set(key, m);
     }
     return m;
@@ -833,6 +854,29 @@ export function solveInSectors(
     throw new SpecError('solve.sector.charge', 'this model does not conserve the total level');
   if (selection.level_flip && !use.level_flip)
     throw new SpecError('solve.sector.level_flip', 'this model has no level-flip symmetry');
+  if (selection.point_group) {
+    const point = pointGroupInUse(use, model);
+    for (const [name, values] of Object.entries(selection.point_group)) {
+      const at = `solve.sector.point_group.${name}`;
+      const g = point ? point.names.indexOf(name) : -1;
+      if (!point || g < 0)
+        throw new SpecError(
+          at,
+          point
+            ? `the point group in use has the generators ${point.names.join(', ')}, not ${name}`
+            : 'this solve uses no point group or automorphism',
+        );
+      const order = point.orders[g];
+      values.forEach((v, i) => {
+        const ok = order === 2 ? v === 1 || v === -1 : v >= 0 && v < order;
+        if (!ok)
+          throw new SpecError(
+            values.length > 1 ? `${at}[${i}]` : at,
+            order === 2 ? `expected +1 or -1, got ${v}` : `expected 0 .. ${order - 1} (order ${order}), got ${v}`,
+          );
+      });
+    }
+  }
 
   const plans = planSectors(use, model, selection).sort(sectorOrder(model));
   const states = opts.states;

@@ -75,7 +75,7 @@ describe('symmetry detection', () => {
     expect(intact.used.level_flip).toBe(true);
   });
 
-  it('off a chain: no translation or reflection (site i -> i+1 is no lattice symmetry), charge and level flip still found', () => {
+  it('off a chain: no translation or reflection (site i -> i+1 is no lattice symmetry), charge, level flip and point group found', () => {
     // A 3x2 open square of two-level molecules with exchange and a level-antisymmetric
     // diagonal term: the total level is conserved and n -> 1-n maps H to itself (common practice).
     const { used } = usedFrom(
@@ -86,7 +86,15 @@ describe('symmetry detection', () => {
         ising: { strength: 0.4, moments: [-0.5, 0.5] },
       }),
     );
-    expect(used).toEqual({ translation: false, reflection: false, charge: true, level_flip: true });
+    // the lattice's own mirrors and rotations are the point group (tests/symmetry/pointGroup.test.ts)
+    expect(used).toEqual({
+      translation: false,
+      reflection: false,
+      charge: true,
+      level_flip: true,
+      point_group: true,
+      automorphism: false,
+    });
   });
 
   it('a symmetry named by the user that the model lacks is an error naming solve.symmetries', () => {

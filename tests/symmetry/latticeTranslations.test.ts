@@ -172,9 +172,30 @@ describe('union of the momentum sectors = full-space spectrum (dense, ml-matrix)
     const full = fullSpectrum(raw);
     // every subset of the detected symmetries that contains the translations
     const uses: Record<SymmetryName, boolean>[] = [
-      { translation: true, reflection: false, level_flip: false, charge: false },
-      { translation: true, reflection: false, level_flip: false, charge: present.charge },
-      { translation: true, reflection: false, level_flip: present.level_flip, charge: false },
+      {
+        translation: true,
+        reflection: false,
+        level_flip: false,
+        charge: false,
+        point_group: false,
+        automorphism: false,
+      },
+      {
+        translation: true,
+        reflection: false,
+        level_flip: false,
+        charge: present.charge,
+        point_group: false,
+        automorphism: false,
+      },
+      {
+        translation: true,
+        reflection: false,
+        level_flip: present.level_flip,
+        charge: false,
+        point_group: false,
+        automorphism: false,
+      },
     ];
     for (const use of uses) {
       const s = sectorSpectra(raw, use);
