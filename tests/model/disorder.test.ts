@@ -166,3 +166,24 @@ describe('spec errors name the key', () => {
     ).toBe('scan.zip');
   });
 });
+
+describe('symmetries are detected per realization', () => {
+  // A common draw scales every site alike, so a ring keeps its translations; independent draws per
+  // site and link break them (detection by commutation, docs/model.md).
+  const ring = (correlation: string) =>
+    solvePoint(
+      validateSpec({
+        chain: { sites: 5, boundary: 'periodic' },
+        levels: { count: 2 },
+        exchange: { strength: 1 },
+        solve: { states: 2 },
+        disorder: { realizations: 3, realization: 2, tunnelling: { relative: 0.1, correlation } },
+      }),
+    ).record;
+  it('a common draw keeps the translations', () => {
+    expect(ring('common').solver.symmetries).toContain('translation');
+  });
+  it('per-link draws break them', () => {
+    expect(ring('per_link').solver.symmetries ?? []).not.toContain('translation');
+  });
+});

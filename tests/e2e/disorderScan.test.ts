@@ -1,0 +1,130 @@
+// A disorder ensemble run as a scan through the built command line (issue 20): the realization axis
+// innermost but one, records with the realization and the drawn values (those of the reference
+// generator in tests/support/disorderReference.ts, written from docs/model.md), bit-identical records
+// with 1 and 2 workers and with 1 and 3 shards merged (--no-warm-start makes records independent of
+// scheduling, README "Parameter scans"), a resumed run that solves nothing twice, and `check`.
+import { describe, expect, it } from 'vitest';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { readRun } from '../../src/runs/runFiles.js';
+import { runCli } from '../support/cli.js';
+import { realizeChain } from '../support/disorderReference.js';
+
+type Rec = Record<string, any>;
+
+const SPEC = `
+[chain]
+sites = 5
+[levels]
+count = 3
+[exchange]
+strength = 1.0
+[solve]
+states = 2
+[disorder]
+realizations = 4
+seed = 11
+filling = 0.8
+tunnelling = { relative = 0.05 }
+phase = { absolute = 0.2, correlation = "per_site" }
+detuning = { absolute = 0.1 }
+exchange = { relative = 0.1 }
+[[scan.axis]]
+key = "exchange.strength"
+values = [0.5, 1.0, 1.5]
+`;
+
+function byIndex(dir: string): Map<number, Rec> {
+  const map = new Map<number, Rec>();
+  for (const r of readRun(dir).records as Rec[]) map.set(r.index, r);
+  return map;
+}
+
+/** What must not depend on scheduling: everything but the clock, the worker and the warm start's cost. */
+function stable(r: Rec): Rec {
+  return {
+    params: r.params,
+    realization: r.realization,
+    disorder: r.disorder,
+    status: r.status,
+    energies: r.result.energies,
+    observables: r.result.observables,
+    sectors: r.result.sectors,
+  };
+}
+
+describe('a disorder ensemble as a scan', () => {
+  const dir = mkdtempSync(path.join(os.tmpdir(), 'rungchain-disorder-'));
+  const spec = path.join(dir, 'spec.toml');
+  writeFileSync(spec, SPEC);
+  const one = path.join(dir, 'one');
+  const two = path.join(dir, 'two');
+
+  it('check prints the realizations, the points in all and the largest dimension', () => {
+    const r = runCli(['check', spec]);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/grid: disorder\.realization \(4 values\) x exchange\.strength \(3 values\)/);
+    expect(r.stdout).toMatch(/realizations {5}4 \(disorder\), 12 points in all, the largest dimension over them \d+/);
+  });
+
+  it('records carry the realization and the drawn values; 1 and 2 workers give bit-identical records', () => {
+    expect(runCli(['scan', spec, '--out', one, '--quiet', '--no-warm-start', '--workers', '1']).code).toBe(0);
+    expect(runCli(['scan', spec, '--out', two, '--quiet', '--no-warm-start', '--workers', '2']).code).toBe(0);
+    const a = byIndex(one);
+    const b = byIndex(two);
+    expect(a.size).toBe(12);
+    for (const [index, r] of a) {
+      // Realizations innermost but one: point index = 3 r + k along exchange.strength.
+      expect(r.params['disorder.realization']).toBe(Math.floor(index / 3));
+      expect(r.realization).toBe(Math.floor(index / 3));
+      expect(stable(b.get(index)!)).toEqual(stable(r));
+      // The drawn values are the reference generator's (docs/model.md), bit for bit.
+      const raw = {
+        chain: { sites: 5 },
+        levels: { count: 3 },
+        exchange: { strength: r.params['exchange.strength'] },
+      };
+      const ref = realizeChain(
+        raw,
+        {
+          realizations: 4,
+          seed: 11,
+          filling: 0.8,
+          tunnelling: { relative: 0.05 },
+          phase: { absolute: 0.2, correlation: 'per_site' },
+          detuning: { absolute: 0.1 },
+          exchange: { relative: 0.1 },
+        },
+        r.realization,
+      );
+      expect(r.disorder.tunnelling).toEqual(ref.model.siteTunnelling);
+      expect(r.disorder.phase).toEqual(ref.model.sitePhase);
+      expect(r.disorder.detuning).toEqual(ref.model.siteDetuning);
+      expect(r.result.basis.sites).toBe(ref.kept.length);
+      for (const [i, j, v] of r.disorder.exchange) expect(v).toBe(ref.model.exchangeValues![i][j]);
+    }
+  });
+
+  it('a second run resumes: nothing is solved twice', () => {
+    const again = runCli(['scan', spec, '--out', one, '--no-warm-start', '--workers', '1']);
+    expect(again.code).toBe(0);
+    expect(readRun(one).records).toHaveLength(12);
+  });
+
+  it('3 shards merged give the same records as 1 worker', () => {
+    const shards = [1, 2, 3].map((i) => path.join(dir, `shard-${i}`));
+    shards.forEach((out, k) =>
+      expect(
+        runCli(['scan', spec, '--out', out, '--quiet', '--no-warm-start', '--workers', '1', '--shard', `${k + 1}/3`])
+          .code,
+      ).toBe(0),
+    );
+    const merged = path.join(dir, 'merged');
+    expect(runCli(['merge', ...shards, '--out', merged]).code).toBe(0);
+    const a = byIndex(one);
+    const m = byIndex(merged);
+    expect(m.size).toBe(12);
+    for (const [index, r] of a) expect(stable(m.get(index)!)).toEqual(stable(r));
+  });
+});
