@@ -106,6 +106,28 @@ describe('a disorder ensemble as a scan', () => {
     }
   });
 
+  it('summary --json averages over the realizations per value of the other axis; --realizations lists them', () => {
+    const records = [...byIndex(one).values()];
+    const groups = JSON.parse(runCli(['summary', one, '--json']).stdout) as Rec[];
+    expect(groups.map((g) => g['exchange.strength'])).toEqual([0.5, 1.0, 1.5]);
+    for (const g of groups) {
+      const e0 = records
+        .filter((r) => r.params['exchange.strength'] === g['exchange.strength'])
+        .map((r) => r.result.energies[0] as number);
+      // Sample mean and standard deviation (n - 1), standard error std / sqrt(n): common practice.
+      const mean = e0.reduce((a, b) => a + b, 0) / e0.length;
+      const std = Math.sqrt(e0.reduce((a, b) => a + (b - mean) ** 2, 0) / (e0.length - 1));
+      expect(g.realizations).toEqual({ total: 4, done: 4, failed: 0, pending: 0 });
+      expect(g.E0.mean).toBeCloseTo(mean, 12);
+      expect(g.E0.std).toBeCloseTo(std, 12);
+      expect(g.E0.stderr).toBeCloseTo(std / 2, 12);
+      expect(g.string_width.n).toBe(4);
+    }
+    const each = JSON.parse(runCli(['summary', one, '--json', '--realizations']).stdout) as Rec[];
+    expect(each).toHaveLength(12);
+    expect(runCli(['summary', one]).stdout).toMatch(/E0 \(mean ± std\. error\)/);
+  });
+
   it('a second run resumes: nothing is solved twice', () => {
     const again = runCli(['scan', spec, '--out', one, '--no-warm-start', '--workers', '1']);
     expect(again.code).toBe(0);
