@@ -4,7 +4,7 @@
 // with 1 and 2 workers and with 1 and 3 shards merged (--no-warm-start makes records independent of
 // scheduling, README "Parameter scans"), a resumed run that solves nothing twice, and `check`.
 import { describe, expect, it } from 'vitest';
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { readRun } from '../../src/runs/runFiles.js';
@@ -126,6 +126,25 @@ describe('a disorder ensemble as a scan', () => {
     const each = JSON.parse(runCli(['summary', one, '--json', '--realizations']).stdout) as Rec[];
     expect(each).toHaveLength(12);
     expect(runCli(['summary', one]).stdout).toMatch(/E0 \(mean ± std\. error\)/);
+  });
+
+  it("the report draws means with error bars and averages each realization's own indicator", () => {
+    const html = path.join(dir, 'report.html');
+    expect(runCli(['report', one, '--out', html]).code).toBe(0);
+    const page = readFileSync(html, 'utf8');
+    expect(page).toContain('id="ensemble"');
+    expect(page).toContain('id="ensemble-E0"');
+    expect(page).toContain('id="ensemble-indicator-gap"');
+    // The gap minimum's mean position: the mean of each realization's own minimum (from the
+    // per-line analysis of `summary --analysis --json`), with the sample standard error.
+    const analysis = JSON.parse(runCli(['summary', one, '--analysis', '--json']).stdout) as Rec;
+    const minima = (analysis.lines as Rec[]).map(
+      (l) => (l.indicators as Rec[]).find((i) => i.name === 'gap')!.peak.position as number,
+    );
+    const mean = minima.reduce((a, b) => a + b, 0) / minima.length;
+    const row = /<td>E₁ − E₀<\/td><td>[^<]*<\/td><td>4 of 4<\/td><td>([-\d.e]+) ± /.exec(page);
+    expect(row).not.toBeNull();
+    expect(Number(row![1])).toBeCloseTo(mean, 4);
   });
 
   it('a second run resumes: nothing is solved twice', () => {
