@@ -182,6 +182,11 @@ export function resolveDisorder(spec: Spec): void {
     filled = 1;
   }
   disorder.filled = { empty, particles: filled };
+  if (!pinned && spec.extra.evolve !== undefined)
+    throw new SpecError(
+      'disorder.filling',
+      'itinerant kinds take their particle number from the filling, which no evolve.initial can match in every realization; evolve realizations with filling = 1, or pinned molecules',
+    );
   if (!pinned) {
     spec.particles.number = filled;
     if (spec.particles.kind === 'boson') spec.particles.maxPerSite = Math.min(spec.particles.maxPerSite, filled);
@@ -193,6 +198,7 @@ export function resolveDisorder(spec: Spec): void {
   spec.chain = { sites: lattice.latticeSites - vacancies.length, boundary: 'open' };
   spec.particles.number = spec.chain.sites;
   spec.particles.maxPerSite = 1;
+  dropEmptySitesFromEvolve(spec, lattice, empty);
   // "auto" means the half-chain cut where there is a chain; with vacancies there is none.
   if (spec.solve.entanglement === 'auto') spec.solve.entanglement = 'none';
 }
@@ -229,6 +235,29 @@ function addRealizationAxis(spec: Spec, realizations: number): void {
       `${realizations} realizations of ${points / realizations} scan points make ${points} points, more than the ${MAX_SCAN_POINTS} one scan may have`,
     );
   scan.axes.splice(scan.axes.length - 1, 0, axis);
+}
+
+/**
+ * [evolve] of a pinned ensemble gives its initial levels and pulse sites per site of the full chain
+ * (lattice index); a realization keeps those of its filled sites, renumbered as the model's sites.
+ */
+function dropEmptySitesFromEvolve(spec: Spec, lattice: LatticeSpec, empty: number[]): void {
+  const evolve = spec.extra.evolve as
+    { initial: { kind: string; levels?: number[] | null; pulses?: { sites: number[] | null }[] } } | undefined;
+  if (!evolve || evolve.initial.kind !== 'levels') return;
+  const gone = new Set(empty);
+  const vacant = new Set(lattice.vacancies);
+  // Model site of each site the evolve section numbered (the lattice's sites without its own vacancies).
+  const before = Array.from({ length: lattice.latticeSites }, (_, a) => a).filter((a) => !vacant.has(a));
+  const renumber = new Map<number, number>();
+  let next = 0;
+  before.forEach((a, i) => {
+    if (!gone.has(a)) renumber.set(i, next++);
+  });
+  const initial = evolve.initial;
+  if (initial.levels) initial.levels = initial.levels.filter((_, i) => renumber.has(i));
+  for (const pulse of initial.pulses ?? [])
+    if (pulse.sites) pulse.sites = pulse.sites.filter((i) => renumber.has(i)).map((i) => renumber.get(i) as number);
 }
 
 /** What needs a full chain cannot be asked of an ensemble whose realizations lose sites. */

@@ -160,6 +160,14 @@ describe('spec errors name the key', () => {
   it('cuts by position with partial filling of pinned chains', () => {
     expect(keyOf({ realizations: 2, filling: 0.5 }, { solve: { entanglement: 'half' } })).toBe('solve.entanglement');
   });
+  it('itinerant kinds with partial filling and [evolve]', () => {
+    expect(
+      keyOf(
+        { realizations: 2, filling: 0.5 },
+        { particles: { kind: 'hardcore', number: 1, hopping: 1 }, evolve: { initial: [1, -1, -1], times: [0, 1] } },
+      ),
+    ).toBe('disorder.filling');
+  });
   it('zipped scans', () => {
     expect(
       keyOf({ realizations: 2 }, { scan: { zip: true, axis: [{ key: 'exchange.strength', values: [1, 2] }] } }),
