@@ -195,3 +195,44 @@ describe('symmetries are detected per realization', () => {
     expect(ring('per_link').solver.symmetries ?? []).not.toContain('translation');
   });
 });
+
+describe('degenerate ensembles', () => {
+  it('zero widths reproduce the clean spec: every kind, energies equal to the last bit', () => {
+    for (const kind of KINDS) {
+      const { spec } = randomCase(77 + KINDS.indexOf(kind), kind);
+      const zero = { relative: 0 };
+      const clean = solvePoint(validateSpec(structuredClone(spec))).record.energies;
+      const noisy = solvePoint(
+        validateSpec({
+          ...structuredClone(spec),
+          disorder: {
+            realizations: 2,
+            realization: 1,
+            tunnelling: zero,
+            phase: { absolute: 0 },
+            detuning: { absolute: 0 },
+            exchange: zero,
+          },
+        }),
+      ).record.energies;
+      // x (1 + 0 g) and x + 0 g are x: the same model, the same arithmetic.
+      expect(noisy).toEqual(clean);
+    }
+  });
+  it('a common draw gives every site and link the same factor', () => {
+    const model = buildModel(
+      validateSpec({
+        chain: { sites: 4 },
+        levels: { count: 3, tunnelling: [1, 0.5] },
+        disorder: { realizations: 1, tunnelling: { relative: 0.3, correlation: 'common' } },
+      }),
+    );
+    const t = model.disorder!.tunnelling!;
+    const factor = t[0][0] / 1;
+    expect(factor).not.toBe(1);
+    for (const row of t) {
+      expect(row[0]).toBe(factor);
+      expect(row[1]).toBe(0.5 * factor);
+    }
+  });
+});
