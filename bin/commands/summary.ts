@@ -13,6 +13,7 @@ import {
   summaryJson,
   summaryText,
 } from '../../src/output/summary.js';
+import { ensembleCsv, ensembleJson, ensembleText, isEnsemble } from '../../src/output/ensemble.js';
 import { sideBySide, sideBySideCsv, sideBySideJson, sideBySideText } from '../../src/output/sideBySide.js';
 import { analyseScan, analysisCsv, analysisInputOf, analysisText } from '../../src/analysis/transitions.js';
 import { addAnalysisOptions, analysisOptions, type AnalysisFlags } from './shared.js';
@@ -27,6 +28,10 @@ export function registerSummaryCommands(program: Command): void {
     .option('--csv', 'tidy CSV on stdout')
     .option('--json', 'JSON array on stdout, one object per point')
     .option('--long', 'per-site, per-level and per-momentum observables, one value per row')
+    .option(
+      '--realizations',
+      'a disorder ensemble: every realization one by one, as any scan, instead of means over them',
+    )
     .option('--by <axis>', 'spread one scan axis into columns, side by side (e.g. --by particles.kind, or --by kind)')
     .option(
       '--analysis',
@@ -35,7 +40,14 @@ export function registerSummaryCommands(program: Command): void {
     .action(
       (
         dir: string,
-        opts: AnalysisFlags & { csv?: boolean; json?: boolean; long?: boolean; by?: string; analysis?: boolean },
+        opts: AnalysisFlags & {
+          csv?: boolean;
+          json?: boolean;
+          long?: boolean;
+          by?: string;
+          analysis?: boolean;
+          realizations?: boolean;
+        },
       ) => {
         if (opts.csv && opts.json) throw new InputError('choose one of --csv and --json');
         if (opts.by !== undefined && opts.long) throw new InputError('choose one of --by and --long');
@@ -77,6 +89,13 @@ export function registerSummaryCommands(program: Command): void {
             );
             for (const note of analysis.notes) process.stderr.write(`note: ${note}\n`);
           } else console.log(analysisText(analysis));
+          return;
+        }
+        // A disorder ensemble: means over its realizations per combination of the other axes.
+        if (isEnsemble(summary) && !opts.realizations) {
+          if (opts.json) process.stdout.write(JSON.stringify(ensembleJson(summary)) + '\n');
+          else if (opts.csv) process.stdout.write(ensembleCsv(summary));
+          else console.log(ensembleText(summary));
           return;
         }
         if (opts.json) process.stdout.write(JSON.stringify(summaryJson(summary)) + '\n');

@@ -5,6 +5,7 @@
 // The input is the scan's points in memory (parameters and records), so summaries, reports and
 // tests share it whatever the points were read from.
 
+import { REALIZATION_KEY } from '../spec/disorder.js';
 import { OptionValueError } from '../errors/errors.js';
 import { detectCrossings, sectorText, type Crossing, type CrossingPoint } from './crossings.js';
 import { finiteSizeFit, type FitResult } from './fits.js';
@@ -142,7 +143,8 @@ const isNumericAxis = (axis: { values: ScanValue[] }) => axis.values.every((v) =
 /** The default parameter: the last numeric axis that is not a system size (sizes are for fits). */
 export function defaultParameter(axes: AnalysisInput['axes']): string | null {
   for (let k = axes.length - 1; k >= 0; k--) {
-    if (isNumericAxis(axes[k]) && !(axes[k].key in SIZE_AXES)) return axes[k].key;
+    // Realizations of a disorder ensemble are samples, not a parameter a transition runs along.
+    if (isNumericAxis(axes[k]) && !(axes[k].key in SIZE_AXES) && axes[k].key !== REALIZATION_KEY) return axes[k].key;
   }
   return null;
 }

@@ -3,6 +3,8 @@
 
 import type { ParticleKind, Spec } from '../spec/spec.js';
 import { latticeOf } from '../spec/lattice.js';
+import { disorderOf } from '../spec/disorder.js';
+import { realizeDisorder, type RealizedDisorder } from './disorder.js';
 import {
   chainGeometry,
   geometryBonds,
@@ -28,6 +30,15 @@ export interface Model {
    */
   readonly localRe: Float64Array;
   readonly localIm: Float64Array;
+  /**
+   * Under disorder with noise on tunnelling, phase or detuning: each site's own h, site i's at
+   * [i N^2, (i+1) N^2) (read through siteLocal); localRe/localIm then hold the union of their
+   * nonzero patterns. null: every site has h = localRe + i localIm.
+   */
+  readonly siteLocalRe: Float64Array | null;
+  readonly siteLocalIm: Float64Array | null;
+  /** The drawn values of a disorder realization (src/model/disorder.ts), null without [disorder]. */
+  readonly disorder: RealizedDisorder | null;
   /** True when some matrix element has a nonzero imaginary part (Peierls phases). */
   readonly isComplex: boolean;
   /** c_n, exchange weight of link n -> n+1 (length N-1; the closing ring link never exchanges). */
@@ -110,36 +121,91 @@ export function geometryOf(spec: Spec): Geometry {
   return lattice ? latticeGeometry(lattice) : chainGeometry(spec.chain.sites, spec.chain.boundary === 'periodic');
 }
 
-export function buildModel(spec: Spec): Model {
-  const N = spec.levels.count;
-  const geometry = geometryOf(spec);
-  const L = geometry.sites;
-  const localRe = new Float64Array(N * N);
-  const localIm = new Float64Array(N * N);
-  for (let n = 0; n < N; n++) localRe[n * N + n] = spec.levels.detuning[n];
-  const links = spec.levels.tunnelling.length;
+/**
+ * Writes one particle's level Hamiltonian h (N x N, row-major) at `offset` of re/im: detuning on the
+ * diagonal, -J_l e^{i phi_l} at <l+1|h|l> and its conjugate partner.
+ */
+export function writeLocalMatrix(
+  N: number,
+  tunnelling: readonly number[],
+  phase: readonly number[],
+  detuning: readonly number[],
+  localRe: Float64Array,
+  localIm: Float64Array,
+  offset = 0,
+): void {
+  for (let n = 0; n < N; n++) localRe[offset + n * N + n] = detuning[n];
+  const links = tunnelling.length;
   for (let l = 0; l < links; l++) {
     const from = l;
     const to = (l + 1) % N;
-    const J = spec.levels.tunnelling[l];
-    const phi = spec.levels.phase[l];
+    const J = tunnelling[l];
+    const phi = phase[l];
     // <n+1| h |n> = -J e^{i phi}; the Hermitian partner is its conjugate.
     // A phase meant as a multiple of pi (e.g. Math.PI) leaves rounding noise in the sine; drop it so
     // such a model stays real, as it is.
     const re = -J * Math.cos(phi);
     const rawIm = -J * Math.sin(phi);
     const im = Math.abs(rawIm) <= 4 * Number.EPSILON * Math.abs(J) * Math.max(1, Math.abs(phi)) ? 0 : rawIm;
-    localRe[to * N + from] += re;
-    localIm[to * N + from] += im;
-    localRe[from * N + to] += re;
-    localIm[from * N + to] -= im;
+    localRe[offset + to * N + from] += re;
+    localIm[offset + to * N + from] += im;
+    localRe[offset + from * N + to] += re;
+    localIm[offset + from * N + to] -= im;
   }
-  let isComplex = false;
-  for (let k = 0; k < N * N; k++) if (localIm[k] !== 0) isComplex = true;
+}
 
+/** Site i's level Hamiltonian: its own under disorder, else the common one. */
+export function siteLocal(model: Model, site: number): { re: Float64Array; im: Float64Array } {
+  if (!model.siteLocalRe || !model.siteLocalIm) return { re: model.localRe, im: model.localIm };
+  const size = model.levels * model.levels;
+  return {
+    re: model.siteLocalRe.subarray(site * size, (site + 1) * size),
+    im: model.siteLocalIm.subarray(site * size, (site + 1) * size),
+  };
+}
+
+export function buildModel(spec: Spec): Model {
+  const N = spec.levels.count;
+  const geometry = geometryOf(spec);
+  const L = geometry.sites;
+  const localRe = new Float64Array(N * N);
+  const localIm = new Float64Array(N * N);
+  writeLocalMatrix(N, spec.levels.tunnelling, spec.levels.phase, spec.levels.detuning, localRe, localIm);
   const ex = spec.exchange;
   const is = spec.ising;
   const kind = spec.particles.kind;
+  let exchangePairs = geometryCouplings(geometry, ex.strength, ex.range, ex.cutoff);
+  // A disorder realization: each site's own level Hamiltonian, each pair's own exchange.
+  const realized = disorderOf(spec) ? realizeDisorder(spec, geometry, exchangePairs) : null;
+  let siteLocalRe: Float64Array | null = null;
+  let siteLocalIm: Float64Array | null = null;
+  if (realized?.tunnelling && realized.phase && realized.detuning) {
+    siteLocalRe = new Float64Array(L * N * N);
+    siteLocalIm = new Float64Array(L * N * N);
+    for (let i = 0; i < L; i++)
+      writeLocalMatrix(
+        N,
+        realized.tunnelling[i],
+        realized.phase[i],
+        realized.detuning[i],
+        siteLocalRe,
+        siteLocalIm,
+        i * N * N,
+      );
+    // The common matrix is the union of the sites' patterns (memory estimates count its nonzeros).
+    localRe.fill(0);
+    localIm.fill(0);
+    for (let i = 0; i < L; i++)
+      for (let k = 0; k < N * N; k++) {
+        if (Math.abs(siteLocalRe[i * N * N + k]) > Math.abs(localRe[k])) localRe[k] = siteLocalRe[i * N * N + k];
+        if (Math.abs(siteLocalIm[i * N * N + k]) > Math.abs(localIm[k])) localIm[k] = siteLocalIm[i * N * N + k];
+      }
+  }
+  if (realized?.exchange)
+    exchangePairs = { ...exchangePairs, value: Float64Array.from(realized.exchange, (e) => e[2]) };
+  let isComplex = false;
+  for (let k = 0; k < N * N; k++) if (localIm[k] !== 0) isComplex = true;
+
   return {
     kind,
     sites: L,
@@ -148,14 +214,17 @@ export function buildModel(spec: Spec): Model {
     geometry,
     localRe,
     localIm,
+    siteLocalRe,
+    siteLocalIm,
     isComplex,
     exchangeWeights: Float64Array.from(ex.weights),
-    exchangePairs: geometryCouplings(geometry, ex.strength, ex.range, ex.cutoff),
+    exchangePairs,
     moments: Float64Array.from(is.moments),
     isingPairs: geometryCouplings(geometry, is.strength, is.range, is.cutoff),
     hoppingBonds: geometryBonds(geometry, kind === 'pinned' ? 0 : spec.particles.hopping),
     particleNumber: spec.particles.number,
     maxPerSite: spec.particles.maxPerSite,
     onsite: spec.particles.onsite,
+    disorder: realized,
   };
 }

@@ -23,7 +23,7 @@
 import type { FockBasis, LocalSpace } from '../basis/fock.js';
 import { buildLocalSpace } from '../basis/fock.js';
 import { ResourceError } from '../errors/errors.js';
-import type { Model } from '../model/model.js';
+import { siteLocal, type Model } from '../model/model.js';
 import type { VectorArena } from '../simd/arena.js';
 import { CsrOperator } from './csr.js';
 
@@ -31,8 +31,7 @@ import { CsrOperator } from './csr.js';
 const MAX_STORED = 2 ** 31 - 1;
 
 /** The pieces of the Hamiltonian on one site's local space, shared by the count and the build. */
-interface LocalTerms {
-  local: LocalSpace;
+interface OneSiteTerms {
   /** One-site off-diagonal matrix, rows by local state: <s|T|t> at localCol/localRe/localIm[localStart[s]..]. */
   localStart: Int32Array;
   localCol: Int32Array;
@@ -40,6 +39,12 @@ interface LocalTerms {
   localIm: Float64Array;
   /** Diagonal energy of a local state: detuning plus (U/2) n (n - 1). */
   localDiagonal: Float64Array;
+}
+
+interface LocalTerms {
+  local: LocalSpace;
+  /** Per site: its one-site terms (one shared object unless disorder gives each site its own h). */
+  oneSite: OneSiteTerms[];
   /** m(s) = sum_n mu_n occ_n, the dipole moment of a local state. */
   moment: Float64Array;
   /** Exchange factors per link n: raise = a+_{n+1} a_n, lower = a+_n a_{n+1}; to[n*d+s] (-1 if zero), amp. */
@@ -51,7 +56,7 @@ interface LocalTerms {
   hasDiagonal: boolean;
 }
 
-function localTerms(model: Model, local: LocalSpace): LocalTerms {
+function oneSiteTerms(model: Model, local: LocalSpace, h: { re: Float64Array; im: Float64Array }): OneSiteTerms {
   const N = model.levels;
   const d = local.dim;
   const { createTo, createAmp, annihilateTo, annihilateAmp, occupation, count } = local;
@@ -64,8 +69,8 @@ function localTerms(model: Model, local: LocalSpace): LocalTerms {
       if (mid < 0) continue;
       for (let a = 0; a < N; a++) {
         if (a === b) continue;
-        const hr = model.localRe[a * N + b];
-        const hi = model.localIm[a * N + b];
+        const hr = h.re[a * N + b];
+        const hi = h.im[a * N + b];
         if (hr === 0 && hi === 0) continue;
         const s = createTo[a * d + mid];
         if (s < 0) continue;
@@ -89,17 +94,28 @@ function localTerms(model: Model, local: LocalSpace): LocalTerms {
   );
 
   const localDiagonal = new Float64Array(d);
-  const moment = new Float64Array(d);
   for (let s = 0; s < d; s++) {
     let e = 0;
-    let m = 0;
-    for (let n = 0; n < N; n++) {
-      const o = occupation[s * N + n];
-      e += model.localRe[n * N + n] * o;
-      m += model.moments[n] * o;
-    }
+    for (let n = 0; n < N; n++) e += h.re[n * N + n] * occupation[s * N + n];
     if (model.kind === 'boson') e += (model.onsite / 2) * count[s] * (count[s] - 1);
     localDiagonal[s] = e;
+  }
+  return { localStart, localCol, localRe, localIm, localDiagonal };
+}
+
+function localTerms(model: Model, local: LocalSpace): LocalTerms {
+  const N = model.levels;
+  const d = local.dim;
+  const { createTo, createAmp, annihilateTo, annihilateAmp, occupation } = local;
+  const shared = model.siteLocalRe ? null : oneSiteTerms(model, local, siteLocal(model, 0));
+  const oneSite = Array.from(
+    { length: model.sites },
+    (_, i) => shared ?? oneSiteTerms(model, local, siteLocal(model, i)),
+  );
+  const moment = new Float64Array(d);
+  for (let s = 0; s < d; s++) {
+    let m = 0;
+    for (let n = 0; n < N; n++) m += model.moments[n] * occupation[s * N + n];
     moment[s] = m;
   }
 
@@ -132,16 +148,12 @@ function localTerms(model: Model, local: LocalSpace): LocalTerms {
   }
 
   let hasDiagonal = false;
-  for (let s = 0; s < d; s++) if (localDiagonal[s] !== 0) hasDiagonal = true;
+  for (const t of oneSite) for (let s = 0; s < d; s++) if (t.localDiagonal[s] !== 0) hasDiagonal = true;
   if (model.isingPairs.count > 0) for (let s = 0; s < d; s++) if (moment[s] !== 0) hasDiagonal = true;
 
   return {
     local,
-    localStart,
-    localCol,
-    localRe,
-    localIm,
-    localDiagonal,
+    oneSite,
     moment,
     raiseTo,
     raiseAmp,
@@ -218,9 +230,10 @@ function offDiagonalCount(model: Model, terms: LocalTerms): number {
   const ways = waysFor(local, L, Np);
   let total = 0;
   for (let s = 0; s < d; s++) {
-    const row = terms.localStart[s + 1] - terms.localStart[s];
+    let row = 0;
+    for (const t of terms.oneSite) row += t.localStart[s + 1] - t.localStart[s];
     const rest = Np - local.count[s];
-    if (row > 0 && rest >= 0) total += L * row * ways[(L - 1) * P1 + rest];
+    if (row > 0 && rest >= 0) total += row * ways[(L - 1) * P1 + rest];
   }
   if (L >= 2) {
     const pairs = model.exchangePairs;
@@ -332,7 +345,7 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
   const d = basis.local.dim;
   const R = basis.rankTable;
   const fermion = basis.kind === 'fermion';
-  const { localStart, localCol, localRe, localIm, localDiagonal, moment, raiseTo, raiseAmp, lowerTo, lowerAmp } = terms;
+  const { oneSite, moment, raiseTo, raiseAmp, lowerTo, lowerAmp } = terms;
   const { createTo, createAmp, annihilateTo, annihilateAmp } = basis.local;
   const withDiagonal = out.diagonal;
   const rowStart = out.rowStart;
@@ -398,7 +411,7 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
 
     if (withDiagonal) {
       let e = 0;
-      for (let i = 0; i < L; i++) e += localDiagonal[state[i]];
+      for (let i = 0; i < L; i++) e += oneSite[i].localDiagonal[state[i]];
       for (let p = 0; p < nIsing; p++) e += isingW[p] * moment[state[isingI[p]]] * moment[state[isingJ[p]]];
       columns[k] = row;
       valuesRe[k++] = e;
@@ -409,6 +422,7 @@ function fillRows(model: Model, basis: FockBasis, terms: LocalTerms, out: FockAr
       const s = state[i];
       const base = (i * P1 + prefix[i]) * d;
       const shift = row - rankHere[i];
+      const { localStart, localCol, localRe, localIm } = oneSite[i];
       for (let e = localStart[s]; e < localStart[s + 1]; e++) {
         columns[k] = shift + R[base + localCol[e]];
         if (valuesIm !== null) valuesIm[k] = localIm[e];

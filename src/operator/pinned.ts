@@ -1,7 +1,7 @@
 // The pinned Hamiltonian as strided block loops over the mixed-radix index.
 
 import type { PinnedBasis } from '../basis/basis.js';
-import type { Model } from '../model/model.js';
+import { siteLocal, type Model } from '../model/model.js';
 import type { HermitianOperator } from './hermitian.js';
 import { complexRowInto } from './csr.js';
 import { arenaHolding, type VectorArena } from '../simd/arena.js';
@@ -30,7 +30,8 @@ export class PinnedOperator implements HermitianOperator {
   readonly diagonal: Float64Array;
   private readonly N: number;
   private readonly strides: Int32Array;
-  // Off-diagonal entries of one particle's h: y[a] += h_ab x[b].
+  // Off-diagonal entries of each site's h: y[a] += h_ab x[b], site i's at [localStart[i], localStart[i+1]).
+  private readonly localStart: Int32Array;
   private readonly localTo: Int32Array;
   private readonly localFrom: Int32Array;
   private readonly localRe: Float64Array;
@@ -65,23 +66,29 @@ export class PinnedOperator implements HermitianOperator {
     this.strides = basis.strides;
     const N = this.N;
 
+    const start: number[] = [0];
     const to: number[] = [];
     const from: number[] = [];
     const re: number[] = [];
     const im: number[] = [];
-    for (let a = 0; a < N; a++) {
-      for (let b = 0; b < N; b++) {
-        if (a === b) continue;
-        const r = model.localRe[a * N + b];
-        const m = model.localIm[a * N + b];
-        if (r !== 0 || m !== 0) {
-          to.push(a);
-          from.push(b);
-          re.push(r);
-          im.push(m);
+    for (let site = 0; site < basis.sites; site++) {
+      const h = siteLocal(model, site);
+      for (let a = 0; a < N; a++) {
+        for (let b = 0; b < N; b++) {
+          if (a === b) continue;
+          const r = h.re[a * N + b];
+          const m = h.im[a * N + b];
+          if (r !== 0 || m !== 0) {
+            to.push(a);
+            from.push(b);
+            re.push(r);
+            im.push(m);
+          }
         }
       }
+      start.push(to.length);
     }
+    this.localStart = Int32Array.from(start);
     this.localTo = Int32Array.from(to);
     this.localFrom = Int32Array.from(from);
     this.localRe = Float64Array.from(re);
@@ -149,7 +156,7 @@ export class PinnedOperator implements HermitianOperator {
     let nz = 0;
     for (let s = 0; s < this.dim; s++) if (this.diagonal[s] !== 0) nz++;
     const perDigit = this.dim / this.N;
-    nz += this.localTo.length * perDigit * this.strides.length;
+    nz += this.localTo.length * perDigit;
     nz += this.exchangeMoves * (perDigit / this.N);
     return nz;
   }
@@ -235,12 +242,11 @@ export class PinnedOperator implements HermitianOperator {
           y[s] = acc0 + acc1;
         }
       }
-    const nLocal = this.localTo.length;
     for (let site = this.blockSites; site < this.strides.length; site++) {
       const S = this.strides[site];
       const block = N * S;
       for (let base = lo - (lo % block); base < hi; base += block) {
-        for (let e = 0; e < nLocal; e++) {
+        for (let e = this.localStart[site]; e < this.localStart[site + 1]; e++) {
           const h = this.localRe[e];
           const run = base + this.localTo[e] * S;
           const from = run < lo ? lo : run;
@@ -311,12 +317,11 @@ export class PinnedOperator implements HermitianOperator {
           complexRowInto(y, s, x, base, col, vr, vi, rs[r], rs[r + 1], d * x[2 * s], d * x[2 * s + 1]);
         }
       }
-    const nLocal = this.localTo.length;
     for (let site = this.blockSites; site < this.strides.length; site++) {
       const S = this.strides[site];
       const block = N * S;
       for (let base = lo - (lo % block); base < hi; base += block) {
-        for (let e = 0; e < nLocal; e++) {
+        for (let e = this.localStart[site]; e < this.localStart[site + 1]; e++) {
           const hr = this.localRe[e];
           const hi_ = this.localIm[e];
           const run = base + this.localTo[e] * S;
@@ -411,6 +416,7 @@ function blockEntries(
   const digits = new Int32Array(sites);
   const w = model.exchangeWeights;
   const ep = model.exchangePairs;
+  const local = Array.from({ length: sites }, (_, i) => siteLocal(model, i));
   let k = 0;
   for (let r = 0; r < size; r++) {
     let rest = r;
@@ -420,10 +426,11 @@ function blockEntries(
     }
     for (let i = 0; i < sites; i++) {
       const a = digits[i];
+      const h = local[i];
       for (let b = 0; b < N; b++) {
         if (b === a) continue;
-        const hr = model.localRe[a * N + b];
-        const hi = model.localIm[a * N + b];
+        const hr = h.re[a * N + b];
+        const hi = h.im[a * N + b];
         if (hr === 0 && hi === 0) continue;
         column[k] = r + (b - a) * basis.strides[i];
         re[k] = hr;
@@ -462,8 +469,9 @@ function pinnedDiagonal(model: Model, basis: PinnedBasis, diag: Float64Array): F
   const N = model.levels;
   for (let site = 0; site < basis.sites; site++) {
     const S = basis.strides[site];
+    const h = siteLocal(model, site);
     for (let a = 0; a < N; a++) {
-      const d = model.localRe[a * N + a];
+      const d = h.re[a * N + a];
       if (d === 0) continue;
       for (let base = a * S; base < dim; base += N * S) {
         for (let lo = 0; lo < S; lo++) diag[base + lo] += d;

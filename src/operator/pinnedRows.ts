@@ -2,7 +2,7 @@
 // and symmetry checks need the individual matrix elements of a state, not a whole product.
 
 import type { PinnedBasis } from '../basis/basis.js';
-import type { Model } from '../model/model.js';
+import { siteLocal, type Model } from '../model/model.js';
 
 /** Reusable output of `PinnedColumns.of`: targets and amplitudes <t|H|s>, diagonal first. */
 export interface ColumnBuffer {
@@ -33,6 +33,8 @@ export class PinnedColumns {
   private readonly moveTo: Int32Array;
   private readonly moveRe: Float64Array;
   private readonly moveIm: Float64Array;
+  /** <n|h_i|n> at i * N + n. */
+  private readonly localDiagonal: Float64Array;
 
   constructor(
     private readonly model: Model,
@@ -47,19 +49,26 @@ export class PinnedColumns {
     const to: number[] = [];
     const re: number[] = [];
     const im: number[] = [];
-    for (let b = 0; b < N; b++) {
-      for (let a = 0; a < N; a++) {
-        if (a === b) continue;
-        const r = model.localRe[a * N + b];
-        const m = model.localIm[a * N + b];
-        if (r !== 0 || m !== 0) {
-          to.push(a);
-          re.push(r);
-          im.push(m);
+    const diagonal: number[] = [];
+    // Per site (each its own h under disorder), per level b: the moves out of b.
+    for (let site = 0; site < this.L; site++) {
+      const h = siteLocal(model, site);
+      for (let b = 0; b < N; b++) {
+        diagonal.push(h.re[b * N + b]);
+        for (let a = 0; a < N; a++) {
+          if (a === b) continue;
+          const r = h.re[a * N + b];
+          const m = h.im[a * N + b];
+          if (r !== 0 || m !== 0) {
+            to.push(a);
+            re.push(r);
+            im.push(m);
+          }
         }
+        start.push(to.length);
       }
-      start.push(to.length);
     }
+    this.localDiagonal = Float64Array.from(diagonal);
     this.moveStart = Int32Array.from(start);
     this.moveTo = Int32Array.from(to);
     this.moveRe = Float64Array.from(re);
@@ -76,7 +85,7 @@ export class PinnedColumns {
       r = q;
     }
     let diag = 0;
-    for (let i = 0; i < L; i++) diag += model.localRe[digits[i] * (N + 1)];
+    for (let i = 0; i < L; i++) diag += this.localDiagonal[i * N + digits[i]];
     const ip = model.isingPairs;
     for (let p = 0; p < ip.count; p++)
       diag += ip.value[p] * model.moments[digits[ip.i[p]]] * model.moments[digits[ip.j[p]]];
@@ -86,7 +95,7 @@ export class PinnedColumns {
     let c = 1;
     for (let i = 0; i < L; i++) {
       const b = digits[i];
-      for (let m = this.moveStart[b]; m < this.moveStart[b + 1]; m++) {
+      for (let m = this.moveStart[i * N + b]; m < this.moveStart[i * N + b + 1]; m++) {
         out.targets[c] = s + (this.moveTo[m] - b) * strides[i];
         out.re[c] = this.moveRe[m];
         out.im[c] = this.moveIm[m];

@@ -16,6 +16,7 @@ import { denseThresholdFor } from '../solver/eigensolver.js';
 import { applyOverride, validateSpec, type Spec } from '../spec/spec.js';
 import type { ScanSection, ScanValue } from '../spec/scanSection.js';
 import { cutText } from '../spec/validate.js';
+import { REALIZATION_KEY } from '../spec/disorder.js';
 import { runIdentity } from '../runs/runFiles.js';
 import { sectorSizes, type SectorSize } from '../symmetry/sectorSizes.js';
 
@@ -71,10 +72,14 @@ export function paramsOf(section: ScanSection, index: number): ScanParams {
   return params;
 }
 
-/** Lines along the innermost axis: consecutive indices sharing every other axis value. */
+/**
+ * Lines along the innermost axis: consecutive indices sharing every other axis value. Realizations
+ * of a disorder ensemble are no line: when they are the innermost axis each point is its own.
+ */
 export function linesOf(section: ScanSection): number[][] {
   const total = pointCount(section);
-  const lineLength = section.zip ? total : section.axes[section.axes.length - 1].values.length;
+  const innermost = section.axes[section.axes.length - 1];
+  const lineLength = section.zip ? total : innermost.key === REALIZATION_KEY ? 1 : innermost.values.length;
   const lines: number[][] = [];
   for (let start = 0; start < total; start += lineLength) {
     lines.push(Array.from({ length: lineLength }, (_, k) => start + k));
@@ -264,8 +269,14 @@ export function describeScan(raw: Record<string, unknown>, spec: Spec, limit: nu
   const shape = section.axes.map(
     (a) => `${a.key} (${a.values.length} ${a.spacing === 'values' ? 'values' : `${a.spacing} steps`})`,
   );
+  const realizations = section.axes.find((a) => a.key === REALIZATION_KEY)?.values.length;
   const lines = [
     `scan             ${points} point${points === 1 ? '' : 's'}, ${section.zip ? 'zipped' : 'grid'}: ${shape.join(section.zip ? ' with ' : ' x ')}`,
+    ...(realizations === undefined
+      ? []
+      : [
+          `realizations     ${realizations} (disorder), ${points} point${points === 1 ? '' : 's'} in all, the largest dimension over them ${big.plan.dimension}`,
+        ]),
     `largest point    #${big.index} (${formatParams(big.params)}): basis dimension ${big.plan.dimension}`,
     `memory estimate  ${formatBytes(heavy.plan.memory.totalBytes)} for the largest point (#${heavy.index}), limit ${formatBytes(limit)}`,
   ];

@@ -2,6 +2,7 @@
 // task makes them, the runner appends them, summaries, analysis and merges read them back.
 
 import type { PointRecord } from '../point/record.js';
+import type { RealizedDisorder } from '../model/disorder.js';
 import type { ScanParams } from './plan.js';
 import type { SpectrumResult } from '../spectrum/spectrum.js';
 
@@ -28,6 +29,9 @@ export interface ScanRecord {
    * coincide. null for the first point of a line, after a change of basis, or when the previous point failed.
    */
   overlap_previous: number | null;
+  /** A disorder ensemble's point: its realization and the values drawn for it (null when it failed before they were). */
+  realization?: number;
+  disorder?: RealizedDisorder | null;
   /** Worker thread id that solved it (0: the main thread). */
   worker: number;
   finished: string;

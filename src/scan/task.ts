@@ -12,6 +12,7 @@ import { prepareSpectrum, spectrumOfSolved } from '../spectrum/spectrum.js';
 import { validateSpec, type Spec } from '../spec/spec.js';
 import type { ScanParams } from './plan.js';
 import type { ScanRecord } from './record.js';
+import { REALIZATION_KEY } from '../spec/disorder.js';
 import { groundSpaceOverlap } from '../observables/overlap.js';
 
 export interface TaskPoint {
@@ -63,9 +64,18 @@ export function setScanTaskHooks(next: ScanTaskHooks): void {
 /** A key telling whether two points share a basis (same states in the same order and arithmetic). */
 function basisKey(spec: Spec, isComplex: boolean, dimension: number): string {
   const p = spec.particles;
-  return [p.kind, spec.chain.sites, spec.levels.count, p.number, p.maxPerSite, isComplex ? 'c' : 'r', dimension].join(
-    ':',
-  );
+  // Vacancies (a disorder realization's empty sites among them) decide which sites the digits are.
+  const vacancies = (spec.extra.lattice as { vacancies?: number[] } | undefined)?.vacancies ?? [];
+  return [
+    p.kind,
+    spec.chain.sites,
+    spec.levels.count,
+    p.number,
+    p.maxPerSite,
+    isComplex ? 'c' : 'r',
+    dimension,
+    vacancies.join(','),
+  ].join(':');
 }
 
 /**
@@ -148,6 +158,7 @@ export function runScanTask(
       record = {
         index: point.index,
         params: point.params,
+        ...(plan.model.disorder ? { realization: plan.model.disorder.realization, disorder: plan.model.disorder } : {}),
         status: 'done',
         result: solvedPoint.record,
         ...(spectrum ? { spectrum } : {}),
@@ -161,9 +172,11 @@ export function runScanTask(
       };
     } catch (e) {
       previous = null;
+      const realization = point.params[REALIZATION_KEY];
       record = {
         index: point.index,
         params: point.params,
+        ...(typeof realization === 'number' ? { realization, disorder: null } : {}),
         status: 'failed',
         error: errorText(e),
         iterations: 0,

@@ -6,6 +6,7 @@ import type { Spec } from './specTypes.js';
 import { resolveEvolveSection, validateEvolveSection } from './evolveSection.js';
 import { resolveLattice, validateLatticeSection } from './lattice.js';
 import { validateScanSection } from './scanSection.js';
+import { resolveDisorder, validateDisorderSection } from './disorder.js';
 import { resolveUnits, validateUnitsSection } from './units.js';
 import { resolveSpectrumSection, validateSpectrumSection } from './spectrumSection.js';
 
@@ -26,4 +27,7 @@ export const OPTIONAL_SECTIONS: readonly OptionalSection[] = [
   { name: 'evolve', validate: validateEvolveSection, resolve: resolveEvolveSection },
   { name: 'scan', validate: validateScanSection },
   { name: 'spectrum', validate: validateSpectrumSection, resolve: resolveSpectrumSection },
+  // Last: a realization's filling changes the sites every other section has checked, and the
+  // ensemble's realization axis joins the validated [scan].
+  { name: 'disorder', validate: validateDisorderSection, resolve: (spec) => resolveDisorder(spec) },
 ];

@@ -46,7 +46,7 @@
 //   solve.observables                  "ground"            ("ground": observables of the ground level; "each": also
 //                                                           every solved state's own, in its sector; see src/solver/levels.ts)
 //
-// The optional top-level sections ([lattice], [units], [evolve], [scan]) are listed in src/spec/sections.ts;
+// The optional top-level sections ([lattice], [units], [evolve], [scan], [disorder]) are listed in src/spec/sections.ts;
 // their validated values land in spec.extra.
 
 import { readFileSync } from 'node:fs';

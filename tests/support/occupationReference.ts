@@ -37,6 +37,15 @@ export interface ModelDescription {
   exchangeFactors?: number[][];
   isingFactors?: number[][];
   bonds?: [number, number][];
+  /**
+   * Disorder (issue 20): each site's own tunnelling and phase per link and detuning per level
+   * ([site][slot]), and each pair's exchange V_ij (read as exchangeValues[i][j], i < j), replacing the
+   * uniform values when given.
+   */
+  siteTunnelling?: number[][];
+  sitePhase?: number[][];
+  siteDetuning?: number[][];
+  exchangeValues?: number[][];
 }
 
 export interface DenseModel {
@@ -139,11 +148,12 @@ export function buildDense(m: ModelDescription): DenseModel {
   const links = m.ring ? N : N - 1;
   for (let i = 0; i < L; i++) {
     for (let l = 0; l < links; l++) {
-      const c = -m.tunnelling[l];
+      const c = -(m.siteTunnelling ? m.siteTunnelling[i][l] : m.tunnelling[l]);
+      const phase = m.sitePhase ? m.sitePhase[i][l] : m.phase[l];
       if (c === 0) continue;
       terms.push([
-        c * Math.cos(m.phase[l]),
-        c * Math.sin(m.phase[l]),
+        c * Math.cos(phase),
+        c * Math.sin(phase),
         [
           [mode(i, (l + 1) % N), true],
           [mode(i, l), false],
@@ -153,7 +163,9 @@ export function buildDense(m: ModelDescription): DenseModel {
   }
   for (let i = 0; i < L; i++) {
     for (let j = i + 1; j < L; j++) {
-      const v = m.exchange * coupling(i, j, m, m.exchangeRange, m.exchangeCutoff, m.exchangeFactors);
+      const v = m.exchangeValues
+        ? m.exchangeValues[i][j]
+        : m.exchange * coupling(i, j, m, m.exchangeRange, m.exchangeCutoff, m.exchangeFactors);
       if (v === 0) continue;
       for (let n = 0; n <= N - 2; n++) {
         const c = v * m.weights[n];
@@ -194,7 +206,7 @@ export function buildDense(m: ModelDescription): DenseModel {
     for (let i = 0; i < L; i++) {
       for (let n = 0; n < N; n++) {
         const k = occ[mode(i, n)];
-        diag += m.detuning[n] * k;
+        diag += (m.siteDetuning ? m.siteDetuning[i][n] : m.detuning[n]) * k;
         count[i] += k;
         moment[i] += m.moments[n] * k;
       }

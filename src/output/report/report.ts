@@ -28,6 +28,8 @@ import { renderArrayPicture, type ArrayLayout } from './arrayPicture.js';
 import { renderHeatMap } from './heatMap.js';
 import { evenlyChosen } from './thinning.js';
 import type { SpectrumResult } from '../../spectrum/spectrum.js';
+import { statOf } from '../ensemble.js';
+import { REALIZATION_KEY } from '../../spec/disorder.js';
 
 /** Populations drawn for a chosen point: larger chains are cut to this many sites. */
 export const MAX_POPULATION_SITES = 64;
@@ -1015,10 +1017,141 @@ function reportPage(context: ReportContext, sections: string[]): string {
   });
 }
 
+// ---------------------------------------------------------------------------------------------
+// Disorder ensembles (issue 20)
+
+/** Mean and standard error (sample standard deviation / sqrt(n)) of the values, null where none. */
+function meanAndError(values: number[]): { mean: number; error: number | null } | null {
+  const finite = values.filter((v) => Number.isFinite(v));
+  if (finite.length === 0) return null;
+  const stat = statOf(finite);
+  return { mean: stat.mean as number, error: stat.stderr };
+}
+
+/** Points x to the values of the realizations there, per group of the axes other than the realization. */
+function byRealizationGroups<T extends { fixed: ScanParams }>(items: T[]): { fixed: ScanParams; items: T[] }[] {
+  const groups = new Map<string, { fixed: ScanParams; items: T[] }>();
+  for (const item of items) {
+    const fixed: ScanParams = { ...item.fixed };
+    delete fixed[REALIZATION_KEY];
+    const key = JSON.stringify(fixed);
+    const group = groups.get(key) ?? { fixed, items: [] };
+    group.items.push(item);
+    groups.set(key, group);
+  }
+  return [...groups.values()];
+}
+
+/** Mean ± standard error at each x over curves given as (x, y) lists. */
+function meanCurve(curves: { x: number[]; y: number[] }[]): { x: number[]; y: number[]; yErr: (number | null)[] } {
+  const at = new Map<number, number[]>();
+  for (const c of curves) c.x.forEach((x, k) => at.set(x, [...(at.get(x) ?? []), c.y[k]]));
+  const xs = [...at.keys()].sort((a, b) => a - b);
+  const stats = xs.map((x) => meanAndError(at.get(x)!));
+  return {
+    x: xs,
+    y: stats.map((s) => s?.mean ?? NaN),
+    yErr: stats.map((s) => s?.error ?? null),
+  };
+}
+
+/**
+ * A disorder ensemble: the energy and observables as mean ± standard error over the realizations,
+ * and each transition indicator as the mean over realizations of each realization's own indicator
+ * curve (not the indicator of the mean curves), with the mean ± standard error of its peak position.
+ */
+function ensembleSection(context: ReportContext): string | null {
+  const { input, analysis, units, parameter, xAxis, lines, names, lineName, scaleX, logX } = context;
+  if (!parameter || !xAxis || parameter === REALIZATION_KEY || !input.axes.some((a) => a.key === REALIZATION_KEY))
+    return null;
+  const groups = byRealizationGroups(lines);
+  const named = (fixed: ScanParams) => (Object.keys(fixed).length > 0 ? lineName(fixed) : 'mean');
+  const observablePlots = ['E0', ...names].map((name) => {
+    const info = observableInfo(name);
+    const scale = info.energy ? units.energyScale : 1;
+    const unit = info.unit(units);
+    return renderLinePlot({
+      logX,
+      id: `ensemble-${name.replace(/[^A-Za-z0-9]+/g, '-')}`,
+      title: `${info.title} against ${xAxis.label}: mean ± standard error over the realizations`,
+      xLabel: axisTitle(xAxis),
+      yLabel: unit ? `${info.short} [${unit}]` : info.short,
+      series: evenlyChosen(groups, MAX_SERIES).map((g, k) => {
+        const curve = meanCurve(
+          g.items.map((line) => ({
+            x: line.points.map((p) => p.x),
+            y: line.points.map((p) => observableValue(p.record, name) ?? NaN),
+          })),
+        );
+        return {
+          name: named(g.fixed),
+          x: curve.x.map(scaleX),
+          y: curve.y.map((v) => v * scale),
+          yErr: curve.yErr.map((e) => (e === null ? null : e * scale)),
+          style: k,
+        };
+      }),
+    });
+  });
+  const kinds: Indicator['name'][] = ['gap', 'fidelity', 'curvature', 'width_slope'];
+  const indicatorGroups = byRealizationGroups(analysis.lines);
+  const peakRows: string[] = [];
+  const indicatorPlots = kinds.map((kind) => {
+    const withIt = indicatorGroups.filter((g) => g.items.some((l) => l.indicators.some((i) => i.name === kind)));
+    if (withIt.length === 0) return '';
+    const yScale =
+      kind === 'gap'
+        ? units.energyScale
+        : kind === 'fidelity'
+          ? 1 / xAxis.scale ** 2
+          : kind === 'curvature'
+            ? units.energyScale / xAxis.scale ** 2
+            : 1 / xAxis.scale;
+    const unit = INDICATOR_UNITS[kind](xAxis, units);
+    const series = evenlyChosen(withIt, MAX_SERIES).map((g, k) => {
+      const indicators = g.items.flatMap((l) => l.indicators.filter((i) => i.name === kind));
+      const curve = meanCurve(indicators.map((i) => ({ x: i.x, y: i.y })));
+      const peaks = indicators.flatMap((i) => (i.peak ? [i.peak.position] : []));
+      const peak = meanAndError(peaks);
+      peakRows.push(
+        `<tr><td>${esc(INDICATOR_SHORT[kind])}</td><td>${esc(named(g.fixed))}</td><td>${peaks.length} of ${g.items.length}</td><td>${peak ? esc(`${fmt(scaleX(peak.mean), 6)}${peak.error === null ? '' : ` ± ${fmt(peak.error * (xAxis.scale ?? 1), 2)}`}`) : '-'}</td></tr>`,
+      );
+      return {
+        name: named(g.fixed),
+        x: curve.x.map(scaleX),
+        y: curve.y.map((v) => v * yScale),
+        yErr: curve.yErr.map((e) => (e === null ? null : e * yScale)),
+        style: k,
+      };
+    });
+    return renderLinePlot({
+      logX,
+      id: `ensemble-indicator-${kind}`,
+      title: `${INDICATOR_SHORT[kind]}: the mean over realizations of each realization's indicator`,
+      xLabel: axisTitle(xAxis),
+      yLabel: unit ? `${INDICATOR_SHORT[kind]} [${unit}]` : INDICATOR_SHORT[kind],
+      series,
+    });
+  });
+  const peakTable =
+    peakRows.length > 0
+      ? `<div class="table-wrap"><table class="peaks"><tr><th>indicator</th><th>other axes</th><th>realizations with an extremum</th><th>${esc(`position (mean ± standard error) [${xAxis.unit || '-'}]`)}</th></tr>${peakRows.join('')}</table></div>`
+      : '';
+  const realizations = input.axes.find((a) => a.key === REALIZATION_KEY)!.values.length;
+  const solved = context.done.length;
+  return section(
+    'ensemble',
+    'Disorder ensemble',
+    [...observablePlots, ...indicatorPlots, peakTable],
+    `${realizations} realizations (${solved} of ${input.points.length} points solved). Error bars: the standard error of the mean over the realizations solved at each point (sample standard deviation / sqrt(n)); failed and pending realizations are left out of the means and counted in \`rungchain summary RUN\`. Transition indicators: each realization's own indicator curve (its gap, fidelity susceptibility, −d²E₀/dx² and string-width slope along ${xAxis.label}), averaged over the realizations point by point; peak positions: the mean of each realization's own extremum.`,
+  );
+}
+
 /** The report page: every section the scan has something for, in this order. */
 export function renderReport(input: ReportInput): string {
   const context = reportContext(input);
   const sections = [
+    ensembleSection(context),
     observablesSection(context),
     heatMapsSection(context),
     spectrumSection(context),
