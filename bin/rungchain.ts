@@ -10,6 +10,7 @@ import { registerShardCommands } from './commands/shard.js';
 import { registerSummaryCommands } from './commands/summary.js';
 import { registerEvolveCommands } from './commands/evolve.js';
 import { registerReportCommands } from './commands/report.js';
+import { registerThermalCommands } from './commands/thermal.js';
 
 const program = new Command();
 program
@@ -24,6 +25,7 @@ registerShardCommands(program);
 registerSummaryCommands(program);
 registerEvolveCommands(program);
 registerReportCommands(program);
+registerThermalCommands(program);
 
 // A reader that stops early (`| head`) closes the pipe: the output is no longer wanted, so stop
 // quietly with success, as `rungchain summary RUN --csv | head` should read under `set -o pipefail`.

@@ -17,6 +17,8 @@ import { describeLabEnergies, labEnergies, labUnits } from '../../src/spec/units
 import { describeScan, describeWork } from '../../src/scan/plan.js';
 import { defaultWorkerCount } from '../../src/scan/runner.js';
 import { secondsMinutesHours } from '../../src/format/durations.js';
+import { planThermal } from '../../src/thermal/thermal.js';
+import { describeThermalPlan } from '../../src/thermal/describe.js';
 
 export function registerSolveCommands(program: Command): void {
   program
@@ -43,6 +45,8 @@ export function registerSolveCommands(program: Command): void {
       if (spec.extra.lattice) console.log(describeGeometry(plan.model).join('\n'));
       if (plan.memory.totalBytes > limit)
         console.log('solve would refuse this problem: the estimate exceeds the limit');
+      // With [thermal]: the method `thermal` will use, its memory and time.
+      if (spec.extra.thermal) console.log(describeThermalPlan(planThermal(spec, { maxMemory: limit })));
       if (opts.saveStates || opts.saveStatesAll) console.log(describeStatesFile(plan, spec.solve.states, opts));
     });
 

@@ -7,6 +7,7 @@ import { resolveEvolveSection, validateEvolveSection } from './evolveSection.js'
 import { resolveLattice, validateLatticeSection } from './lattice.js';
 import { validateScanSection } from './scanSection.js';
 import { resolveUnits, validateUnitsSection } from './units.js';
+import { resolveThermalSection, validateThermalSection } from './thermalSection.js';
 
 export interface OptionalSection {
   /** The top-level key; never the name of a core section. */
@@ -24,4 +25,6 @@ export const OPTIONAL_SECTIONS: readonly OptionalSection[] = [
   { name: 'units', validate: validateUnitsSection, resolve: resolveUnits },
   { name: 'evolve', validate: validateEvolveSection, resolve: resolveEvolveSection },
   { name: 'scan', validate: validateScanSection },
+  // After [units], which fixes the energy scale of temperatures in nK or kHz.
+  { name: 'thermal', validate: validateThermalSection, resolve: resolveThermalSection },
 ];
