@@ -197,15 +197,29 @@ function unflatten(template: Observables, values: number[]): Observables {
   return walk(template) as Observables;
 }
 
-function setUpBlocks(model: Model, basis: Basis, sectors: SectorPlan[] | null, tolerance: number): BlockSetup[] {
+/** Knobs for tests: the dense-block size and the exact low states per block. */
+export interface LanczosKnobs {
+  denseBlock?: number;
+  lowStates?: number;
+}
+
+function setUpBlocks(
+  model: Model,
+  basis: Basis,
+  sectors: SectorPlan[] | null,
+  tolerance: number,
+  knobs: LanczosKnobs,
+): BlockSetup[] {
+  const denseBlock = knobs.denseBlock ?? DENSE_BLOCK;
+  const lowStates = Math.max(1, knobs.lowStates ?? LOW_STATES);
   const exactOf = (op: HermitianOperator, weight: number, sector: SectorBasis | null, group: string): BlockSetup => {
     const length = op.isComplex ? 2 * op.dim : op.dim;
-    if (op.dim <= DENSE_BLOCK) {
+    if (op.dim <= Math.max(denseBlock, lowStates + 1)) {
       const { values, vectors } = denseEigen(op);
       return { op, length, isComplex: op.isComplex, weight, sector, values, vectors, complete: true, group };
     }
     const low = lowestEigenpairs(op, {
-      states: LOW_STATES,
+      states: lowStates,
       tolerance,
       throwOnFailure: true,
       groundCopies: 16,
@@ -299,8 +313,9 @@ export function lanczosThermal(
   section: ThermalSection,
   correlations: CorrelationRequest,
   tolerance = 1e-10,
+  knobs: LanczosKnobs = {},
 ): { groundEnergy: number; rows: LanczosRow[] } {
-  const blocks = setUpBlocks(model, basis, sectors, tolerance);
+  const blocks = setUpBlocks(model, basis, sectors, tolerance, knobs);
   let e0 = Infinity;
   for (const b of blocks) if (b.values.length > 0) e0 = Math.min(e0, b.values[0]);
   const T = temps.length;

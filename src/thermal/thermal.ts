@@ -15,7 +15,7 @@ import { thermalSectionOf, type TemperatureUnit, type ThermalSection } from '../
 import { planSectors, translationSizes, type SectorPlan, type SymmetryName } from '../symmetry/group.js';
 import { sectorSizes } from '../symmetry/sectorSizes.js';
 import { diagonalizeBlocks, exactThermalState, lowestEnergy } from './exact.js';
-import { lanczosThermal } from './lanczos.js';
+import { lanczosThermal, type LanczosKnobs } from './lanczos.js';
 import type { Thermodynamics } from './thermodynamics.js';
 
 /**
@@ -161,7 +161,7 @@ export function correlationRequestOf(spec: Spec, model: Model): CorrelationReque
 }
 
 /** Runs the planned method at every temperature. */
-export function runThermal(spec: Spec, plan: ThermalPlan = planThermal(spec)): ThermalResult {
+export function runThermal(spec: Spec, plan: ThermalPlan = planThermal(spec), knobs: LanczosKnobs = {}): ThermalResult {
   const started = performance.now();
   const { section, model } = plan;
   const basis: Basis = buildBasis(model);
@@ -186,7 +186,7 @@ export function runThermal(spec: Spec, plan: ThermalPlan = planThermal(spec)): T
       seconds: (performance.now() - started) / 1000,
     };
   }
-  const out = lanczosThermal(model, basis, sectors, temps, section, correlations);
+  const out = lanczosThermal(model, basis, sectors, temps, section, correlations, 1e-10, knobs);
   return {
     method: 'lanczos',
     temperature_unit: section.unit,
