@@ -18,6 +18,7 @@ const STAGES = [
   'symmetry', // symmetry group, sector bases, sector operators, solving in sectors
   'observables', // populations, itinerant observables, entanglement
   'point', // one spec -> one solved point (plan, memory estimate, record)
+  'thermal', // thermal equilibrium: exact and finite-temperature Lanczos
   'spectrum', // linear-response spectra of a solved ground state (Lanczos continued fraction)
   'runs', // run folders on disk: manifest, records, locks, merging
   'scan', // scans: expanding points, tasks, worker pool, shards, batch scripts

@@ -11,6 +11,7 @@ import { registerSummaryCommands } from './commands/summary.js';
 import { registerEvolveCommands } from './commands/evolve.js';
 import { registerReportCommands } from './commands/report.js';
 import { registerSpectrumCommands } from './commands/spectrum.js';
+import { registerThermalCommands } from './commands/thermal.js';
 
 const program = new Command();
 program
@@ -26,6 +27,7 @@ registerSummaryCommands(program);
 registerEvolveCommands(program);
 registerReportCommands(program);
 registerSpectrumCommands(program);
+registerThermalCommands(program);
 
 // A reader that stops early (`| head`) closes the pipe: the output is no longer wanted, so stop
 // quietly with success, as `rungchain summary RUN --csv | head` should read under `set -o pipefail`.

@@ -19,6 +19,8 @@ import { defaultWorkerCount } from '../../src/scan/runner.js';
 import { secondsMinutesHours } from '../../src/format/durations.js';
 import { estimateSpectrumMemory, spectrumSection } from '../../src/spectrum/spectrum.js';
 import { describeSpectrumMemory } from '../../src/spectrum/text.js';
+import { planThermal } from '../../src/thermal/thermal.js';
+import { describeThermalPlan } from '../../src/thermal/describe.js';
 
 export function registerSolveCommands(program: Command): void {
   program
@@ -45,6 +47,8 @@ export function registerSolveCommands(program: Command): void {
       if (spec.extra.lattice) console.log(describeGeometry(plan.model).join('\n'));
       if (plan.memory.totalBytes > limit)
         console.log('solve would refuse this problem: the estimate exceeds the limit');
+      // With [thermal]: the method `thermal` will use, its memory and time.
+      if (spec.extra.thermal) console.log(describeThermalPlan(planThermal(spec, { maxMemory: limit })));
       if (opts.saveStates || opts.saveStatesAll) console.log(describeStatesFile(plan, spec.solve.states, opts));
       // With [spectrum], what the continued fraction adds after the ground solve.
       if (spec.extra.spectrum)

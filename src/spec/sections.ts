@@ -9,6 +9,7 @@ import { validateScanSection } from './scanSection.js';
 import { resolveDisorder, validateDisorderSection } from './disorder.js';
 import { resolveUnits, validateUnitsSection } from './units.js';
 import { resolveSpectrumSection, validateSpectrumSection } from './spectrumSection.js';
+import { resolveThermalSection, validateThermalSection } from './thermalSection.js';
 
 export interface OptionalSection {
   /** The top-level key; never the name of a core section. */
@@ -27,6 +28,8 @@ export const OPTIONAL_SECTIONS: readonly OptionalSection[] = [
   { name: 'evolve', validate: validateEvolveSection, resolve: resolveEvolveSection },
   { name: 'scan', validate: validateScanSection },
   { name: 'spectrum', validate: validateSpectrumSection, resolve: resolveSpectrumSection },
+  // After [units], which fixes the energy scale of temperatures in nK or kHz.
+  { name: 'thermal', validate: validateThermalSection, resolve: resolveThermalSection },
   // Last: a realization's filling changes the sites every other section has checked, and the
   // ensemble's realization axis joins the validated [scan].
   { name: 'disorder', validate: validateDisorderSection, resolve: (spec) => resolveDisorder(spec) },

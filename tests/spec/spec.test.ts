@@ -844,7 +844,7 @@ describe('optional sections', () => {
 
   it('are offered, after the core sections, for an unknown section', () => {
     expect(specErrorOf({ ...tree(minimal), unit: {} }).message).toBe(
-      'unit: unknown section (did you mean units?); valid sections: chain, levels, exchange, ising, particles, solve, lattice, units, evolve, scan, spectrum, disorder',
+      'unit: unknown section (did you mean units?); valid sections: chain, levels, exchange, ising, particles, solve, lattice, units, evolve, scan, spectrum, thermal, disorder',
     );
   });
 });
