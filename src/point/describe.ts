@@ -35,7 +35,9 @@ export function describePlan(plan: PointPlan, limit: number): string {
       `symmetries       ${used.length > 0 ? used.join(', ') + ` (checked on the operator; solved sector by sector${howMany})` : 'none found'}`,
     );
     // which mirrors, rotations or automorphisms were kept, left unused or broken
-    const point = plan.symmetries.find((c) => (c.name === 'point_group' || c.name === 'automorphism') && c.present);
+    const point = plan.symmetries.find(
+      (c) => (c.name === 'point_group' || c.name === 'automorphism') && plan.used?.[c.name],
+    );
     if (point) lines.splice(4, 0, `  ${point.name}: ${point.detail}`);
   }
   for (const [part, bytes] of Object.entries(plan.memory.parts))
