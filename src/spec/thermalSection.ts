@@ -2,8 +2,10 @@
 //
 //   key                        default     meaning
 //   -------------------------  ----------  -----------------------------------------------------------
-//   thermal.temperatures       required    list of temperatures > 0, or { from, to, steps, spacing }
-//                                          (steps values, ends included; spacing "linear" or "log")
+//   thermal.temperatures       (one of     list of temperatures > 0, or { from, to, steps, spacing }
+//                               the two)   (steps values, ends included; spacing "linear" or "log")
+//   thermal.entropies                      list of entropies per particle (k_B = 1): each is turned
+//                                          into the temperature that gives it (root of S(T)/Np = s)
 //   thermal.temperature_unit   "model"     "model" (k_B T in the energy unit), "nK", "kHz" (k_B T / h);
 //                                          "nK" and "kHz" need [units] for the energy scale
 //   thermal.method             "auto"      "auto", "exact", "lanczos"
@@ -39,8 +41,12 @@ export type TemperatureUnit = 'model' | 'nK' | 'kHz';
 export type ThermalMethod = 'auto' | 'exact' | 'lanczos';
 
 export interface ThermalSection {
-  /** As the user wrote them, in `unit`. */
+  /** As the user wrote them, in `unit` (empty when `entropies` is given: found at run time). */
   temperatures: number[];
+  /** Entropies per particle to find temperatures for, or null. */
+  entropies: number[] | null;
+  /** Temperature in `unit` per model temperature (1 for "model"; set by the resolver). */
+  unitPerModel: number;
   unit: TemperatureUnit;
   /** k_B T in the model's energy unit (filled by the resolver; equal to `temperatures` for "model"). */
   modelTemperatures: number[];
@@ -50,7 +56,7 @@ export interface ThermalSection {
   seed: number;
 }
 
-const KEYS = ['temperatures', 'temperature_unit', 'method', 'vectors', 'steps', 'seed'] as const;
+const KEYS = ['temperatures', 'entropies', 'temperature_unit', 'method', 'vectors', 'steps', 'seed'] as const;
 
 function tidy(x: number): number {
   return Number(x.toPrecision(15));
@@ -63,7 +69,8 @@ function positiveTemperature(value: unknown, path: string): number {
 }
 
 function validateTemperatures(value: unknown, path: string): number[] {
-  if (value === undefined) throw new SpecError(path, 'required key is missing (a list, or { from, to, steps })');
+  if (value === undefined)
+    throw new SpecError(path, 'required key is missing (a list, or { from, to, steps }; or give entropies instead)');
   if (Array.isArray(value)) {
     if (value.length === 0) throw new SpecError(path, 'expected at least one temperature');
     if (value.length > MAX_TEMPERATURES)
@@ -102,7 +109,26 @@ function validateTemperatures(value: unknown, path: string): number[] {
 export function validateThermalSection(raw: unknown, keyPath: string): ThermalSection {
   const value = expectTable(raw, keyPath);
   rejectUnknownKeys(value, keyPath, KEYS);
-  const temperatures = validateTemperatures(value.temperatures, `${keyPath}.temperatures`);
+  let temperatures: number[] = [];
+  let entropies: number[] | null = null;
+  if (value.entropies !== undefined) {
+    if (value.temperatures !== undefined)
+      throw new SpecError(`${keyPath}.entropies`, 'give either temperatures or entropies, not both');
+    const list = value.entropies;
+    if (!Array.isArray(list) || list.length === 0)
+      throw new SpecError(
+        `${keyPath}.entropies`,
+        `expected a non-empty list of entropies per particle, got ${describeValue(list)}`,
+      );
+    if (list.length > MAX_TEMPERATURES)
+      throw new SpecError(`${keyPath}.entropies`, `at most ${MAX_TEMPERATURES} entropies, got ${list.length}`);
+    entropies = list.map((v, i) => {
+      const x = finiteNumber(v, `${keyPath}.entropies[${i}]`);
+      if (x <= 0)
+        throw new SpecError(`${keyPath}.entropies[${i}]`, `an entropy per particle must be greater than 0, got ${x}`);
+      return x;
+    });
+  } else temperatures = validateTemperatures(value.temperatures, `${keyPath}.temperatures`);
   const unit = oneOf(orDefault(value.temperature_unit, 'model'), `${keyPath}.temperature_unit`, [
     'model',
     'nK',
@@ -115,7 +141,17 @@ export function validateThermalSection(raw: unknown, keyPath: string): ThermalSe
   if (steps > 10_000) throw new SpecError(`${keyPath}.steps`, `at most 10000, got ${steps}`);
   if (steps < 2) throw new SpecError(`${keyPath}.steps`, `expected at least 2, got ${describeValue(value.steps)}`);
   const seed = nonNegativeInteger(orDefault(value.seed, 1), `${keyPath}.seed`);
-  return { temperatures, unit, modelTemperatures: temperatures.slice(), method, vectors, steps, seed };
+  return {
+    temperatures,
+    entropies,
+    unitPerModel: 1,
+    unit,
+    modelTemperatures: temperatures.slice(),
+    method,
+    vectors,
+    steps,
+    seed,
+  };
 }
 
 /** Turns the temperatures into model units once [units] has fixed the energy scale. */
@@ -132,8 +168,9 @@ export function resolveThermalSection(spec: Spec): void {
       `"${section.unit}" needs a [units] section to know the energy scale`,
     );
   // k_B T / h in Hz, then in units of the model's energy unit (h * energyUnitHz)
-  const hz = (t: number) => (section.unit === 'nK' ? t * 1e-9 * BOLTZMANN_OVER_PLANCK_HZ_PER_K : t * 1e3);
-  section.modelTemperatures = section.temperatures.map((t) => hz(t) / units.energyUnitHz);
+  const hzPerUnit = section.unit === 'nK' ? 1e-9 * BOLTZMANN_OVER_PLANCK_HZ_PER_K : 1e3;
+  section.unitPerModel = units.energyUnitHz / hzPerUnit;
+  section.modelTemperatures = section.temperatures.map((t) => (t * hzPerUnit) / units.energyUnitHz);
 }
 
 /** The spec's [thermal] section, or null. */

@@ -22,7 +22,7 @@ export function describeThermalPlan(plan: ThermalPlan): string {
       : `finite-temperature Lanczos (${s.vectors} random vectors per block, ${s.steps} steps, seed ${s.seed}; ${blocks} ${blocks === 1 ? 'block' : 'blocks'})`;
   return [
     `thermal: ${method}${why}`,
-    `thermal: ${s.temperatures.length} temperatures (${s.unit}), memory estimate ${formatBytes(plan.memory.totalBytes)}, about ${secondsMinutesHours(plan.seconds)} on one core (rough)`,
+    `thermal: ${s.entropies ? `${s.entropies.length} entropies per particle (temperatures found by root finding on S(T))` : `${s.temperatures.length} temperatures (${s.unit})`}, memory estimate ${formatBytes(plan.memory.totalBytes)}, about ${secondsMinutesHours(plan.seconds)} on one core (rough)`,
   ].join('\n');
 }
 
@@ -33,8 +33,18 @@ function cell(value: number, error: number | undefined): string {
 /** The readable table: one line per temperature. */
 export function describeThermal(result: ThermalResult): string {
   const unit = result.temperature_unit === 'model' ? '' : ` (${result.temperature_unit})`;
-  const header = [`T${unit}`, 'energy', 'specific heat', 'entropy', 'free energy', 'string width'];
+  const targets = result.rows.some((r) => r.target_entropy !== undefined);
+  const header = [
+    ...(targets ? ['S/particle'] : []),
+    `T${unit}`,
+    'energy',
+    'specific heat',
+    'entropy',
+    'free energy',
+    'string width',
+  ];
   const rows = result.rows.map((r) => [
+    ...(targets ? [fmt(r.target_entropy, 6)] : []),
     fmt(r.temperature, 6),
     ...SCALARS.map((k) => cell(r[k], r.errors?.[k])),
     typeof r.observables.string_width === 'number'
@@ -59,7 +69,8 @@ const PER_SITE = ['level_mean', 'spread', 'density'] as const;
 
 function csvColumns(row: ThermalRow): { header: string[]; values: (r: ThermalRow) => unknown[] } {
   const errors = row.errors !== null;
-  const header = ['temperature', 'temperature_model', ...SCALARS];
+  const target = row.target_entropy !== undefined;
+  const header = ['temperature', 'temperature_model', ...(target ? ['target_entropy'] : []), ...SCALARS];
   if (errors) header.push(...SCALARS.map((k) => `${k}_error`));
   const hasWidth = typeof row.observables.string_width === 'number';
   if (hasWidth) header.push('string_width', ...(errors ? ['string_width_error'] : []));
@@ -72,7 +83,12 @@ function csvColumns(row: ThermalRow): { header: string[]; values: (r: ThermalRow
   return {
     header,
     values: (r) => {
-      const out: unknown[] = [r.temperature, r.temperature_model, ...SCALARS.map((k) => r[k])];
+      const out: unknown[] = [
+        r.temperature,
+        r.temperature_model,
+        ...(target ? [r.target_entropy] : []),
+        ...SCALARS.map((k) => r[k]),
+      ];
       if (errors) out.push(...SCALARS.map((k) => r.errors?.[k] ?? null));
       if (hasWidth)
         out.push(r.observables.string_width, ...(errors ? [r.errors?.observables.string_width ?? null] : []));

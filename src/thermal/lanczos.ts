@@ -203,6 +203,12 @@ export interface LanczosKnobs {
   lowStates?: number;
 }
 
+/** Every level the estimate holds, E - E0 with its weight in the trace averaged over rounds (for S(T) at any T). */
+export interface LanczosSpectrum {
+  shifted: number[];
+  weights: number[];
+}
+
 function setUpBlocks(
   model: Model,
   basis: Basis,
@@ -314,6 +320,7 @@ export function lanczosThermal(
   correlations: CorrelationRequest,
   tolerance = 1e-10,
   knobs: LanczosKnobs = {},
+  spectrum: LanczosSpectrum | null = null,
 ): { groundEnergy: number; rows: LanczosRow[] } {
   const blocks = setUpBlocks(model, basis, sectors, tolerance, knobs);
   let e0 = Infinity;
@@ -338,6 +345,11 @@ export function lanczosThermal(
       for (let a = 0; a < d; a++) amp[a] = pairWeight(v, v, a, b.isComplex);
       return amp;
     });
+    if (spectrum)
+      b.values.forEach((e) => {
+        spectrum.shifted.push(e - e0);
+        spectrum.weights.push(b.weight);
+      });
     const perState = new Float64Array(d);
     for (let t = 0; t < T; t++) {
       perState.fill(0);
@@ -373,7 +385,7 @@ export function lanczosThermal(
     const acc = pinned ? new Accumulators(T, basis.dim) : null;
     stochastic.forEach((b) => {
       const index = blocks.indexOf(b);
-      randomRun(b, index, round, section, e0, temps, tr, acc);
+      randomRun(b, index, round, section, e0, temps, tr, acc, spectrum, roundCount);
     });
     if (pinned && acc && acc.byGroup.size > 0) {
       for (let t = 0; t < T; t++) {
@@ -471,6 +483,8 @@ function randomRun(
   temps: number[],
   tr: RoundTraces,
   acc: Accumulators | null,
+  spectrum: LanczosSpectrum | null,
+  roundCount: number,
 ): void {
   const { op, isComplex, length } = b;
   const d = op.dim;
@@ -519,6 +533,11 @@ function randomRun(
   const { values, vectors } = symmetricEigen(tri, M, true);
   const U = vectors!; // U[j * M + m]: component m of Ritz vector j
   const scale = b.weight * rNorm * rNorm;
+  if (spectrum)
+    for (let j = 0; j < M; j++) {
+      spectrum.shifted.push(values[j] - e0);
+      spectrum.weights.push((scale * U[j * M] * U[j * M]) / roundCount);
+    }
   const coef = new Float64Array(M);
   for (let t = 0; t < T; t++) {
     coef.fill(0);

@@ -14,9 +14,9 @@ import type { Spec } from '../spec/spec.js';
 import { thermalSectionOf, type TemperatureUnit, type ThermalSection } from '../spec/thermalSection.js';
 import { planSectors, translationSizes, type SectorPlan, type SymmetryName } from '../symmetry/group.js';
 import { sectorSizes } from '../symmetry/sectorSizes.js';
-import { diagonalizeBlocks, exactThermalState, lowestEnergy } from './exact.js';
-import { lanczosThermal, type LanczosKnobs } from './lanczos.js';
-import type { Thermodynamics } from './thermodynamics.js';
+import { diagonalizeBlocks, exactThermalState, levelsOf, lowestEnergy } from './exact.js';
+import { lanczosThermal, type LanczosKnobs, type LanczosSpectrum } from './lanczos.js';
+import { temperaturesForEntropies, type Thermodynamics } from './thermodynamics.js';
 
 /**
  * The exact method's limit: the largest block (a symmetry sector, or the whole space) it
@@ -85,7 +85,7 @@ export function planThermal(spec: Spec, limits: { maxMemory?: number } = {}): Th
       `"exact" diagonalizes blocks of at most ${EXACT_BLOCK_MAX} (real form); this model's largest is ${largestBlock}: use "lanczos" or "auto"`,
     );
   }
-  const temps = section.modelTemperatures.length;
+  const temps = section.entropies?.length ?? section.modelTemperatures.length;
   const dimension = point.dimension;
   let memory: MemoryEstimate;
   let seconds: number;
@@ -117,7 +117,8 @@ export function planThermal(spec: Spec, limits: { maxMemory?: number } = {}): Th
     };
     memory = { totalBytes: Object.values(parts).reduce((a, b) => a + b, 0), parts };
     const work = blocks.reduce((s, b) => s + b.realSize * (point.nonzeros ? point.nonzeros / dimension : 20), 0);
-    seconds = LANCZOS_SECONDS_PER_ELEMENT * vectors * steps * work * 2;
+    // with entropies, a first pass finds the temperatures
+    seconds = LANCZOS_SECONDS_PER_ELEMENT * vectors * steps * work * 2 * (section.entropies ? 2 : 1);
   }
   return {
     method,
@@ -133,6 +134,8 @@ export function planThermal(spec: Spec, limits: { maxMemory?: number } = {}): Th
 }
 
 export interface ThermalRow extends Thermodynamics {
+  /** With `entropies`: the entropy per particle asked for, whose temperature this row is. */
+  target_entropy?: number;
   /** In the section's unit. */
   temperature: number;
   /** k_B T in the model's energy unit. */
@@ -167,12 +170,40 @@ export function runThermal(spec: Spec, plan: ThermalPlan = planThermal(spec), kn
   const basis: Basis = buildBasis(model);
   const correlations = correlationRequestOf(spec, model);
   const sectors = plan.blocks[0].sector === null ? null : plan.blocks.map((b) => b.sector as SectorPlan);
-  const temps = section.modelTemperatures;
+  let temps = section.modelTemperatures;
+  const targets = section.entropies;
+  const particles = model.particleNumber;
+  // With entropies, the temperatures are the roots of S(T)/Np = s on the method's own spectrum.
+  const solveTargets = (shifted: ArrayLike<number>, weights: ArrayLike<number>) => {
+    const found = temperaturesForEntropies(
+      shifted,
+      weights,
+      targets!.map((s) => s * particles),
+    );
+    found.temperatures.forEach((t, i) => {
+      if (t === null)
+        throw new SpecError(
+          `thermal.entropies[${i}]`,
+          `no temperature gives ${targets![i]} per particle: this model's entropy per particle lies between ${(found.lowest / particles).toPrecision(6)} (T -> 0) and ${(found.highest / particles).toPrecision(6)} (T -> infinity)`,
+        );
+    });
+    return found.temperatures as number[];
+  };
+  const unitOf = (t: number, i: number) => (targets ? t * section.unitPerModel : section.temperatures[i]);
+  const targetOf = (i: number) => (targets ? { target_entropy: targets[i] } : {});
   if (plan.method === 'exact') {
     const blocks = diagonalizeBlocks(model, basis, sectors);
+    if (targets) {
+      const { energies, weights } = levelsOf(blocks);
+      const e0 = lowestEnergy(blocks);
+      temps = solveTargets(
+        energies.map((e) => e - e0),
+        weights,
+      );
+    }
     const rows: ThermalRow[] = temps.map((t, i) => {
       const state = exactThermalState(blocks, basis, t, correlations, model.chainPeriodic);
-      return { temperature: section.temperatures[i], temperature_model: t, ...state, errors: null };
+      return { temperature: unitOf(t, i), temperature_model: t, ...targetOf(i), ...state, errors: null };
     });
     return {
       method: 'exact',
@@ -186,6 +217,12 @@ export function runThermal(spec: Spec, plan: ThermalPlan = planThermal(spec), kn
       seconds: (performance.now() - started) / 1000,
     };
   }
+  if (targets) {
+    // a first pass for the spectrum (the same seeds give the same vectors in the second)
+    const spectrum: LanczosSpectrum = { shifted: [], weights: [] };
+    lanczosThermal(model, basis, sectors, [], section, correlations, 1e-10, knobs, spectrum);
+    temps = solveTargets(spectrum.shifted, spectrum.weights);
+  }
   const out = lanczosThermal(model, basis, sectors, temps, section, correlations, 1e-10, knobs);
   return {
     method: 'lanczos',
@@ -195,7 +232,12 @@ export function runThermal(spec: Spec, plan: ThermalPlan = planThermal(spec), kn
     sectors: plan.blocks.length,
     symmetries: plan.symmetries,
     lanczos: { vectors: section.vectors, steps: section.steps, seed: section.seed },
-    rows: out.rows.map((r, i) => ({ temperature: section.temperatures[i], temperature_model: temps[i], ...r })),
+    rows: out.rows.map((r, i) => ({
+      temperature: unitOf(temps[i], i),
+      temperature_model: temps[i],
+      ...targetOf(i),
+      ...r,
+    })),
     seconds: (performance.now() - started) / 1000,
   };
 }

@@ -61,3 +61,50 @@ export function thermodynamicsOf(
     free_energy: e0 - temperature * lnZshifted,
   };
 }
+
+/** S(T) = ln z + <E - E0>/T of levels at `shifted` = E_k - E0 >= 0 with weights x_k >= 0. */
+export function entropyAt(shifted: ArrayLike<number>, weights: ArrayLike<number>, temperature: number): number {
+  let z = 0;
+  let e1 = 0;
+  for (let k = 0; k < shifted.length; k++) {
+    const x = weights[k] * Math.exp(-shifted[k] / temperature);
+    z += x;
+    e1 += x * shifted[k];
+  }
+  return Math.log(z) + e1 / z / temperature;
+}
+
+/**
+ * The temperature at which S(T) equals each target, by bisection on ln T: S is increasing in T
+ * (dS/dT = C/T >= 0 for any positive weights), from ln(weight of the lowest level) at T -> 0 to
+ * ln(sum of weights) at T -> infinity. Returns null for a target outside that range (with the range).
+ */
+export function temperaturesForEntropies(
+  shifted: ArrayLike<number>,
+  weights: ArrayLike<number>,
+  targets: number[],
+): { temperatures: (number | null)[]; lowest: number; highest: number } {
+  let scale = 0;
+  let total = 0;
+  for (let k = 0; k < shifted.length; k++) {
+    scale = Math.max(scale, shifted[k]);
+    total += weights[k];
+  }
+  if (scale === 0) scale = 1;
+  const lo0 = Math.log(1e-6 * scale);
+  const hi0 = Math.log(1e8 * scale);
+  const lowest = entropyAt(shifted, weights, Math.exp(lo0));
+  const highest = entropyAt(shifted, weights, Math.exp(hi0));
+  const temperatures = targets.map((s) => {
+    if (!(s > lowest && s < highest)) return null;
+    let lo = lo0;
+    let hi = hi0;
+    for (let it = 0; it < 200 && hi - lo > 1e-14; it++) {
+      const mid = 0.5 * (lo + hi);
+      if (entropyAt(shifted, weights, Math.exp(mid)) < s) lo = mid;
+      else hi = mid;
+    }
+    return Math.exp(0.5 * (lo + hi));
+  });
+  return { temperatures, lowest, highest: Math.min(highest, Math.log(total)) };
+}

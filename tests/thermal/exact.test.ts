@@ -333,3 +333,36 @@ describe('high-temperature expansion', () => {
     });
   }
 });
+
+describe('entropies per particle: the temperature that gives each', () => {
+  // Free two-level molecules, h = -J sx: levels -J, +J, so s(T) = ln(2 cosh(J/T)) - (J/T) tanh(J/T)
+  // per molecule (closed form, common practice); it runs from 0 to ln 2.
+  const J = 0.8;
+  const perMolecule = (T: number) => Math.log(2 * Math.cosh(J / T)) - (J / T) * Math.tanh(J / T);
+  const raw = { chain: { sites: 4 }, levels: { count: 2, tunnelling: J } };
+  it('exact: s(T) at the temperatures found equals the targets', () => {
+    const targets = [0.05, 0.3, 0.6];
+    const spec = validateSpec({ ...raw, thermal: { entropies: targets, method: 'exact' } });
+    const result = runThermal(spec, planThermal(spec));
+    result.rows.forEach((row, i) => {
+      expect(row.target_entropy).toBe(targets[i]);
+      expect(perMolecule(row.temperature_model)).toBeCloseTo(targets[i], 9);
+      expect(row.entropy / 4).toBeCloseTo(targets[i], 9);
+    });
+  });
+  it('Lanczos: the estimate of S at the temperature found equals the target', () => {
+    const spec = validateSpec({ ...raw, thermal: { entropies: [0.3], method: 'lanczos', vectors: 6 } });
+    const row = runThermal(spec, planThermal(spec), { denseBlock: 0, lowStates: 1 }).rows[0];
+    expect(row.entropy / 4).toBeCloseTo(0.3, 8);
+    // and the temperature is the exact one within a few error bars of the entropy (dS/dT = C/T)
+    const exactT = runThermal(validateSpec({ ...raw, thermal: { entropies: [0.3], method: 'exact' } })).rows[0];
+    const slope = row.specific_heat / row.temperature_model;
+    expect(Math.abs(row.temperature_model - exactT.temperature_model)).toBeLessThan(
+      (5 * row.errors!.entropy) / slope + 1e-9,
+    );
+  });
+  it('an entropy out of reach names its key and the range', () => {
+    const spec = validateSpec({ ...raw, thermal: { entropies: [0.3, 0.8] } });
+    expect(() => runThermal(spec)).toThrow(/thermal\.entropies\[1\].*0\.693147/);
+  });
+});

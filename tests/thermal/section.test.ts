@@ -50,5 +50,8 @@ describe('[thermal]', () => {
     expect(keyOf(() => section({ temperatures: [1], seed: -1 }))).toBe('thermal.seed');
     expect(keyOf(() => section({ temperatures: [1], temperature: 3 }))).toBe('thermal.temperature');
     expect(keyOf(() => section({ temperatures: [1], temperature_unit: 'nK' }))).toBe('thermal.temperature_unit');
+    expect(keyOf(() => section({ temperatures: [1], entropies: [0.1] }))).toBe('thermal.entropies');
+    expect(keyOf(() => section({ entropies: [] }))).toBe('thermal.entropies');
+    expect(keyOf(() => section({ entropies: [0.1, 0] }))).toBe('thermal.entropies[1]');
   });
 });
