@@ -8,15 +8,9 @@
 
 import type { PinnedBasis } from '../basis/basis.js';
 import type { Model } from '../model/model.js';
-import {
-  IndexActions,
-  latticeTranslations,
-  planSectors,
-  type SectorLabel,
-  type SymmetryName,
-  type TranslationGroup,
-} from '../symmetry/group.js';
-import { OrbitMap, SectorBasis, type GroupUse } from '../symmetry/sectorBasis.js';
+import { planSectors, type SectorLabel, type SymmetryName } from '../symmetry/group.js';
+import { SectorBasis, type OrbitMap } from '../symmetry/sectorBasis.js';
+import { OrbitMaps } from '../symmetry/sectorSolve.js';
 
 export interface SectorGroup {
   label: SectorLabel;
@@ -49,24 +43,9 @@ export function splitIntoSectors(
   const labels = planSectors(used, model).flatMap((plan) => [plan.label, ...plan.copies]);
   // The charge of each full-space state is cheap to read: sectors of charges without weight are skipped.
   const chargeWeight = used.charge ? chargeWeights(basis, vectors) : null;
-  const t = model.geometry.isChain ? null : latticeTranslations(model.geometry);
-  const lattice: TranslationGroup | null = typeof t === 'string' ? null : t;
-  const actions = new IndexActions(basis);
-  const maps = new Map<string, OrbitMap>();
-  const mapFor = (label: SectorLabel): OrbitMap => {
-    const g: GroupUse = {
-      translation: label.momentum !== null,
-      reflection: label.parity !== null,
-      levelFlip: label.level_flip !== null,
-    };
-    const key = `${g.translation}${g.reflection}${g.levelFlip}`;
-    let m = maps.get(key);
-    if (!m) {
-      m = new OrbitMap(basis, g, actions, false, lattice);
-      maps.set(key, m);
-    }
-    return m;
-  };
+  // The same orbit maps as the sector solve: translations, reflection, level flip and point group.
+  const maps = new OrbitMaps(model, basis, false);
+  const mapFor = (label: SectorLabel): OrbitMap => maps.for(label);
   const norms = vectors.map((v) => {
     let n = 0;
     for (let k = 0; k < v.length; k++) n += v[k] * v[k];

@@ -298,7 +298,7 @@ function canMatter(energy: number, bounds: { ground: number; ceiling: number }, 
 }
 
 /** The orbit maps of the groups the sectors use, built once (shared between threads when asked). */
-class OrbitMaps {
+export class OrbitMaps {
   private readonly maps = new Map<string, OrbitMap>();
   private actions: IndexActions | null = null;
   private readonly lattice: TranslationGroup | null;
