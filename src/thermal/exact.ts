@@ -14,8 +14,9 @@ import type { Model } from '../model/model.js';
 import { buildOperator } from '../operator/build.js';
 import { denseEigen } from '../solver/eigensolver.js';
 import { buildSectorOperator } from '../symmetry/sectorOperator.js';
-import { OrbitMap, SectorBasis } from '../symmetry/sectorBasis.js';
-import { latticeTranslations, type SectorPlan } from '../symmetry/group.js';
+import { SectorBasis } from '../symmetry/sectorBasis.js';
+import type { SectorPlan } from '../symmetry/group.js';
+import { OrbitMaps } from '../symmetry/sectorSolve.js';
 import { pinnedObservables, type CorrelationRequest, type Observables } from '../observables/pinned.js';
 import { itinerantObservables } from '../observables/itinerant.js';
 import { boltzmannFactors, thermodynamicsOf, type Thermodynamics } from './thermodynamics.js';
@@ -41,21 +42,10 @@ export function diagonalizeBlocks(model: Model, basis: Basis, sectors: SectorPla
     const { values, vectors } = denseEigen(op);
     return [{ weight: 1, values, vectors, isComplex: op.isComplex, sector: null }];
   }
-  const maps = new Map<string, OrbitMap>();
-  const t = model.geometry.isChain ? null : latticeTranslations(model.geometry);
-  const lattice = typeof t === 'string' ? null : t;
+  // The sector solve's orbit maps: translations, reflection, level flip and point group.
+  const maps = new OrbitMaps(model, basis, false);
   return sectors.map((plan) => {
-    const group = {
-      translation: plan.label.momentum !== null,
-      reflection: plan.label.parity !== null,
-      levelFlip: plan.label.level_flip !== null,
-    };
-    const key = `${group.translation}${group.reflection}${group.levelFlip}`;
-    let orbits = maps.get(key);
-    if (!orbits) {
-      orbits = new OrbitMap(basis, group, undefined, false, lattice);
-      maps.set(key, orbits);
-    }
+    const orbits = maps.for(plan.label);
     const sector = new SectorBasis(orbits, plan.label);
     if (sector.dim === 0) return { weight: 0, values: new Float64Array(0), vectors: [], isComplex: false, sector };
     const op = buildSectorOperator(model, basis, sector, null);

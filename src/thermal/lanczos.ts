@@ -25,8 +25,9 @@ import { buildOperator } from '../operator/build.js';
 import { denseEigen, lowestEigenpairs } from '../solver/eigensolver.js';
 import { symmetricEigen } from '../linalg/symmetricEigen.js';
 import { buildSectorOperator } from '../symmetry/sectorOperator.js';
-import { OrbitMap, SectorBasis } from '../symmetry/sectorBasis.js';
-import { latticeTranslations, type SectorPlan } from '../symmetry/group.js';
+import { SectorBasis, type OrbitMap } from '../symmetry/sectorBasis.js';
+import type { SectorPlan } from '../symmetry/group.js';
+import { OrbitMaps } from '../symmetry/sectorSolve.js';
 import {
   levelStructureFactor,
   pinnedObservables,
@@ -244,22 +245,15 @@ function setUpBlocks(
     };
   };
   if (sectors === null || basis.kind !== 'pinned') return [exactOf(buildOperator(model, basis, null), 1, null, 'full')];
-  const maps = new Map<string, OrbitMap>();
-  const t = model.geometry.isChain ? null : latticeTranslations(model.geometry);
-  const lattice = typeof t === 'string' ? null : t;
+  // The sector solve's orbit maps (translations, reflection, level flip, point group); blocks that
+  // share a map share its accumulators, keyed by the map.
+  const maps = new OrbitMaps(model, basis, false);
+  const keys = new Map<OrbitMap, string>();
   const out: BlockSetup[] = [];
   for (const plan of sectors) {
-    const group = {
-      translation: plan.label.momentum !== null,
-      reflection: plan.label.parity !== null,
-      levelFlip: plan.label.level_flip !== null,
-    };
-    const key = `${group.translation}${group.reflection}${group.levelFlip}`;
-    let orbits = maps.get(key);
-    if (!orbits) {
-      orbits = new OrbitMap(basis, group, undefined, false, lattice);
-      maps.set(key, orbits);
-    }
+    const orbits = maps.for(plan.label);
+    if (!keys.has(orbits)) keys.set(orbits, `map${keys.size}`);
+    const key = keys.get(orbits)!;
     const sector = new SectorBasis(orbits, plan.label);
     if (sector.dim === 0) continue;
     out.push(exactOf(buildSectorOperator(model, basis, sector, null), 1 + plan.copies.length, sector, key));

@@ -366,3 +366,42 @@ describe('entropies per particle: the temperature that gives each', () => {
     expect(() => runThermal(spec)).toThrow(/thermal\.entropies\[1\].*0\.693147/);
   });
 });
+
+describe('point-group and automorphism sectors', () => {
+  // Sectors of the lattice's mirrors (and of a tweezer ring's rotations) must give the same Gibbs
+  // state as the whole space, itself checked above against ml-matrix's dense decomposition.
+  const geometries: [string, Record<string, unknown>][] = [
+    ['open 3x3 square, field along z', { shape: 'square', size: [3, 3] }],
+    [
+      'ring of 6 tweezers',
+      {
+        shape: 'custom',
+        positions: Array.from({ length: 6 }, (_, k) => [Math.cos((Math.PI * k) / 3), Math.sin((Math.PI * k) / 3)]),
+      },
+    ],
+  ];
+  for (const [name, lattice] of geometries)
+    it(name, () => {
+      const raw = (symmetries: string) =>
+        validateSpec({
+          lattice,
+          levels: { count: 2, tunnelling: 0.3, detuning: [0, 0.2] },
+          exchange: { strength: 1, range: 'dipolar' },
+          ising: { strength: 0.4, moments: [0.5, -0.5] },
+          solve: { symmetries },
+          thermal: { temperatures: [0.3, 1, 4], method: 'exact' },
+        });
+      const withGroup = runThermal(raw('auto'));
+      const whole = runThermal(raw('none'));
+      expect(withGroup.symmetries.some((s) => s === 'point_group' || s === 'automorphism')).toBe(true);
+      withGroup.rows.forEach((row, t) => {
+        const ref = whole.rows[t];
+        for (const key of ['energy', 'entropy', 'specific_heat', 'free_energy'] as const)
+          expect(Math.abs(row[key] - ref[key])).toBeLessThan(1e-9);
+        expect(Math.abs(row.observables.string_width! - ref.observables.string_width!)).toBeLessThan(1e-9);
+        row.observables.level_mean!.forEach((v, i) =>
+          expect(Math.abs(v - ref.observables.level_mean![i])).toBeLessThan(1e-9),
+        );
+      });
+    });
+});
