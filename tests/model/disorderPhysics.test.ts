@@ -2,7 +2,7 @@
 //
 // The SSH ladder: one molecule whose levels are joined by alternating tunnellings J1 < J2, weak links
 // at both ends (Su, Schrieffer and Heeger, Phys. Rev. Lett. 42, 1698 (1979); Asbóth, Oroszlány and
-// Pályi, A Short Course on Topological Insulators, Lecture Notes in Physics 919, Springer 2016, ch. 1).
+// Pályi, A Short Course on Topological Insulators, Springer 2016, LNP vol. 919, ch. 1).
 // Its two edge modes sit at +-eps with eps = J2 (1 - r^2) r^(N/2), r = J1/J2, for N levels: the
 // hybridization of the two edge states, each of weight (1 - r^2) r^(2k) on the k-th level of its
 // sublattice from its end (the normalized edge state of the semi-infinite chain, Asbóth et al. eq.
