@@ -398,9 +398,9 @@ describe('point-group and automorphism sectors', () => {
         const ref = whole.rows[t];
         for (const key of ['energy', 'entropy', 'specific_heat', 'free_energy'] as const)
           expect(Math.abs(row[key] - ref[key])).toBeLessThan(1e-9);
-        expect(Math.abs(row.observables.string_width! - ref.observables.string_width!)).toBeLessThan(1e-9);
-        row.observables.level_mean!.forEach((v, i) =>
-          expect(Math.abs(v - ref.observables.level_mean![i])).toBeLessThan(1e-9),
+        expect(Math.abs(row.observables.string_width - ref.observables.string_width)).toBeLessThan(1e-9);
+        row.observables.level_mean.forEach((v, i) =>
+          expect(Math.abs(v - ref.observables.level_mean[i])).toBeLessThan(1e-9),
         );
       });
     });
