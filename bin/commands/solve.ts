@@ -17,7 +17,7 @@ import { describeLabEnergies, labEnergies, labUnits } from '../../src/spec/units
 import { describeScan, describeWork } from '../../src/scan/plan.js';
 import { defaultWorkerCount } from '../../src/scan/runner.js';
 import { secondsMinutesHours } from '../../src/format/durations.js';
-import { estimateSpectrumMemory, spectrumSection } from '../../src/spectrum/spectrum.js';
+import { spectrumMemory } from '../../src/spectrum/spectrum.js';
 import { describeSpectrumMemory } from '../../src/spectrum/text.js';
 import { planThermal } from '../../src/thermal/thermal.js';
 import { describeThermalPlan } from '../../src/thermal/describe.js';
@@ -51,10 +51,7 @@ export function registerSolveCommands(program: Command): void {
       if (spec.extra.thermal) console.log(describeThermalPlan(planThermal(spec, { maxMemory: limit })));
       if (opts.saveStates || opts.saveStatesAll) console.log(describeStatesFile(plan, spec.solve.states, opts));
       // With [spectrum], what the continued fraction adds after the ground solve.
-      if (spec.extra.spectrum)
-        console.log(
-          describeSpectrumMemory(estimateSpectrumMemory(plan.model, 1, spectrumSection(spec), plan.used), limit),
-        );
+      if (spec.extra.spectrum) console.log(describeSpectrumMemory(spectrumMemory(spec, plan), limit));
     });
 
   program

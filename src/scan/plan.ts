@@ -19,6 +19,7 @@ import { cutText } from '../spec/validate.js';
 import { REALIZATION_KEY } from '../spec/disorder.js';
 import { runIdentity } from '../runs/runFiles.js';
 import { sectorSizes, type SectorSize } from '../symmetry/sectorSizes.js';
+import { spectrumMemory } from '../spectrum/spectrum.js';
 
 export type { ScanAxis, ScanSection, ScanValue } from '../spec/scanSection.js';
 
@@ -253,14 +254,22 @@ export function describeScan(raw: Record<string, unknown>, spec: Spec, limit: nu
   // The `workers` largest estimates, for what the workers need solving at once.
   const topMemory: number[] = [];
   let seconds = 0;
+  // With [spectrum], a point's peak is the larger of its solve and the spectrum after it.
+  let spectrumPeak: { index: number; bytes: number } | null = null;
+  let heaviest: (Pick & { bytes: number }) | null = null;
   for (const point of eachScanPoint(raw, section)) {
     const plan = planPoint(point.spec, { maxMemory: limit });
     const pick = { index: point.index, params: point.params, plan };
+    const spectrumBytes = point.spec.extra.spectrum ? spectrumMemory(point.spec, plan).totalBytes : 0;
+    if (spectrumBytes > 0 && (!spectrumPeak || spectrumBytes > spectrumPeak.bytes))
+      spectrumPeak = { index: point.index, bytes: spectrumBytes };
+    const bytes = Math.max(plan.memory.totalBytes, spectrumBytes);
     if (!largest || plan.dimension > largest.plan.dimension) largest = pick;
+    if (!heaviest || bytes > heaviest.bytes) heaviest = { ...pick, bytes };
     if (!largestMemory || plan.memory.totalBytes > largestMemory.plan.memory.totalBytes) largestMemory = pick;
-    if (plan.memory.totalBytes > limit) overLimit.push(point.index);
+    if (bytes > limit) overLimit.push(point.index);
     seconds += estimateSeconds(plan, pointSectors(point.spec, plan)) + SECONDS_PER_SCAN_POINT;
-    topMemory.push(plan.memory.totalBytes);
+    topMemory.push(bytes);
     topMemory.sort((a, b) => b - a);
     if (topMemory.length > Math.max(1, workers)) topMemory.pop();
   }
@@ -280,6 +289,12 @@ export function describeScan(raw: Record<string, unknown>, spec: Spec, limit: nu
     `largest point    #${big.index} (${formatParams(big.params)}): basis dimension ${big.plan.dimension}`,
     `memory estimate  ${formatBytes(heavy.plan.memory.totalBytes)} for the largest point (#${heavy.index}), limit ${formatBytes(limit)}`,
   ];
+  if (spectrumPeak) {
+    const most = heaviest as Pick & { bytes: number };
+    lines.push(
+      `spectrum memory  ${formatBytes(spectrumPeak.bytes)} after the ground solve at most (#${spectrumPeak.index}); the point needing most, #${most.index}, takes ${formatBytes(most.bytes)} at its peak`,
+    );
+  }
   const atOnce = topMemory.reduce((s, b) => s + b, 0);
   lines.push(
     `                 up to ${formatBytes(atOnce)} with ${workers} worker${workers === 1 ? '' : 's'} solving at once`,

@@ -18,7 +18,14 @@ import {
   RUNTIME_BASELINE_BYTES,
   type MemoryEstimate,
 } from '../point/memory.js';
-import { planPoint, solvePoint, type PointRecord, type SolvedPoint, type SolveOptions } from '../point/solvePoint.js';
+import {
+  planPoint,
+  solvePoint,
+  type PointPlan,
+  type PointRecord,
+  type SolvedPoint,
+  type SolveOptions,
+} from '../point/solvePoint.js';
 import { latticeOf } from '../spec/lattice.js';
 import type { Spec } from '../spec/spec.js';
 import type { SpectrumSection } from '../spec/spectrumSection.js';
@@ -132,7 +139,7 @@ export function prepareSpectrum(spec: Spec, options: SolveOptions = {}): void {
   buildProbe(section.probe, model, buildBasis(model), latticeOf(spec));
   const limit = options.maxMemory ?? defaultMemoryLimit();
   assertWithinMemory(
-    estimateSpectrumMemory(model, 1, section, planPoint(spec, { maxMemory: limit }).used),
+    spectrumMemory(spec, planPoint(spec, { maxMemory: limit })),
     limit,
     'the spectrum',
     options.memoryLimitName,
@@ -420,6 +427,11 @@ function runPiece(
 function frequencyScale(spec: Spec, section: SpectrumSection): number {
   if (section.frequencyUnit === 'model') return 1;
   return labUnits(spec)!.energyUnitHz / 1e3;
+}
+
+/** The memory the spectrum of `spec` takes after its point's solve (`check`, scans, and before solving). */
+export function spectrumMemory(spec: Spec, plan: PointPlan): MemoryEstimate {
+  return estimateSpectrumMemory(plan.model, 1, spectrumSection(spec), plan.used);
 }
 
 /**

@@ -36,6 +36,23 @@ describe('rungchain spectrum', () => {
     expect(r.stdout).toContain('probed_states');
   });
 
+  it('check of a scan with [spectrum] counts the spectrum after each point (issue 22)', () => {
+    const scan = path.join(folder, 'checked-scan.json');
+    const raw = JSON.parse(fs.readFileSync(spec, 'utf8'));
+    fs.writeFileSync(scan, JSON.stringify({ ...raw, scan: { axis: [{ key: 'levels.detuning', values: [0, 0.5] }] } }));
+    const single = runCli(['check', spec]).stdout.match(/spectrum memory {2}(\S+ \S+)/)![1];
+    const r = runCli(['check', scan]);
+    expect(r.code).toBe(0);
+    // every point has the single spec's size, so the spectrum's peak is the single spec's figure
+    expect(r.stdout).toContain(`spectrum memory  ${single} after the ground solve at most`);
+    // a limit between the solve's estimate and the spectrum's: the points would fail at their spectrum
+    const solveBytes = runCli(['check', scan, '--max-memory', '100GB']).stdout.match(
+      /memory estimate {2}(\S+ \S+)/,
+    )![1];
+    const tight = runCli(['check', scan, '--max-memory', solveBytes.replace(' ', '')]);
+    expect(tight.stdout).toMatch(/2 points exceed the memory limit/);
+  });
+
   it('--json is one object on stdout', () => {
     const r = runCli(['spectrum', spec, '--json']);
     expect(r.code).toBe(0);
