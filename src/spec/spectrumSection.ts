@@ -17,10 +17,17 @@
 //   spectrum.tolerance             1e-6: the curve's largest change from n to 2n levels, relative to its peak
 //   spectrum.max_levels            2000 continued-fraction levels at most
 //   spectrum.lines                 10 strongest lines listed
-//   spectrum.temperature           0 (finite temperature is refused for now)
+//   spectrum.temperature           0: k_B T in temperature_unit; above 0 the Boltzmann-weighted Lehmann sum
+//   spectrum.temperature_unit      "model", "nK" or "kHz" (k_B T / h), as thermal.temperature_unit (needs [units])
+//   spectrum.method                "auto": at T > 0, "exact" (every eigenpair per sector) up to the
+//                                  thermal exact block limit, else "lanczos" (finite-temperature Lanczos)
+//   spectrum.vectors               20 random vectors (Lanczos method at T > 0)
+//   spectrum.steps                 100 Lanczos steps per vector and chain (Lanczos method at T > 0)
+//   spectrum.seed                  1: seed of the random vectors
 
 import { SpecError } from '../errors/errors.js';
 import type { Spec } from './specTypes.js';
+import { modelTemperaturePerUnit } from './temperatureUnits.js';
 import {
   describeValue,
   expectTable,
@@ -66,7 +73,16 @@ export interface SpectrumSection {
   tolerance: number;
   maxLevels: number;
   lines: number;
+  /** In `temperatureUnit`; 0 for the ground state. */
   temperature: number;
+  temperatureUnit: 'model' | 'nK' | 'kHz';
+  /** k_B T in model units (set when the spec is resolved). */
+  modelTemperature: number;
+  method: 'auto' | 'exact' | 'lanczos';
+  vectors: number;
+  /** Lanczos steps per random vector (finite temperature). */
+  thermalSteps: number;
+  seed: number;
 }
 
 /** Most points of the fine grid a Voigt profile's convolution may use (as src/spectrum/ allows). */
@@ -82,6 +98,11 @@ const SECTION_KEYS = [
   'max_levels',
   'lines',
   'temperature',
+  'temperature_unit',
+  'method',
+  'vectors',
+  'steps',
+  'seed',
 ];
 // Momenta may be negative: q and q + 2 pi are the same, but -1 reads better than L - 1.
 const ANY = Number.MAX_SAFE_INTEGER;
@@ -170,11 +191,17 @@ export function validateSpectrumSection(raw: unknown, keyPath: string): Spectrum
     } else lorentzian = positiveNumber(t.broadening, bPath);
   }
   const temperature = nonNegativeNumber(orDefault(t.temperature, 0), `${keyPath}.temperature`);
-  if (temperature !== 0)
-    throw new SpecError(
-      `${keyPath}.temperature`,
-      'finite-temperature spectra are not implemented yet; only 0 (the ground state) is supported',
-    );
+  const temperatureUnit = oneOf(orDefault(t.temperature_unit, 'model'), `${keyPath}.temperature_unit`, [
+    'model',
+    'nK',
+    'kHz',
+  ] as const);
+  const method = oneOf(orDefault(t.method, 'auto'), `${keyPath}.method`, ['auto', 'exact', 'lanczos'] as const);
+  const vectors = positiveInteger(orDefault(t.vectors, 20), `${keyPath}.vectors`);
+  if (vectors > 100_000) throw new SpecError(`${keyPath}.vectors`, `at most 100000, got ${vectors}`);
+  const thermalSteps = integerAtLeast(orDefault(t.steps, 100), `${keyPath}.steps`, 2);
+  if (thermalSteps > 10_000) throw new SpecError(`${keyPath}.steps`, `at most 10000, got ${thermalSteps}`);
+  const seed = nonNegativeInteger(orDefault(t.seed, 1), `${keyPath}.seed`);
   const tolerance = positiveNumber(orDefault(t.tolerance, 1e-6), `${keyPath}.tolerance`);
   return {
     probe,
@@ -188,6 +215,12 @@ export function validateSpectrumSection(raw: unknown, keyPath: string): Spectrum
     maxLevels: integerAtLeast(orDefault(t.max_levels, 2000), `${keyPath}.max_levels`, 2),
     lines: positiveInteger(orDefault(t.lines, 10), `${keyPath}.lines`),
     temperature,
+    temperatureUnit,
+    modelTemperature: temperature,
+    method,
+    vectors,
+    thermalSteps,
+    seed,
   };
 }
 
@@ -206,4 +239,6 @@ export function resolveSpectrumSection(spec: Spec): void {
     throw new SpecError('spectrum.probe.level', `level ${probe.level} does not exist: levels.count is ${N}`);
   if (section.frequencyUnit === 'khz' && spec.extra.units === undefined)
     throw new SpecError('spectrum.frequency_unit', '"khz" needs a [units] section to know the energy scale');
+  section.modelTemperature =
+    section.temperature * modelTemperaturePerUnit(spec, section.temperatureUnit, 'spectrum.temperature_unit');
 }

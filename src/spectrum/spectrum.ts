@@ -4,12 +4,13 @@
 // connected part (1 - P_0) O |psi_k> of each copy. The elastic part |<0|O|0>|^2 = ||P_0 O psi_k||^2
 // (averaged) is reported on its own. The ground state comes from solvePoint, expanded to the full
 // basis when it was found in symmetry sectors; the continued fraction runs on the full space.
+// At spectrum.temperature > 0 the Boltzmann-weighted Lehmann sum replaces it (./thermalSpectrum.ts).
 
-import { buildBasis } from '../basis/basis.js';
+import { buildBasis, type Basis } from '../basis/basis.js';
 import { ConvergenceError, ResourceError, SpecError } from '../errors/errors.js';
 import { buildOperator } from '../operator/build.js';
 import { planFockOperator } from '../operator/fock.js';
-import { defaultProductThreads, ThreadedOperator, withThreads } from '../operator/threaded.js';
+import { defaultProductThreads, withThreads } from '../operator/threaded.js';
 import { VectorArena } from '../simd/arena.js';
 import {
   assertWithinMemory,
@@ -32,26 +33,21 @@ import type { SpectrumSection } from '../spec/spectrumSection.js';
 import { labUnits } from '../spec/units.js';
 import { buildModel, type Model } from '../model/model.js';
 import { basisDimension } from '../basis/basis.js';
-import { applyProbe, buildProbe } from './probe.js';
+import { applyProbe, buildProbe, type Probe } from './probe.js';
 import { splitIntoSectors } from './sectors.js';
+import { runPiece, type Collected, type RunOutcome } from './runs.js';
+import { thermalSpectrum, thermalSpectrumMethod } from './thermalSpectrum.js';
 import { buildSectorOperator } from '../symmetry/sectorOperator.js';
 import type { SectorLabel, SymmetryName } from '../symmetry/group.js';
-import type { HermitianOperator } from '../operator/hermitian.js';
 import {
-  broadenedCurve,
-  chainPoles,
   complexDotInto,
   dotRe,
   FULL_ORTHOGONALIZATION_DOUBLES,
-  LanczosChain,
-  productOn,
   strongestLines,
   weightInside,
   type LineShape,
 } from './continuedFraction.js';
 
-/** Levels of the first curve; each further one doubles them. */
-const FIRST_LEVELS = 32;
 /** A connected weight below this fraction of <O+ O> is rounding of an exact zero: no lines. */
 const ZERO_WEIGHT = 1e-12;
 
@@ -66,12 +62,22 @@ export interface SpectrumResult {
     /** The wave vector q, radians per lattice step, one per lattice direction. */
     q: number[];
   };
+  /** In `temperature_unit`; 0 for the ground state. */
   temperature: number;
+  temperature_unit: 'model' | 'nK' | 'kHz';
+  /** k_B T in model units. */
+  temperature_model: number;
+  /** The continued fraction from the ground level (T = 0), or the finite-temperature method. */
+  method: 'continued_fraction' | 'exact' | 'lanczos';
+  /** Finite-temperature Lanczos only: random vectors, steps per chain, seed. */
+  thermal: { vectors: number; steps: number; seed: number } | null;
   frequency_unit: 'model' | 'khz';
   broadening: { lorentzian: number; gaussian: number };
   frequencies: number[];
   /** A(omega) per frequency unit: integrates to `weight` over the whole axis. */
   intensity: number[];
+  /** One standard error per frequency: the jackknife over random vectors (Lanczos at T > 0), else 0. */
+  intensity_error: number[];
   /**
    * The strongest lines: position (E_n - E_0 in the frequency unit), weight, and the Ritz residual
    * (an eigenvalue of H lies within it of the position; 0 for exact lines).
@@ -80,8 +86,12 @@ export interface SpectrumResult {
   /** The sum rule: <O+ O> - |<0|O|0>|^2, the connected weight the lines carry. */
   weight: number;
   elastic_weight: number;
-  /** <O+ O> in the ground level. */
+  /** <O+ O> in the ground level (at T > 0: in the thermal state). */
   total_weight: number;
+  /** Standard errors of the three weights (Lanczos at T > 0), else 0. */
+  weight_error: number;
+  elastic_weight_error: number;
+  total_weight_error: number;
   /** The sum of every pole's weight (equal to `weight` up to rounding). */
   lines_weight: number;
   /** The part of the broadened curve inside the frequency window [from, to]. */
@@ -159,6 +169,8 @@ export function spectrumOfSolved(
   const limit = options.maxMemory ?? defaultMemoryLimit();
   const record = solved.record;
   const groundSeconds = record.solver.seconds;
+  if (section.modelTemperature > 0)
+    return finiteTemperature(spec, section, model, basis, probe, groundSeconds, limit, options);
   if (!record.solver.converged)
     throw new ConvergenceError(
       `the ground state did not converge to solve.tolerance ${spec.solve.tolerance}: its spectrum would not mean much`,
@@ -289,6 +301,14 @@ export function spectrumOfSolved(
       q: probe.wavevector,
     },
     temperature: 0,
+    temperature_unit: section.temperatureUnit,
+    temperature_model: 0,
+    method: 'continued_fraction',
+    thermal: null,
+    intensity_error: new Array<number>(section.steps).fill(0),
+    weight_error: 0,
+    elastic_weight_error: 0,
+    total_weight_error: 0,
     frequency_unit: section.frequencyUnit,
     broadening: shape,
     frequencies: Array.from(frequencies),
@@ -318,109 +338,105 @@ export function spectrumOfSolved(
   };
 }
 
-/** Every run's poles (on the frequency axis) and the sum of their curves. */
-interface Collected {
-  positions: number[];
-  weights: number[];
-  residuals: number[];
-  curve: Float64Array;
-}
-
-interface RunOutcome {
-  levels: number;
-  check: number;
-  converged: boolean;
-  exact: boolean;
-  full: boolean;
-  products: number;
-}
-
-interface RunSettings {
-  section: SpectrumSection;
-  frequencies: Float64Array;
-  shape: LineShape;
-  e0: number;
-  unitScale: number;
-}
-
-/**
- * One continued fraction from `start` (interleaved complex, of the operator's dimension) carrying
- * `weight`: levels double from FIRST_LEVELS until its curve changes by at most the tolerance
- * relative to the larger of its own peak and the peak of the runs before it (runs of tiny weight do
- * not chase their own rounding), the Krylov space is exhausted, or max_levels is reached. Its poles
- * and curve are added to `collected`.
- */
-function runPiece(
-  op: HermitianOperator,
-  arena: VectorArena | null,
-  start: Float64Array,
-  weight: number,
-  settings: RunSettings,
-  collected: Collected,
-): RunOutcome {
-  const { section, frequencies, shape, e0, unitScale } = settings;
-  const dim = op.dim;
-  const complex = op.isComplex || !imaginaryZero(start);
-  const home = op instanceof ThreadedOperator && op.arena ? op.arena : arena;
-  const allocate = (n: number) => (home ? home.vector(n) : new Float64Array(n));
-  const length = (complex ? 2 : 1) * dim;
-  const full = length * Math.min(section.maxLevels, dim + 1) <= FULL_ORTHOGONALIZATION_DOUBLES;
-  const chain = new LanczosChain(
-    productOn(op, complex, allocate),
-    complex ? start : realPart(start, dim),
-    complex,
-    full,
-    allocate,
+/** The spectrum at spectrum.temperature > 0: the exact Lehmann sum or the finite-temperature Lanczos method. */
+function finiteTemperature(
+  spec: Spec,
+  section: SpectrumSection,
+  model: Model,
+  basis: Basis,
+  probe: Probe,
+  groundSeconds: number,
+  limit: number,
+  options: Pick<SolveOptions, 'memoryLimitName'>,
+): SpectrumResult {
+  const plan = planPoint(spec, { maxMemory: limit });
+  const method = finiteTemperatureMethod(section, plan);
+  assertWithinMemory(spectrumMemory(spec, plan), limit, 'the spectrum', options.memoryLimitName);
+  const started = performance.now();
+  const unitScale = frequencyScale(spec, section);
+  const shape: LineShape = { lorentzian: section.lorentzian, gaussian: section.gaussian };
+  const frequencies = Float64Array.from(
+    { length: section.steps },
+    (_, k) => section.from + ((section.to - section.from) * k) / (section.steps - 1),
   );
-  const polesAt = (levels: number) => {
-    const p = chainPoles(chain, levels, weight);
-    return {
-      positions: Array.from(p.positions, (x) => (x - e0) * unitScale),
-      weights: p.weights,
-      residuals: Array.from(p.residuals, (r) => r * Math.abs(unitScale)),
-    };
-  };
-  const curveAt = (levels: number) => {
-    const p = polesAt(levels);
-    return broadenedCurve(p.positions, p.weights, frequencies, shape);
-  };
-  let before = 0;
-  for (let f = 0; f < collected.curve.length; f++) before = Math.max(before, Math.abs(collected.curve[f]));
-  let levels = Math.min(FIRST_LEVELS, section.maxLevels);
-  chain.extendTo(levels);
-  let curve = curveAt(levels);
-  let check = Infinity;
-  while (!(chain.exhausted && chain.levels <= levels) && levels < section.maxLevels) {
-    const next = Math.min(2 * levels, section.maxLevels);
-    chain.extendTo(next);
-    const nextCurve = curveAt(next);
-    let peak = before;
-    let change = 0;
-    for (let f = 0; f < nextCurve.length; f++) {
-      peak = Math.max(peak, Math.abs(nextCurve[f]));
-      change = Math.max(change, Math.abs(nextCurve[f] - curve[f]));
-    }
-    check = peak > 0 ? change / peak : 0;
-    curve = nextCurve;
-    levels = next;
-    if (check <= section.tolerance) break;
-  }
-  const exact = chain.exhausted && chain.levels <= levels;
-  const poles = polesAt(levels);
-  for (const x of poles.positions) collected.positions.push(x);
-  for (let j = 0; j < poles.weights.length; j++) {
-    collected.weights.push(poles.weights[j]);
-    collected.residuals.push(poles.residuals[j]);
-  }
-  for (let f = 0; f < curve.length; f++) collected.curve[f] += curve[f];
+  const t = thermalSpectrum({
+    model,
+    basis,
+    probe,
+    section,
+    symmetries: basis.kind === 'pinned' ? plan.used : null,
+    method,
+    frequencies,
+    shape,
+    unitScale,
+  });
+  // a loop, not a spread: the exact method may list millions of pairs
+  let scale = 1;
+  for (const x of t.positions) scale = Math.max(scale, Math.abs(x));
+  const zero = ZERO_WEIGHT * Math.max(Math.abs(t.total), Number.MIN_VALUE);
+  const lines = strongestLines(t.positions, t.weights, t.residuals, 1e-8 * scale, section.lines).filter(
+    (l) => l.weight > zero,
+  );
+  const runs = t.runs ?? [];
+  const spectrumSeconds = (performance.now() - started) / 1000;
+  const p = section.probe;
   return {
-    levels: Math.min(chain.levels, levels),
-    check: exact ? 0 : check,
-    converged: exact || check <= section.tolerance,
-    exact,
-    full,
-    products: chain.products,
+    probe: {
+      kind: p.kind,
+      link: p.link,
+      level: p.level,
+      phase: p.phase,
+      sites: p.sites ?? 'all',
+      momentum: p.momentum,
+      q: probe.wavevector,
+    },
+    temperature: section.temperature,
+    temperature_unit: section.temperatureUnit,
+    temperature_model: section.modelTemperature,
+    method: t.method,
+    thermal:
+      t.method === 'lanczos' ? { vectors: section.vectors, steps: section.thermalSteps, seed: section.seed } : null,
+    frequency_unit: section.frequencyUnit,
+    broadening: shape,
+    frequencies: Array.from(frequencies),
+    intensity: Array.from(t.curve),
+    intensity_error: Array.from(t.curveError),
+    lines,
+    weight: t.weight,
+    elastic_weight: t.elastic,
+    total_weight: t.total,
+    weight_error: t.weightError,
+    elastic_weight_error: t.elasticError,
+    total_weight_error: t.totalError,
+    lines_weight: t.linesWeight,
+    window_weight: weightInside(t.positions, t.weights, section.from, section.to, shape),
+    ground_energy: t.groundEnergy,
+    ground_copies: t.groundCopies,
+    ground_copies_complete: true,
+    continued_fraction: {
+      levels: Math.max(0, ...runs.map((r) => r.levels)),
+      check: Math.max(0, ...runs.map((r) => (r.exact ? 0 : r.check))),
+      tolerance: section.tolerance,
+      converged: runs.every((r) => r.converged),
+      exact: t.method === 'exact' || runs.every((r) => r.exact),
+      orthogonalization: 'full',
+      sectors: t.sectors,
+      products: t.products,
+      seconds_per_level: t.products > 0 ? spectrumSeconds / t.products : 0,
+    },
+    dimension: basis.dim,
+    seconds: { ground_state: groundSeconds, spectrum: spectrumSeconds },
   };
+}
+
+/** The finite-temperature method for a point: `auto` by the largest block's real-form size. */
+function finiteTemperatureMethod(section: SpectrumSection, plan: PointPlan): 'exact' | 'lanczos' {
+  const model = plan.model;
+  const largest =
+    plan.used && model.kind === 'pinned'
+      ? largestSector(plan.dimension, model, plan.used).entries
+      : plan.dimension * (model.isComplex ? 2 : 1);
+  return thermalSpectrumMethod(section, largest);
 }
 
 /** Model energies to the output's frequency unit: 1, or the energy unit in kHz. */
@@ -431,7 +447,38 @@ function frequencyScale(spec: Spec, section: SpectrumSection): number {
 
 /** The memory the spectrum of `spec` takes after its point's solve (`check`, scans, and before solving). */
 export function spectrumMemory(spec: Spec, plan: PointPlan): MemoryEstimate {
-  return estimateSpectrumMemory(plan.model, 1, spectrumSection(spec), plan.used);
+  const section = spectrumSection(spec);
+  if (section.modelTemperature > 0) return thermalSpectrumMemory(plan, section, finiteTemperatureMethod(section, plan));
+  return estimateSpectrumMemory(plan.model, 1, section, plan.used);
+}
+
+/**
+ * Peak memory of a finite-temperature spectrum. Exact: every block's eigenvectors (at most the
+ * dimension times the largest block, real form), the largest dense block in the eigensolver, and
+ * the lines (a position and a weight per pair of states, at most dimension times the largest
+ * block). Lanczos: the full-space operator, the two kept chains of complex vectors, the ground copies.
+ */
+function thermalSpectrumMemory(plan: PointPlan, section: SpectrumSection, method: 'exact' | 'lanczos'): MemoryEstimate {
+  const model = plan.model;
+  const dim = plan.dimension;
+  const vector = 16 * dim;
+  const parts: Record<string, number> = { runtime: RUNTIME_BASELINE_BYTES };
+  if (method === 'exact') {
+    const block =
+      plan.used && model.kind === 'pinned'
+        ? largestSector(dim, model, plan.used).entries
+        : dim * (model.isComplex ? 2 : 1);
+    parts.dense_block = 4 * block * block * 8;
+    parts.eigenvectors = dim * block * 8;
+    parts.lines = 2 * 8 * dim * block;
+    parts.probed_states = 2 * vector;
+    if (plan.used) parts.orbit_maps = 2 * dim * 6;
+  } else {
+    parts.operator = model.kind === 'pinned' ? 8 * dim : planFockOperator(model, dim).bytes;
+    parts.lanczos = (2 * Math.min(section.thermalSteps, dim) + 4) * vector;
+    parts.ground_states = 2 * vector;
+  }
+  return { parts, totalBytes: Object.values(parts).reduce((x, y) => x + y, 0) };
 }
 
 /**
@@ -473,16 +520,5 @@ export function estimateSpectrumMemory(
 function toInterleaved(v: Float64Array, dim: number): Float64Array {
   const out = new Float64Array(2 * dim);
   for (let s = 0; s < dim; s++) out[2 * s] = v[s];
-  return out;
-}
-
-function imaginaryZero(v: Float64Array): boolean {
-  for (let k = 1; k < v.length; k += 2) if (v[k] !== 0) return false;
-  return true;
-}
-
-function realPart(v: Float64Array, dim: number): Float64Array {
-  const out = new Float64Array(dim);
-  for (let s = 0; s < dim; s++) out[s] = v[2 * s];
   return out;
 }

@@ -36,10 +36,24 @@ export function spectrumText(s: SpectrumResult): string {
     s.broadening.lorentzian > 0
       ? `Lorentzian, half width ${fmt(s.broadening.lorentzian)}`
       : `Gaussian, half width ${fmt(s.broadening.gaussian)}`;
+  const hot = s.temperature_model > 0;
+  const lanczos = s.method === 'lanczos';
+  // "x +- e" where the Lanczos method gives an error bar
+  const withError = (x: number, e: number) => (lanczos ? `${fmt(x)} +- ${fmtSmall(e)}` : fmt(x));
+  const temperature = hot
+    ? `temperature ${fmt(s.temperature)}${s.temperature_unit === 'model' ? '' : ` ${s.temperature_unit}`} (k_B T = ${fmt(s.temperature_model)} in model units), ${
+        lanczos
+          ? `finite-temperature Lanczos (${plural(s.thermal!.vectors, 'random vector')}, ${plural(s.thermal!.steps, 'step')}, seed ${s.thermal!.seed}; error bars: jackknife over the vectors)`
+          : 'exact (every eigenpair)'
+      }`
+    : 'zero temperature';
+  const weights = hot
+    ? `weight (sum rule <O+ O>_T - elastic) ${withError(s.weight, s.weight_error)}; elastic (pairs within one level, omega = 0) ${withError(s.elastic_weight, s.elastic_weight_error)}; <O+ O>_T ${withError(s.total_weight, s.total_weight_error)}; lines ${fmt(s.lines_weight)}; inside the window ${fmt(s.window_weight)}`
+    : `weight (sum rule <O+ O> - |<0|O|0>|^2) ${fmt(s.weight)}; elastic |<0|O|0>|^2 ${fmt(s.elastic_weight)}; lines ${fmt(s.lines_weight)}; inside the window ${fmt(s.window_weight)}`;
   const out = [
-    `spectrum of the ${describeProbe(s.probe)}, zero temperature`,
+    `spectrum of the ${describeProbe(s.probe)}, ${temperature}`,
     `ground energy ${fmt(s.ground_energy)} (${plural(s.ground_copies, 'copy', 'copies')} averaged${s.ground_copies_complete ? '' : ', maybe not every copy found'}), dimension ${s.dimension}`,
-    `weight (sum rule <O+ O> - |<0|O|0>|^2) ${fmt(s.weight)}; elastic |<0|O|0>|^2 ${fmt(s.elastic_weight)}; lines ${fmt(s.lines_weight)}; inside the window ${fmt(s.window_weight)}`,
+    weights,
     `continued fraction: ${plural(cf.levels, 'level')}, ${cf.exact ? 'exact (Krylov space exhausted)' : `largest change of the curve from half the levels ${fmtSmall(cf.check)} of its peak (tolerance ${fmtSmall(cf.tolerance)})`}${cf.converged ? '' : ', NOT converged'}; ${plural(cf.products, 'product')}, ${fmtSmall(cf.seconds_per_level)} s per level`,
     `run ${cf.sectors ? `in ${plural(cf.sectors.length, 'symmetry sector')} (${cf.sectors.map(sectorText).join('; ')})` : 'on the full space'}, ${cf.orthogonalization === 'full' ? 'fully orthogonalized' : 'three-term recurrence'}`,
     `broadening: ${width} (${unit}); seconds: ground state ${fmt(s.seconds.ground_state, 3)}, spectrum ${fmt(s.seconds.spectrum, 3)}`,
@@ -58,24 +72,30 @@ export function spectrumText(s: SpectrumResult): string {
   out.push('', `curve (frequency in ${unit}, intensity per ${s.frequency_unit === 'khz' ? 'kHz' : 'unit'}):`);
   const peak = Math.max(...s.intensity.map(Math.abs), 0);
   out.push(
-    table(
-      ['frequency', 'intensity'],
-      s.frequencies.map((f, k) => [fmt(f), fmtNoise(s.intensity[k], peak)]),
-    ),
+    lanczos
+      ? table(
+          ['frequency', 'intensity', 'error'],
+          s.frequencies.map((f, k) => [fmt(f), fmtNoise(s.intensity[k], peak), fmtSmall(s.intensity_error[k])]),
+        )
+      : table(
+          ['frequency', 'intensity'],
+          s.frequencies.map((f, k) => [fmt(f), fmtNoise(s.intensity[k], peak)]),
+        ),
   );
   return out.join('\n');
 }
 
-/** Tidy CSV: one row per frequency (frequency, intensity), or one per line (position, weight). */
+/** Tidy CSV: one row per frequency (frequency, intensity, error), or one per line (position, weight, residual). */
 export function spectrumCsv(s: SpectrumResult, what: 'curve' | 'lines'): string {
   if (what === 'lines')
     return csv(
       ['position', 'weight', 'residual'],
       s.lines.map((l) => [l.position, l.weight, l.residual]),
     );
+  // The standard error of each intensity (0 where the method is exact), so every CSV has the same columns.
   return csv(
-    ['frequency', 'intensity'],
-    s.frequencies.map((f, k) => [f, s.intensity[k]]),
+    ['frequency', 'intensity', 'error'],
+    s.frequencies.map((f, k) => [f, s.intensity[k], s.intensity_error[k]]),
   );
 }
 

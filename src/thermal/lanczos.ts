@@ -37,6 +37,7 @@ import {
 import { levelCorrelationBySeparation } from '../observables/separation.js';
 import type { ThermalSection } from '../spec/thermalSection.js';
 import type { Thermodynamics } from './thermodynamics.js';
+import { fillRandom, generator, mix } from './random.js';
 
 /** Exact low states per block (plus the further copies of its lowest level that the solve finds). */
 export const LOW_STATES = 2;
@@ -71,25 +72,6 @@ interface RoundTraces {
   e2: Float64Array;
   /** Per temperature, the linear moments of the observables (null for itinerant kinds). */
   moments: Float64Array[] | null;
-}
-
-/** Seeded generator (mulberry32): reproducible random vectors per block and round. */
-function generator(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
-function mix(seed: number, block: number, round: number): number {
-  let h = (seed * 0x9e3779b1) ^ (block * 0x85ebca6b) ^ (round * 0xc2b2ae35);
-  h = Math.imul(h ^ (h >>> 16), 0x7feb352d);
-  h = Math.imul(h ^ (h >>> 15), 0x846ca68b);
-  return (h ^ (h >>> 16)) >>> 0;
 }
 
 function dot(a: Float64Array, b: Float64Array, isComplex: boolean, out: Float64Array): void {
@@ -485,13 +467,7 @@ function randomRun(
   const T = temps.length;
   const rand = generator(mix(section.seed, blockIndex, round));
   const r = new Float64Array(length);
-  if (isComplex) {
-    for (let a = 0; a < d; a++) {
-      const phase = 2 * Math.PI * rand();
-      r[2 * a] = Math.cos(phase);
-      r[2 * a + 1] = Math.sin(phase);
-    }
-  } else for (let a = 0; a < d; a++) r[a] = rand() < 0.5 ? -1 : 1;
+  fillRandom(r, d, isComplex, rand);
   orthogonalize(r, b.vectors, isComplex);
   const rNorm = norm(r);
   if (rNorm < 1e-12) return;

@@ -40,6 +40,14 @@ describe('[spectrum]', () => {
     expect(s.maxLevels).toBe(2000);
     expect(s.lines).toBe(10);
     expect(s.temperature).toBe(0);
+    expect([s.temperatureUnit, s.modelTemperature, s.method, s.vectors, s.thermalSteps, s.seed]).toEqual([
+      'model',
+      0,
+      'auto',
+      20,
+      100,
+      1,
+    ]);
     const level = validateSpec(withSpectrum({ probe: { level: 2, momentum: -1, sites: [0, 2] } })).extra
       .spectrum as SpectrumSection;
     expect(level.probe).toEqual({ kind: 'level', link: null, level: 2, phase: 0, sites: [0, 2], momentum: -1 });
@@ -75,7 +83,13 @@ describe('[spectrum]', () => {
       [withSpectrum({ broadening: { lorentzian: 1e-6, gaussian: 0.1 } }), 'spectrum.broadening.lorentzian'],
       [withSpectrum({ broadening: { lorentzian: -1 } }), 'spectrum.broadening.lorentzian'],
       [withSpectrum({ broadening: {} }), 'spectrum.broadening'],
-      [withSpectrum({ temperature: 0.5 }), 'spectrum.temperature'],
+      [withSpectrum({ temperature: -0.5 }), 'spectrum.temperature'],
+      [withSpectrum({ temperature: 0.5, temperature_unit: 'K' }), 'spectrum.temperature_unit'],
+      [withSpectrum({ temperature: 0.5, temperature_unit: 'nK' }), 'spectrum.temperature_unit'],
+      [withSpectrum({ method: 'dense' }), 'spectrum.method'],
+      [withSpectrum({ vectors: 0 }), 'spectrum.vectors'],
+      [withSpectrum({ steps: 1 }), 'spectrum.steps'],
+      [withSpectrum({ seed: -1 }), 'spectrum.seed'],
       [withSpectrum({ tolerance: 0 }), 'spectrum.tolerance'],
       [withSpectrum({ max_levels: 1 }), 'spectrum.max_levels'],
       [withSpectrum({ lines: 0 }), 'spectrum.lines'],

@@ -65,15 +65,33 @@ describe('rungchain spectrum', () => {
     expect(out.continued_fraction.converged).toBe(true);
   });
 
-  it('--csv is tidy: frequency,intensity rows, or position,weight,residual with --csv lines', () => {
+  it('--csv is tidy: frequency,intensity,error rows, or position,weight,residual with --csv lines', () => {
     const curve = runCli(['spectrum', spec, '--csv']);
     expect(curve.code).toBe(0);
     const rows = curve.stdout.trim().split('\n');
-    expect(rows[0]).toBe('frequency,intensity');
+    expect(rows[0]).toBe('frequency,intensity,error');
     expect(rows).toHaveLength(6);
     const lines = runCli(['spectrum', spec, '--csv', 'lines']);
     expect(lines.stdout.trim().split('\n')[0]).toBe('position,weight,residual');
     expect(Number(lines.stdout.trim().split('\n')[1].split(',')[0])).toBeCloseTo(2, 10);
+  });
+
+  it('at a temperature: the table names the method, Lanczos error bars show as +- and in the CSV error column', () => {
+    const exact = runCli(['spectrum', spec, '--set', 'spectrum.temperature=1']);
+    expect(exact.code).toBe(0);
+    expect(exact.stdout).toContain('temperature 1 (k_B T = 1 in model units), exact (every eigenpair)');
+    const set = ['--set', 'spectrum.temperature=1', '--set', 'spectrum.method="lanczos"'];
+    const table = runCli(['spectrum', spec, ...set]);
+    expect(table.code).toBe(0);
+    expect(table.stdout).toContain('finite-temperature Lanczos (20 random vectors, 100 steps, seed 1');
+    expect(table.stdout).toMatch(/weight \(sum rule <O\+ O>_T - elastic\) \S+ \+- /);
+    expect(table.stdout).toMatch(/frequency\s+intensity\s+error\n/);
+    const rows = runCli(['spectrum', spec, ...set, '--csv'])
+      .stdout.trim()
+      .split('\n');
+    expect(rows[0]).toBe('frequency,intensity,error');
+    // the line at 2 J = 2 has a spread over the random vectors
+    expect(Number(rows[3].split(',')[2])).toBeGreaterThan(0);
   });
 
   it('refuses bad input in one line with exit code 2', () => {
@@ -87,9 +105,17 @@ describe('rungchain spectrum', () => {
     const missing = runCli(['spectrum', spec, '--set', 'spectrum=null']);
     expect(missing.code).toBe(2);
     expect(missing.stderr).toContain('spectrum');
-    const hot = runCli(['spectrum', spec, '--set', 'spectrum.temperature=0.1']);
+    const hot = runCli([
+      'spectrum',
+      spec,
+      '--set',
+      'spectrum.temperature=0.1',
+      '--set',
+      'spectrum.temperature_unit="nK"',
+    ]);
     expect(hot.code).toBe(2);
-    expect(hot.stderr).toContain('spectrum.temperature');
+    expect(hot.stderr.trim().split('\n')).toHaveLength(1);
+    expect(hot.stderr).toContain('spectrum.temperature_unit');
   });
 });
 
