@@ -208,10 +208,15 @@ function exactSpectrum(input: ThermalSpectrumInput): ThermalSpectrum {
   };
 }
 
-/** v -= <u|v> u for every u (unit vectors, the layout of v), twice. */
+/**
+ * v -= <u|v> u for every u (unit vectors, the layout of v); a second pass only when the first
+ * removed most of v ("twice is enough": Parlett, The Symmetric Eigenvalue Problem, sec. 6-9).
+ */
 function projectOut(v: Float64Array, against: Float64Array[], isComplex: boolean): void {
   const c = new Float64Array(2);
-  for (let pass = 0; pass < 2; pass++)
+  const before = dotRe(v, v);
+  for (let pass = 0; pass < 2; pass++) {
+    if (pass === 1 && dotRe(v, v) > 0.5 * before) break;
     for (const u of against) {
       if (!isComplex) {
         const d = dotRe(u, v);
@@ -224,6 +229,7 @@ function projectOut(v: Float64Array, against: Float64Array[], isComplex: boolean
         v[i + 1] -= c[0] * u[i + 1] + c[1] * u[i];
       }
     }
+  }
 }
 
 /** A fully reorthogonalized Lanczos chain of at most `steps` vectors, kept, with its Ritz pairs. */
