@@ -164,4 +164,43 @@ describe('spectra in scans', () => {
     expect(html).toContain('id="response"');
     expect(html).toContain('spectrum A(ω) against');
   });
+
+  it('at a temperature too: each point holds its finite-temperature spectrum with error bars (Lanczos)', () => {
+    const hot = path.join(folder, 'hot-run');
+    const set = [
+      '--set',
+      'spectrum.temperature=0.7',
+      '--set',
+      'spectrum.method="lanczos"',
+      '--set',
+      'spectrum.vectors=6',
+    ];
+    expect(runCli(['scan', scanSpec, '--out', hot, ...set]).code).toBe(0);
+    const summary = JSON.parse(runCli(['summary', hot, '--json']).stdout) as Record<string, any>[];
+    expect(summary).toHaveLength(3);
+    for (const point of summary) {
+      const alone = JSON.parse(
+        runCli([
+          'spectrum',
+          scanSpec,
+          ...set,
+          '--set',
+          'scan=null',
+          '--set',
+          `exchange.strength=${point['exchange.strength']}`,
+          '--json',
+        ]).stdout,
+      );
+      // the same seeds give the same random vectors, so the same estimate and error bars
+      expect(point.spectrum.method).toBe('lanczos');
+      point.spectrum.intensity.forEach((x: number, k: number) => expect(x).toBeCloseTo(alone.intensity[k], 9));
+      point.spectrum.intensity_error.forEach((x: number, k: number) =>
+        expect(x).toBeCloseTo(alone.intensity_error[k], 9),
+      );
+      expect(point.spectrum.weight_error).toBeGreaterThan(0);
+    }
+    const long = runCli(['summary', hot, '--long', '--csv']).stdout.trim().split('\n');
+    const header = long[0].split(',');
+    expect(long.slice(1).filter((l) => l.split(',')[header.indexOf('observable')] === 'spectrum')).toHaveLength(3 * 31);
+  });
 });
