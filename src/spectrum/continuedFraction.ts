@@ -323,15 +323,28 @@ export function strongestLines(
   within: number,
   count: number,
 ): { position: number; weight: number; residual: number }[] {
-  const order = Array.from({ length: positions.length }, (_, k) => k).sort((p, q) => positions[p] - positions[q]);
-  const merged: { position: number; weight: number; residual: number }[] = [];
+  // Typed arrays throughout: a finite-temperature spectrum may hand over millions of pairs.
+  const n = positions.length;
+  const order = new Uint32Array(n);
+  for (let k = 0; k < n; k++) order[k] = k;
+  order.sort((p, q) => positions[p] - positions[q]);
+  const mergedPosition = new Float64Array(n);
+  const mergedWeight = new Float64Array(n);
+  const mergedResidual = new Float64Array(n);
+  let merged = 0;
   let sum = 0;
   let moment = 0;
   let residual = 0;
   let last = -Infinity;
+  const close = () => {
+    mergedPosition[merged] = moment / sum;
+    mergedWeight[merged] = sum;
+    mergedResidual[merged] = residual;
+    merged++;
+  };
   for (const k of order) {
     if (positions[k] - last > within && sum > 0) {
-      merged.push({ position: moment / sum, weight: sum, residual });
+      close();
       sum = 0;
       moment = 0;
       residual = 0;
@@ -343,11 +356,15 @@ export function strongestLines(
     // A merged line is as certain as its best-converged copy.
     residual = starting ? residuals[k] : Math.min(residual, residuals[k]);
   }
-  if (sum > 0) merged.push({ position: moment / sum, weight: sum, residual });
-  return merged
-    .sort((a, b) => b.weight - a.weight)
-    .slice(0, count)
-    .sort((a, b) => a.position - b.position);
+  if (sum > 0) close();
+  const strongest = new Uint32Array(merged);
+  for (let k = 0; k < merged; k++) strongest[k] = k;
+  strongest.sort((p, q) => mergedWeight[q] - mergedWeight[p]);
+  return Array.from(strongest.subarray(0, Math.min(count, merged)), (k) => ({
+    position: mergedPosition[k],
+    weight: mergedWeight[k],
+    residual: mergedResidual[k],
+  })).sort((a, b) => a.position - b.position);
 }
 
 /** The operator's product on the chain's vectors: real ones directly, complex ones part by part for a real operator. */

@@ -455,8 +455,8 @@ export function spectrumMemory(spec: Spec, plan: PointPlan): MemoryEstimate {
 /**
  * Peak memory of a finite-temperature spectrum. Exact: every block's eigenvectors (at most the
  * dimension times the largest block, real form), the largest dense block in the eigensolver, and
- * the lines (a position and a weight per pair of states, at most dimension times the largest
- * block). Lanczos: the full-space operator, the two kept chains of complex vectors, the ground copies.
+ * the lines (a pair of states each, at most dimension times the largest block, with what
+ * listing the strongest needs). Lanczos: the full-space operator, the two kept chains of complex vectors, the ground copies.
  */
 function thermalSpectrumMemory(plan: PointPlan, section: SpectrumSection, method: 'exact' | 'lanczos'): MemoryEstimate {
   const model = plan.model;
@@ -470,13 +470,14 @@ function thermalSpectrumMemory(plan: PointPlan, section: SpectrumSection, method
         : dim * (model.isComplex ? 2 : 1);
     parts.dense_block = 4 * block * block * 8;
     parts.eigenvectors = dim * block * 8;
-    parts.lines = 2 * 8 * dim * block;
+    // per pair of states: position, weight, residual, the sort's index and its merged line
+    parts.lines = 60 * dim * block;
     parts.probed_states = 2 * vector;
     if (plan.used) parts.orbit_maps = 2 * dim * 6;
   } else {
     parts.operator = model.kind === 'pinned' ? 8 * dim : planFockOperator(model, dim).bytes;
-    parts.lanczos = (2 * Math.min(section.thermalSteps, dim) + 4) * vector;
-    parts.ground_states = 2 * vector;
+    parts.chains = (2 * Math.min(section.thermalSteps, dim) + 4) * vector;
+    parts.ground_level = 2 * vector;
   }
   return { parts, totalBytes: Object.values(parts).reduce((x, y) => x + y, 0) };
 }

@@ -101,8 +101,11 @@ export function spectrumCsv(s: SpectrumResult, what: 'curve' | 'lines'): string 
 
 /** `check` of a spec with [spectrum]: the continued fraction's memory after the ground solve (one ground copy). */
 export function describeSpectrumMemory(estimate: MemoryEstimate, limit: number): string {
+  // At T > 0 the estimate has no per-copy part: it sizes the exact or Lanczos method's blocks and chains.
+  const method =
+    estimate.parts.dense_block !== undefined ? 'exact' : estimate.parts.chains !== undefined ? 'Lanczos' : null;
   const lines = [
-    `spectrum memory  ${formatBytes(estimate.totalBytes)} after the ground solve, per copy of the ground level (limit ${formatBytes(limit)})`,
+    `spectrum memory  ${formatBytes(estimate.totalBytes)} after the ground solve, ${method ? `at the temperature (${method} method)` : 'per copy of the ground level'} (limit ${formatBytes(limit)})`,
   ];
   for (const [part, bytes] of Object.entries(estimate.parts)) lines.push(`  ${part.padEnd(14)} ${formatBytes(bytes)}`);
   return lines.join('\n');

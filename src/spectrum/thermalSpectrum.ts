@@ -60,7 +60,7 @@ export interface ThermalSpectrum {
   /** Every pole on the frequency axis, its weight (already divided by Z) and Ritz residual. */
   positions: number[];
   weights: number[];
-  residuals: number[];
+  residuals: ArrayLike<number>;
   weight: number;
   weightError: number;
   elastic: number;
@@ -192,7 +192,7 @@ function exactSpectrum(input: ThermalSpectrumInput): ThermalSpectrum {
     curveError: new Float64Array(frequencies.length),
     positions,
     weights,
-    residuals: positions.map(() => 0),
+    residuals: new Float64Array(positions.length),
     weight: total - elastic,
     weightError: 0,
     elastic,
@@ -460,7 +460,7 @@ function lanczosSpectrum(input: ThermalSpectrumInput): ThermalSpectrum {
     curveError,
     positions: allPositions,
     weights: allWeights,
-    residuals: [...exactCollected.residuals, ...residuals],
+    residuals: exactCollected.residuals.concat(residuals),
     weight: weightEst.value,
     weightError: weightEst.error,
     elastic: elasticEst.value,

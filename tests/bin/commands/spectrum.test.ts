@@ -86,6 +86,10 @@ describe('rungchain spectrum', () => {
     expect(table.stdout).toContain('finite-temperature Lanczos (20 random vectors, 100 steps, seed 1');
     expect(table.stdout).toMatch(/weight \(sum rule <O\+ O>_T - elastic\) \S+ \+- /);
     expect(table.stdout).toMatch(/frequency\s+intensity\s+error\n/);
+    expect(runCli(['check', spec, ...set]).stdout).toMatch(
+      /spectrum memory {2}\S+ \S+ after the ground solve, at the temperature \(Lanczos method\)/,
+    );
+    expect(runCli(['check', spec, '--set', 'spectrum.temperature=1']).stdout).toContain('(exact method)');
     const rows = runCli(['spectrum', spec, ...set, '--csv'])
       .stdout.trim()
       .split('\n');
