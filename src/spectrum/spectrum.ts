@@ -478,6 +478,9 @@ function thermalSpectrumMemory(plan: PointPlan, section: SpectrumSection, method
     parts.operator = model.kind === 'pinned' ? 8 * dim : planFockOperator(model, dim).bytes;
     parts.chains = (2 * Math.min(section.thermalSteps, dim) + 4) * vector;
     parts.ground_level = 2 * vector;
+    // a line per pair of Ritz values per random vector: position, weight, residual, its copy for
+    // the round's curve, and what listing the strongest takes
+    parts.lines = section.vectors * Math.min(section.thermalSteps, dim) ** 2 * 100;
   }
   return { parts, totalBytes: Object.values(parts).reduce((x, y) => x + y, 0) };
 }
